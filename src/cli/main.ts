@@ -1,0 +1,22 @@
+#!/usr/bin/env node
+import { Command, CommanderError } from 'commander';
+import { failAndExit } from './run-command.js';
+import { registerScan } from './scan.js';
+
+const program = new Command();
+program
+  .name('bearline')
+  .description('Real-time sound-direction tracker for small microphone arrays (GCC-PHAT, SRP-PHAT).')
+  .version('0.1.0')
+  .showHelpAfterError('(run with --help for usage)')
+  .exitOverride();
+
+registerScan(program);
+
+program.parseAsync(process.argv).catch((err: unknown) => {
+  if (err instanceof CommanderError) {
+    // commander already printed its message; --help and --version exit 0, usage errors 2.
+    process.exit(err.exitCode === 0 ? 0 : 2);
+  }
+  failAndExit(err);
+});

@@ -1,0 +1,62 @@
+/**
+ * The records bearline writes (JSON Lines, CSV, WebSocket, MQTT). Field names are the
+ * outside contract of ../shared/interface.md: snake_case, angles in degrees, times in seconds
+ * from the start of the stream.
+ */
+
+/** One direction candidate of a hop (the strongest is repeated in the frame's top-level fields). */
+export interface SourceEstimate {
+  azimuth_deg: number;
+  elevation_deg: number | null;
+  /** Compass bearing (azimuth + heading), only when the geometry gives a heading. */
+  bearing_deg?: number;
+  /** Relative peak score in [0, 1]. */
+  score: number;
+  /** Track id once the tracker has assigned this candidate, else null. */
+  track?: number | null;
+}
+
+/** Per-pair diagnostics (behind a flag). */
+export interface PairDiagnostics {
+  pair: [number, number];
+  tdoa_s: number | null;
+  peak: number;
+  band_agreement: number;
+}
+
+export interface FrameRecord {
+  time_s: number;
+  utc?: string;
+  azimuth_deg: number | null;
+  elevation_deg: number | null;
+  bearing_deg?: number | null;
+  confidence: number;
+  /** One entry per mic pair, ordered (0,1), (0,2), ... (1,2), ...; null where a pair has no estimate. */
+  tdoa_s: (number | null)[];
+  level_dbfs: number;
+  /** Which mirror ambiguity the estimate carries: a pair cannot tell front from back. */
+  mirror?: 'front-back' | 'up-down' | null;
+  /** Onset strength of the hop in [0, 1]. */
+  onset?: number;
+  sources?: SourceEstimate[];
+  track?: number | null;
+  pairs?: PairDiagnostics[];
+}
+
+export interface EventRecord {
+  start_s: number;
+  end_s: number;
+  utc?: string;
+  azimuth_deg: number;
+  elevation_deg?: number | null;
+  bearing_deg?: number | null;
+  /** Circular standard deviation of the hop azimuths, degrees. */
+  spread_deg: number;
+  confidence: number;
+  track: number;
+  peak_dbfs?: number;
+  /** Dominant frequency band of the event, Hz. */
+  band_hz?: [number, number];
+  mirror?: 'front-back' | 'up-down' | null;
+  station?: string;
+}
