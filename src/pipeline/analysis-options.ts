@@ -38,7 +38,7 @@ export const ANALYSIS_DEFAULTS = {
   maxFreqHz: 12000,
   onsetWeight: 0.9,
   memoryS: 0.1,
-  backgroundS: 0.25,
+  backgroundS: 0.02,
   silenceDbfs: -65,
   minConfidence: 0.3,
   maxSources: 3,

@@ -71,3 +71,11 @@ export function soxDelayedSignal(spec: DelayedSignalSpec, workDir: string): stri
   else sox(['-M', ...parts, '-b', String(spec.bits ?? 24), spec.out]);
   return spec.out;
 }
+
+/** Mix files sample by sample with per-file volume factors (sox -m). */
+export function soxMix(out: string, inputs: { path: string; volume: number }[], bits = 24): string {
+  const args = ['-m'];
+  for (const i of inputs) args.push('-v', String(i.volume), i.path);
+  sox([...args, '-b', String(bits), out]);
+  return out;
+}
