@@ -15,9 +15,12 @@ export class RealFft {
   readonly bins: number;
   private readonly full: FFT;
   private readonly half: FFT;
-  private readonly packed: Float64Array;
-  private readonly halfIn: Float64Array;
-  private readonly halfOut: Float64Array;
+  // fft.js runs about three times faster on plain arrays of doubles than on typed arrays
+  // (measured here with node 20), so its buffers are plain arrays, filled once.
+  private readonly input: number[];
+  private readonly packed: number[];
+  private readonly halfIn: number[];
+  private readonly halfOut: number[];
   private readonly twCos: Float64Array;
   private readonly twSin: Float64Array;
 
@@ -27,9 +30,10 @@ export class RealFft {
     this.bins = n / 2 + 1;
     this.full = new FFT(n);
     this.half = new FFT(n / 2);
-    this.packed = new Float64Array(2 * n);
-    this.halfIn = new Float64Array(n);
-    this.halfOut = new Float64Array(n);
+    this.input = new Array<number>(n).fill(0);
+    this.packed = this.full.createComplexArray() as number[];
+    this.halfIn = this.half.createComplexArray() as number[];
+    this.halfOut = this.half.createComplexArray() as number[];
     const m = n / 2;
     this.twCos = new Float64Array(m);
     this.twSin = new Float64Array(m);
@@ -42,7 +46,9 @@ export class RealFft {
   /** Forward transform: X[k] = sum_n x[n] e^{-j 2 pi k n / N}, k = 0..N/2. */
   forward(input: Float64Array, re: Float64Array, im: Float64Array): void {
     const out = this.packed;
-    this.full.realTransform(out, input);
+    const x = this.input;
+    for (let i = 0; i < this.size; i++) x[i] = input[i]!;
+    this.full.realTransform(out, x);
     const b = this.bins;
     for (let k = 0; k < b; k++) {
       re[k] = out[2 * k]!;

@@ -1,5 +1,6 @@
 import type { DirectionModel } from '../direction/direction-model.js';
 import { PairDirectionModel } from '../direction/pair-direction.js';
+import { SrpDirectionModel } from '../direction/srp-search.js';
 import { Framer } from '../dsp/framer.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import type { AudioSource } from '../io/audio-source.js';
@@ -26,7 +27,7 @@ export function createAnalysis(
   if (geometry.mics.length === 2) {
     model = new PairDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);
   } else {
-    throw new Error('arrays of more than two mics are not supported yet');
+    model = new SrpDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);
   }
   const analyzer = new HopAnalyzer(geometry.mics.length, sampleRate, model, resolved);
   return { analyzer, model, options: resolved, geometry, speedOfSound };

@@ -79,3 +79,13 @@ export function soxMix(out: string, inputs: { path: string; volume: number }[], 
   sox([...args, '-b', String(bits), out]);
   return out;
 }
+
+/**
+ * Per-mic delays (samples at rate * up, rounded) of a far-field source in unit direction u,
+ * from the arrival time t_i = -p_i . u / c (interface.md), shifted so the earliest is zero.
+ */
+export function farFieldDelaysUp(positions: readonly (readonly number[])[], u: readonly number[], c: number, upRate: number): number[] {
+  const t = positions.map((p) => -(p[0]! * u[0]! + p[1]! * u[1]! + p[2]! * u[2]!) / c);
+  const t0 = Math.min(...t);
+  return t.map((x) => Math.round((x - t0) * upRate));
+}
