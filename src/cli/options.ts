@@ -5,7 +5,7 @@ import { finiteNumber, positiveNumber } from './parse.js';
 /** Add a stage's option specs to a command (one home per option: the stage's spec list). */
 export function addSpecs(cmd: Command, specs: readonly OptionSpec[]): Command {
   for (const s of specs) {
-    const help = s.defaultText ? `${s.help} (default: ${s.defaultText})` : s.help;
+    const help = s.defaultValue !== null && s.defaultValue !== undefined ? `${s.help} (default: ${String(s.defaultValue)})` : s.help;
     const opt = new Option(s.flag, help);
     const parse = s.parse;
     if (parse) {

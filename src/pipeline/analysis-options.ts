@@ -59,19 +59,19 @@ function num(raw: string): number {
 }
 
 export const analysisOptionSpecs: readonly OptionSpec[] = [
-  { key: 'frame', flag: '--frame <samples>', help: 'analysis frame length in samples, a power of two', defaultText: 'nearest to 21 ms, 1024 at 48 kHz', parse: num },
-  { key: 'hop', flag: '--hop <samples>', help: 'hop between frames in samples', defaultText: 'frame / 2', parse: num },
-  { key: 'bands', flag: '--bands <n>', help: 'frequency bands that vote on the delay (1 to 32)', defaultText: String(ANALYSIS_DEFAULTS.bands), parse: num },
-  { key: 'minFreqHz', flag: '--min-freq <hz>', help: 'lowest frequency analysed', defaultText: String(ANALYSIS_DEFAULTS.minFreqHz), parse: num },
-  { key: 'maxFreqHz', flag: '--max-freq <hz>', help: 'highest frequency analysed (capped below Nyquist)', defaultText: String(ANALYSIS_DEFAULTS.maxFreqHz), parse: num },
-  { key: 'onsetWeight', flag: '--onset-weight <0..1>', help: 'how much more sharp onsets count than steady sound (0 = off)', defaultText: String(ANALYSIS_DEFAULTS.onsetWeight), parse: num },
-  { key: 'memoryS', flag: '--memory <s>', help: 'time constant of the evidence memory (0 = each hop alone)', defaultText: String(ANALYSIS_DEFAULTS.memoryS), parse: num },
-  { key: 'backgroundS', flag: '--background <s>', help: 'time constant of the background level onsets are measured against', defaultText: String(ANALYSIS_DEFAULTS.backgroundS), parse: num },
-  { key: 'silenceDbfs', flag: '--silence <dbfs>', help: 'hops quieter than this give no direction', defaultText: String(ANALYSIS_DEFAULTS.silenceDbfs), parse: num },
-  { key: 'minConfidence', flag: '--min-confidence <0..1>', help: 'directions less confident than this are reported as null', defaultText: String(ANALYSIS_DEFAULTS.minConfidence), parse: num },
-  { key: 'maxSources', flag: '--max-sources <n>', help: 'most simultaneous sources per hop (1 to 8)', defaultText: String(ANALYSIS_DEFAULTS.maxSources), parse: num },
-  { key: 'voting', flag: '--no-voting', help: 'turn band voting off (plain GCC-PHAT peak, for comparison)' },
-  { key: 'lagMargin', flag: '--lag-margin <fraction>', help: 'extra delay allowed beyond spacing / c', defaultText: String(ANALYSIS_DEFAULTS.lagMargin), parse: num },
+  { key: 'frame', flag: '--frame <samples>', help: 'analysis frame length in samples, a power of two', defaultValue: 'nearest to 21 ms, 1024 at 48 kHz', parse: num },
+  { key: 'hop', flag: '--hop <samples>', help: 'hop between frames in samples', defaultValue: 'frame / 2', parse: num },
+  { key: 'bands', flag: '--bands <n>', help: 'frequency bands that vote on the delay (1 to 32)', defaultValue: ANALYSIS_DEFAULTS.bands, parse: num },
+  { key: 'minFreqHz', flag: '--min-freq <hz>', help: 'lowest frequency analysed', defaultValue: ANALYSIS_DEFAULTS.minFreqHz, parse: num },
+  { key: 'maxFreqHz', flag: '--max-freq <hz>', help: 'highest frequency analysed (capped below Nyquist)', defaultValue: ANALYSIS_DEFAULTS.maxFreqHz, parse: num },
+  { key: 'onsetWeight', flag: '--onset-weight <0..1>', help: 'how much more sharp onsets count than steady sound (0 = off)', defaultValue: ANALYSIS_DEFAULTS.onsetWeight, parse: num },
+  { key: 'memoryS', flag: '--memory <s>', help: 'time constant of the evidence memory (0 = each hop alone)', defaultValue: ANALYSIS_DEFAULTS.memoryS, parse: num },
+  { key: 'backgroundS', flag: '--background <s>', help: 'time constant of the background level onsets are measured against', defaultValue: ANALYSIS_DEFAULTS.backgroundS, parse: num },
+  { key: 'silenceDbfs', flag: '--silence <dbfs>', help: 'hops quieter than this give no direction', defaultValue: ANALYSIS_DEFAULTS.silenceDbfs, parse: num },
+  { key: 'minConfidence', flag: '--min-confidence <0..1>', help: 'directions less confident than this are reported as null', defaultValue: ANALYSIS_DEFAULTS.minConfidence, parse: num },
+  { key: 'maxSources', flag: '--max-sources <n>', help: 'most simultaneous sources per hop (1 to 8)', defaultValue: ANALYSIS_DEFAULTS.maxSources, parse: num },
+  { key: 'voting', flag: '--no-voting', help: 'turn band voting off (plain GCC-PHAT peak, for comparison)', defaultValue: null },
+  { key: 'lagMargin', flag: '--lag-margin <fraction>', help: 'extra delay allowed beyond spacing / c', defaultValue: ANALYSIS_DEFAULTS.lagMargin, parse: num },
 ];
 
 function check(ok: boolean, flag: string, what: string): void {
