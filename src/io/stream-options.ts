@@ -44,10 +44,15 @@ export function flagName(spec: OptionSpec): string {
   return spec.flag.split(' ')[0]!;
 }
 
+/** A raw value as a number; NaN when it is not one (an empty string is not zero). */
+export function toNumber(value: string | number | null): number {
+  return typeof value === 'number' ? value : typeof value === 'string' && value.trim() !== '' ? Number(value) : NaN;
+}
+
 /** A whole number within [min, max]; otherwise a UsageError that names the option. */
 export function wholeNumberIn(raw: RawValue, spec: OptionSpec, min: number, max: number, unit = ''): number {
   const value = raw === undefined ? spec.defaultValue : raw;
-  const n = typeof value === 'number' ? value : typeof value === 'string' && value.trim() !== '' ? Number(value) : NaN;
+  const n = toNumber(value);
   if (!Number.isInteger(n) || n < min || n > max) {
     throw new UsageError(`${flagName(spec)} must be a whole number from ${min} to ${max}${unit} (got '${String(value)}')`);
   }
