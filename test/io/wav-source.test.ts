@@ -42,12 +42,13 @@ function soxFrames(file: string): number {
   return Number(execFileSync('soxi', ['-s', file]).toString().trim());
 }
 
-// Encodings as sox writes them. The tolerance is the encoding's quantisation step; for
-// 32-bit and float data it is float32's resolution near full scale, 2^-23 (common practice, no source).
+// Encodings as sox writes them. The tolerance is half the encoding's quantisation step
+// (so that a scale off by one code, e.g. /32767 for /32768, fails); for 32-bit and float
+// data it is float32's resolution near full scale, 2^-23 (common practice, no source).
 const ENCODINGS: { name: string; sox: string[]; step: number }[] = [
-  { name: 'u8', sox: ['-e', 'unsigned-integer', '-b', '8'], step: 2 ** -7 },
-  { name: 's16', sox: ['-e', 'signed-integer', '-b', '16'], step: 2 ** -15 },
-  { name: 's24', sox: ['-e', 'signed-integer', '-b', '24'], step: 2 ** -23 },
+  { name: 'u8', sox: ['-e', 'unsigned-integer', '-b', '8'], step: 2 ** -8 },
+  { name: 's16', sox: ['-e', 'signed-integer', '-b', '16'], step: 2 ** -16 },
+  { name: 's24', sox: ['-e', 'signed-integer', '-b', '24'], step: 2 ** -24 },
   { name: 's32', sox: ['-e', 'signed-integer', '-b', '32'], step: 2 ** -23 },
   { name: 'f32', sox: ['-e', 'floating-point', '-b', '32'], step: 2 ** -23 },
   { name: 'f64', sox: ['-e', 'floating-point', '-b', '64'], step: 2 ** -23 },
@@ -58,7 +59,7 @@ const CASES = ENCODINGS.flatMap((e, i) => [1, 2, 4, 8].map((channels, j) => ({ .
 describe('WAV source against sox decoding (sox writes and decodes every file)', () => {
   const formatTags = new Set<string>();
 
-  it.each(CASES)('$name, $channels ch, $rate Hz: samples equal sox -e floating-point within one quantisation step', async (c) => {
+  it.each(CASES)('$name, $channels ch, $rate Hz: samples equal sox -e floating-point within half a quantisation step', async (c) => {
     const file = makeWav(c.sox, c.channels, c.rate, 0.137);
     const bytes = readFileSync(file);
     const tag = bytes.readUInt16LE(chunkAt(bytes, 'fmt ') + 8);
@@ -88,7 +89,7 @@ describe('WAV source against sox decoding (sox writes and decodes every file)', 
       const src = await openWavSource(file, { blockFrames });
       const { samples } = await drain(src);
       await src.close();
-      expect(maxAbsDiff(samples, ref)).toBeLessThanOrEqual(2 ** -15);
+      expect(maxAbsDiff(samples, ref)).toBeLessThanOrEqual(2 ** -16);
     }
   });
 
@@ -129,7 +130,7 @@ describe('WAV layout variants built from sox files', () => {
     const info = Buffer.concat([Buffer.from('INFO', 'latin1'), chunk('ICMT', Buffer.from('frog chorus, north pond!', 'latin1'))]);
     const file = writeBytes('list.wav', riff(Buffer.concat([fmt, chunk('LIST', Buffer.concat([info, Buffer.from('x')])), chunk('wxyz', Buffer.alloc(6, 7)), data])));
     expect(maxAbsDiff(soxDecode(file), ref)).toBe(0); // sox agrees the file is sound
-    expect(maxAbsDiff(await read(file), ref)).toBeLessThanOrEqual(2 ** -15);
+    expect(maxAbsDiff(await read(file), ref)).toBeLessThanOrEqual(2 ** -16);
   });
 
   it('reads WAVE_FORMAT_EXTENSIBLE with the IEEE float sub-format; sox reads the built file the same', async () => {
@@ -151,7 +152,7 @@ describe('WAV layout variants built from sox files', () => {
 
   it('reads a data chunk that comes before the fmt chunk', async () => {
     const file = writeBytes('data-first.wav', riff(Buffer.concat([chunk('JUNK', Buffer.alloc(3)), data, fmt])));
-    expect(maxAbsDiff(await read(file), ref)).toBeLessThanOrEqual(2 ** -15);
+    expect(maxAbsDiff(await read(file), ref)).toBeLessThanOrEqual(2 ** -16);
   });
 
   it.each([0, 0xffffffff])('a data size of %d (as streaming writers leave it) means "to end of file", without a warning', async (size) => {
@@ -159,7 +160,7 @@ describe('WAV layout variants built from sox files', () => {
     patched.writeUInt32LE(size, dataAt + 4);
     patched.writeUInt32LE(size, 4);
     const warnings: string[] = [];
-    expect(maxAbsDiff(await read(writeBytes(`open-${size}.wav`, patched), warnings), ref)).toBeLessThanOrEqual(2 ** -15);
+    expect(maxAbsDiff(await read(writeBytes(`open-${size}.wav`, patched), warnings), ref)).toBeLessThanOrEqual(2 ** -16);
     expect(warnings).toEqual([]);
   });
 
@@ -169,7 +170,7 @@ describe('WAV layout variants built from sox files', () => {
     const open = Buffer.from(data);
     open.writeUInt32LE(0xffffffff, 4);
     const file = writeBytes('rf64.wav', riff(Buffer.concat([chunk('ds64', ds64), fmt, open, chunk('LIST', Buffer.alloc(40, 1))]), 'RF64'));
-    expect(maxAbsDiff(await read(file), ref)).toBeLessThanOrEqual(2 ** -15);
+    expect(maxAbsDiff(await read(file), ref)).toBeLessThanOrEqual(2 ** -16);
   });
 
   it('a file cut with head -c is read up to where it ends, with one warning (partial last frame dropped)', async () => {
@@ -179,7 +180,7 @@ describe('WAV layout variants built from sox files', () => {
     const warnings: string[] = [];
     const samples = await read(cut, warnings);
     expect(samples.length).toBe(2000 * 2);
-    expect(maxAbsDiff(samples, ref.subarray(0, 4000))).toBeLessThanOrEqual(2 ** -15);
+    expect(maxAbsDiff(samples, ref.subarray(0, 4000))).toBeLessThanOrEqual(2 ** -16);
     expect(warnings).toEqual([`${cut} is truncated: the header promises 0.5 s, the file holds 0.1 s; analysing what is there`]);
   });
 
