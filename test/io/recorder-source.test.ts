@@ -57,8 +57,8 @@ async function take(src: RecorderSource, frames: number): Promise<Float32Array> 
   return out;
 }
 
-async function start(input: RecorderOptionsInput, gaps: RecorderGap[] = [], timing = {}): Promise<RecorderSource> {
-  open = await openRecorderSource(resolveRecorderOptions(input), { blockFrames: 800, onGap: (g) => gaps.push(g), onWarning: () => {}, timing });
+async function start(input: RecorderOptionsInput, gaps: RecorderGap[] = [], timing = {}, warnings: string[] = []): Promise<RecorderSource> {
+  open = await openRecorderSource(resolveRecorderOptions(input), { blockFrames: 800, onGap: (g) => gaps.push(g), onWarning: (m) => warnings.push(m), timing });
   return open;
 }
 
@@ -101,7 +101,8 @@ describe('recorder source with stand-in recorders on PATH', () => {
     const { file, ref } = soxRaw('d.raw', 1, 16000, 0.5);
     standIn('sox', `head -c 16000 "${file}"\necho "sox FAIL sox: the capture device went away" >&2\nsleep 1 >/dev/null\nexit 3`);
     const gaps: RecorderGap[] = [];
-    const src = await start({ recorder: 'sox', sampleRate: 16000, channels: 1, maxRestarts: 2 }, gaps);
+    const warnings: string[] = [];
+    const src = await start({ recorder: 'sox', sampleRate: 16000, channels: 1, maxRestarts: 2 }, gaps, {}, warnings);
     const blocks: number[] = [];
     const heard: Float32Array[] = [];
     const err = await (async () => {
@@ -117,6 +118,7 @@ describe('recorder source with stand-in recorders on PATH', () => {
       { atFrame: 16000, reason: 'sox exited with code 3 (sox FAIL sox: the capture device went away)', retryInS: 1 },
     ]);
     expect(src.restarts).toBe(2);
+    expect(warnings.map((w) => w.replace(/^.*; /, ''))).toEqual(['restarting sox in 0.5 s', 'restarting sox in 1 s']);
     expect(blocks.reduce((a, b) => a + b, 0)).toBe(24000); // three runs of 8000 frames each
     // Each run starts the stream again: the segment after the last gap begins at frame 16000.
     expect(src.segment?.frame).toBe(16000);
