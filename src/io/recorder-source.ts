@@ -163,12 +163,17 @@ class RecorderRun {
     this.killTimer ??= setTimeout(() => this.cp.kill('SIGKILL'), this.timing.killGraceS * 1000);
   }
 
-  /** Stop without reporting an end; resolves when the process has gone. */
+  /**
+   * Stop without reporting an end; resolves when the process has gone, or shortly after
+   * SIGKILL if it cannot go (a process stuck in a broken device driver ignores even that).
+   */
   stop(): Promise<void> {
     this.ended = true;
     if (this.stallTimer) clearTimeout(this.stallTimer);
     this.kill();
-    return this.exited;
+    let timer: NodeJS.Timeout | undefined;
+    const giveUp = new Promise<void>((res) => (timer = setTimeout(res, (this.timing.killGraceS + 1) * 1000)));
+    return Promise.race([this.exited, giveUp]).finally(() => clearTimeout(timer));
   }
 }
 
@@ -319,6 +324,7 @@ export async function openRecorderSource(options: RecorderOptions, hooks: Record
           }
           throw new RuntimeFailure(`the recorder ${name} failed ${decision.failures} times in a row (last: ${reason}); giving up, check the device and its cable`);
         }
+        warn(`${reason}; restarting ${name} in ${decision.retryInS} s`);
         onGap({ atFrame: framesOut + assembler.heldFrames, reason, retryInS: decision.retryInS });
         await sleep(decision.retryInS);
         if (closed) break;

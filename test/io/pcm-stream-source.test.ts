@@ -5,7 +5,7 @@ import { Readable } from 'node:stream';
 import { afterAll, describe, expect, it } from 'vitest';
 import { UsageError } from '../../src/errors.js';
 import { openPcmStreamSource } from '../../src/io/pcm-stream-source.js';
-import { drain, maxAbsDiff, sox, soxDecode, synthSpecs, tempDir } from './sox.js';
+import { drain, maxAbsDiff, sox, SOX_PATH, soxDecode, synthSpecs, tempDir } from './sox.js';
 
 const tmp = tempDir('pcm');
 afterAll(() => tmp.remove());
@@ -46,7 +46,7 @@ describe('raw s16le stream source against sox decoding', () => {
 
   it('reads the stdout of a sox process (a real pipe)', async () => {
     const { ref } = soxRaw(4, 48000, 0.5);
-    const child = spawn('sox', ['-R', '-n', '-r', '48000', '-c', '4', '-e', 'signed-integer', '-b', '16', '-L', '-t', 'raw', '-', 'synth', '0.5', ...synthSpecs(4), 'vol', '0.8']);
+    const child = spawn(SOX_PATH, ['-R', '-n', '-r', '48000', '-c', '4', '-e', 'signed-integer', '-b', '16', '-L', '-t', 'raw', '-', 'synth', '0.5', ...synthSpecs(4), 'vol', '0.8']);
     const src = openPcmStreamSource(child.stdout, { sampleRate: 48000, channels: 4 });
     const { samples } = await drain(src);
     expect(maxAbsDiff(samples, ref)).toBeLessThanOrEqual(HALF_STEP);

@@ -9,8 +9,11 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import type { AudioSource } from '../../src/io/audio-source.js';
 
+/** The real sox, found once at load time (recorder tests put stand-ins named sox first on PATH). */
+export const SOX_PATH = execFileSync('sh', ['-c', 'command -v sox']).toString().trim();
+
 export function sox(args: string[]): Buffer {
-  return execFileSync('sox', args, { maxBuffer: 1 << 28, stdio: ['ignore', 'pipe', 'pipe'] });
+  return execFileSync(SOX_PATH, args, { maxBuffer: 1 << 28, stdio: ['ignore', 'pipe', 'pipe'] });
 }
 
 /** sox's own decoding of a file (any format sox reads) to interleaved 32-bit float. */
