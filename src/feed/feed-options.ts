@@ -174,6 +174,24 @@ export function resolveFeedOptions(partial: Partial<Record<keyof FeedOptions, un
   };
 }
 
+/** commander's attribute name for a flag: '--feed-max-clients <n>' -> 'feedMaxClients'. */
+export function attributeNameOf(flag: string): string {
+  return flag
+    .split(' ')[0]
+    .replace(/^--/, '')
+    .replace(/-([a-z])/g, (_, c: string) => c.toUpperCase());
+}
+
+/** The feed options from commander's parsed values (options registered from feedOptionSpecs). */
+export function feedOptionsFromCli(values: Readonly<Record<string, unknown>>): FeedOptions {
+  const partial: Partial<Record<keyof FeedOptions, unknown>> = {};
+  for (const spec of feedOptionSpecs) {
+    const v = values[attributeNameOf(spec.flag)];
+    if (v !== undefined) partial[spec.key] = v;
+  }
+  return resolveFeedOptions(partial);
+}
+
 /** True for addresses only this machine can reach (127.0.0.0/8, ::1, localhost). */
 export function isLoopbackHost(host: string): boolean {
   if (host === 'localhost' || host === '::1' || host === '[::1]') return true;

@@ -30,6 +30,8 @@ export function contentTypeOf(fileName: string): string {
  * names none of `files`. '/' means index.html. Pure.
  */
 export function lookUpStaticPath(urlPath: string, files: ReadonlySet<string>): string | null {
+  // An encoded slash or backslash never names a file here.
+  if (/%2f|%5c/i.test(urlPath)) return null;
   let decoded: string;
   try {
     decoded = decodeURIComponent(urlPath);
