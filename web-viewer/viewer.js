@@ -217,7 +217,8 @@ function drawDial(now) {
   const [ctx, w, h] = fit(el.dial);
   const cx = w / 2;
   const cy = h / 2;
-  const R = Math.min(w, h) / 2 - Math.max(26, Math.min(w, h) * 0.07);
+  const labelSize = Math.max(13, Math.round(Math.min(w, h) * 0.031));
+  const R = Math.min(w, h) / 2 - labelSize * 2.6;
   if (R <= 20) return;
   const css = getComputedStyle(document.documentElement);
   const line = css.getPropertyValue('--line').trim() || '#284036';
@@ -249,7 +250,6 @@ function drawDial(now) {
     ctx.lineTo(cx + x1, cy + y1);
     ctx.stroke();
   }
-  const labelSize = Math.max(12, Math.round(R * 0.06));
   ctx.font = `600 ${labelSize}px system-ui, sans-serif`;
   ctx.textAlign = 'center';
   ctx.textBaseline = 'middle';
@@ -372,8 +372,8 @@ function drawArray(ctx, cx, cy, r, labelSize) {
   ctx.lineTo(cx + 6, cy - r + 9);
   ctx.closePath();
   ctx.fill();
-  const dotR = Math.max(7, r * 0.1);
-  ctx.font = `700 ${Math.max(10, Math.round(labelSize * 0.8))}px system-ui, sans-serif`;
+  const dotR = Math.max(8, labelSize * 0.62);
+  ctx.font = `700 ${Math.round(dotR * 1.25)}px system-ui, sans-serif`;
   ctx.textAlign = 'center';
   ctx.textBaseline = 'middle';
   for (const m of g.mics) {
@@ -460,6 +460,9 @@ function drawBands() {
 
 function draw(now) {
   counts.draws++;
+  // Dim the readouts and meters when no fresh frame has come (lost link, silent source).
+  const stale = !state.frame || (now - state.frameAt) / 1000 >= STALE_S;
+  if (document.body.dataset.stale !== String(stale)) document.body.dataset.stale = String(stale);
   drawDial(now);
   drawLevels();
   drawBands();

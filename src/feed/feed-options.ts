@@ -83,6 +83,14 @@ function numberFlag(key: 'port' | 'maxClients' | 'queueBound' | 'pingIntervalS')
   };
 }
 
+function textFlag(key: 'host' | 'token'): (raw: string) => string {
+  return (raw) => {
+    const problem = checks[key](raw);
+    if (problem) throw new InvalidArgumentError(`${key === 'token' ? 'the token' : `'${raw}'`} ${problem}.`);
+    return raw;
+  };
+}
+
 export const feedOptionSpecs: readonly FeedOptionSpec[] = [
   {
     key: 'port',
@@ -96,22 +104,14 @@ export const feedOptionSpecs: readonly FeedOptionSpec[] = [
     flag: '--feed-host <address>',
     help: 'address to listen on; anything but loopback lets other machines watch (set --feed-token then)',
     defaultValue: DEFAULT_FEED_OPTIONS.host,
-    parse: (raw) => {
-      const problem = checks.host(raw);
-      if (problem) throw new InvalidArgumentError(`'${raw}' ${problem}.`);
-      return raw;
-    },
+    parse: textFlag('host'),
   },
   {
     key: 'token',
     flag: '--feed-token <text>',
     help: 'access token the page and feed require as ?token=... (none by default)',
     defaultValue: DEFAULT_FEED_OPTIONS.token,
-    parse: (raw) => {
-      const problem = checks.token(raw);
-      if (problem) throw new InvalidArgumentError(`the token ${problem}.`);
-      return raw;
-    },
+    parse: textFlag('token'),
   },
   {
     key: 'maxClients',

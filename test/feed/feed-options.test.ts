@@ -51,6 +51,8 @@ describe('feed options', () => {
     expect(feedOptionsFromCli(cli([]).opts())).toEqual(DEFAULT_FEED_OPTIONS);
     expect(() => cli(['--feed-port', 'eighty'])).toThrow(/--feed-port <n>.*'eighty' must be a whole number/);
     expect(() => cli(['--feed-max-clients', '0'])).toThrow(/--feed-max-clients/);
+    expect(() => cli(['--feed-token', 'short'])).toThrow(/--feed-token <text>.*the token must be 8 to 256/);
+    expect(() => cli(['--feed-host', 'bad host'])).toThrow(/--feed-host <address>/);
   });
 
   it('knows loopback addresses (RFC 1122 section 3.2.1.3: 127.0.0.0/8; RFC 4291: ::1)', () => {
