@@ -54,10 +54,6 @@ export interface FrameRecord {
   sources?: SourceEstimate[];
   track?: number | null;
   pairs?: PairDiagnostics[];
-  /** Level of each channel, dBFS (for the viewer's meters). */
-  levels_dbfs?: number[];
-  /** The band vote of the hop: each band's weight and the delay it voted for (pair 0). */
-  band_votes?: { lo_hz: number; hi_hz: number; weight: number; tdoa_s: number | null }[];
 }
 
 export interface EventRecord {
