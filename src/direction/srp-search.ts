@@ -87,9 +87,14 @@ export class SrpDirectionModel implements DirectionModel {
   /** Pair baselines p_a - p_b (m). */
   private readonly baselines: Vec3[];
   private readonly gridDirs: Vec3[];
-  private readonly gridLagInt: Int32Array;
-  private readonly gridLagFrac: Float32Array;
-  private readonly neighbours: Int32Array[];
+  /** Per grid point and pair: the lag, and the two gcc indices (mod N) around it. */
+  private readonly gridLag: Float64Array;
+  private readonly gridIdx0: Int32Array;
+  private readonly gridIdx1: Int32Array;
+  private readonly gridFrac: Float64Array;
+  /** Neighbours of grid point g: nbList[nbStart[g] .. nbStart[g + 1]). */
+  private readonly nbStart: Int32Array;
+  private readonly nbList: Int32Array;
   private readonly power: Float64Array;
   private readonly lsInverse: number[][];
   private readonly basis: Vec3[];
@@ -113,17 +118,25 @@ export class SrpDirectionModel implements DirectionModel {
     const step = grid.stepDeg ?? (shape === 'line' ? 1 : 4);
     this.gridDirs = makeGrid(shape, axis, step);
     const G = this.gridDirs.length;
-    this.gridLagInt = new Int32Array(G * P);
-    this.gridLagFrac = new Float32Array(G * P);
+    this.gridLag = new Float64Array(G * P);
+    this.gridIdx0 = new Int32Array(G * P);
+    this.gridIdx1 = new Int32Array(G * P);
+    this.gridFrac = new Float64Array(G * P);
     for (let g = 0; g < G; g++) {
       for (let p = 0; p < P; p++) {
         const lag = this.lagFor(this.gridDirs[g]!, p);
         const i = Math.floor(lag);
-        this.gridLagInt[g * P + p] = i;
-        this.gridLagFrac[g * P + p] = lag - i;
+        this.gridLag[g * P + p] = lag;
+        this.gridIdx0[g * P + p] = (i + frame) % frame;
+        this.gridIdx1[g * P + p] = (i + 1 + frame) % frame;
+        this.gridFrac[g * P + p] = lag - i;
       }
     }
-    this.neighbours = neighbourLists(this.gridDirs, step);
+    const nb = neighbourLists(this.gridDirs, step);
+    this.nbStart = new Int32Array(G + 1);
+    for (let g = 0; g < G; g++) this.nbStart[g + 1] = this.nbStart[g]! + nb[g]!.length;
+    this.nbList = new Int32Array(this.nbStart[G]!);
+    for (let g = 0; g < G; g++) this.nbList.set(nb[g]!, this.nbStart[g]!);
     this.power = new Float64Array(G);
     // Least squares for the direction from lags, in the subspace the array spans.
     this.basis = shape === 'solid' ? [[1, 0, 0], [0, 1, 0], [0, 0, 1]] : shape === 'plane' ? planeBasis(axis) : [axis];
@@ -149,28 +162,29 @@ export class SrpDirectionModel implements DirectionModel {
     const P = this.pairs.length;
     const G = this.gridDirs.length;
     const pw = this.power;
-    const li = this.gridLagInt;
-    const lf = this.gridLagFrac;
-    for (let g = 0; g < G; g++) {
-      let s = 0;
-      const o = g * P;
-      for (let p = 0; p < P; p++) {
-        const pc = correlators[p]!;
-        const y0 = pc.at(li[o + p]!);
-        const y1 = pc.at(li[o + p]! + 1);
-        s += y0 + lf[o + p]! * (y1 - y0);
+    const i0 = this.gridIdx0;
+    const i1 = this.gridIdx1;
+    const fr = this.gridFrac;
+    pw.fill(0);
+    // Pair by pair, so each pass reads one correlation array.
+    for (let p = 0; p < P; p++) {
+      const gcc = correlators[p]!.gcc;
+      for (let g = 0, o = p; g < G; g++, o += P) {
+        const y0 = gcc[i0[o]!]!;
+        pw[g] += y0 + fr[o]! * (gcc[i1[o]!]! - y0);
       }
-      pw[g] = s;
     }
+    const nbStart = this.nbStart;
+    const nbList = this.nbList;
     let found = 0;
     for (let g = 0; g < G; g++) {
       const v = pw[g]!;
       if (found === maxCount && v <= scoresOut[found - 1]!) continue;
-      const nb = this.neighbours[g]!;
       let isMax = true;
-      for (let j = 0; j < nb.length; j++) {
-        const w = pw[nb[j]!]!;
-        if (w > v || (w === v && nb[j]! < g)) {
+      for (let j = nbStart[g]!, e = nbStart[g + 1]!; j < e; j++) {
+        const k = nbList[j]!;
+        const w = pw[k]!;
+        if (w > v || (w === v && k < g)) {
           isMax = false;
           break;
         }
@@ -183,7 +197,7 @@ export class SrpDirectionModel implements DirectionModel {
         pos--;
       }
       scoresOut[pos] = v;
-      for (let p = 0; p < P; p++) lagsOut[pos * P + p] = li[g * P + p]! + lf[g * P + p]!;
+      for (let p = 0; p < P; p++) lagsOut[pos * P + p] = this.gridLag[g * P + p]!;
       if (found < maxCount) found++;
     }
     return found;

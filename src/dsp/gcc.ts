@@ -144,7 +144,7 @@ export function addBandScores(
  * parabolic-interpolation bias. Returns the refined lag, kept within +-1 sample of the start
  * and within +-maxLag.
  */
-export function refineLag(pc: PairCorrelator, bands: BandLayout, useBand: Uint8Array, lag: number, iterations = 4): number {
+export function refineLag(pc: PairCorrelator, bands: BandLayout, useBand: Uint8Array, lag: number, iterations = 3): number {
   const n = pc.n;
   const w0 = (2 * Math.PI) / n;
   const ar = pc.accRe;

@@ -16,14 +16,14 @@ export interface OnsetSettings {
 export class OnsetWeigher {
   private readonly background: Float64Array;
   private primed = false;
-  private readonly invLogFull: number;
+  private readonly invRise: number;
 
   constructor(
     bins: number,
     private readonly settings: OnsetSettings,
   ) {
     this.background = new Float64Array(bins);
-    this.invLogFull = 1 / Math.log(Math.max(1.0001, settings.fullRise));
+    this.invRise = 1 / (Math.max(1.0001, settings.fullRise) - 1);
   }
 
   /**
@@ -49,7 +49,8 @@ export class OnsetWeigher {
     for (let k = first; k < end; k++) {
       const p = power[k]!;
       const ratio = p / (bg[k]! + tiny);
-      let rise = ratio > 1 ? Math.log(ratio) * this.invLogFull : 0;
+      // Linear in the power ratio between no rise (1) and full rise (fullRise).
+      let rise = ratio > 1 ? (ratio - 1) * this.invRise : 0;
       if (rise > 1) rise = 1;
       weights[k] = floor + (1 - floor) * rise;
       rising += rise * p;

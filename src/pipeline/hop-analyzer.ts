@@ -7,7 +7,7 @@ import type { Direction, DirectionModel } from '../direction/direction-model.js'
 import type { ResolvedAnalysis } from './analysis-options.js';
 
 /** Most candidates compared by the band vote per hop. */
-const MAX_CANDIDATES = 6;
+const MAX_CANDIDATES = 4;
 /** A band votes only when its best candidate reaches this normalised score. */
 const MIN_BAND_SCORE = 0.2;
 /** Margin over the runner-up that earns a band a full vote. */
