@@ -1,0 +1,164 @@
+/**
+ * Cuts one track's activity into events (one record per call), one slot per track, state in
+ * typed arrays.
+ *
+ * Per hop a track is either supported (a candidate was assigned to it) or not. With
+ * c = hop confidence x candidate score:
+ * - an event starts on a supported hop with c >= eventEnterConfidence and either level >=
+ *   eventEnterDbfs, or onset >= onsetThreshold and level >= eventLeaveDbfs (a sharp rise in a
+ *   quiet call);
+ * - it continues over hops with c >= eventLeaveConfidence and level >= eventLeaveDbfs
+ *   (hysteresis: the leave thresholds sit below the enter thresholds);
+ * - other hops are a pause; a pause up to maxGapS is bridged, a longer one ends the event at
+ *   its last sustaining hop; an onset >= onsetThreshold right after a pause splits the event;
+ * - events shorter than minEventS are dropped.
+ * An event spans [first hop centre - hop/2, last sustaining hop centre + hop/2].
+ *
+ * Latency: an event is emitted at the first hop more than maxGapS after its last sustaining
+ * hop, i.e. about maxGapS + hop/2 after the call ends (plus whatever delay the analysis
+ * frames add before the hop reaches the tracker), or when its track dies or the stream ends.
+ */
+import type { EventRecord } from '../records.js';
+import { DirectionSums } from './direction-sums.js';
+import type { TrackerOptions } from './options.js';
+
+/** The hop-wide values the cutter looks at. */
+export interface HopLevels {
+  timeS: number;
+  levelDbfs: number;
+  onset: number;
+  confidence: number;
+  bandLo: number;
+  bandHi: number;
+}
+
+export class EventCutter {
+  private readonly active: Uint8Array;
+  private readonly startT: Float64Array;
+  private readonly lastT: Float64Array;
+  private readonly pausedHops: Int32Array;
+  private readonly hops: Int32Array;
+  private readonly sumConf: Float64Array;
+  private readonly peak: Float64Array;
+  private readonly peakBandLo: Float64Array;
+  private readonly peakBandHi: Float64Array;
+  private readonly peakBandLevel: Float64Array;
+  private readonly sums: DirectionSums;
+
+  constructor(
+    size: number,
+    private readonly o: Readonly<TrackerOptions>,
+  ) {
+    this.active = new Uint8Array(size);
+    this.startT = new Float64Array(size);
+    this.lastT = new Float64Array(size);
+    this.pausedHops = new Int32Array(size);
+    this.hops = new Int32Array(size);
+    this.sumConf = new Float64Array(size);
+    this.peak = new Float64Array(size);
+    this.peakBandLo = new Float64Array(size);
+    this.peakBandHi = new Float64Array(size);
+    this.peakBandLevel = new Float64Array(size);
+    this.sums = new DirectionSums(size, o.mirroredPair);
+  }
+
+  /** Forget any open event of a slot. */
+  reset(slot: number): void {
+    this.active[slot] = 0;
+  }
+
+  isActive(slot: number): boolean {
+    return this.active[slot] === 1;
+  }
+
+  /**
+   * Feed one hop to a slot. supported: a candidate (azimuthDeg, elevationDeg or NaN, score)
+   * was assigned to the track. Returns the event that ended (for track >= 0; a tentative
+   * track, track < 0, has its events dropped), else null.
+   */
+  step(
+    slot: number,
+    hop: HopLevels,
+    hopS: number,
+    supported: boolean,
+    azimuthDeg: number,
+    elevationDeg: number,
+    score: number,
+    track: number,
+  ): EventRecord | null {
+    const o = this.o;
+    const c = supported ? hop.confidence * score : 0;
+    const sustains = supported && c >= o.eventLeaveConfidence && hop.levelDbfs >= o.eventLeaveDbfs;
+    if (this.active[slot] === 0) {
+      const enters =
+        sustains &&
+        c >= o.eventEnterConfidence &&
+        (hop.levelDbfs >= o.eventEnterDbfs || hop.onset >= o.onsetThreshold);
+      if (enters) this.begin(slot, hop, azimuthDeg, elevationDeg, c);
+      return null;
+    }
+    if (sustains) {
+      if (this.pausedHops[slot]! > 0 && hop.onset >= o.onsetThreshold) {
+        const ended = this.close(slot, hopS, track);
+        this.begin(slot, hop, azimuthDeg, elevationDeg, c);
+        return ended;
+      }
+      this.accumulate(slot, hop, azimuthDeg, elevationDeg, c);
+      return null;
+    }
+    this.pausedHops[slot] = this.pausedHops[slot]! + 1;
+    if (hop.timeS - this.lastT[slot]! > o.maxGapS) return this.close(slot, hopS, track);
+    return null;
+  }
+
+  /** End the slot's open event now (track death, end of stream); null when none or too short. */
+  close(slot: number, hopS: number, track: number): EventRecord | null {
+    if (this.active[slot] === 0) return null;
+    this.active[slot] = 0;
+    const start = Math.max(0, this.startT[slot]! - hopS / 2);
+    const end = this.lastT[slot]! + hopS / 2;
+    if (track < 0 || end - start < this.o.minEventS) return null;
+    const record: EventRecord = {
+      start_s: start,
+      end_s: end,
+      azimuth_deg: this.sums.meanAzimuthDeg(slot),
+      spread_deg: this.sums.spreadDeg(slot),
+      confidence: this.sumConf[slot]! / this.hops[slot]!,
+      track,
+      peak_dbfs: this.peak[slot]!,
+    };
+    const elevation = this.sums.meanElevationDeg(slot);
+    if (elevation !== null) record.elevation_deg = elevation;
+    if (this.peakBandLo[slot] === this.peakBandLo[slot]) record.band_hz = [this.peakBandLo[slot]!, this.peakBandHi[slot]!];
+    if (this.o.mirroredPair) record.mirror = 'front-back';
+    return record;
+  }
+
+  private begin(slot: number, hop: HopLevels, azimuthDeg: number, elevationDeg: number, c: number): void {
+    this.active[slot] = 1;
+    this.startT[slot] = hop.timeS;
+    this.hops[slot] = 0;
+    this.sumConf[slot] = 0;
+    this.peak[slot] = -Infinity;
+    this.peakBandLo[slot] = NaN;
+    this.peakBandHi[slot] = NaN;
+    this.peakBandLevel[slot] = -Infinity;
+    this.sums.reset(slot);
+    this.accumulate(slot, hop, azimuthDeg, elevationDeg, c);
+  }
+
+  private accumulate(slot: number, hop: HopLevels, azimuthDeg: number, elevationDeg: number, c: number): void {
+    this.lastT[slot] = hop.timeS;
+    this.pausedHops[slot] = 0;
+    this.hops[slot] = this.hops[slot]! + 1;
+    this.sumConf[slot] = this.sumConf[slot]! + c;
+    this.sums.add(slot, azimuthDeg, elevationDeg, Math.max(c, 1e-6));
+    if (hop.levelDbfs > this.peak[slot]!) this.peak[slot] = hop.levelDbfs;
+    // The event's band: that of its loudest hop that named one.
+    if (hop.bandLo === hop.bandLo && hop.levelDbfs > this.peakBandLevel[slot]!) {
+      this.peakBandLevel[slot] = hop.levelDbfs;
+      this.peakBandLo[slot] = hop.bandLo;
+      this.peakBandHi[slot] = hop.bandHi;
+    }
+  }
+}
