@@ -10,7 +10,10 @@
  * - it continues over hops with c >= eventLeaveConfidence and level >= eventLeaveDbfs
  *   (hysteresis: the leave thresholds sit below the enter thresholds);
  * - other hops are a pause; a pause up to maxGapS is bridged, a longer one ends the event at
- *   its last sustaining hop; an onset >= onsetThreshold right after a pause splits the event;
+ *   its last sustaining hop; an onset >= onsetThreshold during a pause of two hops or more,
+ *   or on the hop that ends it, splits the event (a new call). A one-hop pause never splits:
+ *   the onset strength belongs to the whole hop, so in a chorus it may come from another
+ *   caller while this one merely dropped out for a hop;
  * - events shorter than minEventS are dropped.
  * An event spans [first hop centre - hop/2, last sustaining hop centre + hop/2].
  *
@@ -23,6 +26,9 @@ import { DirectionSums } from './direction-sums.js';
 import type { TrackerOptions } from './options.js';
 
 /** The hop-wide values the cutter looks at. */
+/** Shortest pause (hops) after which an onset splits an event. */
+const MIN_SPLIT_PAUSE_HOPS = 2;
+
 export interface HopLevels {
   timeS: number;
   levelDbfs: number;
@@ -37,6 +43,7 @@ export class EventCutter {
   private readonly startT: Float64Array;
   private readonly lastT: Float64Array;
   private readonly pausedHops: Int32Array;
+  private readonly pauseOnset: Float64Array;
   private readonly hops: Int32Array;
   private readonly sumConf: Float64Array;
   private readonly peak: Float64Array;
@@ -53,6 +60,7 @@ export class EventCutter {
     this.startT = new Float64Array(size);
     this.lastT = new Float64Array(size);
     this.pausedHops = new Int32Array(size);
+    this.pauseOnset = new Float64Array(size);
     this.hops = new Int32Array(size);
     this.sumConf = new Float64Array(size);
     this.peak = new Float64Array(size);
@@ -98,7 +106,8 @@ export class EventCutter {
       return null;
     }
     if (sustains) {
-      if (this.pausedHops[slot]! > 0 && hop.onset >= o.onsetThreshold) {
+      const onset = Math.max(hop.onset, this.pauseOnset[slot]!);
+      if (this.pausedHops[slot]! >= MIN_SPLIT_PAUSE_HOPS && onset >= o.onsetThreshold) {
         const ended = this.close(slot, hopS, track);
         this.begin(slot, hop, azimuthDeg, elevationDeg, c);
         return ended;
@@ -107,6 +116,7 @@ export class EventCutter {
       return null;
     }
     this.pausedHops[slot] = this.pausedHops[slot]! + 1;
+    if (hop.onset > this.pauseOnset[slot]!) this.pauseOnset[slot] = hop.onset;
     if (hop.timeS - this.lastT[slot]! > o.maxGapS) return this.close(slot, hopS, track);
     return null;
   }
@@ -150,6 +160,7 @@ export class EventCutter {
   private accumulate(slot: number, hop: HopLevels, azimuthDeg: number, elevationDeg: number, c: number): void {
     this.lastT[slot] = hop.timeS;
     this.pausedHops[slot] = 0;
+    this.pauseOnset[slot] = 0;
     this.hops[slot] = this.hops[slot]! + 1;
     this.sumConf[slot] = this.sumConf[slot]! + c;
     this.sums.add(slot, azimuthDeg, elevationDeg, Math.max(c, 1e-6));

@@ -23,10 +23,10 @@ export interface TrackerOptions {
   maxUncertaintyDeg: number;
   /** Gate: a candidate may join a track within this many standard deviations of its prediction. */
   gateSigma: number;
-  /** Hops with a lower confidence feed no track. */
-  minHopConfidence: number;
-  /** Lowest candidate score that may start a new (tentative) track. */
-  birthScore: number;
+  /** A candidate feeds no track (and starts none) when hop confidence x its score is lower. */
+  minConfidence: number;
+  /** Lowest hop confidence x candidate score that may start a new (tentative) track. */
+  birthConfidence: number;
   /** A tentative track is confirmed after this many supported hops (M of N) ... */
   confirmHits: number;
   /** ... within this many hops since its birth (N). */
@@ -52,6 +52,9 @@ export interface TrackerOptions {
   /** Longest gap bridged inside one event, seconds; also the delay before an event is emitted. */
   maxGapS: number;
 }
+
+/** Settings as given: typed (from code) or parsed JSON (from a profile); resolveTrackerOptions checks both. */
+export type TrackerSettings = Partial<TrackerOptions> | Readonly<Record<string, unknown>>;
 
 export type NumericOptionKey = { [K in keyof TrackerOptions]: TrackerOptions[K] extends number ? K : never }[keyof TrackerOptions];
 
@@ -144,11 +147,11 @@ export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
   },
   numberSpec('bearingNoiseDeg', '--bearing-noise <deg>', 'deg', 3, { min: 0, max: 45, minExclusive: true },
     'spread (1 sigma) of a candidate azimuth at score 1; weaker candidates count as noisier'),
-  numberSpec('rateWanderDegS', '--rate-wander <deg/s>', 'deg/s', 5, { min: 0, max: 1000 },
+  numberSpec('rateWanderDegS', '--rate-wander <deg/s>', 'deg/s', 3, { min: 0, max: 1000 },
     'how much a source\'s angular rate may change within one second (1 sigma)'),
   numberSpec('maxRateDegS', '--max-rate <deg/s>', 'deg/s', 90, { min: 0, max: 3600 },
     'fastest angular rate a track may hold'),
-  numberSpec('rateMemoryS', '--rate-memory <s>', 's', 3, { min: 0, max: 3600, minExclusive: true },
+  numberSpec('rateMemoryS', '--rate-memory <s>', 's', 10, { min: 0, max: 3600, minExclusive: true },
     'time constant with which a track forgets its angular rate (short: static sources)'),
   numberSpec('initialRateDegS', '--initial-rate <deg/s>', 'deg/s', 20, { min: 0, max: 3600 },
     'rate uncertainty (1 sigma) of a newly born track'),
@@ -156,10 +159,10 @@ export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
     'cap on the direction uncertainty (1 sigma) of a track coasting through silence'),
   numberSpec('gateSigma', '--gate <sigma>', 'sigma', 3.5, { min: 1, max: 10 },
     'a candidate may join a track only within this many standard deviations of its prediction'),
-  numberSpec('minHopConfidence', '--min-hop-confidence <c>', '', 0.2, { min: 0, max: 1 },
-    'hops with a lower confidence feed no track'),
-  numberSpec('birthScore', '--birth-score <s>', '', 0.3, { min: 0, max: 1 },
-    'lowest candidate score that may start a new track'),
+  numberSpec('minConfidence', '--min-confidence <c>', '', 0.2, { min: 0, max: 1 },
+    'a candidate feeds a track only when hop confidence x its score reaches this'),
+  numberSpec('birthConfidence', '--birth-confidence <c>', '', 0.4, { min: 0, max: 1 },
+    'lowest hop confidence x candidate score that may start a new track'),
   numberSpec('confirmHits', '--confirm-hits <m>', 'hops', 3, { min: 1, max: 32, integer: true },
     'a new track is confirmed after M supported hops ...'),
   numberSpec('confirmWindow', '--confirm-window <n>', 'hops', 5, { min: 1, max: 32, integer: true },
@@ -204,7 +207,7 @@ function flagName(spec: TrackerOptionSpec): string {
  * an out-of-range value, an unknown name or an inconsistent pair throws a UsageError that
  * names the option. `where` prefixes the message (e.g. the profile file).
  */
-export function resolveTrackerOptions(partial: Partial<TrackerOptions> | Readonly<Record<string, unknown>> = {}, where = 'tracker'): TrackerOptions {
+export function resolveTrackerOptions(partial: TrackerSettings = {}, where = 'tracker'): TrackerOptions {
   const given = partial as Readonly<Record<string, unknown>>;
   const known = new Set<string>(trackerOptionSpecs.map((s) => s.key));
   for (const name of Object.keys(given)) {

@@ -8,10 +8,10 @@
  * Per hop:
  * 1. predict every live track to the hop's time (angle-filter.ts);
  * 2. gate each candidate against each track by the Mahalanobis distance of its innovation;
- *    candidates of a hop below minHopConfidence are ignored;
+ *    a candidate whose hop confidence x score is below minConfidence is ignored;
  * 3. assign candidates to confirmed tracks by global nearest neighbour (assignment.ts), then
  *    the leftovers to tentative tracks, and update the assigned tracks;
- * 4. a leftover candidate with score >= birthScore, outside every track's gate, starts a
+ * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate, starts a
  *    tentative track; it is confirmed (and gets the next track id) after confirmHits supported
  *    hops within confirmWindow hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
@@ -26,7 +26,7 @@ import { AngleFilterBank } from './angle-filter.js';
 import { NearestNeighbourAssigner } from './assignment.js';
 import { DirectionSums } from './direction-sums.js';
 import { EventCutter, type HopLevels } from './event-cutter.js';
-import { resolveTrackerOptions, type TrackerOptions } from './options.js';
+import { resolveTrackerOptions, type TrackerOptions, type TrackerSettings } from './options.js';
 import type { HopObservation, TrackSummary, TrackUpdate } from './types.js';
 
 const FREE = 0;
@@ -85,7 +85,7 @@ export class Tracker {
   private hopS = 0;
   private ended = false;
 
-  constructor(options: Partial<TrackerOptions> = {}) {
+  constructor(options: TrackerSettings = {}) {
     const o = resolveTrackerOptions(options);
     this.options = Object.freeze(o);
     const n = o.maxTracks;
@@ -224,15 +224,14 @@ export class Tracker {
   private loadCandidates(obs: HopObservation): number {
     const o = this.options;
     const nC = Math.min(obs.candidates.length, this.nCand);
-    const hopUsable = this.hop.confidence >= o.minHopConfidence;
     for (let j = 0; j < nC; j++) {
       const c = obs.candidates[j]!;
       const az = c.azimuthDeg;
       const el = c.elevationDeg;
       const usable =
-        hopUsable &&
         Number.isFinite(az) &&
         Number.isFinite(c.score) &&
+        this.hop.confidence * c.score >= o.minConfidence &&
         (!o.mirroredPair || (az >= -90 && az <= 90)) &&
         (el === null || Number.isFinite(el));
       this.candUsable[j] = usable ? 1 : 0;
@@ -332,7 +331,8 @@ export class Tracker {
   private births(t: number, nC: number): void {
     const o = this.options;
     for (let j = 0; j < nC; j++) {
-      if (this.candUsable[j] === 0 || this.candTaken[j] === 1 || this.candScore[j]! < o.birthScore) continue;
+      if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
+      if (this.hop.confidence * this.candScore[j]! < o.birthConfidence) continue;
       if (this.candGated[j] === 1 || this.withinAnyGate(j)) continue;
       let s = 0;
       while (s < this.size && this.state[s] !== FREE) s++;
