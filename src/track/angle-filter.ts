@@ -1,7 +1,8 @@
 /**
  * A bank of Kalman filters, one per track slot, on one angle and its rate (a nearly constant
  * rate model whose rate relaxes to zero with a time constant). State and covariance live in
- * typed arrays sized once, so predicting and updating allocate nothing.
+ * typed arrays sized once, so predicting and updating allocate nothing; the numbers of a call
+ * go in and out through `io` (see hop-scratch.ts for why).
  *
  * The domain decides what "near" means:
  * - 'circle': azimuth in (-180, 180]; innovations are taken the short way round, so 179 and
@@ -26,21 +27,33 @@ export interface AngleFilterParams {
   maxUncertaintyDeg: number;
 }
 
+/** Slots of `io`. */
+export const IO_DT = 0;
+/** Measured angle (init, update, distance2). */
+export const IO_Z = 1;
+/** Its variance; for init, the starting angle variance. */
+export const IO_R = 2;
+/** Output of distance2: squared innovation over its variance. */
+export const IO_D2 = 3;
+/** Starting rate standard deviation (init). */
+export const IO_RATE_SIGMA = 4;
+
 export class AngleFilterBank {
   readonly angle: Float64Array;
   readonly rate: Float64Array;
+  readonly io = new Float64Array(5);
   private readonly p00: Float64Array;
   private readonly p01: Float64Array;
   private readonly p11: Float64Array;
   private readonly q: number;
   private readonly maxVar: number;
+  private readonly maxRate: number;
   private readonly maxRateVar: number;
+  private readonly rateMemoryS: number;
+  private readonly circle: boolean;
+  private readonly reflect: boolean;
 
-  constructor(
-    size: number,
-    private readonly domain: AngleDomain,
-    private readonly params: AngleFilterParams,
-  ) {
+  constructor(size: number, domain: AngleDomain, params: AngleFilterParams) {
     this.angle = new Float64Array(size);
     this.rate = new Float64Array(size);
     this.p00 = new Float64Array(size);
@@ -48,23 +61,31 @@ export class AngleFilterBank {
     this.p11 = new Float64Array(size);
     this.q = params.rateWanderDegS * params.rateWanderDegS;
     this.maxVar = params.maxUncertaintyDeg * params.maxUncertaintyDeg;
+    this.maxRate = params.maxRateDegS;
     const rateCap = Math.max(params.maxRateDegS, 1e-6);
     this.maxRateVar = rateCap * rateCap;
+    this.rateMemoryS = params.rateMemoryS;
+    this.circle = domain === 'circle';
+    this.reflect = domain === 'half-circle';
   }
 
-  /** Start a slot at a measured angle with variance angleVar and rate 0 +- rateSigma. */
-  init(slot: number, angleDeg: number, angleVar: number, rateSigmaDegS: number): void {
-    this.angle[slot] = this.normalise(angleDeg);
+  /** Start a slot at io[IO_Z] with variance io[IO_R], rate 0 +- io[IO_RATE_SIGMA]. */
+  init(slot: number): void {
+    const io = this.io;
+    const z = io[IO_Z]!;
+    this.angle[slot] = this.circle ? wrapDeg(z) : Math.max(-90, Math.min(90, z));
     this.rate[slot] = 0;
-    this.p00[slot] = Math.min(angleVar, this.maxVar);
+    this.p00[slot] = Math.min(io[IO_R]!, this.maxVar);
     this.p01[slot] = 0;
-    this.p11[slot] = Math.min(rateSigmaDegS * rateSigmaDegS, this.maxRateVar);
+    const rs = io[IO_RATE_SIGMA]!;
+    this.p11[slot] = Math.min(rs * rs, this.maxRateVar);
   }
 
-  /** Advance a slot by dt seconds. */
-  predict(slot: number, dt: number): void {
+  /** Advance a slot by io[IO_DT] seconds. */
+  predict(slot: number): void {
+    const dt = this.io[IO_DT]!;
     if (!(dt > 0)) return;
-    const a = Math.exp(-dt / this.params.rateMemoryS);
+    const a = Math.exp(-dt / this.rateMemoryS);
     const p00 = this.p00[slot]!;
     const p01 = this.p01[slot]!;
     const p11 = this.p11[slot]!;
@@ -75,14 +96,12 @@ export class AngleFilterBank {
     let n01 = a * (p01 + dt * p11) + (q * dt2) / 2;
     let n11 = a * a * p11 + q * dt;
     if (n00 > this.maxVar) {
-      const s = Math.sqrt(this.maxVar / n00);
+      n01 *= Math.sqrt(this.maxVar / n00);
       n00 = this.maxVar;
-      n01 *= s;
     }
     if (n11 > this.maxRateVar) {
-      const s = Math.sqrt(this.maxRateVar / n11);
+      n01 *= Math.sqrt(this.maxRateVar / n11);
       n11 = this.maxRateVar;
-      n01 *= s;
     }
     this.p00[slot] = n00;
     this.p01[slot] = n01;
@@ -93,29 +112,23 @@ export class AngleFilterBank {
     this.settle(slot);
   }
 
-  /** Measured minus predicted angle, the short way in the domain. */
-  innovation(slot: number, zDeg: number): number {
-    const d = zDeg - this.angle[slot]!;
-    return this.domain === 'circle' ? wrapDeg(d) : d;
+  /** io[IO_D2] = squared innovation of io[IO_Z] (variance io[IO_R]) over its variance. */
+  distance2(slot: number): void {
+    const io = this.io;
+    let nu = io[IO_Z]! - this.angle[slot]!;
+    if (this.circle) nu = wrapDeg(nu);
+    io[IO_D2] = (nu * nu) / (this.p00[slot]! + io[IO_R]!);
   }
 
-  /** Variance of the innovation for a measurement of variance r. */
-  innovationVar(slot: number, r: number): number {
-    return this.p00[slot]! + r;
-  }
-
-  /** Standard deviation of the slot's angle, degrees. */
-  sigmaDeg(slot: number): number {
-    return Math.sqrt(this.p00[slot]!);
-  }
-
-  /** Fold in a measurement zDeg of variance r. */
-  update(slot: number, zDeg: number, r: number): void {
-    const nu = this.innovation(slot, zDeg);
+  /** Fold in the measurement io[IO_Z] of variance io[IO_R]. */
+  update(slot: number): void {
+    const io = this.io;
+    let nu = io[IO_Z]! - this.angle[slot]!;
+    if (this.circle) nu = wrapDeg(nu);
     const p00 = this.p00[slot]!;
     const p01 = this.p01[slot]!;
     const p11 = this.p11[slot]!;
-    const s = p00 + r;
+    const s = p00 + io[IO_R]!;
     const k0 = p00 / s;
     const k1 = p01 / s;
     this.angle[slot] = this.angle[slot]! + k0 * nu;
@@ -126,24 +139,19 @@ export class AngleFilterBank {
     this.settle(slot);
   }
 
-  private normalise(angleDeg: number): number {
-    if (this.domain === 'circle') return wrapDeg(angleDeg);
-    return Math.max(-90, Math.min(90, angleDeg));
-  }
-
   /** Bring the state back into its domain, and keep the rate within its cap. */
   private settle(slot: number): void {
-    const cap = this.params.maxRateDegS;
+    const cap = this.maxRate;
     const rate = this.rate[slot]!;
     if (rate > cap) this.rate[slot] = cap;
     else if (rate < -cap) this.rate[slot] = -cap;
     const angle = this.angle[slot]!;
-    if (this.domain === 'circle') {
+    if (this.circle) {
       if (angle > 180 || angle <= -180) this.angle[slot] = wrapDeg(angle);
       return;
     }
     if (angle <= 90 && angle >= -90) return;
-    if (this.domain === 'half-circle') {
+    if (this.reflect) {
       // Past endfire the pair sees the mirror image: reflect the angle, reverse the motion.
       this.angle[slot] = angle > 90 ? Math.max(-90, 180 - angle) : Math.min(90, -180 - angle);
       this.rate[slot] = -this.rate[slot]!;

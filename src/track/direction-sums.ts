@@ -5,6 +5,7 @@
  * the weighted arithmetic mean and standard deviation; plus the weighted mean elevation.
  */
 import { meanFromSums, resultantFromSums, stdFromResultantDeg } from './circular.js';
+import { CONFIDENCE, MIN_WEIGHT, type HopScratch } from './hop-scratch.js';
 
 const DEG = Math.PI / 180;
 
@@ -20,6 +21,7 @@ export class DirectionSums {
   constructor(
     size: number,
     private readonly mirrored: boolean,
+    private readonly scratch: HopScratch,
   ) {
     this.sumCos = new Float64Array(size);
     this.sumSin = new Float64Array(size);
@@ -40,8 +42,12 @@ export class DirectionSums {
     this.sumElW[slot] = 0;
   }
 
-  /** Add one direction with weight w > 0; elevation NaN when the hop has none. */
-  add(slot: number, azimuthDeg: number, elevationDeg: number, w: number): void {
+  /** Add candidate j of the current hop, weighted by hop confidence x its score. */
+  add(slot: number, j: number): void {
+    const sc = this.scratch;
+    const azimuthDeg = sc.candAz[j]!;
+    const elevationDeg = sc.candEl[j]!;
+    const w = Math.max(sc.hop[CONFIDENCE]! * sc.candScore[j]!, MIN_WEIGHT);
     this.sumCos[slot] = this.sumCos[slot]! + w * Math.cos(azimuthDeg * DEG);
     this.sumSin[slot] = this.sumSin[slot]! + w * Math.sin(azimuthDeg * DEG);
     this.sumW[slot] = this.sumW[slot]! + w;

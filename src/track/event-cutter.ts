@@ -1,6 +1,6 @@
 /**
  * Cuts one track's activity into events (one record per call), one slot per track, state in
- * typed arrays.
+ * typed arrays; it reads the current hop from the shared HopScratch.
  *
  * Per hop a track is either supported (a candidate was assigned to it) or not. With
  * c = hop confidence x candidate score:
@@ -15,7 +15,10 @@
  *   the onset strength belongs to the whole hop, so in a chorus it may come from another
  *   caller while this one merely dropped out for a hop;
  * - events shorter than minEventS are dropped.
- * An event spans [first hop centre - hop/2, last sustaining hop centre + hop/2].
+ * An event spans [first hop centre - hop/2, last sustaining hop centre + hop/2]; its azimuth
+ * is the circular mean of its hops' azimuths weighted by c (linear mean on a mirrored pair),
+ * spread_deg their circular standard deviation, confidence the mean c, peak_dbfs the loudest
+ * hop level, band_hz the band of the loudest hop that named one.
  *
  * Latency: an event is emitted at the first hop more than maxGapS after its last sustaining
  * hop, i.e. about maxGapS + hop/2 after the call ends (plus whatever delay the analysis
@@ -23,20 +26,11 @@
  */
 import type { EventRecord } from '../records.js';
 import { DirectionSums } from './direction-sums.js';
+import { BAND_HI, BAND_LO, CONFIDENCE, HOP_S, LEVEL, ONSET, TIME, type HopScratch } from './hop-scratch.js';
 import type { TrackerOptions } from './options.js';
 
-/** The hop-wide values the cutter looks at. */
 /** Shortest pause (hops) after which an onset splits an event. */
 const MIN_SPLIT_PAUSE_HOPS = 2;
-
-export interface HopLevels {
-  timeS: number;
-  levelDbfs: number;
-  onset: number;
-  confidence: number;
-  bandLo: number;
-  bandHi: number;
-}
 
 export class EventCutter {
   private readonly active: Uint8Array;
@@ -55,6 +49,7 @@ export class EventCutter {
   constructor(
     size: number,
     private readonly o: Readonly<TrackerOptions>,
+    private readonly scratch: HopScratch,
   ) {
     this.active = new Uint8Array(size);
     this.startT = new Float64Array(size);
@@ -67,7 +62,7 @@ export class EventCutter {
     this.peakBandLo = new Float64Array(size);
     this.peakBandHi = new Float64Array(size);
     this.peakBandLevel = new Float64Array(size);
-    this.sums = new DirectionSums(size, o.mirroredPair);
+    this.sums = new DirectionSums(size, o.mirroredPair, scratch);
   }
 
   /** Forget any open event of a slot. */
@@ -75,56 +70,44 @@ export class EventCutter {
     this.active[slot] = 0;
   }
 
-  isActive(slot: number): boolean {
-    return this.active[slot] === 1;
-  }
-
   /**
-   * Feed one hop to a slot. supported: a candidate (azimuthDeg, elevationDeg or NaN, score)
-   * was assigned to the track. Returns the event that ended (for track >= 0; a tentative
-   * track, track < 0, has its events dropped), else null.
+   * Feed the current hop to a slot; j is the candidate assigned to its track, or -1. Returns
+   * the event that ended, for track >= 0 (a tentative track, track < 0, has its events
+   * dropped), else null.
    */
-  step(
-    slot: number,
-    hop: HopLevels,
-    hopS: number,
-    supported: boolean,
-    azimuthDeg: number,
-    elevationDeg: number,
-    score: number,
-    track: number,
-  ): EventRecord | null {
+  step(slot: number, j: number, track: number): EventRecord | null {
     const o = this.o;
-    const c = supported ? hop.confidence * score : 0;
-    const sustains = supported && c >= o.eventLeaveConfidence && hop.levelDbfs >= o.eventLeaveDbfs;
+    const sc = this.scratch;
+    const hop = sc.hop;
+    const level = hop[LEVEL]!;
+    const onset = hop[ONSET]!;
+    const c = j >= 0 ? hop[CONFIDENCE]! * sc.candScore[j]! : 0;
+    const sustains = j >= 0 && c >= o.eventLeaveConfidence && level >= o.eventLeaveDbfs;
     if (this.active[slot] === 0) {
-      const enters =
-        sustains &&
-        c >= o.eventEnterConfidence &&
-        (hop.levelDbfs >= o.eventEnterDbfs || hop.onset >= o.onsetThreshold);
-      if (enters) this.begin(slot, hop, azimuthDeg, elevationDeg, c);
+      const enters = sustains && c >= o.eventEnterConfidence && (level >= o.eventEnterDbfs || onset >= o.onsetThreshold);
+      if (enters) this.begin(slot, j);
       return null;
     }
     if (sustains) {
-      const onset = Math.max(hop.onset, this.pauseOnset[slot]!);
-      if (this.pausedHops[slot]! >= MIN_SPLIT_PAUSE_HOPS && onset >= o.onsetThreshold) {
-        const ended = this.close(slot, hopS, track);
-        this.begin(slot, hop, azimuthDeg, elevationDeg, c);
+      if (this.pausedHops[slot]! >= MIN_SPLIT_PAUSE_HOPS && Math.max(onset, this.pauseOnset[slot]!) >= o.onsetThreshold) {
+        const ended = this.close(slot, track);
+        this.begin(slot, j);
         return ended;
       }
-      this.accumulate(slot, hop, azimuthDeg, elevationDeg, c);
+      this.accumulate(slot, j);
       return null;
     }
     this.pausedHops[slot] = this.pausedHops[slot]! + 1;
-    if (hop.onset > this.pauseOnset[slot]!) this.pauseOnset[slot] = hop.onset;
-    if (hop.timeS - this.lastT[slot]! > o.maxGapS) return this.close(slot, hopS, track);
+    if (onset > this.pauseOnset[slot]!) this.pauseOnset[slot] = onset;
+    if (hop[TIME]! - this.lastT[slot]! > o.maxGapS) return this.close(slot, track);
     return null;
   }
 
   /** End the slot's open event now (track death, end of stream); null when none or too short. */
-  close(slot: number, hopS: number, track: number): EventRecord | null {
+  close(slot: number, track: number): EventRecord | null {
     if (this.active[slot] === 0) return null;
     this.active[slot] = 0;
+    const hopS = this.scratch.hop[HOP_S]!;
     const start = Math.max(0, this.startT[slot]! - hopS / 2);
     const end = this.lastT[slot]! + hopS / 2;
     if (track < 0 || end - start < this.o.minEventS) return null;
@@ -144,9 +127,9 @@ export class EventCutter {
     return record;
   }
 
-  private begin(slot: number, hop: HopLevels, azimuthDeg: number, elevationDeg: number, c: number): void {
+  private begin(slot: number, j: number): void {
     this.active[slot] = 1;
-    this.startT[slot] = hop.timeS;
+    this.startT[slot] = this.scratch.hop[TIME]!;
     this.hops[slot] = 0;
     this.sumConf[slot] = 0;
     this.peak[slot] = -Infinity;
@@ -154,22 +137,26 @@ export class EventCutter {
     this.peakBandHi[slot] = NaN;
     this.peakBandLevel[slot] = -Infinity;
     this.sums.reset(slot);
-    this.accumulate(slot, hop, azimuthDeg, elevationDeg, c);
+    this.accumulate(slot, j);
   }
 
-  private accumulate(slot: number, hop: HopLevels, azimuthDeg: number, elevationDeg: number, c: number): void {
-    this.lastT[slot] = hop.timeS;
+  private accumulate(slot: number, j: number): void {
+    const sc = this.scratch;
+    const hop = sc.hop;
+    const level = hop[LEVEL]!;
+    this.lastT[slot] = hop[TIME]!;
     this.pausedHops[slot] = 0;
     this.pauseOnset[slot] = 0;
     this.hops[slot] = this.hops[slot]! + 1;
-    this.sumConf[slot] = this.sumConf[slot]! + c;
-    this.sums.add(slot, azimuthDeg, elevationDeg, Math.max(c, 1e-6));
-    if (hop.levelDbfs > this.peak[slot]!) this.peak[slot] = hop.levelDbfs;
+    this.sumConf[slot] = this.sumConf[slot]! + hop[CONFIDENCE]! * sc.candScore[j]!;
+    this.sums.add(slot, j);
+    if (level > this.peak[slot]!) this.peak[slot] = level;
     // The event's band: that of its loudest hop that named one.
-    if (hop.bandLo === hop.bandLo && hop.levelDbfs > this.peakBandLevel[slot]!) {
-      this.peakBandLevel[slot] = hop.levelDbfs;
-      this.peakBandLo[slot] = hop.bandLo;
-      this.peakBandHi[slot] = hop.bandHi;
+    const lo = hop[BAND_LO]!;
+    if (lo === lo && level > this.peakBandLevel[slot]!) {
+      this.peakBandLevel[slot] = level;
+      this.peakBandLo[slot] = lo;
+      this.peakBandHi[slot] = hop[BAND_HI]!;
     }
   }
 }

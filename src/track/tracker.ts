@@ -22,10 +22,11 @@
  */
 import { RuntimeFailure } from '../errors.js';
 import type { EventRecord } from '../records.js';
-import { AngleFilterBank } from './angle-filter.js';
+import { AngleFilterBank, IO_D2, IO_DT, IO_R, IO_RATE_SIGMA, IO_Z } from './angle-filter.js';
 import { NearestNeighbourAssigner } from './assignment.js';
 import { DirectionSums } from './direction-sums.js';
-import { EventCutter, type HopLevels } from './event-cutter.js';
+import { EventCutter } from './event-cutter.js';
+import { BAND_HI, BAND_LO, CONFIDENCE, DT, HOP_S, HopScratch, LEVEL, ONSET, TIME } from './hop-scratch.js';
 import { resolveTrackerOptions, type TrackerOptions, type TrackerSettings } from './options.js';
 import type { HopObservation, TrackSummary, TrackUpdate } from './types.js';
 
@@ -37,6 +38,7 @@ const CONFIRMED = 2;
 const MIN_SCORE = 0.05;
 /** Floor on cos(elevation) when widening the azimuth noise of high candidates. */
 const MIN_COS_ELEVATION = 0.2;
+const DEG = Math.PI / 180;
 
 const NO_EVENTS: readonly EventRecord[] = Object.freeze([]);
 
@@ -49,6 +51,7 @@ export class Tracker {
   readonly options: Readonly<TrackerOptions>;
   private readonly size: number;
   private readonly nCand: number;
+  private readonly sc: HopScratch;
   private readonly az: AngleFilterBank;
   private readonly el: AngleFilterBank;
   private readonly state: Uint8Array;
@@ -68,21 +71,17 @@ export class Tracker {
   private readonly listed: Int32Array;
   private readonly listedChoice: Int32Array;
   private readonly cost: Float64Array;
-  private readonly candAz: Float64Array;
-  private readonly candEl: Float64Array;
-  private readonly candScore: Float64Array;
-  private readonly candR: Float64Array;
   private readonly candUsable: Uint8Array;
   private readonly candTaken: Uint8Array;
   private readonly candGated: Uint8Array;
   private readonly idsByLength: (number | null)[][] = [];
-  private readonly hop: HopLevels = { timeS: 0, levelDbfs: 0, onset: 0, confidence: 0, bandLo: NaN, bandHi: NaN };
   private readonly result: MutableUpdate = { trackIds: [], events: NO_EVENTS };
   private readonly finished: TrackSummary[] = [];
+  /** Squared Mahalanobis distance of the last gate() call. */
+  private readonly d2 = new Float64Array(1);
   private readonly gate2: number;
   private nextId = 1;
-  private lastT = NaN;
-  private hopS = 0;
+  private started = false;
   private ended = false;
 
   constructor(options: TrackerSettings = {}) {
@@ -98,8 +97,11 @@ export class Tracker {
       rateMemoryS: o.rateMemoryS,
       maxUncertaintyDeg: o.maxUncertaintyDeg,
     };
+    this.sc = new HopScratch(c);
     this.az = new AngleFilterBank(n, o.mirroredPair ? 'half-circle' : 'circle', filter);
     this.el = new AngleFilterBank(n, 'elevation', filter);
+    this.az.io[IO_RATE_SIGMA] = o.initialRateDegS;
+    this.el.io[IO_RATE_SIGMA] = o.initialRateDegS;
     this.state = new Uint8Array(n);
     this.id = new Int32Array(n);
     this.hasEl = new Uint8Array(n);
@@ -111,16 +113,12 @@ export class Tracker {
     this.eventCount = new Int32Array(n);
     this.activeS = new Float64Array(n);
     this.chosen = new Int32Array(n);
-    this.lifetime = new DirectionSums(n, o.mirroredPair);
-    this.cutter = new EventCutter(n, o);
+    this.lifetime = new DirectionSums(n, o.mirroredPair, this.sc);
+    this.cutter = new EventCutter(n, o, this.sc);
     this.assigner = new NearestNeighbourAssigner(n, c);
     this.listed = new Int32Array(n);
     this.listedChoice = new Int32Array(n);
     this.cost = new Float64Array(n * c);
-    this.candAz = new Float64Array(c);
-    this.candEl = new Float64Array(c);
-    this.candScore = new Float64Array(c);
-    this.candR = new Float64Array(c);
     this.candUsable = new Uint8Array(c);
     this.candTaken = new Uint8Array(c);
     this.candGated = new Uint8Array(c);
@@ -130,48 +128,40 @@ export class Tracker {
   /** Feed one hop; see TrackUpdate (the returned object is reused by the next call). */
   update(obs: HopObservation): TrackUpdate {
     if (this.ended) throw new RuntimeFailure('tracker: update() after finish(); start a new Tracker for a new stream.');
+    const hop = this.sc.hop;
     const t = obs.timeS;
-    if (!Number.isFinite(t) || t <= this.lastT) {
-      throw new RuntimeFailure(`tracker: hop time ${t} s does not follow ${this.lastT} s; hops must arrive in increasing time order.`);
+    if (!Number.isFinite(t) || (this.started && t <= hop[TIME]!)) {
+      throw new RuntimeFailure(`tracker: hop time ${t} s does not follow ${hop[TIME]} s; hops must arrive in increasing time order.`);
     }
-    const dt = this.lastT === this.lastT ? t - this.lastT : 0;
-    if (dt > 0) this.hopS = dt;
-    this.lastT = t;
+    hop[DT] = this.started ? t - hop[TIME]! : 0;
+    if (hop[DT]! > 0) hop[HOP_S] = hop[DT]!;
+    this.started = true;
     this.fillHop(obs);
+    this.az.io[IO_DT] = hop[DT]!;
+    this.el.io[IO_DT] = hop[DT]!;
 
     for (let s = 0; s < this.size; s++) {
       this.chosen[s] = -1;
       if (this.state[s] === FREE) continue;
-      this.az.predict(s, dt);
-      if (this.hasEl[s] === 1) this.el.predict(s, dt);
+      this.az.predict(s);
+      if (this.hasEl[s] === 1) this.el.predict(s);
     }
 
     const nC = this.loadCandidates(obs);
     this.assignStage(CONFIRMED, nC);
     this.assignStage(TENTATIVE, nC);
-    this.applyAssignments(t);
-    this.births(t, nC);
+    this.applyAssignments();
+    this.births(nC);
     this.tentativeBookkeeping();
 
     let events: EventRecord[] | null = null;
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] === FREE) continue;
-      const j = this.chosen[s]!;
       const track = this.state[s] === CONFIRMED ? this.id[s]! : -1;
-      const supported = j >= 0;
-      const ended = this.cutter.step(
-        s,
-        this.hop,
-        this.hopS,
-        supported,
-        supported ? this.candAz[j]! : NaN,
-        supported ? this.candEl[j]! : NaN,
-        supported ? this.candScore[j]! : 0,
-        track,
-      );
+      const ended = this.cutter.step(s, this.chosen[s]!, track);
       if (ended !== null) events = this.collect(events, s, ended);
-      if (this.state[s] === CONFIRMED && t - this.lastSupportT[s]! > this.options.trackTimeoutS) {
-        const last = this.cutter.close(s, this.hopS, track);
+      if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastSupportT[s]! > this.options.trackTimeoutS) {
+        const last = this.cutter.close(s, track);
         if (last !== null) events = this.collect(events, s, last);
         this.retire(s);
       }
@@ -195,7 +185,7 @@ export class Tracker {
     let events: EventRecord[] | null = null;
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] !== CONFIRMED) continue;
-      const ended = this.cutter.close(s, this.hopS, this.id[s]!);
+      const ended = this.cutter.close(s, this.id[s]!);
       if (ended !== null) events = this.collect(events, s, ended);
     }
     return events ?? [];
@@ -210,19 +200,21 @@ export class Tracker {
   }
 
   private fillHop(obs: HopObservation): void {
-    const hop = this.hop;
-    hop.timeS = obs.timeS;
-    hop.levelDbfs = Number.isFinite(obs.levelDbfs) ? obs.levelDbfs : -Infinity;
-    hop.onset = Number.isFinite(obs.onset) ? obs.onset : 0;
-    hop.confidence = Number.isFinite(obs.confidence) ? obs.confidence : 0;
+    const hop = this.sc.hop;
+    hop[TIME] = obs.timeS;
+    hop[LEVEL] = Number.isFinite(obs.levelDbfs) ? obs.levelDbfs : -Infinity;
+    hop[ONSET] = Number.isFinite(obs.onset) ? obs.onset : 0;
+    hop[CONFIDENCE] = Number.isFinite(obs.confidence) ? obs.confidence : 0;
     const band = obs.bandHz;
-    hop.bandLo = band ? band[0] : NaN;
-    hop.bandHi = band ? band[1] : NaN;
+    hop[BAND_LO] = band ? band[0] : NaN;
+    hop[BAND_HI] = band ? band[1] : NaN;
   }
 
   /** Copy the usable candidates into the scratch arrays; returns how many are considered. */
   private loadCandidates(obs: HopObservation): number {
     const o = this.options;
+    const sc = this.sc;
+    const conf = sc.hop[CONFIDENCE]!;
     const nC = Math.min(obs.candidates.length, this.nCand);
     for (let j = 0; j < nC; j++) {
       const c = obs.candidates[j]!;
@@ -231,39 +223,54 @@ export class Tracker {
       const usable =
         Number.isFinite(az) &&
         Number.isFinite(c.score) &&
-        this.hop.confidence * c.score >= o.minConfidence &&
+        conf * c.score >= o.minConfidence &&
         (!o.mirroredPair || (az >= -90 && az <= 90)) &&
         (el === null || Number.isFinite(el));
       this.candUsable[j] = usable ? 1 : 0;
       this.candTaken[j] = 0;
       this.candGated[j] = 0;
       if (!usable) continue;
-      const score = Math.min(1, Math.max(MIN_SCORE, c.score));
-      this.candAz[j] = az;
-      this.candEl[j] = el === null ? NaN : el;
-      this.candScore[j] = c.score;
-      this.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / score;
+      sc.candAz[j] = az;
+      sc.candEl[j] = el === null ? NaN : el;
+      sc.candScore[j] = c.score;
+      sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, c.score));
     }
     return nC;
   }
 
-  /** Squared Mahalanobis distance of candidate j from slot s, and the gate it must pass. */
-  private distance2(s: number, j: number): number {
-    const r = this.candR[j]!;
-    const el = this.candEl[j]!;
+  /**
+   * Load candidate j as the measurement of slot s into the filter banks (azimuth noise widened
+   * by 1 / cos^2 elevation when both carry elevations). Returns whether elevation takes part.
+   */
+  private loadMeasurement(s: number, j: number): boolean {
+    const sc = this.sc;
+    const r = sc.candR[j]!;
+    const el = sc.candEl[j]!;
+    this.az.io[IO_Z] = sc.candAz[j]!;
     if (this.hasEl[s] === 1 && el === el) {
-      const cosEl = Math.max(MIN_COS_ELEVATION, Math.cos((this.el.angle[s]! * Math.PI) / 180));
-      const rAz = r / (cosEl * cosEl);
-      const nuAz = this.az.innovation(s, this.candAz[j]!);
-      const nuEl = this.el.innovation(s, el);
-      return (nuAz * nuAz) / this.az.innovationVar(s, rAz) + (nuEl * nuEl) / this.el.innovationVar(s, r);
+      const cosEl = Math.max(MIN_COS_ELEVATION, Math.cos(this.el.angle[s]! * DEG));
+      this.az.io[IO_R] = r / (cosEl * cosEl);
+      this.el.io[IO_Z] = el;
+      this.el.io[IO_R] = r;
+      return true;
     }
-    const nu = this.az.innovation(s, this.candAz[j]!);
-    return (nu * nu) / this.az.innovationVar(s, r);
+    this.az.io[IO_R] = r;
+    return false;
   }
 
-  private gateFor(s: number, j: number): number {
-    return this.hasEl[s] === 1 && this.candEl[j] === this.candEl[j] ? 2 * this.gate2 : this.gate2;
+  /** Is candidate j inside the gate of slot s? Leaves d^2 - gate^2 in d2[0]. */
+  private gate(s: number, j: number): boolean {
+    const both = this.loadMeasurement(s, j);
+    this.az.distance2(s);
+    let d2 = this.az.io[IO_D2]!;
+    let g = this.gate2;
+    if (both) {
+      this.el.distance2(s);
+      d2 += this.el.io[IO_D2]!;
+      g *= 2;
+    }
+    this.d2[0] = d2 - g;
+    return d2 <= g;
   }
 
   /** Global nearest neighbour between the tracks in one state and the untaken candidates. */
@@ -276,17 +283,12 @@ export class Tracker {
     for (let i = 0; i < nT; i++) {
       const s = this.listed[i]!;
       for (let j = 0; j < nC; j++) {
-        let k = Infinity;
-        if (this.candUsable[j] === 1 && this.candTaken[j] === 0) {
-          const d2 = this.distance2(s, j);
-          const g = this.gateFor(s, j);
-          if (d2 <= g) {
-            k = d2 - g;
-            this.candGated[j] = 1;
-            any = true;
-          }
+        this.cost[i * stride + j] = Infinity;
+        if (this.candUsable[j] === 1 && this.candTaken[j] === 0 && this.gate(s, j)) {
+          this.cost[i * stride + j] = this.d2[0]!;
+          this.candGated[j] = 1;
+          any = true;
         }
-        this.cost[i * stride + j] = k;
       }
     }
     if (!any) return;
@@ -299,40 +301,40 @@ export class Tracker {
     }
   }
 
-  private applyAssignments(t: number): void {
+  private applyAssignments(): void {
     for (let s = 0; s < this.size; s++) {
       const j = this.chosen[s]!;
       if (j < 0) continue;
-      const r = this.candR[j]!;
-      const el = this.candEl[j]!;
-      if (el === el) {
-        if (this.hasEl[s] === 0) {
-          this.hasEl[s] = 1;
-          this.el.init(s, el, r, this.options.initialRateDegS);
-        } else {
-          this.el.update(s, el, r);
-        }
-        const cosEl = Math.max(MIN_COS_ELEVATION, Math.cos((this.el.angle[s]! * Math.PI) / 180));
-        this.az.update(s, this.candAz[j]!, r / (cosEl * cosEl));
+      const sc = this.sc;
+      if (sc.candEl[j] === sc.candEl[j] && this.hasEl[s] === 0) {
+        // First elevation for this track: start its elevation filter.
+        this.hasEl[s] = 1;
+        this.el.io[IO_Z] = sc.candEl[j]!;
+        this.el.io[IO_R] = sc.candR[j]!;
+        this.el.init(s);
+        this.loadMeasurement(s, j);
+        this.az.update(s);
       } else {
-        this.az.update(s, this.candAz[j]!, r);
+        if (this.loadMeasurement(s, j)) this.el.update(s);
+        this.az.update(s);
       }
-      this.support(s, j, t);
+      this.support(s, j);
     }
   }
 
-  private support(s: number, j: number, t: number): void {
+  private support(s: number, j: number): void {
     this.hits[s] = this.hits[s]! + 1;
-    this.lastSupportT[s] = t;
+    this.lastSupportT[s] = this.sc.hop[TIME]!;
     this.hopCount[s] = this.hopCount[s]! + 1;
-    this.lifetime.add(s, this.candAz[j]!, this.candEl[j]!, Math.max(this.hop.confidence * this.candScore[j]!, 1e-6));
+    this.lifetime.add(s, j);
   }
 
-  private births(t: number, nC: number): void {
+  private births(nC: number): void {
     const o = this.options;
+    const sc = this.sc;
     for (let j = 0; j < nC; j++) {
       if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
-      if (this.hop.confidence * this.candScore[j]! < o.birthConfidence) continue;
+      if (sc.hop[CONFIDENCE]! * sc.candScore[j]! < o.birthConfidence) continue;
       if (this.candGated[j] === 1 || this.withinAnyGate(j)) continue;
       let s = 0;
       while (s < this.size && this.state[s] !== FREE) s++;
@@ -344,28 +346,30 @@ export class Tracker {
       this.hopCount[s] = 0;
       this.eventCount[s] = 0;
       this.activeS[s] = 0;
-      this.firstSeenT[s] = t;
+      this.firstSeenT[s] = sc.hop[TIME]!;
       this.lifetime.reset(s);
       this.cutter.reset(s);
-      const r = this.candR[j]!;
-      this.az.init(s, this.candAz[j]!, r, o.initialRateDegS);
-      const el = this.candEl[j]!;
+      this.az.io[IO_Z] = sc.candAz[j]!;
+      this.az.io[IO_R] = sc.candR[j]!;
+      this.az.init(s);
+      const el = sc.candEl[j]!;
       this.hasEl[s] = el === el ? 1 : 0;
-      if (el === el) this.el.init(s, el, r, o.initialRateDegS);
+      if (el === el) {
+        this.el.io[IO_Z] = el;
+        this.el.io[IO_R] = sc.candR[j]!;
+        this.el.init(s);
+      }
       this.chosen[s] = j;
       this.candTaken[j] = 1;
-      this.support(s, j, t);
+      this.support(s, j);
     }
   }
 
   /** A candidate inside the gate of a live track is that track's (a side peak), not a newcomer. */
   private withinAnyGate(j: number): boolean {
-    for (let s = 0; s < this.size; s++) {
-      if (this.state[s] !== FREE && this.distance2(s, j) <= this.gateFor(s, j)) return true;
-    }
+    for (let s = 0; s < this.size; s++) if (this.state[s] !== FREE && this.gate(s, j)) return true;
     return false;
   }
-
   private tentativeBookkeeping(): void {
     const o = this.options;
     for (let s = 0; s < this.size; s++) {
