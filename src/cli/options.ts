@@ -1,5 +1,6 @@
 import { InvalidArgumentError, Option, type Command } from 'commander';
 import type { OptionSpec } from '../option-spec.js';
+import { trackerOptionSpecs, type NumericOptionSpec } from '../track/options.js';
 import { finiteNumber, positiveNumber } from './parse.js';
 
 /** Add a stage's option specs to a command (one home per option: the stage's spec list). */
@@ -39,4 +40,11 @@ export function addArrayOptions(cmd: Command): Command {
     .option('--array <file.json>', 'geometry file of the array (3 to 8 mics, or a pair); presets in configs/arrays/')
     .option('--temperature <celsius>', 'air temperature; sets the speed of sound c = 331.3 sqrt(1 + T/273.15)', finiteNumber)
     .option('--speed-of-sound <m/s>', 'speed of sound directly (default 343 m/s)', finiteNumber);
+}
+
+/** The tracker's settable options as command-line specs (its own spec list is the home). */
+export function trackerCliSpecs(): OptionSpec[] {
+  return trackerOptionSpecs
+    .filter((s): s is NumericOptionSpec => s.kind === 'number' && s.flag !== null)
+    .map((s) => ({ key: s.key, flag: s.flag, help: s.unit ? `${s.help} [${s.unit}]` : s.help, defaultValue: s.default, parse: (raw: string) => s.parse(raw) }));
 }

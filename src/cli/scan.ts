@@ -8,17 +8,22 @@ import { stderrWarning } from '../io/stderr-warning.js';
 import { openWavSource } from '../io/wav-source.js';
 import { analysisOptionSpecs, type AnalysisOptions } from '../pipeline/analysis-options.js';
 import { createAnalysis, runAnalysis } from '../pipeline/analysis.js';
+import { eventColumns } from '../pipeline/event-columns.js';
 import { frameColumns } from '../pipeline/frame-columns.js';
-import { toFrameRecord } from '../pipeline/frame-record.js';
-import type { FrameRecord } from '../records.js';
-import { addArrayOptions, addSpecs, pickSpecs } from './options.js';
+import { loadProfile, profileSection } from '../pipeline/profile.js';
+import { TrackingSession } from '../pipeline/tracking-session.js';
+import type { EventRecord, FrameRecord } from '../records.js';
+import { formatSummaryTable } from '../track/summary-table.js';
+import type { TrackerOptions } from '../track/options.js';
+import { configsDir, resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
+import { addArrayOptions, addSpecs, pickSpecs, trackerCliSpecs } from './options.js';
 import { positiveInteger } from './parse.js';
 import { createProgress } from './progress.js';
-import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
 import { action } from './run-command.js';
 
 interface ScanFlags extends ArrayOptionValues {
   frames?: boolean;
+  summary?: boolean;
   format: string;
   out?: string;
   stdin?: boolean;
@@ -26,34 +31,67 @@ interface ScanFlags extends ArrayOptionValues {
   channels?: number;
   diagnostics?: boolean;
   viewerFields?: boolean;
+  profile?: string;
+}
+
+/** Options every analysing command shares (scan, listen, demo): array, profile, analysis, tracker. */
+export function addAnalysisOptions(cmd: Command): Command {
+  addArrayOptions(cmd);
+  cmd.option('--profile <name|file.json>', 'run profile: settings per stage (presets in configs/profiles/: frog-chorus, passing-birds, bench, station-low-cpu)');
+  addSpecs(cmd, analysisOptionSpecs);
+  addSpecs(cmd, trackerCliSpecs());
+  return cmd;
+}
+
+/** Analysis and tracker settings: the profile's, overridden by the flags given. */
+export function resolveStageSettings(raw: Record<string, unknown>, profileName: string | undefined): { analysis: AnalysisOptions; tracker: Partial<TrackerOptions> } {
+  const loaded = profileName ? loadProfile(profileName, `${configsDir()}profiles/`) : null;
+  const profile = loaded?.profile ?? null;
+  const where = loaded?.where ?? '';
+  const analysis = {
+    ...profileSection(profile, 'analysis', analysisOptionSpecs.map((s) => s.key), where),
+    ...pickSpecs<AnalysisOptions>(raw, analysisOptionSpecs),
+  } as AnalysisOptions;
+  const trackerSpecs = trackerCliSpecs();
+  const tracker = {
+    ...profileSection(profile, 'tracker', trackerSpecs.map((s) => s.key), where),
+    ...pickSpecs<Partial<TrackerOptions>>(raw, trackerSpecs),
+  } as Partial<TrackerOptions>;
+  for (const [k, v] of Object.entries(analysis)) {
+    if (k !== 'voting' && typeof v !== 'number') throw new UsageError(`${where}: "analysis.${k}" must be a number`);
+  }
+  return { analysis, tracker };
 }
 
 export function registerScan(program: Command): void {
   const cmd = program
     .command('scan')
-    .summary('find sound directions in a recording or a raw stream')
+    .summary('find sound directions and calls in a recording or a raw stream')
     .description(
-      'Find sound directions, hop by hop, in a WAV recording of any length (or raw s16le PCM on stdin).\n' +
-        'Output: frame records as JSON Lines (one per hop: time_s, azimuth_deg, elevation_deg, confidence, tdoa_s, level_dbfs).\n' +
-        'Until source tracking lands, the default output is frame records too; --frames asks for them explicitly.',
+      'Find sound directions in a WAV recording of any length (or raw s16le PCM on stdin), follow the\n' +
+        'sources over time and cut their calls into events.\n' +
+        'Default output: event records as JSON Lines, one per call (start_s, end_s, azimuth_deg, spread_deg,\n' +
+        'confidence, track). --frames gives one frame record per hop instead (time_s, azimuth_deg, elevation_deg,\n' +
+        'confidence, tdoa_s, level_dbfs, sources with their track ids).',
     )
-    .argument('[file]', 'WAV file (PCM 16/24/32-bit or float, 1 to 8 channels); omit with --stdin');
-  addArrayOptions(cmd);
+    .argument('[file]', 'WAV file (PCM 8/16/24/32-bit or float, 1 to 8 channels); omit with --stdin');
   cmd
-    .option('--frames', 'write one frame record per hop (interface.md)')
+    .option('--frames', 'write one frame record per hop instead of event records')
+    .option('--summary', 'print a table per track at the end (on stderr)')
     .option('--format <jsonl|csv>', 'output format', 'jsonl')
     .option('-o, --out <path>', 'write to a file instead of stdout (written aside, renamed when complete)')
     .option('--stdin', 'read raw interleaved s16le PCM from stdin (needs --rate and --channels)')
     .option('--rate <hz>', 'sample rate of the stdin stream', positiveInteger)
     .option('--channels <n>', 'channel count of the stdin stream', positiveInteger)
-    .option('--diagnostics', 'add per-pair diagnostics to frame records (tdoa, peak height, band agreement)')
-    .option('--viewer-fields', 'add per-channel levels and the band vote to frame records');
-  addSpecs(cmd, analysisOptionSpecs);
+    .option('--diagnostics', 'frame records: add per-pair diagnostics (tdoa, peak height, band agreement)')
+    .option('--viewer-fields', 'frame records: add per-channel levels and the band vote');
+  addAnalysisOptions(cmd);
   cmd.addHelpText(
     'after',
     '\nExamples:\n' +
-      '  bearline scan night.wav --spacing 0.2 > night.frames.jsonl\n' +
-      '  bearline scan pond.wav --array configs/arrays/square-10cm.json --format csv --out pond.csv\n' +
+      '  bearline scan night.wav --spacing 0.2 > night.events.jsonl\n' +
+      '  bearline scan pond.wav --array square-10cm --frames --format csv --out pond-frames.csv\n' +
+      '  bearline scan pond.wav --array my-array.json --profile frog-chorus --summary\n' +
       '  arecord -f S16_LE -r 48000 -c 2 -t raw | bearline scan --stdin --rate 48000 --channels 2 --spacing 0.2\n',
   );
   cmd.action(action(async (file: string | undefined, flags: ScanFlags) => scan(file, flags, cmd.opts())));
@@ -78,14 +116,14 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
   const format: RecordFormat = parseFormat(flags.format);
   const geometry = resolveArray(flags);
   const c = resolveSpeed(flags);
-  const analysisOpts = pickSpecs<AnalysisOptions>(raw, analysisOptionSpecs);
+  const stages = resolveStageSettings(raw, flags.profile);
   const source = await openSource(file, flags);
   try {
     const { sampleRate, channels, totalFrames } = source.format;
     const where = file ?? 'the stdin stream';
     if (channels < 2) throw new UsageError(`${where} has one channel: direction finding needs at least two (one per mic)`);
     checkGeometryForStream(geometry, channels, sampleRate, c, where);
-    const setup = createAnalysis(geometry, sampleRate, c, analysisOpts);
+    const setup = createAnalysis(geometry, sampleRate, c, stages.analysis);
     const settings = {
       headingDeg: geometry.headingDeg,
       mirror: setup.model.mirror,
@@ -93,10 +131,19 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
       diagnostics: !!flags.diagnostics,
       viewerFields: !!flags.viewerFields,
     };
-    const writer = RecordWriter.open<FrameRecord>(flags.out ?? null, format, frameColumns(setup.model.pairs, geometry.headingDeg !== null), file ? [file] : []);
+    const inputs = file ? [file] : [];
+    const withBearing = geometry.headingDeg !== null;
+    const frameWriter = flags.frames ? RecordWriter.open<FrameRecord>(flags.out ?? null, format, frameColumns(setup.model.pairs, withBearing), inputs) : null;
+    const eventWriter = flags.frames ? null : RecordWriter.open<EventRecord>(flags.out ?? null, format, eventColumns(withBearing), inputs);
+    const writer = frameWriter ?? eventWriter!;
+    const session = new TrackingSession(settings, stages.tracker, {
+      onFrame: frameWriter ? (rec) => frameWriter.write(rec) : undefined,
+      onEvent: eventWriter ? (rec) => eventWriter.write(rec) : undefined,
+    });
     const progress = createProgress(`scanning ${file ?? 'stdin'}`, totalFrames, sampleRate);
     try {
-      const hops = await runAnalysis(source, setup.analyzer, (r) => writer.write(toFrameRecord(r, settings)), (done) => progress.update(done));
+      const hops = await runAnalysis(source, setup.analyzer, (r) => session.hop(r), (done) => progress.update(done));
+      await session.finish();
       progress.finish();
       if (hops === 0) stderrWarning(`${where} is shorter than one analysis frame (${setup.options.frame} samples): no records`);
       await writer.close();
@@ -106,6 +153,7 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
       if (partial) stderrWarning(`stopped early; the records written so far are in ${partial}`);
       throw err;
     }
+    if (flags.summary) process.stderr.write(formatSummaryTable(session.summary()) + '\n');
   } finally {
     await source.close();
   }

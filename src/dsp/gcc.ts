@@ -15,6 +15,8 @@ export class PairCorrelator {
   readonly accIm: Float64Array;
   /** Correlation over integer lags from the inverse FFT (index lag mod N). */
   readonly gcc: Float64Array;
+  private readonly scaledRe: Float64Array;
+  private readonly scaledIm: Float64Array;
 
   constructor(
     readonly n: number,
@@ -24,6 +26,8 @@ export class PairCorrelator {
     this.accRe = new Float64Array(bins);
     this.accIm = new Float64Array(bins);
     this.gcc = new Float64Array(n);
+    this.scaledRe = new Float64Array(bins);
+    this.scaledIm = new Float64Array(bins);
   }
 
   /** Add this hop's PHAT-weighted cross-spectrum into the memory. */
@@ -63,6 +67,23 @@ export class PairCorrelator {
   /** Inverse FFT of the accumulated cross-spectrum into `gcc` (bins outside [first, end) are zero). */
   correlate(fft: RealFft): void {
     fft.inverse(this.accRe, this.accIm, this.gcc);
+  }
+
+  /**
+   * Inverse FFT of the cross-spectrum with each band scaled by `bandScale[b]` (e.g. 1 / the
+   * band's total weight, so that every band has the same say whatever its width).
+   */
+  correlateBands(fft: RealFft, bands: BandLayout, bandScale: Float64Array): void {
+    const sr = this.scaledRe;
+    const si = this.scaledIm;
+    for (let b = 0; b < bands.count; b++) {
+      const g = bandScale[b]!;
+      for (let k = bands.start[b]!, e = bands.end[b]!; k < e; k++) {
+        sr[k] = this.accRe[k]! * g;
+        si[k] = this.accIm[k]! * g;
+      }
+    }
+    fft.inverse(sr, si, this.gcc);
   }
 
   /** Correlation at an integer lag (may be negative). */

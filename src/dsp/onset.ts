@@ -1,8 +1,15 @@
 /**
- * Onset weighting (the precedence idea: the direct path arrives first, reflections later).
- * Per frequency bin, the power of the current hop is compared with a slow average of the
- * hops before it. A sharp rise gets full weight 1; steady or decaying sound gets the floor
- * weight. Pure state machine: one call per hop, no allocation.
+ * Per-bin weights for the cross-spectrum memory, from each bin's power over time:
+ *
+ * - Onset weighting (the precedence idea: the direct path arrives first, reflections later).
+ *   The power of the current hop is compared with a short average of the hops before it. A
+ *   sharp rise gets full weight; steady or decaying sound gets the floor weight.
+ * - Presence: a bin at its noise floor carries no direction (PHAT would give it as much say
+ *   as a loud bin), so each bin's weight is scaled by how far its lightly smoothed power stands
+ *   above a slowly rising minimum of that power, scaled up to the mean of noise (minimum
+ *   tracking with a bias factor; common practice in noise estimation, no source).
+ *
+ * Pure state machine: one call per hop, no allocation.
  */
 export interface OnsetSettings {
   /** Weight of steady sound, in [0, 1]; 1 switches onset weighting off. */
@@ -11,19 +18,33 @@ export interface OnsetSettings {
   readonly fullRise: number;
   /** Smoothing factor per hop of the background power average, in [0, 1). */
   readonly backgroundDecay: number;
+  /** Growth factor per hop of the noise floor when the power stays above it (>= 1); 0 disables presence. */
+  readonly floorRise: number;
+  /** Power over the noise floor that counts as fully present (ratio). */
+  readonly fullPresence: number;
 }
+
+/** Smoothing of the power that presence looks at (per hop), and the minimum's bias factor. */
+const SMOOTH = 0.5;
+const NOISE_BIAS = 2.5;
 
 export class OnsetWeigher {
   private readonly background: Float64Array;
+  private readonly noise: Float64Array;
+  private readonly smooth: Float64Array;
   private primed = false;
   private readonly invRise: number;
+  private readonly invPresence: number;
 
   constructor(
     bins: number,
     private readonly settings: OnsetSettings,
   ) {
     this.background = new Float64Array(bins);
+    this.noise = new Float64Array(bins);
+    this.smooth = new Float64Array(bins);
     this.invRise = 1 / (Math.max(1.0001, settings.fullRise) - 1);
+    this.invPresence = 1 / (Math.max(1.0001, settings.fullPresence) - 1);
   }
 
   /**
@@ -32,13 +53,16 @@ export class OnsetWeigher {
    */
   update(power: Float64Array, first: number, end: number, weights: Float64Array): number {
     const bg = this.background;
-    const { floor, backgroundDecay: d } = this.settings;
-    let rising = 0;
-    let total = 0;
+    const nf = this.noise;
+    const sm = this.smooth;
+    const { floor, backgroundDecay: d, floorRise } = this.settings;
+    const presenceOn = floorRise >= 1;
     if (!this.primed) {
       for (let k = first; k < end; k++) {
         bg[k] = power[k]!;
-        weights[k] = 1;
+        nf[k] = power[k]!;
+        sm[k] = power[k]!;
+        weights[k] = presenceOn ? 0 : 1;
       }
       this.primed = true;
       return 0;
@@ -46,13 +70,25 @@ export class OnsetWeigher {
     let tiny = 0;
     for (let k = first; k < end; k++) tiny += bg[k]!;
     tiny = (tiny / Math.max(1, end - first)) * 1e-6 + 1e-30;
+    let rising = 0;
+    let total = 0;
     for (let k = first; k < end; k++) {
       const p = power[k]!;
       const ratio = p / (bg[k]! + tiny);
       // Linear in the power ratio between no rise (1) and full rise (fullRise).
       let rise = ratio > 1 ? (ratio - 1) * this.invRise : 0;
       if (rise > 1) rise = 1;
-      weights[k] = floor + (1 - floor) * rise;
+      let w = floor + (1 - floor) * rise;
+      if (presenceOn) {
+        const s = (sm[k] = SMOOTH * sm[k]! + (1 - SMOOTH) * p);
+        const n = nf[k]!;
+        const snr = s / (NOISE_BIAS * n + tiny);
+        let presence = snr > 1 ? (snr - 1) * this.invPresence : 0;
+        if (presence > 1) presence = 1;
+        w *= presence;
+        nf[k] = s < n ? s : n * floorRise;
+      }
+      weights[k] = w;
       rising += rise * p;
       total += p;
       bg[k] = d * bg[k]! + (1 - d) * p;

@@ -18,6 +18,8 @@ export interface AnalysisOptions {
   memoryS?: number;
   /** Time constant (s) of the background power that onsets are measured against. */
   backgroundS?: number;
+  /** How fast (dB/s) each bin's noise floor may rise; bins near their floor count little. 0 = off. */
+  floorRiseDbS?: number;
   /** Hops quieter than this (dBFS) give no direction. */
   silenceDbfs?: number;
   /** Directions with a lower confidence are reported as null. */
@@ -39,6 +41,7 @@ export const ANALYSIS_DEFAULTS = {
   onsetWeight: 0.9,
   memoryS: 0.1,
   backgroundS: 0.02,
+  floorRiseDbS: 1,
   silenceDbfs: -65,
   minConfidence: 0.3,
   maxSources: 3,
@@ -67,6 +70,7 @@ export const analysisOptionSpecs: readonly OptionSpec[] = [
   { key: 'onsetWeight', flag: '--onset-weight <0..1>', help: 'how much more sharp onsets count than steady sound (0 = off)', defaultValue: ANALYSIS_DEFAULTS.onsetWeight, parse: num },
   { key: 'memoryS', flag: '--memory <s>', help: 'time constant of the evidence memory (0 = each hop alone)', defaultValue: ANALYSIS_DEFAULTS.memoryS, parse: num },
   { key: 'backgroundS', flag: '--background <s>', help: 'time constant of the background level onsets are measured against', defaultValue: ANALYSIS_DEFAULTS.backgroundS, parse: num },
+  { key: 'floorRiseDbS', flag: '--floor-rise <dB/s>', help: 'how fast the per-band noise floor may rise; sound near its floor counts little (0 = off)', defaultValue: ANALYSIS_DEFAULTS.floorRiseDbS, parse: num },
   { key: 'silenceDbfs', flag: '--silence <dbfs>', help: 'hops quieter than this give no direction', defaultValue: ANALYSIS_DEFAULTS.silenceDbfs, parse: num },
   { key: 'minConfidence', flag: '--min-confidence <0..1>', help: 'directions less confident than this are reported as null', defaultValue: ANALYSIS_DEFAULTS.minConfidence, parse: num },
   { key: 'maxSources', flag: '--max-sources <n>', help: 'most simultaneous sources per hop (1 to 8)', defaultValue: ANALYSIS_DEFAULTS.maxSources, parse: num },
@@ -95,6 +99,7 @@ export function resolveAnalysisOptions(opts: AnalysisOptions, sampleRate: number
   check(r.onsetWeight >= 0 && r.onsetWeight <= 1, '--onset-weight', `${r.onsetWeight} must be between 0 and 1`);
   check(r.memoryS >= 0 && r.memoryS <= 10, '--memory', `${r.memoryS} s must be between 0 and 10 s`);
   check(r.backgroundS > 0 && r.backgroundS <= 60, '--background', `${r.backgroundS} s must be above 0 and at most 60 s`);
+  check(r.floorRiseDbS >= 0 && r.floorRiseDbS <= 100, '--floor-rise', `${r.floorRiseDbS} dB/s must be between 0 and 100`);
   check(r.silenceDbfs <= 0 && r.silenceDbfs >= -200, '--silence', `${r.silenceDbfs} dBFS must be between -200 and 0`);
   check(r.minConfidence >= 0 && r.minConfidence <= 1, '--min-confidence', `${r.minConfidence} must be between 0 and 1`);
   check(Number.isInteger(r.maxSources) && r.maxSources >= 1 && r.maxSources <= 8, '--max-sources', `${r.maxSources} must be a whole number from 1 to 8`);

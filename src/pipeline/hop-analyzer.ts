@@ -12,6 +12,8 @@ const MAX_CANDIDATES = 4;
 const MIN_BAND_SCORE = 0.2;
 /** Margin over the runner-up that earns a band a full vote. */
 const FULL_VOTE_MARGIN = 0.1;
+/** Candidates whose pair lags all differ by less than this (samples) are one peak. */
+const SAME_PEAK_LAGS = 1.5;
 /** A further source must gather this share of the winner's votes. */
 const SOURCE_VOTE_RATIO = 0.35;
 
@@ -66,6 +68,7 @@ export class HopAnalyzer {
   private readonly weights: Float64Array;
   private readonly weightAcc: Float64Array;
   private readonly bandWeight: Float64Array;
+  private readonly bandScale: Float64Array;
   private readonly onset: OnsetWeigher;
   private readonly correlators: PairCorrelator[];
   private readonly memory: number;
@@ -100,12 +103,15 @@ export class HopAnalyzer {
     this.weightAcc = new Float64Array(bins);
     this.bands = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
     this.bandWeight = new Float64Array(options.bands);
+    this.bandScale = new Float64Array(options.bands);
     const hopS = options.hop / sampleRate;
     this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
     this.onset = new OnsetWeigher(bins, {
       floor: 1 - options.onsetWeight,
       fullRise: 4,
       backgroundDecay: Math.exp(-hopS / options.backgroundS),
+      floorRise: options.floorRiseDbS > 0 ? 10 ** ((options.floorRiseDbS * hopS) / 10) : 0,
+      fullPresence: 4,
     });
     const P = model.pairs.length;
     this.correlators = model.pairs.map((_, p) => new PairCorrelator(n, model.maxLag[p]!));
@@ -175,6 +181,7 @@ export class HopAnalyzer {
       let s = 0;
       for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) s += this.weightAcc[k]!;
       this.bandWeight[b] = s;
+      this.bandScale[b] = 1 / Math.max(1e-12, s);
     }
 
     // Pair cross-spectra and correlations.
@@ -184,17 +191,49 @@ export class HopAnalyzer {
       const [a, b] = pairs[p]!;
       const pc = this.correlators[p]!;
       pc.accumulate(this.re[a]!, this.im[a]!, this.re[b]!, this.im[b]!, this.weights, k0, k1, mem);
-      pc.correlate(this.fft);
+      // With voting, every band has the same say in the candidates (the sum of the band
+      // scores); without, the plain GCC-PHAT over all bins.
+      if (this.options.voting) pc.correlateBands(this.fft, this.bands, this.bandScale);
+      else pc.correlate(this.fft);
     }
 
     this.vote(res, P);
     return res;
   }
 
+  /**
+   * Drop candidates whose lags all lie within a sample of a better one's (two grid maxima on
+   * one peak would split its band votes). Returns the count kept, compacted in order.
+   */
+  private dedupe(count: number, P: number): number {
+    const lags = this.candLags;
+    let kept = 0;
+    for (let c = 0; c < count; c++) {
+      let dup = false;
+      for (let d = 0; d < kept && !dup; d++) {
+        let far = false;
+        for (let p = 0; p < P; p++) {
+          if (Math.abs(lags[c * P + p]! - lags[d * P + p]!) >= SAME_PEAK_LAGS) {
+            far = true;
+            break;
+          }
+        }
+        dup = !far;
+      }
+      if (dup) continue;
+      if (kept !== c) {
+        for (let p = 0; p < P; p++) lags[kept * P + p] = lags[c * P + p]!;
+        this.candScores[kept] = this.candScores[c]!;
+      }
+      kept++;
+    }
+    return kept;
+  }
+
   private vote(res: HopResult, P: number): void {
     const opts = this.options;
     const B = this.bands.count;
-    const K = this.model.findCandidates(this.correlators, MAX_CANDIDATES, this.candLags, this.candScores);
+    const K = this.dedupe(this.model.findCandidates(this.correlators, MAX_CANDIDATES, this.candLags, this.candScores), P);
     res.sourceCount = 0;
     res.valid = false;
     res.confidence = 0;

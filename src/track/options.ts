@@ -159,7 +159,7 @@ export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
     'cap on the direction uncertainty (1 sigma) of a track coasting through silence'),
   numberSpec('gateSigma', '--gate <sigma>', 'sigma', 3.5, { min: 1, max: 10 },
     'a candidate may join a track only within this many standard deviations of its prediction'),
-  numberSpec('minConfidence', '--min-confidence <c>', '', 0.2, { min: 0, max: 1 },
+  numberSpec('minConfidence', '--track-confidence <c>', '', 0.2, { min: 0, max: 1 },
     'a candidate feeds a track only when hop confidence x its score reaches this'),
   numberSpec('birthConfidence', '--birth-confidence <c>', '', 0.4, { min: 0, max: 1 },
     'lowest hop confidence x candidate score that may start a new track'),

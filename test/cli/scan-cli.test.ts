@@ -32,7 +32,7 @@ describe('bearline scan: frame records (interface.md fields)', () => {
 
   it('CSV and --out: written aside and renamed into place', () => {
     const out = `${tmp.dir}/frames.csv`;
-    const r = runCli(['scan', pair, '--spacing', '0.2', '--format', 'csv', '--out', out]);
+    const r = runCli(['scan', pair, '--spacing', '0.2', '--frames', '--format', 'csv', '--out', out]);
     expect(r.status).toBe(0);
     expect(r.stdout).toBe('');
     const lines = readFileSync(out, 'utf8').trim().split('\n');
@@ -43,7 +43,7 @@ describe('bearline scan: frame records (interface.md fields)', () => {
 
   it('reads raw s16le from stdin (--stdin --rate --channels)', () => {
     const raw = sox([pair, '-t', 'raw', '-e', 'signed-integer', '-b', '16', '-L', '-']);
-    const r = runCli(['scan', '--stdin', '--rate', '48000', '--channels', '2', '--spacing', '0.2'], { input: raw });
+    const r = runCli(['scan', '--stdin', '--rate', '48000', '--channels', '2', '--spacing', '0.2', '--frames'], { input: raw });
     expect(r.status).toBe(0);
     const recs = r.stdout.trim().split('\n').map((l) => JSON.parse(l));
     expect(recs.length).toBeGreaterThan(150);
@@ -52,7 +52,7 @@ describe('bearline scan: frame records (interface.md fields)', () => {
 
   it('--temperature changes c as the handbook formula says', () => {
     // c(30 C) = 349.0 m/s (CRC handbook, references.md): azimuth = -asin(c tdoa / D)
-    const r = runCli(['scan', pair, '--spacing', '0.2', '--temperature', '30']);
+    const r = runCli(['scan', pair, '--spacing', '0.2', '--frames', '--temperature', '30']);
     const recs = r.stdout.trim().split('\n').map((l) => JSON.parse(l)).filter((x) => x.azimuth_deg !== null);
     const med = recs.map((x) => x.azimuth_deg).sort((a: number, b: number) => a - b)[recs.length >> 1];
     expect(med).toBeCloseTo(pairAzimuthDeg(100 / 480000, 0.2, 331.3 * Math.sqrt(1 + 30 / 273.15)), 1);
@@ -99,7 +99,7 @@ describe('bearline scan: damaged files are analysed up to where they end', () =>
   it('truncated data chunk: warning, records up to the cut, exit 0', () => {
     const buf = readFileSync(pair);
     writeFileSync(`${tmp.dir}/cut.wav`, buf.subarray(0, 44 + 48000 * 4)); // 1 s of 2 s
-    const r = runCli(['scan', `${tmp.dir}/cut.wav`, '--spacing', '0.2']);
+    const r = runCli(['scan', `${tmp.dir}/cut.wav`, '--spacing', '0.2', '--frames']);
     expect(r.status).toBe(0);
     expect(r.stderr).toMatch(/truncated/);
     const recs = r.stdout.trim().split('\n').map((l) => JSON.parse(l));
@@ -111,7 +111,7 @@ describe('bearline scan: damaged files are analysed up to where they end', () =>
     b.writeUInt32LE(b.readUInt32LE(4) * 3, 4);
     b.writeUInt32LE(b.readUInt32LE(40) * 3, 40);
     writeFileSync(`${tmp.dir}/liar.wav`, b);
-    const r = runCli(['scan', `${tmp.dir}/liar.wav`, '--spacing', '0.2']);
+    const r = runCli(['scan', `${tmp.dir}/liar.wav`, '--spacing', '0.2', '--frames']);
     expect(r.status).toBe(0);
     expect(r.stderr).toMatch(/truncated|header/);
     expect(r.stdout.trim().split('\n').length).toBeGreaterThan(150);

@@ -89,3 +89,16 @@ export function farFieldDelaysUp(positions: readonly (readonly number[])[], u: r
   const t0 = Math.min(...t);
   return t.map((x) => Math.round((x - t0) * upRate));
 }
+
+/** Independent noise per channel (mic self-noise): disjoint stretches of one sox noise. */
+export function soxIndependentNoise(out: string, channels: number, durationS: number, gainDb: number, workDir: string, rate = 48000): string {
+  const long = join(workDir, `noise-${process.pid}-${Math.random().toString(36).slice(2)}.wav`);
+  sox(['-R', '-n', '-r', String(rate), '-c', '1', '-b', '24', long, 'synth', String(channels * durationS), 'whitenoise', 'gain', String(gainDb)]);
+  const parts = Array.from({ length: channels }, (_, c) => {
+    const p = `${long}.ch${c}.wav`;
+    sox([long, p, 'trim', String(c * durationS), String(durationS)]);
+    return p;
+  });
+  sox(['-M', ...parts, '-b', '24', out]);
+  return out;
+}
