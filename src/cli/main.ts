@@ -1,6 +1,7 @@
 #!/usr/bin/env node
 import { Command, CommanderError } from 'commander';
 import { failAndExit } from './run-command.js';
+import { registerLocate } from './locate.js';
 import { registerScan } from './scan.js';
 
 const program = new Command();
@@ -12,6 +13,7 @@ program
   .exitOverride();
 
 registerScan(program);
+registerLocate(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof CommanderError) {
