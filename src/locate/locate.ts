@@ -67,9 +67,12 @@ function bearingLine(placed: PlacedStations, st: PlacedStation, ev: StationEvent
 /** Locate one matched group of events (one event per station). */
 export function locateGroup(placed: PlacedStations, group: readonly StationEvent[], options: LocateOptions, timeZeroS = 0): LocatedCall {
   const byId = stationById(placed);
+  const order = new Map(placed.stations.map((st, i) => [st.id, i]));
+  // Station-file order, so that output lists are stable.
+  const sorted = [...group].sort((a, b) => (order.get(a.station) ?? 0) - (order.get(b.station) ?? 0));
   const lines: BearingLine[] = [];
   const arrivals: Arrival[] = [];
-  for (const ev of group) {
+  for (const ev of sorted) {
     const st = byId.get(ev.station);
     if (st === undefined) throw new UsageError(`${ev.origin}: station '${ev.station}' is not in the station file`);
     lines.push(bearingLine(placed, st, ev, options));
@@ -85,10 +88,10 @@ export function locateGroup(placed: PlacedStations, group: readonly StationEvent
     outlierSigma: options.outlierSigma,
   });
   const absolute = group.every((e) => e.absolute);
-  if (!fix.ok) return { fix, timeS: null, utc: null, position: null, ellipse: null, events: [...group] };
+  if (!fix.ok) return { fix, timeS: null, utc: null, position: null, ellipse: null, events: sorted };
   let emission = fix.emissionS;
   if (emission === null) {
-    const used = group.filter((e) => fix.used.includes(e.station));
+    const used = sorted.filter((e) => fix.used.includes(e.station));
     emission =
       used.reduce((acc, e) => {
         const at = byId.get(e.station)!.enu;
@@ -107,7 +110,7 @@ export function locateGroup(placed: PlacedStations, group: readonly StationEvent
     utc: absolute ? formatUtc(emission) : null,
     position,
     ellipse: errorEllipse(fix.cov, options.ellipseLevel),
-    events: [...group],
+    events: sorted,
   };
 }
 
