@@ -165,7 +165,10 @@ Examples:
         const fixed = result.calls.filter((c) => c.fix.ok).length;
         const refused = result.calls.length - fixed;
         const why = new Map<string, number>();
-        for (const c of result.calls) if (!c.fix.ok) for (const f of c.fix.flags) why.set(f, (why.get(f) ?? 0) + 1);
+        for (const c of result.calls) {
+          // The first flag of a refused call says why it was refused.
+          if (!c.fix.ok) why.set(c.fix.flags[0]!, (why.get(c.fix.flags[0]!) ?? 0) + 1);
+        }
         const whyText = [...why].map(([f, n]) => `${n} ${f}`).join(', ');
         process.stderr.write(
           `bearline locate: ${fixed} fixes from ${result.calls.length} matched calls` +

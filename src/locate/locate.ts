@@ -147,6 +147,11 @@ export function locateEventLists(
     slackS: options.matchSlackS,
     distanceM: (a, b) => stationDistanceM(byId.get(a)!, byId.get(b)!),
     clockUncertaintyS: (id) => clockUncertainty(byId.get(id)!, options),
+    at: (id) => [byId.get(id)!.enu[0], byId.get(id)!.enu[1]],
+    direction: (ev) => bearingLine(placed, byId.get(ev.station)!, ev, options).dir,
+    bearingSdRad: (id) => (byId.get(id)!.bearingSdDeg ?? options.bearingSdDeg) * DEG,
+    onsetSdS: options.onsetSdS,
+    minCrossingDeg: options.minCrossingDeg,
   });
   const calls = groups.map((g) => locateGroup(placed, g, options, timeZeroS));
   return { stations: placed, calls, unmatched, absolute, timeZeroS };

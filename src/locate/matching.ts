@@ -5,8 +5,12 @@
  *     distance(i, j) / c + clock uncertainty(i) + clock uncertainty(j) + slack
  * (sound cannot take longer than the straight path between the stations to reach the second
  * one after the first), and, when both carry band_hz, their bands overlap.
- * Greedy in time order: the earliest unassigned event seeds a group; the compatible event
- * closest in time from each other station joins it (compatible with every member so far).
+ * Greedy in time order: the earliest unassigned event seeds a group; candidates from the
+ * other stations that fit the window of every member are ranked by how well they agree with
+ * the group as one source: the point where the bearing lines meet predicts when the call
+ * reached the candidate (emission + range / c), and with three or more lines also where the
+ * candidate's bearing should point. The best candidate joins, one station at a time; a
+ * candidate whose bearing line meets the group's behind a station is not the same call.
  * A group of two or more stations is a call. Pure: events in, groups out.
  */
 import type { StationEvent } from './events.js';
@@ -18,6 +22,16 @@ export interface MatchSettings {
   distanceM: (a: string, b: string) => number;
   /** Residual clock uncertainty of a station, seconds. */
   clockUncertaintyS: (station: string) => number;
+  /** Station position (east, north) on the plane, metres. */
+  at: (station: string) => readonly [number, number];
+  /** Unit direction (east, north) of an event's bearing on the plane. */
+  direction: (event: StationEvent) => readonly [number, number];
+  /** One-sigma bearing uncertainty of a station, radians. */
+  bearingSdRad: (station: string) => number;
+  /** One-sigma onset-time uncertainty, seconds. */
+  onsetSdS: number;
+  /** Lines crossing at less than this (degrees) give no usable meeting point. */
+  minCrossingDeg: number;
 }
 
 export interface MatchResult {
@@ -43,7 +57,85 @@ function lowerBound(list: readonly StationEvent[], t: number): number {
   return lo;
 }
 
+/** Where the group's bearing lines meet (unweighted least squares), or null if they are nearly parallel. */
+function meetingPoint(group: readonly StationEvent[], s: MatchSettings): [number, number] | null {
+  let a = 0;
+  let b = 0;
+  let d = 0;
+  let r0 = 0;
+  let r1 = 0;
+  let widest = 0;
+  const dirs = group.map((e) => s.direction(e));
+  group.forEach((e, i) => {
+    const [ux, uy] = dirs[i]!;
+    const [px, py] = s.at(e.station);
+    const nx = uy;
+    const ny = -ux;
+    const c = nx * px + ny * py;
+    a += nx * nx;
+    b += nx * ny;
+    d += ny * ny;
+    r0 += nx * c;
+    r1 += ny * c;
+    for (let j = 0; j < i; j++) {
+      const dot = Math.abs(ux * dirs[j]![0] + uy * dirs[j]![1]);
+      widest = Math.max(widest, (Math.acos(Math.min(1, dot)) * 180) / Math.PI);
+    }
+  });
+  if (widest < s.minCrossingDeg) return null;
+  const det = a * d - b * b;
+  return [(d * r0 - b * r1) / det, (a * r1 - b * r0) / det];
+}
+
+/**
+ * How badly a candidate disagrees with the group as one source (a sum of squared sigmas),
+ * or null when it cannot be the same call (the lines would meet behind a station).
+ */
+function disagreement(group: readonly StationEvent[], cand: StationEvent, s: MatchSettings, windowS: number): number | null {
+  const withCand = [...group, cand];
+  const x = meetingPoint(group.length >= 2 ? group : withCand, s);
+  if (x === null) {
+    // No usable geometry: closeness in time to the seed, the window's edge counting as 3 sigma.
+    return 9 * ((cand.timeS - group[0]!.timeS) / windowS) ** 2;
+  }
+  const range = (e: StationEvent): number => Math.hypot(x[0] - s.at(e.station)[0], x[1] - s.at(e.station)[1]);
+  const xFull = group.length >= 2 ? meetingPoint(withCand, s) ?? x : x;
+  for (const e of withCand) {
+    const [ux, uy] = s.direction(e);
+    const [px, py] = s.at(e.station);
+    if (ux * (xFull[0] - px) + uy * (xFull[1] - py) <= 0) return null;
+  }
+  // Emission time from the group, predicted arrival at the candidate's station.
+  const emission = group.reduce((acc, e) => acc + e.timeS - range(e) / s.speedOfSound, 0) / group.length;
+  // The meeting point is itself uncertain by about range x bearing sigma across each line;
+  // that shifts the predicted arrival by up to that distance over c.
+  const geometryM = Math.max(1, ...withCand.map((e) => range(e) * s.bearingSdRad(e.station)));
+  const sdT = Math.hypot(s.onsetSdS, s.clockUncertaintyS(cand.station), s.clockUncertaintyS(group[0]!.station), geometryM / s.speedOfSound);
+  let score = ((cand.timeS - (emission + range(cand) / s.speedOfSound)) / sdT) ** 2;
+  if (group.length >= 2) {
+    const [ux, uy] = s.direction(cand);
+    const [px, py] = s.at(cand.station);
+    const miss = uy * (x[0] - px) - ux * (x[1] - py);
+    const sdM = Math.max(1, range(cand) * s.bearingSdRad(cand.station));
+    score += (miss / sdM) ** 2;
+  }
+  return score;
+}
+
 export function matchEvents(events: readonly StationEvent[], s: MatchSettings): MatchResult {
+  // Each event's direction is asked for many times: work it out once.
+  const dirs = new Map<StationEvent, readonly [number, number]>();
+  const settings: MatchSettings = {
+    ...s,
+    direction: (e) => {
+      let d = dirs.get(e);
+      if (d === undefined) {
+        d = s.direction(e);
+        dirs.set(e, d);
+      }
+      return d;
+    },
+  };
   const byStation = new Map<string, StationEvent[]>();
   for (const e of events) {
     const list = byStation.get(e.station) ?? [];
@@ -64,17 +156,40 @@ export function matchEvents(events: readonly StationEvent[], s: MatchSettings): 
   for (const seed of all) {
     if (used.has(seed)) continue;
     const group: StationEvent[] = [seed];
-    const fits = (e: StationEvent): boolean =>
-      !used.has(e) && group.every((g) => Math.abs(e.timeS - g.timeS) <= windowS(g.station, e.station) && bandsOverlap(g, e));
-    for (;;) {
-      let best: StationEvent | null = null;
+    const fitsGroup = (g: readonly StationEvent[], e: StationEvent): boolean =>
+      !used.has(e) && g.every((m) => Math.abs(e.timeS - m.timeS) <= windowS(m.station, e.station) && bandsOverlap(m, e));
+    const candidates = (g: readonly StationEvent[]): StationEvent[] => {
+      const out: StationEvent[] = [];
       for (const id of ids) {
-        if (group.some((g) => g.station === id)) continue;
+        if (g.some((m) => m.station === id)) continue;
         const list = byStation.get(id)!;
         for (let k = lowerBound(list, seed.timeS - widest); k < list.length && list[k]!.timeS <= seed.timeS + widest; k++) {
-          const e = list[k]!;
-          if (!fits(e)) continue;
-          if (best === null || Math.abs(e.timeS - seed.timeS) < Math.abs(best.timeS - seed.timeS)) best = e;
+          if (fitsGroup(g, list[k]!)) out.push(list[k]!);
+        }
+      }
+      return out;
+    };
+    const score = (g: readonly StationEvent[], e: StationEvent): number | null => disagreement(g, e, settings, windowS(seed.station, e.station));
+    for (;;) {
+      let best: StationEvent | null = null;
+      let bestScore = Infinity;
+      for (const e of candidates(group)) {
+        let sc = score(group, e);
+        if (sc === null) continue;
+        // A pair alone is barely checked (two lines always meet): look one station ahead and
+        // add the best third line's disagreement, which tests the bearings against each other.
+        if (group.length === 1) {
+          const pair = [...group, e];
+          let ahead = Infinity;
+          for (const f of candidates(pair)) {
+            const sf = score(pair, f);
+            if (sf !== null && sf < ahead) ahead = sf;
+          }
+          if (Number.isFinite(ahead)) sc += ahead;
+        }
+        if (sc < bestScore) {
+          best = e;
+          bestScore = sc;
         }
       }
       if (best === null) break;

@@ -123,6 +123,40 @@ describe('event matching across stations', () => {
   });
 });
 
+describe('matching overlapping calls by geometry', () => {
+  // Two frogs call 40 ms apart from opposite ends of a pond; each reaches some stations
+  // first, so closeness in time alone pairs them wrongly. Arrival = emission + range / c
+  // (straight-line propagation, common practice, no source).
+  const st = [
+    { id: 'n', east_m: 0, north_m: 300 },
+    { id: 's', east_m: 0, north_m: -300 },
+    { id: 'e', east_m: 400, north_m: 0 },
+    { id: 'w', east_m: -400, north_m: 0 },
+  ];
+  const frogs = [
+    { t: 20.0, pos: [-330, 250] as [number, number] },
+    { t: 20.04, pos: [330, -250] as [number, number] },
+  ];
+  const lists = Object.fromEntries(
+    st.map((s) => [
+      s.id,
+      frogs.map((f) => ev(f.t + Math.hypot(f.pos[0] - s.east_m, f.pos[1] - s.north_m) / C, bearingTo([s.east_m, s.north_m], f.pos))),
+    ]),
+  );
+
+  it.each([true, false])('each group holds one frog\'s events (clock_synced %s)', (synced) => {
+    const result = locateEventLists(placed({ stations: st.map((s) => ({ ...s, clock_synced: synced })) }), lists);
+    expect(result.calls).toHaveLength(2);
+    for (const call of result.calls) {
+      expect(call.events).toHaveLength(4);
+      const frog = frogs.find((f) => Math.hypot(call.fix.east - f.pos[0], call.fix.north - f.pos[1]) < 0.5);
+      expect(frog).toBeDefined();
+      expect(call.fix.flags).not.toContain('inconsistent');
+      expect(call.fix.dropped).toEqual([]);
+    }
+  });
+});
+
 describe('synchronised clocks, UTC and output', () => {
   const origin = { lat_deg: 52.37, lon_deg: 4.89, alt_m: 0 };
   const st = [
