@@ -229,3 +229,16 @@ describe('synchronised clocks, UTC and output', () => {
     }
   });
 });
+
+describe('the shipped example station file', () => {
+  it('parses and places its stations where its numbers say', async () => {
+    const { readFileSync } = await import('node:fs');
+    const json: unknown = JSON.parse(readFileSync(new URL('../../configs/stations-marsh-example.json', import.meta.url), 'utf8'));
+    const p = placed(json);
+    expect(p.stations.map((s) => s.id)).toEqual(['reed-north', 'reed-south', 'dyke', 'willow']);
+    // 0.0036 degrees of latitude at 52 N is about 400 m (111.25 km per degree there, from memory).
+    expect(p.stations[0]!.enu[1]).toBeGreaterThan(395);
+    expect(p.stations[0]!.enu[1]).toBeLessThan(405);
+    expect(p.stations[2]!.enu[0]).toBe(500);
+  });
+});
