@@ -61,9 +61,8 @@ export interface StationResidual {
   dir: readonly [number, number];
 }
 
-export interface FixSolution {
-  /** False when the observations give no trustworthy point (see flags). */
-  ok: boolean;
+/** What one least-squares solve gives. */
+interface SolvedCore {
   east: number;
   north: number;
   /** Up coordinate assumed for the source: mean of the used stations' up. */
@@ -72,15 +71,20 @@ export interface FixSolution {
   /** Emission time (common clock) and its sigma, when arrival times were used. */
   emissionS: number | null;
   emissionSdS: number | null;
+  chi2: number;
+  dof: number;
+  residuals: StationResidual[];
+}
+
+export interface FixSolution extends SolvedCore {
+  /** False when the observations give no trustworthy point (see flags). */
+  ok: boolean;
   used: string[];
   dropped: string[];
   /** Root mean square perpendicular miss of the used bearing lines, metres. */
   residualM: number;
-  chi2: number;
-  dof: number;
   /** Largest crossing angle between the used bearing lines, degrees (0..90). */
   crossingDeg: number;
-  residuals: StationResidual[];
   flags: FixFlag[];
 }
 
@@ -88,8 +92,14 @@ const DEG = Math.PI / 180;
 const MIN_SIGMA_M = 1e-3;
 const MAX_ITERATIONS = 50;
 
+/** A line on the plane: a point and a unit direction (east, north). */
+export interface PlaneLine {
+  at: readonly [number, number] | readonly [number, number, number];
+  dir: readonly [number, number];
+}
+
 /** Largest crossing angle (degrees, 0..90) between any two of the lines. */
-export function largestCrossingDeg(lines: readonly BearingLine[]): number {
+export function largestCrossingDeg(lines: readonly PlaneLine[]): number {
   let best = 0;
   for (let i = 0; i < lines.length; i++) {
     for (let j = i + 1; j < lines.length; j++) {
@@ -138,8 +148,8 @@ function range3(at: readonly [number, number, number], e: number, n: number, up:
   return Math.hypot(e - at[0], n - at[1], up - at[2]);
 }
 
-/** Unweighted intersection of the bearing lines: minimise the sum of squared perpendicular distances. */
-function linearStart(lines: readonly BearingLine[]): [number, number] | null {
+/** Unweighted intersection of lines: minimise the sum of squared perpendicular distances; null if degenerate. */
+export function meetLines(lines: readonly PlaneLine[]): [number, number] | null {
   let a = 0;
   let b = 0;
   let d = 0;
@@ -160,16 +170,7 @@ function linearStart(lines: readonly BearingLine[]): [number, number] | null {
   return [(d * r0 - b * r1) / det, (a * r1 - b * r0) / det];
 }
 
-interface Solved {
-  east: number;
-  north: number;
-  up: number;
-  cov: Covariance2;
-  emissionS: number | null;
-  emissionSdS: number | null;
-  chi2: number;
-  dof: number;
-  residuals: StationResidual[];
+interface Solved extends SolvedCore {
   arrivalNormalized: Map<string, number>;
   converged: boolean;
 }
@@ -188,7 +189,7 @@ function residualOf(l: BearingLine, east: number, north: number, up: number, s: 
 }
 
 function solveOnce(lines: readonly BearingLine[], arrivals: readonly Arrival[], s: SolverSettings): Solved | null {
-  const start = linearStart(lines);
+  const start = meetLines(lines);
   if (start === null) return null;
   const up = lines.reduce((acc, l) => acc + l.at[2], 0) / lines.length;
   const c = s.speedOfSound;

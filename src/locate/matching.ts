@@ -14,6 +14,7 @@
  * A group of two or more stations is a call. Pure: events in, groups out.
  */
 import type { StationEvent } from './events.js';
+import { largestCrossingDeg, meetLines } from './intersect.js';
 
 export interface MatchSettings {
   speedOfSound: number;
@@ -59,32 +60,8 @@ function lowerBound(list: readonly StationEvent[], t: number): number {
 
 /** Where the group's bearing lines meet (unweighted least squares), or null if they are nearly parallel. */
 function meetingPoint(group: readonly StationEvent[], s: MatchSettings): [number, number] | null {
-  let a = 0;
-  let b = 0;
-  let d = 0;
-  let r0 = 0;
-  let r1 = 0;
-  let widest = 0;
-  const dirs = group.map((e) => s.direction(e));
-  group.forEach((e, i) => {
-    const [ux, uy] = dirs[i]!;
-    const [px, py] = s.at(e.station);
-    const nx = uy;
-    const ny = -ux;
-    const c = nx * px + ny * py;
-    a += nx * nx;
-    b += nx * ny;
-    d += ny * ny;
-    r0 += nx * c;
-    r1 += ny * c;
-    for (let j = 0; j < i; j++) {
-      const dot = Math.abs(ux * dirs[j]![0] + uy * dirs[j]![1]);
-      widest = Math.max(widest, (Math.acos(Math.min(1, dot)) * 180) / Math.PI);
-    }
-  });
-  if (widest < s.minCrossingDeg) return null;
-  const det = a * d - b * b;
-  return [(d * r0 - b * r1) / det, (a * r1 - b * r0) / det];
+  const lines = group.map((e) => ({ at: s.at(e.station), dir: s.direction(e) }));
+  return largestCrossingDeg(lines) < s.minCrossingDeg ? null : meetLines(lines);
 }
 
 /**
