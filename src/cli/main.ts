@@ -1,6 +1,7 @@
 #!/usr/bin/env node
 import { Command, CommanderError } from 'commander';
 import { failAndExit } from './run-command.js';
+import { registerLocate } from './locate.js';
 import { registerScan } from './scan.js';
 
 // A closed pipe (e.g. `bearline scan ... | head`) ends the run quietly: the reader has all it wants.
@@ -18,6 +19,7 @@ program
   .exitOverride();
 
 registerScan(program);
+registerLocate(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof CommanderError) {
