@@ -2,6 +2,7 @@
 import { Command, CommanderError } from 'commander';
 import { failAndExit } from './run-command.js';
 import { registerScan } from './scan.js';
+import { registerSimulate } from './simulate.js';
 
 const program = new Command();
 program
@@ -12,6 +13,7 @@ program
   .exitOverride();
 
 registerScan(program);
+registerSimulate(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof CommanderError) {
