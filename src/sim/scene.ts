@@ -393,7 +393,7 @@ function parseRoom(r: FieldReader): Room {
   let absorption: WallAbsorption;
   if (r.has('rt60_s')) {
     const rt60 = r.num('rt60_s', { above: 0, max: 20, unit: 's' });
-    const formula = r.choice('rt60_formula', ['sabine', 'eyring'] as const, 'eyring');
+    const formula = r.choice('rt60_formula', ['sabine', 'eyring'] as const, 'sabine');
     const alpha = absorptionForRt60(sizeM, rt60, formula);
     if (!(alpha < 1)) r.fail('rt60_s', `of ${rt60} s is too short for this room by ${formula} (it needs absorption of 1 or more): give a longer RT60`);
     absorption = { west: alpha, east: alpha, south: alpha, north: alpha, floor: alpha, ceiling: alpha };
