@@ -6,6 +6,9 @@ Modes:
   tdoa [START END]   delay of every channel relative to channel 0 (s), from the peak of the
                      cross-correlation upsampled 64x by zero-padding its spectrum, refined by a
                      parabola through the three highest points; optional sample range.
+  windows W0 WIN STEP COUNT
+                     delay of channel 1 relative to channel 0 (s) in COUNT windows of WIN
+                     samples starting at W0, W0 + STEP, ... (same method as tdoa).
   peak               time (s) of the largest peak of each channel, upsampled the same way.
   rms                RMS of each channel.
 Prints one JSON list.
@@ -45,6 +48,14 @@ def main():
         out = []
         for c in range(channels):
             spec = np.fft.rfft(data[c], n) * np.conj(ref)
+            out.append(upsampled_peak(spec, n) / rate)
+    elif mode == "windows":
+        w0, win, step, count = (int(a) for a in sys.argv[5:9])
+        out = []
+        for j in range(count):
+            seg = data[:, w0 + j * step : w0 + j * step + win]
+            n = 2 * win
+            spec = np.fft.rfft(seg[1], n) * np.conj(np.fft.rfft(seg[0], n))
             out.append(upsampled_peak(spec, n) / rate)
     elif mode == "peak":
         out = []
