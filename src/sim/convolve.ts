@@ -28,14 +28,14 @@ export function convolveAddMany(x: Float32Array, irs: readonly Float64Array[], s
   const res = fft.complex();
   for (let b0 = 0; b0 < x.length; b0 += block) {
     const b1 = Math.min(x.length, b0 + block);
-    let any = false;
+    let nonZero = false;
     for (let i = b0; i < b1; i++) {
       if (x[i] !== 0) {
-        any = true;
+        nonZero = true;
         break;
       }
     }
-    if (!any) continue;
+    if (!nonZero) continue;
     buf.fill(0);
     for (let i = b0; i < b1; i++) buf[i - b0] = x[i]!;
     fft.forwardReal(buf, spec);
