@@ -24,6 +24,15 @@ export interface PairDiagnostics {
   band_agreement: number;
 }
 
+/** One frequency band's vote in a hop (band voting): its range, its weight, and the delay it votes for. */
+export interface BandVote {
+  lo_hz: number;
+  hi_hz: number;
+  weight: number;
+  /** The delay this band votes for (first pair), or null when the band has no usable peak. */
+  tdoa_s: number | null;
+}
+
 export interface FrameRecord {
   time_s: number;
   utc?: string;
@@ -34,6 +43,10 @@ export interface FrameRecord {
   /** One entry per mic pair, ordered (0,1), (0,2), ... (1,2), ...; null where a pair has no estimate. */
   tdoa_s: (number | null)[];
   level_dbfs: number;
+  /** Level of each channel, dBFS, in channel order (for level meters). */
+  levels_dbfs?: number[];
+  /** The band votes of this hop (for the viewer's band chart). */
+  band_votes?: BandVote[];
   /** Which mirror ambiguity the estimate carries: a pair cannot tell front from back. */
   mirror?: 'front-back' | 'up-down' | null;
   /** Onset strength of the hop in [0, 1]. */

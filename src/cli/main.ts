@@ -4,6 +4,12 @@ import { failAndExit } from './run-command.js';
 import { registerScan } from './scan.js';
 import { registerSimulate } from './simulate.js';
 
+// A closed pipe (e.g. `bearline scan ... | head`) ends the run quietly: the reader has all it wants.
+process.stdout.on('error', (err: NodeJS.ErrnoException) => {
+  if (err.code === 'EPIPE') process.exit(0);
+  failAndExit(err);
+});
+
 const program = new Command();
 program
   .name('bearline')

@@ -1,15 +1,112 @@
 import type { Command } from 'commander';
 import { UsageError } from '../errors.js';
+import { checkGeometryForStream } from '../geometry/geometry-file.js';
+import type { AudioSource } from '../io/audio-source.js';
+import { openPcmStreamSource } from '../io/pcm-stream-source.js';
+import { parseFormat, RecordWriter, type RecordFormat } from '../io/record-writer.js';
+import { stderrWarning } from '../io/stderr-warning.js';
+import { openWavSource } from '../io/wav-source.js';
+import { analysisOptionSpecs, type AnalysisOptions } from '../pipeline/analysis-options.js';
+import { createAnalysis, runAnalysis } from '../pipeline/analysis.js';
+import { frameColumns } from '../pipeline/frame-columns.js';
+import { toFrameRecord } from '../pipeline/frame-record.js';
+import type { FrameRecord } from '../records.js';
+import { addArrayOptions, addSpecs, pickSpecs } from './options.js';
+import { positiveInteger } from './parse.js';
+import { createProgress } from './progress.js';
+import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
 import { action } from './run-command.js';
 
+interface ScanFlags extends ArrayOptionValues {
+  frames?: boolean;
+  format: string;
+  out?: string;
+  stdin?: boolean;
+  rate?: number;
+  channels?: number;
+  diagnostics?: boolean;
+  viewerFields?: boolean;
+}
+
 export function registerScan(program: Command): void {
-  program
+  const cmd = program
     .command('scan')
-    .description('Scan a recording for sound directions (work in progress).')
-    .argument('<file>', 'WAV file to scan')
-    .action(
-      action(async () => {
-        throw new UsageError('scan is not built yet');
-      }),
-    );
+    .summary('find sound directions in a recording or a raw stream')
+    .description(
+      'Find sound directions, hop by hop, in a WAV recording of any length (or raw s16le PCM on stdin).\n' +
+        'Output: frame records as JSON Lines (one per hop: time_s, azimuth_deg, elevation_deg, confidence, tdoa_s, level_dbfs).\n' +
+        'Until source tracking lands, the default output is frame records too; --frames asks for them explicitly.',
+    )
+    .argument('[file]', 'WAV file (PCM 16/24/32-bit or float, 1 to 8 channels); omit with --stdin');
+  addArrayOptions(cmd);
+  cmd
+    .option('--frames', 'write one frame record per hop (interface.md)')
+    .option('--format <jsonl|csv>', 'output format', 'jsonl')
+    .option('-o, --out <path>', 'write to a file instead of stdout (written aside, renamed when complete)')
+    .option('--stdin', 'read raw interleaved s16le PCM from stdin (needs --rate and --channels)')
+    .option('--rate <hz>', 'sample rate of the stdin stream', positiveInteger)
+    .option('--channels <n>', 'channel count of the stdin stream', positiveInteger)
+    .option('--diagnostics', 'add per-pair diagnostics to frame records (tdoa, peak height, band agreement)')
+    .option('--viewer-fields', 'add per-channel levels and the band vote to frame records');
+  addSpecs(cmd, analysisOptionSpecs);
+  cmd.addHelpText(
+    'after',
+    '\nExamples:\n' +
+      '  bearline scan night.wav --spacing 0.2 > night.frames.jsonl\n' +
+      '  bearline scan pond.wav --array configs/arrays/square-10cm.json --format csv --out pond.csv\n' +
+      '  arecord -f S16_LE -r 48000 -c 2 -t raw | bearline scan --stdin --rate 48000 --channels 2 --spacing 0.2\n',
+  );
+  cmd.action(action(async (file: string | undefined, flags: ScanFlags) => scan(file, flags, cmd.opts())));
+}
+
+async function openSource(file: string | undefined, flags: ScanFlags): Promise<AudioSource> {
+  if (flags.stdin) {
+    if (file !== undefined) throw new UsageError('give either a FILE or --stdin, not both');
+    if (flags.rate === undefined || flags.channels === undefined) {
+      throw new UsageError('--stdin needs --rate R and --channels N (the raw stream carries no header)');
+    }
+    return openPcmStreamSource(process.stdin, { sampleRate: flags.rate, channels: flags.channels, onWarning: stderrWarning });
+  }
+  if (file === undefined) throw new UsageError('give a WAV file to scan, or --stdin for raw PCM');
+  if (flags.rate !== undefined || flags.channels !== undefined) {
+    throw new UsageError('--rate and --channels are for --stdin; a WAV file says its own rate and channels');
+  }
+  return openWavSource(file, { onWarning: stderrWarning });
+}
+
+async function scan(file: string | undefined, flags: ScanFlags, raw: Record<string, unknown>): Promise<void> {
+  const format: RecordFormat = parseFormat(flags.format);
+  const geometry = resolveArray(flags);
+  const c = resolveSpeed(flags);
+  const analysisOpts = pickSpecs<AnalysisOptions>(raw, analysisOptionSpecs);
+  const source = await openSource(file, flags);
+  try {
+    const { sampleRate, channels, totalFrames } = source.format;
+    const where = file ?? 'the stdin stream';
+    if (channels < 2) throw new UsageError(`${where} has one channel: direction finding needs at least two (one per mic)`);
+    checkGeometryForStream(geometry, channels, sampleRate, c, where);
+    const setup = createAnalysis(geometry, sampleRate, c, analysisOpts);
+    const settings = {
+      headingDeg: geometry.headingDeg,
+      mirror: setup.model.mirror,
+      pairs: setup.model.pairs,
+      diagnostics: !!flags.diagnostics,
+      viewerFields: !!flags.viewerFields,
+    };
+    const writer = RecordWriter.open<FrameRecord>(flags.out ?? null, format, frameColumns(setup.model.pairs, geometry.headingDeg !== null), file ? [file] : []);
+    const progress = createProgress(`scanning ${file ?? 'stdin'}`, totalFrames, sampleRate);
+    try {
+      const hops = await runAnalysis(source, setup.analyzer, (r) => writer.write(toFrameRecord(r, settings)), (done) => progress.update(done));
+      progress.finish();
+      if (hops === 0) stderrWarning(`${where} is shorter than one analysis frame (${setup.options.frame} samples): no records`);
+      await writer.close();
+    } catch (err) {
+      progress.finish();
+      const partial = await writer.abandon();
+      if (partial) stderrWarning(`stopped early; the records written so far are in ${partial}`);
+      throw err;
+    }
+  } finally {
+    await source.close();
+  }
 }

@@ -4,10 +4,10 @@ import type { Command } from 'commander';
 import { UsageError } from '../errors.js';
 import { geometryToJson, type GeometryJson } from '../geometry/geometry-file.js';
 import { writeWavFile } from '../io/wav-writer.js';
-import { renderScene } from '../sim/render.js';
+import { renderScene, sceneSamples } from '../sim/render.js';
 import { demoScenePath, loadSceneFile } from '../sim/scene.js';
 import { TRUTH_STEP_S, truthRecords } from '../sim/truth.js';
-import { progressBar } from './progress-bar.js';
+import { createProgress } from './progress.js';
 import { action } from './run-command.js';
 
 /** The options of `bearline simulate` (their one home). */
@@ -55,8 +55,9 @@ export function runSimulate(opts: SimulateOptions): void {
       if (sameFile(out, input)) throw new UsageError(`writing ${out} would overwrite the input ${input}: choose another --out`);
     }
   }
-  const bar = scene.durationS >= PROGRESS_MIN_DURATION_S ? progressBar(`simulating ${basename(scenePath)}`) : null;
-  const rendered = renderScene(scene, (d) => bar?.update(d));
+  const total = sceneSamples(scene);
+  const bar = scene.durationS >= PROGRESS_MIN_DURATION_S ? createProgress(`simulating ${basename(scenePath)}`, total, scene.sampleRate) : null;
+  const rendered = renderScene(scene, (d) => bar?.update(d * total));
   bar?.finish();
   const truth = truthRecords(scene, rendered.calls);
   const geometry = scene.array.headingFromScene ? { ...scene.array.geometry, headingDeg: scene.array.headingDeg } : scene.array.geometry;

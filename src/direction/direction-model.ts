@@ -1,0 +1,27 @@
+import type { PairCorrelator } from '../dsp/gcc.js';
+import type { MicPair } from '../geometry/array-geometry.js';
+
+/** A direction in the array frame (interface.md): degrees; elevation null when unresolvable. */
+export interface Direction {
+  azimuthDeg: number;
+  elevationDeg: number | null;
+}
+
+/**
+ * How an array turns pair correlations into direction candidates and refined per-pair lags
+ * into a direction. A pair (src/direction/pair-direction.ts) and a search over directions for
+ * 3 to 8 mics (src/direction/srp-search.ts) implement it.
+ */
+export interface DirectionModel {
+  readonly pairs: readonly MicPair[];
+  /** Largest lag searched per pair, whole samples (physical limit plus margin). */
+  readonly maxLag: Int32Array;
+  readonly mirror: 'front-back' | 'up-down' | null;
+  /**
+   * Candidates from this hop's correlations, best first: writes candidate c's lag for pair p
+   * to lagsOut[c * pairs + p] (samples) and its score to scoresOut[c]; returns the count.
+   */
+  findCandidates(correlators: readonly PairCorrelator[], maxCount: number, lagsOut: Float64Array, scoresOut: Float64Array): number;
+  /** Direction from per-pair lags (samples); returns false when the lags fit no direction. */
+  solve(lags: Float64Array, offset: number, out: Direction): boolean;
+}

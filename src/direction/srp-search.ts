@@ -1,0 +1,307 @@
+import type { PairCorrelator } from '../dsp/gcc.js';
+import { micPairs, type ArrayGeometry, type MicPair } from '../geometry/array-geometry.js';
+import { azElFromVector, dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
+import type { Direction, DirectionModel } from './direction-model.js';
+
+/** The shape of an array decides what it can resolve. */
+export type ArrayShape = 'line' | 'plane' | 'solid';
+
+/** Principal axes of the mic positions: shape, and the line's axis or the plane's normal. */
+export function arrayShape(g: ArrayGeometry): { shape: ArrayShape; axis: Vec3 } {
+  const n = g.mics.length;
+  const c = [0, 0, 0];
+  for (const m of g.mics) for (let i = 0; i < 3; i++) c[i]! += m.position[i]! / n;
+  // Scatter matrix and its eigenvalues by Jacobi rotations (3x3, symmetric).
+  const a = [
+    [0, 0, 0],
+    [0, 0, 0],
+    [0, 0, 0],
+  ];
+  for (const m of g.mics) {
+    const d = [m.position[0] - c[0]!, m.position[1] - c[1]!, m.position[2] - c[2]!];
+    for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) a[i]![j]! += d[i]! * d[j]!;
+  }
+  const v = [
+    [1, 0, 0],
+    [0, 1, 0],
+    [0, 0, 1],
+  ];
+  for (let sweep = 0; sweep < 30; sweep++) {
+    for (let p = 0; p < 2; p++) {
+      for (let q = p + 1; q < 3; q++) {
+        const apq = a[p]![q]!;
+        if (Math.abs(apq) < 1e-18) continue;
+        const theta = (a[q]![q]! - a[p]![p]!) / (2 * apq);
+        const t = Math.sign(theta || 1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
+        const cs = 1 / Math.sqrt(t * t + 1);
+        const sn = t * cs;
+        for (let k = 0; k < 3; k++) {
+          const akp = a[k]![p]!;
+          const akq = a[k]![q]!;
+          a[k]![p] = cs * akp - sn * akq;
+          a[k]![q] = sn * akp + cs * akq;
+        }
+        for (let k = 0; k < 3; k++) {
+          const apk = a[p]![k]!;
+          const aqk = a[q]![k]!;
+          a[p]![k] = cs * apk - sn * aqk;
+          a[q]![k] = sn * apk + cs * aqk;
+        }
+        for (let k = 0; k < 3; k++) {
+          const vkp = v[k]![p]!;
+          const vkq = v[k]![q]!;
+          v[k]![p] = cs * vkp - sn * vkq;
+          v[k]![q] = sn * vkp + cs * vkq;
+        }
+      }
+    }
+  }
+  const eig = [0, 1, 2].map((i) => ({ value: a[i]![i]!, vec: [v[0]![i]!, v[1]![i]!, v[2]![i]!] as Vec3 }));
+  eig.sort((x, y) => y.value - x.value);
+  const scale = eig[0]!.value;
+  // A dimension thinner than 1 mm rms (relative to the largest) counts as flat.
+  const flat = (e: number) => e < Math.max(1e-6 * n, 1e-4 * scale);
+  if (flat(eig[1]!.value)) return { shape: 'line', axis: eig[0]!.vec };
+  if (flat(eig[2]!.value)) return { shape: 'plane', axis: eig[2]!.vec };
+  return { shape: 'solid', axis: [0, 0, 1] };
+}
+
+/** Grid settings of the direction search. */
+export interface SearchGrid {
+  /** Angular step of the grid, degrees (default: 1 for a line, 4 for planes and solids). */
+  readonly stepDeg?: number;
+}
+
+/**
+ * Steered response power with PHAT (DiBiase, Silverman and Brandstein 2001) over a
+ * precomputed grid of directions: every pair's lag for every grid direction is computed once,
+ * so a hop costs one interpolated look-up per pair per grid point. Candidates are the
+ * grid's local maxima; refined per-pair lags become a direction by least squares.
+ */
+export class SrpDirectionModel implements DirectionModel {
+  readonly pairs: readonly MicPair[];
+  readonly maxLag: Int32Array;
+  readonly mirror: 'front-back' | 'up-down' | null;
+  readonly shape: ArrayShape;
+  private readonly axis: Vec3;
+  /** Pair baselines p_a - p_b (m). */
+  private readonly baselines: Vec3[];
+  private readonly gridDirs: Vec3[];
+  /** Per grid point and pair: the lag, and the two gcc indices (mod N) around it. */
+  private readonly gridLag: Float64Array;
+  private readonly gridIdx0: Int32Array;
+  private readonly gridIdx1: Int32Array;
+  private readonly gridFrac: Float64Array;
+  /** Neighbours of grid point g: nbList[nbStart[g] .. nbStart[g + 1]). */
+  private readonly nbStart: Int32Array;
+  private readonly nbList: Int32Array;
+  private readonly power: Float64Array;
+  private readonly lsInverse: number[][];
+  private readonly basis: Vec3[];
+
+  constructor(
+    geometry: ArrayGeometry,
+    private readonly sampleRate: number,
+    private readonly speedOfSound: number,
+    lagMargin: number,
+    frame: number,
+    grid: SearchGrid = {},
+  ) {
+    this.pairs = micPairs(geometry);
+    const P = this.pairs.length;
+    this.baselines = this.pairs.map(([a, b]) => sub(geometry.mics[a]!.position, geometry.mics[b]!.position));
+    this.maxLag = Int32Array.from(this.baselines, (bl) => Math.min(frame / 2 - 2, Math.ceil((norm(bl) / speedOfSound) * sampleRate * (1 + lagMargin)) + 1));
+    const { shape, axis } = arrayShape(geometry);
+    this.shape = shape;
+    this.axis = axis;
+    this.mirror = shape === 'line' ? 'front-back' : shape === 'plane' ? 'up-down' : null;
+    const step = grid.stepDeg ?? (shape === 'line' ? 1 : 4);
+    this.gridDirs = makeGrid(shape, axis, step);
+    const G = this.gridDirs.length;
+    this.gridLag = new Float64Array(G * P);
+    this.gridIdx0 = new Int32Array(G * P);
+    this.gridIdx1 = new Int32Array(G * P);
+    this.gridFrac = new Float64Array(G * P);
+    for (let g = 0; g < G; g++) {
+      for (let p = 0; p < P; p++) {
+        const lag = this.lagFor(this.gridDirs[g]!, p);
+        const i = Math.floor(lag);
+        this.gridLag[g * P + p] = lag;
+        this.gridIdx0[g * P + p] = (i + frame) % frame;
+        this.gridIdx1[g * P + p] = (i + 1 + frame) % frame;
+        this.gridFrac[g * P + p] = lag - i;
+      }
+    }
+    const nb = neighbourLists(this.gridDirs, step);
+    this.nbStart = new Int32Array(G + 1);
+    for (let g = 0; g < G; g++) this.nbStart[g + 1] = this.nbStart[g]! + nb[g]!.length;
+    this.nbList = new Int32Array(this.nbStart[G]!);
+    for (let g = 0; g < G; g++) this.nbList.set(nb[g]!, this.nbStart[g]!);
+    this.power = new Float64Array(G);
+    // Least squares for the direction from lags, in the subspace the array spans.
+    this.basis = shape === 'solid' ? [[1, 0, 0], [0, 1, 0], [0, 0, 1]] : shape === 'plane' ? planeBasis(axis) : [axis];
+    const d = this.basis.length;
+    const ata = Array.from({ length: d }, () => new Array<number>(d).fill(0));
+    for (const bl of this.baselines) {
+      const row = this.basis.map((e) => dot(bl, e));
+      for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) ata[i]![j]! += row[i]! * row[j]!;
+    }
+    this.lsInverse = invert(ata);
+  }
+
+  /** Lag (samples) of pair p for a source in unit direction u: (p_a - p_b) . u / c. */
+  lagFor(u: Vec3, p: number): number {
+    return (dot(this.baselines[p]!, u) / this.speedOfSound) * this.sampleRate;
+  }
+
+  get gridSize(): number {
+    return this.gridDirs.length;
+  }
+
+  findCandidates(correlators: readonly PairCorrelator[], maxCount: number, lagsOut: Float64Array, scoresOut: Float64Array): number {
+    const P = this.pairs.length;
+    const G = this.gridDirs.length;
+    const pw = this.power;
+    const i0 = this.gridIdx0;
+    const i1 = this.gridIdx1;
+    const fr = this.gridFrac;
+    pw.fill(0);
+    // Pair by pair, so each pass reads one correlation array.
+    for (let p = 0; p < P; p++) {
+      const gcc = correlators[p]!.gcc;
+      for (let g = 0, o = p; g < G; g++, o += P) {
+        const y0 = gcc[i0[o]!]!;
+        pw[g] += y0 + fr[o]! * (gcc[i1[o]!]! - y0);
+      }
+    }
+    const nbStart = this.nbStart;
+    const nbList = this.nbList;
+    let found = 0;
+    for (let g = 0; g < G; g++) {
+      const v = pw[g]!;
+      if (found === maxCount && v <= scoresOut[found - 1]!) continue;
+      let isMax = true;
+      for (let j = nbStart[g]!, e = nbStart[g + 1]!; j < e; j++) {
+        const k = nbList[j]!;
+        const w = pw[k]!;
+        if (w > v || (w === v && k < g)) {
+          isMax = false;
+          break;
+        }
+      }
+      if (!isMax) continue;
+      let pos = found < maxCount ? found : maxCount - 1;
+      while (pos > 0 && scoresOut[pos - 1]! < v) {
+        scoresOut[pos] = scoresOut[pos - 1]!;
+        for (let p = 0; p < P; p++) lagsOut[pos * P + p] = lagsOut[(pos - 1) * P + p]!;
+        pos--;
+      }
+      scoresOut[pos] = v;
+      for (let p = 0; p < P; p++) lagsOut[pos * P + p] = this.gridLag[g * P + p]!;
+      if (found < maxCount) found++;
+    }
+    return found;
+  }
+
+  solve(lags: Float64Array, offset: number, out: Direction): boolean {
+    const d = this.basis.length;
+    const atb = new Array<number>(d).fill(0);
+    for (let p = 0; p < this.baselines.length; p++) {
+      const y = (lags[offset + p]! / this.sampleRate) * this.speedOfSound;
+      for (let i = 0; i < d; i++) atb[i]! += dot(this.baselines[p]!, this.basis[i]!) * y;
+    }
+    const coef = this.lsInverse.map((row) => row.reduce((s, v, j) => s + v * atb[j]!, 0));
+    let u: [number, number, number] = [0, 0, 0];
+    for (let i = 0; i < d; i++) for (let k = 0; k < 3; k++) u[k]! += coef[i]! * this.basis[i]![k]!;
+    let len = norm(u);
+    if (!(len > 1e-9)) return false;
+    if (this.shape === 'solid') {
+      u = [u[0] / len, u[1] / len, u[2] / len];
+    } else if (len > 1) {
+      u = [u[0] / len, u[1] / len, u[2] / len];
+      len = 1;
+    }
+    if (this.shape === 'plane') {
+      // The component off the plane is unknown in sign: take the side of the plane normal
+      // that points up (or, for an upright plane, to the front).
+      const nrm = this.axis;
+      const side = nrm[2] > 1e-6 || (Math.abs(nrm[2]) <= 1e-6 && nrm[1] >= 0) ? 1 : -1;
+      const h = Math.sqrt(Math.max(0, 1 - len * len)) * side;
+      u = [u[0] + h * nrm[0], u[1] + h * nrm[1], u[2] + h * nrm[2]];
+    } else if (this.shape === 'line') {
+      // Cone around the axis: report the horizontal direction on the front side of the axis.
+      const s = Math.max(-1, Math.min(1, dot(u, this.axis)));
+      const ax = this.axis;
+      const axisAz = Math.atan2(ax[0], ax[1]);
+      const theta = Math.acos(s);
+      const az = axisAz - theta;
+      u = [Math.sin(az), Math.cos(az), 0];
+    }
+    const ae = azElFromVector(u);
+    out.azimuthDeg = ae.azimuthDeg;
+    out.elevationDeg = this.shape === 'line' ? null : ae.elevationDeg;
+    return true;
+  }
+}
+
+function planeBasis(normal: Vec3): Vec3[] {
+  const ref: Vec3 = Math.abs(normal[2]) < 0.9 ? [0, 0, 1] : [1, 0, 0];
+  const e1 = cross(normal, ref);
+  const l1 = norm(e1);
+  const a: Vec3 = [e1[0] / l1, e1[1] / l1, e1[2] / l1];
+  const b = cross(normal, a);
+  return [a, b];
+}
+
+function cross(a: Vec3, b: Vec3): Vec3 {
+  return [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]];
+}
+
+function invert(m: number[][]): number[][] {
+  const n = m.length;
+  const a = m.map((row, i) => [...row, ...Array.from({ length: n }, (_, j) => (i === j ? 1 : 0))]);
+  for (let c = 0; c < n; c++) {
+    let piv = c;
+    for (let r = c + 1; r < n; r++) if (Math.abs(a[r]![c]!) > Math.abs(a[piv]![c]!)) piv = r;
+    [a[c], a[piv]] = [a[piv]!, a[c]!];
+    const d = a[c]![c]!;
+    if (Math.abs(d) < 1e-18) throw new Error('array geometry is degenerate for the direction fit');
+    for (let j = 0; j < 2 * n; j++) a[c]![j]! /= d;
+    for (let r = 0; r < n; r++) {
+      if (r === c) continue;
+      const f = a[r]![c]!;
+      for (let j = 0; j < 2 * n; j++) a[r]![j]! -= f * a[c]![j]!;
+    }
+  }
+  return a.map((row) => row.slice(n));
+}
+
+/** Directions searched: a circle for lines, a hemisphere for planes, a sphere for solids. */
+function makeGrid(shape: ArrayShape, axis: Vec3, stepDeg: number): Vec3[] {
+  const dirs: Vec3[] = [];
+  if (shape === 'line') {
+    for (let az = -180; az < 180; az += stepDeg) dirs.push(unitFromAzEl(az, 0));
+    return dirs;
+  }
+  const side = shape === 'plane' ? axis : null;
+  // Rings of constant elevation with about stepDeg spacing along each ring.
+  for (let el = -90; el <= 90 + 1e-9; el += stepDeg) {
+    const ring = Math.max(1, Math.round((360 * Math.cos((el * Math.PI) / 180)) / stepDeg));
+    for (let i = 0; i < ring; i++) {
+      const u = unitFromAzEl(-180 + (360 * i) / ring, el);
+      if (side && dot(u, side) < -1e-9) continue;
+      dirs.push(u);
+    }
+  }
+  return dirs;
+}
+
+/** For each grid point, the points within 1.6 grid steps (its neighbourhood for local maxima). */
+function neighbourLists(dirs: Vec3[], stepDeg: number): Int32Array[] {
+  const cosLimit = Math.cos((1.6 * stepDeg * Math.PI) / 180);
+  return dirs.map((u, i) => {
+    const list: number[] = [];
+    for (let j = 0; j < dirs.length; j++) if (j !== i && dot(u, dirs[j]!) >= cosLimit) list.push(j);
+    return Int32Array.from(list);
+  });
+}

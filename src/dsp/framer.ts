@@ -1,0 +1,51 @@
+/**
+ * Cuts a stream of planar sample blocks into overlapping frames: a frame of `frame`
+ * samples per channel every `hop` samples. Pure: blocks in, frames out through a callback,
+ * with one buffer per channel allocated up front.
+ */
+export class Framer {
+  private readonly buffers: Float64Array[];
+  private filled = 0;
+  /** Samples still to skip before the next frame starts (when hop > frame). */
+  private skip = 0;
+
+  constructor(
+    readonly channels: number,
+    readonly frame: number,
+    readonly hop: number,
+  ) {
+    this.buffers = Array.from({ length: channels }, () => new Float64Array(frame));
+  }
+
+  /** Feed `length` samples of each channel; `onFrame` gets the frame buffers (valid during the call). */
+  push(block: readonly Float32Array[], length: number, onFrame: (frames: readonly Float64Array[]) => void): void {
+    let pos = 0;
+    const n = this.frame;
+    while (pos < length) {
+      if (this.skip > 0) {
+        const s = Math.min(this.skip, length - pos);
+        this.skip -= s;
+        pos += s;
+        continue;
+      }
+      const take = Math.min(n - this.filled, length - pos);
+      for (let c = 0; c < this.channels; c++) {
+        const src = block[c]!;
+        const dst = this.buffers[c]!;
+        for (let i = 0; i < take; i++) dst[this.filled + i] = src[pos + i]!;
+      }
+      this.filled += take;
+      pos += take;
+      if (this.filled === n) {
+        onFrame(this.buffers);
+        if (this.hop < n) {
+          for (let c = 0; c < this.channels; c++) this.buffers[c]!.copyWithin(0, this.hop, n);
+          this.filled = n - this.hop;
+        } else {
+          this.filled = 0;
+          this.skip = this.hop - n;
+        }
+      }
+    }
+  }
+}

@@ -1,0 +1,187 @@
+import type { BandLayout } from './bands.js';
+import type { RealFft } from './fft.js';
+
+/**
+ * GCC-PHAT for one mic pair (Knapp and Carter 1976), with an onset-weighted memory:
+ *   A_k <- memory * A_k + w_k * conj(X_a,k) X_b,k / |X_a,k X_b,k|
+ * so that the correlation peaks at the lag tdoa = t_b - t_a (samples).
+ * The correlation as a continuous function of the lag tau is
+ *   r(tau) = sum_k Re(A_k e^{j 2 pi k tau / N})   over the analysis bins,
+ * which the band scores and the sub-sample refinement evaluate exactly (no interpolation bias).
+ */
+export class PairCorrelator {
+  /** Accumulated PHAT cross-spectrum (real and imaginary parts), analysis bins only. */
+  readonly accRe: Float64Array;
+  readonly accIm: Float64Array;
+  /** Correlation over integer lags from the inverse FFT (index lag mod N). */
+  readonly gcc: Float64Array;
+
+  constructor(
+    readonly n: number,
+    readonly maxLag: number,
+  ) {
+    const bins = n / 2 + 1;
+    this.accRe = new Float64Array(bins);
+    this.accIm = new Float64Array(bins);
+    this.gcc = new Float64Array(n);
+  }
+
+  /** Add this hop's PHAT-weighted cross-spectrum into the memory. */
+  accumulate(
+    aRe: Float64Array,
+    aIm: Float64Array,
+    bRe: Float64Array,
+    bIm: Float64Array,
+    weights: Float64Array,
+    first: number,
+    end: number,
+    memory: number,
+  ): void {
+    const ar = this.accRe;
+    const ai = this.accIm;
+    for (let k = first; k < end; k++) {
+      // conj(Xa) * Xb
+      const xr = aRe[k]!;
+      const xi = aIm[k]!;
+      const yr = bRe[k]!;
+      const yi = bIm[k]!;
+      const cr = xr * yr + xi * yi;
+      const ci = xr * yi - xi * yr;
+      const mag = Math.sqrt(cr * cr + ci * ci);
+      let wr = 0;
+      let wi = 0;
+      if (mag > 1e-20) {
+        const g = weights[k]! / mag;
+        wr = cr * g;
+        wi = ci * g;
+      }
+      ar[k] = memory * ar[k]! + wr;
+      ai[k] = memory * ai[k]! + wi;
+    }
+  }
+
+  /** Inverse FFT of the accumulated cross-spectrum into `gcc` (bins outside [first, end) are zero). */
+  correlate(fft: RealFft): void {
+    fft.inverse(this.accRe, this.accIm, this.gcc);
+  }
+
+  /** Correlation at an integer lag (may be negative). */
+  at(lag: number): number {
+    const n = this.n;
+    return this.gcc[((lag % n) + n) % n]!;
+  }
+
+  /**
+   * Find up to `count` local maxima of the correlation within |lag| <= maxLag, best first,
+   * each refined by a parabola through its three integer neighbours. Writes lags and heights,
+   * returns how many were found.
+   */
+  peaks(count: number, lagsOut: Float64Array, heightsOut: Float64Array): number {
+    const L = this.maxLag;
+    let found = 0;
+    for (let lag = -L; lag <= L; lag++) {
+      const y = this.at(lag);
+      const yl = this.at(lag - 1);
+      const yr = this.at(lag + 1);
+      if (!(y > yl && y >= yr)) continue;
+      if (found === count && y <= heightsOut[found - 1]!) continue;
+      // insertion into the sorted top list
+      let pos = found < count ? found : count - 1;
+      while (pos > 0 && heightsOut[pos - 1]! < y) {
+        lagsOut[pos] = lagsOut[pos - 1]!;
+        heightsOut[pos] = heightsOut[pos - 1]!;
+        pos--;
+      }
+      const den = yl - 2 * y + yr;
+      const delta = den < 0 ? Math.max(-0.5, Math.min(0.5, (0.5 * (yl - yr)) / den)) : 0;
+      lagsOut[pos] = lag + delta;
+      heightsOut[pos] = y;
+      if (found < count) found++;
+    }
+    return found;
+  }
+}
+
+/**
+ * Band scores of a pair at a (fractional) lag: for each band b,
+ *   sum_{k in b} Re(A_k e^{j 2 pi k tau / N})
+ * added into scoresOut[b * stride + offset]. One pass over the analysis bins with a phasor
+ * recursion; no allocation.
+ */
+export function addBandScores(
+  pc: PairCorrelator,
+  bands: BandLayout,
+  lag: number,
+  scoresOut: Float64Array,
+  stride: number,
+  offset: number,
+): void {
+  const step = (2 * Math.PI * lag) / pc.n;
+  const sr = Math.cos(step);
+  const si = Math.sin(step);
+  const k0 = bands.firstBin;
+  let pr = Math.cos(step * k0);
+  let pi = Math.sin(step * k0);
+  const ar = pc.accRe;
+  const ai = pc.accIm;
+  let k = k0;
+  for (let b = 0; b < bands.count; b++) {
+    const e = bands.end[b]!;
+    let acc = 0;
+    for (; k < e; k++) {
+      acc += ar[k]! * pr - ai[k]! * pi;
+      const t = pr * sr - pi * si;
+      pi = pr * si + pi * sr;
+      pr = t;
+    }
+    scoresOut[b * stride + offset] = scoresOut[b * stride + offset]! + acc;
+  }
+}
+
+/**
+ * Sub-sample refinement: Newton steps on r(tau) restricted to the bands whose flag is set,
+ * starting at `lag`. Exact derivatives of the continuous correlation, so there is no
+ * parabolic-interpolation bias. Returns the refined lag, kept within +-1 sample of the start
+ * and within +-maxLag.
+ */
+export function refineLag(pc: PairCorrelator, bands: BandLayout, useBand: Uint8Array, lag: number, iterations = 3): number {
+  const n = pc.n;
+  const w0 = (2 * Math.PI) / n;
+  const ar = pc.accRe;
+  const ai = pc.accIm;
+  let tau = lag;
+  for (let it = 0; it < iterations; it++) {
+    let d1 = 0;
+    let d2 = 0;
+    for (let b = 0; b < bands.count; b++) {
+      if (!useBand[b]) continue;
+      const s = bands.start[b]!;
+      const e = bands.end[b]!;
+      const step = w0 * tau;
+      const sr = Math.cos(step);
+      const si = Math.sin(step);
+      let pr = Math.cos(step * s);
+      let pi = Math.sin(step * s);
+      for (let k = s; k < e; k++) {
+        const w = w0 * k;
+        const re = ar[k]! * pr - ai[k]! * pi;
+        const im = ar[k]! * pi + ai[k]! * pr;
+        d1 -= w * im;
+        d2 -= w * w * re;
+        const t = pr * sr - pi * si;
+        pi = pr * si + pi * sr;
+        pr = t;
+      }
+    }
+    if (!(d2 < 0)) break;
+    let delta = -d1 / d2;
+    if (delta > 0.5) delta = 0.5;
+    else if (delta < -0.5) delta = -0.5;
+    tau += delta;
+    if (Math.abs(delta) < 1e-5) break;
+  }
+  if (tau > lag + 1) tau = lag + 1;
+  if (tau < lag - 1) tau = lag - 1;
+  const L = pc.maxLag;
+  return Math.max(-L, Math.min(L, tau));
+}

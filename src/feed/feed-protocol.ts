@@ -1,0 +1,96 @@
+/**
+ * The messages of the WebSocket feed (protocol 1). Every message is one JSON text with a
+ * `type` field. Server to viewer: hello (first, once), frame, event, gap, status, pong.
+ * Viewer to server: ping, subscribe. Pure: builds and reads messages, no I/O.
+ */
+import type { ArrayGeometry } from '../geometry/array-geometry.js';
+import type { EventRecord, FrameRecord } from '../records.js';
+
+export const FEED_PROTOCOL = 1;
+
+/** The geometry file JSON of interface.md, as the hello carries it. */
+export interface GeometryJson {
+  name: string;
+  heading_deg?: number;
+  mics: { channel: number; position_m: [number, number, number] }[];
+}
+
+/** Analysis settings shown to the viewer (sample rate, hop, station...): flat, snake_case keys. */
+export type FeedSettings = Readonly<Record<string, string | number | boolean | null>>;
+
+export interface HelloMessage {
+  type: 'hello';
+  protocol: typeof FEED_PROTOCOL;
+  geometry: GeometryJson;
+  settings: FeedSettings;
+}
+
+/** A stretch of the stream that capture lost (device overrun, restart): times in stream seconds. */
+export interface CaptureGap {
+  start_s: number;
+  end_s: number;
+  reason?: string;
+  utc?: string;
+}
+
+/** Sent about once a second to a viewer whose frames were dropped since the last one. */
+export interface StatusMessage {
+  type: 'status';
+  /** Frames dropped for this viewer since it connected (slow link or slow viewer). */
+  dropped_frames: number;
+  clients: number;
+}
+
+export type ServerMessage =
+  | HelloMessage
+  | ({ type: 'frame' } & FrameRecord)
+  | ({ type: 'event' } & EventRecord)
+  | ({ type: 'gap' } & CaptureGap)
+  | StatusMessage
+  | { type: 'pong'; id: string | number | null };
+
+/** What a viewer may send. Anything else is ignored (and reported through the server's log callback). */
+export type ClientMessage = { type: 'ping'; id: string | number | null } | { type: 'subscribe'; frames: boolean };
+
+/** The hello message for an array geometry and the analysis settings. */
+export function helloFromGeometry(geometry: ArrayGeometry, settings: FeedSettings = {}): HelloMessage {
+  const json: GeometryJson = {
+    name: geometry.name,
+    mics: geometry.mics.map((m) => ({ channel: m.channel, position_m: [m.position[0], m.position[1], m.position[2]] })),
+  };
+  if (geometry.headingDeg !== null) json.heading_deg = geometry.headingDeg;
+  return { type: 'hello', protocol: FEED_PROTOCOL, geometry: json, settings: { ...settings } };
+}
+
+export function frameMessage(rec: FrameRecord): string {
+  return JSON.stringify({ type: 'frame', ...rec });
+}
+
+export function eventMessage(rec: EventRecord): string {
+  return JSON.stringify({ type: 'event', ...rec });
+}
+
+export function gapMessage(gap: CaptureGap): string {
+  return JSON.stringify({ type: 'gap', ...gap });
+}
+
+/** Reads a viewer's message; returns the message or a one-line reason it was not understood. */
+export function parseClientMessage(text: string): ClientMessage | { problem: string } {
+  let value: unknown;
+  try {
+    value = JSON.parse(text);
+  } catch {
+    return { problem: 'not JSON' };
+  }
+  if (typeof value !== 'object' || value === null || Array.isArray(value)) return { problem: 'not a JSON object' };
+  const obj = value as Record<string, unknown>;
+  if (obj.type === 'ping') {
+    const id = obj.id;
+    return { type: 'ping', id: typeof id === 'string' || typeof id === 'number' ? id : null };
+  }
+  if (obj.type === 'subscribe') {
+    if (typeof obj.frames !== 'boolean') return { problem: 'subscribe needs "frames": true or false' };
+    return { type: 'subscribe', frames: obj.frames };
+  }
+  return { problem: `unknown type ${JSON.stringify(obj.type ?? null).slice(0, 40)}` };
+}

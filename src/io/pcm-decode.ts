@@ -1,0 +1,69 @@
+/**
+ * Pure decoding of interleaved little-endian PCM bytes into planar float channels.
+ * No I/O, no allocation: callers own the byte buffer and the output arrays.
+ *
+ * Scaling (common practice, no source; it is also how sox converts to float): signed
+ * integers are divided by 2^(bits-1), so full negative scale is exactly -1; unsigned 8-bit
+ * is offset by 128 first. Float samples are passed through unchanged (not clipped).
+ */
+export type SampleEncoding = 'u8' | 's16' | 's24' | 's32' | 'f32' | 'f64';
+
+export const BYTES_PER_SAMPLE: Readonly<Record<SampleEncoding, number>> = {
+  u8: 1,
+  s16: 2,
+  s24: 3,
+  s32: 4,
+  f32: 4,
+  f64: 8,
+};
+
+const S16 = 1 / 32768;
+const S24 = 1 / 8388608;
+const S32 = 1 / 2147483648;
+
+/**
+ * Decode `frames` interleaved frames starting at `bytes[0]` into `out[c][outOffset ..]`.
+ * `bytes` must hold at least frames * channels * BYTES_PER_SAMPLE[encoding] bytes;
+ * `out` must hold one array per channel.
+ */
+export function deinterleave(
+  encoding: SampleEncoding,
+  bytes: Uint8Array,
+  frames: number,
+  out: readonly Float32Array[],
+  outOffset = 0,
+): void {
+  const channels = out.length;
+  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const step = BYTES_PER_SAMPLE[encoding];
+  const stride = step * channels;
+  for (let c = 0; c < channels; c++) {
+    const dst = out[c]!;
+    let o = c * step;
+    const end = outOffset + frames;
+    switch (encoding) {
+      case 'u8':
+        for (let i = outOffset; i < end; i++, o += stride) dst[i] = (bytes[o]! - 128) / 128;
+        break;
+      case 's16':
+        for (let i = outOffset; i < end; i++, o += stride) dst[i] = view.getInt16(o, true) * S16;
+        break;
+      case 's24':
+        for (let i = outOffset; i < end; i++, o += stride) {
+          // Three bytes, sign taken from the top byte.
+          const v = bytes[o]! | (bytes[o + 1]! << 8) | (bytes[o + 2]! << 16);
+          dst[i] = ((v << 8) >> 8) * S24;
+        }
+        break;
+      case 's32':
+        for (let i = outOffset; i < end; i++, o += stride) dst[i] = view.getInt32(o, true) * S32;
+        break;
+      case 'f32':
+        for (let i = outOffset; i < end; i++, o += stride) dst[i] = view.getFloat32(o, true);
+        break;
+      case 'f64':
+        for (let i = outOffset; i < end; i++, o += stride) dst[i] = view.getFloat64(o, true);
+        break;
+    }
+  }
+}

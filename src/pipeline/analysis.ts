@@ -1,0 +1,70 @@
+import type { DirectionModel } from '../direction/direction-model.js';
+import { PairDirectionModel } from '../direction/pair-direction.js';
+import { SrpDirectionModel } from '../direction/srp-search.js';
+import { Framer } from '../dsp/framer.js';
+import type { ArrayGeometry } from '../geometry/array-geometry.js';
+import type { AudioSource } from '../io/audio-source.js';
+import { resolveAnalysisOptions, type AnalysisOptions, type ResolvedAnalysis } from './analysis-options.js';
+import { HopAnalyzer, type HopResult } from './hop-analyzer.js';
+
+export interface AnalysisSetup {
+  analyzer: HopAnalyzer;
+  model: DirectionModel;
+  options: ResolvedAnalysis;
+  geometry: ArrayGeometry;
+  speedOfSound: number;
+}
+
+/** Build the analysis for a geometry and a stream format. */
+export function createAnalysis(
+  geometry: ArrayGeometry,
+  sampleRate: number,
+  speedOfSound: number,
+  options: AnalysisOptions,
+): AnalysisSetup {
+  const resolved = resolveAnalysisOptions(options, sampleRate);
+  let model: DirectionModel;
+  if (geometry.mics.length === 2) {
+    model = new PairDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);
+  } else {
+    model = new SrpDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);
+  }
+  const analyzer = new HopAnalyzer(geometry.mics.length, sampleRate, model, resolved);
+  return { analyzer, model, options: resolved, geometry, speedOfSound };
+}
+
+/**
+ * Drive an analysis from a source: blocks -> frames -> hop results. `onHop` may return a
+ * promise (a sink applying back-pressure); the next block is read only after it settles.
+ */
+export async function runAnalysis(
+  source: AudioSource,
+  analyzer: HopAnalyzer,
+  onHop: (r: HopResult) => void | Promise<void>,
+  onProgress?: (framesDone: number) => void,
+): Promise<number> {
+  const framer = new Framer(analyzer.channels, analyzer.frame, analyzer.hop);
+  let hops = 0;
+  let done = 0;
+  const pending: Promise<void>[] = [];
+  for await (const block of source.blocks()) {
+    framer.push(block.channels, block.length, (frames) => {
+      const out = onHop(analyzer.process(frames));
+      hops++;
+      if (out) pending.push(out);
+    });
+    if (pending.length) {
+      await Promise.all(pending);
+      pending.length = 0;
+    }
+    done += block.length;
+    onProgress?.(done);
+  }
+  return hops;
+}
+
+/** Analyse planar arrays held in memory (tests, the simulator's checks). */
+export function analyzeArrays(setup: AnalysisSetup, channels: readonly Float32Array[], onHop: (r: HopResult) => void): void {
+  const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop);
+  framer.push(channels, channels[0]!.length, (frames) => onHop(setup.analyzer.process(frames)));
+}

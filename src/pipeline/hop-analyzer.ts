@@ -1,0 +1,324 @@
+import { makeBands, type BandLayout } from '../dsp/bands.js';
+import { RealFft } from '../dsp/fft.js';
+import { addBandScores, PairCorrelator, refineLag } from '../dsp/gcc.js';
+import { OnsetWeigher } from '../dsp/onset.js';
+import { hannWindow } from '../dsp/window.js';
+import type { Direction, DirectionModel } from '../direction/direction-model.js';
+import type { ResolvedAnalysis } from './analysis-options.js';
+
+/** Most candidates compared by the band vote per hop. */
+const MAX_CANDIDATES = 4;
+/** A band votes only when its best candidate reaches this normalised score. */
+const MIN_BAND_SCORE = 0.2;
+/** Margin over the runner-up that earns a band a full vote. */
+const FULL_VOTE_MARGIN = 0.1;
+/** A further source must gather this share of the winner's votes. */
+const SOURCE_VOTE_RATIO = 0.35;
+
+/** One hop's result. The object and its arrays are reused by the next hop: copy what you keep. */
+export interface HopResult {
+  index: number;
+  timeS: number;
+  levelDbfs: number;
+  channelLevelsDbfs: Float64Array;
+  /** Onset strength in [0, 1]. */
+  onset: number;
+  confidence: number;
+  /** True when the strongest source is confident enough to report. */
+  valid: boolean;
+  /** Refined delay per pair for the strongest source, seconds (NaN when none). */
+  tdoaS: Float64Array;
+  /** Sources found, strongest first. */
+  sourceCount: number;
+  sources: { azimuthDeg: number; elevationDeg: number | null; score: number }[];
+  /** Band vote: weight given and candidate voted for (-1 none), per band. */
+  bandVoteWeight: Float64Array;
+  bandVoteCandidate: Int32Array;
+  /** Pair-0 delay (s) of each band's chosen candidate, NaN when the band did not vote. */
+  bandVoteTdoaS: Float64Array;
+  bands: BandLayout;
+  /** Index of the band that contributed most to the strongest source, -1 when none. */
+  dominantBand: number;
+  /** Per-pair diagnostics of the strongest source: normalised peak height and band agreement. */
+  pairPeak: Float64Array;
+  pairAgreement: Float64Array;
+}
+
+/**
+ * The per-hop analysis core: windowed frames in, direction estimates out. Pure and
+ * synchronous; all buffers are allocated once here.
+ *
+ * Stages: Hann window and one real FFT per channel; per-bin onset weights from the power
+ * rise; per pair the PHAT cross-spectrum added into an onset-weighted memory and one inverse
+ * FFT; candidates from the direction model; band voting over the candidates; sub-sample
+ * refinement of the winners' lags on the bands that voted for them; direction from the lags.
+ */
+export class HopAnalyzer {
+  readonly frame: number;
+  readonly hop: number;
+  readonly bands: BandLayout;
+  private readonly fft: RealFft;
+  private readonly window: Float64Array;
+  private readonly windowed: Float64Array;
+  private readonly re: Float64Array[];
+  private readonly im: Float64Array[];
+  private readonly power: Float64Array;
+  private readonly weights: Float64Array;
+  private readonly weightAcc: Float64Array;
+  private readonly bandWeight: Float64Array;
+  private readonly onset: OnsetWeigher;
+  private readonly correlators: PairCorrelator[];
+  private readonly memory: number;
+  private readonly candLags: Float64Array;
+  private readonly candScores: Float64Array;
+  private readonly bandScores: Float64Array;
+  private readonly votes: Float64Array;
+  private readonly useBand: Uint8Array;
+  private readonly refined: Float64Array;
+  private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
+  private readonly order: Int32Array;
+  private readonly result: HopResult;
+  private hopIndex = 0;
+
+  constructor(
+    readonly channels: number,
+    readonly sampleRate: number,
+    readonly model: DirectionModel,
+    readonly options: ResolvedAnalysis,
+  ) {
+    const n = options.frame;
+    this.frame = n;
+    this.hop = options.hop;
+    this.fft = new RealFft(n);
+    const bins = n / 2 + 1;
+    this.window = hannWindow(n);
+    this.windowed = new Float64Array(n);
+    this.re = Array.from({ length: channels }, () => new Float64Array(bins));
+    this.im = Array.from({ length: channels }, () => new Float64Array(bins));
+    this.power = new Float64Array(bins);
+    this.weights = new Float64Array(bins);
+    this.weightAcc = new Float64Array(bins);
+    this.bands = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
+    this.bandWeight = new Float64Array(options.bands);
+    const hopS = options.hop / sampleRate;
+    this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
+    this.onset = new OnsetWeigher(bins, {
+      floor: 1 - options.onsetWeight,
+      fullRise: 4,
+      backgroundDecay: Math.exp(-hopS / options.backgroundS),
+    });
+    const P = model.pairs.length;
+    this.correlators = model.pairs.map((_, p) => new PairCorrelator(n, model.maxLag[p]!));
+    this.candLags = new Float64Array(MAX_CANDIDATES * P);
+    this.candScores = new Float64Array(MAX_CANDIDATES);
+    this.bandScores = new Float64Array(options.bands * MAX_CANDIDATES);
+    this.votes = new Float64Array(MAX_CANDIDATES);
+    this.useBand = new Uint8Array(options.bands);
+    this.refined = new Float64Array(P);
+    this.order = new Int32Array(MAX_CANDIDATES);
+    this.result = {
+      index: 0,
+      timeS: 0,
+      levelDbfs: -Infinity,
+      channelLevelsDbfs: new Float64Array(channels),
+      onset: 0,
+      confidence: 0,
+      valid: false,
+      tdoaS: new Float64Array(P),
+      sourceCount: 0,
+      sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0 })),
+      bandVoteWeight: new Float64Array(options.bands),
+      bandVoteCandidate: new Int32Array(options.bands),
+      bandVoteTdoaS: new Float64Array(options.bands),
+      bands: this.bands,
+      dominantBand: -1,
+      pairPeak: new Float64Array(P),
+      pairAgreement: new Float64Array(P),
+    };
+  }
+
+  /** Analyse one hop. `frames[c]` holds the frame's raw samples of channel c (length = frame). */
+  process(frames: readonly Float64Array[]): HopResult {
+    const n = this.frame;
+    const res = this.result;
+    const { firstBin: k0, endBin: k1 } = this.bands;
+    res.index = this.hopIndex;
+    res.timeS = (this.hopIndex * this.hop + n / 2) / this.sampleRate;
+    this.hopIndex++;
+
+    // Levels, window, spectra, per-bin power.
+    let totalMs = 0;
+    this.power.fill(0, k0, k1);
+    for (let c = 0; c < this.channels; c++) {
+      const x = frames[c]!;
+      let ms = 0;
+      for (let i = 0; i < n; i++) {
+        const v = x[i]!;
+        ms += v * v;
+        this.windowed[i] = v * this.window[i]!;
+      }
+      ms /= n;
+      totalMs += ms;
+      res.channelLevelsDbfs[c] = toDb(ms);
+      const re = this.re[c]!;
+      const im = this.im[c]!;
+      this.fft.forward(this.windowed, re, im);
+      for (let k = k0; k < k1; k++) this.power[k] += re[k]! * re[k]! + im[k]! * im[k]!;
+    }
+    res.levelDbfs = toDb(totalMs / this.channels);
+
+    // Onset weights and the weight memory.
+    res.onset = this.onset.update(this.power, k0, k1, this.weights);
+    const mem = this.memory;
+    for (let k = k0; k < k1; k++) this.weightAcc[k] = mem * this.weightAcc[k]! + this.weights[k]!;
+    for (let b = 0; b < this.bands.count; b++) {
+      let s = 0;
+      for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) s += this.weightAcc[k]!;
+      this.bandWeight[b] = s;
+    }
+
+    // Pair cross-spectra and correlations.
+    const pairs = this.model.pairs;
+    const P = pairs.length;
+    for (let p = 0; p < P; p++) {
+      const [a, b] = pairs[p]!;
+      const pc = this.correlators[p]!;
+      pc.accumulate(this.re[a]!, this.im[a]!, this.re[b]!, this.im[b]!, this.weights, k0, k1, mem);
+      pc.correlate(this.fft);
+    }
+
+    this.vote(res, P);
+    return res;
+  }
+
+  private vote(res: HopResult, P: number): void {
+    const opts = this.options;
+    const B = this.bands.count;
+    const K = this.model.findCandidates(this.correlators, MAX_CANDIDATES, this.candLags, this.candScores);
+    res.sourceCount = 0;
+    res.valid = false;
+    res.confidence = 0;
+    res.dominantBand = -1;
+    res.tdoaS.fill(NaN);
+    res.bandVoteWeight.fill(0);
+    res.bandVoteCandidate.fill(-1);
+    res.bandVoteTdoaS.fill(NaN);
+    res.pairPeak.fill(0);
+    res.pairAgreement.fill(0);
+    if (K === 0) return;
+
+    // Band scores: s[b, c] = sum over pairs of Re(A e^{j w tau}) / (pairs * band weight).
+    const s = this.bandScores;
+    s.fill(0);
+    for (let c = 0; c < K; c++) {
+      for (let p = 0; p < P; p++) addBandScores(this.correlators[p]!, this.bands, this.candLags[c * P + p]!, s, MAX_CANDIDATES, c);
+    }
+    for (let b = 0; b < B; b++) {
+      const norm = 1 / (P * Math.max(1e-12, this.bandWeight[b]!));
+      for (let c = 0; c < K; c++) s[b * MAX_CANDIDATES + c]! *= norm;
+    }
+
+    // Each band votes for its best candidate, with a weight that saturates at a clear margin.
+    const votes = this.votes;
+    votes.fill(0);
+    if (opts.voting) {
+      for (let b = 0; b < B; b++) {
+        let best = -1;
+        let s1 = -Infinity;
+        let s2 = 0;
+        for (let c = 0; c < K; c++) {
+          const v = s[b * MAX_CANDIDATES + c]!;
+          if (v > s1) {
+            s2 = Math.max(s2, s1);
+            s1 = v;
+            best = c;
+          } else if (v > s2) s2 = v;
+        }
+        if (best < 0 || s1 < MIN_BAND_SCORE) continue;
+        const w = Math.min(1, (s1 - Math.max(0, s2)) / FULL_VOTE_MARGIN);
+        if (w <= 0) continue;
+        votes[best] += w;
+        res.bandVoteWeight[b] = w;
+        res.bandVoteCandidate[b] = best;
+        res.bandVoteTdoaS[b] = this.candLags[best * P]! / this.sampleRate;
+      }
+    } else {
+      // Plain peak: the model's best candidate takes every band.
+      votes[0] = 1;
+      for (let b = 0; b < B; b++) {
+        res.bandVoteWeight[b] = 1;
+        res.bandVoteCandidate[b] = 0;
+        res.bandVoteTdoaS[b] = this.candLags[0]! / this.sampleRate;
+      }
+    }
+    let total = 0;
+    for (let c = 0; c < K; c++) total += votes[c]!;
+    if (total <= 0) return;
+
+    // Candidates by votes.
+    const order = this.order;
+    for (let c = 0; c < K; c++) order[c] = c;
+    for (let i = 1; i < K; i++) {
+      const v = order[i]!;
+      let j = i - 1;
+      while (j >= 0 && votes[order[j]!]! < votes[v]!) {
+        order[j + 1] = order[j]!;
+        j--;
+      }
+      order[j + 1] = v;
+    }
+    const winnerVotes = votes[order[0]!]!;
+    for (let i = 0; i < K && res.sourceCount < opts.maxSources; i++) {
+      const c = order[i]!;
+      if (votes[c]! < SOURCE_VOTE_RATIO * winnerVotes || votes[c]! <= 0) break;
+      // Bands that voted for this candidate refine it (all bands in plain mode).
+      let coherence = 0;
+      let voteSum = 0;
+      let domBand = -1;
+      let domScore = -Infinity;
+      for (let b = 0; b < B; b++) {
+        const use = res.bandVoteCandidate[b] === c;
+        this.useBand[b] = use ? 1 : 0;
+        if (!use) continue;
+        const w = opts.voting ? res.bandVoteWeight[b]! : this.bandWeight[b]!;
+        const sb = s[b * MAX_CANDIDATES + c]!;
+        coherence += w * sb;
+        voteSum += w;
+        if (w * sb > domScore) {
+          domScore = w * sb;
+          domBand = b;
+        }
+      }
+      coherence = voteSum > 0 ? Math.max(0, Math.min(1, coherence / voteSum)) : 0;
+      for (let p = 0; p < P; p++) {
+        this.refined[p] = refineLag(this.correlators[p]!, this.bands, this.useBand, this.candLags[c * P + p]!);
+      }
+      if (!this.model.solve(this.refined, 0, this.dir)) continue;
+      const agreement = votes[c]! / total;
+      const src = res.sources[res.sourceCount]!;
+      src.azimuthDeg = this.dir.azimuthDeg;
+      src.elevationDeg = this.dir.elevationDeg;
+      src.score = Math.max(0, Math.min(1, coherence * Math.sqrt(agreement)));
+      if (res.sourceCount === 0) {
+        res.confidence = res.levelDbfs < opts.silenceDbfs ? 0 : src.score;
+        res.dominantBand = domBand;
+        for (let p = 0; p < P; p++) {
+          res.tdoaS[p] = this.refined[p]! / this.sampleRate;
+          const pc = this.correlators[p]!;
+          let den = 0;
+          for (let b = 0; b < B; b++) den += this.bandWeight[b]!;
+          // The inverse FFT of the half spectrum gives (2 / N) sum_k Re(A_k e^{j w tau}).
+          const num = (pc.at(Math.round(this.refined[p]!)) * pc.n) / 2;
+          res.pairPeak[p] = den > 0 ? Math.max(0, Math.min(1, num / den)) : 0;
+          res.pairAgreement[p] = agreement;
+        }
+      }
+      res.sourceCount++;
+    }
+    res.valid = res.sourceCount > 0 && res.confidence >= opts.minConfidence;
+  }
+}
+
+function toDb(meanSquare: number): number {
+  return meanSquare > 0 ? 10 * Math.log10(meanSquare) : -200;
+}

@@ -1,0 +1,165 @@
+/**
+ * A bank of Kalman filters, one per track slot, on one angle and its rate (a nearly constant
+ * rate model whose rate relaxes to zero with a time constant). State and covariance live in
+ * typed arrays sized once, so predicting and updating allocate nothing; the numbers of a call
+ * go in and out through `io` (see hop-scratch.ts for why).
+ *
+ * The domain decides what "near" means:
+ * - 'circle': azimuth in (-180, 180]; innovations are taken the short way round, so 179 and
+ *   -179 are 2 degrees apart (wrap-around at the seam).
+ * - 'half-circle': azimuth of a two-mic pair in [-90, 90]; a source moving past +-90 (endfire)
+ *   comes back as its mirror image, so the state reflects there (angle -> +-180 - angle, rate
+ *   negated) and +90 and -90 are 180 degrees apart, never neighbours through 180.
+ * - 'elevation': [-90, 90], clamped at the poles (the rate stops there).
+ *
+ * Model (common practice, no source; any estimation text): x = [angle, rate],
+ * F = [[1, dt], [0, a]], a = exp(-dt / rateMemory), Q = q [[dt^3/3, dt^2/2], [dt^2/2, dt]]
+ * with q = rateWander^2 (continuous white noise on the rate).
+ */
+import { wrapDeg } from './circular.js';
+
+export type AngleDomain = 'circle' | 'half-circle' | 'elevation';
+
+export interface AngleFilterParams {
+  rateWanderDegS: number;
+  maxRateDegS: number;
+  rateMemoryS: number;
+  maxUncertaintyDeg: number;
+}
+
+/** Slots of `io`. */
+export const IO_DT = 0;
+/** Measured angle (init, update, distance2). */
+export const IO_Z = 1;
+/** Its variance; for init, the starting angle variance. */
+export const IO_R = 2;
+/** Output of distance2: squared innovation over its variance. */
+export const IO_D2 = 3;
+/** Starting rate standard deviation (init). */
+export const IO_RATE_SIGMA = 4;
+
+export class AngleFilterBank {
+  readonly angle: Float64Array;
+  readonly rate: Float64Array;
+  readonly io = new Float64Array(5);
+  private readonly p00: Float64Array;
+  private readonly p01: Float64Array;
+  private readonly p11: Float64Array;
+  private readonly q: number;
+  private readonly maxVar: number;
+  private readonly maxRate: number;
+  private readonly maxRateVar: number;
+  private readonly rateMemoryS: number;
+  private readonly circle: boolean;
+  private readonly reflect: boolean;
+
+  constructor(size: number, domain: AngleDomain, params: AngleFilterParams) {
+    this.angle = new Float64Array(size);
+    this.rate = new Float64Array(size);
+    this.p00 = new Float64Array(size);
+    this.p01 = new Float64Array(size);
+    this.p11 = new Float64Array(size);
+    this.q = params.rateWanderDegS * params.rateWanderDegS;
+    this.maxVar = params.maxUncertaintyDeg * params.maxUncertaintyDeg;
+    this.maxRate = params.maxRateDegS;
+    const rateCap = Math.max(params.maxRateDegS, 1e-6);
+    this.maxRateVar = rateCap * rateCap;
+    this.rateMemoryS = params.rateMemoryS;
+    this.circle = domain === 'circle';
+    this.reflect = domain === 'half-circle';
+  }
+
+  /** Start a slot at io[IO_Z] with variance io[IO_R], rate 0 +- io[IO_RATE_SIGMA]. */
+  init(slot: number): void {
+    const io = this.io;
+    const z = io[IO_Z]!;
+    this.angle[slot] = this.circle ? wrapDeg(z) : Math.max(-90, Math.min(90, z));
+    this.rate[slot] = 0;
+    this.p00[slot] = Math.min(io[IO_R]!, this.maxVar);
+    this.p01[slot] = 0;
+    const rs = io[IO_RATE_SIGMA]!;
+    this.p11[slot] = Math.min(rs * rs, this.maxRateVar);
+  }
+
+  /** Advance a slot by io[IO_DT] seconds. */
+  predict(slot: number): void {
+    const dt = this.io[IO_DT]!;
+    if (!(dt > 0)) return;
+    const a = Math.exp(-dt / this.rateMemoryS);
+    const p00 = this.p00[slot]!;
+    const p01 = this.p01[slot]!;
+    const p11 = this.p11[slot]!;
+    const q = this.q;
+    const dt2 = dt * dt;
+    // P' = F P F^T + Q
+    let n00 = p00 + 2 * dt * p01 + dt2 * p11 + (q * dt2 * dt) / 3;
+    let n01 = a * (p01 + dt * p11) + (q * dt2) / 2;
+    let n11 = a * a * p11 + q * dt;
+    if (n00 > this.maxVar) {
+      n01 *= Math.sqrt(this.maxVar / n00);
+      n00 = this.maxVar;
+    }
+    if (n11 > this.maxRateVar) {
+      n01 *= Math.sqrt(this.maxRateVar / n11);
+      n11 = this.maxRateVar;
+    }
+    this.p00[slot] = n00;
+    this.p01[slot] = n01;
+    this.p11[slot] = n11;
+    const rate = this.rate[slot]!;
+    this.angle[slot] = this.angle[slot]! + rate * dt;
+    this.rate[slot] = rate * a;
+    this.settle(slot);
+  }
+
+  /** io[IO_D2] = squared innovation of io[IO_Z] (variance io[IO_R]) over its variance. */
+  distance2(slot: number): void {
+    const io = this.io;
+    let nu = io[IO_Z]! - this.angle[slot]!;
+    if (this.circle) nu = wrapDeg(nu);
+    io[IO_D2] = (nu * nu) / (this.p00[slot]! + io[IO_R]!);
+  }
+
+  /** Fold in the measurement io[IO_Z] of variance io[IO_R]. */
+  update(slot: number): void {
+    const io = this.io;
+    let nu = io[IO_Z]! - this.angle[slot]!;
+    if (this.circle) nu = wrapDeg(nu);
+    const p00 = this.p00[slot]!;
+    const p01 = this.p01[slot]!;
+    const p11 = this.p11[slot]!;
+    const s = p00 + io[IO_R]!;
+    const k0 = p00 / s;
+    const k1 = p01 / s;
+    this.angle[slot] = this.angle[slot]! + k0 * nu;
+    this.rate[slot] = this.rate[slot]! + k1 * nu;
+    this.p00[slot] = (1 - k0) * p00;
+    this.p01[slot] = (1 - k0) * p01;
+    this.p11[slot] = Math.max(p11 - k1 * p01, 0);
+    this.settle(slot);
+  }
+
+  /** Bring the state back into its domain, and keep the rate within its cap. */
+  private settle(slot: number): void {
+    const cap = this.maxRate;
+    const rate = this.rate[slot]!;
+    if (rate > cap) this.rate[slot] = cap;
+    else if (rate < -cap) this.rate[slot] = -cap;
+    const angle = this.angle[slot]!;
+    if (this.circle) {
+      if (angle > 180 || angle <= -180) this.angle[slot] = wrapDeg(angle);
+      return;
+    }
+    if (angle <= 90 && angle >= -90) return;
+    if (this.reflect) {
+      // Past endfire the pair sees the mirror image: reflect the angle, reverse the motion.
+      this.angle[slot] = angle > 90 ? Math.max(-90, 180 - angle) : Math.min(90, -180 - angle);
+      this.rate[slot] = -this.rate[slot]!;
+      this.p01[slot] = -this.p01[slot]!;
+    } else {
+      this.angle[slot] = angle > 90 ? 90 : -90;
+      this.rate[slot] = 0;
+      this.p01[slot] = 0;
+    }
+  }
+}

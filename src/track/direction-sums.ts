@@ -1,0 +1,82 @@
+/**
+ * Running weighted sums of a set of directions, one set per slot, in typed arrays: the
+ * weighted circular mean and circular standard deviation of the azimuths (Mardia and Jupp
+ * 2000), or, on a mirrored two-mic pair whose azimuths live on [-90, 90] and do not wrap,
+ * the weighted arithmetic mean and standard deviation; plus the weighted mean elevation.
+ */
+import { meanFromSums, resultantFromSums, stdFromResultantDeg } from './circular.js';
+import { CONFIDENCE, MIN_WEIGHT, type HopScratch } from './hop-scratch.js';
+
+const DEG = Math.PI / 180;
+
+export class DirectionSums {
+  private readonly sumCos: Float64Array;
+  private readonly sumSin: Float64Array;
+  private readonly sumW: Float64Array;
+  private readonly sumLin: Float64Array;
+  private readonly sumLin2: Float64Array;
+  private readonly sumEl: Float64Array;
+  private readonly sumElW: Float64Array;
+
+  constructor(
+    size: number,
+    private readonly mirrored: boolean,
+    private readonly scratch: HopScratch,
+  ) {
+    this.sumCos = new Float64Array(size);
+    this.sumSin = new Float64Array(size);
+    this.sumW = new Float64Array(size);
+    this.sumLin = new Float64Array(size);
+    this.sumLin2 = new Float64Array(size);
+    this.sumEl = new Float64Array(size);
+    this.sumElW = new Float64Array(size);
+  }
+
+  reset(slot: number): void {
+    this.sumCos[slot] = 0;
+    this.sumSin[slot] = 0;
+    this.sumW[slot] = 0;
+    this.sumLin[slot] = 0;
+    this.sumLin2[slot] = 0;
+    this.sumEl[slot] = 0;
+    this.sumElW[slot] = 0;
+  }
+
+  /** Add candidate j of the current hop, weighted by hop confidence x its score. */
+  add(slot: number, j: number): void {
+    const sc = this.scratch;
+    const azimuthDeg = sc.candAz[j]!;
+    const elevationDeg = sc.candEl[j]!;
+    const w = Math.max(sc.hop[CONFIDENCE]! * sc.candScore[j]!, MIN_WEIGHT);
+    this.sumCos[slot] = this.sumCos[slot]! + w * Math.cos(azimuthDeg * DEG);
+    this.sumSin[slot] = this.sumSin[slot]! + w * Math.sin(azimuthDeg * DEG);
+    this.sumW[slot] = this.sumW[slot]! + w;
+    this.sumLin[slot] = this.sumLin[slot]! + w * azimuthDeg;
+    this.sumLin2[slot] = this.sumLin2[slot]! + w * azimuthDeg * azimuthDeg;
+    if (elevationDeg === elevationDeg) {
+      this.sumEl[slot] = this.sumEl[slot]! + w * elevationDeg;
+      this.sumElW[slot] = this.sumElW[slot]! + w;
+    }
+  }
+
+  meanAzimuthDeg(slot: number): number {
+    if (this.mirrored) return this.sumW[slot]! > 0 ? this.sumLin[slot]! / this.sumW[slot]! : NaN;
+    return meanFromSums(this.sumCos[slot]!, this.sumSin[slot]!);
+  }
+
+  spreadDeg(slot: number): number {
+    const w = this.sumW[slot]!;
+    if (this.mirrored) {
+      if (!(w > 0)) return Infinity;
+      const mean = this.sumLin[slot]! / w;
+      return Math.sqrt(Math.max(0, this.sumLin2[slot]! / w - mean * mean));
+    }
+    return stdFromResultantDeg(resultantFromSums(this.sumCos[slot]!, this.sumSin[slot]!, w));
+  }
+
+  /** Weighted mean elevation, or null when no direction carried one. */
+  meanElevationDeg(slot: number): number | null {
+    const w = this.sumElW[slot]!;
+    return w > 0 ? this.sumEl[slot]! / w : null;
+  }
+}

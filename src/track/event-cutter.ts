@@ -1,0 +1,162 @@
+/**
+ * Cuts one track's activity into events (one record per call), one slot per track, state in
+ * typed arrays; it reads the current hop from the shared HopScratch.
+ *
+ * Per hop a track is either supported (a candidate was assigned to it) or not. With
+ * c = hop confidence x candidate score:
+ * - an event starts on a supported hop with c >= eventEnterConfidence and either level >=
+ *   eventEnterDbfs, or onset >= onsetThreshold and level >= eventLeaveDbfs (a sharp rise in a
+ *   quiet call);
+ * - it continues over hops with c >= eventLeaveConfidence and level >= eventLeaveDbfs
+ *   (hysteresis: the leave thresholds sit below the enter thresholds);
+ * - other hops are a pause; a pause up to maxGapS is bridged, a longer one ends the event at
+ *   its last sustaining hop; an onset >= onsetThreshold during a pause of two hops or more,
+ *   or on the hop that ends it, splits the event (a new call). A one-hop pause never splits:
+ *   the onset strength belongs to the whole hop, so in a chorus it may come from another
+ *   caller while this one merely dropped out for a hop;
+ * - events shorter than minEventS are dropped.
+ * An event spans [first hop centre - hop/2, last sustaining hop centre + hop/2]; its azimuth
+ * is the circular mean of its hops' azimuths weighted by c (linear mean on a mirrored pair),
+ * spread_deg their circular standard deviation, confidence the mean c, peak_dbfs the loudest
+ * hop level, band_hz the band of the loudest hop that named one.
+ *
+ * Latency: an event is emitted at the first hop more than maxGapS after its last sustaining
+ * hop, i.e. about maxGapS + hop/2 after the call ends (plus whatever delay the analysis
+ * frames add before the hop reaches the tracker), or when its track dies or the stream ends.
+ */
+import type { EventRecord } from '../records.js';
+import { DirectionSums } from './direction-sums.js';
+import { BAND_HI, BAND_LO, CONFIDENCE, HOP_S, LEVEL, ONSET, TIME, type HopScratch } from './hop-scratch.js';
+import type { TrackerOptions } from './options.js';
+
+/** Shortest pause (hops) after which an onset splits an event. */
+const MIN_SPLIT_PAUSE_HOPS = 2;
+
+export class EventCutter {
+  private readonly active: Uint8Array;
+  private readonly startT: Float64Array;
+  private readonly lastT: Float64Array;
+  private readonly pausedHops: Int32Array;
+  private readonly pauseOnset: Float64Array;
+  private readonly hops: Int32Array;
+  private readonly sumConf: Float64Array;
+  private readonly peak: Float64Array;
+  private readonly peakBandLo: Float64Array;
+  private readonly peakBandHi: Float64Array;
+  private readonly peakBandLevel: Float64Array;
+  private readonly sums: DirectionSums;
+
+  constructor(
+    size: number,
+    private readonly o: Readonly<TrackerOptions>,
+    private readonly scratch: HopScratch,
+  ) {
+    this.active = new Uint8Array(size);
+    this.startT = new Float64Array(size);
+    this.lastT = new Float64Array(size);
+    this.pausedHops = new Int32Array(size);
+    this.pauseOnset = new Float64Array(size);
+    this.hops = new Int32Array(size);
+    this.sumConf = new Float64Array(size);
+    this.peak = new Float64Array(size);
+    this.peakBandLo = new Float64Array(size);
+    this.peakBandHi = new Float64Array(size);
+    this.peakBandLevel = new Float64Array(size);
+    this.sums = new DirectionSums(size, o.mirroredPair, scratch);
+  }
+
+  /** Forget any open event of a slot. */
+  reset(slot: number): void {
+    this.active[slot] = 0;
+  }
+
+  /**
+   * Feed the current hop to a slot; j is the candidate assigned to its track, or -1. Returns
+   * the event that ended, for track >= 0 (a tentative track, track < 0, has its events
+   * dropped), else null.
+   */
+  step(slot: number, j: number, track: number): EventRecord | null {
+    const o = this.o;
+    const sc = this.scratch;
+    const hop = sc.hop;
+    const level = hop[LEVEL]!;
+    const onset = hop[ONSET]!;
+    const c = j >= 0 ? hop[CONFIDENCE]! * sc.candScore[j]! : 0;
+    const sustains = j >= 0 && c >= o.eventLeaveConfidence && level >= o.eventLeaveDbfs;
+    if (this.active[slot] === 0) {
+      const enters = sustains && c >= o.eventEnterConfidence && (level >= o.eventEnterDbfs || onset >= o.onsetThreshold);
+      if (enters) this.begin(slot, j);
+      return null;
+    }
+    if (sustains) {
+      if (this.pausedHops[slot]! >= MIN_SPLIT_PAUSE_HOPS && Math.max(onset, this.pauseOnset[slot]!) >= o.onsetThreshold) {
+        const ended = this.close(slot, track);
+        this.begin(slot, j);
+        return ended;
+      }
+      this.accumulate(slot, j);
+      return null;
+    }
+    this.pausedHops[slot] = this.pausedHops[slot]! + 1;
+    if (onset > this.pauseOnset[slot]!) this.pauseOnset[slot] = onset;
+    if (hop[TIME]! - this.lastT[slot]! > o.maxGapS) return this.close(slot, track);
+    return null;
+  }
+
+  /** End the slot's open event now (track death, end of stream); null when none or too short. */
+  close(slot: number, track: number): EventRecord | null {
+    if (this.active[slot] === 0) return null;
+    this.active[slot] = 0;
+    const hopS = this.scratch.hop[HOP_S]!;
+    const start = Math.max(0, this.startT[slot]! - hopS / 2);
+    const end = this.lastT[slot]! + hopS / 2;
+    if (track < 0 || end - start < this.o.minEventS) return null;
+    const record: EventRecord = {
+      start_s: start,
+      end_s: end,
+      azimuth_deg: this.sums.meanAzimuthDeg(slot),
+      spread_deg: this.sums.spreadDeg(slot),
+      confidence: this.sumConf[slot]! / this.hops[slot]!,
+      track,
+      peak_dbfs: this.peak[slot]!,
+    };
+    const elevation = this.sums.meanElevationDeg(slot);
+    if (elevation !== null) record.elevation_deg = elevation;
+    if (this.peakBandLo[slot] === this.peakBandLo[slot]) record.band_hz = [this.peakBandLo[slot]!, this.peakBandHi[slot]!];
+    if (this.o.mirroredPair) record.mirror = 'front-back';
+    return record;
+  }
+
+  private begin(slot: number, j: number): void {
+    this.active[slot] = 1;
+    this.startT[slot] = this.scratch.hop[TIME]!;
+    this.hops[slot] = 0;
+    this.sumConf[slot] = 0;
+    this.peak[slot] = -Infinity;
+    this.peakBandLo[slot] = NaN;
+    this.peakBandHi[slot] = NaN;
+    this.peakBandLevel[slot] = -Infinity;
+    this.sums.reset(slot);
+    this.accumulate(slot, j);
+  }
+
+  private accumulate(slot: number, j: number): void {
+    const sc = this.scratch;
+    const hop = sc.hop;
+    const level = hop[LEVEL]!;
+    this.lastT[slot] = hop[TIME]!;
+    this.pausedHops[slot] = 0;
+    this.pauseOnset[slot] = 0;
+    this.hops[slot] = this.hops[slot]! + 1;
+    this.sumConf[slot] = this.sumConf[slot]! + hop[CONFIDENCE]! * sc.candScore[j]!;
+    this.sums.add(slot, j);
+    if (level > this.peak[slot]!) this.peak[slot] = level;
+    // The event's band: that of its loudest hop that named one.
+    const lo = hop[BAND_LO]!;
+    if (lo === lo && level > this.peakBandLevel[slot]!) {
+      this.peakBandLevel[slot] = level;
+      this.peakBandLo[slot] = lo;
+      this.peakBandHi[slot] = hop[BAND_HI]!;
+    }
+  }
+}

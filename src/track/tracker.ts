@@ -1,0 +1,427 @@
+/**
+ * The source tracker: follows several sources over time on the circle (or the sphere, when
+ * candidates carry elevations, or the half-circle of a two-mic pair) and cuts each track's
+ * activity into events. Pure and deterministic: one update() per hop, no clocks, no I/O; all
+ * state lives in slots allocated once (maxTracks of them), so the steady state allocates
+ * nothing per hop (event records and summaries are allocated when they are made).
+ *
+ * Per hop:
+ * 1. predict every live track to the hop's time (angle-filter.ts);
+ * 2. gate each candidate against each track by the Mahalanobis distance of its innovation;
+ *    a candidate whose hop confidence x score is below minConfidence is ignored;
+ * 3. assign candidates to confirmed tracks by global nearest neighbour (assignment.ts), then
+ *    the leftovers to tentative tracks, and update the assigned tracks;
+ * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate, starts a
+ *    tentative track; it is confirmed (and gets the next track id) after confirmHits supported
+ *    hops within confirmWindow hops, else dropped;
+ * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
+ *    unsupported and die after trackTimeoutS without support;
+ * 6. the event cutter (event-cutter.ts) sees every live track every hop.
+ *
+ * Two sources closer than about gateSigma x bearingNoiseDeg look like one and share a track.
+ */
+import { RuntimeFailure } from '../errors.js';
+import type { EventRecord } from '../records.js';
+import { AngleFilterBank, IO_D2, IO_DT, IO_R, IO_RATE_SIGMA, IO_Z } from './angle-filter.js';
+import { NearestNeighbourAssigner } from './assignment.js';
+import { DirectionSums } from './direction-sums.js';
+import { EventCutter } from './event-cutter.js';
+import { BAND_HI, BAND_LO, CONFIDENCE, DT, HOP_S, HopScratch, LEVEL, ONSET, TIME } from './hop-scratch.js';
+import { resolveTrackerOptions, type TrackerOptions, type TrackerSettings } from './options.js';
+import type { HopObservation, TrackSummary, TrackUpdate } from './types.js';
+
+const FREE = 0;
+const TENTATIVE = 1;
+const CONFIRMED = 2;
+
+/** Score floor for the measurement variance bearingNoise^2 / score. */
+const MIN_SCORE = 0.05;
+/** Floor on cos(elevation) when widening the azimuth noise of high candidates. */
+const MIN_COS_ELEVATION = 0.2;
+const DEG = Math.PI / 180;
+
+const NO_EVENTS: readonly EventRecord[] = Object.freeze([]);
+
+interface MutableUpdate {
+  trackIds: (number | null)[];
+  events: readonly EventRecord[];
+}
+
+export class Tracker {
+  readonly options: Readonly<TrackerOptions>;
+  private readonly size: number;
+  private readonly nCand: number;
+  private readonly sc: HopScratch;
+  private readonly az: AngleFilterBank;
+  private readonly el: AngleFilterBank;
+  private readonly state: Uint8Array;
+  private readonly id: Int32Array;
+  private readonly hasEl: Uint8Array;
+  private readonly hits: Int32Array;
+  private readonly age: Int32Array;
+  private readonly lastSupportT: Float64Array;
+  private readonly firstSeenT: Float64Array;
+  private readonly hopCount: Float64Array;
+  private readonly eventCount: Int32Array;
+  private readonly activeS: Float64Array;
+  private readonly chosen: Int32Array;
+  private readonly lifetime: DirectionSums;
+  private readonly cutter: EventCutter;
+  private readonly assigner: NearestNeighbourAssigner;
+  private readonly listed: Int32Array;
+  private readonly listedChoice: Int32Array;
+  private readonly cost: Float64Array;
+  private readonly candUsable: Uint8Array;
+  private readonly candTaken: Uint8Array;
+  private readonly candGated: Uint8Array;
+  private readonly idsByLength: (number | null)[][] = [];
+  private readonly result: MutableUpdate = { trackIds: [], events: NO_EVENTS };
+  private readonly finished: TrackSummary[] = [];
+  /** Squared Mahalanobis distance of the last gate() call. */
+  private readonly d2 = new Float64Array(1);
+  private readonly gate2: number;
+  private nextId = 1;
+  private started = false;
+  private ended = false;
+
+  constructor(options: TrackerSettings = {}) {
+    const o = resolveTrackerOptions(options);
+    this.options = Object.freeze(o);
+    const n = o.maxTracks;
+    const c = o.maxCandidates;
+    this.size = n;
+    this.nCand = c;
+    const filter = {
+      rateWanderDegS: o.rateWanderDegS,
+      maxRateDegS: o.maxRateDegS,
+      rateMemoryS: o.rateMemoryS,
+      maxUncertaintyDeg: o.maxUncertaintyDeg,
+    };
+    this.sc = new HopScratch(c);
+    this.az = new AngleFilterBank(n, o.mirroredPair ? 'half-circle' : 'circle', filter);
+    this.el = new AngleFilterBank(n, 'elevation', filter);
+    this.az.io[IO_RATE_SIGMA] = o.initialRateDegS;
+    this.el.io[IO_RATE_SIGMA] = o.initialRateDegS;
+    this.state = new Uint8Array(n);
+    this.id = new Int32Array(n);
+    this.hasEl = new Uint8Array(n);
+    this.hits = new Int32Array(n);
+    this.age = new Int32Array(n);
+    this.lastSupportT = new Float64Array(n);
+    this.firstSeenT = new Float64Array(n);
+    this.hopCount = new Float64Array(n);
+    this.eventCount = new Int32Array(n);
+    this.activeS = new Float64Array(n);
+    this.chosen = new Int32Array(n);
+    this.lifetime = new DirectionSums(n, o.mirroredPair, this.sc);
+    this.cutter = new EventCutter(n, o, this.sc);
+    this.assigner = new NearestNeighbourAssigner(n, c);
+    this.listed = new Int32Array(n);
+    this.listedChoice = new Int32Array(n);
+    this.cost = new Float64Array(n * c);
+    this.candUsable = new Uint8Array(c);
+    this.candTaken = new Uint8Array(c);
+    this.candGated = new Uint8Array(c);
+    this.gate2 = o.gateSigma * o.gateSigma;
+  }
+
+  /** Feed one hop; see TrackUpdate (the returned object is reused by the next call). */
+  update(obs: HopObservation): TrackUpdate {
+    if (this.ended) throw new RuntimeFailure('tracker: update() after finish(); start a new Tracker for a new stream.');
+    const hop = this.sc.hop;
+    const t = obs.timeS;
+    if (!Number.isFinite(t) || (this.started && t <= hop[TIME]!)) {
+      throw new RuntimeFailure(`tracker: hop time ${t} s does not follow ${hop[TIME]} s; hops must arrive in increasing time order.`);
+    }
+    hop[DT] = this.started ? t - hop[TIME]! : 0;
+    if (hop[DT]! > 0) hop[HOP_S] = hop[DT]!;
+    this.started = true;
+    this.fillHop(obs);
+    this.az.io[IO_DT] = hop[DT]!;
+    this.el.io[IO_DT] = hop[DT]!;
+
+    for (let s = 0; s < this.size; s++) {
+      this.chosen[s] = -1;
+      if (this.state[s] === FREE) continue;
+      this.az.predict(s);
+      if (this.hasEl[s] === 1) this.el.predict(s);
+    }
+
+    const nC = this.loadCandidates(obs);
+    this.assignStage(CONFIRMED, nC);
+    this.assignStage(TENTATIVE, nC);
+    this.applyAssignments();
+    this.births(nC);
+    this.tentativeBookkeeping();
+
+    let events: EventRecord[] | null = null;
+    for (let s = 0; s < this.size; s++) {
+      if (this.state[s] === FREE) continue;
+      const track = this.state[s] === CONFIRMED ? this.id[s]! : -1;
+      const ended = this.cutter.step(s, this.chosen[s]!, track);
+      if (ended !== null) events = this.collect(events, s, ended);
+      if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastSupportT[s]! > this.options.trackTimeoutS) {
+        const last = this.cutter.close(s, track);
+        if (last !== null) events = this.collect(events, s, last);
+        this.retire(s);
+      }
+    }
+
+    const ids = this.idsFor(obs.candidates.length);
+    for (let i = 0; i < ids.length; i++) ids[i] = null;
+    for (let s = 0; s < this.size; s++) {
+      const j = this.chosen[s]!;
+      if (j >= 0 && this.state[s] === CONFIRMED) ids[j] = this.id[s]!;
+    }
+    this.result.trackIds = ids;
+    this.result.events = events === null ? NO_EVENTS : events;
+    return this.result;
+  }
+
+  /** End of stream: close every open event of a confirmed track and return those events. */
+  finish(): EventRecord[] {
+    if (this.ended) return [];
+    this.ended = true;
+    let events: EventRecord[] | null = null;
+    for (let s = 0; s < this.size; s++) {
+      if (this.state[s] !== CONFIRMED) continue;
+      const ended = this.cutter.close(s, this.id[s]!);
+      if (ended !== null) events = this.collect(events, s, ended);
+    }
+    return events ?? [];
+  }
+
+  /** One entry per confirmed track so far (dead and alive), by track id. */
+  summary(): TrackSummary[] {
+    const out = this.finished.slice();
+    for (let s = 0; s < this.size; s++) if (this.state[s] === CONFIRMED) out.push(this.summarise(s, !this.ended));
+    out.sort((a, b) => a.track - b.track);
+    return out;
+  }
+
+  private fillHop(obs: HopObservation): void {
+    const hop = this.sc.hop;
+    hop[TIME] = obs.timeS;
+    hop[LEVEL] = Number.isFinite(obs.levelDbfs) ? obs.levelDbfs : -Infinity;
+    hop[ONSET] = Number.isFinite(obs.onset) ? obs.onset : 0;
+    hop[CONFIDENCE] = Number.isFinite(obs.confidence) ? obs.confidence : 0;
+    const band = obs.bandHz;
+    hop[BAND_LO] = band ? band[0] : NaN;
+    hop[BAND_HI] = band ? band[1] : NaN;
+  }
+
+  /** Copy the usable candidates into the scratch arrays; returns how many are considered. */
+  private loadCandidates(obs: HopObservation): number {
+    const o = this.options;
+    const sc = this.sc;
+    const conf = sc.hop[CONFIDENCE]!;
+    const nC = Math.min(obs.candidates.length, this.nCand);
+    for (let j = 0; j < nC; j++) {
+      const c = obs.candidates[j]!;
+      const az = c.azimuthDeg;
+      const el = c.elevationDeg;
+      const usable =
+        Number.isFinite(az) &&
+        Number.isFinite(c.score) &&
+        conf * c.score >= o.minConfidence &&
+        (!o.mirroredPair || (az >= -90 && az <= 90)) &&
+        (el === null || Number.isFinite(el));
+      this.candUsable[j] = usable ? 1 : 0;
+      this.candTaken[j] = 0;
+      this.candGated[j] = 0;
+      if (!usable) continue;
+      sc.candAz[j] = az;
+      sc.candEl[j] = el === null ? NaN : el;
+      sc.candScore[j] = c.score;
+      sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, c.score));
+    }
+    return nC;
+  }
+
+  /**
+   * Load candidate j as the measurement of slot s into the filter banks (azimuth noise widened
+   * by 1 / cos^2 elevation when both carry elevations). Returns whether elevation takes part.
+   */
+  private loadMeasurement(s: number, j: number): boolean {
+    const sc = this.sc;
+    const r = sc.candR[j]!;
+    const el = sc.candEl[j]!;
+    this.az.io[IO_Z] = sc.candAz[j]!;
+    if (this.hasEl[s] === 1 && el === el) {
+      const cosEl = Math.max(MIN_COS_ELEVATION, Math.cos(this.el.angle[s]! * DEG));
+      this.az.io[IO_R] = r / (cosEl * cosEl);
+      this.el.io[IO_Z] = el;
+      this.el.io[IO_R] = r;
+      return true;
+    }
+    this.az.io[IO_R] = r;
+    return false;
+  }
+
+  /** Is candidate j inside the gate of slot s? Leaves d^2 - gate^2 in d2[0]. */
+  private gate(s: number, j: number): boolean {
+    const both = this.loadMeasurement(s, j);
+    this.az.distance2(s);
+    let d2 = this.az.io[IO_D2]!;
+    let g = this.gate2;
+    if (both) {
+      this.el.distance2(s);
+      d2 += this.el.io[IO_D2]!;
+      g *= 2;
+    }
+    this.d2[0] = d2 - g;
+    return d2 <= g;
+  }
+
+  /** Global nearest neighbour between the tracks in one state and the untaken candidates. */
+  private assignStage(which: number, nC: number): void {
+    let nT = 0;
+    for (let s = 0; s < this.size; s++) if (this.state[s] === which) this.listed[nT++] = s;
+    if (nT === 0 || nC === 0) return;
+    const stride = this.nCand;
+    let any = false;
+    for (let i = 0; i < nT; i++) {
+      const s = this.listed[i]!;
+      for (let j = 0; j < nC; j++) {
+        this.cost[i * stride + j] = Infinity;
+        if (this.candUsable[j] === 1 && this.candTaken[j] === 0 && this.gate(s, j)) {
+          this.cost[i * stride + j] = this.d2[0]!;
+          this.candGated[j] = 1;
+          any = true;
+        }
+      }
+    }
+    if (!any) return;
+    this.assigner.solve(nT, nC, this.cost, this.listedChoice);
+    for (let i = 0; i < nT; i++) {
+      const j = this.listedChoice[i]!;
+      if (j < 0) continue;
+      this.chosen[this.listed[i]!] = j;
+      this.candTaken[j] = 1;
+    }
+  }
+
+  private applyAssignments(): void {
+    for (let s = 0; s < this.size; s++) {
+      const j = this.chosen[s]!;
+      if (j < 0) continue;
+      const sc = this.sc;
+      if (sc.candEl[j] === sc.candEl[j] && this.hasEl[s] === 0) {
+        // First elevation for this track: start its elevation filter.
+        this.hasEl[s] = 1;
+        this.el.io[IO_Z] = sc.candEl[j]!;
+        this.el.io[IO_R] = sc.candR[j]!;
+        this.el.init(s);
+        this.loadMeasurement(s, j);
+        this.az.update(s);
+      } else {
+        if (this.loadMeasurement(s, j)) this.el.update(s);
+        this.az.update(s);
+      }
+      this.support(s, j);
+    }
+  }
+
+  private support(s: number, j: number): void {
+    this.hits[s] = this.hits[s]! + 1;
+    this.lastSupportT[s] = this.sc.hop[TIME]!;
+    this.hopCount[s] = this.hopCount[s]! + 1;
+    this.lifetime.add(s, j);
+  }
+
+  private births(nC: number): void {
+    const o = this.options;
+    const sc = this.sc;
+    for (let j = 0; j < nC; j++) {
+      if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
+      if (sc.hop[CONFIDENCE]! * sc.candScore[j]! < o.birthConfidence) continue;
+      if (this.candGated[j] === 1 || this.withinAnyGate(j)) continue;
+      let s = 0;
+      while (s < this.size && this.state[s] !== FREE) s++;
+      if (s === this.size) return;
+      this.state[s] = TENTATIVE;
+      this.id[s] = -1;
+      this.hits[s] = 0;
+      this.age[s] = 0;
+      this.hopCount[s] = 0;
+      this.eventCount[s] = 0;
+      this.activeS[s] = 0;
+      this.firstSeenT[s] = sc.hop[TIME]!;
+      this.lifetime.reset(s);
+      this.cutter.reset(s);
+      this.az.io[IO_Z] = sc.candAz[j]!;
+      this.az.io[IO_R] = sc.candR[j]!;
+      this.az.init(s);
+      const el = sc.candEl[j]!;
+      this.hasEl[s] = el === el ? 1 : 0;
+      if (el === el) {
+        this.el.io[IO_Z] = el;
+        this.el.io[IO_R] = sc.candR[j]!;
+        this.el.init(s);
+      }
+      this.chosen[s] = j;
+      this.candTaken[j] = 1;
+      this.support(s, j);
+    }
+  }
+
+  /** A candidate inside the gate of a live track is that track's (a side peak), not a newcomer. */
+  private withinAnyGate(j: number): boolean {
+    for (let s = 0; s < this.size; s++) if (this.state[s] !== FREE && this.gate(s, j)) return true;
+    return false;
+  }
+  private tentativeBookkeeping(): void {
+    const o = this.options;
+    for (let s = 0; s < this.size; s++) {
+      if (this.state[s] !== TENTATIVE) continue;
+      this.age[s] = this.age[s]! + 1;
+      if (this.hits[s]! >= o.confirmHits) {
+        this.state[s] = CONFIRMED;
+        this.id[s] = this.nextId++;
+      } else if (this.age[s]! >= o.confirmWindow) {
+        this.state[s] = FREE;
+        this.cutter.reset(s);
+        this.chosen[s] = -1;
+      }
+    }
+  }
+
+  private collect(events: EventRecord[] | null, s: number, record: EventRecord): EventRecord[] {
+    this.eventCount[s] = this.eventCount[s]! + 1;
+    this.activeS[s] = this.activeS[s]! + (record.end_s - record.start_s);
+    if (events === null) return [record];
+    events.push(record);
+    return events;
+  }
+
+  private retire(s: number): void {
+    this.finished.push(this.summarise(s, false));
+    this.state[s] = FREE;
+    this.cutter.reset(s);
+  }
+
+  private summarise(s: number, alive: boolean): TrackSummary {
+    return {
+      track: this.id[s]!,
+      events: this.eventCount[s]!,
+      azimuthDeg: this.lifetime.meanAzimuthDeg(s),
+      spreadDeg: this.lifetime.spreadDeg(s),
+      elevationDeg: this.lifetime.meanElevationDeg(s),
+      activeS: this.activeS[s]!,
+      hops: this.hopCount[s]!,
+      firstSeenS: this.firstSeenT[s]!,
+      lastSeenS: this.lastSupportT[s]!,
+      alive,
+      mirror: this.options.mirroredPair ? 'front-back' : null,
+    };
+  }
+
+  private idsFor(length: number): (number | null)[] {
+    let ids = this.idsByLength[length];
+    if (ids === undefined) {
+      ids = new Array<number | null>(length).fill(null);
+      this.idsByLength[length] = ids;
+    }
+    return ids;
+  }
+}

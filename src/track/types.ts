@@ -1,0 +1,52 @@
+/** Types at the border of the tracker: what the analysis core feeds in, what comes out. */
+import type { EventRecord } from '../records.js';
+
+/** One direction candidate of a hop, best first in HopObservation.candidates. */
+export interface DirectionCandidate {
+  azimuthDeg: number;
+  elevationDeg: number | null;
+  score: number;
+}
+
+/** What the analysis core hands the tracker once per hop. */
+export interface HopObservation {
+  timeS: number;        // centre of the hop's analysis frame, seconds from stream start
+  levelDbfs: number;    // frame level, dBFS
+  onset: number;        // onset strength in [0, 1]: high where energy rises sharply
+  confidence: number;   // [0, 1]
+  candidates: readonly { azimuthDeg: number; elevationDeg: number | null; score: number }[]; // best first; may be empty
+  bandHz?: readonly [number, number] | null; // dominant frequency band of the hop
+}
+
+/**
+ * The tracker's answer to one hop. The object and its arrays are reused by the next
+ * update() call (no allocation per hop): copy what you keep.
+ */
+export interface TrackUpdate {
+  /** Per candidate of the hop, in its order: the confirmed track it was assigned to, else null. */
+  trackIds: readonly (number | null)[];
+  /** Events that ended at this hop (usually none). */
+  events: readonly EventRecord[];
+}
+
+/** What the tracker learned about one confirmed track over the whole stream. */
+export interface TrackSummary {
+  track: number;
+  /** Events emitted for this track. */
+  events: number;
+  /** Weighted circular mean azimuth of every hop assigned to the track, degrees. */
+  azimuthDeg: number;
+  /** Circular standard deviation of those azimuths, degrees (linear on a mirrored pair). */
+  spreadDeg: number;
+  /** Weighted mean elevation, degrees, when the candidates carried elevations. */
+  elevationDeg: number | null;
+  /** Sum of the durations of the track's events, seconds. */
+  activeS: number;
+  /** Hops assigned to the track. */
+  hops: number;
+  firstSeenS: number;
+  lastSeenS: number;
+  /** The track had not timed out when the summary was taken (false for every track after finish()). */
+  alive: boolean;
+  mirror: 'front-back' | null;
+}

@@ -1,0 +1,166 @@
+/**
+ * Core benchmark (issue: streaming pair analysis; arrays): real-time factor on one core, time
+ * per hop against the FFT floor measured in the same run with the same FFT, the same pairs
+ * through a vectorised numpy GCC-PHAT, and peak RSS for a 10-minute stream against a 1-minute one.
+ */
+import { execFileSync, spawnSync } from 'node:child_process';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { RealFft } from '../../src/dsp/fft.js';
+import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geometry.js';
+import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
+import { createAnalysis } from '../../src/pipeline/analysis.js';
+
+const RATE = 48000;
+const here = fileURLToPath(new URL('.', import.meta.url));
+
+function noiseFrames(channels: number, samples: number, seed = 1): Float32Array[] {
+  let s = seed;
+  const rand = () => ((s = (s * 1664525 + 1013904223) >>> 0) / 2 ** 32) - 0.5;
+  const common = new Float32Array(samples + 64).map(() => rand());
+  // channel c: the common noise delayed by c samples plus independent noise (SNR about 10 dB)
+  return Array.from({ length: channels }, (_, c) => {
+    const x = new Float32Array(samples);
+    for (let i = 0; i < samples; i++) x[i] = 0.5 * common[i + 64 - c]! + 0.16 * rand();
+    return x;
+  });
+}
+
+function timeIt(fn: () => void, minMs = 400): number {
+  fn();
+  let reps = 1;
+  for (;;) {
+    const t = performance.now();
+    for (let i = 0; i < reps; i++) fn();
+    const dt = performance.now() - t;
+    if (dt >= minMs) return dt / reps;
+    reps *= 2;
+  }
+}
+
+export interface CoreFigures {
+  name: string;
+  channels: number;
+  pairs: number;
+  usPerHop: number;
+  floorUsPerHop: number;
+  ratioToFloor: number;
+  realTime: number;
+  numpyUsPerHop: number | null;
+  ratioToNumpy: number | null;
+}
+
+export function benchCase(name: string, geometry: ArrayGeometry, seconds = 20): CoreFigures {
+  const setup = createAnalysis(geometry, RATE, 343, {});
+  const { analyzer, model } = setup;
+  const n = analyzer.frame;
+  const hop = analyzer.hop;
+  const C = geometry.mics.length;
+  const P = model.pairs.length;
+  const signal = noiseFrames(C, seconds * RATE);
+  const hops = Math.floor((signal[0]!.length - n) / hop) + 1;
+  const frames = Array.from({ length: C }, () => new Float64Array(n));
+  const runPipeline = () => {
+    for (let h = 0; h < hops; h++) {
+      for (let c = 0; c < C; c++) {
+        const src = signal[c]!;
+        const dst = frames[c]!;
+        for (let i = 0; i < n; i++) dst[i] = src[h * hop + i]!;
+      }
+      analyzer.process(frames);
+    }
+  };
+  // The FFT floor: the same frame copies, C forward and P inverse transforms per hop.
+  const fft = new RealFft(n);
+  const re = new Float64Array(n / 2 + 1);
+  const im = new Float64Array(n / 2 + 1);
+  const out = new Float64Array(n);
+  const runFloor = () => {
+    for (let h = 0; h < hops; h++) {
+      for (let c = 0; c < C; c++) {
+        const src = signal[c]!;
+        const dst = frames[c]!;
+        for (let i = 0; i < n; i++) dst[i] = src[h * hop + i]!;
+        fft.forward(dst, re, im);
+      }
+      for (let p = 0; p < P; p++) fft.inverse(re, im, out);
+    }
+  };
+  const pipeMs = timeIt(runPipeline);
+  const floorMs = timeIt(runFloor);
+  const usPerHop = (pipeMs * 1000) / hops;
+  const floorUsPerHop = (floorMs * 1000) / hops;
+
+  let numpyUsPerHop: number | null = null;
+  const dir = mkdtempSync(join(tmpdir(), 'bearline-bench-'));
+  try {
+    const inter = new Float32Array(signal[0]!.length * C);
+    for (let i = 0; i < signal[0]!.length; i++) for (let c = 0; c < C; c++) inter[i * C + c] = signal[c]![i]!;
+    const raw = join(dir, 'x.f32');
+    writeFileSync(raw, Buffer.from(inter.buffer));
+    const maxLag = Math.max(...model.maxLag);
+    const r = spawnSync('python3', [join(here, 'gcc_phat_numpy.py'), raw, String(C), String(n), String(hop), String(maxLag)], { encoding: 'utf8' });
+    if (r.status === 0) numpyUsPerHop = Number(r.stdout.trim().split(' ')[0]) * 1e6;
+    else process.stderr.write(`numpy reference failed: ${r.stderr}\n`);
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+  return {
+    name,
+    channels: C,
+    pairs: P,
+    usPerHop,
+    floorUsPerHop,
+    ratioToFloor: usPerHop / floorUsPerHop,
+    realTime: hop / RATE / (usPerHop * 1e-6),
+    numpyUsPerHop,
+    ratioToNumpy: numpyUsPerHop === null ? null : numpyUsPerHop / usPerHop,
+  };
+}
+
+/** Peak RSS of `bearline scan` on a 1-minute and a 10-minute stereo file (memory flat in length). */
+export function benchMemory(): { oneMinMb: number; tenMinMb: number } {
+  const dir = mkdtempSync(join(tmpdir(), 'bearline-bench-'));
+  const bin = fileURLToPath(new URL('../../dist/cli/main.js', import.meta.url));
+  try {
+    const rss = (minutes: number) => {
+      const wav = join(dir, `${minutes}min.wav`);
+      execFileSync('sox', ['-R', '-n', '-r', String(RATE), '-c', '2', '-b', '16', wav, 'synth', String(minutes * 60), 'pinknoise', 'gain', '-10']);
+      const r = spawnSync('/usr/bin/time', ['-f', '%M', process.execPath, bin, 'scan', wav, '--spacing', '0.2', '--out', join(dir, 'out.jsonl')], { encoding: 'utf8' });
+      if (r.status !== 0) throw new Error(`scan failed: ${r.stderr}`);
+      return Number(r.stderr.trim().split('\n').pop()) / 1024;
+    };
+    return { oneMinMb: rss(1), tenMinMb: rss(10) };
+  } finally {
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+export function coreCases(): [string, ArrayGeometry][] {
+  const preset = (p: string) => loadGeometryFile(fileURLToPath(new URL(`../../configs/arrays/${p}.json`, import.meta.url)));
+  return [
+    ['stereo pair 0.2 m', pairGeometry(0.2)],
+    ['4-mic square 10 cm', preset('square-10cm')],
+    ['4-mic tetrahedron 10 cm', preset('tetrahedron-10cm')],
+    ['6-mic circle r 5 cm', preset('circle6-r5cm')],
+    ['8-mic circle r 5 cm', preset('circle8-r5cm')],
+  ];
+}
+
+export function printCore(rows: CoreFigures[]): void {
+  console.log('core analysis at 48 kHz, frame 1024, hop 512, one core:');
+  console.log('  case                      ch pairs  us/hop  floor us  x floor  x real time  numpy us  numpy/bearline');
+  for (const r of rows) {
+    console.log(
+      `  ${r.name.padEnd(25)} ${String(r.channels).padStart(2)} ${String(r.pairs).padStart(5)} ${r.usPerHop.toFixed(1).padStart(7)} ${r.floorUsPerHop.toFixed(1).padStart(9)} ${r.ratioToFloor.toFixed(2).padStart(8)} ${r.realTime.toFixed(0).padStart(12)} ${(r.numpyUsPerHop?.toFixed(1) ?? 'n/a').padStart(9)} ${(r.ratioToNumpy?.toFixed(2) ?? 'n/a').padStart(15)}`,
+    );
+  }
+}
+
+if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
+  printCore(coreCases().map(([n, g]) => benchCase(n, g)));
+  const m = benchMemory();
+  console.log(`peak RSS of scan: 1-minute stereo ${m.oneMinMb.toFixed(0)} MB, 10-minute stereo ${m.tenMinMb.toFixed(0)} MB`);
+}

@@ -1,0 +1,67 @@
+import { Command } from 'commander';
+import { describe, expect, it } from 'vitest';
+import { UsageError } from '../../src/errors.js';
+import {
+  DEFAULT_FEED_OPTIONS,
+  feedOptionsFromCli,
+  feedOptionSpecs,
+  isLoopbackHost,
+  resolveFeedOptions,
+} from '../../src/feed/feed-options.js';
+
+function cli(args: string[]): Command {
+  const cmd = new Command().exitOverride().configureOutput({ writeErr: () => undefined });
+  for (const spec of feedOptionSpecs) cmd.option(spec.flag, spec.help, spec.parse, spec.defaultValue);
+  return cmd.parse(args, { from: 'user' });
+}
+
+describe('feed options', () => {
+  it('defaults to loopback, no token, and sane bounds', () => {
+    expect(resolveFeedOptions()).toEqual(DEFAULT_FEED_OPTIONS);
+    expect(DEFAULT_FEED_OPTIONS.host).toBe('127.0.0.1');
+    expect(DEFAULT_FEED_OPTIONS.token).toBeNull();
+  });
+
+  it.each([
+    [{ port: 70000 }, /--feed-port 70000 must be a whole number from 0 to 65535/],
+    [{ port: 1.5 }, /--feed-port/],
+    [{ host: 'no such host!' }, /--feed-host/],
+    [{ token: 'short' }, /--feed-token "short" must be 8 to 256 characters/],
+    [{ token: 'has spaces in it' }, /--feed-token/],
+    [{ maxClients: 0 }, /--feed-max-clients 0/],
+    [{ queueBound: -3 }, /--feed-queue -3/],
+    [{ pingIntervalS: 0.01 }, /--feed-ping-interval 0.01 must be from 0.1 to 3600 seconds/],
+    [{ port: '8080' }, /--feed-port "8080" has the wrong type/],
+    [{ colour: 'green' } as Record<string, unknown>, /unknown feed option 'colour'/],
+  ])('refuses %j with a UsageError naming the option', (bad, message) => {
+    expect(() => resolveFeedOptions(bad)).toThrow(UsageError);
+    expect(() => resolveFeedOptions(bad)).toThrow(message);
+  });
+
+  it('turns into commander options: one flag per option, parsed and validated', () => {
+    expect(feedOptionSpecs.map((s) => s.key).sort()).toEqual(Object.keys(DEFAULT_FEED_OPTIONS).sort());
+    const cmd = cli(['--feed-port', '0', '--feed-queue', '8', '--feed-token', 'bittern-boom-77', '--feed-ping-interval', '2.5']);
+    expect(feedOptionsFromCli(cmd.opts())).toEqual({
+      ...DEFAULT_FEED_OPTIONS,
+      port: 0,
+      queueBound: 8,
+      token: 'bittern-boom-77',
+      pingIntervalS: 2.5,
+    });
+    expect(feedOptionsFromCli(cli([]).opts())).toEqual(DEFAULT_FEED_OPTIONS);
+    expect(() => cli(['--feed-port', 'eighty'])).toThrow(/--feed-port <n>.*'eighty' must be a whole number/);
+    expect(() => cli(['--feed-max-clients', '0'])).toThrow(/--feed-max-clients/);
+    expect(() => cli(['--feed-token', 'short'])).toThrow(/--feed-token <text>.*the token must be 8 to 256/);
+    expect(() => cli(['--feed-host', 'bad host'])).toThrow(/--feed-host <address>/);
+  });
+
+  it('knows loopback addresses (RFC 1122 section 3.2.1.3: 127.0.0.0/8; RFC 4291: ::1)', () => {
+    expect(isLoopbackHost('127.0.0.1')).toBe(true);
+    expect(isLoopbackHost('127.3.2.1')).toBe(true);
+    expect(isLoopbackHost('::1')).toBe(true);
+    expect(isLoopbackHost('localhost')).toBe(true);
+    expect(isLoopbackHost('0.0.0.0')).toBe(false);
+    expect(isLoopbackHost('::')).toBe(false);
+    expect(isLoopbackHost('192.168.1.20')).toBe(false);
+  });
+});

@@ -1,0 +1,402 @@
+/**
+ * Tracker logic on synthetic hop sequences generated here from a known ground truth (source
+ * directions, calling schedules) with bearing noise, clutter and dropouts (synth.ts). The
+ * ground truth is the reference; the acoustic end-to-end checks come with the analysis core.
+ */
+import { readFileSync } from 'node:fs';
+import { describe, expect, it } from 'vitest';
+import type { EventRecord } from '../../src/records.js';
+import { angleDiffDeg } from '../../src/track/circular.js';
+import { trackerSettingsFromProfile, type TrackerSettings } from '../../src/track/options.js';
+import { Tracker } from '../../src/track/tracker.js';
+import { bursts, fold, generateHops, type Synth, type TruthSource } from './synth.js';
+
+interface Run {
+  events: EventRecord[];
+  /** Per hop, per candidate: the track id the tracker gave it. */
+  ids: (number | null)[][];
+  tracker: Tracker;
+}
+
+function run(synth: Synth, options: TrackerSettings = {}): Run {
+  const tracker = new Tracker(options);
+  const events: EventRecord[] = [];
+  const ids: (number | null)[][] = [];
+  for (const hop of synth.hops) {
+    const u = tracker.update(hop);
+    ids.push(u.trackIds.slice());
+    events.push(...u.events);
+  }
+  events.push(...tracker.finish());
+  return { events, ids, tracker };
+}
+
+/** The track ids given to one source's candidates, hop by hop (null where unassigned). */
+function idsOfSource(synth: Synth, r: Run, source: number): { t: number; id: number | null }[] {
+  const out: { t: number; id: number | null }[] = [];
+  synth.labels.forEach((labels, k) => {
+    labels.forEach((label, j) => {
+      if (label === source) out.push({ t: synth.hops[k]!.timeS, id: r.ids[k]![j]! });
+    });
+  });
+  return out;
+}
+
+function majority(values: readonly (number | null)[]): number | null {
+  const counts = new Map<number, number>();
+  for (const v of values) if (v !== null) counts.set(v, (counts.get(v) ?? 0) + 1);
+  let best: number | null = null;
+  for (const [k, n] of counts) if (best === null || n > counts.get(best)!) best = k;
+  return best;
+}
+
+interface CallMatch {
+  source: number;
+  call: readonly [number, number];
+  event: EventRecord | null;
+}
+
+/** Each true call with the event that overlaps it most (among the events of trackOf[source], when given). */
+function matchCalls(sources: readonly TruthSource[], events: readonly EventRecord[], trackOf?: readonly (number | null)[]): CallMatch[] {
+  const out: CallMatch[] = [];
+  sources.forEach((s, source) => {
+    for (const call of s.calls) {
+      let best: EventRecord | null = null;
+      let bestOverlap = 0;
+      for (const e of events) {
+        if (trackOf !== undefined && e.track !== trackOf[source]) continue;
+        const overlap = Math.min(e.end_s, call[1]) - Math.max(e.start_s, call[0]);
+        if (overlap > bestOverlap) {
+          best = e;
+          bestOverlap = overlap;
+        }
+      }
+      out.push({ source, call, event: best });
+    }
+  });
+  return out;
+}
+
+describe('two static sources calling in alternating bursts (ground truth: synth.ts)', () => {
+  // A frog at -40 deg and another at +65 deg, 0.3 s calls, alternating, 60 s; 2 deg bearing
+  // noise, a clutter candidate in 30 % of hops, 10 % of calling hops without a candidate.
+  const sources: TruthSource[] = [
+    { azimuthAt: () => -40, calls: bursts(0.2, 0.3, 0.7, 60), levelDbfs: -30 },
+    { azimuthAt: () => 65, calls: bursts(0.7, 0.3, 0.7, 60), levelDbfs: -34 },
+  ];
+  const synth = generateHops(sources, { durationS: 60, hopS: 0.01, seed: 3, noiseDeg: 2, clutter: 0.3, dropout: 0.1 });
+  const r = run(synth);
+  const matches = matchCalls(sources, r.events);
+  const idOf = [0, 1].map((i) => majority(matches.filter((m) => m.source === i).map((m) => m.event?.track ?? null)));
+
+  it('gives each source its own track and >= 95 % of events the right id', () => {
+    expect(idOf[0]).not.toBeNull();
+    expect(idOf[1]).not.toBeNull();
+    expect(idOf[0]).not.toBe(idOf[1]);
+    const right = matches.filter((m) => m.event !== null && m.event.track === idOf[m.source]).length;
+    expect(right / matches.length).toBeGreaterThanOrEqual(0.95);
+    // One event per call, no spurious ones from clutter.
+    expect(r.events.length).toBeGreaterThanOrEqual(matches.length * 0.95);
+    expect(r.events.length).toBeLessThanOrEqual(matches.length * 1.05);
+  });
+
+  it('puts event bearings within 2 deg and start/end within 20 ms of the truth', () => {
+    let good = 0;
+    for (const m of matches) {
+      const e = m.event;
+      if (e === null) continue;
+      const truth = sources[m.source]!.azimuthAt((m.call[0] + m.call[1]) / 2);
+      const ok =
+        Math.abs(angleDiffDeg(e.azimuth_deg, truth)) <= 2 &&
+        Math.abs(e.start_s - m.call[0]) <= 0.02 &&
+        Math.abs(e.end_s - m.call[1]) <= 0.02;
+      if (ok) good++;
+    }
+    expect(good / matches.length).toBeGreaterThanOrEqual(0.95);
+  });
+
+  it('reports spread, confidence, peak level, band and no mirror flag', () => {
+    // The hop bearings carry 2 deg Gaussian noise, so the median event's circular sd is near
+    // 2 deg (for small spreads the circular sd approaches the linear one; Mardia and Jupp 2000).
+    const spreads = r.events.map((e) => e.spread_deg).sort((a, b) => a - b);
+    const median = spreads[Math.floor(spreads.length / 2)]!;
+    expect(median).toBeGreaterThan(1.6);
+    expect(median).toBeLessThan(2.4);
+    for (const e of r.events) {
+      expect(e.confidence).toBeGreaterThan(0.3);
+      expect(e.confidence).toBeLessThanOrEqual(1);
+      expect(e.peak_dbfs).toBeGreaterThan(-40);
+      expect(e.band_hz).toEqual([1000, 2000]);
+      expect(e.mirror).toBeUndefined();
+      expect(e.end_s).toBeGreaterThan(e.start_s);
+    }
+  });
+
+  it('sums each track up: events, mean azimuth, active time', () => {
+    const summary = r.tracker.summary();
+    expect(summary.length).toBe(2);
+    for (const [i, truth] of [[0, -40], [1, 65]] as const) {
+      const s = summary.find((x) => x.track === idOf[i])!;
+      expect(Math.abs(angleDiffDeg(s.azimuthDeg, truth))).toBeLessThan(1);
+      expect(s.events).toBe(r.events.filter((e) => e.track === s.track).length);
+      // 60 calls of 0.3 s each
+      expect(s.activeS).toBeGreaterThan(0.9 * 60 * 0.3);
+      expect(s.activeS).toBeLessThan(1.1 * 60 * 0.3);
+      expect(s.alive).toBe(false);
+    }
+  });
+
+  it('labels hops: a source candidate carries its track id', () => {
+    for (const i of [0, 1]) {
+      const seq = idsOfSource(synth, r, i);
+      const right = seq.filter((x) => x.id === idOf[i]).length;
+      // The first hops of a new track are tentative (no id yet): M of N = 3 of 5.
+      expect(right / seq.length).toBeGreaterThan(0.95);
+    }
+  });
+
+  it('is deterministic: the same hops give the same events', () => {
+    expect(run(synth).events).toEqual(r.events);
+  });
+});
+
+describe('a source moving across the +-180 seam keeps one id', () => {
+  // A bird flying behind the array from 150 deg through 180 to -150 deg at 20 deg/s.
+  const sources: TruthSource[] = [{ azimuthAt: (t) => 150 + 20 * t, calls: bursts(0.1, 0.25, 0.15, 3.1), levelDbfs: -32 }];
+  for (const seed of [1, 2, 3, 4, 5]) {
+    it(`seed ${seed}`, () => {
+      const synth = generateHops(sources, { durationS: 3.1, hopS: 0.01, seed, noiseDeg: 1.5, clutter: 0.2, dropout: 0.1 });
+      const r = run(synth, { rateWanderDegS: 20 });
+      const ids = new Set(r.events.map((e) => e.track));
+      expect(ids.size).toBe(1);
+      const matches = matchCalls(sources, r.events);
+      expect(matches.every((m) => m.event !== null)).toBe(true);
+      for (const m of matches) {
+        const truth = sources[0]!.azimuthAt((m.call[0] + m.call[1]) / 2);
+        expect(Math.abs(angleDiffDeg(m.event!.azimuth_deg, truth))).toBeLessThan(2);
+      }
+      // The circular mean keeps the seam: some events sit at +170..180, others at -180..-170.
+      expect(r.events.some((e) => e.azimuth_deg > 170)).toBe(true);
+      expect(r.events.some((e) => e.azimuth_deg < -170)).toBe(true);
+    });
+  }
+});
+
+interface Crossing {
+  name: string;
+  a: (t: number) => number;
+  b: (t: number) => number;
+  /** Closer than this (deg) the two give one merged candidate. */
+  mergeDeg: number;
+}
+
+/** Birds meeting head-on: A from -40 deg at +20 deg/s, B from +30 deg at -10 deg/s, meeting at t = 7/3 s. */
+const headOn: Crossing = { name: 'head-on', a: (t) => -40 + 20 * t, b: (t) => 30 - 10 * t, mergeDeg: 4 };
+/** A overtaking B: A from -40 deg at +25 deg/s, B from -10 deg at +10 deg/s, level at t = 2 s; merged within 6 deg (0.8 s). */
+const overtaking: Crossing = { name: 'overtaking', a: (t) => -40 + 25 * t, b: (t) => -10 + 10 * t, mergeDeg: 6 };
+
+/**
+ * Swap: the track that held A before the crossing (1.0-1.8 s) holds B after it (3.0-4.5 s).
+ * Lost: an id changed otherwise (a new track took over).
+ */
+function crossingSwapRate(c: Crossing, seeds: number, options: TrackerSettings): { swaps: number; lost: number; runs: number } {
+  const sources: TruthSource[] = [
+    { azimuthAt: c.a, calls: [[0, 5]], levelDbfs: -30 },
+    { azimuthAt: c.b, calls: [[0, 5]], levelDbfs: -31 },
+  ];
+  let swaps = 0;
+  let lost = 0;
+  for (let seed = 1; seed <= seeds; seed++) {
+    const synth = generateHops(sources, { durationS: 5, hopS: 0.01, seed, noiseDeg: 1.5, clutter: 0.1, dropout: 0.1, mergeDeg: c.mergeDeg });
+    const r = run(synth, options);
+    const before = [0, 1].map((i) => majority(idsOfSource(synth, r, i).filter((x) => x.t > 1 && x.t < 1.8).map((x) => x.id)));
+    const after = [0, 1].map((i) => majority(idsOfSource(synth, r, i).filter((x) => x.t > 3 && x.t < 4.5).map((x) => x.id)));
+    if (before[0] === after[1] && before[1] === after[0]) swaps++;
+    else if (before[0] !== after[0] || before[1] !== after[1]) lost++;
+  }
+  return { swaps, lost, runs: seeds };
+}
+
+describe('two crossing sources at different angular rates (40 noisy runs each)', () => {
+  const birds = trackerSettingsFromProfile(JSON.parse(readFileSync(new URL('../../configs/profiles/passing-birds.json', import.meta.url), 'utf8')), 'passing-birds.json');
+  it.each([
+    [headOn, 'the defaults', {}],
+    [headOn, 'the passing-birds profile', birds],
+    [overtaking, 'the defaults', {}],
+    [overtaking, 'the passing-birds profile', birds],
+  ])('%s crossing keeps its ids with %s in >= 90 % of runs (swap rate printed)', (c, label, options) => {
+    const result = crossingSwapRate(c, 40, options);
+    console.log(`${c.name} crossing with ${label}: ${result.swaps} swaps, ${result.lost} lost ids in ${result.runs} runs`);
+    expect((result.swaps + result.lost) / result.runs).toBeLessThanOrEqual(0.1);
+  });
+
+  it('swaps far more often when the rate is allowed to wander fast: the rate model is what carries them', () => {
+    const loose = crossingSwapRate(headOn, 40, { rateWanderDegS: 10, rateMemoryS: 3 });
+    console.log(`head-on crossing with rateWander 10, rateMemory 3: ${loose.swaps} swaps, ${loose.lost} lost ids in ${loose.runs} runs`);
+    expect(loose.swaps / loose.runs).toBeGreaterThan(0.2);
+  });
+});
+
+describe('a two-mic pair (front-back mirror) near +-90', () => {
+  // True azimuths: A flies from 50 deg past the right endfire (90) to 130 deg behind, which the
+  // pair sees as 50 -> 90 -> 50; B sits at -85 deg near the left endfire.
+  const sources: TruthSource[] = [
+    { azimuthAt: (t) => 50 + 20 * t, calls: bursts(0.1, 0.3, 0.1, 4), levelDbfs: -30 },
+    { azimuthAt: () => -85, calls: bursts(0.3, 0.3, 0.1, 4), levelDbfs: -33 },
+  ];
+  const opts = { mirroredPair: true, rateWanderDegS: 15 };
+  for (const seed of [1, 2, 3, 4, 5]) {
+    it(`keeps one id for the source reflected at +90 and another for the source at -85 (seed ${seed})`, () => {
+      const synth = generateHops(sources, { durationS: 4, hopS: 0.01, seed, noiseDeg: 1.5, clutter: 0.1, dropout: 0.1, mirrored: true });
+      const r = run(synth, opts);
+      const a = new Set(idsOfSource(synth, r, 0).filter((x) => x.t > 0.5).map((x) => x.id).filter((x) => x !== null));
+      const b = new Set(idsOfSource(synth, r, 1).filter((x) => x.t > 0.5).map((x) => x.id).filter((x) => x !== null));
+      expect(a.size).toBe(1);
+      expect(b.size).toBe(1);
+      expect([...a][0]).not.toBe([...b][0]);
+      for (const e of r.events) {
+        expect(e.mirror).toBe('front-back');
+        expect(e.azimuth_deg).toBeGreaterThanOrEqual(-90);
+        expect(e.azimuth_deg).toBeLessThanOrEqual(90);
+      }
+      // Bearings as the pair sees them.
+      for (const m of matchCalls(sources, r.events)) {
+        expect(m.event).not.toBeNull();
+        const truth = fold(sources[m.source]!.azimuthAt((m.call[0] + m.call[1]) / 2));
+        // Near endfire a reflected call averages points on both sides of its fold: allow more.
+        expect(Math.abs(m.event!.azimuth_deg - truth)).toBeLessThan(Math.abs(truth) > 80 ? 4 : 2);
+      }
+    });
+  }
+
+  it('never joins +89 and -89 through 180 (they are 178 deg apart on a pair)', () => {
+    const near: TruthSource[] = [
+      { azimuthAt: () => 89, calls: bursts(0.1, 0.3, 0.3, 6), levelDbfs: -30 },
+      { azimuthAt: () => -89, calls: bursts(0.4, 0.3, 0.3, 6), levelDbfs: -30 },
+    ];
+    const synth = generateHops(near, { durationS: 6, hopS: 0.01, seed: 9, noiseDeg: 1.5, clutter: 0, dropout: 0.05, mirrored: true });
+    const r = run(synth, { mirroredPair: true });
+    const ids = [0, 1].map((i) => new Set(r.events.filter((e) => (e.azimuth_deg > 0 ? 0 : 1) === i).map((e) => e.track)));
+    expect(ids[0]!.size).toBe(1);
+    expect(ids[1]!.size).toBe(1);
+    expect([...ids[0]!][0]).not.toBe([...ids[1]!][0]);
+    for (const e of r.events) expect(Math.abs(e.azimuth_deg)).toBeGreaterThan(85);
+    expect(r.tracker.summary().every((s) => s.mirror === 'front-back')).toBe(true);
+  });
+});
+
+describe('3-D array: candidates with elevations', () => {
+  it('tracks azimuth and elevation; events carry elevation_deg', () => {
+    const sources: TruthSource[] = [
+      { azimuthAt: () => 120, elevationAt: () => 35, calls: bursts(0.1, 0.3, 0.4, 10), levelDbfs: -30 },
+      { azimuthAt: () => 120, elevationAt: () => -20, calls: bursts(0.45, 0.3, 0.4, 10), levelDbfs: -30 },
+    ];
+    const synth = generateHops(sources, { durationS: 10, hopS: 0.01, seed: 5, noiseDeg: 2, clutter: 0.2, dropout: 0.1 });
+    const r = run(synth);
+    const matches = matchCalls(sources, r.events);
+    const idOf = [0, 1].map((i) => majority(matches.filter((m) => m.source === i).map((m) => m.event?.track ?? null)));
+    expect(idOf[0]).not.toBe(idOf[1]);
+    for (const m of matches) {
+      expect(m.event?.track).toBe(idOf[m.source]);
+      expect(Math.abs(angleDiffDeg(m.event!.azimuth_deg, 120))).toBeLessThan(2);
+      expect(Math.abs(m.event!.elevation_deg! - sources[m.source]!.elevationAt!(0))).toBeLessThan(2);
+    }
+  });
+});
+
+describe('births, coasting and deaths', () => {
+  it('coasts through a silence shorter than the timeout and retires after a longer one', () => {
+    const calls: [number, number][] = [[0.1, 0.4], [3.1, 3.4], [20.1, 20.4]];
+    const sources: TruthSource[] = [{ azimuthAt: () => 10, calls, levelDbfs: -30 }];
+    const synth = generateHops(sources, { durationS: 21, hopS: 0.01, seed: 2, noiseDeg: 1, clutter: 0, dropout: 0 });
+    const r = run(synth, { trackTimeoutS: 10 });
+    expect(r.events.map((e) => e.track)).toEqual([1, 1, 2]);
+    const summary = r.tracker.summary();
+    expect(summary.map((s) => s.track)).toEqual([1, 2]);
+    expect(summary[0]!.lastSeenS).toBeLessThan(3.5);
+    expect(summary[0]!.events).toBe(2);
+  });
+
+  it('does not confirm clutter alone (M of N), and a call shorter than minEventS is no event', () => {
+    const quiet = generateHops([], { durationS: 30, hopS: 0.01, seed: 4, noiseDeg: 1, clutter: 0.5, dropout: 0 });
+    const r = run(quiet);
+    expect(r.tracker.summary()).toEqual([]);
+    expect(r.events).toEqual([]);
+    const blip = generateHops([{ azimuthAt: () => 0, calls: [[1, 1.03]], levelDbfs: -30 }], {
+      durationS: 2, hopS: 0.01, seed: 4, noiseDeg: 1, clutter: 0, dropout: 0,
+    });
+    expect(run(blip, { minEventS: 0.05 }).events).toEqual([]);
+    expect(run(blip, { minEventS: 0.02 }).events.length).toBe(1);
+  });
+
+  it('bridges gaps up to maxGapS and splits on a longer one', () => {
+    const calls: [number, number][] = [[1, 1.3], [1.38, 1.7]];
+    const synth = generateHops([{ azimuthAt: () => -60, calls, levelDbfs: -30 }], {
+      durationS: 2.5, hopS: 0.01, seed: 6, noiseDeg: 1, clutter: 0, dropout: 0,
+    });
+    // The pause is 80 ms; an onset at the second call splits the event after any pause.
+    expect(run(synth, { maxGapS: 0.12, onsetThreshold: 1 }).events.length).toBe(1);
+    expect(run(synth, { maxGapS: 0.12 }).events.length).toBe(2);
+    expect(run(synth, { maxGapS: 0.05, onsetThreshold: 1 }).events.length).toBe(2);
+  });
+
+  it('emits an event about maxGapS after the call ends (documented latency)', () => {
+    const synth = generateHops([{ azimuthAt: () => 30, calls: [[1, 1.5]], levelDbfs: -30 }], {
+      durationS: 3, hopS: 0.01, seed: 8, noiseDeg: 1, clutter: 0, dropout: 0,
+    });
+    const tracker = new Tracker({ maxGapS: 0.2 });
+    let emittedAt = NaN;
+    for (const hop of synth.hops) if (tracker.update(hop).events.length > 0) emittedAt = hop.timeS;
+    expect(emittedAt - 1.5).toBeGreaterThanOrEqual(0.2);
+    expect(emittedAt - 1.5).toBeLessThanOrEqual(0.2 + 0.01 + 1e-9);
+  });
+
+  it('rejects hops out of time order and updates after finish', () => {
+    const tracker = new Tracker();
+    const hop = { timeS: 1, levelDbfs: -30, onset: 0, confidence: 1, candidates: [] };
+    tracker.update(hop);
+    expect(() => tracker.update(hop)).toThrow(/increasing time order/);
+    tracker.finish();
+    expect(() => tracker.update({ ...hop, timeS: 2 })).toThrow(/after finish/);
+  });
+});
+
+describe('frog chorus profile: three static callers, overlapping bouts, long silences', () => {
+  it('keeps each frog on its own id across 4-minute silences', () => {
+    const frogs = trackerSettingsFromProfile(JSON.parse(readFileSync(new URL('../../configs/profiles/frog-chorus.json', import.meta.url), 'utf8')), 'frog-chorus.json');
+    // Three bouts (at 0, 250 and 500 s) of 20 s; within a bout each frog repeats a 0.4 s call
+    // with its own period, so calls overlap.
+    const bout = (phase: number, period: number): [number, number][] =>
+      [0, 250, 500].flatMap((b) => bursts(b + phase, 0.4, period - 0.4, b + 20));
+    const sources: TruthSource[] = [
+      { azimuthAt: () => -100, calls: bout(0.1, 1.1), levelDbfs: -28 },
+      { azimuthAt: () => 20, calls: bout(0.3, 1.3), levelDbfs: -32 },
+      { azimuthAt: () => 150, calls: bout(0.6, 1.7), levelDbfs: -36 },
+    ];
+    const synth = generateHops(sources, { durationS: 521, hopS: 0.01, seed: 12, noiseDeg: 2, clutter: 0.2, dropout: 0.1 });
+    const r = run(synth, frogs);
+    const summary = r.tracker.summary();
+    const trackOf: (number | null)[] = [];
+    for (const [i, truth] of [[0, -100], [1, 20], [2, 150]] as const) {
+      const ids = new Set(idsOfSource(synth, r, i).map((x) => x.id).filter((x) => x !== null));
+      expect(ids.size).toBe(1);
+      trackOf.push([...ids][0]!);
+      const s = summary.find((x) => x.track === [...ids][0])!;
+      expect(Math.abs(angleDiffDeg(s.azimuthDeg, truth))).toBeLessThan(1);
+      expect(s.firstSeenS).toBeLessThan(1);
+      expect(s.lastSeenS).toBeGreaterThan(515);
+    }
+    // Calls of different frogs overlap in time, so each call is matched among its frog's events.
+    const matches = matchCalls(sources, r.events, trackOf);
+    const right = matches.filter(
+      (m) =>
+        m.event !== null &&
+        Math.abs(angleDiffDeg(m.event.azimuth_deg, sources[m.source]!.azimuthAt(0))) <= 2 &&
+        Math.abs(m.event.start_s - m.call[0]) <= 0.02 &&
+        Math.abs(m.event.end_s - m.call[1]) <= 0.02,
+    ).length;
+    console.log(`frog chorus: ${right} of ${matches.length} calls with an event within 2 deg and 20 ms; ${r.events.length} events`);
+    expect(right / matches.length).toBeGreaterThanOrEqual(0.95);
+    expect(r.events.length).toBeLessThanOrEqual(matches.length * 1.05);
+  });
+});
