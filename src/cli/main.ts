@@ -3,6 +3,7 @@ import { Command, CommanderError } from 'commander';
 import { failAndExit } from './run-command.js';
 import { registerLocate } from './locate.js';
 import { registerScan } from './scan.js';
+import { registerSimulate } from './simulate.js';
 
 // A closed pipe (e.g. `bearline scan ... | head`) ends the run quietly: the reader has all it wants.
 process.stdout.on('error', (err: NodeJS.ErrnoException) => {
@@ -20,6 +21,7 @@ program
 
 registerScan(program);
 registerLocate(program);
+registerSimulate(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof CommanderError) {
