@@ -83,12 +83,12 @@ export class LineFile {
         done += n;
       }
     } catch (err) {
-      if (done > 0) {
-        try {
-          this.fs.ftruncateSync(this.fd, before);
-        } catch {
-          // The cut failed too; the reader's torn-line repair handles it on the next start.
-        }
+      // Cut back even when the failed call reported no progress: a failing device may have
+      // stored part of it anyway.
+      try {
+        this.fs.ftruncateSync(this.fd, before);
+      } catch {
+        // The cut failed too; the torn-line repair on the next start handles it.
       }
       throw new RuntimeFailure(describeWriteError(this.path, err));
     }

@@ -10,9 +10,9 @@ import { jsonObjectLine, LineFile, type LineFileFs, realFs, repairTail, type Tai
 /**
  * Log sink for frame and event records: JSON Lines (or CSV) files in one directory.
  *
- * File names: STATION.KIND.YYYYMMDDTHHMMSSZ[.N].EXT, e.g. marsh-east.events.20250614T213000Z.jsonl,
- * where the time is the UTC time the file was opened and N (1, 2, ...) separates files opened in
- * the same second. A new file starts when the open one would pass the size limit, when the UTC
+ * File names: STATION.KIND.YYYYMMDDTHHMMSSZ[_NNN].EXT, e.g. marsh-east.events.20250614T213000Z.jsonl,
+ * where the time is the UTC time the file was opened and _001, _002, ... separate files opened
+ * in the same second, so a plain sort of the names (ls, cat *.jsonl) is oldest first. A new file starts when the open one would pass the size limit, when the UTC
  * day changes, on reopen() (SIGHUP) and on every start. Each record is one write() of a whole
  * line; files are fsynced on a timer, on rotation and on close.
  */
@@ -99,7 +99,7 @@ export interface LogFileName {
   format: LogFormat;
 }
 
-const NAME = /^([A-Za-z0-9][A-Za-z0-9_-]{0,63})\.(frames|events)\.(\d{8}T\d{6}Z)(?:\.(\d+))?\.(jsonl|csv)$/;
+const NAME = /^([A-Za-z0-9][A-Za-z0-9_-]{0,63})\.(frames|events)\.(\d{8}T\d{6}Z)(?:_(\d{3,}))?\.(jsonl|csv)$/;
 
 export function utcStamp(ms: number): string {
   return new Date(ms).toISOString().replace(/[-:]/g, '').replace(/\.\d{3}Z$/, 'Z');
@@ -110,7 +110,7 @@ export function utcDay(ms: number): string {
 }
 
 export function formatLogFileName(f: LogFileName): string {
-  return `${f.station}.${f.kind}.${f.stamp}${f.n > 0 ? `.${f.n}` : ''}.${f.format}`;
+  return `${f.station}.${f.kind}.${f.stamp}${f.n > 0 ? `_${String(f.n).padStart(3, '0')}` : ''}.${f.format}`;
 }
 
 export function parseLogFileName(name: string): LogFileName | null {
@@ -232,11 +232,14 @@ function statfsFree(dir: string): number {
 export class RecordLog {
   readonly options: RecordLogOptions;
   readonly dir: string;
+  /** For the shutdown helper's messages. */
+  readonly name: string;
   private readonly clock: () => number;
   private readonly warn: (message: string) => void;
   private readonly fs: LineFileFs;
   private readonly freeBytes: (dir: string) => number;
   private readonly open: Partial<Record<RecordKind, OpenFile>> = {};
+  private readonly lastOpened: Partial<Record<RecordKind, LogFileName>> = {};
   /** Closed files of this station, oldest first, for the disk limit. */
   private closedFiles: LogFileEntry[] = [];
   private readonly counts: Record<RecordKind, number> = { frames: 0, events: 0 };
@@ -258,6 +261,7 @@ export class RecordLog {
     this.options = resolveRecordLogOptions(options);
     if (this.options.logDir === null) throw new UsageError('no --log-dir given for the record log');
     this.dir = this.options.logDir;
+    this.name = `log files in ${this.dir}`;
     this.clock = deps.clock ?? Date.now;
     this.warn = deps.onWarning ?? ((m) => process.stderr.write(`bearline: warning: ${m}\n`));
     this.fs = deps.fs ?? realFs;
@@ -330,9 +334,12 @@ export class RecordLog {
   /** Open a new file for `kind` and write its first line (after the CSV header) in the same write. */
   private openFile(kind: RecordKind, now: number, firstLine: Buffer): OpenFile {
     const base = { station: this.station, kind, stamp: utcStamp(now), format: this.options.logFormat };
-    let n = 0;
+    // Never reuse the name of a file deleted in the same second: names must keep sorting oldest first.
+    const last = this.lastOpened[kind];
+    let n = last && last.stamp === base.stamp ? last.n + 1 : 0;
     while (nodeFs.existsSync(join(this.dir, formatLogFileName({ ...base, n })))) n++;
     const name: LogFileName = { ...base, n };
+    this.lastOpened[kind] = name;
     const path = join(this.dir, formatLogFileName(name));
     const file = new LineFile(path, this.fs);
     const head = this.options.logFormat === 'csv' ? Buffer.from(CSV_HEADER[kind] + '\n') : Buffer.alloc(0);
