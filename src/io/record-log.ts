@@ -155,7 +155,8 @@ export const CSV_HEADER: Record<RecordKind, string> = {
 
 function cell(v: Cell): string {
   if (v === null || v === undefined) return '';
-  const s = String(v);
+  if (typeof v !== 'string') return String(v);
+  const s = v;
   return /[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
 }
 
