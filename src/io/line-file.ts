@@ -33,9 +33,9 @@ export function describeWriteError(path: string, err: unknown): string {
   const code = errCode(err);
   switch (code) {
     case 'ENOSPC':
-      return `cannot write ${path}: the disk is full (ENOSPC); free some space or set a lower disk limit; every record before this one is intact`;
+      return `cannot write ${path}: the disk is full (ENOSPC); free some space or set a lower --max-disk; every record before this one is intact`;
     case 'EDQUOT':
-      return `cannot write ${path}: the disk quota is used up (EDQUOT); raise the quota or set a lower disk limit; every record before this one is intact`;
+      return `cannot write ${path}: the disk quota is used up (EDQUOT); raise the quota or set a lower --max-disk; every record before this one is intact`;
     case 'EIO':
       return `cannot write ${path}: the storage reported an I/O error (EIO); check the card or disk and its cable; every record before this one is intact`;
     case 'EROFS':
