@@ -1,9 +1,11 @@
 import { join } from 'node:path';
 import mqtt, { type IClientOptions, type MqttClient } from 'mqtt';
 import { UsageError } from '../errors.js';
+import { applyDefaults } from '../station/apply-defaults.js';
+import { stderrWarning } from './stderr-warning.js';
+import type { OptionSpec } from '../option-spec.js';
 import type { EventRecord, FrameRecord } from '../records.js';
 import { parseByteSize } from '../station/byte-size.js';
-import type { OptionSpec } from '../station/option-spec.js';
 import { validateStationId } from '../station/station-id.js';
 import { DiskQueue, type QueueItem } from './disk-queue.js';
 
@@ -50,18 +52,15 @@ export function parseBrokerUrl(raw: string): string {
   return raw;
 }
 
-export const mqttOptionSpecs: OptionSpec<MqttOptions>[] = [
-  { key: 'mqtt', flag: '--mqtt <url>', help: 'publish events to this MQTT broker, e.g. mqtt://127.0.0.1:1883', defaultText: 'off', parse: parseBrokerUrl },
-  { key: 'mqttFrames', flag: '--mqtt-frames', help: 'also publish one frame record per hop (QoS 0, not queued while the broker is away)' },
-  { key: 'mqttQueueDir', flag: '--mqtt-queue-dir <dir>', help: 'where events wait while the broker is unreachable', defaultText: './bearline-mqtt-queue', parse: (raw) => raw },
-  { key: 'mqttQueueMax', flag: '--mqtt-queue-max <size>', help: 'most unsent events to keep (oldest dropped first), e.g. 16M', defaultText: '16M', parse: (raw) => parseByteSize(raw, '--mqtt-queue-max') },
+export const mqttOptionSpecs: readonly OptionSpec<keyof MqttOptions>[] = [
+  { key: 'mqtt', flag: '--mqtt <url>', help: 'publish events to this MQTT broker, e.g. mqtt://127.0.0.1:1883', defaultValue: 'off', parse: parseBrokerUrl },
+  { key: 'mqttFrames', flag: '--mqtt-frames', help: 'also publish one frame record per hop (QoS 0, not queued while the broker is away)', defaultValue: false },
+  { key: 'mqttQueueDir', flag: '--mqtt-queue-dir <dir>', help: 'where events wait while the broker is unreachable', defaultValue: './bearline-mqtt-queue', parse: (raw: string) => raw },
+  { key: 'mqttQueueMax', flag: '--mqtt-queue-max <size>', help: 'most unsent events to keep (oldest dropped first), e.g. 16M', defaultValue: '16M', parse: (raw: string) => parseByteSize(raw, '--mqtt-queue-max') },
 ];
 
 export function resolveMqttOptions(partial: Partial<MqttOptions>): MqttOptions {
-  const o: MqttOptions = { ...MQTT_DEFAULTS };
-  for (const [k, v] of Object.entries(partial) as [keyof MqttOptions, unknown][]) {
-    if (v !== undefined) (o as unknown as Record<string, unknown>)[k] = v;
-  }
+  const o = applyDefaults(MQTT_DEFAULTS, partial);
   if (o.mqtt !== null) parseBrokerUrl(o.mqtt);
   if (o.mqttQueueDir !== null && o.mqttQueueDir.trim() === '') throw new UsageError('--mqtt-queue-dir is empty; give a directory');
   if (!Number.isSafeInteger(o.mqttQueueMax) || o.mqttQueueMax < 64 * 1024) throw new UsageError(`--mqtt-queue-max ${o.mqttQueueMax} is too small; use at least 64K`);
@@ -119,7 +118,7 @@ export class MqttSink {
     this.options = resolveMqttOptions(options);
     if (this.options.mqtt === null) throw new UsageError('no --mqtt broker URL given');
     this.name = `MQTT broker ${this.options.mqtt}`;
-    this.warn = deps.onWarning ?? ((m) => process.stderr.write(`bearline: warning: ${m}\n`));
+    this.warn = deps.onWarning ?? stderrWarning;
     this.clock = deps.clock ?? Date.now;
     this.drainMs = deps.drainMs ?? 2000;
     this.queue = new DiskQueue(this.options.mqttQueueDir ?? join(process.cwd(), 'bearline-mqtt-queue'), {

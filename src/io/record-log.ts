@@ -1,11 +1,17 @@
 import * as nodeFs from 'node:fs';
 import { join } from 'node:path';
 import { RuntimeFailure, UsageError } from '../errors.js';
+import { applyDefaults } from '../station/apply-defaults.js';
+import { stderrWarning } from './stderr-warning.js';
+import type { MicPair } from '../geometry/array-geometry.js';
+import type { OptionSpec } from '../option-spec.js';
+import { eventColumns } from '../pipeline/event-columns.js';
+import { frameColumns } from '../pipeline/frame-columns.js';
 import type { EventRecord, FrameRecord } from '../records.js';
 import { formatByteSize, parseByteSize } from '../station/byte-size.js';
-import type { OptionSpec } from '../station/option-spec.js';
 import { validateStationId } from '../station/station-id.js';
 import { jsonObjectLine, LineFile, type LineFileFs, realFs, repairTail, type TailRepair } from './line-file.js';
+import { csvCell, type CsvColumn } from './record-writer.js';
 
 /**
  * Log sink for frame and event records: JSON Lines (or CSV) files in one directory.
@@ -60,22 +66,19 @@ function parseSeconds(raw: string): number {
   return n;
 }
 
-export const recordLogOptionSpecs: OptionSpec<RecordLogOptions>[] = [
-  { key: 'logDir', flag: '--log-dir <dir>', help: 'write records to rotating files in this directory', parse: (raw) => raw },
-  { key: 'logFormat', flag: '--log-format <format>', help: 'log file format: jsonl or csv', defaultText: 'jsonl', parse: parseFormat },
-  { key: 'logFrames', flag: '--log-frames', help: 'also log one frame record per hop (large files), not only events' },
-  { key: 'rotateSize', flag: '--rotate-size <size>', help: 'start a new log file at this size (e.g. 64M); files also rotate at each UTC midnight', defaultText: '64M', parse: (raw) => parseByteSize(raw, '--rotate-size') },
-  { key: 'fsyncEvery', flag: '--fsync-every <seconds>', help: 'seconds between forced writes to disk (records written since can be lost on power failure, not on a crash)', defaultText: '5', parse: parseSeconds },
-  { key: 'maxDisk', flag: '--max-disk <size>', help: "delete this station's oldest log files when all of them pass this size (e.g. 2G)", defaultText: 'no limit', parse: (raw) => parseByteSize(raw, '--max-disk') },
-  { key: 'minFree', flag: '--min-free <size>', help: 'warn when free space on the log disk falls below this size', defaultText: '200M', parse: (raw) => parseByteSize(raw, '--min-free') },
+export const recordLogOptionSpecs: readonly OptionSpec<keyof RecordLogOptions>[] = [
+  { key: 'logDir', flag: '--log-dir <dir>', help: 'write records to rotating files in this directory', defaultValue: null, parse: (raw: string) => raw },
+  { key: 'logFormat', flag: '--log-format <format>', help: 'log file format: jsonl or csv', defaultValue: 'jsonl', parse: parseFormat },
+  { key: 'logFrames', flag: '--log-frames', help: 'also log one frame record per hop (large files), not only events', defaultValue: false },
+  { key: 'rotateSize', flag: '--rotate-size <size>', help: 'start a new log file at this size (e.g. 64M); files also rotate at each UTC midnight', defaultValue: '64M', parse: (raw: string) => parseByteSize(raw, '--rotate-size') },
+  { key: 'fsyncEvery', flag: '--fsync-every <seconds>', help: 'seconds between forced writes to disk (records written since can be lost on power failure, not on a crash)', defaultValue: RECORD_LOG_DEFAULTS.fsyncEvery, parse: parseSeconds },
+  { key: 'maxDisk', flag: '--max-disk <size>', help: "delete this station's oldest log files when all of them pass this size (e.g. 2G)", defaultValue: 'no limit', parse: (raw: string) => parseByteSize(raw, '--max-disk') },
+  { key: 'minFree', flag: '--min-free <size>', help: 'warn when free space on the log disk falls below this size', defaultValue: '200M', parse: (raw: string) => parseByteSize(raw, '--min-free') },
 ];
 
 /** Fill in defaults and check the combination. Throws UsageError naming the option. */
 export function resolveRecordLogOptions(partial: Partial<RecordLogOptions>): RecordLogOptions {
-  const o: RecordLogOptions = { ...RECORD_LOG_DEFAULTS };
-  for (const [k, v] of Object.entries(partial) as [keyof RecordLogOptions, unknown][]) {
-    if (v !== undefined) (o as unknown as Record<string, unknown>)[k] = v;
-  }
+  const o = applyDefaults(RECORD_LOG_DEFAULTS, partial);
   if (o.logDir !== null && o.logDir.trim() === '') throw new UsageError('--log-dir is empty; give a directory');
   parseFormat(o.logFormat);
   if (!Number.isSafeInteger(o.rotateSize) || o.rotateSize < 4096) throw new UsageError(`--rotate-size ${o.rotateSize} is too small; use at least 4K`);
@@ -143,36 +146,7 @@ export function listLogFiles(dir: string, station: string, kind?: RecordKind): L
 
 // ---------- CSV (pure) ----------
 
-type Cell = string | number | boolean | null | undefined;
-
-const FRAME_COLUMNS = ['time_s', 'utc', 'azimuth_deg', 'elevation_deg', 'bearing_deg', 'confidence', 'tdoa_s', 'level_dbfs', 'mirror', 'onset', 'track'] as const;
-const EVENT_COLUMNS = ['start_s', 'end_s', 'utc', 'azimuth_deg', 'elevation_deg', 'bearing_deg', 'spread_deg', 'confidence', 'track', 'peak_dbfs', 'band_low_hz', 'band_high_hz', 'mirror', 'station'] as const;
-
-export const CSV_HEADER: Record<RecordKind, string> = {
-  frames: FRAME_COLUMNS.join(','),
-  events: EVENT_COLUMNS.join(','),
-};
-
-function cell(v: Cell): string {
-  if (v === null || v === undefined) return '';
-  if (typeof v !== 'string') return String(v);
-  const s = v;
-  return /[",\r\n]/.test(s) ? `"${s.replace(/"/g, '""')}"` : s;
-}
-
-/** A frame as one CSV row; tdoa_s entries are joined with ';' (empty where a pair has none). */
-export function frameCsvRow(r: FrameRecord): string {
-  const tdoa = r.tdoa_s.map((t) => (t === null ? '' : String(t))).join(';');
-  return [r.time_s, r.utc, r.azimuth_deg, r.elevation_deg, r.bearing_deg, r.confidence, tdoa, r.level_dbfs, r.mirror, r.onset, r.track].map(cell).join(',');
-}
-
-export function eventCsvRow(r: EventRecord): string {
-  return [r.start_s, r.end_s, r.utc, r.azimuth_deg, r.elevation_deg, r.bearing_deg, r.spread_deg, r.confidence, r.track, r.peak_dbfs, r.band_hz?.[0], r.band_hz?.[1], r.mirror, r.station]
-    .map(cell)
-    .join(',');
-}
-
-/** Number of fields in a CSV line, honouring double-quoted fields. */
+/** Number of fields in a CSV line, honouring double-quoted fields; -1 for an open quote. */
 export function csvFieldCount(line: string): number {
   let n = 1;
   let quoted = false;
@@ -184,9 +158,38 @@ export function csvFieldCount(line: string): number {
   return quoted ? -1 : n;
 }
 
-function lineCheck(format: LogFormat, kind: RecordKind): (line: string) => boolean {
+export function csvHeader<T>(columns: readonly CsvColumn<T>[]): string {
+  return columns.map((c) => c.name).join(',');
+}
+
+export function csvRow<T>(columns: readonly CsvColumn<T>[], rec: T): string {
+  return columns.map((c) => csvCell(c.get(rec))).join(',');
+}
+
+/** Mic pairs (0,1), (0,2), ... (1,2), ... for the number of tdoa entries a frame carries. */
+export function pairsForCount(count: number): MicPair[] {
+  const mics = Math.round((1 + Math.sqrt(1 + 8 * count)) / 2);
+  if ((mics * (mics - 1)) / 2 !== count) throw new Error(`internal: ${count} tdoa entries is no whole number of mic pairs`);
+  const pairs: MicPair[] = [];
+  for (let a = 0; a < mics; a++) for (let b = a + 1; b < mics; b++) pairs.push([a, b]);
+  return pairs;
+}
+
+/** How a log file's lines are checked at start: JSON objects, or CSV rows as wide as the header. */
+function lineCheck(path: string, format: LogFormat): (line: string) => boolean {
   if (format === 'jsonl') return jsonObjectLine;
-  const columns = csvFieldCount(CSV_HEADER[kind]);
+  const head = Buffer.alloc(65536);
+  const fd = nodeFs.openSync(path, 'r');
+  let n: number;
+  try {
+    n = nodeFs.readSync(fd, head, 0, head.length, 0);
+  } finally {
+    nodeFs.closeSync(fd);
+  }
+  const nl = head.subarray(0, n).indexOf(0x0a);
+  // Without a whole header line nothing in the file can be trusted: cut it all.
+  if (nl < 0) return () => false;
+  const columns = csvFieldCount(head.subarray(0, nl).toString('utf8'));
   return (line) => csvFieldCount(line) === columns;
 }
 
@@ -194,8 +197,7 @@ function lineCheck(format: LogFormat, kind: RecordKind): (line: string) => boole
 export function repairLogFile(path: string, keepCut = true): TailRepair | null {
   const slash = Math.max(path.lastIndexOf('/'), path.lastIndexOf('\\'));
   const f = parseLogFileName(path.slice(slash + 1));
-  const check = f ? lineCheck(f.format, f.kind) : jsonObjectLine;
-  return repairTail(path, check, keepCut);
+  return repairTail(path, lineCheck(path, f?.format ?? 'jsonl'), keepCut);
 }
 
 // ---------- the sink (I/O) ----------
@@ -208,6 +210,12 @@ export interface RecordLogDeps {
   fs?: LineFileFs;
   /** Free bytes on the file system holding `dir`. */
   freeBytes?: (dir: string) => number;
+  /**
+   * CSV columns of frames (frameColumns(micPairs(geometry), hasHeading) in the live command).
+   * Without them the columns follow the first frame: its pair count, and a bearing column when
+   * it has a bearing.
+   */
+  frameColumns?: readonly CsvColumn<FrameRecord>[];
 }
 
 export interface RecordLogStats {
@@ -248,6 +256,8 @@ export class RecordLog {
   private lowSpaceWarned = false;
   private overLimitWarned = false;
   private failure: RuntimeFailure | null = null;
+  private frameCols: readonly CsvColumn<FrameRecord>[] | null;
+  private readonly eventCols = eventColumns();
   private timer: NodeJS.Timeout | null = null;
   private closed = false;
   /** What the start-up check cut off. */
@@ -264,9 +274,10 @@ export class RecordLog {
     this.dir = this.options.logDir;
     this.name = `log files in ${this.dir}`;
     this.clock = deps.clock ?? Date.now;
-    this.warn = deps.onWarning ?? ((m) => process.stderr.write(`bearline: warning: ${m}\n`));
+    this.warn = deps.onWarning ?? stderrWarning;
     this.fs = deps.fs ?? realFs;
     this.freeBytes = deps.freeBytes ?? statfsFree;
+    this.frameCols = deps.frameColumns ?? null;
     try {
       nodeFs.mkdirSync(this.dir, { recursive: true });
       nodeFs.accessSync(this.dir, nodeFs.constants.W_OK);
@@ -300,14 +311,18 @@ export class RecordLog {
 
   writeFrame(record: FrameRecord): void {
     if (!this.options.logFrames) return;
-    this.write('frames', this.options.logFormat === 'csv' ? frameCsvRow(record) : JSON.stringify(record));
+    if (this.options.logFormat === 'jsonl') return this.write('frames', JSON.stringify(record), '');
+    this.frameCols ??= frameColumns(pairsForCount(record.tdoa_s.length), record.bearing_deg !== undefined);
+    this.write('frames', csvRow(this.frameCols, record), csvHeader(this.frameCols));
   }
 
   writeEvent(record: EventRecord): void {
-    this.write('events', this.options.logFormat === 'csv' ? eventCsvRow(record) : JSON.stringify(record));
+    if (this.options.logFormat === 'jsonl') return this.write('events', JSON.stringify(record), '');
+    this.write('events', csvRow(this.eventCols, record), csvHeader(this.eventCols));
   }
 
-  private write(kind: RecordKind, text: string): void {
+  /** `header` is the CSV header line a new file starts with ('' for JSON Lines). */
+  private write(kind: RecordKind, text: string, header: string): void {
     if (this.failure) throw this.failure;
     if (this.closed) throw new RuntimeFailure('internal: record log written after close');
     const line = Buffer.from(text + '\n', 'utf8');
@@ -319,7 +334,7 @@ export class RecordLog {
     }
     try {
       if (!f) {
-        f = this.openFile(kind, now, line);
+        f = this.openFile(kind, now, header, line);
         this.open[kind] = f;
       } else {
         f.file.append(line);
@@ -333,7 +348,7 @@ export class RecordLog {
   }
 
   /** Open a new file for `kind` and write its first line (after the CSV header) in the same write. */
-  private openFile(kind: RecordKind, now: number, firstLine: Buffer): OpenFile {
+  private openFile(kind: RecordKind, now: number, header: string, firstLine: Buffer): OpenFile {
     const base = { station: this.station, kind, stamp: utcStamp(now), format: this.options.logFormat };
     // Never reuse the name of a file deleted in the same second: names must keep sorting oldest first.
     const last = this.lastOpened[kind];
@@ -343,7 +358,7 @@ export class RecordLog {
     this.lastOpened[kind] = name;
     const path = join(this.dir, formatLogFileName(name));
     const file = new LineFile(path, this.fs);
-    const head = this.options.logFormat === 'csv' ? Buffer.from(CSV_HEADER[kind] + '\n') : Buffer.alloc(0);
+    const head = header === '' ? Buffer.alloc(0) : Buffer.from(header + '\n');
     try {
       file.append(Buffer.concat([head, firstLine]));
     } catch (err) {

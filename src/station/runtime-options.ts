@@ -1,5 +1,6 @@
 import { UsageError } from '../errors.js';
-import type { OptionSpec } from './option-spec.js';
+import { applyDefaults } from './apply-defaults.js';
+import type { OptionSpec } from '../option-spec.js';
 import { defaultStationId, validateStationId } from './station-id.js';
 
 /** Options of a headless station run that are not about one sink. */
@@ -42,19 +43,16 @@ function parseCloseTimeout(raw: string): number {
   return n;
 }
 
-export const stationOptionSpecs: OptionSpec<StationOptions>[] = [
-  { key: 'station', flag: '--station <id>', help: "this station's id in file names and MQTT topics (letters, digits, '-', '_')", defaultText: 'the host name', parse: validateStationId },
-  { key: 'statusEvery', flag: '--status-every <minutes>', help: 'print a status line on stderr this often (0 = never)', defaultText: '10', parse: parseMinutes },
-  { key: 'health', flag: '--health <port>', help: 'serve the status as JSON over HTTP on this port', defaultText: 'off', parse: parsePort },
-  { key: 'healthHost', flag: '--health-host <address>', help: 'address for --health (keep 127.0.0.1 unless the network is trusted)', defaultText: '127.0.0.1', parse: (raw) => raw },
-  { key: 'closeTimeout', flag: '--close-timeout <seconds>', help: 'on SIGINT/SIGTERM, wait this long for files and the broker to close', defaultText: '10', parse: parseCloseTimeout },
+export const stationOptionSpecs: readonly OptionSpec<keyof StationOptions>[] = [
+  { key: 'station', flag: '--station <id>', help: "this station's id in file names and MQTT topics (letters, digits, '-', '_')", defaultValue: 'the host name', parse: validateStationId },
+  { key: 'statusEvery', flag: '--status-every <minutes>', help: 'print a status line on stderr this often (0 = never)', defaultValue: STATION_DEFAULTS.statusEvery, parse: parseMinutes },
+  { key: 'health', flag: '--health <port>', help: 'serve the status as JSON over HTTP on this port', defaultValue: 'off', parse: parsePort },
+  { key: 'healthHost', flag: '--health-host <address>', help: 'address for --health (keep 127.0.0.1 unless the network is trusted)', defaultValue: STATION_DEFAULTS.healthHost, parse: (raw: string) => raw },
+  { key: 'closeTimeout', flag: '--close-timeout <seconds>', help: 'on SIGINT/SIGTERM, wait this long for files and the broker to close', defaultValue: STATION_DEFAULTS.closeTimeout, parse: parseCloseTimeout },
 ];
 
 export function resolveStationOptions(partial: Partial<StationOptions>): StationOptions {
-  const o: StationOptions = { ...STATION_DEFAULTS };
-  for (const [k, v] of Object.entries(partial) as [keyof StationOptions, unknown][]) {
-    if (v !== undefined) (o as unknown as Record<string, unknown>)[k] = v;
-  }
+  const o = applyDefaults(STATION_DEFAULTS, partial);
   validateStationId(o.station);
   if (!(o.statusEvery >= 0 && o.statusEvery <= 1440)) throw new UsageError(`--status-every ${o.statusEvery} must be minutes from 0 to 1440`);
   if (o.health !== null && !(Number.isInteger(o.health) && o.health >= 0 && o.health <= 65535)) throw new UsageError(`--health ${o.health} is not a TCP port`);

@@ -3,10 +3,11 @@ import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'no
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { mqttOptionSpecs, resolveMqttOptions } from '../../src/io/mqtt-sink.js';
-import { recordLogOptionSpecs, resolveRecordLogOptions } from '../../src/io/record-log.js';
-import { profileSection } from '../../src/station/option-spec.js';
-import { resolveStationOptions, stationOptionSpecs } from '../../src/station/runtime-options.js';
+import { mqttOptionSpecs, resolveMqttOptions, type MqttOptions } from '../../src/io/mqtt-sink.js';
+import { recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../../src/io/record-log.js';
+import { analysisOptionSpecs, resolveAnalysisOptions, type AnalysisOptions } from '../../src/pipeline/analysis-options.js';
+import { profileSection } from '../../src/station/profile-section.js';
+import { resolveStationOptions, stationOptionSpecs, type StationOptions } from '../../src/station/runtime-options.js';
 
 const root = new URL('../../', import.meta.url);
 const UNIT = new URL('configs/systemd/bearline-station.service', root).pathname;
@@ -16,25 +17,25 @@ describe('configs/profiles/station-low-cpu.json', () => {
   const profile = JSON.parse(readFileSync(PROFILE, 'utf8')) as Record<string, unknown>;
 
   it('its station, log and mqtt sections load through the same option specs as the flags', () => {
-    const st = resolveStationOptions(profileSection(stationOptionSpecs, profile.station, 'station'));
-    const lg = resolveRecordLogOptions({ ...profileSection(recordLogOptionSpecs, profile.log, 'log'), logDir: '/var/lib/bearline/logs' });
-    const mq = resolveMqttOptions(profileSection(mqttOptionSpecs, profile.mqtt, 'mqtt'));
+    const st = resolveStationOptions(profileSection<StationOptions>(stationOptionSpecs, profile.station, 'station'));
+    const lg = resolveRecordLogOptions({ ...profileSection<RecordLogOptions>(recordLogOptionSpecs, profile.log, 'log'), logDir: '/var/lib/bearline/logs' });
+    const mq = resolveMqttOptions(profileSection<MqttOptions>(mqttOptionSpecs, profile.mqtt, 'mqtt'));
     expect(st.statusEvery).toBe(15);
     expect(lg).toMatchObject({ rotateSize: 32 * 1024 ** 2, maxDisk: 4 * 1024 ** 3, logFrames: false, fsyncEvery: 10 });
     expect(mq.mqttFrames).toBe(false);
   });
 
-  it('analysis has frame and hop in samples, hop not above frame (no overlap costs least CPU)', () => {
-    const a = profile.analysis as { frame: number; hop: number };
-    expect(Number.isInteger(a.frame) && Number.isInteger(a.hop)).toBe(true);
-    expect(a.hop).toBeLessThanOrEqual(a.frame);
-    expect(a.frame & (a.frame - 1)).toBe(0); // a power of two for the FFT (common practice, no source)
+  it('its analysis section (frame and hop in samples) is valid analysis options at 48 kHz, with no overlap', () => {
+    const a = resolveAnalysisOptions(profileSection<AnalysisOptions>(analysisOptionSpecs, profile.analysis, 'analysis'), 48_000);
+    expect(a.frame).toBe(1024);
+    // hop = frame: half the hops of the default 50 % overlap, so about half the FFTs (common practice, no source)
+    expect(a.hop).toBe(a.frame);
   });
 
   it('unknown keys and bad values in a section are errors that name the field', () => {
-    expect(() => profileSection(recordLogOptionSpecs, { rotatesize: '1M' }, 'log')).toThrow(/^log\.rotatesize is not a known option/);
+    expect(() => profileSection(recordLogOptionSpecs, { rotatesize: '1M' }, 'log')).toThrow(/^log\.rotatesize in the profile is not a known option/);
     expect(() => profileSection(recordLogOptionSpecs, { maxDisk: 'lots' }, 'log')).toThrow(/--max-disk 'lots' is not a size/);
-    expect(() => profileSection(recordLogOptionSpecs, { logFrames: 'yes' }, 'log')).toThrow(/^log\.logFrames must be true or false/);
+    expect(() => profileSection(recordLogOptionSpecs, { logFrames: 'yes' }, 'log')).toThrow(/^log\.logFrames in the profile must be true or false/);
   });
 });
 

@@ -5,9 +5,11 @@ import { join } from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { RuntimeFailure, UsageError } from '../../src/errors.js';
 import { realFs, tornTailLength, jsonObjectLine, type LineFileFs } from '../../src/io/line-file.js';
+import { eventColumns } from '../../src/pipeline/event-columns.js';
+import { frameColumns } from '../../src/pipeline/frame-columns.js';
 import {
-  CSV_HEADER,
   csvFieldCount,
+  csvHeader,
   listLogFiles,
   parseLogFileName,
   RecordLog,
@@ -77,6 +79,8 @@ describe('record log survives SIGKILL (child process driver)', () => {
   });
 });
 
+const EVENTS_HEADER = csvHeader(eventColumns());
+
 describe('torn-line repair', () => {
   it('the pure check finds a partial last line, an unparsable last line, and asks for more when the window is short', () => {
     const ok = Buffer.from('{"a":1}\n{"a":2}\n');
@@ -106,10 +110,10 @@ describe('torn-line repair', () => {
     const dir = freshDir();
     const path = join(dir, 'pond-test.events.20250614T210000Z.csv');
     const row = '1.5,1.9,,10,,,2,0.9,1,,,,,\n';
-    expect(csvFieldCount(row.trimEnd())).toBe(csvFieldCount(CSV_HEADER.events));
-    writeFileSync(path, CSV_HEADER.events + '\n' + row + '1.6,2.0,,11\n');
+    expect(csvFieldCount(row.trimEnd())).toBe(csvFieldCount(EVENTS_HEADER));
+    writeFileSync(path, EVENTS_HEADER + '\n' + row + '1.6,2.0,,11\n');
     expect(repairLogFile(path, false)!.cutBytes).toBe('1.6,2.0,,11\n'.length);
-    expect(readFileSync(path, 'utf8')).toBe(CSV_HEADER.events + '\n' + row);
+    expect(readFileSync(path, 'utf8')).toBe(EVENTS_HEADER + '\n' + row);
   });
 
   it('on start the log repairs the newest file, warns, and appends nothing to it', () => {
@@ -157,9 +161,23 @@ describe('rotation', () => {
       'pond-test.events.20250615T000001Z.csv',
     ]);
     const rows = files.map((f) => readFileSync(f.path, 'utf8').trimEnd().split('\n'));
-    expect(rows[0]![0]).toBe(CSV_HEADER.events);
+    expect(rows[0]![0]).toBe(EVENTS_HEADER);
     expect(rows.map((r) => r.length - 1)).toEqual([3, 2]);
     expect(rows[1]![2]!.split(',')[8]).toBe('4'); // track column
+  });
+
+  it('CSV frames use the frame columns of scan (one tdoa column per pair of a 4-mic array)', () => {
+    const dir = freshDir();
+    const log = new RecordLog('pond-test', { logDir: dir, logFormat: 'csv', logFrames: true });
+    for (let n = 0; n < 3; n++) log.writeFrame({ time_s: n * 0.02, azimuth_deg: n === 1 ? null : 20, elevation_deg: null, confidence: 0.5, tdoa_s: [1e-4, 2e-4, null, 0, -1e-4, 5e-5], level_dbfs: -30 });
+    log.close();
+    const text = readFileSync(listLogFiles(dir, 'pond-test', 'frames')[0]!.path, 'utf8');
+    const lines = text.trimEnd().split('\n');
+    expect(lines[0]).toBe(csvHeader(frameColumns([[0, 1], [0, 2], [0, 3], [1, 2], [1, 3], [2, 3]], false)));
+    expect(lines[0]).toMatch(/tdoa_s_0_1,tdoa_s_0_2,tdoa_s_0_3,tdoa_s_1_2,tdoa_s_1_3,tdoa_s_2_3$/);
+    expect(lines.length).toBe(4);
+    for (const l of lines) expect(csvFieldCount(l)).toBe(csvFieldCount(lines[0]!));
+    expect(lines[2]!.split(',')[1]).toBe(''); // null azimuth is an empty cell
   });
 
   it('reopen (SIGHUP) starts new files', () => {

@@ -2,15 +2,16 @@ import { EventEmitter } from 'node:events';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { Command } from 'commander';
+import { Command, Option } from 'commander';
 import { afterEach, describe, expect, it, vi } from 'vitest';
-import { addOptionSpecs } from '../../src/cli/option-specs.js';
+import { addSpecs, pickSpecs } from '../../src/cli/options.js';
+import { feedOptionSpecs } from '../../src/feed/feed-options.js';
+import { analysisOptionSpecs } from '../../src/pipeline/analysis-options.js';
 import { RuntimeFailure } from '../../src/errors.js';
 import { mqttOptionSpecs, resolveMqttOptions } from '../../src/io/mqtt-sink.js';
 import { listLogFiles, RecordLog, recordLogOptionSpecs, resolveRecordLogOptions } from '../../src/io/record-log.js';
 import { formatByteSize, parseByteSize } from '../../src/station/byte-size.js';
 import { startHealthServer } from '../../src/station/health-server.js';
-import { flagKey } from '../../src/station/option-spec.js';
 import { resolveStationOptions, stationOptionSpecs } from '../../src/station/runtime-options.js';
 import { installShutdown, type StationSink } from '../../src/station/shutdown.js';
 import { defaultStationId } from '../../src/station/station-id.js';
@@ -149,22 +150,22 @@ describe('shutdown helper', () => {
 describe('option specs (one home per option)', () => {
   const all = [...stationOptionSpecs, ...recordLogOptionSpecs, ...mqttOptionSpecs];
 
-  it('every key is the name commander gives its flag, and no flag is defined twice', () => {
-    for (const s of all) expect(flagKey(s.flag)).toBe(s.key);
-    const flags = all.map((s) => s.flag.split(' ')[0]);
+  it('every key is the name commander gives its flag, and no flag clashes with the analysis or feed flags', () => {
+    for (const s of all) expect(new Option(s.flag).attributeName()).toBe(s.key);
+    const flags = [...all, ...analysisOptionSpecs, ...feedOptionSpecs].map((s) => s.flag.split(' ')[0]);
     expect(new Set(flags).size).toBe(flags.length);
   });
 
   it('commander parses the flags into options that resolve with defaults', () => {
     const cmd = new Command().exitOverride();
-    addOptionSpecs(cmd, stationOptionSpecs);
-    addOptionSpecs(cmd, recordLogOptionSpecs);
-    addOptionSpecs(cmd, mqttOptionSpecs);
+    addSpecs(cmd, stationOptionSpecs);
+    addSpecs(cmd, recordLogOptionSpecs);
+    addSpecs(cmd, mqttOptionSpecs);
     cmd.parse(['--station', 'marsh-east', '--log-dir', '/data/bearline', '--max-disk', '2G', '--rotate-size', '500M', '--mqtt', 'mqtt://127.0.0.1:1883', '--log-frames', '--health', '8077'], { from: 'user' });
     const v = cmd.opts();
-    const st = resolveStationOptions(v);
-    const lg = resolveRecordLogOptions(v);
-    const mq = resolveMqttOptions(v);
+    const st = resolveStationOptions(pickSpecs(v, stationOptionSpecs));
+    const lg = resolveRecordLogOptions(pickSpecs(v, recordLogOptionSpecs));
+    const mq = resolveMqttOptions(pickSpecs(v, mqttOptionSpecs));
     expect(st).toMatchObject({ station: 'marsh-east', health: 8077, healthHost: '127.0.0.1', statusEvery: 10 });
     expect(lg).toMatchObject({ logDir: '/data/bearline', maxDisk: 2 * 1024 ** 3, rotateSize: 500 * 1024 ** 2, logFrames: true, logFormat: 'jsonl' });
     expect(mq).toMatchObject({ mqtt: 'mqtt://127.0.0.1:1883', mqttFrames: false, mqttQueueMax: 16 * 1024 ** 2 });
@@ -173,10 +174,10 @@ describe('option specs (one home per option)', () => {
 
   it('a bad value is a one-line usage error naming the flag', () => {
     const cmd = new Command().exitOverride().configureOutput({ writeErr: () => {} });
-    addOptionSpecs(cmd, recordLogOptionSpecs);
+    addSpecs(cmd, recordLogOptionSpecs);
     expect(() => cmd.parse(['--max-disk', '5X'], { from: 'user' })).toThrow(/--max-disk.*'5X' is not a size; write it like 500M, 2G or 65536/);
     const c2 = new Command().exitOverride().configureOutput({ writeErr: () => {} });
-    addOptionSpecs(c2, stationOptionSpecs);
+    addSpecs(c2, stationOptionSpecs);
     expect(() => c2.parse(['--station', 'pond/east'], { from: 'user' })).toThrow(/station id 'pond\/east' is not allowed/);
     expect(() => c2.parse(['--health', '70000'], { from: 'user' })).toThrow(/not a TCP port/);
   });
