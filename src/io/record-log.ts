@@ -258,6 +258,7 @@ export class RecordLog {
   private failure: RuntimeFailure | null = null;
   private frameCols: readonly CsvColumn<FrameRecord>[] | null;
   private readonly eventCols = eventColumns();
+  private lineBuf = Buffer.alloc(16 * 1024);
   private timer: NodeJS.Timeout | null = null;
   private closed = false;
   /** What the start-up check cut off. */
@@ -321,11 +322,20 @@ export class RecordLog {
     this.write('events', csvRow(this.eventCols, record), csvHeader(this.eventCols));
   }
 
+  /** The line (text + newline) in the log's one reusable buffer, grown only for a longer line. */
+  private encode(text: string): Buffer {
+    const len = Buffer.byteLength(text, 'utf8') + 1;
+    if (len > this.lineBuf.length) this.lineBuf = Buffer.alloc(Math.max(len, 2 * this.lineBuf.length));
+    this.lineBuf.write(text, 0, 'utf8');
+    this.lineBuf[len - 1] = 0x0a;
+    return this.lineBuf.subarray(0, len);
+  }
+
   /** `header` is the CSV header line a new file starts with ('' for JSON Lines). */
   private write(kind: RecordKind, text: string, header: string): void {
     if (this.failure) throw this.failure;
     if (this.closed) throw new RuntimeFailure('internal: record log written after close');
-    const line = Buffer.from(text + '\n', 'utf8');
+    const line = this.encode(text);
     const now = this.clock();
     let f = this.open[kind];
     if (f && (f.day !== utcDay(now) || (f.lines > 0 && f.file.size + line.length > this.options.rotateSize))) {
