@@ -7,6 +7,7 @@ import { afterEach, describe, expect, it, vi } from 'vitest';
 import { addSpecs, pickSpecs } from '../../src/cli/options.js';
 import { feedOptionSpecs } from '../../src/feed/feed-options.js';
 import { analysisOptionSpecs } from '../../src/pipeline/analysis-options.js';
+import { trackerOptionSpecs } from '../../src/track/options.js';
 import { RuntimeFailure } from '../../src/errors.js';
 import { mqttOptionSpecs, resolveMqttOptions } from '../../src/io/mqtt-sink.js';
 import { listLogFiles, RecordLog, recordLogOptionSpecs, resolveRecordLogOptions } from '../../src/io/record-log.js';
@@ -150,10 +151,14 @@ describe('shutdown helper', () => {
 describe('option specs (one home per option)', () => {
   const all = [...stationOptionSpecs, ...recordLogOptionSpecs, ...mqttOptionSpecs];
 
-  it('every key is the name commander gives its flag, and no flag clashes with the analysis or feed flags', () => {
+  it('every key is the name commander gives its flag, and no flag clashes with the analysis, tracker or feed flags', () => {
     for (const s of all) expect(new Option(s.flag).attributeName()).toBe(s.key);
-    const flags = [...all, ...analysisOptionSpecs, ...feedOptionSpecs].map((s) => s.flag.split(' ')[0]);
-    expect(new Set(flags).size).toBe(flags.length);
+    const others = [...analysisOptionSpecs, ...feedOptionSpecs, ...trackerOptionSpecs].flatMap((s) => (s.flag === null ? [] : [s.flag]));
+    expect(others.length).toBeGreaterThan(20);
+    const head = (f: string): string => f.split(' ')[0]!;
+    const mine = all.map((s) => head(s.flag));
+    expect(new Set(mine).size).toBe(mine.length);
+    expect(mine.filter((f) => others.map(head).includes(f))).toEqual([]);
   });
 
   it('commander parses the flags into options that resolve with defaults', () => {
