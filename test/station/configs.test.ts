@@ -7,6 +7,7 @@ import { mqttOptionSpecs, resolveMqttOptions, type MqttOptions } from '../../src
 import { recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../../src/io/record-log.js';
 import { analysisOptionSpecs, resolveAnalysisOptions, type AnalysisOptions } from '../../src/pipeline/analysis-options.js';
 import { profileSection } from '../../src/station/profile-section.js';
+import { defaultTrackerOptions, resolveTrackerOptions, trackerSettingsFromProfile } from '../../src/track/options.js';
 import { resolveStationOptions, stationOptionSpecs, type StationOptions } from '../../src/station/runtime-options.js';
 
 const root = new URL('../../', import.meta.url);
@@ -30,6 +31,10 @@ describe('configs/profiles/station-low-cpu.json', () => {
     expect(a.frame).toBe(1024);
     // hop = frame: half the hops of the default 50 % overlap, so about half the FFTs (common practice, no source)
     expect(a.hop).toBe(a.frame);
+    // fewer candidates and tracks than the tracker's defaults: less work per hop
+    const t = resolveTrackerOptions(trackerSettingsFromProfile(profile, 'station-low-cpu.json'), 'station-low-cpu.json');
+    expect(t.maxCandidates).toBeLessThan(defaultTrackerOptions.maxCandidates);
+    expect(t.maxTracks).toBeLessThan(defaultTrackerOptions.maxTracks);
   });
 
   it('unknown keys and bad values in a section are errors that name the field', () => {
