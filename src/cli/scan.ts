@@ -134,7 +134,7 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
     const inputs = file ? [file] : [];
     const withBearing = geometry.headingDeg !== null;
     const frameWriter = flags.frames ? RecordWriter.open<FrameRecord>(flags.out ?? null, format, frameColumns(setup.model.pairs, withBearing), inputs) : null;
-    const eventWriter = flags.frames ? null : RecordWriter.open<EventRecord>(flags.out ?? null, format, eventColumns(withBearing), inputs);
+    const eventWriter = flags.frames ? null : RecordWriter.open<EventRecord>(flags.out ?? null, format, eventColumns(), inputs);
     const writer = frameWriter ?? eventWriter!;
     const session = new TrackingSession(settings, stages.tracker, {
       onFrame: frameWriter ? (rec) => frameWriter.write(rec) : undefined,

@@ -10,7 +10,7 @@ export interface CsvColumn<T> {
   readonly get: (rec: T) => number | string | boolean | null | undefined;
 }
 
-function csvCell(v: number | string | boolean | null | undefined): string {
+export function csvCell(v: number | string | boolean | null | undefined): string {
   if (v === null || v === undefined) return '';
   if (typeof v === 'string') return /[",\n]/.test(v) ? `"${v.replace(/"/g, '""')}"` : v;
   return String(v);

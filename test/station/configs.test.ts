@@ -1,0 +1,86 @@
+import { spawnSync } from 'node:child_process';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { mqttOptionSpecs, resolveMqttOptions, type MqttOptions } from '../../src/io/mqtt-sink.js';
+import { recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../../src/io/record-log.js';
+import { analysisOptionSpecs, resolveAnalysisOptions, type AnalysisOptions } from '../../src/pipeline/analysis-options.js';
+import { profileSection } from '../../src/station/profile-section.js';
+import { defaultTrackerOptions, resolveTrackerOptions, trackerSettingsFromProfile } from '../../src/track/options.js';
+import { resolveStationOptions, stationOptionSpecs, type StationOptions } from '../../src/station/runtime-options.js';
+
+const root = new URL('../../', import.meta.url);
+const UNIT = new URL('configs/systemd/bearline-station.service', root).pathname;
+const PROFILE = new URL('configs/profiles/station-low-cpu.json', root).pathname;
+
+describe('configs/profiles/station-low-cpu.json', () => {
+  const profile = JSON.parse(readFileSync(PROFILE, 'utf8')) as Record<string, unknown>;
+
+  it('its station, log and mqtt sections load through the same option specs as the flags', () => {
+    const st = resolveStationOptions(profileSection<StationOptions>(stationOptionSpecs, profile.station, 'station'));
+    const lg = resolveRecordLogOptions({ ...profileSection<RecordLogOptions>(recordLogOptionSpecs, profile.log, 'log'), logDir: '/var/lib/bearline/logs' });
+    const mq = resolveMqttOptions(profileSection<MqttOptions>(mqttOptionSpecs, profile.mqtt, 'mqtt'));
+    expect(st.statusEvery).toBe(15);
+    expect(lg).toMatchObject({ rotateSize: 32 * 1024 ** 2, maxDisk: 4 * 1024 ** 3, logFrames: false, fsyncEvery: 10 });
+    expect(mq.mqttFrames).toBe(false);
+  });
+
+  it('its analysis section (frame and hop in samples) is valid analysis options at 48 kHz, with no overlap', () => {
+    const a = resolveAnalysisOptions(profileSection<AnalysisOptions>(analysisOptionSpecs, profile.analysis, 'analysis'), 48_000);
+    expect(a.frame).toBe(1024);
+    // hop = frame: half the hops of the default 50 % overlap, so about half the FFTs (common practice, no source)
+    expect(a.hop).toBe(a.frame);
+    // fewer candidates and tracks than the tracker's defaults: less work per hop
+    const t = resolveTrackerOptions(trackerSettingsFromProfile(profile, 'station-low-cpu.json'), 'station-low-cpu.json');
+    expect(t.maxCandidates).toBeLessThan(defaultTrackerOptions.maxCandidates);
+    expect(t.maxTracks).toBeLessThan(defaultTrackerOptions.maxTracks);
+  });
+
+  it('unknown keys and bad values in a section are errors that name the field', () => {
+    expect(() => profileSection(recordLogOptionSpecs, { rotatesize: '1M' }, 'log')).toThrow(/^log\.rotatesize in the profile is not a known option/);
+    expect(() => profileSection(recordLogOptionSpecs, { maxDisk: 'lots' }, 'log')).toThrow(/--max-disk 'lots' is not a size/);
+    expect(() => profileSection(recordLogOptionSpecs, { logFrames: 'yes' }, 'log')).toThrow(/^log\.logFrames in the profile must be true or false/);
+  });
+});
+
+// Checked by systemd's own parser (systemd-analyze verify, systemd.service(5), systemd.exec(5),
+// systemd.resource-control(5)): it prints a line for each setting it cannot parse.
+describe('configs/systemd/bearline-station.service', () => {
+  function verify(path: string): string {
+    if (!existsSync('/usr/bin/systemd-analyze')) throw new Error('this test needs systemd-analyze (Debian package systemd)');
+    const r = spawnSync('/usr/bin/systemd-analyze', ['verify', path], { encoding: 'utf8' });
+    return `${r.stdout}${r.stderr}`;
+  }
+
+  it('parses cleanly, and the same check flags a broken copy', () => {
+    expect(verify(UNIT)).toBe('');
+    const dir = mkdtempSync(join(tmpdir(), 'bearline-unit-'));
+    try {
+      const bad = join(dir, 'bearline-station.service');
+      writeFileSync(bad, readFileSync(UNIT, 'utf8').replace('Restart=on-failure', 'Restart=sometimes').replace('CPUQuota=60%', 'CPUQuota=lots'));
+      const out = verify(bad);
+      expect(out).toMatch(/restart specifier.*sometimes/);
+      expect(out).toMatch(/CPU quota 'lots'/);
+    } finally {
+      rmSync(dir, { recursive: true, force: true });
+    }
+  });
+
+  it('runs as a dedicated user, restarts on failure after a delay, logs to the journal, has limits', () => {
+    const text = readFileSync(UNIT, 'utf8');
+    const settings = new Map(
+      text
+        .split('\n')
+        .filter((l) => /^[A-Za-z]+=/.test(l))
+        .map((l) => [l.slice(0, l.indexOf('=')), l.slice(l.indexOf('=') + 1)] as const),
+    );
+    expect(settings.get('User')).toBe('bearline');
+    expect(settings.get('Restart')).toBe('on-failure');
+    expect(Number(settings.get('RestartSec'))).toBeGreaterThan(0);
+    expect(settings.get('RestartPreventExitStatus')).toBe('2'); // bad usage: restarting will not help
+    expect(settings.get('StandardError')).toBe('journal');
+    expect(settings.get('KillSignal')).toBe('SIGTERM');
+    for (const k of ['CPUQuota', 'MemoryMax', 'TasksMax', 'LimitNOFILE']) expect(settings.has(k)).toBe(true);
+  });
+});
