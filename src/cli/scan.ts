@@ -6,17 +6,14 @@ import { openPcmStreamSource } from '../io/pcm-stream-source.js';
 import { parseFormat, RecordWriter, type RecordFormat } from '../io/record-writer.js';
 import { stderrWarning } from '../io/stderr-warning.js';
 import { openWavSource } from '../io/wav-source.js';
-import { analysisOptionSpecs, type AnalysisOptions } from '../pipeline/analysis-options.js';
 import { createAnalysis, runAnalysis } from '../pipeline/analysis.js';
 import { eventColumns } from '../pipeline/event-columns.js';
 import { frameColumns } from '../pipeline/frame-columns.js';
-import { loadProfile, profileSection } from '../pipeline/profile.js';
 import { TrackingSession } from '../pipeline/tracking-session.js';
 import type { EventRecord, FrameRecord } from '../records.js';
 import { formatSummaryTable } from '../track/summary-table.js';
-import type { TrackerOptions } from '../track/options.js';
-import { configsDir, resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
-import { addArrayOptions, addSpecs, pickSpecs, trackerCliSpecs } from './options.js';
+import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
+import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
 import { positiveInteger } from './parse.js';
 import { createProgress } from './progress.js';
 import { action } from './run-command.js';
@@ -32,35 +29,6 @@ interface ScanFlags extends ArrayOptionValues {
   diagnostics?: boolean;
   viewerFields?: boolean;
   profile?: string;
-}
-
-/** Options every analysing command shares (scan, listen, demo): array, profile, analysis, tracker. */
-export function addAnalysisOptions(cmd: Command): Command {
-  addArrayOptions(cmd);
-  cmd.option('--profile <name|file.json>', 'run profile: settings per stage (presets in configs/profiles/: frog-chorus, passing-birds, bench, station-low-cpu)');
-  addSpecs(cmd, analysisOptionSpecs);
-  addSpecs(cmd, trackerCliSpecs());
-  return cmd;
-}
-
-/** Analysis and tracker settings: the profile's, overridden by the flags given. */
-export function resolveStageSettings(raw: Record<string, unknown>, profileName: string | undefined): { analysis: AnalysisOptions; tracker: Partial<TrackerOptions> } {
-  const loaded = profileName ? loadProfile(profileName, `${configsDir()}profiles/`) : null;
-  const profile = loaded?.profile ?? null;
-  const where = loaded?.where ?? '';
-  const analysis = {
-    ...profileSection(profile, 'analysis', analysisOptionSpecs.map((s) => s.key), where),
-    ...pickSpecs<AnalysisOptions>(raw, analysisOptionSpecs),
-  } as AnalysisOptions;
-  const trackerSpecs = trackerCliSpecs();
-  const tracker = {
-    ...profileSection(profile, 'tracker', trackerSpecs.map((s) => s.key), where),
-    ...pickSpecs<Partial<TrackerOptions>>(raw, trackerSpecs),
-  } as Partial<TrackerOptions>;
-  for (const [k, v] of Object.entries(analysis)) {
-    if (k !== 'voting' && typeof v !== 'number') throw new UsageError(`${where}: "analysis.${k}" must be a number`);
-  }
-  return { analysis, tracker };
 }
 
 export function registerScan(program: Command): void {
