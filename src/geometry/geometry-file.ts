@@ -17,7 +17,7 @@ export const MAX_MICS = 8;
 /** Two mics closer than this (m) are taken to be a typing mistake. */
 const MIN_MIC_DISTANCE_M = 0.001;
 /** Largest array extent accepted (m); larger is almost surely a unit mistake. */
-const MAX_EXTENT_M = 50;
+const MAX_EXTENT_M = 25;
 
 function isRecord(v: unknown): v is Record<string, unknown> {
   return typeof v === 'object' && v !== null && !Array.isArray(v);
