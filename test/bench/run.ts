@@ -1,0 +1,51 @@
+/**
+ * `npm run bench`: every benchmark of the project, one after the other, printing figures
+ * and ratios measured in this run (never a pass/fail on a bare time). Not part of `npm test`.
+ * Run one part alone with `npx tsx test/bench/<part>.ts`.
+ */
+import { benchCase, benchMemory, coreCases, printCore } from './core.js';
+import { runFeedLatencyBench } from './feed-latency.js';
+import { benchIoRead } from './io-read.js';
+import { formatSoak, runStationSoak } from './station-soak.js';
+import { formatTrackerBench, runTrackerBench } from './tracker.js';
+
+const only = process.argv.slice(2);
+const want = (part: string) => only.length === 0 || only.includes(part);
+
+async function main(): Promise<void> {
+  console.log(`bearline benchmarks, node ${process.version}, ${new Date().toISOString()}`);
+  let stereoUsPerHop: number | null = null;
+  if (want('core')) {
+    const rows = coreCases().map(([name, g]) => benchCase(name, g));
+    printCore(rows);
+    stereoUsPerHop = rows[0]!.usPerHop;
+    console.log('  targets: stereo within 1.5x of the FFT floor, faster than numpy, at least 200x real time; 4-mic at least 100x real time');
+  }
+  if (want('memory')) {
+    const m = benchMemory();
+    console.log(`\npeak RSS of bearline scan: 1-minute stereo ${m.oneMinMb.toFixed(0)} MB, 10-minute stereo ${m.tenMinMb.toFixed(0)} MB (ratio ${(m.tenMinMb / m.oneMinMb).toFixed(2)}; target: flat)`);
+  }
+  if (want('tracker')) {
+    const t = await runTrackerBench(300_000);
+    console.log('\n' + formatTrackerBench(t));
+    if (stereoUsPerHop !== null) {
+      console.log(`  tracker cost / stereo pipeline cost per hop: ${((100 * t.usPerHop) / stereoUsPerHop).toFixed(1)}% (target below 5%)`);
+    }
+  }
+  if (want('io')) {
+    const r = await benchIoRead({ minutes: 10 });
+    console.log('\n' + r.lines.join('\n'));
+  }
+  if (want('feed')) {
+    const r = await runFeedLatencyBench();
+    console.log('\n' + r.lines.join('\n'));
+  }
+  if (want('station')) {
+    console.log('\n' + formatSoak(runStationSoak()));
+  }
+}
+
+main().catch((err: unknown) => {
+  console.error(err);
+  process.exit(1);
+});
