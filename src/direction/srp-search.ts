@@ -68,7 +68,7 @@ export function arrayShape(g: ArrayGeometry): { shape: ArrayShape; axis: Vec3 } 
 
 /** Grid settings of the direction search. */
 export interface SearchGrid {
-  /** Angular step of the grid, degrees (default: 1 for a line, 4 for planes and solids). */
+  /** Angular step of the grid, degrees (default: from the array's largest lag). */
   readonly stepDeg?: number;
 }
 
@@ -115,7 +115,10 @@ export class SrpDirectionModel implements DirectionModel {
     this.shape = shape;
     this.axis = axis;
     this.mirror = shape === 'line' ? 'front-back' : shape === 'plane' ? 'up-down' : null;
-    const step = grid.stepDeg ?? (shape === 'line' ? 1 : 4);
+    // Default step: fine enough that no pair's lag is more than about 0.7 samples off at the
+    // nearest grid point (the refinement then takes it the rest of the way).
+    const largestLag = Math.max(...this.maxLag);
+    const step = grid.stepDeg ?? Math.max(1, Math.min(shape === 'line' ? 3 : 8, ((1.4 / largestLag) * 180) / Math.PI));
     this.gridDirs = makeGrid(shape, axis, step);
     const G = this.gridDirs.length;
     this.gridLag = new Float64Array(G * P);

@@ -43,6 +43,21 @@ export class RealFft {
     }
   }
 
+  /** A plain array for an interleaved spectrum (re, im per bin; bins 0..N/2 are filled). */
+  createSpectrum(): number[] {
+    return this.full.createComplexArray() as number[];
+  }
+
+  /** A plain array of N samples for forwardInterleaved (fft.js is fastest on plain arrays). */
+  createInput(): number[] {
+    return new Array<number>(this.size).fill(0);
+  }
+
+  /** Forward transform of a plain array into an interleaved spectrum, with no copies. */
+  forwardInterleaved(input: number[], spectrum: number[]): void {
+    this.full.realTransform(spectrum, input);
+  }
+
   /** Forward transform: X[k] = sum_n x[n] e^{-j 2 pi k n / N}, k = 0..N/2. */
   forward(input: Float64Array, re: Float64Array, im: Float64Array): void {
     const out = this.packed;

@@ -30,12 +30,10 @@ export class PairCorrelator {
     this.scaledIm = new Float64Array(bins);
   }
 
-  /** Add this hop's PHAT-weighted cross-spectrum into the memory. */
+  /** Add this hop's PHAT-weighted cross-spectrum into the memory (spectra interleaved re, im). */
   accumulate(
-    aRe: Float64Array,
-    aIm: Float64Array,
-    bRe: Float64Array,
-    bIm: Float64Array,
+    a: readonly number[],
+    b: readonly number[],
     weights: Float64Array,
     first: number,
     end: number,
@@ -45,10 +43,10 @@ export class PairCorrelator {
     const ai = this.accIm;
     for (let k = first; k < end; k++) {
       // conj(Xa) * Xb
-      const xr = aRe[k]!;
-      const xi = aIm[k]!;
-      const yr = bRe[k]!;
-      const yi = bIm[k]!;
+      const xr = a[2 * k]!;
+      const xi = a[2 * k + 1]!;
+      const yr = b[2 * k]!;
+      const yi = b[2 * k + 1]!;
       const cr = xr * yr + xi * yi;
       const ci = xr * yi - xi * yr;
       const mag = Math.sqrt(cr * cr + ci * ci);
@@ -165,7 +163,7 @@ export function addBandScores(
  * parabolic-interpolation bias. Returns the refined lag, kept within +-1 sample of the start
  * and within +-maxLag.
  */
-export function refineLag(pc: PairCorrelator, bands: BandLayout, useBand: Uint8Array, lag: number, iterations = 3): number {
+export function refineLag(pc: PairCorrelator, bands: BandLayout, useBand: Uint8Array, lag: number, iterations = 2): number {
   const n = pc.n;
   const w0 = (2 * Math.PI) / n;
   const ar = pc.accRe;

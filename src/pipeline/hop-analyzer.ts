@@ -61,9 +61,9 @@ export class HopAnalyzer {
   readonly bands: BandLayout;
   private readonly fft: RealFft;
   private readonly window: Float64Array;
-  private readonly windowed: Float64Array;
-  private readonly re: Float64Array[];
-  private readonly im: Float64Array[];
+  private readonly windowed: number[];
+  /** Interleaved half spectrum (re, im) per channel, plain arrays for fft.js. */
+  private readonly spectra: number[][];
   private readonly power: Float64Array;
   private readonly weights: Float64Array;
   private readonly weightAcc: Float64Array;
@@ -95,9 +95,8 @@ export class HopAnalyzer {
     this.fft = new RealFft(n);
     const bins = n / 2 + 1;
     this.window = hannWindow(n);
-    this.windowed = new Float64Array(n);
-    this.re = Array.from({ length: channels }, () => new Float64Array(bins));
-    this.im = Array.from({ length: channels }, () => new Float64Array(bins));
+    this.windowed = this.fft.createInput();
+    this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
     this.power = new Float64Array(bins);
     this.weights = new Float64Array(bins);
     this.weightAcc = new Float64Array(bins);
@@ -166,10 +165,13 @@ export class HopAnalyzer {
       ms /= n;
       totalMs += ms;
       res.channelLevelsDbfs[c] = toDb(ms);
-      const re = this.re[c]!;
-      const im = this.im[c]!;
-      this.fft.forward(this.windowed, re, im);
-      for (let k = k0; k < k1; k++) this.power[k] += re[k]! * re[k]! + im[k]! * im[k]!;
+      const spec = this.spectra[c]!;
+      this.fft.forwardInterleaved(this.windowed, spec);
+      for (let k = k0; k < k1; k++) {
+        const r = spec[2 * k]!;
+        const i = spec[2 * k + 1]!;
+        this.power[k] += r * r + i * i;
+      }
     }
     res.levelDbfs = toDb(totalMs / this.channels);
 
@@ -184,20 +186,23 @@ export class HopAnalyzer {
       this.bandScale[b] = 1 / Math.max(1e-12, s);
     }
 
-    // Pair cross-spectra and correlations.
+    // Pair cross-spectra into the memory; in a silent hop that is all (nights are mostly quiet).
     const pairs = this.model.pairs;
     const P = pairs.length;
+    const silent = res.levelDbfs < this.options.silenceDbfs;
     for (let p = 0; p < P; p++) {
       const [a, b] = pairs[p]!;
       const pc = this.correlators[p]!;
-      pc.accumulate(this.re[a]!, this.im[a]!, this.re[b]!, this.im[b]!, this.weights, k0, k1, mem);
+      pc.accumulate(this.spectra[a]!, this.spectra[b]!, this.weights, k0, k1, mem);
+      if (silent) continue;
       // With voting, every band has the same say in the candidates (the sum of the band
       // scores); without, the plain GCC-PHAT over all bins.
       if (this.options.voting) pc.correlateBands(this.fft, this.bands, this.bandScale);
       else pc.correlate(this.fft);
     }
 
-    this.vote(res, P);
+    if (silent) this.clearEstimate(res);
+    else this.vote(res, P);
     return res;
   }
 
@@ -230,10 +235,8 @@ export class HopAnalyzer {
     return kept;
   }
 
-  private vote(res: HopResult, P: number): void {
-    const opts = this.options;
-    const B = this.bands.count;
-    const K = this.dedupe(this.model.findCandidates(this.correlators, MAX_CANDIDATES, this.candLags, this.candScores), P);
+  /** No estimate for this hop. */
+  private clearEstimate(res: HopResult): void {
     res.sourceCount = 0;
     res.valid = false;
     res.confidence = 0;
@@ -244,7 +247,15 @@ export class HopAnalyzer {
     res.bandVoteTdoaS.fill(NaN);
     res.pairPeak.fill(0);
     res.pairAgreement.fill(0);
+  }
+
+  private vote(res: HopResult, P: number): void {
+    const opts = this.options;
+    const B = this.bands.count;
+    const K = this.dedupe(this.model.findCandidates(this.correlators, MAX_CANDIDATES, this.candLags, this.candScores), P);
+    this.clearEstimate(res);
     if (K === 0) return;
+
 
     // Band scores: s[b, c] = sum over pairs of Re(A e^{j w tau}) / (pairs * band weight).
     const s = this.bandScores;
