@@ -1,17 +1,9 @@
 /** Shared test helpers: a seeded random generator and quick station/line builders. */
+import { seededUniform } from '../helpers/random.js';
 import type { BearingLine, SolverSettings } from '../../src/locate/intersect.js';
 
-/** mulberry32: small seeded uniform generator, so Monte-Carlo checks are repeatable. */
-export function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** Seeded uniform generator (shared test helper). */
+export const seeded = seededUniform;
 
 /** Standard normal deviates by the Box-Muller transform. */
 export function gaussian(rand: () => number): () => number {

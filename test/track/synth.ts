@@ -5,19 +5,11 @@
  * and optionally the front-back fold of a two-mic pair. These check the tracker's logic; the
  * acoustic end-to-end checks come with the analysis core.
  */
+import { seededUniform } from '../helpers/random.js';
 import type { HopObservation } from '../../src/track/types.js';
 
-/** Small seeded PRNG (mulberry32; common practice, no source). */
-export function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** Seeded uniform generator (shared test helper). */
+export const rng = seededUniform;
 
 /** Standard normal deviate by Box-Muller (common practice, no source). */
 export function gauss(rand: () => number): number {
