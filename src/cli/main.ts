@@ -1,6 +1,7 @@
 #!/usr/bin/env node
 import { Command, CommanderError } from 'commander';
 import { failAndExit } from './run-command.js';
+import { registerCheckArray } from './check-array.js';
 import { registerLocate } from './locate.js';
 import { registerScan } from './scan.js';
 import { registerSimulate } from './simulate.js';
@@ -22,6 +23,7 @@ program
 registerScan(program);
 registerLocate(program);
 registerSimulate(program);
+registerCheckArray(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof CommanderError) {
