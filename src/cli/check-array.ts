@@ -141,13 +141,14 @@ export function registerCheckArray(program: Command): void {
     .command('check-array')
     .summary('bench check of an array: spacing or positions, channel order, polarity, timing, gain, clock drift')
     .description(
-      'Check an array on the bench from recordings of a test sound played from known directions.\n' +
-        'By least squares over all pairs and takes it fits the mic positions (a pair: its spacing), a timing\n' +
-        'offset and a clock drift per channel, and finds swapped channels, inverted polarity and gain\n' +
-        'mismatch; each item passes, warns or fails against the tolerances below. Offsets, drift, gain and\n' +
-        'polarity are relative to channel 0. A readable report goes to stdout.\n' +
-        'Takes: AZ=REC.wav (horizontal) or AZ,EL=REC.wav per direction, degrees in the array frame\n' +
-        '(azimuth 0 = front, +90 = right). Or one long REC.wav with --spans LIST, a text file with one\n' +
+      'Check an array on the bench from recordings of a test sound played from known directions ' +
+        '(make one with bearline stimulus; mind its safe-level caution). By least squares over all pairs and ' +
+        'takes it fits the mic positions (a pair: its spacing), a timing offset and a clock drift per channel, ' +
+        'and finds swapped channels, inverted polarity and gain mismatch; each item passes, warns or fails ' +
+        'against the tolerances below. Offsets, drift, gain and polarity are relative to channel 0. A ' +
+        'readable report goes to stdout.\n\n' +
+        'Takes: AZ=REC.wav (horizontal) or AZ,EL=REC.wav per direction, degrees in the array frame ' +
+        '(azimuth 0 = front, +90 = right). Or one long REC.wav with --spans LIST, a text file with one ' +
         'line per take: FROM_S TO_S AZ_DEG [EL_DEG] (# starts a comment).',
     )
     .argument('<takes...>', 'AZ=REC.wav or AZ,EL=REC.wav per direction; with --spans one REC.wav')

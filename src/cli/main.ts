@@ -2,6 +2,7 @@
 import { Command, CommanderError } from 'commander';
 import { failAndExit } from './run-command.js';
 import { registerCheckArray } from './check-array.js';
+import { registerStimulus } from './stimulus.js';
 import { registerLocate } from './locate.js';
 import { registerScan } from './scan.js';
 import { registerSimulate } from './simulate.js';
@@ -24,6 +25,7 @@ registerScan(program);
 registerLocate(program);
 registerSimulate(program);
 registerCheckArray(program);
+registerStimulus(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof CommanderError) {
