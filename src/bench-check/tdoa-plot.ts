@@ -24,7 +24,7 @@ export function tdoaPlotSvg(fit: BenchFit, title: string): string {
   const P = fit.pairs.length;
   const cols = Math.min(COLS, P);
   const rows = Math.ceil(P / cols);
-  const W = cols * PANEL + 20;
+  const W = Math.max(cols * PANEL + 20, 640);
   const H = rows * PANEL + 60;
   const out: string[] = [];
   out.push(`<svg xmlns="http://www.w3.org/2000/svg" width="${W}" height="${H}" viewBox="0 0 ${W} ${H}" font-family="sans-serif" font-size="11">`);
@@ -69,6 +69,8 @@ export function tdoaPlotSvg(fit: BenchFit, title: string): string {
       if (Number.isFinite(m)) out.push(`<circle cx="${sx(e).toFixed(1)}" cy="${sy(m).toFixed(1)}" r="2.5" fill="#1060c0"><title>${esc(t.label)}: expected ${e.toFixed(2)} us, measured ${m.toFixed(2)} us</title></circle>`);
     }
     out.push(`<text x="${ox + PAD + 4}" y="${oy + 22}">pair (${a}, ${b})</text>`);
+    out.push(`<text x="${ox + PAD + inner / 2}" y="${oy + inner + 36}" text-anchor="middle" fill="#333">expected</text>`);
+    out.push(`<text x="${ox + 10}" y="${oy + 8 + inner / 2}" text-anchor="middle" fill="#333" transform="rotate(-90 ${ox + 10} ${oy + 8 + inner / 2})">measured</text>`);
     out.push(`</g>`);
   }
   out.push('</svg>');

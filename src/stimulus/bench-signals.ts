@@ -9,6 +9,7 @@
  */
 import { UsageError } from '../errors.js';
 import type { OptionSpec } from '../option-spec.js';
+import { makeRng } from '../sim/rng.js';
 
 export type StimulusKind = 'sweep' | 'clicks' | 'noise';
 
@@ -97,19 +98,6 @@ export function resolveStimulusOptions(given: Partial<StimulusOptions>): Stimulu
   return o;
 }
 
-/** A small seeded generator (mulberry32) and Gaussian values by Box-Muller. */
-function gaussian(seed: number): () => number {
-  let s = seed >>> 0;
-  const uniform = (): number => {
-    s = (s + 0x6d2b79f5) >>> 0;
-    let t = s;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  return () => Math.sqrt(-2 * Math.log(1 - uniform())) * Math.cos(2 * Math.PI * uniform());
-}
-
 function fade(x: Float32Array, start: number, end: number, n: number): void {
   for (let i = 0; i < n && start + i < end; i++) {
     const g = 0.5 - 0.5 * Math.cos((Math.PI * i) / n);
@@ -136,7 +124,8 @@ export function oneRepetition(o: StimulusOptions): Float32Array {
     const step = Math.round(o.clickIntervalS * fs);
     for (let s = 0; s + w <= n; s += step) for (let i = 0; i < w; i++) x[s + i] = 0.5 - 0.5 * Math.cos((2 * Math.PI * i) / w);
   } else {
-    const g = gaussian(o.seed);
+    const rng = makeRng(o.seed);
+    const g = (): number => rng.gaussian();
     const burst = Math.round(o.burstS * fs);
     for (let s = 0; s < n; s += 2 * burst) {
       const e = Math.min(n, s + burst);

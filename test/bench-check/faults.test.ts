@@ -90,3 +90,38 @@ describe('check-array finds wiring faults (numpy takes, 4-mic square and a pair)
     expect(Math.abs(fit.offset[1]!.value)).toBeLessThan(1e-6);
   });
 });
+
+describe('check-array on a 3-D array from AZ,EL takes (numpy takes)', () => {
+  const tmp = tempDir('bearline-check-3d-');
+  afterAll(() => tmp.cleanup());
+  // A tetrahedron of 6 cm edges; true mic 3 sits 6 mm higher than its file says.
+  const TRUE: number[][] = [
+    [0, 0.0346, -0.0122],
+    [0.03, -0.0173, -0.0122],
+    [-0.03, -0.0173, -0.0122],
+    [0, 0, 0.0367 + 0.006],
+  ];
+  const fileGeo: ArrayGeometry = {
+    name: 'tetra',
+    headingDeg: null,
+    mics: TRUE.map((p, i) => ({ channel: i, position: [p[0]!, p[1]!, i === 3 ? p[2]! - 0.006 : p[2]!] as const })),
+  };
+  const DIRS = [
+    { az: 0, el: 0 }, { az: 90, el: 0 }, { az: 180, el: 0 }, { az: -90, el: 0 },
+    { az: 45, el: 40 }, { az: -135, el: 40 }, { az: 135, el: -40 }, { az: -45, el: -40 },
+  ];
+
+  it('fits the raised mic in 3-D within 1 mm and leaves under half a degree', () => {
+    const fit = fitTakes(fileGeo, numpyTakes(tmp.dir, 'tetra', { rate: 48000, duration_s: 1, positions_m: TRUE }, DIRS));
+    expect(fit.fittedDims).toBe(3);
+    // Positions are centred on the file's centroid, so compare shapes: mic 3 relative to mic 0.
+    const rel = (p: readonly number[], q: readonly number[]): number[] => [p[0]! - q[0]!, p[1]! - q[1]!, p[2]! - q[2]!];
+    const fitted = rel(fit.positions![3]!, fit.positions![0]!);
+    const truth = rel(TRUE[3]!, TRUE[0]!);
+    expect(Math.hypot(fitted[0]! - truth[0]!, fitted[1]! - truth[1]!, fitted[2]! - truth[2]!)).toBeLessThan(0.001);
+    // Centred on the file's centroid, a 6 mm error of one mic shows as 4.5 mm on it: beyond 3 mm.
+    expect(status(fit, 'position ch3')).not.toBe('pass');
+    expect(fit.residualDegRms).toBeLessThan(0.5);
+    expect(fit.residualBeforeDegRms).toBeGreaterThan(fit.residualDegRms);
+  });
+});
