@@ -1,0 +1,174 @@
+import { readFileSync } from 'node:fs';
+import type { Command } from 'commander';
+import { runBenchCheck, type TakeAudio } from '../bench-check/bench-check.js';
+import { benchCheckOptionSpecs, resolveBenchCheckOptions, type BenchCheckOptions } from '../bench-check/options.js';
+import { correctedGeometry, resultJson, textReport } from '../bench-check/report.js';
+import { parseSpanList, parseTakeArgument } from '../bench-check/take-list.js';
+import { tdoaPlotSvg } from '../bench-check/tdoa-plot.js';
+import { checkItems } from '../bench-check/verdict.js';
+import { UsageError } from '../errors.js';
+import { checkGeometryForStream } from '../geometry/geometry-file.js';
+import { checkOutputPaths, writeFilesAside, type OutputFile } from '../io/files-aside.js';
+import { readWavFile, type WavData } from '../io/wav-reader.js';
+import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
+import { addArrayOptions, addSpecs, pickSpecs } from './options.js';
+import { action } from './run-command.js';
+
+interface CheckFlags extends ArrayOptionValues {
+  spans?: string;
+  json?: string;
+  report?: string;
+  writeGeometry?: string;
+}
+
+interface LoadedTakes {
+  takes: TakeAudio[];
+  sampleRate: number;
+  channels: number;
+  inputs: string[];
+}
+
+function loadWav(path: string, cache: Map<string, WavData>): WavData {
+  let w = cache.get(path);
+  if (!w) {
+    w = readWavFile(path);
+    cache.set(path, w);
+  }
+  return w;
+}
+
+function loadTakes(args: readonly string[], spansPath: string | undefined): LoadedTakes {
+  const cache = new Map<string, WavData>();
+  const takes: TakeAudio[] = [];
+  const inputs: string[] = [];
+  if (spansPath !== undefined) {
+    if (args.length !== 1 || /^[-+.\d]/.test(args[0]!) && args[0]!.includes('=')) {
+      throw new UsageError('with --spans give exactly one recording (a plain REC.wav, the directions come from the span list)');
+    }
+    const rec = args[0]!;
+    let text: string;
+    try {
+      text = readFileSync(spansPath, 'utf8');
+    } catch (err) {
+      throw new UsageError(`cannot read the span list ${spansPath}: ${(err as NodeJS.ErrnoException).code === 'ENOENT' ? 'no such file; check the path' : (err as Error).message}`);
+    }
+    const spans = parseSpanList(text, `span list ${spansPath}`);
+    const w = loadWav(rec, cache);
+    const length = w.channels[0]?.length ?? 0;
+    const lengthS = length / w.sampleRate;
+    for (const s of spans) {
+      if (s.toS > lengthS + 1e-9) {
+        throw new UsageError(`span list ${spansPath} line ${s.line}: the span ends at ${s.toS} s but ${rec} lasts ${lengthS.toFixed(3)} s; fix the span`);
+      }
+      takes.push({
+        label: `${s.fromS}-${s.toS}s`,
+        azimuthDeg: s.azimuthDeg,
+        elevationDeg: s.elevationDeg,
+        recording: rec,
+        channels: w.channels,
+        start: Math.round(s.fromS * w.sampleRate),
+        end: Math.min(length, Math.round(s.toS * w.sampleRate)),
+      });
+    }
+    inputs.push(rec, spansPath);
+  } else {
+    if (args.length === 0) throw new UsageError('give the takes: AZ=REC.wav for each source direction (or one REC.wav with --spans LIST)');
+    for (const arg of args) {
+      const t = parseTakeArgument(arg);
+      const w = loadWav(t.path, cache);
+      takes.push({ label: arg, azimuthDeg: t.azimuthDeg, elevationDeg: t.elevationDeg, recording: t.path, channels: w.channels, start: 0, end: w.channels[0]?.length ?? 0 });
+      inputs.push(t.path);
+    }
+  }
+  const first = cache.values().next().value as WavData;
+  for (const [path, w] of cache) {
+    if (w.sampleRate !== first.sampleRate) throw new UsageError(`${path} is at ${w.sampleRate} Hz but the other takes at ${first.sampleRate} Hz: record every take at one rate`);
+    if (w.channels.length !== first.channels.length) throw new UsageError(`${path} has ${w.channels.length} channels but the other takes ${first.channels.length}: record every take with the whole array`);
+  }
+  return { takes, sampleRate: first.sampleRate, channels: first.channels.length, inputs };
+}
+
+async function checkArray(args: string[], flags: CheckFlags, raw: Record<string, unknown>): Promise<void> {
+  for (const a of args) {
+    if (a.startsWith('-') && !/^-[\d.]/.test(a)) throw new UsageError(`unknown option '${a.split('=')[0]}' (run bearline check-array --help for the options)`);
+  }
+  const opts: BenchCheckOptions = resolveBenchCheckOptions(pickSpecs<Partial<BenchCheckOptions>>(raw, benchCheckOptionSpecs));
+  const geometry = resolveArray(flags);
+  const c = resolveSpeed(flags);
+  if (flags.report !== undefined && !/\.(svg|html?)$/i.test(flags.report)) throw new UsageError(`--report ${flags.report} must end in .svg or .html`);
+  const outputs = [
+    { option: '--json', path: flags.json },
+    { option: '--report', path: flags.report },
+    { option: '--write-geometry', path: flags.writeGeometry },
+  ].filter((o): o is { option: string; path: string } => o.path !== undefined);
+  const inputPaths = [...args.map((a) => (a.includes('=') ? a.slice(a.indexOf('=') + 1) : a)), ...(flags.spans ? [flags.spans] : []), ...(flags.array ? [flags.array] : [])];
+  checkOutputPaths(outputs, inputPaths);
+
+  const loaded = loadTakes(args, flags.spans);
+  if (loaded.channels < 2) throw new UsageError('the takes have one channel: an array check needs one channel per mic');
+  checkGeometryForStream(geometry, loaded.channels, loaded.sampleRate, c, 'the takes');
+  for (const t of loaded.takes) {
+    if (t.end - t.start < 0.05 * loaded.sampleRate) throw new UsageError(`take ${t.label} is shorter than 50 ms: give takes of a second or more`);
+  }
+  const fit = runBenchCheck(geometry, c, loaded.sampleRate, loaded.takes, opts);
+  const items = checkItems(fit, opts);
+  const ctx = { geometry, sampleRate: loaded.sampleRate, speedOfSound: c };
+  const text = textReport(fit, items, ctx);
+
+  const files: OutputFile[] = [];
+  if (flags.json) files.push({ option: '--json', path: flags.json, data: JSON.stringify(resultJson(fit, items, ctx), null, 2) + '\n' });
+  if (flags.report) {
+    const svg = tdoaPlotSvg(fit, `bench check of ${geometry.name}`);
+    const data = /\.svg$/i.test(flags.report) ? svg : htmlPage(geometry.name, svg, text);
+    files.push({ option: '--report', path: flags.report, data });
+  }
+  if (flags.writeGeometry) {
+    const g = correctedGeometry(fit, geometry);
+    if (!g) throw new UsageError('--write-geometry: the takes do not determine the mic positions (see the notes); record more directions, nothing was written');
+    files.push({ option: '--write-geometry', path: flags.writeGeometry, data: JSON.stringify(g, null, 2) + '\n' });
+  }
+  writeFilesAside(files);
+  process.stdout.write(text);
+}
+
+function htmlPage(name: string, svg: string, text: string): string {
+  const esc = (s: string): string => s.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;');
+  return `<!doctype html>\n<html><head><meta charset="utf-8"><title>bench check of ${esc(name)}</title></head>\n<body>\n<pre>${esc(text)}</pre>\n${svg}</body></html>\n`;
+}
+
+export function registerCheckArray(program: Command): void {
+  const cmd = program
+    .command('check-array')
+    .summary('bench check of an array: spacing or positions, channel order, polarity, timing, gain, clock drift')
+    .description(
+      'Check an array on the bench from recordings of a test sound played from known directions ' +
+        '(make one with bearline stimulus; mind its safe-level caution). By least squares over all pairs and ' +
+        'takes it fits the mic positions (a pair: its spacing), a timing offset and a clock drift per channel, ' +
+        'and finds swapped channels, inverted polarity and gain mismatch; each item passes, warns or fails ' +
+        'against the tolerances below. Offsets, drift, gain and polarity are relative to channel 0. A ' +
+        'readable report goes to stdout.\n\n' +
+        'Takes: AZ=REC.wav (horizontal) or AZ,EL=REC.wav per direction, degrees in the array frame ' +
+        '(azimuth 0 = front, +90 = right). Or one long REC.wav with --spans LIST, a text file with one ' +
+        'line per take: FROM_S TO_S AZ_DEG [EL_DEG] (# starts a comment).',
+    )
+    .argument('<takes...>', 'AZ=REC.wav or AZ,EL=REC.wav per direction; with --spans one REC.wav')
+    // A take with a negative azimuth (-30=left.wav) looks like an option to commander: let it
+    // through and tell real unknown options apart in the action.
+    .allowUnknownOption();
+  addArrayOptions(cmd);
+  cmd
+    .option('--spans <list>', 'span list for one long recording: FROM_S TO_S AZ_DEG [EL_DEG] per line')
+    .option('--json <file>', 'write the results as JSON (spacing_m, positions_m, offset_s, channels_swapped, polarity_inverted, gain_db, drift_ppm, residual_deg_rms, per-take delays, checks)')
+    .option('--report <file.svg|file.html>', 'write a plot of measured against expected tdoa per pair')
+    .option('--write-geometry <file>', 'write a geometry file with the fitted positions (never the input geometry)');
+  addSpecs(cmd, benchCheckOptionSpecs);
+  cmd.addHelpText(
+    'after',
+    '\nExamples:\n' +
+      '  bearline check-array --spacing 0.2 -60=m60.wav -30=m30.wav 0=z.wav 30=p30.wav 60=p60.wav --json pair.json\n' +
+      '  bearline check-array --array square-10cm.json 0=a.wav 90=b.wav 180=c.wav -90=d.wav --report fit.svg --write-geometry fixed.json\n' +
+      '  bearline check-array --array cube.json --spans bench-spans.txt long-take.wav\n' +
+      '\nThe exit code is 0 whatever the verdict (read "verdict" in --json); 2 for bad input.\n',
+  );
+  cmd.action(action(async (takes: string[], flags: CheckFlags) => checkArray(takes, flags, cmd.opts())));
+}

@@ -1,0 +1,58 @@
+import { existsSync, renameSync, rmSync } from 'node:fs';
+import { dirname, resolve } from 'node:path';
+import type { Command } from 'commander';
+import { UsageError } from '../errors.js';
+import { renderStimulus, resolveStimulusOptions, stimulusOptionSpecs, type StimulusOptions } from '../stimulus/bench-signals.js';
+import { writeWavFile } from '../io/wav-writer.js';
+import { addSpecs, pickSpecs } from './options.js';
+import { action } from './run-command.js';
+
+export const SAFE_LEVEL_CAUTION =
+  'CAUTION: test signals can damage hearing and speakers. Before you play one through speakers or ' +
+  'earphones, turn the playback volume all the way down, then raise it slowly until the recording is ' +
+  'clear with its peaks well under full scale. Do not wear earphones or headphones while they play a ' +
+  'test signal; keep people and animals at a distance, and wear hearing protection if the sound is ' +
+  'uncomfortable. Sweeps put much energy into tweeters at their top end; clicks are louder than a level ' +
+  'meter suggests.';
+
+function writeStimulus(out: string, o: StimulusOptions): void {
+  if (!/\.wav$/i.test(out)) throw new UsageError(`--out ${out} must name a .wav file`);
+  if (!existsSync(dirname(resolve(out)))) throw new UsageError(`--out ${out}: the folder ${dirname(out)} does not exist; create it or give another path`);
+  const channels = renderStimulus(o);
+  const tmp = `${out}.part-${process.pid}`;
+  try {
+    writeWavFile(tmp, o.sampleRate, channels, 's24');
+  } catch (err) {
+    rmSync(tmp, { force: true });
+    throw err;
+  }
+  renameSync(tmp, out);
+  const total = channels[0]!.length / o.sampleRate;
+  process.stderr.write(`bearline: wrote ${out}: ${o.kind}, ${o.repetitions} x ${o.durationS} s, ${total.toFixed(2)} s in all, peak ${o.levelDbfs} dBFS, ${o.sampleRate} Hz, ${o.channels} channel${o.channels === 1 ? '' : 's'}\n`);
+}
+
+export function registerStimulus(program: Command): void {
+  const cmd = program
+    .command('stimulus')
+    .summary('write a bench test signal (log sweep, clicks, noise bursts) to a WAV file')
+    .description(
+      'Write a test signal for the bench check (bearline check-array) to a 24-bit WAV file: an exponential ' +
+        'sine sweep, a click train or noise bursts, repeated after silences, at a chosen peak level.\n\n' +
+        SAFE_LEVEL_CAUTION,
+    )
+    .requiredOption('--out <file.wav>', 'the WAV file to write (written aside, renamed when complete)');
+  addSpecs(cmd, stimulusOptionSpecs);
+  cmd.addHelpText(
+    'after',
+    '\nExamples:\n' +
+      '  bearline stimulus --out sweep.wav                      # 3 sweeps of 3 s, 100 Hz to 16 kHz, peak -20 dBFS\n' +
+      '  bearline stimulus --out bursts.wav --kind noise --duration 10 --repeat 1 --level -26\n' +
+      '  bearline stimulus --out clicks.wav --kind clicks --click-interval 0.5\n',
+  );
+  cmd.action(
+    action(async (flags: { out: string }) => {
+      const opts = resolveStimulusOptions(pickSpecs<Partial<StimulusOptions>>(cmd.opts(), stimulusOptionSpecs));
+      writeStimulus(flags.out, opts);
+    }),
+  );
+}
