@@ -82,9 +82,8 @@ export function measureTake(
   const fft = new RealFft(n);
   const bins = n / 2 + 1;
   const win = hannWindow(n);
-  const buf = new Float64Array(n);
-  const re = Array.from({ length: M }, () => new Float64Array(bins));
-  const im = Array.from({ length: M }, () => new Float64Array(bins));
+  const buf = fft.createInput();
+  const spectra = Array.from({ length: M }, () => fft.createSpectrum());
   const bands: BandLayout = makeBands(n, fs, search.minFreqHz, Math.min(search.maxFreqHz, 0.45 * fs), 1);
   const useBand = new Uint8Array([1]);
   const ones = new Float64Array(bins).fill(1);
@@ -111,11 +110,11 @@ export function measureTake(
       for (let c = 0; c < M; c++) {
         const x = channels[c]!;
         for (let i = 0; i < n; i++) buf[i] = x[f + i]! * win[i]!;
-        fft.forward(buf, re[c]!, im[c]!);
+        fft.forwardInterleaved(buf, spectra[c]!);
       }
       for (let p = 0; p < P; p++) {
         const [a, b] = search.pairs[p]!;
-        corr[p]!.accumulate(re[a]!, im[a]!, re[b]!, im[b]!, ones, bands.firstBin, bands.endBin, 1);
+        corr[p]!.accumulate(spectra[a]!, spectra[b]!, ones, bands.firstBin, bands.endBin, 1);
       }
       frames++;
     }
