@@ -1,6 +1,8 @@
 #!/usr/bin/env node
 import { Command, CommanderError } from 'commander';
 import { failAndExit } from './run-command.js';
+import { registerAccuracy } from './accuracy.js';
+import { registerDemo } from './demo.js';
 import { registerLocate } from './locate.js';
 import { registerScan } from './scan.js';
 import { registerSimulate } from './simulate.js';
@@ -22,6 +24,8 @@ program
 registerScan(program);
 registerLocate(program);
 registerSimulate(program);
+registerAccuracy(program);
+registerDemo(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof CommanderError) {
