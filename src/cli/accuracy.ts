@@ -87,10 +87,10 @@ export function registerAccuracy(program: Command): void {
     .command('accuracy')
     .summary('score a scan of a simulated recording against its true directions')
     .description(
-      'Scan REC.wav (as bearline scan does, with the same options) and compare each hop with the true\n' +
-        'directions in REC.truth.jsonl beside it (written by bearline simulate), using the array in REC.array.json.\n' +
-        'Reports the share of voiced hops (a true source active) within 2, 5 and 10 degrees of an active source,\n' +
-        'the median and 90th-percentile error, and for fixed sources heard alone the RMS delay error per mic pair\n' +
+      'Scan REC.wav (as bearline scan does, with the same options) and compare each hop with the true ' +
+        'directions in REC.truth.jsonl beside it (written by bearline simulate), using the array in REC.array.json. ' +
+        'Reports the share of voiced hops (a true source active) within 2, 5 and 10 degrees of an active source, ' +
+        'the median and 90th-percentile error, and for fixed sources heard alone the RMS delay error per mic pair ' +
         'against the Cramer-Rao bound of Knapp and Carter (1976), from the coherence measured in the recording.',
     )
     .argument('<rec.wav>', 'recording written by bearline simulate');

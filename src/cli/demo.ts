@@ -177,11 +177,11 @@ export function registerDemo(program: Command): void {
     .command('demo')
     .summary('the built-in demo: a simulated wetland station at dusk, analysed live with the browser viewer')
     .description(
-      'Render the built-in demo scene (configs/scenes/wetland-dusk.json: two frog choruses and a passing bird\n' +
-        'around a four-mic array, light wind) and analyse it as bearline scan would, at real-time pace: one line\n' +
-        'per call as it ends, frames and events to the browser viewer, whose URL is printed. --fast runs as fast\n' +
-        'as possible without the viewer. Both end with a table of the tracks against the scene\'s true sources.\n' +
-        'The rendering is cached after the first run in $XDG_CACHE_HOME/bearline (else ~/.cache/bearline), one\n' +
+      'Render the built-in demo scene (configs/scenes/wetland-dusk.json: two frog choruses and a passing bird ' +
+        'around a four-mic array, light wind) and analyse it as bearline scan would, at real-time pace: one line ' +
+        'per call as it ends, frames and events to the browser viewer, whose URL is printed. --fast runs as fast ' +
+        'as possible without the viewer. Both end with a table of the tracks against the scene\'s true sources. ' +
+        'The rendering is cached after the first run in $XDG_CACHE_HOME/bearline (else ~/.cache/bearline), one ' +
         'file set per scene content; delete the folder to render again.',
     )
     .option('--fast', 'analyse as fast as possible, without the viewer')
