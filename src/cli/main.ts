@@ -3,6 +3,8 @@ import { Command, CommanderError } from 'commander';
 import { failAndExit } from './run-command.js';
 import { registerCheckArray } from './check-array.js';
 import { registerStimulus } from './stimulus.js';
+import { registerAccuracy } from './accuracy.js';
+import { registerDemo } from './demo.js';
 import { registerLocate } from './locate.js';
 import { registerScan } from './scan.js';
 import { registerSimulate } from './simulate.js';
@@ -26,6 +28,8 @@ registerLocate(program);
 registerSimulate(program);
 registerCheckArray(program);
 registerStimulus(program);
+registerAccuracy(program);
+registerDemo(program);
 
 program.parseAsync(process.argv).catch((err: unknown) => {
   if (err instanceof CommanderError) {

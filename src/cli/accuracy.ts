@@ -1,0 +1,119 @@
+import { existsSync, readFileSync } from 'node:fs';
+import type { Command } from 'commander';
+import { CoherenceMeter } from '../accuracy/coherence.js';
+import { effectiveObservationS } from '../accuracy/observation.js';
+import { formatAccuracyReport } from '../accuracy/report-text.js';
+import { scoreHops, type AccuracyReport } from '../accuracy/score.js';
+import { indexTruth, parseTruth } from '../accuracy/truth.js';
+import { Framer } from '../dsp/framer.js';
+import { UsageError } from '../errors.js';
+import { loadGeometryFile } from '../geometry/geometry-file.js';
+import type { FrameRecord } from '../records.js';
+import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
+import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
+import { analyseRecording } from './recording-analysis.js';
+import { action } from './run-command.js';
+
+interface AccuracyFlags extends ArrayOptionValues {
+  truth?: string;
+  json?: boolean;
+  profile?: string;
+}
+
+/** REC.wav -> REC.truth.jsonl, REC.array.json (the files `bearline simulate` writes beside it). */
+export function companionPaths(wav: string): { truth: string; array: string } {
+  if (!/\.wav$/i.test(wav)) throw new UsageError(`${wav} must be a .wav file written by bearline simulate (its truth is read from REC.truth.jsonl beside it)`);
+  const stem = wav.slice(0, -4);
+  return { truth: `${stem}.truth.jsonl`, array: `${stem}.array.json` };
+}
+
+export interface AccuracyOutcome {
+  report: AccuracyReport;
+  observationS: number;
+  frames: FrameRecord[];
+}
+
+/** Scan a recording like `bearline scan --frames` and score it against its truth. */
+export async function measureAccuracy(wav: string, flags: AccuracyFlags, raw: Record<string, unknown>): Promise<AccuracyOutcome & { truthPath: string }> {
+  const paths = companionPaths(wav);
+  const truthPath = flags.truth ?? paths.truth;
+  if (!existsSync(truthPath)) throw new UsageError(`no truth file ${truthPath}: render the recording with bearline simulate, or give --truth FILE`);
+  const given = flags.spacing !== undefined || flags.array !== undefined;
+  if (!given && !existsSync(paths.array)) throw new UsageError(`no array file ${paths.array}: give the array with --array FILE.json or --spacing D`);
+  const geometry = given ? resolveArray(flags) : loadGeometryFile(paths.array);
+  const c = resolveSpeed(flags);
+  const stages = resolveStageSettings(raw, flags.profile);
+  const truth = indexTruth(parseTruth(readFileSync(truthPath, 'utf8'), truthPath));
+  const fixed = new Set(truth.sources.filter((s) => s.fixed).map((s) => s.name));
+  const frames: FrameRecord[] = [];
+  let meter: CoherenceMeter | null = null;
+  const result = await analyseRecording({
+    wav,
+    geometry,
+    speedOfSound: c,
+    stages,
+    progress: true,
+    outputs: { onFrame: (rec) => void frames.push(rec) },
+    onSetup: (setup) => {
+      const { frame, hop } = setup.options;
+      const fs = setup.analyzer.sampleRate;
+      const m = new CoherenceMeter(geometry.mics.length, frame, fs, setup.model.pairs);
+      meter = m;
+      const framer = new Framer(geometry.mics.length, frame, hop);
+      let index = 0;
+      return {
+        onBlock: (block) =>
+          framer.push(block.channels, block.length, (f) => {
+            const active = truth.activeAt((index++ * hop + frame / 2) / fs);
+            if (active.length === 1 && fixed.has(active[0]!.source)) m.add(active[0]!.source, f);
+          }),
+      };
+    },
+  });
+  const { frame, hop, memoryS } = result.setup.options;
+  const observationS = effectiveObservationS(frame, hop, memoryS, result.sampleRate);
+  const m = meter as CoherenceMeter | null;
+  const report = scoreHops(frames, truth, {
+    geometry,
+    pairs: result.setup.model.pairs,
+    speedOfSound: c,
+    delayBound: (source, p) => m?.delayBound(source, p, observationS) ?? null,
+  });
+  return { report, observationS, frames, truthPath };
+}
+
+export function registerAccuracy(program: Command): void {
+  const cmd = program
+    .command('accuracy')
+    .summary('score a scan of a simulated recording against its true directions')
+    .description(
+      'Scan REC.wav (as bearline scan does, with the same options) and compare each hop with the true ' +
+        'directions in REC.truth.jsonl beside it (written by bearline simulate), using the array in REC.array.json. ' +
+        'Reports the share of voiced hops (a true source active) within 2, 5 and 10 degrees of an active source, ' +
+        'the median and 90th-percentile error, and for fixed sources heard alone the RMS delay error per mic pair ' +
+        'against the Cramer-Rao bound of Knapp and Carter (1976), from the coherence measured in the recording.',
+    )
+    .argument('<rec.wav>', 'recording written by bearline simulate');
+  cmd
+    .option('--truth <file.jsonl>', 'truth records (default: REC.truth.jsonl beside the recording)')
+    .option('--json', 'write the figures as one JSON object instead of the readable report');
+  addAnalysisOptions(cmd);
+  cmd.addHelpText(
+    'after',
+    '\nThe array defaults to REC.array.json; --array or --spacing override it. The scene\'s speed of sound is not\n' +
+      'in the recording: give --temperature C (or --speed-of-sound) as in the scene, or 343 m/s is assumed.\n' +
+      '\nExamples:\n' +
+      '  bearline simulate --out dusk.wav && bearline accuracy dusk.wav --temperature 14\n' +
+      '  bearline accuracy room.wav --onset-weight 0 --memory 0 --no-voting --json\n',
+  );
+  cmd.action(
+    action(async (file: string, flags: AccuracyFlags) => {
+      const out = await measureAccuracy(file, flags, cmd.opts());
+      if (flags.json) {
+        process.stdout.write(JSON.stringify({ recording: file, truth: out.truthPath, observation_s: out.observationS, ...out.report }) + '\n');
+      } else {
+        process.stdout.write(formatAccuracyReport(out.report, { recording: file, truth: out.truthPath, observationS: out.observationS, coherenceFrom: 'measured in the recording' }));
+      }
+    }),
+  );
+}

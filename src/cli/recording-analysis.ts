@@ -1,0 +1,66 @@
+/**
+ * Analyse a WAV recording through the same path as `bearline scan` (createAnalysis,
+ * runAnalysis, TrackingSession), for the commands that replay recordings (accuracy, demo).
+ */
+import { UsageError } from '../errors.js';
+import type { ArrayGeometry } from '../geometry/array-geometry.js';
+import { checkGeometryForStream } from '../geometry/geometry-file.js';
+import { stderrWarning } from '../io/stderr-warning.js';
+import { replaySource, type ReplayControls } from '../io/tapped-source.js';
+import { openWavSource } from '../io/wav-source.js';
+import { createAnalysis, runAnalysis, type AnalysisSetup } from '../pipeline/analysis.js';
+import { TrackingSession, type SessionOutputs } from '../pipeline/tracking-session.js';
+import type { AnalysisOptions } from '../pipeline/analysis-options.js';
+import type { TrackerOptions } from '../track/options.js';
+import { createProgress } from './progress.js';
+
+export interface RecordingAnalysis {
+  readonly wav: string;
+  readonly geometry: ArrayGeometry;
+  readonly speedOfSound: number;
+  readonly stages: { analysis: AnalysisOptions; tracker: Partial<TrackerOptions> };
+  /** Frame records carry the viewer's fields (levels, band votes). */
+  readonly viewerFields?: boolean;
+  readonly outputs: SessionOutputs;
+  /** Told the analysis setup before the first hop (e.g. to size a tap on the blocks). */
+  readonly onSetup?: (setup: AnalysisSetup) => ReplayControls;
+  /** Show a progress bar on a terminal. */
+  readonly progress?: boolean;
+}
+
+export interface RecordingResult {
+  setup: AnalysisSetup;
+  session: TrackingSession;
+  hops: number;
+  sampleRate: number;
+}
+
+export async function analyseRecording(job: RecordingAnalysis): Promise<RecordingResult> {
+  const source = await openWavSource(job.wav, { onWarning: stderrWarning });
+  try {
+    const { sampleRate, channels, totalFrames } = source.format;
+    if (channels < 2) throw new UsageError(`${job.wav} has one channel: direction finding needs at least two (one per mic)`);
+    checkGeometryForStream(job.geometry, channels, sampleRate, job.speedOfSound, job.wav);
+    const setup = createAnalysis(job.geometry, sampleRate, job.speedOfSound, job.stages.analysis);
+    const settings = {
+      headingDeg: job.geometry.headingDeg,
+      mirror: setup.model.mirror,
+      pairs: setup.model.pairs,
+      diagnostics: false,
+      viewerFields: !!job.viewerFields,
+    };
+    const session = new TrackingSession(settings, job.stages.tracker, job.outputs);
+    const controls = job.onSetup?.(setup) ?? {};
+    const progress = job.progress ? createProgress(`scanning ${job.wav}`, totalFrames, sampleRate) : null;
+    let hops: number;
+    try {
+      hops = await runAnalysis(replaySource(source, controls), setup.analyzer, (r) => session.hop(r), (done) => progress?.update(done));
+      await session.finish();
+    } finally {
+      progress?.finish();
+    }
+    return { setup, session, hops, sampleRate };
+  } finally {
+    await source.close();
+  }
+}

@@ -1,0 +1,70 @@
+/**
+ * The built-in demo scene (configs/scenes/wetland-dusk.json) rendered by the simulator and
+ * scored against its own truth. Issue targets: at least 80% of hops with an active source
+ * within 5 degrees; count of tracks and events against the truth (the truth's calls are runs
+ * of active truth steps, src/sim/truth.ts). `bearline demo --fast` is run end to end with the
+ * cache in a temporary folder.
+ */
+import { join } from 'node:path';
+import { readdirSync } from 'node:fs';
+import { describe, expect, it } from 'vitest';
+import { runCli } from '../helpers/cli.js';
+import { accuracyJson, share, tempDir } from './helpers.js';
+
+describe('the demo scene (wetland station at dusk)', () => {
+  const cache = tempDir();
+  const first = runCli(['demo', '--fast'], { env: { XDG_CACHE_HOME: cache } });
+  console.log(first.stdout.split('\n').slice(-14).join('\n'));
+
+  it('bearline demo --fast renders once into the cache, prints a line per event and the table against the truth', () => {
+    expect(first.status).toBe(0);
+    const files = readdirSync(join(cache, 'bearline'));
+    expect(files.filter((f) => f.endsWith('.wav'))).toHaveLength(1);
+    expect(first.stderr).toMatch(/rendering .* once/);
+    expect(first.stdout).toMatch(/^\s+\d:\d\d\.\d {2}bearing +\d+\.\d deg {2}track +\d+ {2}band /m);
+    // The second run reuses the cached rendering.
+    const again = runCli(['demo', '--fast'], { env: { XDG_CACHE_HOME: cache } });
+    expect(again.status).toBe(0);
+    expect(again.stderr).not.toMatch(/rendering/);
+    expect(again.stdout).toBe(first.stdout);
+  });
+
+  it('tracks against the truth: each frog chorus (fixed) is followed by a track within 1 degree of its true bearing, carrying most of its calls', () => {
+    const rows = first.stdout.split('\n');
+    for (const [name, bearing] of [['frogs-reeds', 75], ['frogs-pond', 250]] as const) {
+      const tracks = rows.filter((l) => l.includes(` ${name} `) && /deg\s+[+-]\d/.test(l));
+      expect(tracks.length).toBeGreaterThan(0);
+      const off = tracks.map((l) => Number(/([+-]\d+\.\d) deg\s+\d+$/.exec(l)![1]));
+      expect(Math.min(...off.map(Math.abs))).toBeLessThan(1);
+      const src = rows.find((l) => new RegExp(`^\\s*${name}\\s+fixed`).test(l))!;
+      const [calls, events] = src.trim().split(/\s+/).slice(2, 4).map(Number);
+      console.log(`${name} (true bearing ${bearing}): ${calls} calls in the truth, ${events} events, tracks: ${src.trim().split(/\s+/).slice(4).join(' ')}`);
+      expect(events).toBeGreaterThan(0.5 * calls!);
+      expect(events).toBeLessThan(1.5 * calls!);
+    }
+  });
+
+  const wav = join(cache, 'bearline', readdirSync(join(cache, 'bearline')).find((f) => f.endsWith('.wav')) ?? 'missing.wav');
+  const report = accuracyJson(wav, '--temperature', '14');
+  console.log(`demo scene: ${report.voicedHops} voiced hops, within 2/5/10 deg: ${report.within.map((w) => (100 * w.share).toFixed(1) + '%').join(' / ')}, median ${report.medianDeg?.toFixed(2)} deg, p90 ${report.p90Deg?.toFixed(2)} deg`);
+  for (const s of report.sources) console.log(`  ${s.source}: ${s.voicedHops} hops alone, within 5 deg ${(100 * share(s as typeof report, 5)).toFixed(1)}%`);
+
+  it('regression guard below the target: at least 75% of voiced hops within 5 degrees (78.0% when written)', () => {
+    expect(report.voicedHops).toBeGreaterThan(2000);
+    expect(share(report, 5)).toBeGreaterThan(0.75);
+  });
+
+  // Issue targets, not yet met: 78.0% within 5 degrees, and the passing bird (2.2-3.2 kHz sweeps
+  // on a 20 cm square, where the pairs alias) is found on about a fifth of its hops and gets no
+  // track. it.fails turns red the day the core meets them; then make them plain it().
+  it.fails('target: at least 80% of voiced hops within 5 degrees', () => {
+    expect(share(report, 5)).toBeGreaterThanOrEqual(0.8);
+  });
+  // Each chorus is split over two tracks when written (reeds 3 and 5, pond 4 and 8).
+  it.fails('target: one track per frog chorus', () => {
+    for (const name of ['frogs-reeds', 'frogs-pond']) expect(first.stdout).toMatch(new RegExp(`^\\s*${name}\\s+fixed\\s+\\d+\\s+\\d+\\s+\\d+$`, 'm'));
+  });
+  it.fails('target: the passing bird is followed by a track', () => {
+    expect(first.stdout).toMatch(/^\s*passing-bird\s+moving\s+\d+\s+\d+\s+\d/m);
+  });
+});

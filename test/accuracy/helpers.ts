@@ -1,0 +1,59 @@
+/** Shared helpers of the accuracy tests: scenes rendered and scanned through the built CLI. */
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { expect } from 'vitest';
+import type { AccuracyReport } from '../../src/accuracy/score.js';
+import type { TruthRecord } from '../../src/accuracy/truth.js';
+import type { EventRecord, FrameRecord } from '../../src/records.js';
+import { runCli } from '../helpers/cli.js';
+
+export function tempDir(): string {
+  return mkdtempSync(join(tmpdir(), 'bearline-accuracy-'));
+}
+
+function ok(args: string[]): string {
+  const r = runCli(args);
+  if (r.status !== 0) throw new Error(`bearline ${args.join(' ')} failed (${r.status}): ${r.stderr}`);
+  return r.stdout;
+}
+
+/** Write a scene and render it with `bearline simulate --float`; returns REC.wav. */
+export function render(dir: string, name: string, scene: unknown): string {
+  const scenePath = join(dir, `${name}.scene.json`);
+  writeFileSync(scenePath, JSON.stringify(scene));
+  const wav = join(dir, `${name}.wav`);
+  ok(['simulate', '--scene', scenePath, '--out', wav, '--float']);
+  return wav;
+}
+
+export function accuracyJson(wav: string, ...args: string[]): AccuracyReport {
+  return JSON.parse(ok(['accuracy', wav, '--json', ...args])) as AccuracyReport;
+}
+
+function lines<T>(text: string): T[] {
+  return text
+    .split('\n')
+    .filter((l) => l.trim() !== '')
+    .map((l) => JSON.parse(l) as T);
+}
+
+export function scanFrames(wav: string, ...args: string[]): FrameRecord[] {
+  return lines<FrameRecord>(ok(['scan', wav, '--array', wav.replace(/\.wav$/, '.array.json'), '--frames', ...args]));
+}
+
+export function scanEvents(wav: string, ...args: string[]): EventRecord[] {
+  return lines<EventRecord>(ok(['scan', wav, '--array', wav.replace(/\.wav$/, '.array.json'), ...args]));
+}
+
+export function truthOf(wav: string): TruthRecord[] {
+  return lines<TruthRecord>(readFileSync(wav.replace(/\.wav$/, '.truth.jsonl'), 'utf8'));
+}
+
+export function share(r: AccuracyReport, deg: number): number {
+  const w = r.within.find((x) => x.deg === deg);
+  expect(w).toBeDefined();
+  return w!.share;
+}
+
+export const DEG = Math.PI / 180;
