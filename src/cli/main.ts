@@ -1,6 +1,7 @@
 #!/usr/bin/env node
 import { Command, CommanderError } from 'commander';
 import { failAndExit } from './run-command.js';
+import { registerListen } from './listen.js';
 import { registerLocate } from './locate.js';
 import { registerScan } from './scan.js';
 import { registerSimulate } from './simulate.js';
@@ -20,6 +21,7 @@ program
   .exitOverride();
 
 registerScan(program);
+registerListen(program);
 registerLocate(program);
 registerSimulate(program);
 
