@@ -6,8 +6,9 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { chmodSync, mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
+import { afterAll, beforeAll } from 'vitest';
 import { BIN } from '../helpers/cli.js';
-import { farFieldDelaysUp, sox, soxDelayedSignal, soxIndependentNoise, soxMix } from '../helpers/sox.js';
+import { farFieldDelaysUp, sox, soxDelayedSignal, soxIndependentNoise, soxMix, tempDir } from '../helpers/sox.js';
 
 export const RATE = 48_000;
 export const SPACING = 0.2;
@@ -165,4 +166,38 @@ export function feedUrlOf(stderr: string): string | null {
 export function median(xs: number[]): number {
   const s = [...xs].sort((a, b) => a - b);
   return s[Math.floor(s.length / 2)]!;
+}
+
+export interface LiveFixture {
+  readonly dir: string;
+  /** The sox-made calls (available from beforeAll on). */
+  readonly rec: { wav: string; raw: string };
+  /** startBearline, with the child killed after the file's tests if it is still running. */
+  start(args: string[], opts?: Parameters<typeof startBearline>[1]): LiveRun;
+}
+
+/** A temp folder with a calls recording from `azDeg` made before the file's tests; both cleaned up after them. */
+export function liveFixture(prefix: string, name: string, azDeg: number, seconds: number): LiveFixture {
+  const tmp = tempDir(prefix);
+  const runs: LiveRun[] = [];
+  let rec: { wav: string; raw: string } | null = null;
+  beforeAll(() => {
+    rec = callsRecording(tmp.dir, name, azDeg, seconds);
+  });
+  afterAll(() => {
+    for (const r of runs) if (r.child.exitCode === null) r.child.kill('SIGKILL');
+    tmp.cleanup();
+  });
+  return {
+    dir: tmp.dir,
+    get rec() {
+      if (!rec) throw new Error('the recording is made in beforeAll');
+      return rec;
+    },
+    start(args, opts) {
+      const run = startBearline(args, opts);
+      runs.push(run);
+      return run;
+    },
+  };
 }

@@ -1,35 +1,24 @@
 import { spawn } from 'node:child_process';
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
-import { sox, tempDir } from '../helpers/sox.js';
-import { callsRecording, isEvent, isFrame, isGap, median, pairAzimuthDeg, pairTdoaS, RATE, standInRecorder, startBearline, type LiveRun } from './helpers.js';
+import { sox } from '../helpers/sox.js';
+import { isEvent, isFrame, isGap, liveFixture, median, pairAzimuthDeg, pairTdoaS, RATE, standInRecorder } from './helpers.js';
 
 // Calls from a far-field source at +35 deg (right of front) for the 0.2 m pair, made by sox.
 // Truth: interface.md's far-field formula, tdoa = (p_a - p_b) . u / c = -D sin(az) / c,
 // azimuth = -asin(c tdoa / D).
 const AZ = 35;
-const tmp = tempDir('bearline-listen-');
-let rec: { wav: string; raw: string };
-const runs: LiveRun[] = [];
-
-beforeAll(() => {
-  rec = callsRecording(tmp.dir, 'east-calls', AZ, 4);
-});
-afterAll(() => {
-  for (const r of runs) if (r.child.exitCode === null) r.child.kill('SIGKILL');
-  tmp.cleanup();
-});
+const fx = liveFixture('bearline-listen-', 'east-calls', AZ, 4);
 
 const pathWith = (bin: string): NodeJS.ProcessEnv => ({ PATH: `${bin}:${process.env.PATH}` });
 
 describe('bearline listen through a stand-in recorder on PATH', () => {
   it('directions come out right; when the recorder exits, listen restarts it and marks the gap', async () => {
-    const bin = join(tmp.dir, 'bin-restart');
+    const bin = join(fx.dir, 'bin-restart');
     // Run 1 streams 4 s of calls and exits with an error; run 2 streams them again and keeps running.
-    standInRecorder(bin, 'sox', rec.raw, 4, ['echo "sox FAIL: capture device went away" >&2; exit 3', 'exec sleep 60']);
-    const run = startBearline(['listen', '--spacing', '0.2', '--recorder', 'sox', '--frames'], { env: pathWith(bin) });
-    runs.push(run);
+    standInRecorder(bin, 'sox', fx.rec.raw, 4, ['echo "sox FAIL: capture device went away" >&2; exit 3', 'exec sleep 60']);
+    const run = fx.start(['listen', '--spacing', '0.2', '--recorder', 'sox', '--frames'], { env: pathWith(bin) });
     await run.waitFor((ls) => {
       const gap = ls.find(isGap);
       return gap !== undefined && ls.filter((l) => isEvent(l) && (l.start_s as number) > (gap.end_s as number)).length >= 2;
@@ -69,10 +58,9 @@ describe('bearline listen through a stand-in recorder on PATH', () => {
   });
 
   it('a recorder that keeps failing: after --max-restarts listen stops with exit 1 and a clear message, records kept', async () => {
-    const bin = join(tmp.dir, 'bin-fail');
-    standInRecorder(bin, 'arecord', rec.raw, 1.5, ['exit 1']);
-    const run = startBearline(['listen', '--spacing', '0.2', '--recorder', 'arecord', '--max-restarts', '1', '--frames'], { env: pathWith(bin) });
-    runs.push(run);
+    const bin = join(fx.dir, 'bin-fail');
+    standInRecorder(bin, 'arecord', fx.rec.raw, 1.5, ['exit 1']);
+    const run = fx.start(['listen', '--spacing', '0.2', '--recorder', 'arecord', '--max-restarts', '1', '--frames'], { env: pathWith(bin) });
     expect(await run.exited).toBe(1);
     expect(run.stderr()).toMatch(/bearline: the recorder arecord failed 2 times in a row \(last: arecord exited with code 1\); giving up/);
     expect(run.stderr()).not.toMatch(/^\s+at /m);
@@ -85,9 +73,8 @@ describe('bearline listen through a stand-in recorder on PATH', () => {
 
 describe('bearline listen --stdin', () => {
   it('reads a raw stream from a sox pipe; directions right, utc on every record', async () => {
-    const run = startBearline(['listen', '--stdin', '--rate', String(RATE), '--channels', '2', '--spacing', '0.2'], { stdin: 'pipe' });
-    runs.push(run);
-    const soxProc = spawn('sox', [rec.wav, '-t', 'raw', '-e', 'signed-integer', '-b', '16', '-L', '-'], { stdio: ['ignore', 'pipe', 'inherit'] });
+    const run = fx.start(['listen', '--stdin', '--rate', String(RATE), '--channels', '2', '--spacing', '0.2'], { stdin: 'pipe' });
+    const soxProc = spawn('sox', [fx.rec.wav, '-t', 'raw', '-e', 'signed-integer', '-b', '16', '-L', '-'], { stdio: ['ignore', 'pipe', 'inherit'] });
     soxProc.stdout.pipe(run.child.stdin!);
     expect(await run.exited).toBe(0);
     const events = run.lines.filter(isEvent);
@@ -102,14 +89,14 @@ describe('bearline listen --stdin', () => {
 
   it('--profile station-low-cpu: its analysis hop (1024 samples) and its log section apply; flags win', () => {
     const raw = runCli(['listen', '--stdin', '--rate', String(RATE), '--channels', '2', '--spacing', '0.2', '--profile', 'station-low-cpu', '--frames'], {
-      input: spawnSyncSox(rec.wav, 1),
+      input: spawnSyncSox(fx.rec.wav, 1),
     });
     expect(raw.status, raw.stderr).toBe(0);
     const frames = raw.stdout.trim().split('\n').map((l) => JSON.parse(l) as Record<string, unknown>).filter(isFrame);
     const step = (frames[1]!.time_s as number) - (frames[0]!.time_s as number);
     expect(step).toBeCloseTo(1024 / RATE, 3);
     // The profile's log section holds maxDisk 4G: a --rotate-size over half of it must be refused, naming both.
-    const r = runCli(['listen', '--stdin', '--rate', String(RATE), '--channels', '2', '--spacing', '0.2', '--profile', 'station-low-cpu', '--log-dir', join(tmp.dir, 'logs-p'), '--rotate-size', '3G']);
+    const r = runCli(['listen', '--stdin', '--rate', String(RATE), '--channels', '2', '--spacing', '0.2', '--profile', 'station-low-cpu', '--log-dir', join(fx.dir, 'logs-p'), '--rotate-size', '3G']);
     expectUsageFailure(r, /^bearline: --max-disk 4\.0 GiB must be at least twice --rotate-size \(3\.0 GiB\)/);
   });
 });
@@ -135,6 +122,6 @@ describe('bearline listen: bad usage exits 2 with one clear line', () => {
     expectUsageFailure(runCli(['listen', '--stdin', '--rate', '48000', '--channels', '2'], { input: '' }), /^bearline: say what the array is/);
   });
   it('a recorder that is not installed', () => {
-    expectUsageFailure(runCli(['listen', '--spacing', '0.2', '--recorder', 'arecord'], { env: { PATH: join(tmp.dir, 'no-such-bin') } }), /^bearline: the recorder 'arecord' was not found on PATH/);
+    expectUsageFailure(runCli(['listen', '--spacing', '0.2', '--recorder', 'arecord'], { env: { PATH: join(fx.dir, 'no-such-bin') } }), /^bearline: the recorder 'arecord' was not found on PATH/);
   });
 });

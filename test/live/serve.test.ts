@@ -1,23 +1,13 @@
 import { join } from 'node:path';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { tempDir } from '../helpers/sox.js';
+import { describe, expect, it } from 'vitest';
 import { probe, type FeedMessage } from '../helpers/ws-probe.js';
-import { callsRecording, feedUrlOf, isEvent, median, standInRecorder, startBearline, type LiveRun } from './helpers.js';
+import { feedUrlOf, isEvent, liveFixture, median, standInRecorder } from './helpers.js';
 
 // The feed protocol of src/feed/feed-protocol.ts (hello first, then frame and event messages)
 // with listen and scan as the producers. Truth: a sox-made source at -50 deg for the 0.2 m
 // pair (interface.md's far-field formula, applied by the test helper's delays).
 const AZ = -50;
-const tmp = tempDir('bearline-serve-');
-let rec: { wav: string; raw: string };
-const runs: LiveRun[] = [];
-beforeAll(() => {
-  rec = callsRecording(tmp.dir, 'west-calls', AZ, 8);
-});
-afterAll(() => {
-  for (const r of runs) if (r.child.exitCode === null) r.child.kill('SIGKILL');
-  tmp.cleanup();
-});
+const fx = liveFixture('bearline-serve-', 'west-calls', AZ, 8);
 
 function checkMessages(messages: FeedMessage[]): void {
   const hello = messages[0]!;
@@ -42,10 +32,9 @@ function checkMessages(messages: FeedMessage[]): void {
 
 describe('--serve: a ws client gets hello, frames and events', () => {
   it('from bearline listen (stand-in recorder)', async () => {
-    const bin = join(tmp.dir, 'bin');
-    standInRecorder(bin, 'arecord', rec.raw, 8, ['exec sleep 60']);
-    const run = startBearline(['listen', '--spacing', '0.2', '--recorder', 'arecord', '--serve', '--feed-port', '0', '--quiet'], { env: { PATH: `${bin}:${process.env.PATH}` } });
-    runs.push(run);
+    const bin = join(fx.dir, 'bin');
+    standInRecorder(bin, 'arecord', fx.rec.raw, 8, ['exec sleep 60']);
+    const run = fx.start(['listen', '--spacing', '0.2', '--recorder', 'arecord', '--serve', '--feed-port', '0', '--quiet'], { env: { PATH: `${bin}:${process.env.PATH}` } });
     await run.waitFor((_, err) => feedUrlOf(err) !== null, 'the feed URL on stderr');
     expect(run.stderr()).toMatch(/live view at http:\/\/127\.0\.0\.1:\d+\//);
     const client = probe(feedUrlOf(run.stderr())!);
@@ -59,8 +48,7 @@ describe('--serve: a ws client gets hello, frames and events', () => {
   });
 
   it('from bearline scan FILE --serve --speed 20: paced replay, events on stdout too', async () => {
-    const run = startBearline(['scan', rec.wav, '--spacing', '0.2', '--serve', '--feed-port', '0', '--speed', '20']);
-    runs.push(run);
+    const run = fx.start(['scan', fx.rec.wav, '--spacing', '0.2', '--serve', '--feed-port', '0', '--speed', '20']);
     await run.waitFor((_, err) => feedUrlOf(err) !== null, 'the feed URL on stderr');
     expect(run.stderr()).toMatch(/the replay starts when a viewer connects/);
     const client = probe(feedUrlOf(run.stderr())!);

@@ -1,25 +1,16 @@
-import { readdirSync, readFileSync } from 'node:fs';
+import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import mqtt from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { Broker, freePort } from '../helpers/mosquitto.js';
-import { tempDir } from '../helpers/sox.js';
-import { callsRecording, standInRecorder, startBearline, type LiveRun } from './helpers.js';
+import { liveFixture, standInRecorder } from './helpers.js';
 
 // A headless station run of listen: a stand-in recorder streams sox-made calls from +20 deg
 // (0.2 m pair); the sinks are the record log and a real Mosquitto broker.
 const AZ = 20;
-const tmp = tempDir('bearline-station-');
-const bin = join(tmp.dir, 'bin');
-const runs: LiveRun[] = [];
-beforeAll(() => {
-  const rec = callsRecording(tmp.dir, 'marsh-calls', AZ, 6);
-  standInRecorder(bin, 'sox', rec.raw, 6, ['exec sleep 60']);
-});
-afterAll(() => {
-  for (const r of runs) if (r.child.exitCode === null) r.child.kill('SIGKILL');
-  tmp.cleanup();
-});
+const fx = liveFixture('bearline-station-', 'marsh-calls', AZ, 6);
+const bin = join(fx.dir, 'bin');
+beforeAll(() => standInRecorder(bin, 'sox', fx.rec.raw, 6, ['exec sleep 60']));
 const env = (): NodeJS.ProcessEnv => ({ PATH: `${bin}:${process.env.PATH}` });
 
 function jsonLines(path: string): Record<string, unknown>[] {
@@ -30,9 +21,8 @@ function jsonLines(path: string): Record<string, unknown>[] {
 
 describe('listen --log-dir', () => {
   it('files appear with whole lines; SIGHUP starts new files; SIGTERM flushes the open event and exits 0', async () => {
-    const logs = join(tmp.dir, 'logs');
-    const run = startBearline(['listen', '--spacing', '0.2', '--quiet', '--station', 'marsh-east', '--log-dir', logs, '--log-frames', '--health', '0', '--close-timeout', '5'], { env: env() });
-    runs.push(run);
+    const logs = join(fx.dir, 'logs');
+    const run = fx.start(['listen', '--spacing', '0.2', '--quiet', '--station', 'marsh-east', '--log-dir', logs, '--log-frames', '--health', '0', '--close-timeout', '5'], { env: env() });
     await run.waitFor((_, err) => /status as JSON at http:\/\/127\.0\.0\.1:\d+\/health/.test(err), 'the health URL');
     const healthUrl = /status as JSON at (http:\/\/\S+)/.exec(run.stderr())![1]!;
     const names = (): string[] => readdirSync(logs).sort();
@@ -84,7 +74,7 @@ describe('listen --log-dir', () => {
 describe('listen --mqtt against a real Mosquitto broker', () => {
   let broker: Broker;
   beforeAll(async () => {
-    broker = new Broker(join(tmp.dir, 'broker'), await freePort());
+    broker = new Broker(join(fx.dir, 'broker'), await freePort());
     await broker.start();
   });
   afterAll(async () => broker.stop());
@@ -95,8 +85,7 @@ describe('listen --mqtt against a real Mosquitto broker', () => {
     sub.on('message', (topic, payload) => got.push({ topic, body: JSON.parse(payload.toString()) as Record<string, unknown> }));
     await new Promise<void>((resolve) => sub.once('connect', () => resolve()));
     await sub.subscribeAsync(['bearline/reed-bed/events', 'bearline/reed-bed/status'], { qos: 1 });
-    const run = startBearline(['listen', '--spacing', '0.2', '--quiet', '--station', 'reed-bed', '--mqtt', broker.url, '--mqtt-queue-dir', join(tmp.dir, 'mq')], { env: env() });
-    runs.push(run);
+    const run = fx.start(['listen', '--spacing', '0.2', '--quiet', '--station', 'reed-bed', '--mqtt', broker.url, '--mqtt-queue-dir', join(fx.dir, 'mq')], { env: env() });
     const end = Date.now() + 20_000;
     while (got.filter((g) => g.topic.endsWith('/events')).length < 3 && Date.now() < end) await new Promise((r) => setTimeout(r, 100));
     run.child.kill('SIGTERM');
@@ -114,5 +103,27 @@ describe('listen --mqtt against a real Mosquitto broker', () => {
     const status = got.filter((g) => g.topic === 'bearline/reed-bed/status').map((g) => g.body.state);
     expect(status[0]).toBe('online');
     expect(status[status.length - 1]).toBe('offline');
+  });
+});
+
+describe('configs/systemd/bearline-station.service still fits listen', () => {
+  it("the install note's BEARLINE_ARGS start a station (paths moved to a temp folder, a stand-in arecord)", async () => {
+    const unit = readFileSync(new URL('../../configs/systemd/bearline-station.service', import.meta.url), 'utf8');
+    expect(unit).toMatch(/^ExecStart=\/usr\/bin\/env bearline listen \$BEARLINE_ARGS$/m);
+    const line = /BEARLINE_ARGS=([^']+)'/.exec(unit)![1]!;
+    const profiles = new URL('../../configs/profiles/', import.meta.url).pathname;
+    const args = line.replace(/\/var\/lib\/bearline/g, join(fx.dir, 'state')).replace(/\/etc\/bearline\//g, profiles).split(/\s+/);
+    expect(args).toContain('--array');
+    const arecordBin = join(fx.dir, 'bin-arecord');
+    // The stand-in streams two-channel calls, so the 20 cm pair preset stands in for the note's square array.
+    standInRecorder(arecordBin, 'arecord', fx.rec.raw, 6, ['exec sleep 60']);
+    const run = fx.start(['listen', ...args.map((a) => (a === 'square-10cm' ? 'pair-20cm' : a))], { env: { PATH: `${arecordBin}:${process.env.PATH}` } });
+    const logs = join(fx.dir, 'state', 'logs');
+    const end = Date.now() + 15_000;
+    while (!(existsSync(logs) && readdirSync(logs).some((n) => n.startsWith('marsh-east.events.'))) && Date.now() < end) await new Promise((r) => setTimeout(r, 100));
+    run.child.kill('SIGTERM');
+    expect(await run.exited, run.stderr()).toBe(0);
+    expect(readdirSync(logs).some((n) => n.startsWith('marsh-east.events.'))).toBe(true);
+    expect(run.lines).toHaveLength(0); // --quiet
   });
 });
