@@ -5,6 +5,7 @@ import { registerCheckArray } from './check-array.js';
 import { registerStimulus } from './stimulus.js';
 import { registerAccuracy } from './accuracy.js';
 import { registerDemo } from './demo.js';
+import { registerListen } from './listen.js';
 import { registerLocate } from './locate.js';
 import { registerScan } from './scan.js';
 import { registerSimulate } from './simulate.js';
@@ -24,6 +25,7 @@ program
   .exitOverride();
 
 registerScan(program);
+registerListen(program);
 registerLocate(program);
 registerSimulate(program);
 registerCheckArray(program);

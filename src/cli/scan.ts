@@ -1,7 +1,11 @@
 import type { Command } from 'commander';
 import { UsageError } from '../errors.js';
+import { feedOptionSpecs, type FeedOptions } from '../feed/feed-options.js';
+import { startFeedServer, type FeedServer } from '../feed/feed-server.js';
+import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import { checkGeometryForStream } from '../geometry/geometry-file.js';
 import type { AudioSource } from '../io/audio-source.js';
+import { pacedSource, paceOptionSpecs } from '../io/paced-source.js';
 import { openPcmStreamSource } from '../io/pcm-stream-source.js';
 import { parseFormat, RecordWriter, type RecordFormat } from '../io/record-writer.js';
 import { stderrWarning } from '../io/stderr-warning.js';
@@ -14,6 +18,8 @@ import type { EventRecord, FrameRecord } from '../records.js';
 import { formatSummaryTable } from '../track/summary-table.js';
 import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
 import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
+import { addSpecs } from './options.js';
+import { alsoToFeed, resolveServe } from './serve-flags.js';
 import { positiveInteger } from './parse.js';
 import { createProgress } from './progress.js';
 import { action } from './run-command.js';
@@ -29,6 +35,8 @@ interface ScanFlags extends ArrayOptionValues {
   diagnostics?: boolean;
   viewerFields?: boolean;
   profile?: string;
+  serve?: boolean;
+  speed?: number;
 }
 
 export function registerScan(program: Command): void {
@@ -54,30 +62,34 @@ export function registerScan(program: Command): void {
     .option('--diagnostics', 'frame records: add per-pair diagnostics (tdoa, peak height, band agreement)')
     .option('--viewer-fields', 'frame records: add per-channel levels and the band vote');
   addAnalysisOptions(cmd);
+  cmd.option('--serve', 'replay into the live polar view at real-time pace (see --speed, --feed-*); starts when a viewer connects');
+  addSpecs(cmd, paceOptionSpecs);
+  addSpecs(cmd, feedOptionSpecs);
   cmd.addHelpText(
     'after',
     '\nExamples:\n' +
       '  bearline scan night.wav --spacing 0.2 > night.events.jsonl\n' +
       '  bearline scan pond.wav --array square-10cm --frames --format csv --out pond-frames.csv\n' +
       '  bearline scan pond.wav --array my-array.json --profile frog-chorus --summary\n' +
+      '  bearline scan pond.wav --array square-10cm --serve --speed 4   (then open the printed URL)\n' +
       '  arecord -f S16_LE -r 48000 -c 2 -t raw | bearline scan --stdin --rate 48000 --channels 2 --spacing 0.2\n',
   );
   cmd.action(action(async (file: string | undefined, flags: ScanFlags) => scan(file, flags, cmd.opts())));
 }
 
-async function openSource(file: string | undefined, flags: ScanFlags): Promise<AudioSource> {
+async function openSource(file: string | undefined, flags: ScanFlags, blockFrames?: number): Promise<AudioSource> {
   if (flags.stdin) {
     if (file !== undefined) throw new UsageError('give either a FILE or --stdin, not both');
     if (flags.rate === undefined || flags.channels === undefined) {
       throw new UsageError('--stdin needs --rate R and --channels N (the raw stream carries no header)');
     }
-    return openPcmStreamSource(process.stdin, { sampleRate: flags.rate, channels: flags.channels, onWarning: stderrWarning });
+    return openPcmStreamSource(process.stdin, { sampleRate: flags.rate, channels: flags.channels, blockFrames, onWarning: stderrWarning });
   }
   if (file === undefined) throw new UsageError('give a WAV file to scan, or --stdin for raw PCM');
   if (flags.rate !== undefined || flags.channels !== undefined) {
     throw new UsageError('--rate and --channels are for --stdin; a WAV file says its own rate and channels');
   }
-  return openWavSource(file, { onWarning: stderrWarning });
+  return openWavSource(file, { blockFrames, onWarning: stderrWarning });
 }
 
 async function scan(file: string | undefined, flags: ScanFlags, raw: Record<string, unknown>): Promise<void> {
@@ -85,7 +97,11 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
   const geometry = resolveArray(flags);
   const c = resolveSpeed(flags);
   const stages = resolveStageSettings(raw, flags.profile);
-  const source = await openSource(file, flags);
+  const feedOptions = resolveServe(flags.serve, raw, [...paceOptionSpecs, ...feedOptionSpecs]);
+  // Served replays go in small blocks, so that the paced frames flow evenly (about 21 ms at 48 kHz).
+  const opened = await openSource(file, flags, feedOptions ? SERVE_BLOCK_FRAMES : undefined);
+  const source = feedOptions ? pacedSource(opened, flags.speed ?? 1) : opened;
+  let feed: FeedServer | null = null;
   try {
     const { sampleRate, channels, totalFrames } = source.format;
     const where = file ?? 'the stdin stream';
@@ -97,17 +113,19 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
       mirror: setup.model.mirror,
       pairs: setup.model.pairs,
       diagnostics: !!flags.diagnostics,
-      viewerFields: !!flags.viewerFields,
+      viewerFields: !!flags.viewerFields || feedOptions !== null,
     };
+    if (feedOptions) feed = await startViewerFeed(feedOptions, setup.geometry, sampleRate, setup.options.hop);
     const inputs = file ? [file] : [];
     const withBearing = geometry.headingDeg !== null;
     const frameWriter = flags.frames ? RecordWriter.open<FrameRecord>(flags.out ?? null, format, frameColumns(setup.model.pairs, withBearing), inputs) : null;
     const eventWriter = flags.frames ? null : RecordWriter.open<EventRecord>(flags.out ?? null, format, eventColumns(), inputs);
     const writer = frameWriter ?? eventWriter!;
-    const session = new TrackingSession(settings, stages.tracker, {
-      onFrame: frameWriter ? (rec) => frameWriter.write(rec) : undefined,
-      onEvent: eventWriter ? (rec) => eventWriter.write(rec) : undefined,
-    });
+    const outputs = {
+      onFrame: frameWriter ? (rec: FrameRecord) => frameWriter.write(rec) : undefined,
+      onEvent: eventWriter ? (rec: EventRecord) => eventWriter.write(rec) : undefined,
+    };
+    const session = new TrackingSession(settings, stages.tracker, feed ? alsoToFeed(feed, outputs) : outputs);
     const progress = createProgress(`scanning ${file ?? 'stdin'}`, totalFrames, sampleRate);
     try {
       const hops = await runAnalysis(source, setup.analyzer, (r) => session.hop(r), (done) => progress.update(done));
@@ -123,6 +141,17 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
     }
     if (flags.summary) process.stderr.write(formatSummaryTable(session.summary()) + '\n');
   } finally {
+    await feed?.close();
     await source.close();
   }
+}
+
+const SERVE_BLOCK_FRAMES = 1024;
+
+/** Start the viewer's feed and wait for the first viewer, so that it sees the replay from its start. */
+async function startViewerFeed(options: FeedOptions, geometry: ArrayGeometry, sampleRate: number, hop: number): Promise<FeedServer> {
+  const feed = await startFeedServer({ ...options, geometry, settings: { source: 'replay', sample_rate_hz: sampleRate, hop_s: hop / sampleRate } });
+  process.stderr.write(`bearline: live view at ${feed.url} (feed ${feed.feedUrl}); the replay starts when a viewer connects\n`);
+  while (feed.stats().clients === 0) await new Promise((r) => setTimeout(r, 50));
+  return feed;
 }

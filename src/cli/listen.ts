@@ -1,0 +1,316 @@
+import type { Command } from 'commander';
+import { UsageError } from '../errors.js';
+import { feedOptionSpecs, type FeedOptions } from '../feed/feed-options.js';
+import type { FeedSettings } from '../feed/feed-protocol.js';
+import { startFeedServer } from '../feed/feed-server.js';
+import { checkGeometryForStream } from '../geometry/geometry-file.js';
+import type { AudioSource } from '../io/audio-source.js';
+import { mqttOptionSpecs, MqttSink, resolveMqttOptions, type MqttOptions } from '../io/mqtt-sink.js';
+import { openPcmStreamSource } from '../io/pcm-stream-source.js';
+import { RecordLog, recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../io/record-log.js';
+import { RecordWriter } from '../io/record-writer.js';
+import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptions, type RecorderOptionsInput } from '../io/recorder-options.js';
+import { openRecorderSource, type RecorderGap, type RecorderSource } from '../io/recorder-source.js';
+import { stderrWarning } from '../io/stderr-warning.js';
+import { resolveChannels, resolveSampleRate } from '../io/stream-options.js';
+import { createAnalysis, runAnalysis, type AnalysisSetup } from '../pipeline/analysis.js';
+import { frameColumns } from '../pipeline/frame-columns.js';
+import { captureGapOf, gapRecord, type GapRecord } from '../pipeline/gap-record.js';
+import type { HopResult } from '../pipeline/hop-analyzer.js';
+import { loadProfile } from '../pipeline/profile.js';
+import { StreamClock } from '../pipeline/stream-clock.js';
+import { TrackingSession } from '../pipeline/tracking-session.js';
+import type { EventRecord, FrameRecord } from '../records.js';
+import { startHealthServer } from '../station/health-server.js';
+import { profileSection } from '../station/profile-section.js';
+import { resolveStationOptions, stationOptionSpecs, type StationOptions } from '../station/runtime-options.js';
+import { installShutdown, type StationSink } from '../station/shutdown.js';
+import { StatusMonitor } from '../station/status.js';
+import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
+import { configsDir, resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
+import { addSpecs, pickSpecs } from './options.js';
+import { action, failAndExit } from './run-command.js';
+import { givenFlags, refuseStray, resolveServe } from './serve-flags.js';
+
+interface ListenFlags extends ArrayOptionValues {
+  stdin?: boolean;
+  frames?: boolean;
+  out?: string;
+  quiet?: boolean;
+  serve?: boolean;
+  profile?: string;
+}
+
+type Raw = Record<string, unknown>;
+type LiveRecord = FrameRecord | EventRecord | GapRecord;
+
+/** Recorder options that mean nothing for a raw stream on stdin. */
+const RECORDER_ONLY_KEYS: readonly (keyof RecorderOptions)[] = ['recorder', 'device', 'stallTimeoutS', 'maxRestarts'];
+
+export function registerListen(program: Command): void {
+  const cmd = program
+    .command('listen')
+    .summary('track sound directions live, from a recorder program or raw PCM on stdin')
+    .description(
+      'Capture audio live through a recorder program (sox, rec or arecord), or read raw interleaved s16le ' +
+        'PCM from stdin, find directions as scan does, and write records as they happen: event records ' +
+        '(JSON Lines) to stdout, frame records too with --frames, and a gap record ' +
+        '{"gap": why, "start_s", "end_s", "utc"} where capture lost audio (a recorder that stops is ' +
+        'restarted with back-off). Live records carry utc; time_s keeps step with the wall clock, so after ' +
+        'a gap it jumps by the seconds lost.\n\n' +
+        'Optionally serves a live polar view (--serve), writes rotating log files (--log-dir) and publishes ' +
+        'events to an MQTT broker (--mqtt). SIGINT/SIGTERM flush and close everything and exit 0; SIGHUP ' +
+        'starts new log files.',
+    );
+  cmd
+    .option('--stdin', 'read raw interleaved s16le PCM from stdin instead of a recorder (needs --rate and --channels)')
+    .option('--frames', 'also write one frame record per hop to stdout')
+    .option('-o, --out <file>', 'write the records to this file instead of stdout (as FILE.partial, renamed when listen stops)')
+    .option('--quiet', 'write no records to stdout (use with --log-dir, --mqtt or --serve)')
+    .option('--serve', 'serve the live polar view and its WebSocket feed (see --feed-*)');
+  addSpecs(cmd, RECORDER_OPTION_SPECS);
+  addAnalysisOptions(cmd);
+  addSpecs(cmd, feedOptionSpecs);
+  addSpecs(cmd, stationOptionSpecs);
+  addSpecs(cmd, recordLogOptionSpecs);
+  addSpecs(cmd, mqttOptionSpecs);
+  cmd.addHelpText(
+    'after',
+    '\nWith a recorder, --rate defaults to 48000 and --channels to the number of mics; with --stdin give both.\n' +
+      'A profile (--profile) may hold "station", "log" and "mqtt" sections besides "analysis" and "tracker";\n' +
+      'flags win over the profile.\n' +
+      '\nExamples:\n' +
+      '  bearline listen --spacing 0.2 --recorder arecord --device hw:1,0\n' +
+      '  bearline listen --array square-10cm --serve            (then open the printed URL)\n' +
+      '  arecord -f S16_LE -r 48000 -c 2 -t raw | bearline listen --stdin --rate 48000 --channels 2 --spacing 0.2\n' +
+      '  bearline listen --array square-10cm --profile station-low-cpu --station marsh-east --quiet \\\n' +
+      '      --log-dir /var/lib/bearline/logs --mqtt mqtt://192.168.1.10:1883 --health 8418\n' +
+      '\nField stations: weatherproofing and the electrical safety of mains-powered stations are your\n' +
+      'responsibility under your local codes. --feed-host and --health-host other than 127.0.0.1 let other\n' +
+      'machines connect: set --feed-token, and expose --health only on a trusted network.\n',
+  );
+  cmd.action(action(async (flags: ListenFlags) => listen(flags, cmd.opts())));
+}
+
+/** The sections of a run profile that belong to the station modules, read through their specs. */
+function stationSections(profileName: string | undefined): { station: unknown; log: unknown; mqtt: unknown } {
+  if (!profileName) return { station: undefined, log: undefined, mqtt: undefined };
+  const { profile } = loadProfile(profileName, `${configsDir()}profiles/`);
+  return { station: profile['station'], log: profile['log'], mqtt: profile['mqtt'] };
+}
+
+interface InputPlan {
+  kind: 'stdin' | 'recorder';
+  sampleRate: number;
+  channels: number;
+  recorder: RecorderOptions | null;
+}
+
+function planInput(flags: ListenFlags, raw: Raw, mics: number): InputPlan {
+  const rec = pickSpecs<RecorderOptionsInput>(raw, RECORDER_OPTION_SPECS);
+  if (flags.stdin) {
+    refuseStray(givenFlags(raw, RECORDER_OPTION_SPECS, RECORDER_ONLY_KEYS), 'for live capture through a recorder, not for --stdin; drop the option');
+    if (rec.sampleRate === undefined || rec.channels === undefined) {
+      throw new UsageError('--stdin needs --rate R and --channels N (the raw stream carries no header)');
+    }
+    return { kind: 'stdin', sampleRate: resolveSampleRate(rec.sampleRate), channels: resolveChannels(rec.channels), recorder: null };
+  }
+  const recorder = resolveRecorderOptions({ ...rec, channels: rec.channels ?? mics });
+  return { kind: 'recorder', sampleRate: recorder.sampleRate, channels: recorder.channels, recorder };
+}
+
+async function listen(flags: ListenFlags, raw: Raw): Promise<void> {
+  // Everything the user gave is checked before anything starts.
+  const geometry = resolveArray(flags);
+  const c = resolveSpeed(flags);
+  const stages = resolveStageSettings(raw, flags.profile);
+  const sections = stationSections(flags.profile);
+  const station: StationOptions = resolveStationOptions({
+    ...profileSection<StationOptions>(stationOptionSpecs, sections.station, 'station'),
+    ...pickSpecs<Partial<StationOptions>>(raw, stationOptionSpecs),
+  });
+  const logOptions = resolveRecordLogOptions({
+    ...profileSection<RecordLogOptions>(recordLogOptionSpecs, sections.log, 'log'),
+    ...pickSpecs<Partial<RecordLogOptions>>(raw, recordLogOptionSpecs),
+  });
+  const mqttOptions = resolveMqttOptions({
+    ...profileSection<MqttOptions>(mqttOptionSpecs, sections.mqtt, 'mqtt'),
+    ...pickSpecs<Partial<MqttOptions>>(raw, mqttOptionSpecs),
+  });
+  const feedOptions = resolveServe(flags.serve, raw, feedOptionSpecs);
+  if (flags.quiet && flags.out !== undefined) throw new UsageError('--quiet and --out both say where records go; give one of them');
+  if (flags.quiet && flags.frames) throw new UsageError('--frames writes frame records to stdout, which --quiet turns off; use --log-frames to log them');
+  const input = planInput(flags, raw, geometry.mics.length);
+  const where = input.kind === 'stdin' ? 'the stdin stream' : `the ${input.recorder!.recorder} capture`;
+  if (input.channels < 2) throw new UsageError(`${where} has one channel: direction finding needs at least two (one per mic)`);
+  checkGeometryForStream(geometry, input.channels, input.sampleRate, c, where);
+  const setup = createAnalysis(geometry, input.sampleRate, c, stages.analysis);
+
+  const opened: StationSink[] = [];
+  try {
+    await runLive(flags, { setup, input, station, logOptions, mqttOptions, feedOptions, tracker: stages.tracker }, opened);
+  } catch (err) {
+    // A failure while starting: close what was opened (in reverse), then report.
+    for (const sink of opened.reverse()) await Promise.resolve(sink.close()).catch(() => undefined);
+    throw err;
+  }
+}
+
+interface LivePlan {
+  setup: AnalysisSetup;
+  input: InputPlan;
+  station: StationOptions;
+  logOptions: RecordLogOptions;
+  mqttOptions: MqttOptions;
+  feedOptions: FeedOptions | null;
+  tracker: ConstructorParameters<typeof TrackingSession>[1];
+}
+
+async function runLive(flags: ListenFlags, plan: LivePlan, opened: StationSink[]): Promise<void> {
+  const { setup, input, station } = plan;
+  const rate = input.sampleRate;
+  const geometry = setup.geometry;
+  const withBearing = geometry.headingDeg !== null;
+
+  const writer = flags.quiet ? null : RecordWriter.open<LiveRecord>(flags.out ?? null, 'jsonl', [], []);
+  if (writer) opened.push({ name: flags.out ?? 'stdout', close: () => writer.close() });
+  const log = plan.logOptions.logDir === null ? null : new RecordLog(station.station, plan.logOptions, { frameColumns: frameColumns(setup.model.pairs, withBearing) });
+  if (log) opened.push(log);
+  const mqtt = plan.mqttOptions.mqtt === null ? null : new MqttSink(station.station, plan.mqttOptions);
+  if (mqtt) opened.push(mqtt);
+  const settings: FeedSettings = {
+    station: station.station,
+    source: input.kind === 'stdin' ? 'stdin' : input.recorder!.recorder,
+    sample_rate_hz: rate,
+    channels: input.channels,
+    frame: setup.options.frame,
+    hop_s: setup.options.hop / rate,
+    speed_of_sound_m_s: setup.speedOfSound,
+  };
+  const feed = plan.feedOptions ? await startFeedServer({ ...plan.feedOptions, geometry, settings }) : null;
+  if (feed) {
+    opened.push({ name: 'the live feed', close: () => feed.close() });
+    process.stderr.write(`bearline: live view at ${feed.url} (feed ${feed.feedUrl})\n`);
+  }
+
+  const clock = new StreamClock(rate);
+  let session: TrackingSession | null = null;
+  const monitor = new StatusMonitor({
+    station: station.station,
+    counters: () => ({ hops: session?.hops ?? 0, droppedAudioS: Math.round(clock.lostS * 100) / 100, events: session?.events ?? 0 }),
+    disk: () => {
+      const s = log?.stats();
+      return { usedBytes: s ? s.diskUsed : null, freeBytes: s ? s.diskFree : null };
+    },
+    mqtt: mqtt ? () => mqtt.stats() : undefined,
+  });
+  opened.unshift(monitor);
+  const health = station.health === null ? null : await startHealthServer(station.health, station.healthHost, () => monitor.snapshot());
+  if (health) {
+    opened.unshift(health);
+    process.stderr.write(`bearline: status as JSON at http://${station.healthHost}:${health.port}/health\n`);
+  }
+  monitor.startLines(station.statusEvery, (line) => {
+    process.stderr.write(`bearline: ${line}\n`);
+    mqtt?.publishStatus({ ...monitor.snapshot() });
+  });
+
+  const wantFrames = !!flags.frames || plan.logOptions.logFrames || plan.mqttOptions.mqttFrames || feed !== null;
+  const writeFrames = !!flags.frames && writer !== null;
+  session = new TrackingSession(
+    { headingDeg: geometry.headingDeg, mirror: setup.model.mirror, pairs: setup.model.pairs, diagnostics: false, viewerFields: feed !== null },
+    plan.tracker,
+    {
+      onFrame: wantFrames
+        ? (rec) => {
+            log?.writeFrame(rec);
+            mqtt?.publishFrame(rec);
+            feed?.sendFrame(rec);
+            return writeFrames ? writer!.write(rec) : undefined;
+          }
+        : undefined,
+      onEvent: (rec) => {
+        log?.writeEvent(rec);
+        mqtt?.publishEvent(rec);
+        feed?.sendEvent(rec);
+        return writer?.write(rec);
+      },
+      utcAt: (t) => clock.utcAt(t),
+    },
+  );
+
+  const emitGap = (rec: GapRecord): void => {
+    void writer?.write(rec);
+    feed?.sendGap(captureGapOf(rec));
+  };
+  // A recorder restart: the gap is written when audio comes back (then its length is known).
+  const held: { gap: { startS: number; reason: string } | null } = { gap: null };
+  const onGap = (g: RecorderGap): void => {
+    const startS = clock.streamTime(g.atFrame / rate);
+    if (g.retryInS > 0) held.gap = { startS, reason: g.reason };
+    else emitGap(gapRecord(startS, 0, g.reason, clock.utcAt(startS)));
+  };
+
+  let source: AudioSource;
+  let recorder: RecorderSource | null = null;
+  if (input.kind === 'stdin') {
+    source = openPcmStreamSource(process.stdin, { sampleRate: rate, channels: input.channels, blockFrames: setup.options.hop, onWarning: stderrWarning });
+  } else {
+    recorder = await openRecorderSource(input.recorder!, { blockFrames: setup.options.hop, onGap, onWarning: stderrWarning });
+    source = recorder;
+  }
+  opened.length = 0; // from here on the shutdown sequence closes them
+
+  let lastSegment: RecorderSource['segment'] = null;
+  const halfFrameS = setup.options.frame / 2 / rate;
+  const onHop = (r: HopResult): Promise<void> | undefined => {
+    if (recorder) {
+      const seg = recorder.segment;
+      if (seg !== null && seg !== lastSegment) {
+        lastSegment = seg;
+        const lost = clock.beginRun(seg.frame, seg.at.getTime());
+        if (held.gap) emitGap(gapRecord(held.gap.startS, lost, held.gap.reason, clock.utcAt(held.gap.startS)));
+        held.gap = null;
+      }
+    } else if (!clock.started) {
+      // stdin: the stream is taken to run in real time from the audio that has arrived by now.
+      clock.beginRun(0, Date.now() - (r.timeS + halfFrameS) * 1000);
+    }
+    // Live stream time keeps step with the wall clock (stream-clock.ts). The analyzer sets
+    // timeS afresh for every hop, so shifting it here touches nothing else.
+    r.timeS = clock.streamTime(r.timeS);
+    return session!.hop(r);
+  };
+
+  let stopping = false;
+  const loopDone = (async () => {
+    await runAnalysis(source, setup.analyzer, onHop);
+    await session!.finish();
+  })().then(
+    () => null,
+    (err: unknown) => err,
+  );
+  let failure: unknown = null;
+  const sinks: StationSink[] = [monitor];
+  if (health) sinks.push(health);
+  if (feed) sinks.push({ name: 'the live feed', close: () => feed.close() });
+  if (mqtt) sinks.push(mqtt);
+  if (log) sinks.push(log);
+  if (writer) sinks.push({ name: flags.out ?? 'stdout', close: () => writer.close() });
+  const handle = installShutdown(sinks, {
+    stopInput: async () => {
+      stopping = true;
+      await source.close();
+      await loopDone;
+    },
+    closeTimeout: station.closeTimeout,
+    exit: (code) => (failure ? failAndExit(failure) : process.exit(code)),
+  });
+  const err = await loopDone;
+  if (stopping) return; // a signal's stop sequence is running and will exit
+  if (err) {
+    failure = err;
+    if (held.gap) emitGap(gapRecord(held.gap.startS, 0, held.gap.reason, clock.utcAt(held.gap.startS)));
+  }
+  await handle.stop(err ? 'stopping on an error' : input.kind === 'stdin' ? 'stdin ended' : 'the recorder stopped');
+}
