@@ -87,7 +87,7 @@ export class SrpDirectionModel implements DirectionModel {
   /** Pair baselines p_a - p_b (m). */
   private readonly baselines: Vec3[];
   private readonly gridDirs: Vec3[];
-  /** Per grid point and pair: the lag, and the two gcc indices (mod N) around it. */
+  /** Per pair and grid point (index p * G + g): the lag, and the two gcc indices (mod N) around it. */
   private readonly gridLag: Float64Array;
   private readonly gridIdx0: Int32Array;
   private readonly gridIdx1: Int32Array;
@@ -129,10 +129,12 @@ export class SrpDirectionModel implements DirectionModel {
       for (let p = 0; p < P; p++) {
         const lag = this.lagFor(this.gridDirs[g]!, p);
         const i = Math.floor(lag);
-        this.gridLag[g * P + p] = lag;
-        this.gridIdx0[g * P + p] = (i + frame) % frame;
-        this.gridIdx1[g * P + p] = (i + 1 + frame) % frame;
-        this.gridFrac[g * P + p] = lag - i;
+        // pair-major layout: the search reads each pair's tables front to back
+        const o = p * G + g;
+        this.gridLag[o] = lag;
+        this.gridIdx0[o] = (i + frame) % frame;
+        this.gridIdx1[o] = (i + 1 + frame) % frame;
+        this.gridFrac[o] = lag - i;
       }
     }
     const nb = neighbourLists(this.gridDirs, step);
@@ -172,7 +174,7 @@ export class SrpDirectionModel implements DirectionModel {
     // Pair by pair, so each pass reads one correlation array.
     for (let p = 0; p < P; p++) {
       const gcc = correlators[p]!.gcc;
-      for (let g = 0, o = p; g < G; g++, o += P) {
+      for (let g = 0, o = p * G; g < G; g++, o++) {
         const y0 = gcc[i0[o]!]!;
         pw[g] += y0 + fr[o]! * (gcc[i1[o]!]! - y0);
       }
@@ -200,7 +202,7 @@ export class SrpDirectionModel implements DirectionModel {
         pos--;
       }
       scoresOut[pos] = v;
-      for (let p = 0; p < P; p++) lagsOut[pos * P + p] = this.gridLag[g * P + p]!;
+      for (let p = 0; p < P; p++) lagsOut[pos * P + p] = this.gridLag[p * G + g]!;
       if (found < maxCount) found++;
     }
     return found;

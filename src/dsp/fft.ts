@@ -1,4 +1,8 @@
 import FFT from 'fft.js';
+import { PFFFT_BACKWARD, PFFFT_FORWARD, pffft } from './pffft-backend.js';
+
+/** A sample or spectrum buffer: a view into PFFFT's memory, or a plain array for fft.js. */
+export type FftBuffer = Float32Array | number[];
 
 /** Is n a power of two (and at least 4, as the FFT needs)? */
 export function isPowerOfTwo(n: number): boolean {
@@ -6,11 +10,21 @@ export function isPowerOfTwo(n: number): boolean {
 }
 
 /**
- * Real FFT of a fixed size n (power of two) on top of fft.js, with preallocated buffers.
- * Spectra are half spectra: bins 0..n/2 as separate real and imaginary arrays.
- * No allocation per call.
+ * Real FFT of a fixed size n (power of two) with preallocated buffers, on PFFFT (WebAssembly
+ * SIMD) when it loads, else on fft.js. No allocation per call.
+ * - forwardInterleaved: an input buffer from createInput() into a spectrum buffer from
+ *   createSpectrum(), bin k (1 <= k < n/2) at [2k] (real) and [2k + 1] (imaginary);
+ * - forward / inverse: half spectra (bins 0..n/2) as separate real and imaginary arrays.
  */
 export class RealFft {
+  /** Which FFT does the work. */
+  readonly backend: 'pffft' | 'fft.js';
+  private readonly pfSetup: number = 0;
+  private readonly pfWork: { view: Float32Array; ptr: number } | null = null;
+  private readonly pfIn: { view: Float32Array; ptr: number } | null = null;
+  private readonly pfOut: { view: Float32Array; ptr: number } | null = null;
+  /** Spectrum views and their pointers, by view. */
+  private readonly pfPtr = new Map<Float32Array, number>();
   readonly size: number;
   readonly bins: number;
   private readonly full: FFT;
@@ -24,10 +38,18 @@ export class RealFft {
   private readonly twCos: Float64Array;
   private readonly twSin: Float64Array;
 
-  constructor(n: number) {
+  /** `backend` 'fft.js' forces the double-precision fallback (tests, comparisons). */
+  constructor(n: number, backend: 'auto' | 'fft.js' = 'auto') {
     if (!isPowerOfTwo(n) || n < 8) throw new Error(`FFT size ${n} must be a power of two of at least 8`);
     this.size = n;
     this.bins = n / 2 + 1;
+    this.backend = pffft && n >= 32 && backend === 'auto' ? 'pffft' : 'fft.js';
+    if (this.backend === 'pffft' && pffft) {
+      this.pfSetup = pffft.setup(n);
+      this.pfWork = pffft.alloc(n);
+      this.pfIn = pffft.alloc(n);
+      this.pfOut = pffft.alloc(n);
+    }
     this.full = new FFT(n);
     this.half = new FFT(n / 2);
     this.input = new Array<number>(n).fill(0);
@@ -43,23 +65,53 @@ export class RealFft {
     }
   }
 
-  /** A plain array for an interleaved spectrum (re, im per bin; bins 0..N/2 are filled). */
-  createSpectrum(): number[] {
+  /** A buffer for an interleaved spectrum (bin k at [2k], [2k + 1] for 1 <= k < N/2). */
+  createSpectrum(): FftBuffer {
+    if (this.backend === 'pffft' && pffft) {
+      const b = pffft.alloc(this.size);
+      this.pfPtr.set(b.view, b.ptr);
+      return b.view;
+    }
     return this.full.createComplexArray() as number[];
   }
 
-  /** A plain array of N samples for forwardInterleaved (fft.js is fastest on plain arrays). */
-  createInput(): number[] {
+  /** A buffer of N samples for forwardInterleaved. */
+  createInput(): FftBuffer {
+    if (this.backend === 'pffft') return this.pfIn!.view;
     return new Array<number>(this.size).fill(0);
   }
 
-  /** Forward transform of a plain array into an interleaved spectrum, with no copies. */
-  forwardInterleaved(input: number[], spectrum: number[]): void {
-    this.full.realTransform(spectrum, input);
+  /** Forward transform of the input buffer into a spectrum buffer, with no copies. */
+  forwardInterleaved(input: FftBuffer, spectrum: FftBuffer): void {
+    if (this.backend === 'pffft') {
+      const ptr = this.pfPtr.get(spectrum as Float32Array);
+      if (ptr === undefined || input !== this.pfIn!.view || !pffft!.alive(input)) {
+        throw new Error('RealFft: buffers must come from this FFT (createInput, createSpectrum)');
+      }
+      pffft!.module._pffft_transform_ordered(this.pfSetup, this.pfIn!.ptr, ptr, this.pfWork!.ptr, PFFFT_FORWARD);
+      return;
+    }
+    this.full.realTransform(spectrum as number[], input as number[]);
   }
 
   /** Forward transform: X[k] = sum_n x[n] e^{-j 2 pi k n / N}, k = 0..N/2. */
   forward(input: Float64Array, re: Float64Array, im: Float64Array): void {
+    if (this.backend === 'pffft') {
+      const x = this.pfIn!.view;
+      for (let i = 0; i < this.size; i++) x[i] = input[i]!;
+      const o = this.pfOut!;
+      pffft!.module._pffft_transform_ordered(this.pfSetup, this.pfIn!.ptr, o.ptr, this.pfWork!.ptr, PFFFT_FORWARD);
+      const v = o.view;
+      re[0] = v[0]!;
+      im[0] = 0;
+      re[this.size / 2] = v[1]!;
+      im[this.size / 2] = 0;
+      for (let k = 1; k < this.size / 2; k++) {
+        re[k] = v[2 * k]!;
+        im[k] = v[2 * k + 1]!;
+      }
+      return;
+    }
     const out = this.packed;
     const x = this.input;
     for (let i = 0; i < this.size; i++) x[i] = input[i]!;
@@ -78,6 +130,22 @@ export class RealFft {
    */
   inverse(re: Float64Array, im: Float64Array, out: Float64Array): void {
     const n = this.size;
+    if (this.backend === 'pffft') {
+      // PFFFT's ordered real layout: [X0, X(N/2), re1, im1, ...]; its inverse is unscaled.
+      const v = this.pfIn!.view;
+      v[0] = re[0]!;
+      v[1] = re[n / 2]!;
+      for (let k = 1; k < n / 2; k++) {
+        v[2 * k] = re[k]!;
+        v[2 * k + 1] = im[k]!;
+      }
+      const o = this.pfOut!;
+      pffft!.module._pffft_transform_ordered(this.pfSetup, this.pfIn!.ptr, o.ptr, this.pfWork!.ptr, PFFFT_BACKWARD);
+      const w = o.view;
+      const scale = 1 / n;
+      for (let i = 0; i < n; i++) out[i] = w[i]! * scale;
+      return;
+    }
     const m = n / 2;
     const z = this.halfIn;
     for (let k = 0; k < m; k++) {

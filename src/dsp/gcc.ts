@@ -32,8 +32,8 @@ export class PairCorrelator {
 
   /** Add this hop's PHAT-weighted cross-spectrum into the memory (spectra interleaved re, im). */
   accumulate(
-    a: readonly number[],
-    b: readonly number[],
+    a: ArrayLike<number>,
+    b: ArrayLike<number>,
     weights: Float64Array,
     first: number,
     end: number,

@@ -1,5 +1,5 @@
 import { makeBands, type BandLayout } from '../dsp/bands.js';
-import { RealFft } from '../dsp/fft.js';
+import { RealFft, type FftBuffer } from '../dsp/fft.js';
 import { addBandScores, PairCorrelator, refineLag } from '../dsp/gcc.js';
 import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow } from '../dsp/window.js';
@@ -15,7 +15,7 @@ const FULL_VOTE_MARGIN = 0.1;
 /** Candidates whose pair lags all differ by less than this (samples) are one peak. */
 const SAME_PEAK_LAGS = 1.5;
 /** A further source must gather this share of the winner's votes. */
-const SOURCE_VOTE_RATIO = 0.35;
+const SOURCE_VOTE_RATIO = 0.25;
 
 /** One hop's result. The object and its arrays are reused by the next hop: copy what you keep. */
 export interface HopResult {
@@ -61,9 +61,9 @@ export class HopAnalyzer {
   readonly bands: BandLayout;
   private readonly fft: RealFft;
   private readonly window: Float64Array;
-  private readonly windowed: number[];
-  /** Interleaved half spectrum (re, im) per channel, plain arrays for fft.js. */
-  private readonly spectra: number[][];
+  private readonly windowed: FftBuffer;
+  /** Interleaved half spectrum (re, im) per channel, in the FFT's own buffers. */
+  private readonly spectra: FftBuffer[];
   private readonly power: Float64Array;
   private readonly weights: Float64Array;
   private readonly weightAcc: Float64Array;

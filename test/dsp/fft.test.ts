@@ -16,24 +16,40 @@ function naiveDft(x: Float64Array): { re: Float64Array; im: Float64Array } {
   return { re, im };
 }
 
-describe('RealFft against the direct DFT definition', () => {
+describe.each([
+  // fft.js works in double precision; PFFFT (WebAssembly SIMD) in single precision, so its
+  // tolerance is a few float32 rounding steps of the largest bin (about 2^-23 * N).
+  ['fft.js', 'fft.js' as const, 9, 12],
+  ['the default backend', 'auto' as const, 3, 5],
+])('RealFft (%s) against the direct DFT definition', (_name, backend, specDigits, timeDigits) => {
+  it('names its backend', () => {
+    expect(['pffft', 'fft.js']).toContain(new RealFft(1024, backend).backend);
+  });
   for (const n of [8, 64, 1024]) {
-    it(`forward and inverse, n = ${n}`, () => {
+    it(`forward, interleaved forward and inverse, n = ${n}`, () => {
       let seed = 12345;
       const rand = () => ((seed = (seed * 1103515245 + 12345) % 2 ** 31) / 2 ** 31) - 0.5;
       const x = new Float64Array(n).map(() => rand());
-      const fft = new RealFft(n);
+      const fft = new RealFft(n, backend);
       const re = new Float64Array(fft.bins);
       const im = new Float64Array(fft.bins);
       fft.forward(x, re, im);
       const ref = naiveDft(x);
       for (let k = 0; k < fft.bins; k++) {
-        expect(re[k]).toBeCloseTo(ref.re[k]!, 9);
-        expect(im[k]).toBeCloseTo(ref.im[k]!, 9);
+        expect(re[k]).toBeCloseTo(ref.re[k]!, specDigits);
+        expect(im[k]).toBeCloseTo(ref.im[k]!, specDigits);
+      }
+      const input = fft.createInput();
+      const spec = fft.createSpectrum();
+      for (let t = 0; t < n; t++) input[t] = x[t]!;
+      fft.forwardInterleaved(input, spec);
+      for (let k = 1; k < n / 2; k++) {
+        expect(spec[2 * k]).toBeCloseTo(ref.re[k]!, specDigits);
+        expect(spec[2 * k + 1]).toBeCloseTo(ref.im[k]!, specDigits);
       }
       const back = new Float64Array(n);
       fft.inverse(re, im, back);
-      for (let t = 0; t < n; t++) expect(back[t]).toBeCloseTo(x[t]!, 12);
+      for (let t = 0; t < n; t++) expect(back[t]).toBeCloseTo(x[t]!, timeDigits);
     });
   }
 });
