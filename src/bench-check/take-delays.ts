@@ -13,7 +13,7 @@
  */
 import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft } from '../dsp/fft.js';
-import { PairCorrelator, refineLag } from '../dsp/gcc.js';
+import { inverseMagnitudes, PairCorrelator, refineLag } from '../dsp/gcc.js';
 import { hannWindow } from '../dsp/window.js';
 
 /** A segment counts only when its normalised correlation peak reaches this (common practice, no source). */
@@ -84,6 +84,7 @@ export function measureTake(
   const win = hannWindow(n);
   const buf = fft.createInput();
   const spectra = Array.from({ length: M }, () => fft.createSpectrum());
+  const invMag = Array.from({ length: M }, () => new Float64Array(bins));
   const bands: BandLayout = makeBands(n, fs, search.minFreqHz, Math.min(search.maxFreqHz, 0.45 * fs), 1);
   const useBand = new Uint8Array([1]);
   const ones = new Float64Array(bins).fill(1);
@@ -111,10 +112,11 @@ export function measureTake(
         const x = channels[c]!;
         for (let i = 0; i < n; i++) buf[i] = x[f + i]! * win[i]!;
         fft.forwardInterleaved(buf, spectra[c]!);
+        inverseMagnitudes(spectra[c]!, bands.firstBin, bands.endBin, invMag[c]!);
       }
       for (let p = 0; p < P; p++) {
         const [a, b] = search.pairs[p]!;
-        corr[p]!.accumulate(spectra[a]!, spectra[b]!, ones, bands.firstBin, bands.endBin, 1);
+        corr[p]!.accumulate(spectra[a]!, spectra[b]!, invMag[a]!, invMag[b]!, ones, bands.firstBin, bands.endBin, 1);
       }
       frames++;
     }
@@ -135,7 +137,7 @@ export function measureTake(
       const full = (2 * binCount * frames) / n;
       for (let p = 0; p < P; p++) {
         const pc = corr[p]!;
-        pc.correlate(fft);
+        pc.correlate(fft, bands.firstBin, bands.endBin);
         const c0 = haveCentre[p] ? centre[p]! : 0;
         const w = haveCentre[p] ? search.trackWindow : search.firstWindow[p]!;
         const lo = Math.ceil(c0 - w);

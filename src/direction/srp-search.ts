@@ -1,6 +1,6 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import { micPairs, type ArrayGeometry, type MicPair } from '../geometry/array-geometry.js';
-import { azElFromVector, dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
+import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
 import type { Direction, DirectionModel } from './direction-model.js';
 
 /** The shape of an array decides what it can resolve. */
@@ -96,7 +96,20 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly nbStart: Int32Array;
   private readonly nbList: Int32Array;
   private readonly power: Float64Array;
-  private readonly lsInverse: number[][];
+  /** Hop counter and the hop at which each grid point's power was last computed. */
+  private hop = 0;
+  private readonly stamp: Int32Array;
+  /** The coarse subset (fine grid indices) and its neighbour lists (indices into the subset). */
+  private readonly coarse: Int32Array;
+  private readonly cnbStart: Int32Array;
+  private readonly cnbList: Int32Array;
+  private readonly starts = new Int32Array(12);
+  private readonly startPower = new Float64Array(12);
+  private readonly found = new Int32Array(16);
+  private readonly lsInverseFlat: Float64Array;
+  private readonly lsRhs: Float64Array;
+  /** Pair baselines projected on the subspace basis, [p * d + i]. */
+  private readonly baselineProj: Float64Array;
   private readonly basis: Vec3[];
 
   constructor(
@@ -143,6 +156,28 @@ export class SrpDirectionModel implements DirectionModel {
     this.nbList = new Int32Array(this.nbStart[G]!);
     for (let g = 0; g < G; g++) this.nbList.set(nb[g]!, this.nbStart[g]!);
     this.power = new Float64Array(G);
+    this.stamp = new Int32Array(G).fill(-1);
+    // Coarse subset: the fine point nearest each point of a grid twice as coarse.
+    const coarseDirs = makeGrid(shape, axis, 2 * step);
+    const picked = new Set<number>();
+    for (const u of coarseDirs) {
+      let best = 0;
+      let bestDot = -2;
+      for (let g = 0; g < G; g++) {
+        const d = dot(u, this.gridDirs[g]!);
+        if (d > bestDot) {
+          bestDot = d;
+          best = g;
+        }
+      }
+      picked.add(best);
+    }
+    this.coarse = Int32Array.from([...picked].sort((a, b) => a - b));
+    const cnb = neighbourLists(Array.from(this.coarse, (g) => this.gridDirs[g]!), 2 * step);
+    this.cnbStart = new Int32Array(this.coarse.length + 1);
+    for (let i = 0; i < this.coarse.length; i++) this.cnbStart[i + 1] = this.cnbStart[i]! + cnb[i]!.length;
+    this.cnbList = new Int32Array(this.cnbStart[this.coarse.length]!);
+    for (let i = 0; i < this.coarse.length; i++) this.cnbList.set(cnb[i]!, this.cnbStart[i]!);
     // Least squares for the direction from lags, in the subspace the array spans.
     this.basis = shape === 'solid' ? [[1, 0, 0], [0, 1, 0], [0, 0, 1]] : shape === 'plane' ? planeBasis(axis) : [axis];
     const d = this.basis.length;
@@ -151,7 +186,9 @@ export class SrpDirectionModel implements DirectionModel {
       const row = this.basis.map((e) => dot(bl, e));
       for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) ata[i]![j]! += row[i]! * row[j]!;
     }
-    this.lsInverse = invert(ata);
+    this.lsInverseFlat = Float64Array.from(invert(ata).flat());
+    this.lsRhs = new Float64Array(d);
+    this.baselineProj = Float64Array.from(this.baselines.flatMap((bl) => this.basis.map((e) => dot(bl, e))));
   }
 
   /** Lag (samples) of pair p for a source in unit direction u: (p_a - p_b) . u / c. */
@@ -163,45 +200,100 @@ export class SrpDirectionModel implements DirectionModel {
     return this.gridDirs.length;
   }
 
+  /** Steered response at grid point g (sum over pairs of the interpolated correlation). */
+  private powerAt(correlators: readonly PairCorrelator[], g: number): number {
+    const P = this.pairs.length;
+    const G = this.gridDirs.length;
+    let s = 0;
+    for (let p = 0, o = g; p < P; p++, o += G) {
+      const gcc = correlators[p]!.gcc;
+      const y0 = gcc[this.gridIdx0[o]!]!;
+      s += y0 + this.gridFrac[o]! * (gcc[this.gridIdx1[o]!]! - y0);
+    }
+    return s;
+  }
+
+  private powerCached(correlators: readonly PairCorrelator[], g: number): number {
+    if (this.stamp[g] !== this.hop) {
+      this.stamp[g] = this.hop;
+      this.power[g] = this.powerAt(correlators, g);
+    }
+    return this.power[g]!;
+  }
+
+  /**
+   * Coarse to fine: the response on a coarse subset of the grid (about a quarter of it), its
+   * local maxima, then a climb on the fine grid from each to the fine local maximum. The
+   * fine grid is evaluated only where a climb goes.
+   */
   findCandidates(correlators: readonly PairCorrelator[], maxCount: number, lagsOut: Float64Array, scoresOut: Float64Array): number {
     const P = this.pairs.length;
     const G = this.gridDirs.length;
-    const pw = this.power;
-    const i0 = this.gridIdx0;
-    const i1 = this.gridIdx1;
-    const fr = this.gridFrac;
-    pw.fill(0);
-    // Pair by pair, so each pass reads one correlation array.
-    for (let p = 0; p < P; p++) {
-      const gcc = correlators[p]!.gcc;
-      for (let g = 0, o = p * G; g < G; g++, o++) {
-        const y0 = gcc[i0[o]!]!;
-        pw[g] += y0 + fr[o]! * (gcc[i1[o]!]! - y0);
-      }
-    }
-    const nbStart = this.nbStart;
-    const nbList = this.nbList;
-    let found = 0;
-    for (let g = 0; g < G; g++) {
-      const v = pw[g]!;
-      if (found === maxCount && v <= scoresOut[found - 1]!) continue;
+    this.hop++;
+    const coarse = this.coarse;
+    for (let i = 0; i < coarse.length; i++) this.powerCached(correlators, coarse[i]!);
+    // Coarse local maxima, best first.
+    const starts = this.starts;
+    const startPw = this.startPower;
+    const want = starts.length;
+    let nStart = 0;
+    for (let i = 0; i < coarse.length; i++) {
+      const g = coarse[i]!;
+      const v = this.power[g]!;
+      if (nStart === want && v <= startPw[nStart - 1]!) continue;
       let isMax = true;
-      for (let j = nbStart[g]!, e = nbStart[g + 1]!; j < e; j++) {
-        const k = nbList[j]!;
-        const w = pw[k]!;
+      for (let j = this.cnbStart[i]!, e = this.cnbStart[i + 1]!; j < e; j++) {
+        const k = coarse[this.cnbList[j]!]!;
+        const w = this.power[k]!;
         if (w > v || (w === v && k < g)) {
           isMax = false;
           break;
         }
       }
       if (!isMax) continue;
+      let pos = nStart < want ? nStart : want - 1;
+      while (pos > 0 && startPw[pos - 1]! < v) {
+        startPw[pos] = startPw[pos - 1]!;
+        starts[pos] = starts[pos - 1]!;
+        pos--;
+      }
+      startPw[pos] = v;
+      starts[pos] = g;
+      if (nStart < want) nStart++;
+    }
+    // Climb on the fine grid; keep distinct end points, best first.
+    let found = 0;
+    for (let i = 0; i < nStart; i++) {
+      let g = starts[i]!;
+      let v = this.power[g]!;
+      for (let step = 0; step < 64; step++) {
+        let best = g;
+        let bestV = v;
+        for (let j = this.nbStart[g]!, e = this.nbStart[g + 1]!; j < e; j++) {
+          const k = this.nbList[j]!;
+          const w = this.powerCached(correlators, k);
+          if (w > bestV) {
+            bestV = w;
+            best = k;
+          }
+        }
+        if (best === g) break;
+        g = best;
+        v = bestV;
+      }
+      let dup = false;
+      for (let f = 0; f < found; f++) if (this.found[f] === g) dup = true;
+      if (dup) continue;
+      if (found === maxCount && v <= scoresOut[found - 1]!) continue;
       let pos = found < maxCount ? found : maxCount - 1;
       while (pos > 0 && scoresOut[pos - 1]! < v) {
         scoresOut[pos] = scoresOut[pos - 1]!;
+        this.found[pos] = this.found[pos - 1]!;
         for (let p = 0; p < P; p++) lagsOut[pos * P + p] = lagsOut[(pos - 1) * P + p]!;
         pos--;
       }
       scoresOut[pos] = v;
+      this.found[pos] = g;
       for (let p = 0; p < P; p++) lagsOut[pos * P + p] = this.gridLag[p * G + g]!;
       if (found < maxCount) found++;
     }
@@ -209,21 +301,32 @@ export class SrpDirectionModel implements DirectionModel {
   }
 
   solve(lags: Float64Array, offset: number, out: Direction): boolean {
+    // Least squares in the array's subspace: coef = (B^T B)^-1 B^T y, with y_p = c tdoa_p.
     const d = this.basis.length;
-    const atb = new Array<number>(d).fill(0);
+    const atb = this.lsRhs;
+    const proj = this.baselineProj;
+    atb.fill(0);
     for (let p = 0; p < this.baselines.length; p++) {
       const y = (lags[offset + p]! / this.sampleRate) * this.speedOfSound;
-      for (let i = 0; i < d; i++) atb[i]! += dot(this.baselines[p]!, this.basis[i]!) * y;
+      for (let i = 0; i < d; i++) atb[i] += proj[p * d + i]! * y;
     }
-    const coef = this.lsInverse.map((row) => row.reduce((s, v, j) => s + v * atb[j]!, 0));
-    let u: [number, number, number] = [0, 0, 0];
-    for (let i = 0; i < d; i++) for (let k = 0; k < 3; k++) u[k]! += coef[i]! * this.basis[i]![k]!;
-    let len = norm(u);
+    let ux = 0;
+    let uy = 0;
+    let uz = 0;
+    for (let i = 0; i < d; i++) {
+      let c = 0;
+      for (let j = 0; j < d; j++) c += this.lsInverseFlat[i * d + j]! * atb[j]!;
+      const e = this.basis[i]!;
+      ux += c * e[0];
+      uy += c * e[1];
+      uz += c * e[2];
+    }
+    let len = Math.hypot(ux, uy, uz);
     if (!(len > 1e-9)) return false;
-    if (this.shape === 'solid') {
-      u = [u[0] / len, u[1] / len, u[2] / len];
-    } else if (len > 1) {
-      u = [u[0] / len, u[1] / len, u[2] / len];
+    if (this.shape === 'solid' || len > 1) {
+      ux /= len;
+      uy /= len;
+      uz /= len;
       len = 1;
     }
     if (this.shape === 'plane') {
@@ -232,21 +335,26 @@ export class SrpDirectionModel implements DirectionModel {
       const nrm = this.axis;
       const side = nrm[2] > 1e-6 || (Math.abs(nrm[2]) <= 1e-6 && nrm[1] >= 0) ? 1 : -1;
       const h = Math.sqrt(Math.max(0, 1 - len * len)) * side;
-      u = [u[0] + h * nrm[0], u[1] + h * nrm[1], u[2] + h * nrm[2]];
+      ux += h * nrm[0];
+      uy += h * nrm[1];
+      uz += h * nrm[2];
     } else if (this.shape === 'line') {
       // Cone around the axis: report the horizontal direction on the front side of the axis.
-      const s = Math.max(-1, Math.min(1, dot(u, this.axis)));
       const ax = this.axis;
-      const axisAz = Math.atan2(ax[0], ax[1]);
-      const theta = Math.acos(s);
-      const az = axisAz - theta;
-      u = [Math.sin(az), Math.cos(az), 0];
+      const sdot = Math.max(-1, Math.min(1, ux * ax[0] + uy * ax[1] + uz * ax[2]));
+      const az = Math.atan2(ax[0], ax[1]) - Math.acos(sdot);
+      ux = Math.sin(az);
+      uy = Math.cos(az);
+      uz = 0;
     }
-    const ae = azElFromVector(u);
-    out.azimuthDeg = ae.azimuthDeg;
-    out.elevationDeg = this.shape === 'line' ? null : ae.elevationDeg;
+    let azDeg = (Math.atan2(ux, uy) * 180) / Math.PI;
+    if (azDeg <= -180) azDeg += 360;
+    const r = Math.hypot(ux, uy, uz);
+    out.azimuthDeg = azDeg;
+    out.elevationDeg = this.shape === 'line' ? null : (Math.asin(Math.max(-1, Math.min(1, uz / r))) * 180) / Math.PI;
     return true;
   }
+
 }
 
 function planeBasis(normal: Vec3): Vec3[] {

@@ -23,6 +23,8 @@ export class RealFft {
   private readonly pfWork: { view: Float32Array; ptr: number } | null = null;
   private readonly pfIn: { view: Float32Array; ptr: number } | null = null;
   private readonly pfOut: { view: Float32Array; ptr: number } | null = null;
+  /** Inverse input in PFFFT's layout; bins outside the bands written stay zero. */
+  private readonly pfInv: { view: Float32Array; ptr: number } | null = null;
   /** Spectrum views and their pointers, by view. */
   private readonly pfPtr = new Map<Float32Array, number>();
   readonly size: number;
@@ -49,6 +51,8 @@ export class RealFft {
       this.pfWork = pffft.alloc(n);
       this.pfIn = pffft.alloc(n);
       this.pfOut = pffft.alloc(n);
+      this.pfInv = pffft.alloc(n);
+      this.pfInv.view.fill(0);
     }
     this.full = new FFT(n);
     this.half = new FFT(n / 2);
@@ -122,6 +126,51 @@ export class RealFft {
       im[k] = out[2 * k + 1]!;
     }
   }
+
+  /**
+   * Inverse transform of bins [first, end) of a half spectrum (all other bins zero), each bin
+   * scaled by `binScale[k]`, writing only the lags |lag| <= maxLag of the result (at index
+   * lag mod N). The GCC needs no more: this saves the copies of the full transform.
+   */
+  inverseLags(re: Float64Array, im: Float64Array, binScale: Float64Array | null, first: number, end: number, out: Float64Array, maxLag: number): void {
+    const n = this.size;
+    if (this.backend !== 'pffft' || first < 1 || end > n / 2) {
+      const sr = this.scratchRe ?? (this.scratchRe = new Float64Array(n / 2 + 1));
+      const si = this.scratchIm ?? (this.scratchIm = new Float64Array(n / 2 + 1));
+      sr.fill(0);
+      si.fill(0);
+      for (let k = first; k < end; k++) {
+        const g = binScale ? binScale[k]! : 1;
+        sr[k] = re[k]! * g;
+        si[k] = im[k]! * g;
+      }
+      this.inverse(sr, si, out);
+      return;
+    }
+    const v = this.pfInv!.view;
+    if (binScale) {
+      for (let k = first; k < end; k++) {
+        const g = binScale[k]!;
+        v[2 * k] = re[k]! * g;
+        v[2 * k + 1] = im[k]! * g;
+      }
+    } else {
+      for (let k = first; k < end; k++) {
+        v[2 * k] = re[k]!;
+        v[2 * k + 1] = im[k]!;
+      }
+    }
+    const o = this.pfOut!;
+    pffft!.module._pffft_transform_ordered(this.pfSetup, this.pfInv!.ptr, o.ptr, this.pfWork!.ptr, PFFFT_BACKWARD);
+    const w = o.view;
+    const scale = 1 / n;
+    const L = Math.min(maxLag + 1, n / 2 - 1);
+    for (let i = 0; i <= L; i++) out[i] = w[i]! * scale;
+    for (let i = n - L; i < n; i++) out[i] = w[i]! * scale;
+  }
+
+  private scratchRe: Float64Array | null = null;
+  private scratchIm: Float64Array | null = null;
 
   /**
    * Inverse transform of a Hermitian half spectrum to n real samples:

@@ -15,8 +15,6 @@ export class PairCorrelator {
   readonly accIm: Float64Array;
   /** Correlation over integer lags from the inverse FFT (index lag mod N). */
   readonly gcc: Float64Array;
-  private readonly scaledRe: Float64Array;
-  private readonly scaledIm: Float64Array;
 
   constructor(
     readonly n: number,
@@ -26,14 +24,17 @@ export class PairCorrelator {
     this.accRe = new Float64Array(bins);
     this.accIm = new Float64Array(bins);
     this.gcc = new Float64Array(n);
-    this.scaledRe = new Float64Array(bins);
-    this.scaledIm = new Float64Array(bins);
   }
 
-  /** Add this hop's PHAT-weighted cross-spectrum into the memory (spectra interleaved re, im). */
+  /**
+   * Add this hop's PHAT-weighted cross-spectrum into the memory (spectra interleaved re, im;
+   * invA, invB = 1 / |X| per bin, 0 for an empty bin).
+   */
   accumulate(
     a: ArrayLike<number>,
     b: ArrayLike<number>,
+    invA: Float64Array,
+    invB: Float64Array,
     weights: Float64Array,
     first: number,
     end: number,
@@ -42,46 +43,28 @@ export class PairCorrelator {
     const ar = this.accRe;
     const ai = this.accIm;
     for (let k = first; k < end; k++) {
-      // conj(Xa) * Xb
+      // conj(Xa) * Xb / (|Xa| |Xb|), weighted
       const xr = a[2 * k]!;
       const xi = a[2 * k + 1]!;
       const yr = b[2 * k]!;
       const yi = b[2 * k + 1]!;
-      const cr = xr * yr + xi * yi;
-      const ci = xr * yi - xi * yr;
-      const mag = Math.sqrt(cr * cr + ci * ci);
-      let wr = 0;
-      let wi = 0;
-      if (mag > 1e-20) {
-        const g = weights[k]! / mag;
-        wr = cr * g;
-        wi = ci * g;
-      }
-      ar[k] = memory * ar[k]! + wr;
-      ai[k] = memory * ai[k]! + wi;
+      const g = weights[k]! * invA[k]! * invB[k]!;
+      ar[k] = memory * ar[k]! + (xr * yr + xi * yi) * g;
+      ai[k] = memory * ai[k]! + (xr * yi - xi * yr) * g;
     }
   }
 
-  /** Inverse FFT of the accumulated cross-spectrum into `gcc` (bins outside [first, end) are zero). */
-  correlate(fft: RealFft): void {
-    fft.inverse(this.accRe, this.accIm, this.gcc);
+  /** Inverse FFT of the accumulated cross-spectrum (bins [first, end)) into `gcc`, lags within maxLag. */
+  correlate(fft: RealFft, first: number, end: number): void {
+    fft.inverseLags(this.accRe, this.accIm, null, first, end, this.gcc, this.maxLag + 1);
   }
 
   /**
-   * Inverse FFT of the cross-spectrum with each band scaled by `bandScale[b]` (e.g. 1 / the
-   * band's total weight, so that every band has the same say whatever its width).
+   * The same with each bin scaled by `binScale[k]` (e.g. 1 / its band's total weight, so that
+   * every band has the same say whatever its width).
    */
-  correlateBands(fft: RealFft, bands: BandLayout, bandScale: Float64Array): void {
-    const sr = this.scaledRe;
-    const si = this.scaledIm;
-    for (let b = 0; b < bands.count; b++) {
-      const g = bandScale[b]!;
-      for (let k = bands.start[b]!, e = bands.end[b]!; k < e; k++) {
-        sr[k] = this.accRe[k]! * g;
-        si[k] = this.accIm[k]! * g;
-      }
-    }
-    fft.inverse(sr, si, this.gcc);
+  correlateScaled(fft: RealFft, binScale: Float64Array, first: number, end: number): void {
+    fft.inverseLags(this.accRe, this.accIm, binScale, first, end, this.gcc, this.maxLag + 1);
   }
 
   /** Correlation at an integer lag (may be negative). */
@@ -203,4 +186,14 @@ export function refineLag(pc: PairCorrelator, bands: BandLayout, useBand: Uint8A
   if (tau < lag - 1) tau = lag - 1;
   const L = pc.maxLag;
   return Math.max(-L, Math.min(L, tau));
+}
+
+/** 1 / |X_k| of an interleaved spectrum for bins [first, end) (0 for an empty bin), for PHAT. */
+export function inverseMagnitudes(spectrum: ArrayLike<number>, first: number, end: number, out: Float64Array): void {
+  for (let k = first; k < end; k++) {
+    const r = spectrum[2 * k]!;
+    const i = spectrum[2 * k + 1]!;
+    const p2 = r * r + i * i;
+    out[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
+  }
 }

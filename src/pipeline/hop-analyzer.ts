@@ -64,11 +64,13 @@ export class HopAnalyzer {
   private readonly windowed: FftBuffer;
   /** Interleaved half spectrum (re, im) per channel, in the FFT's own buffers. */
   private readonly spectra: FftBuffer[];
+  /** 1 / |X_c,k| per channel (0 for an empty bin): PHAT divides by |X_a X_b| = |X_a| |X_b|. */
+  private readonly invMag: Float64Array[];
   private readonly power: Float64Array;
   private readonly weights: Float64Array;
   private readonly weightAcc: Float64Array;
   private readonly bandWeight: Float64Array;
-  private readonly bandScale: Float64Array;
+  private readonly binScale: Float64Array;
   private readonly onset: OnsetWeigher;
   private readonly correlators: PairCorrelator[];
   private readonly memory: number;
@@ -97,12 +99,13 @@ export class HopAnalyzer {
     this.window = hannWindow(n);
     this.windowed = this.fft.createInput();
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
+    this.invMag = Array.from({ length: channels }, () => new Float64Array(bins));
     this.power = new Float64Array(bins);
     this.weights = new Float64Array(bins);
     this.weightAcc = new Float64Array(bins);
     this.bands = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
     this.bandWeight = new Float64Array(options.bands);
-    this.bandScale = new Float64Array(options.bands);
+    this.binScale = new Float64Array(bins);
     const hopS = options.hop / sampleRate;
     this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
     this.onset = new OnsetWeigher(bins, {
@@ -167,10 +170,13 @@ export class HopAnalyzer {
       res.channelLevelsDbfs[c] = toDb(ms);
       const spec = this.spectra[c]!;
       this.fft.forwardInterleaved(this.windowed, spec);
+      const inv = this.invMag[c]!;
       for (let k = k0; k < k1; k++) {
         const r = spec[2 * k]!;
         const i = spec[2 * k + 1]!;
-        this.power[k] += r * r + i * i;
+        const p2 = r * r + i * i;
+        this.power[k] += p2;
+        inv[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
       }
     }
     res.levelDbfs = toDb(totalMs / this.channels);
@@ -183,7 +189,8 @@ export class HopAnalyzer {
       let s = 0;
       for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) s += this.weightAcc[k]!;
       this.bandWeight[b] = s;
-      this.bandScale[b] = 1 / Math.max(1e-12, s);
+      const g = 1 / Math.max(1e-12, s);
+      for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) this.binScale[k] = g;
     }
 
     // Pair cross-spectra into the memory; in a silent hop that is all (nights are mostly quiet).
@@ -193,12 +200,12 @@ export class HopAnalyzer {
     for (let p = 0; p < P; p++) {
       const [a, b] = pairs[p]!;
       const pc = this.correlators[p]!;
-      pc.accumulate(this.spectra[a]!, this.spectra[b]!, this.weights, k0, k1, mem);
+      pc.accumulate(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, this.weights, k0, k1, mem);
       if (silent) continue;
       // With voting, every band has the same say in the candidates (the sum of the band
       // scores); without, the plain GCC-PHAT over all bins.
-      if (this.options.voting) pc.correlateBands(this.fft, this.bands, this.bandScale);
-      else pc.correlate(this.fft);
+      if (this.options.voting) pc.correlateScaled(this.fft, this.binScale, k0, k1);
+      else pc.correlate(this.fft, k0, k1);
     }
 
     if (silent) this.clearEstimate(res);
