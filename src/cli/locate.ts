@@ -95,6 +95,7 @@ export function registerLocate(program: Command): void {
   const d = DEFAULT_LOCATE_OPTIONS;
   program
     .command('locate')
+    .summary('fix the positions of calls heard at several stations (GeoJSON with error ellipses)')
     .description(
       'Fix the positions of calls heard at several stations: match events across the stations\' logs, intersect their bearing lines ' +
         '(weighted least squares on the WGS 84 tangent plane, plus arrival-time differences where clocks are synchronised), ' +

@@ -90,6 +90,7 @@ export function runSimulate(opts: SimulateOptions): void {
 export function registerSimulate(program: Command): void {
   program
     .command('simulate')
+    .summary('render a scene (array, callers, room, wind) to a WAV file with its true directions')
     .description(
       'Render a scene (array, sources, room, noise) to a multichannel WAV file, with the true directions ' +
         `beside it: REC.truth.jsonl (one record per ${TRUTH_STEP_S * 1000} ms per active source, in the array's frame) ` +
