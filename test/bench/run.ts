@@ -7,6 +7,7 @@ import { benchCase, benchMemory, coreCases, printCore } from './core.js';
 import { runFeedLatencyBench } from './feed-latency.js';
 import { benchIoRead } from './io-read.js';
 import { formatSoak, runStationSoak } from './station-soak.js';
+import { runLiveBench } from './live.js';
 import { formatTrackerBench, runTrackerBench } from './tracker.js';
 
 const only = process.argv.slice(2);
@@ -33,7 +34,7 @@ async function main(): Promise<void> {
     }
   }
   if (want('io')) {
-    const r = await benchIoRead({ minutes: 10 });
+    const r = await benchIoRead({ minutes: 10, log: () => undefined });
     console.log('\n' + r.lines.join('\n'));
   }
   if (want('feed')) {
@@ -42,6 +43,10 @@ async function main(): Promise<void> {
   }
   if (want('station')) {
     console.log('\n' + formatSoak(runStationSoak()));
+  }
+  if (want('live')) {
+    const r = await runLiveBench();
+    console.log('\n' + r.lines.join('\n'));
   }
 }
 
