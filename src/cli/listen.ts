@@ -13,7 +13,7 @@ import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptions, ty
 import { openRecorderSource, type RecorderGap, type RecorderSource } from '../io/recorder-source.js';
 import { stderrWarning } from '../io/stderr-warning.js';
 import { resolveChannels, resolveSampleRate } from '../io/stream-options.js';
-import { createAnalysis, runAnalysis, type AnalysisSetup } from '../pipeline/analysis.js';
+import { createAnalysis, runAnalysis, warmUp, type AnalysisSetup } from '../pipeline/analysis.js';
 import { frameColumns } from '../pipeline/frame-columns.js';
 import { captureGapOf, gapRecord, type GapRecord } from '../pipeline/gap-record.js';
 import type { HopResult } from '../pipeline/hop-analyzer.js';
@@ -145,6 +145,7 @@ async function listen(flags: ListenFlags, raw: Raw): Promise<void> {
   if (input.channels < 2) throw new UsageError(`${where} has one channel: direction finding needs at least two (one per mic)`);
   checkGeometryForStream(geometry, input.channels, input.sampleRate, c, where);
   const setup = createAnalysis(geometry, input.sampleRate, c, stages.analysis);
+  warmUp(setup, input.sampleRate);
 
   const opened: StationSink[] = [];
   try {
