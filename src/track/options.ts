@@ -155,7 +155,7 @@ export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
     'time constant with which a track forgets its angular rate (short: static sources)'),
   numberSpec('initialRateDegS', '--initial-rate <deg/s>', 'deg/s', 20, { min: 0, max: 3600 },
     'rate uncertainty (1 sigma) of a newly born track'),
-  numberSpec('maxUncertaintyDeg', '--max-uncertainty <deg>', 'deg', 20, { min: 0, max: 90, minExclusive: true },
+  numberSpec('maxUncertaintyDeg', '--max-uncertainty <deg>', 'deg', 8, { min: 0, max: 90, minExclusive: true },
     'cap on the direction uncertainty (1 sigma) of a track coasting through silence'),
   numberSpec('gateSigma', '--gate <sigma>', 'sigma', 3.5, { min: 1, max: 10 },
     'a candidate may join a track only within this many standard deviations of its prediction'),
