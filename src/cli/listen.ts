@@ -242,6 +242,7 @@ async function runLive(flags: ListenFlags, plan: LivePlan, opened: StationSink[]
 
   const emitGap = (rec: GapRecord): void => {
     void writer?.write(rec);
+    log?.writeGap(rec);
     feed?.sendGap(captureGapOf(rec));
   };
   // A recorder restart: the gap is written when audio comes back (then its length is known).

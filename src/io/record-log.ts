@@ -6,6 +6,7 @@ import { stderrWarning } from './stderr-warning.js';
 import type { MicPair } from '../geometry/array-geometry.js';
 import type { OptionSpec } from '../option-spec.js';
 import { eventColumns } from '../pipeline/event-columns.js';
+import type { GapRecord } from '../pipeline/gap-record.js';
 import { frameColumns } from '../pipeline/frame-columns.js';
 import type { EventRecord, FrameRecord } from '../records.js';
 import { formatByteSize, parseByteSize } from '../station/byte-size.js';
@@ -24,8 +25,8 @@ import { csvCell, type CsvColumn } from './record-writer.js';
  */
 
 export type LogFormat = 'jsonl' | 'csv';
-export type RecordKind = 'frames' | 'events';
-export const RECORD_KINDS: readonly RecordKind[] = ['frames', 'events'];
+export type RecordKind = 'frames' | 'events' | 'gaps';
+export const RECORD_KINDS: readonly RecordKind[] = ['frames', 'events', 'gaps'];
 
 export interface RecordLogOptions {
   /** Directory for the log files; null = no logging. */
@@ -102,7 +103,7 @@ export interface LogFileName {
   format: LogFormat;
 }
 
-const NAME = /^([A-Za-z0-9][A-Za-z0-9_-]{0,63})\.(frames|events)\.(\d{8}T\d{6}Z)(?:_(\d{3,}))?\.(jsonl|csv)$/;
+const NAME = /^([A-Za-z0-9][A-Za-z0-9_-]{0,63})\.(frames|events|gaps)\.(\d{8}T\d{6}Z)(?:_(\d{3,}))?\.(jsonl|csv)$/;
 
 export function utcStamp(ms: number): string {
   return new Date(ms).toISOString().replace(/[-:]/g, '').replace(/\.\d{3}Z$/, 'Z');
@@ -238,6 +239,13 @@ function statfsFree(dir: string): number {
   return s.bavail * s.bsize;
 }
 
+const GAP_COLUMNS: CsvColumn<GapRecord>[] = [
+  { name: 'gap', get: (r) => r.gap },
+  { name: 'start_s', get: (r) => r.start_s },
+  { name: 'end_s', get: (r) => r.end_s },
+  { name: 'utc', get: (r) => r.utc },
+];
+
 export class RecordLog {
   readonly options: RecordLogOptions;
   readonly dir: string;
@@ -251,7 +259,7 @@ export class RecordLog {
   private readonly lastOpened: Partial<Record<RecordKind, LogFileName>> = {};
   /** Closed files of this station, oldest first, for the disk limit. */
   private closedFiles: LogFileEntry[] = [];
-  private readonly counts: Record<RecordKind, number> = { frames: 0, events: 0 };
+  private readonly counts: Record<RecordKind, number> = { frames: 0, events: 0, gaps: 0 };
   private lastFree: number | null = null;
   private lowSpaceWarned = false;
   private overLimitWarned = false;
@@ -320,6 +328,12 @@ export class RecordLog {
   writeEvent(record: EventRecord): void {
     if (this.options.logFormat === 'jsonl') return this.write('events', JSON.stringify(record), '');
     this.write('events', csvRow(this.eventCols, record), csvHeader(this.eventCols));
+  }
+
+  /** A capture gap (a stretch of lost audio), in its own log files next to the events. */
+  writeGap(record: GapRecord): void {
+    if (this.options.logFormat === 'jsonl') return this.write('gaps', JSON.stringify(record), '');
+    this.write('gaps', csvRow(GAP_COLUMNS, record), csvHeader(GAP_COLUMNS));
   }
 
   /** The line (text + newline) in the log's one reusable buffer, grown only for a longer line. */

@@ -1,4 +1,5 @@
 import { spawn } from 'node:child_process';
+import { mkdirSync, readdirSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
@@ -18,7 +19,9 @@ describe('bearline listen through a stand-in recorder on PATH', () => {
     const bin = join(fx.dir, 'bin-restart');
     // Run 1 streams 4 s of calls and exits with an error; run 2 streams them again and keeps running.
     standInRecorder(bin, 'sox', fx.rec.raw, 4, ['echo "sox FAIL: capture device went away" >&2; exit 3', 'exec sleep 60']);
-    const run = fx.start(['listen', '--spacing', '0.2', '--recorder', 'sox', '--frames'], { env: pathWith(bin) });
+    const logDir = join(fx.dir, 'logs-restart');
+    mkdirSync(logDir);
+    const run = fx.start(['listen', '--spacing', '0.2', '--recorder', 'sox', '--frames', '--log-dir', logDir, '--station', 'lab'], { env: pathWith(bin) });
     await run.waitFor((ls) => {
       const gap = ls.find(isGap);
       return gap !== undefined && ls.filter((l) => isEvent(l) && (l.start_s as number) > (gap.end_s as number)).length >= 2;
@@ -39,6 +42,11 @@ describe('bearline listen through a stand-in recorder on PATH', () => {
     expect(lost).toBeLessThan(3);
     expect(Date.parse(gap.utc as string)).not.toBeNaN();
     expect(run.stderr()).toMatch(/sox exited with code 3 .*; restarting sox in 0\.5 s/);
+    // The same gap record, whole, in the station's gap log next to its events log.
+    const gapLogs = readdirSync(logDir).filter((f) => /^lab\.gaps\..*\.jsonl$/.test(f));
+    expect(gapLogs).toHaveLength(1);
+    const logged = readFileSync(join(logDir, gapLogs[0]!), 'utf8').trim().split('\n').map((l) => JSON.parse(l) as Record<string, unknown>);
+    expect(logged).toEqual([gap]);
 
     // Every event points at the source: within 3 deg of the truth (the pair's mirror is in front too).
     const events = run.lines.filter(isEvent);
