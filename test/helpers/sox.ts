@@ -47,6 +47,8 @@ export interface DelayedSignalSpec {
   durationS?: number;
   /** sox synth arguments for the mono source, e.g. ['whitenoise'] or ['pinknoise']. */
   synth?: string[];
+  /** A sound file to use as the mono source instead of synth (e.g. speech from espeak-ng). */
+  sourceFile?: string;
   /** sox effects applied to the mono source at the high rate (e.g. a band limit). */
   effects?: string[];
   /** Gain of the source in dB (sox `gain`). */
@@ -61,7 +63,11 @@ export function soxDelayedSignal(spec: DelayedSignalSpec, workDir: string): stri
   const hi = rate * up;
   const dur = spec.durationS ?? 2;
   const base = join(workDir, `base-${process.pid}-${Math.random().toString(36).slice(2)}.wav`);
-  sox(['-R', '-n', '-r', String(hi), '-c', '1', '-b', '32', '-e', 'floating-point', base, 'synth', String(dur), ...(spec.synth ?? ['whitenoise']), ...(spec.effects ?? []), 'gain', String(spec.gainDb ?? -6)]);
+  if (spec.sourceFile) {
+    sox([spec.sourceFile, '-r', String(hi), '-c', '1', '-b', '32', '-e', 'floating-point', base, ...(spec.effects ?? []), 'gain', String(spec.gainDb ?? -6)]);
+  } else {
+    sox(['-R', '-n', '-r', String(hi), '-c', '1', '-b', '32', '-e', 'floating-point', base, 'synth', String(dur), ...(spec.synth ?? ['whitenoise']), ...(spec.effects ?? []), 'gain', String(spec.gainDb ?? -6)]);
+  }
   const parts = spec.delaysUp.map((d, c) => {
     const p = `${base}.ch${c}.wav`;
     sox([base, '-b', '32', '-e', 'floating-point', p, 'delay', `${d}s`, 'rate', '-v', String(rate)]);
