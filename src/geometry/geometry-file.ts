@@ -1,4 +1,4 @@
-import { readFileSync } from 'node:fs';
+import { readJsonFile } from '../io/read-json-file.js';
 import { UsageError } from '../errors.js';
 import type { ArrayGeometry, Mic } from './array-geometry.js';
 import { norm, sub, type Vec3 } from './vec3.js';
@@ -83,22 +83,7 @@ export function parseGeometry(json: unknown, where: string): ArrayGeometry {
 }
 
 export function loadGeometryFile(path: string): ArrayGeometry {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    throw new UsageError(
-      code === 'ENOENT' ? `geometry file ${path} does not exist: check the path given to --array` : `cannot read geometry file ${path}: ${(err as Error).message}`,
-    );
-  }
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch (err) {
-    throw new UsageError(`geometry file ${path} is not valid JSON (${(err as Error).message}): fix the file`);
-  }
-  return parseGeometry(json, `geometry file ${path}`);
+  return parseGeometry(readJsonFile(path, 'geometry file', '--array'), `geometry file ${path}`);
 }
 
 export function geometryToJson(g: ArrayGeometry): GeometryJson {

@@ -1,4 +1,5 @@
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync } from 'node:fs';
+import { readJsonFile } from '../io/read-json-file.js';
 import { UsageError } from '../errors.js';
 
 /**
@@ -16,18 +17,10 @@ export interface RunProfile {
 export function loadProfile(nameOrPath: string, profilesDir: string): { profile: RunProfile; where: string } {
   const preset = `${profilesDir}${nameOrPath}.json`;
   const path = !existsSync(nameOrPath) && /^[\w.-]+$/.test(nameOrPath) && existsSync(preset) ? preset : nameOrPath;
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch {
+  if (!existsSync(path)) {
     throw new UsageError(`--profile ${nameOrPath}: no such profile file or preset (presets are in ${profilesDir})`);
   }
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch (err) {
-    throw new UsageError(`profile ${path} is not valid JSON (${(err as Error).message}): fix the file`);
-  }
+  const json = readJsonFile(path, 'profile', '--profile');
   if (typeof json !== 'object' || json === null || Array.isArray(json)) throw new UsageError(`profile ${path} must hold a JSON object`);
   return { profile: json as RunProfile, where: `profile ${path}` };
 }

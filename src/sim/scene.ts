@@ -9,7 +9,7 @@
  * WAV signals are fetched through a resolver, so the parser itself does no I/O.
  * loadSceneFile() is the I/O edge.
  */
-import { readFileSync } from 'node:fs';
+import { readJsonFile } from '../io/read-json-file.js';
 import { dirname, isAbsolute, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { UsageError } from '../errors.js';
@@ -544,19 +544,7 @@ export interface LoadedScene {
 
 /** The I/O edge: read and validate a scene file; array and WAV paths are relative to the file. */
 export function loadSceneFile(path: string): LoadedScene {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    throw new UsageError(code === 'ENOENT' ? `scene file ${path} does not exist: check the path given to --scene` : `cannot read scene file ${path}: ${(err as Error).message}`);
-  }
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch (err) {
-    throw new UsageError(`scene file ${path} is not valid JSON (${(err as Error).message}): fix the file`);
-  }
+  const json = readJsonFile(path, 'scene file', '--scene');
   const base = dirname(path);
   const inputFiles = [path];
   const abs = (f: string): string => (isAbsolute(f) ? f : join(base, f));
