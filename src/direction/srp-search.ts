@@ -66,6 +66,9 @@ export function arrayShape(g: ArrayGeometry): { shape: ArrayShape; axis: Vec3 } 
   return { shape: 'solid', axis: [0, 0, 1] };
 }
 
+/** Smallest automatic grid step (degrees): finer grids cost time and the refinement recovers the rest. */
+const MIN_AUTO_STEP_DEG = 2.5;
+
 /** Grid settings of the direction search. */
 export interface SearchGrid {
   /** Angular step of the grid, degrees (default: from the array's largest lag). */
@@ -131,7 +134,7 @@ export class SrpDirectionModel implements DirectionModel {
     // Default step: fine enough that no pair's lag is more than about 0.7 samples off at the
     // nearest grid point (the refinement then takes it the rest of the way).
     const largestLag = Math.max(...this.maxLag);
-    const step = grid.stepDeg ?? Math.max(1, Math.min(shape === 'line' ? 3 : 8, ((1.4 / largestLag) * 180) / Math.PI));
+    const step = grid.stepDeg ?? Math.max(MIN_AUTO_STEP_DEG, Math.min(shape === 'line' ? 3 : 8, ((1.4 / largestLag) * 180) / Math.PI));
     this.gridDirs = makeGrid(shape, axis, step);
     const G = this.gridDirs.length;
     this.gridLag = new Float64Array(G * P);
