@@ -108,6 +108,7 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
     if (channels < 2) throw new UsageError(`${where} has one channel: direction finding needs at least two (one per mic)`);
     checkGeometryForStream(geometry, channels, sampleRate, c, where);
     const setup = createAnalysis(geometry, sampleRate, c, stages.analysis);
+    setup.analyzer.diagnostics = !!flags.diagnostics;
     const settings = {
       headingDeg: geometry.headingDeg,
       mirror: setup.model.mirror,

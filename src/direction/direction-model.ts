@@ -25,3 +25,11 @@ export interface DirectionModel {
   /** Direction from per-pair lags (samples); returns false when the lags fit no direction. */
   solve(lags: Float64Array, offset: number, out: Direction): boolean;
 }
+
+/**
+ * Largest lag searched for a pair (whole samples): the physical limit spacing / c, plus the
+ * margin, plus one sample for the peak's neighbour, and never past half a frame.
+ */
+export function searchLagLimit(spacingM: number, sampleRate: number, speedOfSound: number, lagMargin: number, frame: number): number {
+  return Math.min(frame / 2 - 2, Math.ceil((spacingM / speedOfSound) * sampleRate * (1 + lagMargin)) + 1);
+}

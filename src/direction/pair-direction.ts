@@ -1,7 +1,7 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
 import { norm, sub, wrapDeg } from '../geometry/vec3.js';
-import type { Direction, DirectionModel } from './direction-model.js';
+import { searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
 
 const DEG = 180 / Math.PI;
 
@@ -41,8 +41,7 @@ export class PairDirectionModel implements DirectionModel {
     const axis = sub(geometry.mics[1]!.position, geometry.mics[0]!.position);
     this.spacing = norm(axis);
     this.axisAzimuthDeg = Math.atan2(axis[0], axis[1]) * DEG;
-    const physical = (this.spacing / speedOfSound) * sampleRate;
-    this.maxLag = Int32Array.of(Math.min(frame / 2 - 2, Math.ceil(physical * (1 + lagMargin)) + 1));
+    this.maxLag = Int32Array.of(searchLagLimit(this.spacing, sampleRate, speedOfSound, lagMargin, frame));
   }
 
   findCandidates(correlators: readonly PairCorrelator[], maxCount: number, lagsOut: Float64Array, scoresOut: Float64Array): number {

@@ -1,7 +1,7 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import { micPairs, type ArrayGeometry, type MicPair } from '../geometry/array-geometry.js';
 import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
-import type { Direction, DirectionModel } from './direction-model.js';
+import { searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
 
 /** The shape of an array decides what it can resolve. */
 export type ArrayShape = 'line' | 'plane' | 'solid';
@@ -126,7 +126,7 @@ export class SrpDirectionModel implements DirectionModel {
     this.pairs = micPairs(geometry);
     const P = this.pairs.length;
     this.baselines = this.pairs.map(([a, b]) => sub(geometry.mics[a]!.position, geometry.mics[b]!.position));
-    this.maxLag = Int32Array.from(this.baselines, (bl) => Math.min(frame / 2 - 2, Math.ceil((norm(bl) / speedOfSound) * sampleRate * (1 + lagMargin)) + 1));
+    this.maxLag = Int32Array.from(this.baselines, (bl) => searchLagLimit(norm(bl), sampleRate, speedOfSound, lagMargin, frame));
     const { shape, axis } = arrayShape(geometry);
     this.shape = shape;
     this.axis = axis;

@@ -83,6 +83,9 @@ export class HopAnalyzer {
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
   private readonly order: Int32Array;
   private readonly result: HopResult;
+  private readonly pairBandScores: Float64Array;
+  /** Compute per-pair diagnostics (costs one pass over the bins per pair per hop). */
+  diagnostics = false;
   private hopIndex = 0;
 
   constructor(
@@ -122,6 +125,7 @@ export class HopAnalyzer {
     this.bandScores = new Float64Array(options.bands * MAX_CANDIDATES);
     this.votes = new Float64Array(MAX_CANDIDATES);
     this.useBand = new Uint8Array(options.bands);
+    this.pairBandScores = new Float64Array(options.bands);
     this.refined = new Float64Array(P);
     this.order = new Int32Array(MAX_CANDIDATES);
     this.result = {
@@ -359,20 +363,40 @@ export class HopAnalyzer {
       if (res.sourceCount === 0) {
         res.confidence = res.levelDbfs < opts.silenceDbfs ? 0 : src.score;
         res.dominantBand = domBand;
-        for (let p = 0; p < P; p++) {
-          res.tdoaS[p] = this.refined[p]! / this.sampleRate;
-          const pc = this.correlators[p]!;
-          let den = 0;
-          for (let b = 0; b < B; b++) den += this.bandWeight[b]!;
-          // The inverse FFT of the half spectrum gives (2 / N) sum_k Re(A_k e^{j w tau}).
-          const num = (pc.at(Math.round(this.refined[p]!)) * pc.n) / 2;
-          res.pairPeak[p] = den > 0 ? Math.max(0, Math.min(1, num / den)) : 0;
-          res.pairAgreement[p] = agreement;
-        }
+        for (let p = 0; p < P; p++) res.tdoaS[p] = this.refined[p]! / this.sampleRate;
+        if (this.diagnostics) this.pairDiagnostics(res, P);
       }
       res.sourceCount++;
     }
     res.valid = res.sourceCount > 0 && res.confidence >= opts.minConfidence;
+  }
+
+  /**
+   * Per pair, for the strongest source: the pair's own normalised correlation peak at its
+   * refined lag (all analysis bins), and the share of the winner's band votes in which this
+   * pair agrees (its own band score reaches the voting threshold).
+   */
+  private pairDiagnostics(res: HopResult, P: number): void {
+    const B = this.bands.count;
+    const own = this.pairBandScores;
+    let totalWeight = 0;
+    for (let b = 0; b < B; b++) totalWeight += this.bandWeight[b]!;
+    for (let p = 0; p < P; p++) {
+      own.fill(0);
+      addBandScores(this.correlators[p]!, this.bands, this.refined[p]!, own, 1, 0);
+      let peak = 0;
+      let agree = 0;
+      let voted = 0;
+      for (let b = 0; b < B; b++) {
+        peak += own[b]!;
+        if (!this.useBand[b]) continue;
+        const w = this.options.voting ? res.bandVoteWeight[b]! : 1;
+        voted += w;
+        if (own[b]! >= MIN_BAND_SCORE * this.bandWeight[b]!) agree += w;
+      }
+      res.pairPeak[p] = totalWeight > 0 ? Math.max(0, Math.min(1, peak / totalWeight)) : 0;
+      res.pairAgreement[p] = voted > 0 ? agree / voted : 0;
+    }
   }
 }
 

@@ -81,6 +81,24 @@ describe('geometry files: bad ones exit 2 naming the field', () => {
     expectUsageFailure(runCli(['scan', wav, '--array', `${tmp.dir}/broken.json`]), /not valid JSON/);
     expectUsageFailure(runCli(['scan', wav, '--array', 'configs/arrays/triangle-10cm.json']), /has 4 channels but the geometry "triangle-10cm" lists 3 mics/);
   });
+  it('--diagnostics: per pair the tdoa of the far-field model, a clear peak and agreeing bands', () => {
+    const r = runCli(['scan', wav, '--array', 'configs/arrays/square-10cm.json', '--frames', '--diagnostics']);
+    expect(r.status).toBe(0);
+    const recs = r.stdout.trim().split('\n').map((l) => JSON.parse(l)).filter((x) => x.azimuth_deg !== null);
+    expect(recs.length).toBeGreaterThan(5);
+    // source straight ahead: tdoa = (p_a - p_b) . u / c with u = (0, 1, 0) (interface.md)
+    const u = unitFromAzEl(0, 0);
+    for (const x of recs) {
+      expect(x.pairs).toHaveLength(6);
+      for (const d of x.pairs) {
+        const [a, b] = d.pair;
+        const expected = ((positions[a]![1] - positions[b]![1]) * u[1]) / 343;
+        expect(Math.abs(d.tdoa_s - expected)).toBeLessThan(5e-6);
+        expect(d.peak).toBeGreaterThan(0.5);
+        expect(d.band_agreement).toBeGreaterThan(0.8);
+      }
+    }
+  });
   it('a heading gives bearing_deg = azimuth + heading (interface.md)', () => {
     const path = `${tmp.dir}/headed.json`;
     writeFileSync(path, JSON.stringify({ ...good, heading_deg: 300 }));
