@@ -1,7 +1,9 @@
-import { existsSync, readFileSync, renameSync, unlinkSync, writeFileSync } from 'node:fs';
+import { existsSync } from 'node:fs';
 import type { Command } from 'commander';
 import { Option } from 'commander';
-import { UsageError, RuntimeFailure } from '../errors.js';
+import { UsageError } from '../errors.js';
+import { checkOutputPaths, writeFilesAside } from '../io/files-aside.js';
+import { readJsonFile, readTextFile } from '../io/read-json-file.js';
 import { resolveSpeedOfSound } from '../geometry/sound-speed.js';
 import type { EventRecord } from '../records.js';
 import { parseEventLog } from '../locate/events.js';
@@ -29,16 +31,6 @@ interface LocateFlags {
   ellipseLevel: number;
   timeDifferences: boolean;
   includeUnfixed: boolean;
-}
-
-function readText(path: string, what: string): string {
-  try {
-    return readFileSync(path, 'utf8');
-  } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    const why = code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'it is a directory' : (code ?? 'unreadable');
-    throw new UsageError(`cannot read ${what} '${path}' (${why}): check the path`);
-  }
 }
 
 /** Split LOG arguments into (station, file): "ID=FILE" names the station; a plain FILE relies on each record's "station". */
@@ -69,26 +61,6 @@ function toOptions(f: LocateFlags): Partial<LocateOptions> {
     useTimeDifferences: f.timeDifferences,
     includeUnfixed: f.includeUnfixed,
   };
-}
-
-/** Write the whole output at once; with --out through a temporary file, so an old file is never left half-written. */
-function writeOutput(text: string, out: string | undefined): void {
-  if (out === undefined) {
-    process.stdout.write(text);
-    return;
-  }
-  const tmp = `${out}.partial-${process.pid}`;
-  try {
-    writeFileSync(tmp, text);
-    renameSync(tmp, out);
-  } catch (err) {
-    try {
-      unlinkSync(tmp);
-    } catch {
-      // nothing to clean up
-    }
-    throw new RuntimeFailure(`cannot write '${out}': ${(err as Error).message}`);
-  }
 }
 
 export function registerLocate(program: Command): void {
@@ -136,20 +108,16 @@ Examples:
     .action(
       action(async (logs: string[], flags: LocateFlags) => {
         const options = resolveLocateOptions(toOptions(flags));
-        const stationText = readText(flags.stations, 'station file');
-        let stationJson: unknown;
-        try {
-          stationJson = JSON.parse(stationText);
-        } catch (err) {
-          throw new UsageError(`${flags.stations}: not valid JSON (${(err as Error).message}); fix the station file`);
-        }
+        const stationJson = readJsonFile(flags.stations, 'station file', '--stations');
         const placed = placeStations(parseStationFile(stationJson, flags.stations), flags.stations);
         const ids = new Set(placed.stations.map((s) => s.id));
         const lists: Record<string, EventRecord[]> = {};
         const origins: Record<string, string[]> = {};
-        for (const arg of logs) {
-          const { station, file } = splitLogArgument(arg, ids);
-          for (const item of parseEventLog(readText(file, 'event log'), file, station, ids)) {
+        const logArgs = logs.map((arg) => splitLogArgument(arg, ids));
+        // Nothing the user gave may be overwritten: check --out before any work.
+        if (flags.out !== undefined) checkOutputPaths([{ option: '--out', path: flags.out }], [flags.stations, ...logArgs.map((l) => l.file)]);
+        for (const { station, file } of logArgs) {
+          for (const item of parseEventLog(readTextFile(file, 'event log', 'the LOG arguments'), file, station, ids)) {
             (lists[item.station] ??= []).push(item.record);
             (origins[item.station] ??= []).push(item.origin);
           }
@@ -162,7 +130,8 @@ Examples:
             : flags.format === 'scene'
               ? JSON.stringify(toPlotScene(result)) + '\n'
               : JSON.stringify(toGeoJson(result, include)) + '\n';
-        writeOutput(text, flags.out);
+        if (flags.out === undefined) process.stdout.write(text);
+        else writeFilesAside([{ option: '--out', path: flags.out, data: text }]);
         const fixed = result.calls.filter((c) => c.fix.ok).length;
         const refused = result.calls.length - fixed;
         const why = new Map<string, number>();

@@ -158,6 +158,13 @@ describe('bearline locate: bad input exits 2 with one line naming the field', ()
     expectUsageError(run(['--stations', stationFile, join(dir, 'absent.jsonl')]), /cannot read event log .*absent\.jsonl/);
   });
 
+  it('--out naming an input log or the station file is refused, and the input is untouched', () => {
+    const before = readFileSync(logs[0]!, 'utf8');
+    expectUsageError(run(['--stations', stationFile, ...assigned, '--out', logs[0]!]), /--out .* would overwrite the input/);
+    expectUsageError(run(['--stations', stationFile, ...assigned, '--out', stationFile]), /--out .* would overwrite the input/);
+    expect(readFileSync(logs[0]!, 'utf8')).toBe(before);
+  });
+
   it('bad option values name the flag', () => {
     expectUsageError(run(['--stations', stationFile, '--ellipse-level', '1.5', ...assigned]), /--ellipse-level 1\.5 is out of range/);
     expectUsageError(run(['--stations', stationFile, '--speed-of-sound', '340', '--temperature', '20', ...assigned]), /not both/);
