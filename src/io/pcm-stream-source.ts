@@ -2,7 +2,7 @@ import type { Readable } from 'node:stream';
 import { RuntimeFailure } from '../errors.js';
 import type { AudioBlock, AudioSource, WarningSink } from './audio-source.js';
 import { FrameAssembler } from './frame-assembler.js';
-import { CHANNELS_SPEC, checkBlockFrames, RATE_SPEC, resolveChannels, resolveSampleRate, type OptionSpec } from './stream-options.js';
+import { checkBlockFrames, resolveChannels, resolveSampleRate } from './stream-options.js';
 import { stderrWarning } from './stderr-warning.js';
 
 export interface PcmStreamOptions {
@@ -16,8 +16,6 @@ export interface PcmStreamOptions {
   name?: string;
 }
 
-/** The stream source's user options, for the CLI (`--stdin --rate R --channels N`). */
-export const PCM_STREAM_OPTION_SPECS: readonly OptionSpec[] = [RATE_SPEC, CHANNELS_SPEC];
 
 /**
  * Raw interleaved signed 16-bit little-endian PCM from a Readable (e.g. process.stdin).

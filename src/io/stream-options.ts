@@ -1,20 +1,12 @@
 import { UsageError } from '../errors.js';
+import type { OptionSpec } from '../option-spec.js';
+
+export type { OptionSpec };
 
 /**
  * The one home of the options shared by the raw-stream (stdin) and live-recorder sources:
  * sample rate and channel count, with their flags, help, defaults and validation.
  */
-
-/** A user-settable option as the CLI shows it; the CLI turns these into commander options. */
-export interface OptionSpec<K extends string = string> {
-  /** Property of the options object this flag sets. */
-  readonly key: K;
-  /** commander flag syntax, e.g. '--rate <hz>'. */
-  readonly flag: string;
-  readonly help: string;
-  /** Shown in --help; null when there is no default (the option is required or optional). */
-  readonly defaultValue: string | number | null;
-}
 
 /** A raw option value: a string from the command line or a number from a JSON profile. */
 export type RawValue = string | number | undefined;
@@ -45,7 +37,7 @@ export function flagName(spec: OptionSpec): string {
 }
 
 /** A raw value as a number; NaN when it is not one (an empty string is not zero). */
-export function toNumber(value: string | number | null): number {
+export function toNumber(value: string | number | boolean | null): number {
   return typeof value === 'number' ? value : typeof value === 'string' && value.trim() !== '' ? Number(value) : NaN;
 }
 
