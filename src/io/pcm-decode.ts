@@ -21,6 +21,17 @@ const S16 = 1 / 32768;
 const S24 = 1 / 8388608;
 const S32 = 1 / 2147483648;
 
+/** One DataView per byte buffer: the sources reuse their buffers, so nothing is allocated per block. */
+const views = new WeakMap<Uint8Array, DataView>();
+function viewOf(bytes: Uint8Array): DataView {
+  let v = views.get(bytes);
+  if (!v) {
+    v = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+    views.set(bytes, v);
+  }
+  return v;
+}
+
 /**
  * Decode `frames` interleaved frames starting at `bytes[0]` into `out[c][outOffset ..]`.
  * `bytes` must hold at least frames * channels * BYTES_PER_SAMPLE[encoding] bytes;
@@ -34,7 +45,7 @@ export function deinterleave(
   outOffset = 0,
 ): void {
   const channels = out.length;
-  const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
+  const view = viewOf(bytes);
   const step = BYTES_PER_SAMPLE[encoding];
   const stride = step * channels;
   for (let c = 0; c < channels; c++) {

@@ -267,6 +267,7 @@ export class RecordLog {
   private frameCols: readonly CsvColumn<FrameRecord>[] | null;
   private readonly eventCols = eventColumns();
   private lineBuf = Buffer.alloc(16 * 1024);
+  private readonly headers: Partial<Record<RecordKind, string>> = {};
   private timer: NodeJS.Timeout | null = null;
   private closed = false;
   /** What the start-up check cut off. */
@@ -322,18 +323,23 @@ export class RecordLog {
     if (!this.options.logFrames) return;
     if (this.options.logFormat === 'jsonl') return this.write('frames', JSON.stringify(record), '');
     this.frameCols ??= frameColumns(pairsForCount(record.tdoa_s.length), record.bearing_deg !== undefined);
-    this.write('frames', csvRow(this.frameCols, record), csvHeader(this.frameCols));
+    this.write('frames', csvRow(this.frameCols, record), this.headerOf('frames', this.frameCols));
   }
 
   writeEvent(record: EventRecord): void {
     if (this.options.logFormat === 'jsonl') return this.write('events', JSON.stringify(record), '');
-    this.write('events', csvRow(this.eventCols, record), csvHeader(this.eventCols));
+    this.write('events', csvRow(this.eventCols, record), this.headerOf('events', this.eventCols));
   }
 
   /** A capture gap (a stretch of lost audio), in its own log files next to the events. */
   writeGap(record: GapRecord): void {
     if (this.options.logFormat === 'jsonl') return this.write('gaps', JSON.stringify(record), '');
-    this.write('gaps', csvRow(GAP_COLUMNS, record), csvHeader(GAP_COLUMNS));
+    this.write('gaps', csvRow(GAP_COLUMNS, record), this.headerOf('gaps', GAP_COLUMNS));
+  }
+
+  /** A kind's CSV header line, built once (its columns do not change during a run). */
+  private headerOf<T>(kind: RecordKind, columns: readonly CsvColumn<T>[]): string {
+    return (this.headers[kind] ??= csvHeader(columns));
   }
 
   /** The line (text + newline) in the log's one reusable buffer, grown only for a longer line. */
