@@ -4,6 +4,7 @@
  * (the one most of its events belong to), and how far the track's events lie from it.
  * Pure: records in, rows out.
  */
+import { circularStdDeg } from '../track/circular.js';
 import { wrapDeg } from '../geometry/vec3.js';
 import type { EventRecord } from '../records.js';
 import { circularMeanDeg } from '../track/circular.js';
@@ -71,16 +72,9 @@ export function eventSource(truth: TruthIndex, e: EventRecord, step: number): { 
   return best;
 }
 
+/** Circular standard deviation (Mardia and Jupp), capped at 180 degrees for a uniform spread. */
 function circularSpread(anglesDeg: readonly number[]): number {
-  if (anglesDeg.length < 2) return 0;
-  let c = 0;
-  let s = 0;
-  for (const a of anglesDeg) {
-    c += Math.cos((a * Math.PI) / 180);
-    s += Math.sin((a * Math.PI) / 180);
-  }
-  const r = Math.min(1, Math.hypot(c, s) / anglesDeg.length);
-  return r > 0 ? (Math.sqrt(-2 * Math.log(r)) * 180) / Math.PI : 180;
+  return anglesDeg.length < 2 ? 0 : Math.min(180, circularStdDeg(anglesDeg));
 }
 
 export function compareTracks(events: readonly EventRecord[], truth: TruthIndex, step: number): TrackComparison {

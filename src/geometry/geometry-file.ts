@@ -1,7 +1,7 @@
 import { readJsonFile } from '../io/read-json-file.js';
 import { UsageError } from '../errors.js';
 import type { ArrayGeometry, Mic } from './array-geometry.js';
-import { norm, sub, type Vec3 } from './vec3.js';
+import { norm, sub, wrap360, type Vec3 } from './vec3.js';
 
 /** The geometry file of interface.md, as JSON. */
 export interface GeometryJson {
@@ -41,7 +41,7 @@ export function parseGeometry(json: unknown, where: string): ArrayGeometry {
     if (typeof h !== 'number' || !Number.isFinite(h) || h < -360 || h > 360) {
       bad('"heading_deg"', 'must be a number of degrees clockwise from north, between -360 and 360');
     }
-    headingDeg = ((h as number) % 360 + 360) % 360;
+    headingDeg = wrap360(h as number);
   }
   if (obj.description !== undefined && typeof obj.description !== 'string') bad('"description"', 'must be a string');
   const micsRaw = obj.mics;

@@ -37,3 +37,9 @@ export function wrapDeg(a: number): number {
   if (x === -180) x = 180;
   return x;
 }
+
+/** Wrap an angle in degrees to [0, 360) (compass bearings and headings). */
+export function wrap360(a: number): number {
+  const x = ((a % 360) + 360) % 360;
+  return x === 360 ? 0 : x;
+}

@@ -2,6 +2,7 @@
  * Event logs for position fixing: JSON Lines of EventRecord (interface.md) checked line by
  * line, then put on one time base with each station's clock offset. Pure: text in, records out.
  */
+import { wrap360 } from '../geometry/vec3.js';
 import { UsageError } from '../errors.js';
 import type { EventRecord } from '../records.js';
 import type { PlacedStation } from './stations.js';
@@ -133,7 +134,7 @@ export function toStationEvents(
       }
       bearingDeg = r.azimuth_deg + station.headingDeg;
     }
-    bearingDeg = ((bearingDeg % 360) + 360) % 360;
+    bearingDeg = wrap360(bearingDeg);
     return {
       station: station.id,
       timeS: timeS - station.clockOffsetS,

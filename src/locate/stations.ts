@@ -15,6 +15,7 @@
  * value in, validated stations placed on one tangent plane out; errors are UsageErrors that
  * name the field.
  */
+import { wrap360 } from '../geometry/vec3.js';
 import type { Vec3 } from '../geometry/vec3.js';
 import { UsageError } from '../errors.js';
 import { type Geodetic, type LocalFrame, geodeticToEnu, localFrame, enuToGeodetic } from './geodesy.js';
@@ -151,7 +152,7 @@ function parseStation(source: string, path: string, v: Json): StationSpec {
     id,
     geodetic,
     localM,
-    headingDeg: heading === null ? null : ((heading % 360) + 360) % 360,
+    headingDeg: heading === null ? null : wrap360(heading),
     clockOffsetS: optNum(source, `${where}.clock_offset_s`, v.clock_offset_s, -86400, 86400, 'seconds') ?? 0,
     clockUncertaintyS: optNum(source, `${where}.clock_uncertainty_s`, v.clock_uncertainty_s, 0, 3600, 'seconds'),
     bearingSdDeg: optNum(source, `${where}.bearing_sd_deg`, v.bearing_sd_deg, 0.01, 90, 'degrees'),

@@ -1,3 +1,4 @@
+import { wrap360 } from '../geometry/vec3.js';
 import type { FrameRecord, SourceEstimate } from '../records.js';
 import type { MicPair } from '../geometry/array-geometry.js';
 
@@ -21,8 +22,7 @@ export const round = (x: number, digits: number): number => {
 
 /** Compass bearing 0..360 of an azimuth for an array heading (interface.md). */
 export function bearingOf(azimuthDeg: number, headingDeg: number): number {
-  const b = (azimuthDeg + headingDeg) % 360;
-  return round(b < 0 ? b + 360 : b, 2);
+  return round(wrap360(azimuthDeg + headingDeg), 2);
 }
 
 const sig = (x: number): number | null => (Number.isFinite(x) ? Number(x.toPrecision(7)) : null);

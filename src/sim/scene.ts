@@ -16,7 +16,7 @@ import { UsageError } from '../errors.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import { isGeometryPath, loadArrayRef } from '../geometry/array-presets.js';
 import { DEFAULT_SPEED_OF_SOUND, speedOfSoundAt } from '../geometry/sound-speed.js';
-import type { Vec3 } from '../geometry/vec3.js';
+import { wrap360, type Vec3 } from '../geometry/vec3.js';
 import { readWavFile } from '../io/wav-reader.js';
 
 export interface PathPoint {
@@ -424,11 +424,6 @@ export function eyringRt60(size: Vec3, a: WallAbsorption): number {
   return (0.161 * volume) / (-surface * Math.log(1 - mean));
 }
 
-/** Sabine RT60 = 0.161 V / A, A = sum of S_i alpha_i. */
-export function sabineRt60(size: Vec3, a: WallAbsorption): number {
-  const { volume, areaAbsorption } = roomAreas(size, a);
-  return areaAbsorption <= 0 ? Infinity : (0.161 * volume) / areaAbsorption;
-}
 
 function roomAreas(size: Vec3, a: WallAbsorption): { volume: number; surface: number; areaAbsorption: number } {
   const [lx, ly, lz] = size;
@@ -468,7 +463,7 @@ export function parseScene(json: unknown, where: string, resolver: SceneResolver
   const geometry = resolver.loadArray(ar.str('geometry'), ar.name('geometry'));
   const position = ar.vec3('position_m');
   const sceneHeading = ar.optNum('heading_deg', { min: -360, max: 360, unit: 'degrees' });
-  const headingDeg = sceneHeading !== null ? ((sceneHeading % 360) + 360) % 360 : geometry.headingDeg;
+  const headingDeg = sceneHeading !== null ? wrap360(sceneHeading) : geometry.headingDeg;
   const array: ArrayPlacement = { geometry, position, headingDeg, headingFromScene: sceneHeading !== null };
 
   const list = r.list('sources');
