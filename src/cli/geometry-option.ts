@@ -1,14 +1,9 @@
-import { existsSync } from 'node:fs';
-import { fileURLToPath } from 'node:url';
 import { UsageError } from '../errors.js';
+export { configsDir } from '../configs.js';
 import { pairGeometry, type ArrayGeometry } from '../geometry/array-geometry.js';
-import { loadGeometryFile } from '../geometry/geometry-file.js';
+import { loadArrayRef } from '../geometry/array-presets.js';
 import { resolveSpeedOfSound } from '../geometry/sound-speed.js';
 
-/** The folder of shipped configs (geometry presets, scenes, profiles). */
-export function configsDir(): string {
-  return fileURLToPath(new URL('../../configs/', import.meta.url));
-}
 
 export interface ArrayOptionValues {
   spacing?: number;
@@ -26,11 +21,7 @@ export function resolveArray(opts: ArrayOptionValues): ArrayGeometry {
     throw new UsageError('give either --spacing (a two-mic pair) or --array (a geometry file), not both');
   }
   if (opts.spacing !== undefined) return pairGeometry(opts.spacing);
-  if (opts.array !== undefined) {
-    const preset = `${configsDir()}arrays/${opts.array}.json`;
-    if (!existsSync(opts.array) && /^[\w.-]+$/.test(opts.array) && existsSync(preset)) return loadGeometryFile(preset);
-    return loadGeometryFile(opts.array);
-  }
+  if (opts.array !== undefined) return loadArrayRef(opts.array, process.cwd(), '--array');
   throw new UsageError('say what the array is: --spacing D for a two-mic pair (metres), or --array FILE.json (see configs/arrays/)');
 }
 

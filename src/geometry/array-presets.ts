@@ -1,13 +1,13 @@
+import { configsDir } from '../configs.js';
 import { existsSync, readdirSync } from 'node:fs';
-import { dirname, isAbsolute, join, resolve } from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { isAbsolute, join } from 'node:path';
 import { UsageError } from '../errors.js';
 import type { ArrayGeometry } from './array-geometry.js';
 import { loadGeometryFile } from './geometry-file.js';
 
 /** configs/arrays of the installed package (src/geometry or dist/geometry -> ../../configs/arrays). */
 export function arrayPresetDir(): string {
-  return resolve(dirname(fileURLToPath(import.meta.url)), '..', '..', 'configs', 'arrays');
+  return join(configsDir(), 'arrays');
 }
 
 export function arrayPresetNames(): string[] {

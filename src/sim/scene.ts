@@ -9,9 +9,9 @@
  * WAV signals are fetched through a resolver, so the parser itself does no I/O.
  * loadSceneFile() is the I/O edge.
  */
+import { configsDir } from '../configs.js';
 import { readJsonFile } from '../io/read-json-file.js';
 import { dirname, isAbsolute, join } from 'node:path';
-import { fileURLToPath } from 'node:url';
 import { UsageError } from '../errors.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import { isGeometryPath, loadArrayRef } from '../geometry/array-presets.js';
@@ -559,5 +559,5 @@ export function loadSceneFile(path: string): LoadedScene {
 
 /** The built-in demo scene shipped in configs/scenes (src/sim or dist/sim -> ../../configs/scenes). */
 export function demoScenePath(): string {
-  return join(dirname(fileURLToPath(import.meta.url)), '..', '..', 'configs', 'scenes', 'wetland-dusk.json');
+  return join(configsDir(), 'scenes', 'wetland-dusk.json');
 }
