@@ -1,7 +1,6 @@
 import type { Command } from 'commander';
-import { UsageError } from '../errors.js';
 import { analysisOptionSpecs, type AnalysisOptions } from '../pipeline/analysis-options.js';
-import { loadProfile, profileSection } from '../pipeline/profile.js';
+import { loadProfile, profileSection, type RunProfile } from '../pipeline/profile.js';
 import type { TrackerOptions } from '../track/options.js';
 import { configsDir } from './geometry-option.js';
 import { addArrayOptions, addSpecs, pickSpecs, trackerCliSpecs } from './options.js';
@@ -15,23 +14,23 @@ export function addAnalysisOptions(cmd: Command): Command {
   return cmd;
 }
 
-/** Analysis and tracker settings: the profile's, overridden by the flags given. */
-export function resolveStageSettings(raw: Record<string, unknown>, profileName: string | undefined): { analysis: AnalysisOptions; tracker: Partial<TrackerOptions> } {
-  const loaded = profileName ? loadProfile(profileName, `${configsDir()}profiles/`) : null;
-  const profile = loaded?.profile ?? null;
-  const where = loaded?.where ?? '';
-  const analysis = {
-    ...profileSection(profile, 'analysis', analysisOptionSpecs.map((s) => s.key), where),
+/**
+ * Analysis and tracker settings: the profile's (read through the same specs as the flags),
+ * overridden by the flags given. The loaded profile is returned for the other stages' sections.
+ */
+export function resolveStageSettings(
+  raw: Record<string, unknown>,
+  profileName: string | undefined,
+): { analysis: AnalysisOptions; tracker: Partial<TrackerOptions>; profile: RunProfile | null } {
+  const profile = profileName ? loadProfile(profileName, `${configsDir()}profiles/`).profile : null;
+  const analysis: AnalysisOptions = {
+    ...profileSection<AnalysisOptions>(analysisOptionSpecs, profile?.analysis, 'analysis'),
     ...pickSpecs<AnalysisOptions>(raw, analysisOptionSpecs),
-  } as AnalysisOptions;
+  };
   const trackerSpecs = trackerCliSpecs();
-  const tracker = {
-    ...profileSection(profile, 'tracker', trackerSpecs.map((s) => s.key), where),
+  const tracker: Partial<TrackerOptions> = {
+    ...profileSection<TrackerOptions>(trackerSpecs, profile?.tracker, 'tracker'),
     ...pickSpecs<Partial<TrackerOptions>>(raw, trackerSpecs),
-  } as Partial<TrackerOptions>;
-  for (const [k, v] of Object.entries(analysis)) {
-    if (k !== 'voting' && typeof v !== 'number') throw new UsageError(`${where}: "analysis.${k}" must be a number`);
-  }
-  return { analysis, tracker };
+  };
+  return { analysis, tracker, profile };
 }
-

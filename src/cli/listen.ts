@@ -17,17 +17,16 @@ import { createAnalysis, runAnalysis, warmUp, type AnalysisSetup } from '../pipe
 import { frameColumns } from '../pipeline/frame-columns.js';
 import { captureGapOf, gapRecord, type GapRecord } from '../pipeline/gap-record.js';
 import type { HopResult } from '../pipeline/hop-analyzer.js';
-import { loadProfile } from '../pipeline/profile.js';
 import { StreamClock } from '../pipeline/stream-clock.js';
 import { TrackingSession } from '../pipeline/tracking-session.js';
 import type { EventRecord, FrameRecord } from '../records.js';
 import { startHealthServer } from '../station/health-server.js';
-import { profileSection } from '../station/profile-section.js';
+import { profileSection } from '../pipeline/profile.js';
 import { resolveStationOptions, stationOptionSpecs, type StationOptions } from '../station/runtime-options.js';
 import { installShutdown, type StationSink } from '../station/shutdown.js';
 import { StatusMonitor } from '../station/status.js';
 import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
-import { configsDir, resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
+import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
 import { addSpecs, pickSpecs } from './options.js';
 import { action, failAndExit } from './run-command.js';
 import { givenFlags, refuseStray, resolveServe } from './serve-flags.js';
@@ -92,13 +91,6 @@ export function registerListen(program: Command): void {
   cmd.action(action(async (flags: ListenFlags) => listen(flags, cmd.opts())));
 }
 
-/** The sections of a run profile that belong to the station modules, read through their specs. */
-function stationSections(profileName: string | undefined): { station: unknown; log: unknown; mqtt: unknown } {
-  if (!profileName) return { station: undefined, log: undefined, mqtt: undefined };
-  const { profile } = loadProfile(profileName, `${configsDir()}profiles/`);
-  return { station: profile['station'], log: profile['log'], mqtt: profile['mqtt'] };
-}
-
 interface InputPlan {
   kind: 'stdin' | 'recorder';
   sampleRate: number;
@@ -124,7 +116,7 @@ async function listen(flags: ListenFlags, raw: Raw): Promise<void> {
   const geometry = resolveArray(flags);
   const c = resolveSpeed(flags);
   const stages = resolveStageSettings(raw, flags.profile);
-  const sections = stationSections(flags.profile);
+  const sections = { station: stages.profile?.station, log: stages.profile?.log, mqtt: stages.profile?.mqtt };
   const station: StationOptions = resolveStationOptions({
     ...profileSection<StationOptions>(stationOptionSpecs, sections.station, 'station'),
     ...pickSpecs<Partial<StationOptions>>(raw, stationOptionSpecs),

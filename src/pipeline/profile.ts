@@ -1,6 +1,7 @@
 import { existsSync } from 'node:fs';
 import { readJsonFile } from '../io/read-json-file.js';
 import { UsageError } from '../errors.js';
+import type { OptionSpec } from '../option-spec.js';
 
 /**
  * A run profile (configs/profiles/*.json): settings per stage under the stage's key
@@ -25,14 +26,32 @@ export function loadProfile(nameOrPath: string, profilesDir: string): { profile:
   return { profile: json as RunProfile, where: `profile ${path}` };
 }
 
-/** The settings of one stage from a profile, checked to be an object of known keys. */
-export function profileSection(profile: RunProfile | null, stage: string, knownKeys: readonly string[], where: string): Record<string, unknown> {
-  if (!profile) return {};
-  const section = profile[stage];
+/**
+ * Read one section of a run profile (JSON, e.g. configs/profiles/station-low-cpu.json) through
+ * the same option specs the command line uses, so a profile and the flags cannot disagree on
+ * names or parsing. Keys are the specs' keys; text values go through the spec's parser, numbers
+ * and null are taken as they are (the module's resolve function validates them), and flags
+ * without a value take true or false. Unknown keys and wrong types are errors naming the field.
+ */
+export function profileSection<T>(specs: readonly OptionSpec[], section: unknown, where: string): Partial<T> {
   if (section === undefined) return {};
-  if (typeof section !== 'object' || section === null || Array.isArray(section)) throw new UsageError(`${where}: "${stage}" must be an object of settings`);
-  for (const key of Object.keys(section)) {
-    if (!knownKeys.includes(key)) throw new UsageError(`${where}: "${stage}.${key}" is not a setting (known: ${knownKeys.join(', ')})`);
+  if (typeof section !== 'object' || section === null || Array.isArray(section)) {
+    throw new UsageError(`${where} in the profile must be a JSON object of options`);
   }
-  return section as Record<string, unknown>;
+  const out: Record<string, unknown> = {};
+  for (const [key, value] of Object.entries(section)) {
+    const spec = specs.find((s) => s.key === key);
+    if (!spec) throw new UsageError(`${where}.${key} in the profile is not a known option; known: ${specs.map((s) => s.key).join(', ')}`);
+    if (!spec.parse) {
+      if (typeof value !== 'boolean') throw new UsageError(`${where}.${key} in the profile must be true or false`);
+      out[key] = value;
+    } else if (typeof value === 'string') {
+      out[key] = spec.parse(value);
+    } else if (typeof value === 'number' || value === null) {
+      out[key] = value;
+    } else {
+      throw new UsageError(`${where}.${key} in the profile must be a number or text like "64M"`);
+    }
+  }
+  return out as Partial<T>;
 }

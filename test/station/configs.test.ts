@@ -6,7 +6,7 @@ import { describe, expect, it } from 'vitest';
 import { mqttOptionSpecs, resolveMqttOptions, type MqttOptions } from '../../src/io/mqtt-sink.js';
 import { recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../../src/io/record-log.js';
 import { analysisOptionSpecs, resolveAnalysisOptions, type AnalysisOptions } from '../../src/pipeline/analysis-options.js';
-import { profileSection } from '../../src/station/profile-section.js';
+import { profileSection } from '../../src/pipeline/profile.js';
 import { defaultTrackerOptions, resolveTrackerOptions, trackerSettingsFromProfile } from '../../src/track/options.js';
 import { resolveStationOptions, stationOptionSpecs, type StationOptions } from '../../src/station/runtime-options.js';
 
