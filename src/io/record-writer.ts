@@ -31,6 +31,7 @@ export class RecordWriter<T extends object> {
   private readonly partialPath: string | null;
   private failed: Error | null = null;
   private headerDone = false;
+  private draining: Promise<void> | null = null;
 
   private constructor(
     readonly path: string | null,
@@ -73,8 +74,15 @@ export class RecordWriter<T extends object> {
       }
       line = this.columns.map((c) => csvCell(c.get(rec))).join(',') + '\n';
     }
-    if (this.stream.write(line)) return undefined;
-    return new Promise((res) => this.stream.once('drain', () => res()));
+    if (this.stream.write(line)) return this.draining ?? undefined;
+    // One wait per full buffer, however many records are written before it drains.
+    this.draining ??= new Promise<void>((res) =>
+      this.stream.once('drain', () => {
+        this.draining = null;
+        res();
+      }),
+    );
+    return this.draining;
   }
 
   private failure(): RuntimeFailure {
