@@ -1,4 +1,5 @@
-import { existsSync, realpathSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
+import { checkOutputPaths, writeFilesAside } from '../io/files-aside.js';
+import { existsSync, statSync } from 'node:fs';
 import { basename, dirname, resolve } from 'node:path';
 import type { Command } from 'commander';
 import { UsageError } from '../errors.js';
@@ -37,11 +38,6 @@ function geometryText(g: GeometryJson): string {
   return `${head},\n  "mics": [\n${mics.map((m) => `    ${JSON.stringify(m)}`).join(',\n')}\n  ]\n}\n`;
 }
 
-function sameFile(a: string, b: string): boolean {
-  const real = (p: string): string => (existsSync(p) ? realpathSync(p) : resolve(p));
-  return real(a) === real(b);
-}
-
 export function runSimulate(opts: SimulateOptions): void {
   const paths = outputPaths(opts.out);
   const dir = dirname(resolve(paths.wav));
@@ -50,11 +46,14 @@ export function runSimulate(opts: SimulateOptions): void {
   }
   const scenePath = opts.scene ?? demoScenePath();
   const { scene, inputFiles } = loadSceneFile(scenePath);
-  for (const out of Object.values(paths)) {
-    for (const input of inputFiles) {
-      if (sameFile(out, input)) throw new UsageError(`writing ${out} would overwrite the input ${input}: choose another --out`);
-    }
-  }
+  checkOutputPaths(
+    [
+      { option: '--out', path: paths.wav },
+      { option: '--out (truth)', path: paths.truth },
+      { option: '--out (array)', path: paths.array },
+    ],
+    inputFiles,
+  );
   const total = sceneSamples(scene);
   const bar = scene.durationS >= PROGRESS_MIN_DURATION_S ? createProgress(`simulating ${basename(scenePath)}`, total, scene.sampleRate) : null;
   const rendered = renderScene(scene, (d) => bar?.update(d * total));
@@ -65,23 +64,11 @@ export function runSimulate(opts: SimulateOptions): void {
   let clipped = 0;
   if (!opts.float) for (const ch of rendered.channels) for (const v of ch) if (v > 1 || v < -1) clipped++;
 
-  // Write beside the targets, then rename: a failure leaves earlier files whole.
-  const tmp = (p: string): string => `${p}.part-${process.pid}`;
-  const written: string[] = [];
-  try {
-    writeWavFile(tmp(paths.wav), scene.sampleRate, rendered.channels, opts.float ? 'f32' : 's16');
-    written.push(tmp(paths.wav));
-    writeFileSync(tmp(paths.truth), truth.map((r) => JSON.stringify(r)).join('\n') + (truth.length ? '\n' : ''));
-    written.push(tmp(paths.truth));
-    writeFileSync(tmp(paths.array), geometryText(geometryToJson(geometry)));
-    written.push(tmp(paths.array));
-  } catch (err) {
-    for (const f of written) rmSync(f, { force: true });
-    throw err;
-  }
-  renameSync(tmp(paths.wav), paths.wav);
-  renameSync(tmp(paths.truth), paths.truth);
-  renameSync(tmp(paths.array), paths.array);
+  writeFilesAside([
+    { option: '--out', path: paths.wav, data: (p) => writeWavFile(p, scene.sampleRate, rendered.channels, opts.float ? 'f32' : 's16') },
+    { option: '--out (truth)', path: paths.truth, data: truth.map((r) => JSON.stringify(r)).join('\n') + (truth.length ? '\n' : '') },
+    { option: '--out (array)', path: paths.array, data: geometryText(geometryToJson(geometry)) },
+  ]);
   if (clipped > 0) {
     process.stderr.write(`bearline: warning: ${clipped} samples clipped at full scale: lower the source levels or use --float\n`);
   }

@@ -1,5 +1,4 @@
-import { existsSync, renameSync, rmSync } from 'node:fs';
-import { dirname, resolve } from 'node:path';
+import { checkOutputPaths, writeFilesAside } from '../io/files-aside.js';
 import type { Command } from 'commander';
 import { UsageError } from '../errors.js';
 import { renderStimulus, resolveStimulusOptions, stimulusOptionSpecs, type StimulusOptions } from '../stimulus/bench-signals.js';
@@ -17,16 +16,9 @@ export const SAFE_LEVEL_CAUTION =
 
 function writeStimulus(out: string, o: StimulusOptions): void {
   if (!/\.wav$/i.test(out)) throw new UsageError(`--out ${out} must name a .wav file`);
-  if (!existsSync(dirname(resolve(out)))) throw new UsageError(`--out ${out}: the folder ${dirname(out)} does not exist; create it or give another path`);
+  checkOutputPaths([{ option: '--out', path: out }], []);
   const channels = renderStimulus(o);
-  const tmp = `${out}.part-${process.pid}`;
-  try {
-    writeWavFile(tmp, o.sampleRate, channels, 's24');
-  } catch (err) {
-    rmSync(tmp, { force: true });
-    throw err;
-  }
-  renameSync(tmp, out);
+  writeFilesAside([{ option: '--out', path: out, data: (p) => writeWavFile(p, o.sampleRate, channels, 's24') }]);
   const total = channels[0]!.length / o.sampleRate;
   process.stderr.write(`bearline: wrote ${out}: ${o.kind}, ${o.repetitions} x ${o.durationS} s, ${total.toFixed(2)} s in all, peak ${o.levelDbfs} dBFS, ${o.sampleRate} Hz, ${o.channels} channel${o.channels === 1 ? '' : 's'}\n`);
 }

@@ -6,7 +6,8 @@ export interface OutputFile {
   /** The option that named it, for messages (e.g. "--json"). */
   option: string;
   path: string;
-  data: string | Uint8Array;
+  /** The contents, or a function that writes them to the path it is given (e.g. a streamed WAV). */
+  data: string | Uint8Array | ((tmpPath: string) => void);
 }
 
 function real(p: string): string {
@@ -39,7 +40,8 @@ export function writeFilesAside(files: readonly OutputFile[]): void {
   try {
     for (const f of files) {
       written.push(tmp(f.path));
-      writeFileSync(tmp(f.path), f.data);
+      if (typeof f.data === 'function') f.data(tmp(f.path));
+      else writeFileSync(tmp(f.path), f.data);
     }
   } catch (err) {
     for (const w of written) rmSync(w, { force: true });
