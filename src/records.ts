@@ -43,6 +43,8 @@ export interface FrameRecord {
   /** One entry per mic pair, ordered (0,1), (0,2), ... (1,2), ...; null where a pair has no estimate. */
   tdoa_s: (number | null)[];
   level_dbfs: number;
+  /** SNR of the hop over the tracked noise floor, dB (its best band; 0 at the floor). */
+  snr_db?: number;
   /** Level of each channel, dBFS, in channel order (for level meters). */
   levels_dbfs?: number[];
   /** The band votes of this hop (for the viewer's band chart). */

@@ -1,3 +1,5 @@
+import type { BandLayout } from './bands.js';
+
 /**
  * Per-bin weights for the cross-spectrum memory, from each bin's power over time:
  *
@@ -18,7 +20,7 @@ export interface OnsetSettings {
   readonly fullRise: number;
   /** Smoothing factor per hop of the background power average, in [0, 1). */
   readonly backgroundDecay: number;
-  /** Growth factor per hop of the noise floor when the power stays above it (>= 1); 0 disables presence. */
+  /** Growth factor per hop of the noise floor when the power stays above it (> 1). */
   readonly floorRise: number;
   /** Power over the noise floor that counts as fully present (ratio). */
   readonly fullPresence: number;
@@ -56,13 +58,12 @@ export class OnsetWeigher {
     const nf = this.noise;
     const sm = this.smooth;
     const { floor, backgroundDecay: d, floorRise } = this.settings;
-    const presenceOn = floorRise >= 1;
     if (!this.primed) {
       for (let k = first; k < end; k++) {
         bg[k] = power[k]!;
         nf[k] = power[k]!;
         sm[k] = power[k]!;
-        weights[k] = presenceOn ? 0 : 1;
+        weights[k] = 0;
       }
       this.primed = true;
       return 0;
@@ -78,21 +79,38 @@ export class OnsetWeigher {
       // Linear in the power ratio between no rise (1) and full rise (fullRise).
       let rise = ratio > 1 ? (ratio - 1) * this.invRise : 0;
       if (rise > 1) rise = 1;
-      let w = floor + (1 - floor) * rise;
-      if (presenceOn) {
-        const s = (sm[k] = SMOOTH * sm[k]! + (1 - SMOOTH) * p);
-        const n = nf[k]!;
-        const snr = s / (NOISE_BIAS * n + tiny);
-        let presence = snr > 1 ? (snr - 1) * this.invPresence : 0;
-        if (presence > 1) presence = 1;
-        w *= presence;
-        nf[k] = s < n ? s : n * floorRise;
-      }
-      weights[k] = w;
+      const s = (sm[k] = SMOOTH * sm[k]! + (1 - SMOOTH) * p);
+      const n = nf[k]!;
+      const snr = s / (NOISE_BIAS * n + tiny);
+      let presence = snr > 1 ? (snr - 1) * this.invPresence : 0;
+      if (presence > 1) presence = 1;
+      nf[k] = s < n ? s : n * floorRise;
+      weights[k] = (floor + (1 - floor) * rise) * presence;
       rising += rise * p;
       total += p;
       bg[k] = d * bg[k]! + (1 - d) * p;
     }
     return total > 0 ? rising / total : 0;
+  }
+
+  /**
+   * Signal-to-noise ratio of each band against its tracked noise floor, in dB (0 when the band
+   * holds nothing above its floor): 10 log10(sum of smoothed power / sum of noise mean) over the
+   * band's bins, where the noise mean is the tracked minimum times its bias factor. Call after
+   * update() for the same hop.
+   */
+  bandSnrDb(bands: BandLayout, out: Float64Array): void {
+    const sm = this.smooth;
+    const nf = this.noise;
+    for (let b = 0; b < bands.count; b++) {
+      let s = 0;
+      let n = 0;
+      for (let k = bands.start[b]!; k < bands.end[b]!; k++) {
+        s += sm[k]!;
+        n += nf[k]!;
+      }
+      const ratio = s / (NOISE_BIAS * n + 1e-30);
+      out[b] = ratio > 1 ? 10 * Math.log10(ratio) : 0;
+    }
   }
 }

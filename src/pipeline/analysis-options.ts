@@ -8,7 +8,7 @@ export interface AnalysisOptions {
   frame?: number;
   /** Hop in samples; default frame / 2. */
   hop?: number;
-  /** Number of frequency bands that vote. */
+  /** Number of frequency bands fused. */
   bands?: number;
   minFreqHz?: number;
   maxFreqHz?: number;
@@ -20,13 +20,15 @@ export interface AnalysisOptions {
   backgroundS?: number;
   /** How fast (dB/s) each bin's noise floor may rise; bins near their floor count little. 0 = off. */
   floorRiseDbS?: number;
-  /** Hops quieter than this (dBFS) give no direction. */
+  /** Hops quieter than this (dBFS) give no direction (digital silence; detection is by SNR). */
   silenceDbfs?: number;
+  /** Hops whose best band stands less than this (dB) above its noise floor give no direction. */
+  detectSnrDb?: number;
   /** Directions with a lower confidence are reported as null. */
   minConfidence?: number;
   /** Most simultaneous sources reported per hop. */
   maxSources?: number;
-  /** Band voting on (default) or off (plain weighted GCC-PHAT peak). */
+  /** Evidence-weighted band fusion on (default) or off (plain weighted GCC-PHAT peak). */
   voting?: boolean;
   /** Extra lag allowed beyond the physical limit D/c, as a fraction. */
   lagMargin?: number;
@@ -42,7 +44,8 @@ export const ANALYSIS_DEFAULTS = {
   memoryS: 0.15,
   backgroundS: 0.02,
   floorRiseDbS: 1,
-  silenceDbfs: -65,
+  silenceDbfs: -100,
+  detectSnrDb: 3,
   minConfidence: 0.3,
   maxSources: 3,
   voting: true,
@@ -64,17 +67,18 @@ function num(raw: string): number {
 export const analysisOptionSpecs: readonly OptionSpec[] = [
   { key: 'frame', flag: '--frame <samples>', help: 'analysis frame length in samples, a power of two', defaultValue: 'nearest to 21 ms, 1024 at 48 kHz', parse: num },
   { key: 'hop', flag: '--hop <samples>', help: 'hop between frames in samples', defaultValue: 'frame / 2', parse: num },
-  { key: 'bands', flag: '--bands <n>', help: 'frequency bands that vote on the delay (1 to 32)', defaultValue: ANALYSIS_DEFAULTS.bands, parse: num },
+  { key: 'bands', flag: '--bands <n>', help: 'frequency bands whose evidence is fused into the delay (1 to 32)', defaultValue: ANALYSIS_DEFAULTS.bands, parse: num },
   { key: 'minFreqHz', flag: '--min-freq <hz>', help: 'lowest frequency analysed', defaultValue: ANALYSIS_DEFAULTS.minFreqHz, parse: num },
   { key: 'maxFreqHz', flag: '--max-freq <hz>', help: 'highest frequency analysed (capped below Nyquist)', defaultValue: ANALYSIS_DEFAULTS.maxFreqHz, parse: num },
   { key: 'onsetWeight', flag: '--onset-weight <0..1>', help: 'how much more sharp onsets count than steady sound (0 = off)', defaultValue: ANALYSIS_DEFAULTS.onsetWeight, parse: num },
   { key: 'memoryS', flag: '--memory <s>', help: 'time constant of the evidence memory (0 = each hop alone)', defaultValue: ANALYSIS_DEFAULTS.memoryS, parse: num },
   { key: 'backgroundS', flag: '--background <s>', help: 'time constant of the background level onsets are measured against', defaultValue: ANALYSIS_DEFAULTS.backgroundS, parse: num },
-  { key: 'floorRiseDbS', flag: '--floor-rise <dB/s>', help: 'how fast the per-band noise floor may rise; sound near its floor counts little (0 = off)', defaultValue: ANALYSIS_DEFAULTS.floorRiseDbS, parse: num },
-  { key: 'silenceDbfs', flag: '--silence <dbfs>', help: 'hops quieter than this give no direction', defaultValue: ANALYSIS_DEFAULTS.silenceDbfs, parse: num },
+  { key: 'floorRiseDbS', flag: '--floor-rise <dB/s>', help: 'how fast the per-bin noise floor may rise (sound that stays longer becomes background); sound near its floor counts little', defaultValue: ANALYSIS_DEFAULTS.floorRiseDbS, parse: num },
+  { key: 'silenceDbfs', flag: '--silence <dbfs>', help: 'hops quieter than this give no direction (digital silence; detection is by --detect-snr)', defaultValue: ANALYSIS_DEFAULTS.silenceDbfs, parse: num },
+  { key: 'detectSnrDb', flag: '--detect-snr <dB>', help: 'hops whose best band stands less than this above its noise floor give no direction', defaultValue: ANALYSIS_DEFAULTS.detectSnrDb, parse: num },
   { key: 'minConfidence', flag: '--min-confidence <0..1>', help: 'directions less confident than this are reported as null', defaultValue: ANALYSIS_DEFAULTS.minConfidence, parse: num },
   { key: 'maxSources', flag: '--max-sources <n>', help: 'most simultaneous sources per hop (1 to 8)', defaultValue: ANALYSIS_DEFAULTS.maxSources, parse: num },
-  { key: 'voting', flag: '--no-voting', help: 'turn band voting off (plain GCC-PHAT peak, for comparison)', defaultValue: null },
+  { key: 'voting', flag: '--no-voting', help: 'turn band fusion off (plain weighted GCC-PHAT peak, for comparison)', defaultValue: null },
   { key: 'lagMargin', flag: '--lag-margin <fraction>', help: 'extra delay allowed beyond spacing / c', defaultValue: ANALYSIS_DEFAULTS.lagMargin, parse: num },
 ];
 
@@ -99,8 +103,9 @@ export function resolveAnalysisOptions(opts: AnalysisOptions, sampleRate: number
   check(r.onsetWeight >= 0 && r.onsetWeight <= 1, '--onset-weight', `${r.onsetWeight} must be between 0 and 1`);
   check(r.memoryS >= 0 && r.memoryS <= 10, '--memory', `${r.memoryS} s must be between 0 and 10 s`);
   check(r.backgroundS > 0 && r.backgroundS <= 60, '--background', `${r.backgroundS} s must be above 0 and at most 60 s`);
-  check(r.floorRiseDbS >= 0 && r.floorRiseDbS <= 100, '--floor-rise', `${r.floorRiseDbS} dB/s must be between 0 and 100`);
+  check(r.floorRiseDbS > 0 && r.floorRiseDbS <= 100, '--floor-rise', `${r.floorRiseDbS} dB/s must be above 0 and at most 100`);
   check(r.silenceDbfs <= 0 && r.silenceDbfs >= -200, '--silence', `${r.silenceDbfs} dBFS must be between -200 and 0`);
+  check(r.detectSnrDb >= 0 && r.detectSnrDb <= 60, '--detect-snr', `${r.detectSnrDb} dB must be between 0 and 60`);
   check(r.minConfidence >= 0 && r.minConfidence <= 1, '--min-confidence', `${r.minConfidence} must be between 0 and 1`);
   check(Number.isInteger(r.maxSources) && r.maxSources >= 1 && r.maxSources <= 8, '--max-sources', `${r.maxSources} must be a whole number from 1 to 8`);
   check(r.lagMargin >= 0 && r.lagMargin <= 1, '--lag-margin', `${r.lagMargin} must be between 0 and 1`);

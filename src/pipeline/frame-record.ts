@@ -37,6 +37,7 @@ export function toFrameRecord(r: HopResult, s: FrameRecordSettings): FrameRecord
     confidence: round(r.confidence, 3),
     tdoa_s: Array.from(r.tdoaS, (t) => (r.valid ? sig(t) : null)),
     level_dbfs: round(Math.max(-200, r.levelDbfs), 1),
+    snr_db: round(r.snrDb, 1),
     onset: round(r.onset, 3),
     mirror: s.mirror,
   };

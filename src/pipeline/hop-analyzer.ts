@@ -5,17 +5,21 @@ import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow } from '../dsp/window.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
 import type { ResolvedAnalysis } from './analysis-options.js';
+import { BandFusion, MIN_SUPPORT } from './band-fusion.js';
+import { confidenceOf, type ConfidenceFeatures } from './confidence.js';
 
-/** Most candidates compared by the band vote per hop. */
+/** Most candidates compared by the band fusion per hop. */
 const MAX_CANDIDATES = 4;
-/** A band votes only when its best candidate reaches this normalised score. */
-const MIN_BAND_SCORE = 0.2;
-/** Margin over the runner-up that earns a band a full vote. */
-const FULL_VOTE_MARGIN = 0.1;
 /** Candidates whose pair lags all differ by less than this (samples) are one peak. */
 const SAME_PEAK_LAGS = 1.5;
-/** A further source must gather this share of the winner's votes. */
-const SOURCE_VOTE_RATIO = 0.25;
+/** A further source must reach this share of the winner's fused score. */
+const SOURCE_RATIO = 0.25;
+/** The previous hop's answer is preferred by this factor (1 + STICKINESS) in the selection ... */
+const STICKINESS = 0.5;
+/** ... when a candidate's lags all lie within this many samples of it. */
+const STICKY_LAGS = 2;
+/** A band's evidence grows with its SNR up to this many dB. */
+const EVIDENCE_SNR_CAP_DB = 30;
 
 /** One hop's result. The object and its arrays are reused by the next hop: copy what you keep. */
 export interface HopResult {
@@ -25,7 +29,15 @@ export interface HopResult {
   channelLevelsDbfs: Float64Array;
   /** Onset strength in [0, 1]. */
   onset: number;
+  /** SNR of the hop over the tracked noise floor, dB: that of its best band (0 at the floor). */
+  snrDb: number;
+  /** Per band: SNR over its noise floor, dB. */
+  bandSnrDb: Float64Array;
+  /** Calibrated: the probability that the direction lies within 5 deg of a sounding source (src/pipeline/confidence.ts). */
   confidence: number;
+  /** Confidence features of the winner: share of the band evidence that agrees with it, its share of the fused scores. */
+  agree: number;
+  share: number;
   /** True when the strongest source is confident enough to report. */
   valid: boolean;
   /** Refined delay per pair for the strongest source, seconds (NaN when none). */
@@ -33,7 +45,7 @@ export interface HopResult {
   /** Sources found, strongest first. */
   sourceCount: number;
   sources: { azimuthDeg: number; elevationDeg: number | null; score: number }[];
-  /** Band vote: weight given and candidate voted for (-1 none), per band. */
+  /** Band fusion: support given (relative to the strongest band, [0, 1]) and candidate supported (-1 none), per band. */
   bandVoteWeight: Float64Array;
   bandVoteCandidate: Int32Array;
   /** Pair-0 delay (s) of each band's chosen candidate, NaN when the band did not vote. */
@@ -41,6 +53,9 @@ export interface HopResult {
   bands: BandLayout;
   /** Index of the band that contributed most to the strongest source, -1 when none. */
   dominantBand: number;
+  /** First and last band supporting the strongest source (-1 when none): the range its delay stands for. */
+  supportFirstBand: number;
+  supportLastBand: number;
   /** Per-pair diagnostics of the strongest source: normalised peak height and band agreement. */
   pairPeak: Float64Array;
   pairAgreement: Float64Array;
@@ -50,10 +65,12 @@ export interface HopResult {
  * The per-hop analysis core: windowed frames in, direction estimates out. Pure and
  * synchronous; all buffers are allocated once here.
  *
- * Stages: Hann window and one real FFT per channel; per-bin onset weights from the power
- * rise; per pair the PHAT cross-spectrum added into an onset-weighted memory and one inverse
- * FFT; candidates from the direction model; band voting over the candidates; sub-sample
- * refinement of the winners' lags on the bands that voted for them; direction from the lags.
+ * Stages: Hann window and one real FFT per channel; per-bin onset and presence weights and
+ * per-band SNR over the noise floor; per pair the PHAT cross-spectrum added into an
+ * onset-weighted memory and one inverse FFT weighted by band evidence; candidates from the
+ * direction model; evidence-weighted band fusion over the candidates (./band-fusion.ts);
+ * sub-sample refinement of the winners' lags on the bands that support them; direction from
+ * the lags; calibrated confidence (./confidence.ts).
  */
 export class HopAnalyzer {
   readonly frame: number;
@@ -77,7 +94,13 @@ export class HopAnalyzer {
   private readonly candLags: Float64Array;
   private readonly candScores: Float64Array;
   private readonly bandScores: Float64Array;
-  private readonly votes: Float64Array;
+  private readonly evidence: Float64Array;
+  private readonly bandBins: Float64Array;
+  private readonly fusion: BandFusion;
+  private readonly selection: Float64Array;
+  private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0 };
+  private readonly prevLags: Float64Array;
+  private prevValid = false;
   private readonly useBand: Uint8Array;
   private readonly refined: Float64Array;
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
@@ -115,7 +138,7 @@ export class HopAnalyzer {
       floor: 1 - options.onsetWeight,
       fullRise: 4,
       backgroundDecay: Math.exp(-hopS / options.backgroundS),
-      floorRise: options.floorRiseDbS > 0 ? 10 ** ((options.floorRiseDbS * hopS) / 10) : 0,
+      floorRise: 10 ** ((options.floorRiseDbS * hopS) / 10),
       fullPresence: 4,
     });
     const P = model.pairs.length;
@@ -123,7 +146,11 @@ export class HopAnalyzer {
     this.candLags = new Float64Array(MAX_CANDIDATES * P);
     this.candScores = new Float64Array(MAX_CANDIDATES);
     this.bandScores = new Float64Array(options.bands * MAX_CANDIDATES);
-    this.votes = new Float64Array(MAX_CANDIDATES);
+    this.evidence = new Float64Array(options.bands);
+    this.bandBins = Float64Array.from({ length: options.bands }, (_, b) => this.bands.end[b]! - this.bands.start[b]!);
+    this.fusion = new BandFusion(options.bands, MAX_CANDIDATES);
+    this.selection = new Float64Array(MAX_CANDIDATES);
+    this.prevLags = new Float64Array(P);
     this.useBand = new Uint8Array(options.bands);
     this.pairBandScores = new Float64Array(options.bands);
     this.refined = new Float64Array(P);
@@ -134,7 +161,11 @@ export class HopAnalyzer {
       levelDbfs: -Infinity,
       channelLevelsDbfs: new Float64Array(channels),
       onset: 0,
+      snrDb: 0,
+      bandSnrDb: new Float64Array(options.bands),
       confidence: 0,
+      agree: 0,
+      share: 0,
       valid: false,
       tdoaS: new Float64Array(P),
       sourceCount: 0,
@@ -144,6 +175,8 @@ export class HopAnalyzer {
       bandVoteTdoaS: new Float64Array(options.bands),
       bands: this.bands,
       dominantBand: -1,
+      supportFirstBand: -1,
+      supportLastBand: -1,
       pairPeak: new Float64Array(P),
       pairAgreement: new Float64Array(P),
     };
@@ -185,35 +218,47 @@ export class HopAnalyzer {
     }
     res.levelDbfs = toDb(totalMs / this.channels);
 
-    // Onset weights and the weight memory.
+    // Onset weights, the weight memory, each band's SNR over its noise floor and its evidence:
+    // the mean weight of its bins (memory included, scaled to [0, 1]) times its SNR in tens of
+    // dB (capped). The correlation for the candidates weights each band by its evidence.
     res.onset = this.onset.update(this.power, k0, k1, this.weights);
+    this.onset.bandSnrDb(this.bands, res.bandSnrDb);
     const mem = this.memory;
     for (let k = k0; k < k1; k++) this.weightAcc[k] = mem * this.weightAcc[k]! + this.weights[k]!;
+    let snr = 0;
     for (let b = 0; b < this.bands.count; b++) {
       let s = 0;
       for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) s += this.weightAcc[k]!;
       this.bandWeight[b] = s;
-      const g = 1 / Math.max(1e-12, s);
+      const bandSnr = res.bandSnrDb[b]!;
+      if (bandSnr > snr) snr = bandSnr;
+      const e = ((s * (1 - mem)) / this.bandBins[b]!) * (Math.min(bandSnr, EVIDENCE_SNR_CAP_DB) / 10);
+      this.evidence[b] = e;
+      const g = e / Math.max(1e-12, s);
       for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) this.binScale[k] = g;
     }
+    res.snrDb = snr;
 
-    // Pair cross-spectra into the memory; in a silent hop that is all (nights are mostly quiet).
+    // Pair cross-spectra into the memory; in a silent hop (digital silence, or nothing above the
+    // noise floor) that is all (nights are mostly quiet).
     const pairs = this.model.pairs;
     const P = pairs.length;
-    const silent = res.levelDbfs < this.options.silenceDbfs;
+    const silent = res.levelDbfs < this.options.silenceDbfs || snr < this.options.detectSnrDb;
     for (let p = 0; p < P; p++) {
       const [a, b] = pairs[p]!;
       const pc = this.correlators[p]!;
       pc.accumulate(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, this.weights, k0, k1, mem);
       if (silent) continue;
-      // With voting, every band has the same say in the candidates (the sum of the band
-      // scores); without, the plain GCC-PHAT over all bins.
+      // With fusion, every band has the say of its evidence; without, the plain weighted
+      // GCC-PHAT over all bins.
       if (this.options.voting) pc.correlateScaled(this.fft, this.binScale, k0, k1);
       else pc.correlate(this.fft, k0, k1);
     }
 
-    if (silent) this.clearEstimate(res);
-    else this.vote(res, P);
+    if (silent) {
+      this.clearEstimate(res);
+      this.prevValid = false;
+    } else this.fuseBands(res, P);
     return res;
   }
 
@@ -251,7 +296,11 @@ export class HopAnalyzer {
     res.sourceCount = 0;
     res.valid = false;
     res.confidence = 0;
+    res.agree = 0;
+    res.share = 0;
     res.dominantBand = -1;
+    res.supportFirstBand = -1;
+    res.supportLastBand = -1;
     res.tdoaS.fill(NaN);
     res.bandVoteWeight.fill(0);
     res.bandVoteCandidate.fill(-1);
@@ -260,115 +309,126 @@ export class HopAnalyzer {
     res.pairAgreement.fill(0);
   }
 
-  private vote(res: HopResult, P: number): void {
+  private fuseBands(res: HopResult, P: number): void {
     const opts = this.options;
     const B = this.bands.count;
+    const S = MAX_CANDIDATES;
     const K = this.dedupe(this.model.findCandidates(this.correlators, MAX_CANDIDATES, this.candLags, this.candScores), P);
     this.clearEstimate(res);
     if (K === 0) return;
 
-
-    // Band scores: s[b, c] = sum over pairs of Re(A e^{j w tau}) / (pairs * band weight).
+    // Normalised band coherence: s[b, c] = sum over pairs of Re(A e^{j w tau}) / (pairs * band weight).
     const s = this.bandScores;
     s.fill(0);
     for (let c = 0; c < K; c++) {
-      for (let p = 0; p < P; p++) addBandScores(this.correlators[p]!, this.bands, this.candLags[c * P + p]!, s, MAX_CANDIDATES, c);
+      for (let p = 0; p < P; p++) addBandScores(this.correlators[p]!, this.bands, this.candLags[c * P + p]!, s, S, c);
     }
     for (let b = 0; b < B; b++) {
       const norm = 1 / (P * Math.max(1e-12, this.bandWeight[b]!));
-      for (let c = 0; c < K; c++) s[b * MAX_CANDIDATES + c]! *= norm;
+      for (let c = 0; c < K; c++) s[b * S + c]! *= norm;
     }
+    const fusion = this.fusion.fuse(K, s, this.evidence);
+    if (!(fusion.totalEvidence > 0)) return;
 
-    // Each band votes for its best candidate, with a weight that saturates at a clear margin.
-    const votes = this.votes;
-    votes.fill(0);
-    if (opts.voting) {
-      for (let b = 0; b < B; b++) {
-        let best = -1;
-        let s1 = -Infinity;
-        let s2 = 0;
-        for (let c = 0; c < K; c++) {
-          const v = s[b * MAX_CANDIDATES + c]!;
-          if (v > s1) {
-            s2 = Math.max(s2, s1);
-            s1 = v;
-            best = c;
-          } else if (v > s2) s2 = v;
-        }
-        if (best < 0 || s1 < MIN_BAND_SCORE) continue;
-        const w = Math.min(1, (s1 - Math.max(0, s2)) / FULL_VOTE_MARGIN);
-        if (w <= 0) continue;
-        votes[best] += w;
-        res.bandVoteWeight[b] = w;
-        res.bandVoteCandidate[b] = best;
-        res.bandVoteTdoaS[b] = this.candLags[best * P]! / this.sampleRate;
-      }
-    } else {
-      // Plain peak: the model's best candidate takes every band.
-      votes[0] = 1;
-      for (let b = 0; b < B; b++) {
-        res.bandVoteWeight[b] = 1;
-        res.bandVoteCandidate[b] = 0;
-        res.bandVoteTdoaS[b] = this.candLags[0]! / this.sampleRate;
-      }
+    // Selection: fused score, with a preference for the previous hop's answer so that a steady
+    // sound whose bands disagree on the delay (a baffle between the mics) keeps one answer.
+    // Without fusion (--no-voting) the plain peak of the weighted correlation wins.
+    const sel = this.selection;
+    for (let c = 0; c < K; c++) {
+      sel[c] = opts.voting ? fusion.fused[c]! : c === 0 ? 1 : 0;
+      if (opts.voting && this.prevValid && this.nearPrevious(c, P)) sel[c]! *= 1 + STICKINESS;
     }
-    let total = 0;
-    for (let c = 0; c < K; c++) total += votes[c]!;
-    if (total <= 0) return;
-
-    // Candidates by votes.
     const order = this.order;
     for (let c = 0; c < K; c++) order[c] = c;
     for (let i = 1; i < K; i++) {
       const v = order[i]!;
       let j = i - 1;
-      while (j >= 0 && votes[order[j]!]! < votes[v]!) {
+      while (j >= 0 && sel[order[j]!]! < sel[v]!) {
         order[j + 1] = order[j]!;
         j--;
       }
       order[j + 1] = v;
     }
-    const winnerVotes = votes[order[0]!]!;
+    const win = order[0]!;
+    let fusedTotal = 0;
+    for (let c = 0; c < K; c++) fusedTotal += fusion.fused[c]!;
+    const winFused = fusion.fused[win]!;
+    if (!(winFused > 0)) return;
+
+    let maxSupport = 0;
+    for (let b = 0; b < B; b++) maxSupport = Math.max(maxSupport, fusion.supportWeight[b]!);
+    for (let b = 0; b < B; b++) {
+      const c = fusion.supportOf[b]!;
+      if (c < 0) continue;
+      res.bandVoteWeight[b] = maxSupport > 0 ? fusion.supportWeight[b]! / maxSupport : 0;
+      res.bandVoteCandidate[b] = c;
+      res.bandVoteTdoaS[b] = this.candLags[c * P]! / this.sampleRate;
+    }
+
     for (let i = 0; i < K && res.sourceCount < opts.maxSources; i++) {
       const c = order[i]!;
-      if (votes[c]! < SOURCE_VOTE_RATIO * winnerVotes || votes[c]! <= 0) break;
-      // Bands that voted for this candidate refine it (all bands in plain mode).
-      let coherence = 0;
-      let voteSum = 0;
+      const f = fusion.fused[c]!;
+      if (i > 0 && (f < SOURCE_RATIO * winFused || f <= 0)) continue;
+      // The bands that support this candidate refine its lags (every band with evidence for
+      // the plain peak's winner when none supports it).
+      let first = -1;
+      let last = -1;
       let domBand = -1;
-      let domScore = -Infinity;
+      let domWeight = 0;
       for (let b = 0; b < B; b++) {
-        const use = res.bandVoteCandidate[b] === c;
+        const use = fusion.supportOf[b] === c;
         this.useBand[b] = use ? 1 : 0;
         if (!use) continue;
-        const w = opts.voting ? res.bandVoteWeight[b]! : this.bandWeight[b]!;
-        const sb = s[b * MAX_CANDIDATES + c]!;
-        coherence += w * sb;
-        voteSum += w;
-        if (w * sb > domScore) {
-          domScore = w * sb;
+        if (first < 0) first = b;
+        last = b;
+        if (fusion.supportWeight[b]! > domWeight) {
+          domWeight = fusion.supportWeight[b]!;
           domBand = b;
         }
       }
-      coherence = voteSum > 0 ? Math.max(0, Math.min(1, coherence / voteSum)) : 0;
+      if (first < 0) {
+        if (opts.voting || i > 0) continue;
+        for (let b = 0; b < B; b++) this.useBand[b] = this.evidence[b]! > 0 ? 1 : 0;
+      }
       for (let p = 0; p < P; p++) {
         this.refined[p] = refineLag(this.correlators[p]!, this.bands, this.useBand, this.candLags[c * P + p]!);
       }
       if (!this.model.solve(this.refined, 0, this.dir)) continue;
-      const agreement = votes[c]! / total;
       const src = res.sources[res.sourceCount]!;
       src.azimuthDeg = this.dir.azimuthDeg;
       src.elevationDeg = this.dir.elevationDeg;
-      src.score = Math.max(0, Math.min(1, coherence * Math.sqrt(agreement)));
       if (res.sourceCount === 0) {
-        res.confidence = res.levelDbfs < opts.silenceDbfs ? 0 : src.score;
+        this.features.agree = Math.min(1, f / fusion.totalEvidence);
+        this.features.share = fusedTotal > 0 ? f / fusedTotal : 0;
+        this.features.snrDb = res.snrDb;
+        res.agree = this.features.agree;
+        res.share = this.features.share;
+        res.confidence = confidenceOf(this.features);
         res.dominantBand = domBand;
+        res.supportFirstBand = first;
+        res.supportLastBand = last;
         for (let p = 0; p < P; p++) res.tdoaS[p] = this.refined[p]! / this.sampleRate;
         if (this.diagnostics) this.pairDiagnostics(res, P);
+        src.score = 1;
+      } else {
+        src.score = Math.max(0, Math.min(1, f / winFused));
       }
       res.sourceCount++;
     }
     res.valid = res.sourceCount > 0 && res.confidence >= opts.minConfidence;
+    this.prevValid = res.valid;
+    if (res.valid) for (let p = 0; p < P; p++) this.prevLags[p] = this.refined0(res, p);
+  }
+
+  /** The winner's refined lag of pair p (samples). */
+  private refined0(res: HopResult, p: number): number {
+    return res.tdoaS[p]! * this.sampleRate;
+  }
+
+  /** Candidate c's lags all lie within STICKY_LAGS samples of the previous hop's answer. */
+  private nearPrevious(c: number, P: number): boolean {
+    for (let p = 0; p < P; p++) if (Math.abs(this.candLags[c * P + p]! - this.prevLags[p]!) > STICKY_LAGS) return false;
+    return true;
   }
 
   /**
@@ -390,9 +450,9 @@ export class HopAnalyzer {
       for (let b = 0; b < B; b++) {
         peak += own[b]!;
         if (!this.useBand[b]) continue;
-        const w = this.options.voting ? res.bandVoteWeight[b]! : 1;
+        const w = res.bandVoteWeight[b]! > 0 ? res.bandVoteWeight[b]! : 1;
         voted += w;
-        if (own[b]! >= MIN_BAND_SCORE * this.bandWeight[b]!) agree += w;
+        if (own[b]! >= MIN_SUPPORT * this.bandWeight[b]!) agree += w;
       }
       res.pairPeak[p] = totalWeight > 0 ? Math.max(0, Math.min(1, peak / totalWeight)) : 0;
       res.pairAgreement[p] = voted > 0 ? agree / voted : 0;

@@ -35,7 +35,7 @@ export class TrackingSession {
   ) {
     this.tracker = new Tracker({ ...tracker, mirroredPair: settings.pairs.length === 1 });
     this.candidates = [];
-    this.obs = { timeS: 0, levelDbfs: 0, onset: 0, confidence: 0, candidates: this.candidates, bandHz: null };
+    this.obs = { timeS: 0, levelDbfs: 0, snrDb: 0, onset: 0, confidence: 0, candidates: this.candidates, bandHz: null };
   }
 
   /** One hop. Returns a promise when a sink asks to wait. */
@@ -47,11 +47,13 @@ export class TrackingSession {
     const o = this.obs;
     o.timeS = r.timeS;
     o.levelDbfs = r.levelDbfs;
+    o.snrDb = r.snrDb;
     o.onset = r.onset;
     o.confidence = r.confidence;
-    if (r.dominantBand >= 0) {
-      this.band[0] = Math.round(r.bands.loHz[r.dominantBand]!);
-      this.band[1] = Math.round(r.bands.hiHz[r.dominantBand]!);
+    // The band range the delay stands for: from the lowest to the highest supporting band.
+    if (r.supportFirstBand >= 0) {
+      this.band[0] = Math.round(r.bands.loHz[r.supportFirstBand]!);
+      this.band[1] = Math.round(r.bands.hiHz[r.supportLastBand]!);
       o.bandHz = this.band;
     } else o.bandHz = null;
     const upd = this.tracker.update(o);

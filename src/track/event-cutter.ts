@@ -4,10 +4,11 @@
  *
  * Per hop a track is either supported (a candidate was assigned to it) or not. With
  * c = hop confidence x candidate score:
- * - an event starts on a supported hop with c >= eventEnterConfidence and either level >=
- *   eventEnterDbfs, or onset >= onsetThreshold and level >= eventLeaveDbfs (a sharp rise in a
- *   quiet call);
- * - it continues over hops with c >= eventLeaveConfidence and level >= eventLeaveDbfs
+ * - an event starts on a supported hop with c >= eventEnterConfidence and either SNR >=
+ *   eventEnterSnrDb, or onset >= onsetThreshold and SNR >= eventLeaveSnrDb (a sharp rise in a
+ *   quiet call); the SNR is the hop's over the tracked noise floor, so what counts as a call
+ *   does not change with the recorder's gain or a louder night;
+ * - it continues over hops with c >= eventLeaveConfidence and SNR >= eventLeaveSnrDb
  *   (hysteresis: the leave thresholds sit below the enter thresholds);
  * - other hops are a pause; a pause up to maxGapS is bridged, a longer one ends the event at
  *   its last sustaining hop; an onset >= onsetThreshold during a pause of two hops or more,
@@ -26,7 +27,7 @@
  */
 import type { EventRecord } from '../records.js';
 import { DirectionSums } from './direction-sums.js';
-import { BAND_HI, BAND_LO, CONFIDENCE, HOP_S, LEVEL, ONSET, TIME, type HopScratch } from './hop-scratch.js';
+import { BAND_HI, BAND_LO, CONFIDENCE, HOP_S, LEVEL, ONSET, SNR, TIME, type HopScratch } from './hop-scratch.js';
 import type { TrackerOptions } from './options.js';
 
 /** Shortest pause (hops) after which an onset splits an event. */
@@ -79,12 +80,12 @@ export class EventCutter {
     const o = this.o;
     const sc = this.scratch;
     const hop = sc.hop;
-    const level = hop[LEVEL]!;
+    const snr = hop[SNR]!;
     const onset = hop[ONSET]!;
     const c = j >= 0 ? hop[CONFIDENCE]! * sc.candScore[j]! : 0;
-    const sustains = j >= 0 && c >= o.eventLeaveConfidence && level >= o.eventLeaveDbfs;
+    const sustains = j >= 0 && c >= o.eventLeaveConfidence && snr >= o.eventLeaveSnrDb;
     if (this.active[slot] === 0) {
-      const enters = sustains && c >= o.eventEnterConfidence && (level >= o.eventEnterDbfs || onset >= o.onsetThreshold);
+      const enters = sustains && c >= o.eventEnterConfidence && (snr >= o.eventEnterSnrDb || onset >= o.onsetThreshold);
       if (enters) this.begin(slot, j);
       return null;
     }

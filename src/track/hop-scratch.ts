@@ -14,12 +14,14 @@ export const BAND_HI = 5;
 export const HOP_S = 6;
 /** Time since the previous hop, seconds (0 on the first). */
 export const DT = 7;
+/** SNR of the hop over the noise floor, dB. */
+export const SNR = 8;
 
 /** Floor of hop confidence x candidate score when it serves as a weight. */
 export const MIN_WEIGHT = 1e-6;
 
 export class HopScratch {
-  readonly hop = new Float64Array(8);
+  readonly hop = new Float64Array(9);
   readonly candAz: Float64Array;
   /** NaN where the candidate has no elevation. */
   readonly candEl: Float64Array;

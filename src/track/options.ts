@@ -37,10 +37,10 @@ export interface TrackerOptions {
   maxTracks: number;
   /** Candidates considered per hop, best first, at most 8. */
   maxCandidates: number;
-  /** An event starts when the hop level reaches this, dBFS (or an onset arrives above the leave level). */
-  eventEnterDbfs: number;
-  /** An event continues while the hop level stays at or above this, dBFS. */
-  eventLeaveDbfs: number;
+  /** An event starts when the hop's SNR over the noise floor reaches this, dB (or an onset arrives above the leave SNR). */
+  eventEnterSnrDb: number;
+  /** An event continues while the hop's SNR stays at or above this, dB. */
+  eventLeaveSnrDb: number;
   /** An event starts when confidence x candidate score reaches this. */
   eventEnterConfidence: number;
   /** An event continues while confidence x candidate score stays at or above this. */
@@ -173,10 +173,10 @@ export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
     `most tracks alive at once (new and confirmed), at most ${TRACK_LIMIT}`),
   numberSpec('maxCandidates', '--max-candidates <n>', 'per hop', 4, { min: 1, max: CANDIDATE_LIMIT, integer: true },
     `direction candidates considered per hop, best first, at most ${CANDIDATE_LIMIT}`),
-  numberSpec('eventEnterDbfs', '--event-enter-db <dBFS>', 'dBFS', -45, { min: -200, max: 0 },
-    'hop level at which an event starts'),
-  numberSpec('eventLeaveDbfs', '--event-leave-db <dBFS>', 'dBFS', -51, { min: -200, max: 0 },
-    'hop level below which an event counts as paused (at most the enter level)'),
+  numberSpec('eventEnterSnrDb', '--event-enter-snr <dB>', 'dB', 10, { min: 0, max: 60 },
+    'SNR over the noise floor at which an event starts'),
+  numberSpec('eventLeaveSnrDb', '--event-leave-snr <dB>', 'dB', 5, { min: 0, max: 60 },
+    'SNR below which an event counts as paused (at most the enter SNR)'),
   numberSpec('eventEnterConfidence', '--event-enter-confidence <c>', '', 0.5, { min: 0, max: 1 },
     'confidence x candidate score at which an event starts'),
   numberSpec('eventLeaveConfidence', '--event-leave-confidence <c>', '', 0.3, { min: 0, max: 1 },
@@ -229,8 +229,8 @@ export function resolveTrackerOptions(partial: TrackerSettings = {}, where = 'tr
     }
   }
   const opts = out as unknown as TrackerOptions;
-  if (opts.eventLeaveDbfs > opts.eventEnterDbfs) {
-    throw new UsageError(`${where}: option eventLeaveDbfs (--event-leave-db) is ${opts.eventLeaveDbfs} dBFS, above eventEnterDbfs (--event-enter-db) ${opts.eventEnterDbfs}; the leave level must not exceed the enter level.`);
+  if (opts.eventLeaveSnrDb > opts.eventEnterSnrDb) {
+    throw new UsageError(`${where}: option eventLeaveSnrDb (--event-leave-snr) is ${opts.eventLeaveSnrDb} dB, above eventEnterSnrDb (--event-enter-snr) ${opts.eventEnterSnrDb}; the leave SNR must not exceed the enter SNR.`);
   }
   if (opts.eventLeaveConfidence > opts.eventEnterConfidence) {
     throw new UsageError(`${where}: option eventLeaveConfidence (--event-leave-confidence) is ${opts.eventLeaveConfidence}, above eventEnterConfidence (--event-enter-confidence) ${opts.eventEnterConfidence}; the leave value must not exceed the enter value.`);

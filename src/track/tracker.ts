@@ -26,7 +26,7 @@ import { AngleFilterBank, IO_D2, IO_DT, IO_R, IO_RATE_SIGMA, IO_Z } from './angl
 import { NearestNeighbourAssigner } from './assignment.js';
 import { DirectionSums } from './direction-sums.js';
 import { EventCutter } from './event-cutter.js';
-import { BAND_HI, BAND_LO, CONFIDENCE, DT, HOP_S, HopScratch, LEVEL, ONSET, TIME } from './hop-scratch.js';
+import { BAND_HI, BAND_LO, CONFIDENCE, DT, HOP_S, HopScratch, LEVEL, ONSET, SNR, TIME } from './hop-scratch.js';
 import { resolveTrackerOptions, type TrackerOptions, type TrackerSettings } from './options.js';
 import type { HopObservation, TrackSummary, TrackUpdate } from './types.js';
 
@@ -203,6 +203,7 @@ export class Tracker {
     const hop = this.sc.hop;
     hop[TIME] = obs.timeS;
     hop[LEVEL] = Number.isFinite(obs.levelDbfs) ? obs.levelDbfs : -Infinity;
+    hop[SNR] = Number.isFinite(obs.snrDb) ? obs.snrDb : 0;
     hop[ONSET] = Number.isFinite(obs.onset) ? obs.onset : 0;
     hop[CONFIDENCE] = Number.isFinite(obs.confidence) ? obs.confidence : 0;
     const band = obs.bandHz;

@@ -12,6 +12,7 @@ export interface DirectionCandidate {
 export interface HopObservation {
   timeS: number;        // centre of the hop's analysis frame, seconds from stream start
   levelDbfs: number;    // frame level, dBFS
+  snrDb: number;        // SNR over the noise floor, dB (the hop's best band)
   onset: number;        // onset strength in [0, 1]: high where energy rises sharply
   confidence: number;   // [0, 1]
   candidates: readonly { azimuthDeg: number; elevationDeg: number | null; score: number }[]; // best first; may be empty

@@ -51,7 +51,7 @@ function makePool(): HopObservation[] {
     while (c.length < 4) c.push({ azimuthDeg: -180 + 360 * ((c.length * 0.37 + h.timeS) % 1), elevationDeg: null, score: 0.1 });
     // A literal, not a spread copy: V8 keeps a spread copy's number fields boxed, so the
     // bench's own time stamp writes would allocate.
-    return { timeS: h.timeS, levelDbfs: h.levelDbfs, onset: h.onset, confidence: h.confidence, candidates: c.slice(0, 4), bandHz: h.bandHz ?? null };
+    return { timeS: h.timeS, levelDbfs: h.levelDbfs, snrDb: h.snrDb, onset: h.onset, confidence: h.confidence, candidates: c.slice(0, 4), bandHz: h.bandHz ?? null };
   });
 }
 
@@ -122,7 +122,7 @@ export async function runTrackerBench(hops = 1_000_000): Promise<TrackerBenchRes
   const gc = exposeGc();
   const pool = makePool();
   const full = await measure(gc, pool, new Tracker({ maxTracks: 8, maxCandidates: 4 }), hops);
-  const trackingOnly = await measure(gc, pool, new Tracker({ maxTracks: 8, maxCandidates: 4, eventEnterDbfs: 0, eventLeaveDbfs: 0 }), hops);
+  const trackingOnly = await measure(gc, pool, new Tracker({ maxTracks: 8, maxCandidates: 4, eventEnterSnrDb: 60, eventLeaveSnrDb: 60 }), hops);
   return {
     hops,
     sources: 3,

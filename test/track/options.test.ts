@@ -44,7 +44,7 @@ describe('tracker options: one home, defaults, validation', () => {
   });
 
   it('rejects inconsistent pairs: leave above enter, M above N, timeout below the gap', () => {
-    expect(usageError(() => resolveTrackerOptions({ eventEnterDbfs: -50, eventLeaveDbfs: -40 })).message).toMatch(/eventLeaveDbfs/);
+    expect(usageError(() => resolveTrackerOptions({ eventEnterSnrDb: 6, eventLeaveSnrDb: 9 })).message).toMatch(/eventLeaveSnrDb/);
     expect(usageError(() => resolveTrackerOptions({ eventEnterConfidence: 0.2, eventLeaveConfidence: 0.4 })).message).toMatch(/eventLeaveConfidence/);
     expect(usageError(() => resolveTrackerOptions({ confirmHits: 6, confirmWindow: 5 })).message).toMatch(/confirmHits.*M must not exceed N/);
     expect(usageError(() => resolveTrackerOptions({ trackTimeoutS: 0.05, maxGapS: 0.1 })).message).toMatch(/trackTimeoutS/);

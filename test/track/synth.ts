@@ -105,6 +105,8 @@ export function generateHops(sources: readonly TruthSource[], o: SynthOptions): 
     hops.push({
       timeS: t,
       levelDbfs: level,
+      // the synthetic noise floor sits at -70 dBFS
+      snrDb: Math.max(0, level + 70),
       onset,
       confidence,
       candidates: cands.map(({ azimuthDeg, elevationDeg, score }) => ({ azimuthDeg, elevationDeg, score })),

@@ -353,7 +353,7 @@ describe('births, coasting and deaths', () => {
 
   it('rejects hops out of time order and updates after finish', () => {
     const tracker = new Tracker();
-    const hop = { timeS: 1, levelDbfs: -30, onset: 0, confidence: 1, candidates: [] };
+    const hop = { timeS: 1, levelDbfs: -30, snrDb: 40, onset: 0, confidence: 1, candidates: [] };
     tracker.update(hop);
     expect(() => tracker.update(hop)).toThrow(/increasing time order/);
     tracker.finish();
