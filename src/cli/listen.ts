@@ -229,7 +229,9 @@ async function runLive(flags: ListenFlags, plan: LivePlan, opened: StationSink[]
         return writer?.write(rec);
       },
       utcAt: (t) => clock.utcAt(t),
+      onWarning: stderrWarning,
     },
+    setup.checks,
   );
 
   const emitGap = (rec: GapRecord): void => {

@@ -41,7 +41,7 @@ export async function analyseRecording(job: RecordingAnalysis): Promise<Recordin
     const { sampleRate, channels, totalFrames } = source.format;
     if (channels < 2) throw new UsageError(`${job.wav} has one channel: direction finding needs at least two (one per mic)`);
     checkGeometryForStream(job.geometry, channels, sampleRate, job.speedOfSound, job.wav);
-    const setup = createAnalysis(job.geometry, sampleRate, job.speedOfSound, job.stages.analysis);
+    const setup = createAnalysis(job.geometry, sampleRate, job.speedOfSound, job.stages.analysis, job.wav);
     const settings = {
       headingDeg: job.geometry.headingDeg,
       mirror: setup.model.mirror,
@@ -49,7 +49,7 @@ export async function analyseRecording(job: RecordingAnalysis): Promise<Recordin
       diagnostics: false,
       viewerFields: !!job.viewerFields,
     };
-    const session = new TrackingSession(settings, job.stages.tracker, job.outputs);
+    const session = new TrackingSession(settings, job.stages.tracker, { onWarning: stderrWarning, ...job.outputs }, setup.checks);
     const controls = job.onSetup?.(setup) ?? {};
     const progress = job.progress ? createProgress(`scanning ${job.wav}`, totalFrames, sampleRate) : null;
     let hops: number;

@@ -107,7 +107,7 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
     const where = file ?? 'the stdin stream';
     if (channels < 2) throw new UsageError(`${where} has one channel: direction finding needs at least two (one per mic)`);
     checkGeometryForStream(geometry, channels, sampleRate, c, where);
-    const setup = createAnalysis(geometry, sampleRate, c, stages.analysis);
+    const setup = createAnalysis(geometry, sampleRate, c, stages.analysis, where);
     setup.analyzer.diagnostics = !!flags.diagnostics;
     const settings = {
       headingDeg: geometry.headingDeg,
@@ -125,8 +125,9 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
     const outputs = {
       onFrame: frameWriter ? (rec: FrameRecord) => frameWriter.write(rec) : undefined,
       onEvent: eventWriter ? (rec: EventRecord) => eventWriter.write(rec) : undefined,
+      onWarning: stderrWarning,
     };
-    const session = new TrackingSession(settings, stages.tracker, feed ? alsoToFeed(feed, outputs) : outputs);
+    const session = new TrackingSession(settings, stages.tracker, feed ? alsoToFeed(feed, outputs) : outputs, setup.checks);
     const progress = createProgress(`scanning ${file ?? 'stdin'}`, totalFrames, sampleRate);
     try {
       const hops = await runAnalysis(source, setup.analyzer, (r) => session.hop(r), (done) => progress.update(done));
@@ -140,7 +141,10 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
       if (partial) stderrWarning(`stopped early; the records written so far are in ${partial}`);
       throw err;
     }
-    if (flags.summary) process.stderr.write(formatSummaryTable(session.summary()) + '\n');
+    if (flags.summary) {
+      process.stderr.write(formatSummaryTable(session.summary()) + '\n');
+      for (const w of session.warnings()) process.stderr.write(`warning: ${w}\n`);
+    }
   } finally {
     await feed?.close();
     await source.close();

@@ -95,18 +95,17 @@ export class OnsetWeigher {
 
   /**
    * Signal-to-noise ratio of each band against its tracked noise floor, in dB (0 when the band
-   * holds nothing above its floor): 10 log10(sum of smoothed power / sum of noise mean) over the
-   * band's bins, where the noise mean is the tracked minimum times its bias factor. Call after
-   * update() for the same hop.
+   * holds nothing above its floor): 10 log10(sum of this hop's power / sum of noise mean) over
+   * the band's bins, where the noise mean is the tracked minimum times its bias factor. Call
+   * after update() with the same hop's power.
    */
-  bandSnrDb(bands: BandLayout, out: Float64Array): void {
-    const sm = this.smooth;
+  bandSnrDb(bands: BandLayout, power: Float64Array, out: Float64Array): void {
     const nf = this.noise;
     for (let b = 0; b < bands.count; b++) {
       let s = 0;
       let n = 0;
       for (let k = bands.start[b]!; k < bands.end[b]!; k++) {
-        s += sm[k]!;
+        s += power[k]!;
         n += nf[k]!;
       }
       const ratio = s / (NOISE_BIAS * n + 1e-30);

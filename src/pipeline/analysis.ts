@@ -6,6 +6,7 @@ import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import type { AudioSource } from '../io/audio-source.js';
 import { resolveAnalysisOptions, type AnalysisOptions, type ResolvedAnalysis } from './analysis-options.js';
 import { HopAnalyzer, type HopResult } from './hop-analyzer.js';
+import { StreamChecks } from './stream-checks.js';
 
 export interface AnalysisSetup {
   analyzer: HopAnalyzer;
@@ -13,6 +14,8 @@ export interface AnalysisSetup {
   options: ResolvedAnalysis;
   geometry: ArrayGeometry;
   speedOfSound: number;
+  /** Window-edge and geometry checks over the stream (said once). */
+  checks: StreamChecks;
 }
 
 /** Build the analysis for a geometry and a stream format. */
@@ -21,6 +24,7 @@ export function createAnalysis(
   sampleRate: number,
   speedOfSound: number,
   options: AnalysisOptions,
+  where = 'the stream',
 ): AnalysisSetup {
   const resolved = resolveAnalysisOptions(options, sampleRate);
   let model: DirectionModel;
@@ -30,7 +34,8 @@ export function createAnalysis(
     model = new SrpDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);
   }
   const analyzer = new HopAnalyzer(geometry.mics.length, sampleRate, model, resolved);
-  return { analyzer, model, options: resolved, geometry, speedOfSound };
+  const checks = new StreamChecks(geometry, model.pairs, model.maxLag, sampleRate, speedOfSound, where);
+  return { analyzer, model, options: resolved, geometry, speedOfSound, checks };
 }
 
 /**

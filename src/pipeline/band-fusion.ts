@@ -5,20 +5,25 @@
  * Every band b carries an evidence weight e_b >= 0 (how much direction-bearing sound it holds
  * this hop: its onset- and presence-weighted share of bins, scaled by its SNR over its own
  * noise floor) and, for each candidate c, a normalised PHAT coherence s_bc in [-1, 1] (1: every
- * weighted bin of the band agrees exactly with the candidate's lags). The fused score of a
- * candidate is
- *   F_c = sum_b e_b * max(0, s_bc)
+ * weighted bin of the band agrees exactly with the candidate's lags). Each band supports the
+ * candidate it scores best (when that score reaches MIN_SUPPORT), in proportion to its margin
+ * over the runner-up (full at FULL_SUPPORT_MARGIN), and the fused score of a candidate is the
+ * evidence of the bands that support it, weighted by their coherence and margin:
+ *   F_c = sum over bands b supporting c of e_b * s_bc * min(1, (s_bc - max(0, s_b,next)) / margin)
  * so a strong call in two bands outweighs a weak coherent rumble in five, while a band cannot
  * add more than its own evidence: a narrow-band interferer holds few bands' evidence, and an
  * aliased band supports its true and aliased lags alike, so it cannot choose between them.
- * A band supports the candidate it scores best (when that score reaches MIN_SUPPORT); the
- * supporting bands refine the winner's lags and name the band range its delay stands for.
+ * A direction between two sources, which every band finds partly coherent but none best,
+ * gathers nothing. The supporting bands refine the winner's lags and name the band range its
+ * delay stands for.
  *
  * Pure: arrays in, arrays out, no allocation per call.
  */
 
 /** A band supports its best candidate only when that coherence reaches this. */
 export const MIN_SUPPORT = 0.2;
+/** Margin of the best coherence over the runner-up at which a band gives its full support. */
+export const FULL_SUPPORT_MARGIN = 0.1;
 
 export interface FusionResult {
   /** Fused score per candidate. */
@@ -60,19 +65,22 @@ export class BandFusion {
       if (!(e > 0)) continue;
       total += e;
       let best = -1;
-      let bestS = MIN_SUPPORT;
+      let bestS = -Infinity;
+      let second = 0;
       for (let c = 0; c < K; c++) {
         const s = coherence[b * S + c]!;
-        if (s > 0) r.fused[c] = r.fused[c]! + e * s;
-        if (s >= bestS) {
+        if (s > bestS) {
+          second = Math.max(second, bestS);
           bestS = s;
           best = c;
-        }
+        } else if (s > second) second = s;
       }
-      if (best >= 0) {
-        r.supportOf[b] = best;
-        r.supportWeight[b] = e * bestS;
-      }
+      if (best < 0 || bestS < MIN_SUPPORT) continue;
+      const w = e * bestS * Math.min(1, (bestS - second) / FULL_SUPPORT_MARGIN);
+      if (!(w > 0)) continue;
+      r.supportOf[b] = best;
+      r.supportWeight[b] = w;
+      r.fused[best] = r.fused[best]! + w;
     }
     r.totalEvidence = total;
     return r;

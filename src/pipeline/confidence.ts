@@ -16,6 +16,10 @@ export interface ConfidenceFeatures {
   agree: number;
   share: number;
   snrDb: number;
+  /** Total band evidence of the hop. */
+  evidence: number;
+  /** Wavelengths across the array at the winner's mean frequency. */
+  apertureWaves: number;
 }
 
 export const CONFIDENCE_COEFFICIENTS = {

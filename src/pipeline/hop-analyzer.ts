@@ -38,6 +38,10 @@ export interface HopResult {
   /** Confidence features of the winner: share of the band evidence that agrees with it, its share of the fused scores. */
   agree: number;
   share: number;
+  /** Total band evidence of the hop (sum over bands of mean weight x SNR / 10 dB). */
+  evidence: number;
+  /** Wavelengths across the array at the winner's evidence-weighted mean frequency (the resolving power of its bands). */
+  apertureWaves: number;
   /** True when the strongest source is confident enough to report. */
   valid: boolean;
   /** Refined delay per pair for the strongest source, seconds (NaN when none). */
@@ -95,10 +99,12 @@ export class HopAnalyzer {
   private readonly candScores: Float64Array;
   private readonly bandScores: Float64Array;
   private readonly evidence: Float64Array;
-  private readonly bandBins: Float64Array;
+  private readonly snrMem: Float64Array;
   private readonly fusion: BandFusion;
   private readonly selection: Float64Array;
-  private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0 };
+  private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0, evidence: 0, apertureWaves: 0 };
+  /** The array's largest delay, seconds (the widest pair's search limit without margin). */
+  private readonly apertureS: number;
   private readonly prevLags: Float64Array;
   private prevValid = false;
   private readonly useBand: Uint8Array;
@@ -147,10 +153,13 @@ export class HopAnalyzer {
     this.candScores = new Float64Array(MAX_CANDIDATES);
     this.bandScores = new Float64Array(options.bands * MAX_CANDIDATES);
     this.evidence = new Float64Array(options.bands);
-    this.bandBins = Float64Array.from({ length: options.bands }, (_, b) => this.bands.end[b]! - this.bands.start[b]!);
+    this.snrMem = new Float64Array(options.bands);
     this.fusion = new BandFusion(options.bands, MAX_CANDIDATES);
     this.selection = new Float64Array(MAX_CANDIDATES);
     this.prevLags = new Float64Array(P);
+    let widest = 0;
+    for (let p = 0; p < P; p++) widest = Math.max(widest, model.maxLag[p]!);
+    this.apertureS = Math.max(1, widest - 1) / (1 + options.lagMargin) / sampleRate;
     this.useBand = new Uint8Array(options.bands);
     this.pairBandScores = new Float64Array(options.bands);
     this.refined = new Float64Array(P);
@@ -166,6 +175,8 @@ export class HopAnalyzer {
       confidence: 0,
       agree: 0,
       share: 0,
+      evidence: 0,
+      apertureWaves: 0,
       valid: false,
       tdoaS: new Float64Array(P),
       sourceCount: 0,
@@ -218,11 +229,12 @@ export class HopAnalyzer {
     }
     res.levelDbfs = toDb(totalMs / this.channels);
 
-    // Onset weights, the weight memory, each band's SNR over its noise floor and its evidence:
-    // the mean weight of its bins (memory included, scaled to [0, 1]) times its SNR in tens of
-    // dB (capped). The correlation for the candidates weights each band by its evidence.
+    // Onset weights, the weight memory, each band's SNR over its noise floor and its evidence
+    // (from its SNR, smoothed over the memory). Within a band the bins count by their onset and
+    // presence weights; between bands, by evidence: the correlation for the candidates gives
+    // each band the say of its evidence.
     res.onset = this.onset.update(this.power, k0, k1, this.weights);
-    this.onset.bandSnrDb(this.bands, res.bandSnrDb);
+    this.onset.bandSnrDb(this.bands, this.power, res.bandSnrDb);
     const mem = this.memory;
     for (let k = k0; k < k1; k++) this.weightAcc[k] = mem * this.weightAcc[k]! + this.weights[k]!;
     let snr = 0;
@@ -232,7 +244,8 @@ export class HopAnalyzer {
       this.bandWeight[b] = s;
       const bandSnr = res.bandSnrDb[b]!;
       if (bandSnr > snr) snr = bandSnr;
-      const e = ((s * (1 - mem)) / this.bandBins[b]!) * (Math.min(bandSnr, EVIDENCE_SNR_CAP_DB) / 10);
+      const smoothed = (this.snrMem[b] = mem * this.snrMem[b]! + (1 - mem) * bandSnr);
+      const e = s > 1e-9 ? evidenceGain(smoothed) : 0;
       this.evidence[b] = e;
       const g = e / Math.max(1e-12, s);
       for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) this.binScale[k] = g;
@@ -298,6 +311,8 @@ export class HopAnalyzer {
     res.confidence = 0;
     res.agree = 0;
     res.share = 0;
+    res.evidence = 0;
+    res.apertureWaves = 0;
     res.dominantBand = -1;
     res.supportFirstBand = -1;
     res.supportLastBand = -1;
@@ -328,6 +343,7 @@ export class HopAnalyzer {
       for (let c = 0; c < K; c++) s[b * S + c]! *= norm;
     }
     const fusion = this.fusion.fuse(K, s, this.evidence);
+    res.evidence = fusion.totalEvidence;
     if (!(fusion.totalEvidence > 0)) return;
 
     // Selection: fused score, with a preference for the previous hop's answer so that a steady
@@ -375,12 +391,16 @@ export class HopAnalyzer {
       let last = -1;
       let domBand = -1;
       let domWeight = 0;
+      let freqSum = 0;
+      let weightSum = 0;
       for (let b = 0; b < B; b++) {
         const use = fusion.supportOf[b] === c;
         this.useBand[b] = use ? 1 : 0;
         if (!use) continue;
         if (first < 0) first = b;
         last = b;
+        freqSum += fusion.supportWeight[b]! * Math.sqrt(this.bands.loHz[b]! * this.bands.hiHz[b]!);
+        weightSum += fusion.supportWeight[b]!;
         if (fusion.supportWeight[b]! > domWeight) {
           domWeight = fusion.supportWeight[b]!;
           domBand = b;
@@ -401,6 +421,9 @@ export class HopAnalyzer {
         this.features.agree = Math.min(1, f / fusion.totalEvidence);
         this.features.share = fusedTotal > 0 ? f / fusedTotal : 0;
         this.features.snrDb = res.snrDb;
+        res.apertureWaves = weightSum > 0 ? (freqSum / weightSum) * this.apertureS : 0;
+        this.features.apertureWaves = res.apertureWaves;
+        this.features.evidence = fusion.totalEvidence;
         res.agree = this.features.agree;
         res.share = this.features.share;
         res.confidence = confidenceOf(this.features);
@@ -462,4 +485,15 @@ export class HopAnalyzer {
 
 function toDb(meanSquare: number): number {
   return meanSquare > 0 ? 10 * Math.log10(meanSquare) : -200;
+}
+
+/**
+ * A band's evidence from its SNR over its noise floor (dB, smoothed over the evidence memory):
+ * it grows as the square root of the SNR in tens of dB, up to EVIDENCE_SNR_CAP_DB. Chosen on
+ * the accuracy matrix (test/bench/matrix/) against a linear and a saturating growth: a call
+ * 10-17 dB over a coherent rumble wins, and two steady sources near the floor still share the
+ * bands fairly.
+ */
+function evidenceGain(snrDb: number): number {
+  return Math.sqrt(Math.min(snrDb, EVIDENCE_SNR_CAP_DB) / 10);
 }

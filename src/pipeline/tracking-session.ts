@@ -4,6 +4,7 @@ import type { TrackerOptions } from '../track/options.js';
 import type { EventRecord, FrameRecord } from '../records.js';
 import { bearingOf, round, toFrameRecord, type FrameRecordSettings } from './frame-record.js';
 import type { HopResult } from './hop-analyzer.js';
+import type { StreamChecks } from './stream-checks.js';
 
 export interface SessionOutputs {
   /** Called for every hop's frame record (when frames are wanted). */
@@ -12,6 +13,8 @@ export interface SessionOutputs {
   onEvent?: (rec: EventRecord) => void | Promise<void> | undefined;
   /** For live streams: the UTC time of a stream time, ISO 8601. */
   utcAt?: (timeS: number) => string;
+  /** Told each stream-check warning once (window edge, geometry). */
+  onWarning?: (message: string) => void;
 }
 
 /**
@@ -32,6 +35,7 @@ export class TrackingSession {
     private readonly settings: FrameRecordSettings,
     tracker: Partial<TrackerOptions>,
     private readonly outputs: SessionOutputs,
+    private readonly checks: StreamChecks | null = null,
   ) {
     this.tracker = new Tracker({ ...tracker, mirroredPair: settings.pairs.length === 1 });
     this.candidates = [];
@@ -41,6 +45,10 @@ export class TrackingSession {
   /** One hop. Returns a promise when a sink asks to wait. */
   hop(r: HopResult): Promise<void> | undefined {
     this.hops++;
+    if (this.checks) {
+      const warning = this.checks.observe(r);
+      if (warning !== null) this.outputs.onWarning?.(warning);
+    }
     const cands = this.candidates;
     cands.length = 0;
     for (let i = 0; i < r.sourceCount; i++) cands.push(r.sources[i]!);
@@ -70,12 +78,19 @@ export class TrackingSession {
 
   /** End of stream: emit the events still open. */
   finish(): Promise<void> | undefined {
+    const warning = this.checks?.finish() ?? null;
+    if (warning !== null) this.outputs.onWarning?.(warning);
     for (const e of this.tracker.finish()) this.emit(e);
     return this.drain();
   }
 
   summary(): TrackSummary[] {
     return this.tracker.summary();
+  }
+
+  /** The stream-check warnings that apply (for --summary). */
+  warnings(): string[] {
+    return this.checks?.warnings() ?? [];
   }
 
   private emit(e: EventRecord): void {

@@ -9,7 +9,7 @@ import { UsageError } from '../errors.js';
 export interface TrackerOptions {
   /** The array is a two-mic pair: azimuths lie in [-90, 90] and a source behind reads as its mirror in front. Set from the geometry, not a flag. */
   mirroredPair: boolean;
-  /** Standard deviation of a candidate's azimuth at score 1, degrees (grows as 1/score). */
+  /** Standard deviation of a candidate's azimuth at hop confidence x score 1, degrees (its variance grows as 1 / (confidence x score)). */
   bearingNoiseDeg: number;
   /** How far a track's angular rate may wander in one second (1 sigma), deg/s. */
   rateWanderDegS: number;
@@ -146,7 +146,7 @@ export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
     help: 'two-mic pair: azimuths in [-90, 90], a source behind reads as its mirror in front (set from the geometry)',
   },
   numberSpec('bearingNoiseDeg', '--bearing-noise <deg>', 'deg', 3, { min: 0, max: 45, minExclusive: true },
-    'spread (1 sigma) of a candidate azimuth at score 1; weaker candidates count as noisier'),
+    'spread (1 sigma) of a candidate azimuth at confidence x score 1; less confident candidates count as noisier'),
   numberSpec('rateWanderDegS', '--rate-wander <deg/s>', 'deg/s', 3, { min: 0, max: 1000 },
     'how much a source\'s angular rate may change within one second (1 sigma)'),
   numberSpec('maxRateDegS', '--max-rate <deg/s>', 'deg/s', 90, { min: 0, max: 3600 },

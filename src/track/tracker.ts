@@ -234,7 +234,7 @@ export class Tracker {
       sc.candAz[j] = az;
       sc.candEl[j] = el === null ? NaN : el;
       sc.candScore[j] = c.score;
-      sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, c.score));
+      sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, conf * c.score));
     }
     return nC;
   }

@@ -36,6 +36,17 @@ export interface BearlineHop {
   readonly conf: number;
   /** Delay of pair (0, 1), seconds; null without a direction. */
   readonly tdoa0: number | null;
+  /** The confidence features of the hop's strongest candidate (src/pipeline/confidence.ts), null when it had none. */
+  readonly features: HopFeatures | null;
+}
+
+export interface HopFeatures {
+  readonly agree: number;
+  readonly share: number;
+  readonly snrDb: number;
+  readonly evidence: number;
+  readonly apertureWaves: number;
+  readonly onset: number;
 }
 
 export interface BearlineEvent {
@@ -129,17 +140,21 @@ export function runBearline(mics: readonly Vec3[], sampleRate: number, speedOfSo
     settings.tracker,
     {
       onFrame: (f) => {
-        hops.push({ t: f.time_s, az: f.azimuth_deg, el: f.elevation_deg, conf: f.confidence, tdoa0: f.tdoa_s[0] ?? null });
+        hops.push({ t: f.time_s, az: f.azimuth_deg, el: f.elevation_deg, conf: f.confidence, tdoa0: f.tdoa_s[0] ?? null, features: null });
       },
       onEvent: (e) => {
         events.push({ start: e.start_s, end: e.end_s, az: e.azimuth_deg, el: e.elevation_deg ?? null });
       },
     },
   );
+  const features: (HopFeatures | null)[] = [];
   const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop);
   framer.push(channels as Float32Array[], channels[0]!.length, (frames) => {
-    void session.hop(setup.analyzer.process(frames));
+    const r = setup.analyzer.process(frames);
+    features.push(r.sourceCount > 0 ? { agree: r.agree, share: r.share, snrDb: r.snrDb, evidence: r.evidence, apertureWaves: r.apertureWaves, onset: r.onset } : null);
+    void session.hop(r);
   });
+  hops.forEach((h, i) => ((h as { features: HopFeatures | null }).features = features[i] ?? null));
   void session.finish();
   return { hops, events, frame: setup.analyzer.frame, hop: setup.analyzer.hop };
 }

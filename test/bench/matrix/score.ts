@@ -29,7 +29,7 @@ import { angleError, type Ambiguity } from './angles.js';
 import type { BaselineHop } from './baseline.js';
 import type { Family, ScheduleKind, Split } from './corpus.js';
 import type { RenderedCell, Role } from './render.js';
-import type { BearlineRun } from './run-bearline.js';
+import type { BearlineRun, HopFeatures } from './run-bearline.js';
 
 export const WITHIN_DEG = [2, 5, 10] as const;
 export const GRACE_S = 0.15;
@@ -49,6 +49,8 @@ export interface HopRow {
   /** Degrees to the nearest present source; null without a direction or without a present source. */
   readonly err: number | null;
   readonly calling: boolean;
+  /** Confidence features of the hop (for fitting the confidence), null when it had no candidate. */
+  readonly features: HopFeatures | null;
 }
 
 export interface MethodAngles {
@@ -170,7 +172,7 @@ export function scoreCell(r: RenderedCell, run: BearlineRun, base: readonly Base
       gapHops++;
       if (est) gapWithDirection++;
     }
-    rows.push({ cell: cell.id, split: cell.split, family: cell.family, t: h.t, conf: h.conf, dir: est !== null, err: err === null ? null : Math.round(err * 1000) / 1000, calling: c.calling });
+    rows.push({ cell: cell.id, split: cell.split, family: cell.family, t: h.t, conf: h.conf, dir: est !== null, err: err === null ? null : Math.round(err * 1000) / 1000, calling: c.calling, features: h.features });
   }
   const baseErrs: (number | null)[] = [];
   const baseDelays: number[] = [];

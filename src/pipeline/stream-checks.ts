@@ -1,0 +1,142 @@
+/**
+ * Checks on a whole stream that a user must hear about once, plainly:
+ *
+ * - Window edge: the delays searched for are limited to what the geometry allows (spacing / c
+ *   plus --lag-margin). When a large share of the confident hops put a pair's delay at that
+ *   limit, or beyond spacing / c, the true delay probably lies beyond what the geometry allows: the spacing given is too small, or the
+ *   channels are not the mics the geometry names.
+ * - Geometry: the per-pair delays of a confident hop should be those of one direction,
+ *   (p_a - p_b) . u / c (interface.md). When many hops' delays stay far from the delays of
+ *   the direction they solve to (the closure error), the geometry file does not describe the
+ *   array (positions, units or channel order wrong).
+ * Both point to `bearline check-array`. Pure: hop results in, messages out; no I/O.
+ */
+import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
+import { dot, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
+import type { HopResult } from './hop-analyzer.js';
+
+/** Confident hops needed before a check may speak. */
+const MIN_HOPS = 30;
+/** Share of confident hops at the window edge (or off the geometry) that triggers the warning. */
+const TRIGGER_SHARE = 0.25;
+/** A delay within this many samples of the search limit, or of the physical limit D / c or beyond it, sits at the edge. */
+const EDGE_SAMPLES = 1;
+const NEAR_PHYSICAL_SAMPLES = 0.2;
+/** A hop is off the geometry when its RMS closure error exceeds this many samples ... */
+const CLOSURE_SAMPLES = 1.5;
+/** ... and this share of the array's largest delay. */
+const CLOSURE_SHARE = 0.1;
+
+export interface StreamCheckFigures {
+  confidentHops: number;
+  edgeHops: number;
+  offGeometryHops: number;
+}
+
+export class StreamChecks {
+  private readonly baselines: Vec3[];
+  /** Physical delay limit per pair, |p_a - p_b| / c, samples. */
+  private readonly physical: Float64Array;
+  private readonly largestLag: number;
+  private confident = 0;
+  private edge = 0;
+  private offGeometry = 0;
+  private saidEdge = false;
+  private saidGeometry = false;
+
+  constructor(
+    geometry: ArrayGeometry,
+    readonly pairs: readonly MicPair[],
+    private readonly maxLag: Int32Array,
+    private readonly sampleRate: number,
+    private readonly speedOfSound: number,
+    private readonly where: string = 'the stream',
+  ) {
+    this.baselines = pairs.map(([a, b]) => sub(geometry.mics[a]!.position, geometry.mics[b]!.position));
+    this.physical = Float64Array.from(this.baselines, (b) => (Math.sqrt(dot(b, b)) / speedOfSound) * sampleRate);
+    this.largestLag = Math.max(1, ...Array.from(maxLag));
+  }
+
+  /** Feed one hop; returns a warning the first time a check trips, else null. */
+  observe(r: HopResult): string | null {
+    if (!r.valid) return null;
+    this.confident++;
+    const P = this.pairs.length;
+    let atEdge = false;
+    for (let p = 0; p < P; p++) {
+      const lag = Math.abs(r.tdoaS[p]! * this.sampleRate);
+      if (lag >= this.maxLag[p]! - EDGE_SAMPLES || lag >= this.physical[p]! - NEAR_PHYSICAL_SAMPLES) atEdge = true;
+    }
+    if (atEdge) this.edge++;
+    if (P > 1) {
+      const top = r.sources[0]!;
+      const u = unitFromAzEl(top.azimuthDeg, top.elevationDeg ?? 0);
+      let sq = 0;
+      for (let p = 0; p < P; p++) {
+        const predicted = (dot(this.baselines[p]!, u) / this.speedOfSound) * this.sampleRate;
+        const e = r.tdoaS[p]! * this.sampleRate - predicted;
+        sq += e * e;
+      }
+      const rms = Math.sqrt(sq / P);
+      if (rms > CLOSURE_SAMPLES && rms > CLOSURE_SHARE * this.largestLag) this.offGeometry++;
+    }
+    return this.check(false);
+  }
+
+  /** End of stream: the warnings not yet said (checked on whatever hops there were). */
+  finish(): string | null {
+    return this.check(true);
+  }
+
+  /** Every warning that applies to the stream so far (for --summary). */
+  warnings(): string[] {
+    const out: string[] = [];
+    if (this.edgeTripped(true)) out.push(this.edgeMessage());
+    if (this.geometryTripped(true)) out.push(this.geometryMessage());
+    return out;
+  }
+
+  figures(): StreamCheckFigures {
+    return { confidentHops: this.confident, edgeHops: this.edge, offGeometryHops: this.offGeometry };
+  }
+
+  private edgeTripped(final: boolean): boolean {
+    return this.confident >= (final ? 10 : MIN_HOPS) && this.edge > TRIGGER_SHARE * this.confident;
+  }
+
+  private geometryTripped(final: boolean): boolean {
+    return this.confident >= (final ? 10 : MIN_HOPS) && this.offGeometry > TRIGGER_SHARE * this.confident;
+  }
+
+  private check(final: boolean): string | null {
+    const msgs: string[] = [];
+    if (!this.saidEdge && this.edgeTripped(final)) {
+      this.saidEdge = true;
+      msgs.push(this.edgeMessage());
+    }
+    if (!this.saidGeometry && this.geometryTripped(final)) {
+      this.saidGeometry = true;
+      msgs.push(this.geometryMessage());
+    }
+    return msgs.length ? msgs.join('\n') : null;
+  }
+
+  private edgeMessage(): string {
+    const pct = Math.round((100 * this.edge) / Math.max(1, this.confident));
+    return (
+      `${pct} % of the confident hops in ${this.where} put a delay at or beyond the largest delay the ` +
+      `geometry allows (spacing / speed of sound): unless the sources sit on the line through the mics, ` +
+      `the true delay is larger, so the spacing given is too small or the channels are not the mics the ` +
+      `geometry names; check the array with 'bearline check-array'`
+    );
+  }
+
+  private geometryMessage(): string {
+    const pct = Math.round((100 * this.offGeometry) / Math.max(1, this.confident));
+    return (
+      `${pct} % of the confident hops in ${this.where} have pair delays that fit no single direction of this ` +
+      `geometry: the geometry file probably does not describe the array (positions, units or channel order); ` +
+      `check it with 'bearline check-array'`
+    );
+  }
+}
