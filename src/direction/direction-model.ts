@@ -1,5 +1,6 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import type { MicPair } from '../geometry/array-geometry.js';
+import type { ArrayMirror } from '../geometry/array-mirror.js';
 
 /** A direction in the array frame (interface.md): degrees; elevation null when unresolvable. */
 export interface Direction {
@@ -16,7 +17,8 @@ export interface DirectionModel {
   readonly pairs: readonly MicPair[];
   /** Largest lag searched per pair, whole samples (physical limit plus margin). */
   readonly maxLag: Int32Array;
-  readonly mirror: 'front-back' | 'up-down' | null;
+  /** The mirror ambiguity the array carries (src/geometry/array-mirror.ts), null for a solid array. */
+  readonly mirror: ArrayMirror | null;
   /**
    * Candidates from this hop's correlations, best first: writes candidate c's lag for pair p
    * to lagsOut[c * pairs + p] (samples) and its score to scoresOut[c]; returns the count.
@@ -33,3 +35,4 @@ export interface DirectionModel {
 export function searchLagLimit(spacingM: number, sampleRate: number, speedOfSound: number, lagMargin: number, frame: number): number {
   return Math.min(frame / 2 - 2, Math.ceil((spacingM / speedOfSound) * sampleRate * (1 + lagMargin)) + 1);
 }
+

@@ -33,7 +33,7 @@ export class TrackingSession {
     tracker: Partial<TrackerOptions>,
     private readonly outputs: SessionOutputs,
   ) {
-    this.tracker = new Tracker({ ...tracker, mirroredPair: settings.pairs.length === 1 });
+    this.tracker = new Tracker({ ...tracker, mirror: settings.mirror });
     this.candidates = [];
     this.obs = { timeS: 0, levelDbfs: 0, onset: 0, confidence: 0, candidates: this.candidates, bandHz: null };
   }
