@@ -30,9 +30,19 @@ export interface DirectionModel {
 
 /**
  * Largest lag searched for a pair (whole samples): the physical limit spacing / c, plus the
- * margin, plus one sample for the peak's neighbour, and never past half a frame.
+ * margin, plus one sample for the peak's neighbour. The frame must hold it with room to spare:
+ * see minimumFrame (src/pipeline/analysis-options.ts), which sizes or checks the frame.
  */
-export function searchLagLimit(spacingM: number, sampleRate: number, speedOfSound: number, lagMargin: number, frame: number): number {
-  return Math.min(frame / 2 - 2, Math.ceil((spacingM / speedOfSound) * sampleRate * (1 + lagMargin)) + 1);
+export function searchLagLimit(spacingM: number, sampleRate: number, speedOfSound: number, lagMargin: number): number {
+  return Math.ceil((spacingM / speedOfSound) * sampleRate * (1 + lagMargin)) + 1;
 }
 
+/**
+ * Guard: a model's lag window must fit well inside the frame (the analysis options size or
+ * check the frame before models are built, so this failing is a programming error).
+ */
+export function checkLagFitsFrame(maxLag: Int32Array, frame: number): void {
+  for (const lag of maxLag) {
+    if (lag > frame / 2 - 2) throw new Error(`lag window of ${lag} samples does not fit a ${frame}-sample frame (size the frame with minimumFrame)`);
+  }
+}

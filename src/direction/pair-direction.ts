@@ -3,7 +3,7 @@ import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
 import { mirrorOfLine, type ArrayMirror } from '../geometry/array-mirror.js';
 import { norm, sub, type Vec3 } from '../geometry/vec3.js';
 import { coneAzimuthDeg } from './cone.js';
-import { searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
+import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
 
 const DEG = 180 / Math.PI;
 
@@ -48,7 +48,8 @@ export class PairDirectionModel implements DirectionModel {
     this.spacing = norm(axis);
     this.axis = [axis[0] / this.spacing, axis[1] / this.spacing, axis[2] / this.spacing];
     this.mirror = mirrorOfLine(this.axis, geometry.name);
-    this.maxLag = Int32Array.of(searchLagLimit(this.spacing, sampleRate, speedOfSound, lagMargin, frame));
+    this.maxLag = Int32Array.of(searchLagLimit(this.spacing, sampleRate, speedOfSound, lagMargin));
+    checkLagFitsFrame(this.maxLag, frame);
   }
 
   findCandidates(correlators: readonly PairCorrelator[], maxCount: number, lagsOut: Float64Array, scoresOut: Float64Array): number {

@@ -4,7 +4,7 @@ import { arrayMirror, type ArrayMirror } from '../geometry/array-mirror.js';
 import { arrayShape, type ArrayShape } from '../geometry/array-shape.js';
 import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
 import { coneAzimuthDeg } from './cone.js';
-import { searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
+import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
 
 /** Smallest automatic grid step (degrees): finer grids cost time and the refinement recovers the rest. */
 const MIN_AUTO_STEP_DEG = 2.5;
@@ -66,7 +66,8 @@ export class SrpDirectionModel implements DirectionModel {
     this.pairs = micPairs(geometry);
     const P = this.pairs.length;
     this.baselines = this.pairs.map(([a, b]) => sub(geometry.mics[a]!.position, geometry.mics[b]!.position));
-    this.maxLag = Int32Array.from(this.baselines, (bl) => searchLagLimit(norm(bl), sampleRate, speedOfSound, lagMargin, frame));
+    this.maxLag = Int32Array.from(this.baselines, (bl) => searchLagLimit(norm(bl), sampleRate, speedOfSound, lagMargin));
+    checkLagFitsFrame(this.maxLag, frame);
     const shaped = arrayShape(geometry);
     const { shape, axis } = shaped;
     this.shape = shape;
