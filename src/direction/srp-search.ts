@@ -268,7 +268,10 @@ export class SrpDirectionModel implements DirectionModel {
       uz += c * e[2];
     }
     let len = Math.hypot(ux, uy, uz);
-    if (!(len > 1e-9)) return false;
+    if (!Number.isFinite(len)) return false;
+    // A zero fit is a direction for a line (broadside: the cone is the plane across the axis) and
+    // for a plane (along its normal); only a solid array needs a vector to normalise.
+    if (this.shape === 'solid' && !(len > 1e-9)) return false;
     if (this.shape === 'solid' || len > 1) {
       ux /= len;
       uy /= len;

@@ -46,12 +46,19 @@ export interface ArrayMirror {
   readonly sideDeg: number | null;
 }
 
-/** A mirror plane within this angle of holding the y axis counts as holding it (the tie goes to the right). */
-export const ALONG_Y_TOLERANCE_DEG = 1;
+/**
+ * A mirror plane within this angle of holding the y axis counts as holding it (the tie goes to
+ * the right). Near y the two images' front components differ little and which is larger turns on
+ * the sign of the tilt, so a pair laid along y by hand (a few degrees off) would report left or
+ * right by chance; within this tolerance it always reports the right.
+ */
+export const ALONG_Y_TOLERANCE_DEG = 5;
 /** A line steeper than this (degrees from horizontal) resolves mostly elevation: refused. */
 export const MAX_LINE_TILT_DEG = 60;
 
 const DEG = 180 / Math.PI;
+/** Components this close count as equal (a 45 degree axis given with rounded positions is a tie). */
+const TIE = 1e-9;
 
 /** The mirror of a plane with this normal (any length, any sign), oriented by the convention. */
 export function mirrorOfPlaneNormal(normal: Vec3): ArrayMirror {
@@ -61,7 +68,7 @@ export function mirrorOfPlaneNormal(normal: Vec3): ArrayMirror {
   const ax = Math.abs(x);
   const ay = Math.abs(y);
   const az = Math.abs(z);
-  if (az >= Math.max(ax, ay)) {
+  if (az >= Math.max(ax, ay) - TIE) {
     const s = z >= 0 ? 1 : -1;
     return { kind: 'up-down', normal: [s * x, s * y, s * z], axisDeg: null, sideDeg: null };
   }
@@ -72,7 +79,7 @@ export function mirrorOfPlaneNormal(normal: Vec3): ArrayMirror {
   const n: Vec3 = [s * x, s * y, s * z];
   const sideDeg = wrapDeg(Math.atan2(n[0], n[1]) * DEG);
   const axisDeg = (((sideDeg + 90) % 180) + 180) % 180;
-  return { kind: ay >= ax ? 'front-back' : 'left-right', normal: n, axisDeg, sideDeg };
+  return { kind: ay >= ax - TIE ? 'front-back' : 'left-right', normal: n, axisDeg, sideDeg };
 }
 
 /**
