@@ -3,6 +3,7 @@
  * outside contract of ../shared/interface.md: snake_case, angles in degrees, times in seconds
  * from the start of the stream.
  */
+import type { MirrorKind } from './geometry/array-mirror.js';
 
 /** One direction candidate of a hop (the strongest is repeated in the frame's top-level fields). */
 export interface SourceEstimate {
@@ -49,8 +50,10 @@ export interface FrameRecord {
   levels_dbfs?: number[];
   /** The band votes of this hop (for the viewer's band chart). */
   band_votes?: BandVote[];
-  /** Which mirror ambiguity the estimate carries: a pair cannot tell front from back. */
-  mirror?: 'front-back' | 'up-down' | null;
+  /** Which mirror ambiguity the estimate carries (src/geometry/array-mirror.ts): the component the mirror flips most. */
+  mirror?: MirrorKind | null;
+  /** For a mirror that flips azimuth (a line, an upright planar array): azimuth a reads the same as 2 x this - a. */
+  mirror_axis_deg?: number;
   /** Onset strength of the hop in [0, 1]. */
   onset?: number;
   sources?: SourceEstimate[];
@@ -72,6 +75,7 @@ export interface EventRecord {
   peak_dbfs?: number;
   /** Dominant frequency band of the event, Hz. */
   band_hz?: [number, number];
-  mirror?: 'front-back' | 'up-down' | null;
+  mirror?: MirrorKind | null;
+  mirror_axis_deg?: number;
   station?: string;
 }

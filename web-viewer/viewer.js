@@ -82,8 +82,14 @@ function onFrame(msg, now) {
   el.bearing.dataset.value = hasBearing ? String(msg.bearing_deg) : '';
   const bits = [`t ${Number(msg.time_s).toFixed(2)} s`, `confidence ${clamp01(msg.confidence).toFixed(2)}`];
   if (typeof msg.level_dbfs === 'number') bits.push(`${msg.level_dbfs.toFixed(0)} dBFS`);
-  if (msg.mirror === 'front-back') bits.push('front/back ambiguous');
+  if (mirrorAxis(msg) !== null) bits.push(`${msg.mirror.replace('-', '/')} ambiguous`);
   el.hop.textContent = bits.join(' · ');
+}
+
+/** Axis of a record's azimuth mirror (a reads as 2 axis - a), or null; older records: a 'front-back' pair along x. */
+function mirrorAxis(rec) {
+  if (typeof rec.mirror_axis_deg === 'number') return rec.mirror_axis_deg;
+  return rec.mirror === 'front-back' ? 90 : null;
 }
 
 function onEventLike(msg, now) {
@@ -335,9 +341,10 @@ function drawDial(now) {
     ctx.beginPath();
     ctx.arc(cx + xo, cy + yo, R * (0.025 + 0.045 * d.score), 0, Math.PI * 2);
     ctx.fill();
-    if (f.mirror === 'front-back') {
-      // The mirror image a pair cannot tell apart: a hollow bead.
-      const [xm, ym] = polar(180 - d.az, R * 0.86);
+    const axis = mirrorAxis(f);
+    if (axis !== null) {
+      // The mirror image a pair or line cannot tell apart (across its axis): a hollow bead.
+      const [xm, ym] = polar(2 * axis - d.az, R * 0.86);
       ctx.globalAlpha = alpha * 0.6;
       ctx.lineWidth = 2;
       ctx.setLineDash([4, 4]);

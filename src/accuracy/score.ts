@@ -5,7 +5,8 @@
  * - A hop counts as voiced when at least one source of the truth is active at its time
  *   (the truth step nearest the centre of its frame). Its error is the angle between the
  *   hop's strongest direction and the nearest active source, on the circle of azimuths
- *   (folded to the front for a pair, which cannot tell front from back). A voiced hop
+ *   (taken modulo the array's mirror where it flips azimuth: a pair or line along any axis, an
+ *   upright planar array; the records name its axis). A voiced hop
  *   without a direction is a miss: it counts against the within-X shares.
  * - Median and 90th percentile are taken over the voiced hops that gave a direction.
  * - Delay errors per pair are measured on hops where one fixed source is the only one
@@ -15,6 +16,8 @@
  *   of that small-error regime, not of gross errors (a wrong peak), which the shares count.
  */
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
+import type { MirrorKind } from '../geometry/array-mirror.js';
+import { mirrorImageDeg } from '../geometry/array-mirror.js';
 import { dot, sub, unitFromAzEl, wrapDeg } from '../geometry/vec3.js';
 import type { TruthIndex, TruthRecord } from './truth.js';
 
@@ -23,7 +26,8 @@ export interface HopEstimate {
   readonly time_s: number;
   readonly azimuth_deg: number | null;
   readonly tdoa_s: readonly (number | null)[];
-  readonly mirror?: 'front-back' | 'up-down' | null;
+  readonly mirror?: MirrorKind | null;
+  readonly mirror_axis_deg?: number;
 }
 
 export const WITHIN_DEG = [2, 5, 10] as const;
@@ -78,19 +82,25 @@ export interface ScoreSetup {
   delayBound?: (source: string, pairIndex: number) => number | null;
 }
 
-/** Fold an azimuth onto the front half (-90..90), as a pair sees it. */
-export function foldFront(az: number): number {
-  const a = wrapDeg(az);
-  if (a > 90) return 180 - a;
-  if (a < -90) return -180 - a;
-  return a;
+/**
+ * The axis (degrees) of a record's azimuth mirror, or null when its azimuth has none: the
+ * record's mirror_axis_deg; records written before it existed named only 'front-back', which
+ * was then always the pair of interface.md along x (axis 90).
+ */
+export function mirrorAxisOf(rec: { readonly mirror?: MirrorKind | null; readonly mirror_axis_deg?: number }): number | null {
+  if (rec.mirror_axis_deg !== undefined) return rec.mirror_axis_deg;
+  return rec.mirror === 'front-back' ? 90 : null;
 }
 
-/** Angle between an estimated and a true azimuth, degrees in [0, 180]. */
-export function azimuthError(estimated: number, truth: number, mirror: HopEstimate['mirror']): number {
-  const t = mirror === 'front-back' ? foldFront(truth) : truth;
-  const e = mirror === 'front-back' ? foldFront(estimated) : estimated;
-  return Math.abs(wrapDeg(e - t));
+/**
+ * Angle between an estimated and a true azimuth, degrees in [0, 180]; with a mirror axis, the
+ * smaller angle to the truth or to its mirror image 2 axis - truth (for an estimate on the
+ * reported side this is the angle between the two folded onto that side).
+ */
+export function azimuthError(estimated: number, truth: number, mirrorAxisDeg: number | null): number {
+  const direct = Math.abs(wrapDeg(estimated - truth));
+  if (mirrorAxisDeg === null) return direct;
+  return Math.min(direct, Math.abs(wrapDeg(estimated - mirrorImageDeg(truth, mirrorAxisDeg))));
 }
 
 /** Sorted-sample quantile by nearest rank (common practice, no source). */
@@ -142,12 +152,13 @@ export function scoreHops(hops: readonly HopEstimate[], truth: TruthIndex, setup
   const P = setup.pairs.length;
   const sq = new Map<string, { n: Int32Array; sum: Float64Array; gn: Int32Array; gsum: Float64Array }>();
   for (const h of hops) {
+    const axis = mirrorAxisOf(h);
     const active = truth.activeAt(h.time_s);
     if (active.length === 0) continue;
     let err: number | null = null;
     if (h.azimuth_deg !== null) {
       err = Infinity;
-      for (const r of active) err = Math.min(err, azimuthError(h.azimuth_deg, r.azimuth_deg, h.mirror));
+      for (const r of active) err = Math.min(err, azimuthError(h.azimuth_deg, r.azimuth_deg, axis));
     }
     all.add(err);
     if (active.length !== 1) continue;

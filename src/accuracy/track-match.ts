@@ -8,7 +8,7 @@ import { circularStdDeg } from '../track/circular.js';
 import { wrapDeg } from '../geometry/vec3.js';
 import type { EventRecord } from '../records.js';
 import { circularMeanDeg } from '../track/circular.js';
-import { azimuthError } from './score.js';
+import { azimuthError, mirrorAxisOf } from './score.js';
 import type { TruthIndex, TruthRecord } from './truth.js';
 
 export interface TrackMatch {
@@ -63,7 +63,7 @@ export function eventSource(truth: TruthIndex, e: EventRecord, step: number): { 
   let bestErr = Infinity;
   for (const [source, azimuths] of by) {
     const az = circularMeanDeg(azimuths);
-    const err = azimuthError(e.azimuth_deg, az, e.mirror ?? null);
+    const err = azimuthError(e.azimuth_deg, az, mirrorAxisOf(e));
     if (err < bestErr) {
       bestErr = err;
       best = { source, azimuthDeg: az };

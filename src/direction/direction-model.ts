@@ -1,5 +1,6 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import type { MicPair } from '../geometry/array-geometry.js';
+import type { ArrayMirror } from '../geometry/array-mirror.js';
 
 /** A direction in the array frame (interface.md): degrees; elevation null when unresolvable. */
 export interface Direction {
@@ -16,7 +17,8 @@ export interface DirectionModel {
   readonly pairs: readonly MicPair[];
   /** Largest lag searched per pair, whole samples (physical limit plus margin). */
   readonly maxLag: Int32Array;
-  readonly mirror: 'front-back' | 'up-down' | null;
+  /** The mirror ambiguity the array carries (src/geometry/array-mirror.ts), null for a solid array. */
+  readonly mirror: ArrayMirror | null;
   /**
    * Candidates from this hop's correlations, best first: writes candidate c's lag for pair p
    * to lagsOut[c * pairs + p] (samples) and its score to scoresOut[c]; returns the count.
@@ -28,8 +30,19 @@ export interface DirectionModel {
 
 /**
  * Largest lag searched for a pair (whole samples): the physical limit spacing / c, plus the
- * margin, plus one sample for the peak's neighbour, and never past half a frame.
+ * margin, plus one sample for the peak's neighbour. The frame must hold it with room to spare:
+ * see minimumFrame (src/pipeline/analysis-options.ts), which sizes or checks the frame.
  */
-export function searchLagLimit(spacingM: number, sampleRate: number, speedOfSound: number, lagMargin: number, frame: number): number {
-  return Math.min(frame / 2 - 2, Math.ceil((spacingM / speedOfSound) * sampleRate * (1 + lagMargin)) + 1);
+export function searchLagLimit(spacingM: number, sampleRate: number, speedOfSound: number, lagMargin: number): number {
+  return Math.ceil((spacingM / speedOfSound) * sampleRate * (1 + lagMargin)) + 1;
+}
+
+/**
+ * Guard: a model's lag window must fit well inside the frame (the analysis options size or
+ * check the frame before models are built, so this failing is a programming error).
+ */
+export function checkLagFitsFrame(maxLag: Int32Array, frame: number): void {
+  for (const lag of maxLag) {
+    if (lag > frame / 2 - 2) throw new Error(`lag window of ${lag} samples does not fit a ${frame}-sample frame (size the frame with minimumFrame)`);
+  }
 }

@@ -1,7 +1,9 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
-import { norm, sub, wrapDeg } from '../geometry/vec3.js';
-import { searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
+import { mirrorOfLine, type ArrayMirror } from '../geometry/array-mirror.js';
+import { norm, sub, type Vec3 } from '../geometry/vec3.js';
+import { coneAzimuthDeg } from './cone.js';
+import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
 
 const DEG = 180 / Math.PI;
 
@@ -19,14 +21,18 @@ export function pairTdoaS(azimuthDeg: number, spacingM: number, speedOfSound: nu
   return (-spacingM * Math.sin(azimuthDeg / DEG)) / speedOfSound;
 }
 
-/** The two-mic direction model: candidates are the correlation's peaks. */
+/**
+ * The two-mic direction model: candidates are the correlation's peaks. The pair may lie along
+ * any axis (within the tilt limit of src/geometry/array-mirror.ts): its delay gives the angle
+ * to the axis, reported as the horizontal direction on the side the mirror convention picks.
+ */
 export class PairDirectionModel implements DirectionModel {
   readonly pairs: readonly MicPair[] = [[0, 1]];
   readonly maxLag: Int32Array;
-  readonly mirror = 'front-back' as const;
+  readonly mirror: ArrayMirror;
   private readonly spacing: number;
-  /** Azimuth of the pair's axis (mic 0 towards mic 1), degrees; 90 for the pair of interface.md. */
-  private readonly axisAzimuthDeg: number;
+  /** Unit vector from mic 0 to mic 1. */
+  private readonly axis: Vec3;
   private readonly heights = new Float64Array(16);
   private readonly lags = new Float64Array(16);
 
@@ -40,8 +46,10 @@ export class PairDirectionModel implements DirectionModel {
     if (geometry.mics.length !== 2) throw new Error('PairDirectionModel needs exactly two mics');
     const axis = sub(geometry.mics[1]!.position, geometry.mics[0]!.position);
     this.spacing = norm(axis);
-    this.axisAzimuthDeg = Math.atan2(axis[0], axis[1]) * DEG;
-    this.maxLag = Int32Array.of(searchLagLimit(this.spacing, sampleRate, speedOfSound, lagMargin, frame));
+    this.axis = [axis[0] / this.spacing, axis[1] / this.spacing, axis[2] / this.spacing];
+    this.mirror = mirrorOfLine(this.axis, geometry.name);
+    this.maxLag = Int32Array.of(searchLagLimit(this.spacing, sampleRate, speedOfSound, lagMargin));
+    checkLagFitsFrame(this.maxLag, frame);
   }
 
   findCandidates(correlators: readonly PairCorrelator[], maxCount: number, lagsOut: Float64Array, scoresOut: Float64Array): number {
@@ -54,11 +62,11 @@ export class PairDirectionModel implements DirectionModel {
   }
 
   solve(lags: Float64Array, offset: number, out: Direction): boolean {
-    // The angle between the pair's axis and the source is acos(-c tdoa / D); of the two mirror
-    // directions the one in front of the axis (counter-clockwise side) is reported, which for
-    // the pair of interface.md (axis along +x) is exactly -asin(c tdoa / D).
-    const az = pairAzimuthDeg(lags[offset]! / this.sampleRate, this.spacing, this.speedOfSound);
-    out.azimuthDeg = wrapDeg(this.axisAzimuthDeg - 90 + az);
+    // tdoa = (p_0 - p_1) . u / c (interface.md), so u . axis = -c tdoa / D: the cosine of the
+    // angle between the source and the axis. For the pair of interface.md (axis along +x,
+    // reported side the front) this is azimuth = 90 - acos(-c tdoa / D) = -asin(c tdoa / D).
+    const cosAngle = -(this.speedOfSound * lags[offset]!) / this.sampleRate / this.spacing;
+    out.azimuthDeg = coneAzimuthDeg(cosAngle, this.axis, this.mirror);
     out.elevationDeg = null;
     return true;
   }

@@ -1,70 +1,10 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import { micPairs, type ArrayGeometry, type MicPair } from '../geometry/array-geometry.js';
+import { arrayMirror, type ArrayMirror } from '../geometry/array-mirror.js';
+import { arrayShape, type ArrayShape } from '../geometry/array-shape.js';
 import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
-import { searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
-
-/** The shape of an array decides what it can resolve. */
-export type ArrayShape = 'line' | 'plane' | 'solid';
-
-/** Principal axes of the mic positions: shape, and the line's axis or the plane's normal. */
-export function arrayShape(g: ArrayGeometry): { shape: ArrayShape; axis: Vec3 } {
-  const n = g.mics.length;
-  const c = [0, 0, 0];
-  for (const m of g.mics) for (let i = 0; i < 3; i++) c[i]! += m.position[i]! / n;
-  // Scatter matrix and its eigenvalues by Jacobi rotations (3x3, symmetric).
-  const a = [
-    [0, 0, 0],
-    [0, 0, 0],
-    [0, 0, 0],
-  ];
-  for (const m of g.mics) {
-    const d = [m.position[0] - c[0]!, m.position[1] - c[1]!, m.position[2] - c[2]!];
-    for (let i = 0; i < 3; i++) for (let j = 0; j < 3; j++) a[i]![j]! += d[i]! * d[j]!;
-  }
-  const v = [
-    [1, 0, 0],
-    [0, 1, 0],
-    [0, 0, 1],
-  ];
-  for (let sweep = 0; sweep < 30; sweep++) {
-    for (let p = 0; p < 2; p++) {
-      for (let q = p + 1; q < 3; q++) {
-        const apq = a[p]![q]!;
-        if (Math.abs(apq) < 1e-18) continue;
-        const theta = (a[q]![q]! - a[p]![p]!) / (2 * apq);
-        const t = Math.sign(theta || 1) / (Math.abs(theta) + Math.sqrt(theta * theta + 1));
-        const cs = 1 / Math.sqrt(t * t + 1);
-        const sn = t * cs;
-        for (let k = 0; k < 3; k++) {
-          const akp = a[k]![p]!;
-          const akq = a[k]![q]!;
-          a[k]![p] = cs * akp - sn * akq;
-          a[k]![q] = sn * akp + cs * akq;
-        }
-        for (let k = 0; k < 3; k++) {
-          const apk = a[p]![k]!;
-          const aqk = a[q]![k]!;
-          a[p]![k] = cs * apk - sn * aqk;
-          a[q]![k] = sn * apk + cs * aqk;
-        }
-        for (let k = 0; k < 3; k++) {
-          const vkp = v[k]![p]!;
-          const vkq = v[k]![q]!;
-          v[k]![p] = cs * vkp - sn * vkq;
-          v[k]![q] = sn * vkp + cs * vkq;
-        }
-      }
-    }
-  }
-  const eig = [0, 1, 2].map((i) => ({ value: a[i]![i]!, vec: [v[0]![i]!, v[1]![i]!, v[2]![i]!] as Vec3 }));
-  eig.sort((x, y) => y.value - x.value);
-  const scale = eig[0]!.value;
-  // A dimension thinner than 1 mm rms (relative to the largest) counts as flat.
-  const flat = (e: number) => e < Math.max(1e-6 * n, 1e-4 * scale);
-  if (flat(eig[1]!.value)) return { shape: 'line', axis: eig[0]!.vec };
-  if (flat(eig[2]!.value)) return { shape: 'plane', axis: eig[2]!.vec };
-  return { shape: 'solid', axis: [0, 0, 1] };
-}
+import { coneAzimuthDeg } from './cone.js';
+import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
 
 /** Smallest automatic grid step (degrees): finer grids cost time and the refinement recovers the rest. */
 const MIN_AUTO_STEP_DEG = 2.5;
@@ -84,7 +24,7 @@ export interface SearchGrid {
 export class SrpDirectionModel implements DirectionModel {
   readonly pairs: readonly MicPair[];
   readonly maxLag: Int32Array;
-  readonly mirror: 'front-back' | 'up-down' | null;
+  readonly mirror: ArrayMirror | null;
   readonly shape: ArrayShape;
   private readonly axis: Vec3;
   /** Pair baselines p_a - p_b (m). */
@@ -126,16 +66,19 @@ export class SrpDirectionModel implements DirectionModel {
     this.pairs = micPairs(geometry);
     const P = this.pairs.length;
     this.baselines = this.pairs.map(([a, b]) => sub(geometry.mics[a]!.position, geometry.mics[b]!.position));
-    this.maxLag = Int32Array.from(this.baselines, (bl) => searchLagLimit(norm(bl), sampleRate, speedOfSound, lagMargin, frame));
-    const { shape, axis } = arrayShape(geometry);
+    this.maxLag = Int32Array.from(this.baselines, (bl) => searchLagLimit(norm(bl), sampleRate, speedOfSound, lagMargin));
+    checkLagFitsFrame(this.maxLag, frame);
+    const shaped = arrayShape(geometry);
+    const { shape, axis } = shaped;
     this.shape = shape;
     this.axis = axis;
-    this.mirror = shape === 'line' ? 'front-back' : shape === 'plane' ? 'up-down' : null;
+    // One mirror for the grid, the solve and the records (src/geometry/array-mirror.ts).
+    this.mirror = arrayMirror(geometry, shaped);
     // Default step: fine enough that no pair's lag is more than about 0.7 samples off at the
     // nearest grid point (the refinement then takes it the rest of the way).
     const largestLag = Math.max(...this.maxLag);
     const step = grid.stepDeg ?? Math.max(MIN_AUTO_STEP_DEG, Math.min(shape === 'line' ? 3 : 8, ((1.4 / largestLag) * 180) / Math.PI));
-    this.gridDirs = makeGrid(shape, axis, step);
+    this.gridDirs = makeGrid(shape, this.mirror, step);
     const G = this.gridDirs.length;
     this.gridLag = new Float64Array(G * P);
     this.gridIdx0 = new Int32Array(G * P);
@@ -161,7 +104,7 @@ export class SrpDirectionModel implements DirectionModel {
     this.power = new Float64Array(G);
     this.stamp = new Int32Array(G).fill(-1);
     // Coarse subset: the fine point nearest each point of a grid twice as coarse.
-    const coarseDirs = makeGrid(shape, axis, 2 * step);
+    const coarseDirs = makeGrid(shape, this.mirror, 2 * step);
     const picked = new Set<number>();
     for (const u of coarseDirs) {
       let best = 0;
@@ -325,7 +268,10 @@ export class SrpDirectionModel implements DirectionModel {
       uz += c * e[2];
     }
     let len = Math.hypot(ux, uy, uz);
-    if (!(len > 1e-9)) return false;
+    if (!Number.isFinite(len)) return false;
+    // A zero fit is a direction for a line (broadside: the cone is the plane across the axis) and
+    // for a plane (along its normal); only a solid array needs a vector to normalise.
+    if (this.shape === 'solid' && !(len > 1e-9)) return false;
     if (this.shape === 'solid' || len > 1) {
       ux /= len;
       uy /= len;
@@ -333,19 +279,17 @@ export class SrpDirectionModel implements DirectionModel {
       len = 1;
     }
     if (this.shape === 'plane') {
-      // The component off the plane is unknown in sign: take the side of the plane normal
-      // that points up (or, for an upright plane, to the front).
-      const nrm = this.axis;
-      const side = nrm[2] > 1e-6 || (Math.abs(nrm[2]) <= 1e-6 && nrm[1] >= 0) ? 1 : -1;
-      const h = Math.sqrt(Math.max(0, 1 - len * len)) * side;
+      // The component off the plane is unknown in sign: take the side the mirror convention
+      // reports (src/geometry/array-mirror.ts), the same side the grid covers.
+      const nrm = this.mirror!.normal;
+      const h = Math.sqrt(Math.max(0, 1 - len * len));
       ux += h * nrm[0];
       uy += h * nrm[1];
       uz += h * nrm[2];
     } else if (this.shape === 'line') {
-      // Cone around the axis: report the horizontal direction on the front side of the axis.
+      // Cone around the axis: the horizontal direction on it, on the reported side.
       const ax = this.axis;
-      const sdot = Math.max(-1, Math.min(1, ux * ax[0] + uy * ax[1] + uz * ax[2]));
-      const az = Math.atan2(ax[0], ax[1]) - Math.acos(sdot);
+      const az = (coneAzimuthDeg(ux * ax[0] + uy * ax[1] + uz * ax[2], ax, this.mirror!) * Math.PI) / 180;
       ux = Math.sin(az);
       uy = Math.cos(az);
       uz = 0;
@@ -392,14 +336,17 @@ function invert(m: number[][]): number[][] {
   return a.map((row) => row.slice(n));
 }
 
-/** Directions searched: a circle for lines, a hemisphere for planes, a sphere for solids. */
-function makeGrid(shape: ArrayShape, axis: Vec3, stepDeg: number): Vec3[] {
+/**
+ * Directions searched: a horizontal circle for lines, for planes the hemisphere on the side the
+ * mirror reports, a sphere for solids.
+ */
+function makeGrid(shape: ArrayShape, mirror: ArrayMirror | null, stepDeg: number): Vec3[] {
   const dirs: Vec3[] = [];
   if (shape === 'line') {
     for (let az = -180; az < 180; az += stepDeg) dirs.push(unitFromAzEl(az, 0));
     return dirs;
   }
-  const side = shape === 'plane' ? axis : null;
+  const side = shape === 'plane' ? mirror!.normal : null;
   // Rings of constant elevation with about stepDeg spacing along each ring.
   for (let el = -90; el <= 90 + 1e-9; el += stepDeg) {
     const ring = Math.max(1, Math.round((360 * Math.cos((el * Math.PI) / 180)) / stepDeg));

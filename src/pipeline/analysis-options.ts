@@ -1,4 +1,5 @@
 import { UsageError } from '../errors.js';
+import { searchLagLimit } from '../direction/direction-model.js';
 import { isPowerOfTwo } from '../dsp/fft.js';
 import type { OptionSpec } from '../option-spec.js';
 
@@ -52,10 +53,32 @@ export const ANALYSIS_DEFAULTS = {
   lagMargin: 0.1,
 } as const;
 
+/** Largest frame the analysis takes (samples). */
+export const MAX_FRAME = 65536;
+
 /** Default frame: the power of two nearest to 21.3 ms (1024 samples at 48 kHz). */
 export function defaultFrame(sampleRate: number): number {
   const target = 0.02133 * sampleRate;
   return Math.max(64, 2 ** Math.round(Math.log2(target)));
+}
+
+/**
+ * A frame must hold this many times the largest lag searched: a delay of L samples leaves
+ * frame - L samples that both channels share, and the correlation is circular, so with
+ * frame >= 4 L at least three quarters of the frame overlap and no lag in the window can wrap
+ * onto another (common practice, no source).
+ */
+export const FRAME_PER_LAG = 4;
+
+/** The array whose delays the frame must hold: its largest mic distance and the speed of sound. */
+export interface ArraySpan {
+  readonly largestSpacingM: number;
+  readonly speedOfSound: number;
+}
+
+/** Smallest power-of-two frame (at least 64) that holds FRAME_PER_LAG x the largest lag. */
+export function minimumFrame(largestLag: number): number {
+  return Math.max(64, 2 ** Math.ceil(Math.log2(FRAME_PER_LAG * largestLag)));
 }
 
 function num(raw: string): number {
@@ -65,7 +88,7 @@ function num(raw: string): number {
 }
 
 export const analysisOptionSpecs: readonly OptionSpec[] = [
-  { key: 'frame', flag: '--frame <samples>', help: 'analysis frame length in samples, a power of two', defaultValue: 'nearest to 21 ms, 1024 at 48 kHz', parse: num },
+  { key: 'frame', flag: '--frame <samples>', help: 'analysis frame length in samples, a power of two', defaultValue: 'nearest to 21 ms (1024 at 48 kHz), larger when the array\'s delays need it', parse: num },
   { key: 'hop', flag: '--hop <samples>', help: 'hop between frames in samples', defaultValue: 'frame / 2', parse: num },
   { key: 'bands', flag: '--bands <n>', help: 'frequency bands whose evidence is fused into the delay (1 to 32)', defaultValue: ANALYSIS_DEFAULTS.bands, parse: num },
   { key: 'minFreqHz', flag: '--min-freq <hz>', help: 'lowest frequency analysed', defaultValue: ANALYSIS_DEFAULTS.minFreqHz, parse: num },
@@ -86,10 +109,25 @@ function check(ok: boolean, flag: string, what: string): void {
   if (!ok) throw new UsageError(`${flag} ${what}`);
 }
 
-/** Apply defaults and validate against the stream's sample rate. */
-export function resolveAnalysisOptions(opts: AnalysisOptions, sampleRate: number): ResolvedAnalysis {
-  const frame = opts.frame ?? defaultFrame(sampleRate);
-  check(isPowerOfTwo(frame) && frame >= 64 && frame <= 65536, '--frame', `${frame} must be a power of two from 64 to 65536 (e.g. 1024)`);
+/**
+ * Apply defaults and validate against the stream's sample rate. With the array's span, the
+ * frame must hold its largest delay (minimumFrame): the default frame grows to fit, and a
+ * frame given too small is an error that names --frame and the smallest frame that fits.
+ */
+export function resolveAnalysisOptions(opts: AnalysisOptions, sampleRate: number, span?: ArraySpan): ResolvedAnalysis {
+  const lagMargin = opts.lagMargin ?? ANALYSIS_DEFAULTS.lagMargin;
+  check(lagMargin >= 0 && lagMargin <= 1, '--lag-margin', `${lagMargin} must be between 0 and 1`);
+  const largestLag = span ? searchLagLimit(span.largestSpacingM, sampleRate, span.speedOfSound, lagMargin) : 0;
+  const needed = span ? minimumFrame(largestLag) : 64;
+  const spanText = span
+    ? `the array spans ${span.largestSpacingM.toFixed(2)} m, a delay of up to ${largestLag} samples at ${sampleRate} Hz (with --lag-margin), and a frame must hold ${FRAME_PER_LAG} times that`
+    : '';
+  if (needed > MAX_FRAME) {
+    throw new UsageError(`${spanText}: ${needed} samples, more than the largest frame ${MAX_FRAME}; use a lower sample rate or a smaller array`);
+  }
+  const frame = opts.frame ?? Math.max(defaultFrame(sampleRate), needed);
+  check(isPowerOfTwo(frame) && frame >= 64 && frame <= MAX_FRAME, '--frame', `${frame} must be a power of two from 64 to ${MAX_FRAME} (e.g. 1024)`);
+  check(frame >= needed, '--frame', `${frame} is too small for this array: ${spanText}; give --frame ${needed} or more, or leave --frame out to size the frame from the array`);
   const hop = opts.hop ?? frame / 2;
   check(Number.isInteger(hop) && hop >= 1 && hop <= frame, '--hop', `${hop} must be a whole number of samples from 1 to the frame length ${frame}`);
   const r: ResolvedAnalysis = { ...ANALYSIS_DEFAULTS, ...stripUndefined(opts), frame, hop };

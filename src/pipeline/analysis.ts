@@ -3,6 +3,7 @@ import { PairDirectionModel } from '../direction/pair-direction.js';
 import { SrpDirectionModel } from '../direction/srp-search.js';
 import { Framer } from '../dsp/framer.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
+import { micDistanceRange } from '../geometry/geometry-file.js';
 import type { AudioSource } from '../io/audio-source.js';
 import { resolveAnalysisOptions, type AnalysisOptions, type ResolvedAnalysis } from './analysis-options.js';
 import { HopAnalyzer, type HopResult } from './hop-analyzer.js';
@@ -18,7 +19,11 @@ export interface AnalysisSetup {
   checks: StreamChecks;
 }
 
-/** Build the analysis for a geometry and a stream format. */
+/**
+ * Build the analysis for a geometry and a stream format. The frame is sized to hold the
+ * array's largest delay (resolveAnalysisOptions); the direction model derives the array's
+ * mirror from the geometry (a near-vertical line is refused there).
+ */
 export function createAnalysis(
   geometry: ArrayGeometry,
   sampleRate: number,
@@ -26,7 +31,7 @@ export function createAnalysis(
   options: AnalysisOptions,
   where = 'the stream',
 ): AnalysisSetup {
-  const resolved = resolveAnalysisOptions(options, sampleRate);
+  const resolved = resolveAnalysisOptions(options, sampleRate, { largestSpacingM: micDistanceRange(geometry).max, speedOfSound });
   let model: DirectionModel;
   if (geometry.mics.length === 2) {
     model = new PairDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);

@@ -17,6 +17,7 @@ export function eventColumns(): CsvColumn<EventRecord>[] {
     { name: 'band_lo_hz', get: (r) => r.band_hz?.[0] },
     { name: 'band_hi_hz', get: (r) => r.band_hz?.[1] },
     { name: 'mirror', get: (r) => r.mirror ?? '' },
+    { name: 'mirror_axis_deg', get: (r) => r.mirror_axis_deg },
     { name: 'station', get: (r) => r.station },
   ];
 }

@@ -17,6 +17,7 @@ export function frameColumns(pairs: readonly MicPair[], withBearing: boolean): C
     { name: 'track', get: (r) => r.track },
     { name: 'sources', get: (r) => r.sources?.length ?? 0 },
     { name: 'mirror', get: (r) => r.mirror ?? '' },
+    { name: 'mirror_axis_deg', get: (r) => r.mirror_axis_deg },
   );
   pairs.forEach(([a, b], p) => cols.push({ name: `tdoa_s_${a}_${b}`, get: (r) => r.tdoa_s[p] }));
   return cols;

@@ -1,13 +1,15 @@
 import { wrap360 } from '../geometry/vec3.js';
 import type { FrameRecord, SourceEstimate } from '../records.js';
 import type { MicPair } from '../geometry/array-geometry.js';
+import type { ArrayMirror } from '../geometry/array-mirror.js';
 
 import type { HopResult } from './hop-analyzer.js';
 
 /** What a frame record carries beyond the fields of interface.md. */
 export interface FrameRecordSettings {
   headingDeg: number | null;
-  mirror: 'front-back' | 'up-down' | null;
+  /** The array's mirror (src/geometry/array-mirror.ts), null for a solid array. */
+  mirror: ArrayMirror | null;
   pairs: readonly MicPair[];
   /** Per-pair diagnostics (tdoa, peak height, band agreement). */
   diagnostics: boolean;
@@ -39,8 +41,9 @@ export function toFrameRecord(r: HopResult, s: FrameRecordSettings): FrameRecord
     level_dbfs: round(Math.max(-200, r.levelDbfs), 1),
     snr_db: round(r.snrDb, 1),
     onset: round(r.onset, 3),
-    mirror: s.mirror,
+    mirror: s.mirror?.kind ?? null,
   };
+  if (s.mirror?.axisDeg != null) rec.mirror_axis_deg = round(s.mirror.axisDeg, 2);
   if (s.headingDeg !== null) rec.bearing_deg = top ? bearingOf(top.azimuthDeg, s.headingDeg) : null;
   if (r.valid) {
     const sources: SourceEstimate[] = [];

@@ -37,7 +37,7 @@ export class TrackingSession {
     private readonly outputs: SessionOutputs,
     private readonly checks: StreamChecks | null = null,
   ) {
-    this.tracker = new Tracker({ ...tracker, mirroredPair: settings.pairs.length === 1 });
+    this.tracker = new Tracker({ ...tracker, mirror: settings.mirror });
     this.candidates = [];
     this.obs = { timeS: 0, levelDbfs: 0, snrDb: 0, onset: 0, confidence: 0, candidates: this.candidates, bandHz: null };
   }

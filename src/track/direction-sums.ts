@@ -1,10 +1,13 @@
 /**
  * Running weighted sums of a set of directions, one set per slot, in typed arrays: the
  * weighted circular mean and circular standard deviation of the azimuths (Mardia and Jupp
- * 2000), or, on a mirrored two-mic pair whose azimuths live on [-90, 90] and do not wrap,
- * the weighted arithmetic mean and standard deviation; plus the weighted mean elevation.
+ * 2000), or, on an array whose mirror flips azimuth (a pair, a line, an upright plane), the
+ * weighted arithmetic mean and standard deviation of the folded offsets from the reported half
+ * circle's centre, which live on [-90, 90] and do not wrap (the mean is turned back into an
+ * azimuth on the reported side); plus the weighted mean elevation.
  */
-import { meanFromSums, resultantFromSums, stdFromResultantDeg } from './circular.js';
+import type { ArrayMirror } from '../geometry/array-mirror.js';
+import { meanFromSums, resultantFromSums, stdFromResultantDeg, wrapDeg } from './circular.js';
 import { CONFIDENCE, MIN_WEIGHT, type HopScratch } from './hop-scratch.js';
 
 const DEG = Math.PI / 180;
@@ -17,12 +20,17 @@ export class DirectionSums {
   private readonly sumLin2: Float64Array;
   private readonly sumEl: Float64Array;
   private readonly sumElW: Float64Array;
+  private readonly mirrored: boolean;
+  /** Centre of the reported half circle, degrees (0 when not mirrored). */
+  private readonly sideDeg: number;
 
   constructor(
     size: number,
-    private readonly mirrored: boolean,
+    mirror: ArrayMirror | null,
     private readonly scratch: HopScratch,
   ) {
+    this.mirrored = mirror !== null && mirror.sideDeg !== null;
+    this.sideDeg = mirror?.sideDeg ?? 0;
     this.sumCos = new Float64Array(size);
     this.sumSin = new Float64Array(size);
     this.sumW = new Float64Array(size);
@@ -60,7 +68,7 @@ export class DirectionSums {
   }
 
   meanAzimuthDeg(slot: number): number {
-    if (this.mirrored) return this.sumW[slot]! > 0 ? this.sumLin[slot]! / this.sumW[slot]! : NaN;
+    if (this.mirrored) return this.sumW[slot]! > 0 ? wrapDeg(this.sideDeg + this.sumLin[slot]! / this.sumW[slot]!) : NaN;
     return meanFromSums(this.sumCos[slot]!, this.sumSin[slot]!);
   }
 

@@ -17,7 +17,8 @@
  *   caller while this one merely dropped out for a hop;
  * - events shorter than minEventS are dropped.
  * An event spans [first hop centre - hop/2, last sustaining hop centre + hop/2]; its azimuth
- * is the circular mean of its hops' azimuths weighted by c (linear mean on a mirrored pair),
+ * is the circular mean of its hops' azimuths weighted by c (linear mean of the folded azimuths
+ * when the array's mirror flips azimuth, see direction-sums.ts),
  * spread_deg their circular standard deviation, confidence the mean c, peak_dbfs the loudest
  * hop level, band_hz the band of the loudest hop that named one.
  *
@@ -63,7 +64,7 @@ export class EventCutter {
     this.peakBandLo = new Float64Array(size);
     this.peakBandHi = new Float64Array(size);
     this.peakBandLevel = new Float64Array(size);
-    this.sums = new DirectionSums(size, o.mirroredPair, scratch);
+    this.sums = new DirectionSums(size, o.mirror, scratch);
   }
 
   /** Forget any open event of a slot. */
@@ -124,7 +125,8 @@ export class EventCutter {
     const elevation = this.sums.meanElevationDeg(slot);
     if (elevation !== null) record.elevation_deg = elevation;
     if (this.peakBandLo[slot] === this.peakBandLo[slot]) record.band_hz = [this.peakBandLo[slot]!, this.peakBandHi[slot]!];
-    if (this.o.mirroredPair) record.mirror = 'front-back';
+    if (this.o.mirror !== null) record.mirror = this.o.mirror.kind;
+    if (this.o.mirror?.axisDeg != null) record.mirror_axis_deg = Math.round(this.o.mirror.axisDeg * 100) / 100;
     return record;
   }
 

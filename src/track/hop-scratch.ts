@@ -22,6 +22,10 @@ export const MIN_WEIGHT = 1e-6;
 
 export class HopScratch {
   readonly hop = new Float64Array(9);
+  /**
+   * The candidate's azimuth, degrees; on an array whose mirror flips azimuth, its offset from
+   * the centre of the reported half circle, folded into [-90, 90] (foldedOffsetDeg).
+   */
   readonly candAz: Float64Array;
   /** NaN where the candidate has no elevation. */
   readonly candEl: Float64Array;

@@ -5,10 +5,16 @@
  * (configs/profiles/*.json).
  */
 import { UsageError } from '../errors.js';
+import { isArrayMirror, type ArrayMirror } from '../geometry/array-mirror.js';
 
 export interface TrackerOptions {
-  /** The array is a two-mic pair: azimuths lie in [-90, 90] and a source behind reads as its mirror in front. Set from the geometry, not a flag. */
-  mirroredPair: boolean;
+  /**
+   * The array's mirror (src/geometry/array-mirror.ts), null for a solid array. Set from the
+   * geometry, not a flag. When it flips azimuth (a pair, a line, an upright planar array) the
+   * tracker works on the azimuth relative to the reported half circle, [-90, 90] (the angle to
+   * the mirror's axis, less 90), where a source moving past the axis comes back as its mirror.
+   */
+  mirror: ArrayMirror | null;
   /** Standard deviation of a candidate's azimuth at hop confidence x score 1, degrees (its variance grows as 1 / (confidence x score)). */
   bearingNoiseDeg: number;
   /** How far a track's angular rate may wander in one second (1 sigma), deg/s. */
@@ -75,17 +81,17 @@ export interface NumericOptionSpec {
   parse(raw: string): number;
 }
 
-export interface BooleanOptionSpec {
-  readonly key: 'mirroredPair';
-  readonly kind: 'boolean';
+export interface GeometryOptionSpec {
+  readonly key: 'mirror';
+  readonly kind: 'geometry';
   /** null: not a command-line option (the caller derives it from the geometry). */
   readonly flag: null;
   readonly help: string;
   readonly unit: '';
-  readonly default: boolean;
+  readonly default: null;
 }
 
-export type TrackerOptionSpec = NumericOptionSpec | BooleanOptionSpec;
+export type TrackerOptionSpec = NumericOptionSpec | GeometryOptionSpec;
 
 /** The largest assignment problem solved per hop (global nearest neighbour, exact). */
 export const TRACK_LIMIT = 16;
@@ -138,12 +144,12 @@ function checkNumber(spec: NumericOptionSpec, n: number, name: string): number {
 
 export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
   {
-    key: 'mirroredPair',
-    kind: 'boolean',
+    key: 'mirror',
+    kind: 'geometry',
     flag: null,
     unit: '',
-    default: false,
-    help: 'two-mic pair: azimuths in [-90, 90], a source behind reads as its mirror in front (set from the geometry)',
+    default: null,
+    help: 'the array\'s mirror (a pair or line cannot tell an azimuth from its mirror image across its axis); set from the geometry',
   },
   numberSpec('bearingNoiseDeg', '--bearing-noise <deg>', 'deg', 3, { min: 0, max: 45, minExclusive: true },
     'spread (1 sigma) of a candidate azimuth at confidence x score 1; less confident candidates count as noisier'),
@@ -190,7 +196,7 @@ export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
 ];
 
 function buildDefaults(): TrackerOptions {
-  const out: Record<string, number | boolean> = {};
+  const out: Record<string, number | ArrayMirror | null> = {};
   for (const spec of trackerOptionSpecs) out[spec.key] = spec.default;
   return out as unknown as TrackerOptions;
 }
@@ -215,13 +221,15 @@ export function resolveTrackerOptions(partial: TrackerSettings = {}, where = 'tr
       throw new UsageError(`${where}: unknown option '${name}'; known options are ${[...known].join(', ')}.`);
     }
   }
-  const out: Record<string, number | boolean> = {};
+  const out: Record<string, number | ArrayMirror | null> = {};
   for (const spec of trackerOptionSpecs) {
     const value = given[spec.key];
     if (value === undefined) {
       out[spec.key] = spec.default;
-    } else if (spec.kind === 'boolean') {
-      if (typeof value !== 'boolean') throw new UsageError(`${where}: option ${flagName(spec)} must be true or false, got ${JSON.stringify(value)}.`);
+    } else if (spec.kind === 'geometry') {
+      if (value !== null && !isArrayMirror(value)) {
+        throw new UsageError(`${where}: option ${flagName(spec)} is derived from the array geometry (null or the description arrayMirror gives), got ${JSON.stringify(value)}; leave it out.`);
+      }
       out[spec.key] = value;
     } else {
       if (typeof value !== 'number') throw new UsageError(`${where}: option ${flagName(spec)} must be a number, got ${JSON.stringify(value)}; ${describeRange(spec)}.`);

@@ -41,8 +41,13 @@ export function formatSummaryTable(summary: readonly TrackSummary[]): string {
   const lines = rows.map((r) => r.map((cell, c) => (c === r.length - 1 ? cell : cell.padStart(widths[c]!))).join('  ').trimEnd());
   const totalEvents = summary.reduce((n, t) => n + t.events, 0);
   lines.push(`${summary.length} track${summary.length === 1 ? '' : 's'}, ${totalEvents} event${totalEvents === 1 ? '' : 's'}; calling = total event time; spread = circular standard deviation of the track's hop azimuths`);
-  if (summary.some((t) => t.mirror === 'front-back')) {
-    lines.push('two-mic pair: each azimuth may equally be its mirror behind the pair (180 - azimuth)');
+  const mirrored = summary.find((t) => t.mirrorAxisDeg !== null);
+  if (mirrored !== undefined) {
+    const axis = mirrored.mirrorAxisDeg!;
+    const image = axis === 90 ? '180 - azimuth' : axis === 0 ? '-azimuth' : `${2 * axis} - azimuth`;
+    lines.push(`${mirrored.mirror} mirror: each azimuth may equally be its mirror image across the array's axis at ${axis} deg (${image})`);
+  } else if (summary.some((t) => t.mirror === 'up-down')) {
+    lines.push("up-down mirror: each elevation may equally be its mirror image across the array's plane (the upper one is given)");
   }
   return lines.join('\n') + '\n';
 }

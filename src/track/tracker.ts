@@ -1,6 +1,7 @@
 /**
  * The source tracker: follows several sources over time on the circle (or the sphere, when
- * candidates carry elevations, or the half-circle of a two-mic pair) and cuts each track's
+ * candidates carry elevations, or the half circle of an array whose mirror flips azimuth: a
+ * pair, a line, an upright planar array) and cuts each track's
  * activity into events. Pure and deterministic: one update() per hop, no clocks, no I/O; all
  * state lives in slots allocated once (maxTracks of them), so the steady state allocates
  * nothing per hop (event records and summaries are allocated when they are made).
@@ -21,6 +22,7 @@
  * Two sources closer than about gateSigma x bearingNoiseDeg look like one and share a track.
  */
 import { RuntimeFailure } from '../errors.js';
+import { foldedOffsetDeg } from '../geometry/array-mirror.js';
 import type { EventRecord } from '../records.js';
 import { AngleFilterBank, IO_D2, IO_DT, IO_R, IO_RATE_SIGMA, IO_Z } from './angle-filter.js';
 import { NearestNeighbourAssigner } from './assignment.js';
@@ -80,6 +82,8 @@ export class Tracker {
   /** Squared Mahalanobis distance of the last gate() call. */
   private readonly d2 = new Float64Array(1);
   private readonly gate2: number;
+  /** Centre of the reported half circle when the array's mirror flips azimuth, else null. */
+  private readonly sideDeg: number | null;
   private nextId = 1;
   private started = false;
   private ended = false;
@@ -98,7 +102,10 @@ export class Tracker {
       maxUncertaintyDeg: o.maxUncertaintyDeg,
     };
     this.sc = new HopScratch(c);
-    this.az = new AngleFilterBank(n, o.mirroredPair ? 'half-circle' : 'circle', filter);
+    // On an array whose mirror flips azimuth the filters run on the folded offset from the
+    // reported half circle's centre ([-90, 90], reflecting at the mirror's axis).
+    this.sideDeg = o.mirror?.sideDeg ?? null;
+    this.az = new AngleFilterBank(n, this.sideDeg !== null ? 'half-circle' : 'circle', filter);
     this.el = new AngleFilterBank(n, 'elevation', filter);
     this.az.io[IO_RATE_SIGMA] = o.initialRateDegS;
     this.el.io[IO_RATE_SIGMA] = o.initialRateDegS;
@@ -113,7 +120,7 @@ export class Tracker {
     this.eventCount = new Int32Array(n);
     this.activeS = new Float64Array(n);
     this.chosen = new Int32Array(n);
-    this.lifetime = new DirectionSums(n, o.mirroredPair, this.sc);
+    this.lifetime = new DirectionSums(n, o.mirror, this.sc);
     this.cutter = new EventCutter(n, o, this.sc);
     this.assigner = new NearestNeighbourAssigner(n, c);
     this.listed = new Int32Array(n);
@@ -225,13 +232,12 @@ export class Tracker {
         Number.isFinite(az) &&
         Number.isFinite(c.score) &&
         conf * c.score >= o.minConfidence &&
-        (!o.mirroredPair || (az >= -90 && az <= 90)) &&
         (el === null || Number.isFinite(el));
       this.candUsable[j] = usable ? 1 : 0;
       this.candTaken[j] = 0;
       this.candGated[j] = 0;
       if (!usable) continue;
-      sc.candAz[j] = az;
+      sc.candAz[j] = this.sideDeg === null ? az : foldedOffsetDeg(az, this.sideDeg);
       sc.candEl[j] = el === null ? NaN : el;
       sc.candScore[j] = c.score;
       sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, conf * c.score));
@@ -413,7 +419,8 @@ export class Tracker {
       firstSeenS: this.firstSeenT[s]!,
       lastSeenS: this.lastSupportT[s]!,
       alive,
-      mirror: this.options.mirroredPair ? 'front-back' : null,
+      mirror: this.options.mirror?.kind ?? null,
+      mirrorAxisDeg: this.options.mirror?.axisDeg ?? null,
     };
   }
 

@@ -1,4 +1,5 @@
 /** Types at the border of the tracker: what the analysis core feeds in, what comes out. */
+import type { MirrorKind } from '../geometry/array-mirror.js';
 import type { EventRecord } from '../records.js';
 
 /** One direction candidate of a hop, best first in HopObservation.candidates. */
@@ -37,7 +38,7 @@ export interface TrackSummary {
   events: number;
   /** Weighted circular mean azimuth of every hop assigned to the track, degrees. */
   azimuthDeg: number;
-  /** Circular standard deviation of those azimuths, degrees (linear on a mirrored pair). */
+  /** Circular standard deviation of those azimuths, degrees (linear on the folded azimuths of a mirrored array). */
   spreadDeg: number;
   /** Weighted mean elevation, degrees, when the candidates carried elevations. */
   elevationDeg: number | null;
@@ -49,5 +50,7 @@ export interface TrackSummary {
   lastSeenS: number;
   /** The track had not timed out when the summary was taken (false for every track after finish()). */
   alive: boolean;
-  mirror: 'front-back' | null;
+  /** The array's mirror (src/geometry/array-mirror.ts), and for one that flips azimuth its axis: a reads as 2 axis - a. */
+  mirror: MirrorKind | null;
+  mirrorAxisDeg: number | null;
 }

@@ -5,7 +5,7 @@ import { execFileSync } from 'node:child_process';
 import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { azimuthError, foldFront, median, quantile } from '../../src/accuracy/score.js';
+import { azimuthError, mirrorAxisOf, median, quantile } from '../../src/accuracy/score.js';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
 import { tempDir } from './helpers.js';
 
@@ -20,14 +20,26 @@ describe('scoring parts', () => {
     expect(median(sorted.slice(0, 36))).toBeCloseTo(JSON.parse(execFileSync('python3', ['-c', `import numpy as np, json, sys; print(float(np.median(json.loads(sys.argv[1]))))`, JSON.stringify(sorted.slice(0, 36))], { encoding: 'utf8' })) as number, 12);
   });
 
-  it('angles wrap on the circle (Mardia and Jupp: 350 and 10 degrees are 20 apart) and a pair folds front to back (references.md: a pair resolves only -90..90)', () => {
+  it('angles wrap on the circle (Mardia and Jupp: 350 and 10 degrees are 20 apart) and a pair folds across its axis (references.md: a pair resolves only -90..90, so along any axis only the angle to it)', () => {
     expect(azimuthError(350, 10, null)).toBeCloseTo(20, 12);
     expect(azimuthError(175, -175, null)).toBeCloseTo(10, 12);
     expect(azimuthError(-170, 170, null)).toBeCloseTo(20, 12);
-    expect(foldFront(120)).toBeCloseTo(60, 12);
-    expect(foldFront(-150)).toBeCloseTo(-30, 12);
-    expect(azimuthError(60, 120, 'front-back')).toBeCloseTo(0, 12);
+    // the pair of interface.md: axis along x (90 deg), so 120 and 60 look alike, -150 and -30 too
+    expect(azimuthError(60, 120, 90)).toBeCloseTo(0, 12);
+    expect(azimuthError(-30, -150, 90)).toBeCloseTo(0, 12);
+    expect(azimuthError(-25, -150, 90)).toBeCloseTo(5, 12);
     expect(azimuthError(60, 120, null)).toBeCloseTo(60, 12);
+    // a pair along y (axis 0): +30 and -30 look alike, 150 and -150 too
+    expect(azimuthError(30, -30, 0)).toBeCloseTo(0, 12);
+    expect(azimuthError(150, -148, 0)).toBeCloseTo(2, 12);
+    expect(azimuthError(30, 150, 0)).toBeCloseTo(120, 12);
+    // a pair at 45 deg: 0 and 90 look alike, 180 and -90 too
+    expect(azimuthError(0, 90, 45)).toBeCloseTo(0, 12);
+    expect(azimuthError(-90, 180, 45)).toBeCloseTo(0, 12);
+    // the axis from a record, and from older records that only said 'front-back' (a pair along x)
+    expect(mirrorAxisOf({ mirror: 'left-right', mirror_axis_deg: 0 })).toBe(0);
+    expect(mirrorAxisOf({ mirror: 'front-back' })).toBe(90);
+    expect(mirrorAxisOf({ mirror: 'up-down' })).toBeNull();
   });
 });
 

@@ -25,6 +25,7 @@ describe('bearline scan: frame records (interface.md fields)', () => {
       expect(rec.confidence).toBeGreaterThanOrEqual(0);
       expect(rec.confidence).toBeLessThanOrEqual(1);
       expect(rec.mirror).toBe('front-back');
+      expect(rec.mirror_axis_deg).toBe(90);
     }
     const good = recs.filter((x) => x.azimuth_deg !== null && Math.abs(x.azimuth_deg - truthAz) < 0.5);
     expect(good.length / recs.length).toBeGreaterThan(0.95);
@@ -36,7 +37,7 @@ describe('bearline scan: frame records (interface.md fields)', () => {
     expect(r.status).toBe(0);
     expect(r.stdout).toBe('');
     const lines = readFileSync(out, 'utf8').trim().split('\n');
-    expect(lines[0]).toBe('time_s,azimuth_deg,elevation_deg,confidence,level_dbfs,onset,track,sources,mirror,tdoa_s_0_1');
+    expect(lines[0]).toBe('time_s,azimuth_deg,elevation_deg,confidence,level_dbfs,onset,track,sources,mirror,mirror_axis_deg,tdoa_s_0_1');
     expect(lines.length).toBeGreaterThan(150);
     expect(existsSync(`${out}.partial`)).toBe(false);
   });

@@ -39,7 +39,8 @@ describe('tracker options: one home, defaults, validation', () => {
     expect(usageError(() => resolveTrackerOptions({ bearingNoiseDeg: 0 })).message).toMatch(/bearingNoiseDeg.*above 0/);
     expect(usageError(() => resolveTrackerOptions({ maxGapS: Number.NaN })).message).toMatch(/maxGapS/);
     expect(usageError(() => resolveTrackerOptions({ gateSigma: '3' })).message).toMatch(/gateSigma.*must be a number/);
-    expect(usageError(() => resolveTrackerOptions({ mirroredPair: 1 })).message).toMatch(/mirroredPair must be true or false/);
+    expect(usageError(() => resolveTrackerOptions({ mirror: 1 })).message).toMatch(/option mirror is derived from the array geometry/);
+    expect(usageError(() => resolveTrackerOptions({ mirror: { kind: 'sideways', normal: [1, 0, 0], axisDeg: 0, sideDeg: 90 } })).message).toMatch(/mirror/);
     expect(usageError(() => resolveTrackerOptions({ gatesigma: 3 })).message).toMatch(/unknown option 'gatesigma'/);
   });
 

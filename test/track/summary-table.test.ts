@@ -4,7 +4,7 @@ import type { TrackSummary } from '../../src/track/types.js';
 
 const base: TrackSummary = {
   track: 1, events: 12, azimuthDeg: -42.26, spreadDeg: 2.14, elevationDeg: null, activeS: 14.55,
-  hops: 1455, firstSeenS: 3.14, lastSeenS: 3725.96, alive: false, mirror: null,
+  hops: 1455, firstSeenS: 3.14, lastSeenS: 3725.96, alive: false, mirror: null, mirrorAxisDeg: null,
 };
 
 describe('summary table for scan --summary (layout of our own)', () => {
@@ -23,7 +23,8 @@ describe('summary table for scan --summary (layout of our own)', () => {
 
   it('says so when no track was confirmed, and flags a mirrored pair', () => {
     expect(formatSummaryTable([])).toBe('no source tracks were confirmed\n');
-    expect(formatSummaryTable([{ ...base, mirror: 'front-back' }])).toMatch(/two-mic pair: each azimuth may equally be its mirror/);
+    expect(formatSummaryTable([{ ...base, mirror: 'front-back', mirrorAxisDeg: 90 }])).toMatch(/front-back mirror: each azimuth may equally be its mirror image across the array's axis at 90 deg \(180 - azimuth\)/);
+    expect(formatSummaryTable([{ ...base, mirror: 'left-right', mirrorAxisDeg: 0 }])).toMatch(/left-right mirror: .* at 0 deg \(-azimuth\)/);
     expect(formatSummaryTable([base])).not.toMatch(/mirror/);
   });
 });

@@ -2,7 +2,7 @@
  * Synthetic hop sequences for the tracker tests, generated at test time from a ground truth:
  * sources with a direction over time and a calling schedule, Gaussian bearing noise, clutter
  * candidates at random directions, dropouts (hops where a calling source gives no candidate),
- * and optionally the front-back fold of a two-mic pair. These check the tracker's logic; the
+ * and optionally the mirror fold of a pair or line along any axis. These check the tracker's logic; the
  * acoustic end-to-end checks come with the analysis core.
  */
 import { seededUniform } from '../helpers/random.js';
@@ -34,8 +34,14 @@ export interface SynthOptions {
   clutter: number;
   /** Probability that a calling source yields no candidate in a hop. */
   dropout: number;
-  /** Fold azimuths onto [-90, 90] as a two-mic pair sees them. */
+  /** Fold azimuths onto [-90, 90] as a two-mic pair along x sees them. */
   mirrored?: boolean;
+  /**
+   * Fold azimuths onto the half circle centred here (degrees), as a pair or line whose axis lies
+   * at mirrorSideDeg + 90 sees them: a source on the other side reads as its mirror image across
+   * the axis (common practice, no source: a line resolves only the angle to its axis).
+   */
+  mirrorSideDeg?: number;
   /** Sources closer than this (deg) come out as one candidate at their mean. */
   mergeDeg?: number;
 }
@@ -58,6 +64,13 @@ export function fold(az: number): number {
   if (a > 90) return 180 - a;
   if (a < -90) return -180 - a;
   return a;
+}
+
+/** What a line with its reported half circle centred on sideDeg reports: the mirror image across its axis when on the other side. */
+export function foldAbout(az: number, sideDeg: number): number {
+  const off = wrap(az - sideDeg);
+  if (Math.abs(off) <= 90) return wrap(az);
+  return wrap(2 * (sideDeg + 90) - az);
 }
 
 export function isCalling(s: TruthSource, t: number): boolean {
@@ -84,6 +97,7 @@ export function generateHops(sources: readonly TruthSource[], o: SynthOptions): 
       if (rand() < o.dropout) continue;
       let az = s.azimuthAt(t) + o.noiseDeg * gauss(rand);
       if (o.mirrored) az = fold(az);
+      else if (o.mirrorSideDeg !== undefined) az = foldAbout(az, o.mirrorSideDeg);
       else az = wrap(az);
       const el = s.elevationAt ? Math.max(-90, Math.min(90, s.elevationAt(t) + o.noiseDeg * gauss(rand))) : null;
       cands.push({ azimuthDeg: az, elevationDeg: el, score: s.levelDbfs === loudest ? 1 : 0.8, label: i });
@@ -96,7 +110,7 @@ export function generateHops(sources: readonly TruthSource[], o: SynthOptions): 
       }
     }
     if (rand() < o.clutter) {
-      const az = o.mirrored ? -90 + 180 * rand() : -180 + 360 * rand();
+      const az = o.mirrored ? -90 + 180 * rand() : o.mirrorSideDeg !== undefined ? wrap(o.mirrorSideDeg - 90 + 180 * rand()) : -180 + 360 * rand();
       cands.push({ azimuthDeg: az, elevationDeg: null, score: 0.1 + 0.3 * rand(), label: -1 });
     }
     cands.sort((p, q) => q.score - p.score);

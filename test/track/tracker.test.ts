@@ -9,7 +9,25 @@ import type { EventRecord } from '../../src/records.js';
 import { angleDiffDeg } from '../../src/track/circular.js';
 import { trackerSettingsFromProfile, type TrackerSettings } from '../../src/track/options.js';
 import { Tracker } from '../../src/track/tracker.js';
-import { bursts, fold, generateHops, type Synth, type TruthSource } from './synth.js';
+import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geometry.js';
+import { arrayMirror, type ArrayMirror } from '../../src/geometry/array-mirror.js';
+import { bursts, fold, foldAbout, generateHops, type Synth, type TruthSource } from './synth.js';
+
+/** The mirror the pipeline derives for an array (src/geometry/array-mirror.ts). */
+function mirrorOf(g: ArrayGeometry): ArrayMirror {
+  const m = arrayMirror(g);
+  if (m === null) throw new Error(`${g.name} has no mirror`);
+  return m;
+}
+const pairAlong = (name: string, a: readonly [number, number, number]): ArrayGeometry => ({
+  name,
+  headingDeg: null,
+  mics: [
+    { channel: 0, position: [-a[0] / 2, -a[1] / 2, -a[2] / 2] },
+    { channel: 1, position: [a[0] / 2, a[1] / 2, a[2] / 2] },
+  ],
+});
+const PAIR_X_MIRROR = mirrorOf(pairGeometry(0.2));
 
 interface Run {
   events: EventRecord[];
@@ -244,7 +262,7 @@ describe('a two-mic pair (front-back mirror) near +-90', () => {
     { azimuthAt: (t) => 50 + 20 * t, calls: bursts(0.1, 0.3, 0.1, 4), levelDbfs: -30 },
     { azimuthAt: () => -85, calls: bursts(0.3, 0.3, 0.1, 4), levelDbfs: -33 },
   ];
-  const opts = { mirroredPair: true, rateWanderDegS: 15 };
+  const opts = { mirror: PAIR_X_MIRROR, rateWanderDegS: 15 };
   for (const seed of [1, 2, 3, 4, 5]) {
     it(`keeps one id for the source reflected at +90 and another for the source at -85 (seed ${seed})`, () => {
       const synth = generateHops(sources, { durationS: 4, hopS: 0.01, seed, noiseDeg: 1.5, clutter: 0.1, dropout: 0.1, mirrored: true });
@@ -275,13 +293,63 @@ describe('a two-mic pair (front-back mirror) near +-90', () => {
       { azimuthAt: () => -89, calls: bursts(0.4, 0.3, 0.3, 6), levelDbfs: -30 },
     ];
     const synth = generateHops(near, { durationS: 6, hopS: 0.01, seed: 9, noiseDeg: 1.5, clutter: 0, dropout: 0.05, mirrored: true });
-    const r = run(synth, { mirroredPair: true });
+    const r = run(synth, { mirror: PAIR_X_MIRROR });
     const ids = [0, 1].map((i) => new Set(r.events.filter((e) => (e.azimuth_deg > 0 ? 0 : 1) === i).map((e) => e.track)));
     expect(ids[0]!.size).toBe(1);
     expect(ids[1]!.size).toBe(1);
     expect([...ids[0]!][0]).not.toBe([...ids[1]!][0]);
     for (const e of r.events) expect(Math.abs(e.azimuth_deg)).toBeGreaterThan(85);
     expect(r.tracker.summary().every((s) => s.mirror === 'front-back')).toBe(true);
+  });
+});
+
+describe('pairs along y and at 45 degrees: tracks and events on every side (ground truth: synth.ts)', () => {
+  // Common practice, no source: a pair resolves only the angle to its axis, so a source reads as
+  // its mirror image across the axis when it lies on the side not reported. The synth folds
+  // independently of the project (foldAbout); the convention (README) puts a y pair's reports on
+  // the right ([0, 180]) and a pair at 45 deg on the side with the larger front component.
+  const cases: { name: string; geometry: ArrayGeometry; side: number; axis: number; kind: string; azimuths: number[] }[] = [
+    { name: 'y pair', geometry: pairAlong('pair-y', [0, 0.2, 0]), side: 90, axis: 0, kind: 'left-right', azimuths: [150, -120, 30, -60] },
+    { name: 'pair at 45 deg', geometry: pairAlong('pair-45', [0.1414, 0.1414, 0]), side: -45, axis: 45, kind: 'front-back', azimuths: [170, 30, 100, -130] },
+  ];
+  for (const c of cases) {
+    it(`${c.name}: one track per source, events at the folded truth, mirror ${c.kind} on events and summaries`, () => {
+      const mirror = mirrorOf(c.geometry);
+      expect(mirror.sideDeg).toBeCloseTo(c.side, 6);
+      expect(mirror.axisDeg).toBeCloseTo(c.axis, 6);
+      expect(mirror.kind).toBe(c.kind);
+      // Four sources, two of them folding onto the same half: their folded azimuths stay apart.
+      const sources: TruthSource[] = c.azimuths.map((az, i) => ({ azimuthAt: () => az, calls: bursts(0.1 + 0.25 * i, 0.2, 0.8, 20), levelDbfs: -30 - i }));
+      const folded = c.azimuths.map((az) => foldAbout(az, c.side));
+      const synth = generateHops(sources, { durationS: 20, hopS: 0.01, seed: 4, noiseDeg: 1.5, clutter: 0.1, dropout: 0.1, mirrorSideDeg: c.side });
+      const r = run(synth, { mirror });
+      const matches = matchCalls(sources, r.events);
+      const idOf = sources.map((_, i) => majority(matches.filter((m) => m.source === i).map((m) => m.event?.track ?? null)));
+      expect(new Set(idOf).size).toBe(sources.length);
+      expect(idOf.every((id) => id !== null)).toBe(true);
+      let near = 0;
+      for (const m of matches) {
+        if (m.event === null) continue;
+        expect(m.event.mirror).toBe(c.kind);
+        expect(m.event.mirror_axis_deg).toBeCloseTo(c.axis, 2);
+        if (m.event.track === idOf[m.source] && Math.abs(angleDiffDeg(m.event.azimuth_deg, folded[m.source]!)) <= 2) near++;
+      }
+      expect(near / matches.length).toBeGreaterThanOrEqual(0.95);
+      for (const e of r.events) expect(Math.abs(angleDiffDeg(e.azimuth_deg, c.side))).toBeLessThanOrEqual(90.001);
+      for (const t of r.tracker.summary()) {
+        expect(t.mirror).toBe(c.kind);
+        expect(t.mirrorAxisDeg).toBeCloseTo(c.axis, 6);
+      }
+    });
+  }
+
+  it('y pair: a source moving from behind-right across the axis to behind-left keeps one id (it reads as a reflection)', () => {
+    // 120 -> 240 (= -120) deg: the pair along y reports 120 -> 180 -> 120.
+    const sources: TruthSource[] = [{ azimuthAt: (t) => 120 + 30 * t, calls: [[0.1, 3.9]], levelDbfs: -30 }];
+    const synth = generateHops(sources, { durationS: 4, hopS: 0.01, seed: 2, noiseDeg: 1, clutter: 0.05, dropout: 0.05, mirrorSideDeg: 90 });
+    const r = run(synth, { mirror: mirrorOf(pairAlong('pair-y', [0, 0.2, 0])), rateWanderDegS: 15 });
+    const ids = new Set(idsOfSource(synth, r, 0).filter((x) => x.t > 0.3).map((x) => x.id).filter((x) => x !== null));
+    expect(ids.size).toBe(1);
   });
 });
 
