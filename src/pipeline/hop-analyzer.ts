@@ -102,7 +102,7 @@ export class HopAnalyzer {
   private readonly snrMem: Float64Array;
   private readonly fusion: BandFusion;
   private readonly selection: Float64Array;
-  private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0, evidence: 0, apertureWaves: 0 };
+  private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0, evidence: 0, apertureWaves: 0, onset: 0 };
   /** The array's largest delay, seconds (the widest pair's search limit without margin). */
   private readonly apertureS: number;
   private readonly prevLags: Float64Array;
@@ -424,6 +424,7 @@ export class HopAnalyzer {
         res.apertureWaves = weightSum > 0 ? (freqSum / weightSum) * this.apertureS : 0;
         this.features.apertureWaves = res.apertureWaves;
         this.features.evidence = fusion.totalEvidence;
+        this.features.onset = res.onset;
         res.agree = this.features.agree;
         res.share = this.features.share;
         res.confidence = confidenceOf(this.features);

@@ -1,0 +1,91 @@
+"""
+Fit the coefficients of bearline's confidence (src/pipeline/confidence.ts) by logistic
+regression (iteratively reweighted least squares, a small ridge) on the per-hop dump of the
+accuracy matrix, and check the fit on the held-apart half.
+
+    npx tsx test/bench/accuracy-matrix.ts --set analysis.minConfidence=0 --hops /tmp/hops.jsonl
+    python3 test/bench/matrix/fit_confidence.py /tmp/hops.jsonl
+
+Label: the hop's direction lies within 5 degrees of a sounding source (err <= 5). Hops without
+a candidate are left out. Features: see FEATURES below (the same transforms as confidence.ts).
+numpy is the only dependency.
+"""
+import json
+import sys
+
+import numpy as np
+
+FEATURES = ["agree", "share", "snr", "log_evidence", "log_waves", "onset"]
+
+
+def features(f):
+    return [
+        f["agree"],
+        f["share"],
+        min(f["snrDb"], 40.0) / 10.0,
+        np.log(f["evidence"] + 0.01),
+        np.log(f["apertureWaves"] + 0.05),
+        f["onset"],
+    ]
+
+
+def load(path):
+    rows = {"tune": ([], []), "check": ([], [])}
+    with open(path) as fh:
+        for line in fh:
+            r = json.loads(line)
+            if not r.get("dir") or r.get("features") is None:
+                continue
+            x, y = rows[r["split"]]
+            x.append(features(r["features"]))
+            y.append(1.0 if r["err"] is not None and r["err"] <= 5 else 0.0)
+    return {k: (np.array(v[0]), np.array(v[1])) for k, v in rows.items()}
+
+
+def fit(x, y, ridge=1e-3, iterations=50):
+    X = np.hstack([np.ones((len(x), 1)), x])
+    w = np.zeros(X.shape[1])
+    for _ in range(iterations):
+        p = 1 / (1 + np.exp(-X @ w))
+        g = X.T @ (y - p) - ridge * w
+        H = (X * (p * (1 - p))[:, None]).T @ X + ridge * np.eye(len(w))
+        step = np.linalg.solve(H, g)
+        w += step
+        if np.max(np.abs(step)) < 1e-8:
+            break
+    return w
+
+
+def predict(w, x):
+    return 1 / (1 + np.exp(-(w[0] + x @ w[1:])))
+
+
+def reliability(p, y, title):
+    print(title)
+    print("  confidence   hops  mean conf  within 5 deg")
+    for lo in np.arange(0, 1, 0.1):
+        m = (p >= lo) & (p < lo + 0.1 + (1e-9 if lo >= 0.9 else 0))
+        if m.sum() == 0:
+            print(f"  {lo:.1f}-{lo + 0.1:.1f}   {0:6d}          -  -")
+            continue
+        print(f"  {lo:.1f}-{lo + 0.1:.1f}   {m.sum():6d}      {p[m].mean():.3f}      {100 * y[m].mean():5.1f}%")
+
+
+def main():
+    data = load(sys.argv[1])
+    xt, yt = data["tune"]
+    xc, yc = data["check"]
+    w = fit(xt, yt)
+    print("coefficients (intercept first):")
+    for name, v in zip(["b0"] + FEATURES, w):
+        print(f"  {name:14s} {v:+.4f}")
+    for name, (x, y) in (("tune", (xt, yt)), ("check", (xc, yc))):
+        p = predict(w, x)
+        brier = np.mean((p - y) ** 2)
+        wrong = np.mean((p >= 0.6) & (y == 0))
+        print(f"{name}: {len(y)} hops, {100 * y.mean():.1f}% within 5 deg, Brier {brier:.4f}, confident (>= 0.6) and not within 5: {100 * wrong:.2f}% of hops")
+        reliability(p, y, f"reliability on {name}")
+
+
+if __name__ == "__main__":
+    main()
