@@ -8,6 +8,7 @@ import type { AudioSource } from '../io/audio-source.js';
 import { pacedSource, paceOptionSpecs } from '../io/paced-source.js';
 import { openPcmStreamSource } from '../io/pcm-stream-source.js';
 import { parseFormat, RecordWriter, type RecordFormat } from '../io/record-writer.js';
+import { replacedSamplesLine } from '../io/replaced-samples-report.js';
 import { stderrWarning } from '../io/stderr-warning.js';
 import { openWavSource } from '../io/wav-source.js';
 import { createAnalysis, runAnalysis } from '../pipeline/analysis.js';
@@ -140,7 +141,12 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
       if (partial) stderrWarning(`stopped early; the records written so far are in ${partial}`);
       throw err;
     }
-    if (flags.summary) process.stderr.write(formatSummaryTable(session.summary()) + '\n');
+    if (flags.summary) {
+      process.stderr.write(formatSummaryTable(session.summary()) + '\n');
+      const replaced = opened.replacedSamples?.();
+      const line = replaced ? replacedSamplesLine(where, replaced) : null;
+      if (line) process.stderr.write(line + '\n');
+    }
   } finally {
     await feed?.close();
     await source.close();
