@@ -8,7 +8,7 @@ import { checkGeometryForStream } from '../geometry/geometry-file.js';
 import type { AudioSource } from '../io/audio-source.js';
 import { pacedSource, paceOptionSpecs } from '../io/paced-source.js';
 import { openPcmStreamSource } from '../io/pcm-stream-source.js';
-import { planOutput } from '../io/output-target.js';
+import { abandonOnSignal, planOutput } from '../io/output-target.js';
 import { parseFormat, RecordWriter, type RecordFormat } from '../io/record-writer.js';
 import { replacedSamplesLine } from '../io/replaced-samples-report.js';
 import { stderrWarning } from '../io/stderr-warning.js';
@@ -127,7 +127,8 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
     const frameWriter = flags.frames ? RecordWriter.open<FrameRecord>(target, format, frameColumns(setup.model.pairs, withBearing)) : null;
     const eventWriter = flags.frames ? null : RecordWriter.open<EventRecord>(target, format, eventColumns());
     const writer = frameWriter ?? eventWriter!;
-    // From here on, any failure abandons the partial file: the old file at --out stays as it was.
+    // From here on, any failure (or Ctrl-C) abandons the partial file: the old file at --out stays as it was.
+    const undoSignals = target ? abandonOnSignal(target) : () => undefined;
     try {
       const outputs = {
         onFrame: frameWriter ? (rec: FrameRecord) => frameWriter.write(rec) : undefined,
@@ -154,6 +155,8 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
       await writer.abandon();
       if (target && !target.through) stderrWarning(existsSync(target.target) ? `the run stopped, so ${target.path} was not replaced (it keeps its old contents)` : `the run stopped, so nothing was written to ${target.path}`);
       throw err;
+    } finally {
+      undoSignals();
     }
   } finally {
     await feed?.close();

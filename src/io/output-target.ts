@@ -236,3 +236,28 @@ export function checkFolderOption(option: string, path: string): void {
     p = dirname(p);
   }
 }
+
+/**
+ * While a partial file is open, SIGINT and SIGTERM (Ctrl-C, kill) abandon it before the
+ * process ends, so a stopped run leaves the target as it was and no partial file behind.
+ * Exits 130 / 143 (128 + the signal's number, the shell's convention). Returns the undo.
+ */
+export function abandonOnSignal(t: OutputTarget): () => void {
+  if (t.through) return () => undefined;
+  const handlers: [NodeJS.Signals, number][] = [
+    ['SIGINT', 130],
+    ['SIGTERM', 143],
+  ];
+  const installed = handlers.map(([signal, code]) => {
+    const handler = (): void => {
+      abandonOutput(t);
+      process.stderr.write(`bearline: stopped by ${signal}; ${t.path} was not replaced\n`);
+      process.exit(code);
+    };
+    process.once(signal, handler);
+    return [signal, handler] as const;
+  });
+  return () => {
+    for (const [signal, handler] of installed) process.off(signal, handler);
+  };
+}

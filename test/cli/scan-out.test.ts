@@ -10,7 +10,7 @@ import { lstatSync, mkdirSync, readdirSync, readFileSync, readlinkSync, symlinkS
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { BIN, expectUsageFailure, runCli } from '../helpers/cli.js';
-import { soxDelayedSignal, tempDir } from '../helpers/sox.js';
+import { sox, soxDelayedSignal, tempDir } from '../helpers/sox.js';
 
 const tmp = tempDir();
 let pair: string;
@@ -129,5 +129,22 @@ describe('scan --out: what the path is decides how it is written', () => {
     expect(r.status).toBe(1);
     expect(r.stderr).toMatch(/writing .*full failed \(ENOSPC/);
     expect(lstatSync(dev).isCharacterDevice()).toBe(true);
+  });
+
+  it('Ctrl-C (SIGINT) during the scan: exit 130, the old file byte for byte, no partial file', async () => {
+    const { dir, path, old } = withOldFile();
+    // A raw stream on stdin that stays open, so the scan is still running when the signal comes.
+    const child = spawn(process.execPath, [BIN, 'scan', '--stdin', '--rate', '48000', '--channels', '2', '--spacing', '0.2', '--frames', '--out', path], { stdio: ['pipe', 'pipe', 'pipe'] });
+    let stderr = '';
+    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
+    const exited = new Promise<number | null>((res) => child.on('exit', (code) => res(code)));
+    child.stdin.write(sox([pair, '-t', 'raw', '-e', 'signed-integer', '-b', '16', '-L', '-']));
+    for (let i = 0; i < 200 && partials(dir).length === 0; i++) await new Promise((r) => setTimeout(r, 25));
+    expect(partials(dir)).toHaveLength(1);
+    child.kill('SIGINT');
+    expect(await exited).toBe(130);
+    expect(stderr).toMatch(/stopped by SIGINT; .*old\.jsonl was not replaced/);
+    expect(readFileSync(path).equals(old)).toBe(true);
+    expect(partials(dir)).toEqual([]);
   });
 });
