@@ -139,7 +139,8 @@ describe('scan --out: what the path is decides how it is written', () => {
     child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
     const exited = new Promise<number | null>((res) => child.on('exit', (code) => res(code)));
     child.stdin.write(sox([pair, '-t', 'raw', '-e', 'signed-integer', '-b', '16', '-L', '-']));
-    for (let i = 0; i < 200 && partials(dir).length === 0; i++) await new Promise((r) => setTimeout(r, 25));
+    // Wait (up to 30 s on a loaded machine) until the scan has opened its partial file.
+    for (let i = 0; i < 1200 && partials(dir).length === 0; i++) await new Promise((r) => setTimeout(r, 25));
     expect(partials(dir)).toHaveLength(1);
     child.kill('SIGINT');
     expect(await exited).toBe(130);
