@@ -1,7 +1,7 @@
 import type { Command } from 'commander';
 import { analysisOptionSpecs, type AnalysisOptions } from '../pipeline/analysis-options.js';
 import { loadProfile, profileSection, type RunProfile } from '../pipeline/profile.js';
-import type { TrackerOptions } from '../track/options.js';
+import { resolveTrackerOptions, type TrackerOptions } from '../track/options.js';
 import { configsDir } from './geometry-option.js';
 import { addArrayOptions, addSpecs, pickSpecs, trackerCliSpecs } from './options.js';
 
@@ -17,6 +17,9 @@ export function addAnalysisOptions(cmd: Command): Command {
 /**
  * Analysis and tracker settings: the profile's (read through the same specs as the flags),
  * overridden by the flags given. The loaded profile is returned for the other stages' sections.
+ * The tracker settings are checked here in full (ranges and pairs such as --confirm-hits against
+ * --confirm-window), so that a bad one stops the command before any output is opened; the
+ * analysis settings need the sample rate and are checked by resolveAnalysisOptions.
  */
 export function resolveStageSettings(
   raw: Record<string, unknown>,
@@ -32,5 +35,6 @@ export function resolveStageSettings(
     ...profileSection<TrackerOptions>(trackerSpecs, profile?.tracker, 'tracker'),
     ...pickSpecs<Partial<TrackerOptions>>(raw, trackerSpecs),
   };
+  resolveTrackerOptions(tracker);
   return { analysis, tracker, profile };
 }

@@ -8,7 +8,7 @@ import { tdoaPlotSvg } from '../bench-check/tdoa-plot.js';
 import { checkItems } from '../bench-check/verdict.js';
 import { UsageError } from '../errors.js';
 import { checkGeometryForStream } from '../geometry/geometry-file.js';
-import { checkOutputPaths, writeFilesAside, type OutputFile } from '../io/files-aside.js';
+import { planOutputs, writeOutputFiles, type OutputFile } from '../io/output-target.js';
 import { readWavFile, type WavData } from '../io/wav-reader.js';
 import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
 import { addArrayOptions, addSpecs, pickSpecs } from './options.js';
@@ -102,7 +102,7 @@ async function checkArray(args: string[], flags: CheckFlags, raw: Record<string,
     { option: '--write-geometry', path: flags.writeGeometry },
   ].filter((o): o is { option: string; path: string } => o.path !== undefined);
   const inputPaths = [...args.map((a) => (a.includes('=') ? a.slice(a.indexOf('=') + 1) : a)), ...(flags.spans ? [flags.spans] : []), ...(flags.array ? [flags.array] : [])];
-  checkOutputPaths(outputs, inputPaths);
+  const planned = new Map(planOutputs(outputs, inputPaths).map((t) => [t.option, t]));
 
   const loaded = loadTakes(args, flags.spans);
   if (loaded.channels < 2) throw new UsageError('the takes have one channel: an array check needs one channel per mic');
@@ -116,18 +116,18 @@ async function checkArray(args: string[], flags: CheckFlags, raw: Record<string,
   const text = textReport(fit, items, ctx);
 
   const files: OutputFile[] = [];
-  if (flags.json) files.push({ option: '--json', path: flags.json, data: JSON.stringify(resultJson(fit, items, ctx), null, 2) + '\n' });
+  if (flags.json) files.push({ target: planned.get('--json')!, data: JSON.stringify(resultJson(fit, items, ctx), null, 2) + '\n' });
   if (flags.report) {
     const svg = tdoaPlotSvg(fit, `bench check of ${geometry.name}`);
     const data = /\.svg$/i.test(flags.report) ? svg : htmlPage(geometry.name, svg, text);
-    files.push({ option: '--report', path: flags.report, data });
+    files.push({ target: planned.get('--report')!, data });
   }
   if (flags.writeGeometry) {
     const g = correctedGeometry(fit, geometry);
     if (!g) throw new UsageError('--write-geometry: the takes do not determine the mic positions (see the notes); record more directions, nothing was written');
-    files.push({ option: '--write-geometry', path: flags.writeGeometry, data: JSON.stringify(g, null, 2) + '\n' });
+    files.push({ target: planned.get('--write-geometry')!, data: JSON.stringify(g, null, 2) + '\n' });
   }
-  writeFilesAside(files);
+  writeOutputFiles(files);
   process.stdout.write(text);
 }
 

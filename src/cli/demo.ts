@@ -9,6 +9,7 @@ import { UsageError } from '../errors.js';
 import { startFeedServer, type FeedServer } from '../feed/feed-server.js';
 import { feedOptionSpecs, feedOptionsFromCli } from '../feed/feed-options.js';
 import { loadGeometryFile } from '../geometry/geometry-file.js';
+import { resolveAnalysisOptions } from '../pipeline/analysis-options.js';
 import { bearingOf } from '../pipeline/frame-record.js';
 import type { EventRecord } from '../records.js';
 import { demoScenePath, loadSceneFile } from '../sim/scene.js';
@@ -120,6 +121,8 @@ async function runDemo(flags: DemoFlags, raw: Record<string, unknown>): Promise<
   const stages = resolveStageSettings(raw, flags.profile);
   const feedOptions = flags.fast ? null : feedOptionsFromCli(raw);
   const { scene } = loadSceneFile(scenePath);
+  // Every setting is checked before the scene is rendered or the feed opened.
+  resolveAnalysisOptions(stages.analysis, scene.sampleRate);
   const files = renderedScene(scenePath);
   const geometry = loadGeometryFile(files.array);
   const c = flags.temperature !== undefined || flags.speedOfSound !== undefined ? resolveSpeed(flags) : scene.speedOfSound;

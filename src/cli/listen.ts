@@ -1,13 +1,14 @@
 import type { Command } from 'commander';
-import { UsageError } from '../errors.js';
+import { RuntimeFailure, UsageError } from '../errors.js';
 import { feedOptionSpecs, type FeedOptions } from '../feed/feed-options.js';
 import type { FeedSettings } from '../feed/feed-protocol.js';
 import { startFeedServer } from '../feed/feed-server.js';
 import { checkGeometryForStream } from '../geometry/geometry-file.js';
 import type { AudioSource } from '../io/audio-source.js';
-import { mqttOptionSpecs, MqttSink, resolveMqttOptions, type MqttOptions } from '../io/mqtt-sink.js';
+import { DEFAULT_MQTT_QUEUE_DIR, mqttOptionSpecs, MqttSink, resolveMqttOptions, type MqttOptions } from '../io/mqtt-sink.js';
 import { openPcmStreamSource } from '../io/pcm-stream-source.js';
 import { RecordLog, recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../io/record-log.js';
+import { checkFolderOption, planOutput, type OutputTarget } from '../io/output-target.js';
 import { RecordWriter } from '../io/record-writer.js';
 import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptions, type RecorderOptionsInput } from '../io/recorder-options.js';
 import { openRecorderSource, type RecorderGap, type RecorderSource } from '../io/recorder-source.js';
@@ -64,7 +65,7 @@ export function registerListen(program: Command): void {
   cmd
     .option('--stdin', 'read raw interleaved s16le PCM from stdin instead of a recorder (needs --rate and --channels)')
     .option('--frames', 'also write one frame record per hop to stdout')
-    .option('-o, --out <file>', 'write the records to this file instead of stdout (as FILE.partial, renamed when listen stops)')
+    .option('-o, --out <file>', 'write the records to this file instead of stdout (written aside, renamed over FILE when listen stops cleanly; a FIFO or device is written straight through)')
     .option('--quiet', 'write no records to stdout (use with --log-dir, --mqtt or --serve)')
     .option('--serve', 'serve the live polar view and its WebSocket feed (see --feed-*)');
   addSpecs(cmd, RECORDER_OPTION_SPECS);
@@ -130,7 +131,10 @@ async function listen(flags: ListenFlags, raw: Raw): Promise<void> {
     ...pickSpecs<Partial<MqttOptions>>(raw, mqttOptionSpecs),
   });
   const feedOptions = resolveServe(flags.serve, raw, feedOptionSpecs);
+  if (logOptions.logDir !== null) checkFolderOption('--log-dir', logOptions.logDir);
+  if (mqttOptions.mqtt !== null) checkFolderOption('--mqtt-queue-dir', mqttOptions.mqttQueueDir ?? DEFAULT_MQTT_QUEUE_DIR);
   if (flags.quiet && flags.out !== undefined) throw new UsageError('--quiet and --out both say where records go; give one of them');
+  const out = flags.out === undefined || flags.out === '-' ? null : planOutput('--out', flags.out);
   if (flags.quiet && flags.frames) throw new UsageError('--frames writes frame records to stdout, which --quiet turns off; use --log-frames to log them');
   const input = planInput(flags, raw, geometry.mics.length);
   const where = input.kind === 'stdin' ? 'the stdin stream' : `the ${input.recorder!.recorder} capture`;
@@ -141,9 +145,10 @@ async function listen(flags: ListenFlags, raw: Raw): Promise<void> {
 
   const opened: StationSink[] = [];
   try {
-    await runLive(flags, { setup, input, station, logOptions, mqttOptions, feedOptions, tracker: stages.tracker }, opened);
+    await runLive(flags, { setup, input, out, station, logOptions, mqttOptions, feedOptions, tracker: stages.tracker }, opened);
   } catch (err) {
-    // A failure while starting: close what was opened (in reverse), then report.
+    // A failure while starting: close what was opened (in reverse; --out is abandoned, so the
+    // file there keeps its old contents), then report.
     for (const sink of opened.reverse()) await Promise.resolve(sink.close()).catch(() => undefined);
     throw err;
   }
@@ -152,6 +157,8 @@ async function listen(flags: ListenFlags, raw: Raw): Promise<void> {
 interface LivePlan {
   setup: AnalysisSetup;
   input: InputPlan;
+  /** --out (null: stdout, or none with --quiet). */
+  out: OutputTarget | null;
   station: StationOptions;
   logOptions: RecordLogOptions;
   mqttOptions: MqttOptions;
@@ -165,8 +172,8 @@ async function runLive(flags: ListenFlags, plan: LivePlan, opened: StationSink[]
   const geometry = setup.geometry;
   const withBearing = geometry.headingDeg !== null;
 
-  const writer = flags.quiet ? null : RecordWriter.open<LiveRecord>(flags.out ?? null, 'jsonl', [], []);
-  if (writer) opened.push({ name: flags.out ?? 'stdout', close: () => writer.close() });
+  const writer = flags.quiet ? null : RecordWriter.open<LiveRecord>(plan.out, 'jsonl', []);
+  if (writer) opened.push({ name: writer.name, close: () => writer.abandon() });
   const log = plan.logOptions.logDir === null ? null : new RecordLog(station.station, plan.logOptions, { frameColumns: frameColumns(setup.model.pairs, withBearing) });
   if (log) opened.push(log);
   const mqtt = plan.mqttOptions.mqtt === null ? null : new MqttSink(station.station, plan.mqttOptions);
@@ -292,7 +299,7 @@ async function runLive(flags: ListenFlags, plan: LivePlan, opened: StationSink[]
   if (feed) sinks.push({ name: 'the live feed', close: () => feed.close() });
   if (mqtt) sinks.push(mqtt);
   if (log) sinks.push(log);
-  if (writer) sinks.push({ name: flags.out ?? 'stdout', close: () => writer.close() });
+  if (writer) sinks.push({ name: writer.name, close: () => closeLiveWriter(writer, failure !== null) });
   const handle = installShutdown(sinks, {
     stopInput: async () => {
       stopping = true;
@@ -309,4 +316,23 @@ async function runLive(flags: ListenFlags, plan: LivePlan, opened: StationSink[]
     if (held.gap) emitGap(gapRecord(held.gap.startS, 0, held.gap.reason, clock.utcAt(held.gap.startS)));
   }
   await handle.stop(err ? 'stopping on an error' : input.kind === 'stdin' ? 'stdin ended' : 'the recorder stopped');
+}
+
+/**
+ * The end of a live run's --out: renamed into place after a clean stop. After a failure the
+ * file at --out is not replaced, and the records of this run (captured once, never again) stay
+ * in the partial file beside it, which stderr names.
+ */
+async function closeLiveWriter(writer: RecordWriter<LiveRecord>, failed: boolean): Promise<void> {
+  if (!failed) {
+    try {
+      await writer.close();
+      return;
+    } catch (err) {
+      const kept = await writer.keepAside();
+      throw new RuntimeFailure(`${(err as Error).message}${kept ? `; the records written before it are in ${kept}` : ''}`);
+    }
+  }
+  const kept = await writer.keepAside();
+  if (kept) process.stderr.write(`bearline: the run failed, so ${writer.name} was not replaced; this run's records are in ${kept}\n`);
 }

@@ -2,7 +2,7 @@ import { existsSync } from 'node:fs';
 import type { Command } from 'commander';
 import { Option } from 'commander';
 import { UsageError } from '../errors.js';
-import { checkOutputPaths, writeFilesAside } from '../io/files-aside.js';
+import { planOutput, writeOutputFiles } from '../io/output-target.js';
 import { readJsonFile, readTextFile } from '../io/read-json-file.js';
 import { resolveSpeedOfSound } from '../geometry/sound-speed.js';
 import type { EventRecord } from '../records.js';
@@ -115,7 +115,7 @@ Examples:
         const origins: Record<string, string[]> = {};
         const logArgs = logs.map((arg) => splitLogArgument(arg, ids));
         // Nothing the user gave may be overwritten: check --out before any work.
-        if (flags.out !== undefined) checkOutputPaths([{ option: '--out', path: flags.out }], [flags.stations, ...logArgs.map((l) => l.file)]);
+        const target = flags.out === undefined ? null : planOutput('--out', flags.out, [flags.stations, ...logArgs.map((l) => l.file)]);
         for (const { station, file } of logArgs) {
           for (const item of parseEventLog(readTextFile(file, 'event log', 'the LOG arguments'), file, station, ids)) {
             (lists[item.station] ??= []).push(item.record);
@@ -130,8 +130,8 @@ Examples:
             : flags.format === 'scene'
               ? JSON.stringify(toPlotScene(result)) + '\n'
               : JSON.stringify(toGeoJson(result, include)) + '\n';
-        if (flags.out === undefined) process.stdout.write(text);
-        else writeFilesAside([{ option: '--out', path: flags.out, data: text }]);
+        if (target === null) process.stdout.write(text);
+        else writeOutputFiles([{ target, data: text }]);
         const fixed = result.calls.filter((c) => c.fix.ok).length;
         const refused = result.calls.length - fixed;
         const why = new Map<string, number>();

@@ -1,3 +1,4 @@
+import { existsSync } from 'node:fs';
 import type { Command } from 'commander';
 import { UsageError } from '../errors.js';
 import { feedOptionSpecs, type FeedOptions } from '../feed/feed-options.js';
@@ -7,7 +8,9 @@ import { checkGeometryForStream } from '../geometry/geometry-file.js';
 import type { AudioSource } from '../io/audio-source.js';
 import { pacedSource, paceOptionSpecs } from '../io/paced-source.js';
 import { openPcmStreamSource } from '../io/pcm-stream-source.js';
+import { abandonOnSignal, planOutput } from '../io/output-target.js';
 import { parseFormat, RecordWriter, type RecordFormat } from '../io/record-writer.js';
+import { replacedSamplesLine } from '../io/replaced-samples-report.js';
 import { stderrWarning } from '../io/stderr-warning.js';
 import { openWavSource } from '../io/wav-source.js';
 import { createAnalysis, runAnalysis } from '../pipeline/analysis.js';
@@ -55,7 +58,7 @@ export function registerScan(program: Command): void {
     .option('--frames', 'write one frame record per hop instead of event records')
     .option('--summary', 'print a table per track at the end (on stderr)')
     .option('--format <jsonl|csv>', 'output format', 'jsonl')
-    .option('-o, --out <path>', 'write to a file instead of stdout (written aside, renamed when complete)')
+    .option('-o, --out <path>', 'write to a file instead of stdout (written aside, renamed over PATH only when complete; a FIFO or device is written straight through)')
     .option('--stdin', 'read raw interleaved s16le PCM from stdin (needs --rate and --channels)')
     .option('--rate <hz>', 'sample rate of the stdin stream', positiveInteger)
     .option('--channels <n>', 'channel count of the stdin stream', positiveInteger)
@@ -93,11 +96,14 @@ async function openSource(file: string | undefined, flags: ScanFlags, blockFrame
 }
 
 async function scan(file: string | undefined, flags: ScanFlags, raw: Record<string, unknown>): Promise<void> {
+  // Every option is checked, and the output planned, before the input is read or anything is written.
   const format: RecordFormat = parseFormat(flags.format);
   const geometry = resolveArray(flags);
   const c = resolveSpeed(flags);
   const stages = resolveStageSettings(raw, flags.profile);
   const feedOptions = resolveServe(flags.serve, raw, [...paceOptionSpecs, ...feedOptionSpecs]);
+  const inputs = file ? [file] : [];
+  const target = flags.out === undefined || flags.out === '-' ? null : planOutput('--out', flags.out, inputs);
   // Served replays go in small blocks, so that the paced frames flow evenly (about 21 ms at 48 kHz).
   const opened = await openSource(file, flags, feedOptions ? SERVE_BLOCK_FRAMES : undefined);
   const source = feedOptions ? pacedSource(opened, flags.speed ?? 1) : opened;
@@ -117,33 +123,42 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
       viewerFields: !!flags.viewerFields || feedOptions !== null,
     };
     if (feedOptions) feed = await startViewerFeed(feedOptions, setup.geometry, sampleRate, setup.options.hop);
-    const inputs = file ? [file] : [];
     const withBearing = geometry.headingDeg !== null;
-    const frameWriter = flags.frames ? RecordWriter.open<FrameRecord>(flags.out ?? null, format, frameColumns(setup.model.pairs, withBearing), inputs) : null;
-    const eventWriter = flags.frames ? null : RecordWriter.open<EventRecord>(flags.out ?? null, format, eventColumns(), inputs);
+    const frameWriter = flags.frames ? RecordWriter.open<FrameRecord>(target, format, frameColumns(setup.model.pairs, withBearing)) : null;
+    const eventWriter = flags.frames ? null : RecordWriter.open<EventRecord>(target, format, eventColumns());
     const writer = frameWriter ?? eventWriter!;
-    const outputs = {
-      onFrame: frameWriter ? (rec: FrameRecord) => frameWriter.write(rec) : undefined,
-      onEvent: eventWriter ? (rec: EventRecord) => eventWriter.write(rec) : undefined,
-      onWarning: stderrWarning,
-    };
-    const session = new TrackingSession(settings, stages.tracker, feed ? alsoToFeed(feed, outputs) : outputs, setup.checks);
-    const progress = createProgress(`scanning ${file ?? 'stdin'}`, totalFrames, sampleRate);
+    // From here on, any failure (or Ctrl-C) abandons the partial file: the old file at --out stays as it was.
+    const undoSignals = target ? abandonOnSignal(target) : () => undefined;
     try {
-      const hops = await runAnalysis(source, setup.analyzer, (r) => session.hop(r), (done) => progress.update(done));
-      await session.finish();
-      progress.finish();
+      const outputs = {
+        onFrame: frameWriter ? (rec: FrameRecord) => frameWriter.write(rec) : undefined,
+        onEvent: eventWriter ? (rec: EventRecord) => eventWriter.write(rec) : undefined,
+        onWarning: stderrWarning,
+      };
+      const session = new TrackingSession(settings, stages.tracker, feed ? alsoToFeed(feed, outputs) : outputs, setup.checks);
+      const progress = createProgress(`scanning ${file ?? 'stdin'}`, totalFrames, sampleRate);
+      let hops: number;
+      try {
+        hops = await runAnalysis(source, setup.analyzer, (r) => session.hop(r), (done) => progress.update(done));
+        await session.finish();
+      } finally {
+        progress.finish();
+      }
       if (hops === 0) stderrWarning(`${where} is shorter than one analysis frame (${setup.options.frame} samples): no records`);
       await writer.close();
+      if (flags.summary) {
+        process.stderr.write(formatSummaryTable(session.summary()) + '\n');
+        const replaced = opened.replacedSamples?.();
+        const line = replaced ? replacedSamplesLine(where, replaced) : null;
+        if (line) process.stderr.write(line + '\n');
+        for (const w of session.warnings()) process.stderr.write(`warning: ${w}\n`);
+      }
     } catch (err) {
-      progress.finish();
-      const partial = await writer.abandon();
-      if (partial) stderrWarning(`stopped early; the records written so far are in ${partial}`);
+      await writer.abandon();
+      if (target && !target.through) stderrWarning(existsSync(target.target) ? `the run stopped, so ${target.path} was not replaced (it keeps its old contents)` : `the run stopped, so nothing was written to ${target.path}`);
       throw err;
-    }
-    if (flags.summary) {
-      process.stderr.write(formatSummaryTable(session.summary()) + '\n');
-      for (const w of session.warnings()) process.stderr.write(`warning: ${w}\n`);
+    } finally {
+      undoSignals();
     }
   } finally {
     await feed?.close();

@@ -1,10 +1,10 @@
-import { checkOutputPaths, writeFilesAside } from '../io/files-aside.js';
 import { existsSync, statSync } from 'node:fs';
 import { basename, dirname, resolve } from 'node:path';
 import type { Command } from 'commander';
 import { UsageError } from '../errors.js';
 import { geometryToJson, type GeometryJson } from '../geometry/geometry-file.js';
-import { writeWavFile } from '../io/wav-writer.js';
+import { planOutputs, writeOutputFiles } from '../io/output-target.js';
+import { wavFileChunks } from '../io/wav-writer.js';
 import { renderScene, sceneSamples } from '../sim/render.js';
 import { demoScenePath, loadSceneFile } from '../sim/scene.js';
 import { TRUTH_STEP_S, truthRecords } from '../sim/truth.js';
@@ -46,7 +46,7 @@ export function runSimulate(opts: SimulateOptions): void {
   }
   const scenePath = opts.scene ?? demoScenePath();
   const { scene, inputFiles } = loadSceneFile(scenePath);
-  checkOutputPaths(
+  const [wavOut, truthOut, arrayOut] = planOutputs(
     [
       { option: '--out', path: paths.wav },
       { option: '--out (truth)', path: paths.truth },
@@ -64,10 +64,10 @@ export function runSimulate(opts: SimulateOptions): void {
   let clipped = 0;
   if (!opts.float) for (const ch of rendered.channels) for (const v of ch) if (v > 1 || v < -1) clipped++;
 
-  writeFilesAside([
-    { option: '--out', path: paths.wav, data: (p) => writeWavFile(p, scene.sampleRate, rendered.channels, opts.float ? 'f32' : 's16') },
-    { option: '--out (truth)', path: paths.truth, data: truth.map((r) => JSON.stringify(r)).join('\n') + (truth.length ? '\n' : '') },
-    { option: '--out (array)', path: paths.array, data: geometryText(geometryToJson(geometry)) },
+  writeOutputFiles([
+    { target: wavOut!, data: wavFileChunks(scene.sampleRate, rendered.channels, opts.float ? 'f32' : 's16') },
+    { target: truthOut!, data: truth.map((r) => JSON.stringify(r)).join('\n') + (truth.length ? '\n' : '') },
+    { target: arrayOut!, data: geometryText(geometryToJson(geometry)) },
   ]);
   if (clipped > 0) {
     process.stderr.write(`bearline: warning: ${clipped} samples clipped at full scale: lower the source levels or use --float\n`);

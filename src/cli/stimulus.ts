@@ -1,8 +1,8 @@
-import { checkOutputPaths, writeFilesAside } from '../io/files-aside.js';
 import type { Command } from 'commander';
 import { UsageError } from '../errors.js';
 import { renderStimulus, resolveStimulusOptions, stimulusOptionSpecs, type StimulusOptions } from '../stimulus/bench-signals.js';
-import { writeWavFile } from '../io/wav-writer.js';
+import { planOutput, writeOutputFiles } from '../io/output-target.js';
+import { wavFileChunks } from '../io/wav-writer.js';
 import { addSpecs, pickSpecs } from './options.js';
 import { action } from './run-command.js';
 
@@ -16,9 +16,9 @@ export const SAFE_LEVEL_CAUTION =
 
 function writeStimulus(out: string, o: StimulusOptions): void {
   if (!/\.wav$/i.test(out)) throw new UsageError(`--out ${out} must name a .wav file`);
-  checkOutputPaths([{ option: '--out', path: out }], []);
+  const target = planOutput('--out', out);
   const channels = renderStimulus(o);
-  writeFilesAside([{ option: '--out', path: out, data: (p) => writeWavFile(p, o.sampleRate, channels, 's24') }]);
+  writeOutputFiles([{ target, data: wavFileChunks(o.sampleRate, channels, 's24') }]);
   const total = channels[0]!.length / o.sampleRate;
   process.stderr.write(`bearline: wrote ${out}: ${o.kind}, ${o.repetitions} x ${o.durationS} s, ${total.toFixed(2)} s in all, peak ${o.levelDbfs} dBFS, ${o.sampleRate} Hz, ${o.channels} channel${o.channels === 1 ? '' : 's'}\n`);
 }

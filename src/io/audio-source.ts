@@ -1,3 +1,5 @@
+import type { ReplacedSampleCount } from './replaced-samples-report.js';
+
 /**
  * The contract every audio source (WAV file, raw PCM on stdin, live recorder) fulfils.
  * Samples are float in [-1, 1], one Float32Array per channel per block.
@@ -18,6 +20,11 @@ export interface AudioBlock {
 
 export interface AudioSource {
   readonly format: AudioFormat;
+  /**
+   * Float samples replaced with 0 so far (NaN, Inf, absurd values: see pcm-decode.ts), for a
+   * run's summary. Absent on sources whose encoding cannot hold them (16-bit PCM).
+   */
+  readonly replacedSamples?: () => ReplacedSampleCount;
   /** Blocks in stream order; ends at end of stream. Warnings (e.g. truncated file) go to onWarning. */
   blocks(): AsyncIterable<AudioBlock>;
   /** Release the underlying file or process. Safe to call more than once. */

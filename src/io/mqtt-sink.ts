@@ -32,6 +32,9 @@ export interface MqttOptions {
   mqttQueueMax: number;
 }
 
+/** Where events wait when --mqtt-queue-dir is not given (relative to the working folder). */
+export const DEFAULT_MQTT_QUEUE_DIR = 'bearline-mqtt-queue';
+
 export const MQTT_DEFAULTS: MqttOptions = {
   mqtt: null,
   mqttFrames: false,
@@ -55,7 +58,7 @@ export function parseBrokerUrl(raw: string): string {
 export const mqttOptionSpecs: readonly OptionSpec<keyof MqttOptions>[] = [
   { key: 'mqtt', flag: '--mqtt <url>', help: 'publish events to this MQTT broker, e.g. mqtt://127.0.0.1:1883', defaultValue: 'off', parse: parseBrokerUrl },
   { key: 'mqttFrames', flag: '--mqtt-frames', help: 'also publish one frame record per hop (QoS 0, not queued while the broker is away)', defaultValue: false },
-  { key: 'mqttQueueDir', flag: '--mqtt-queue-dir <dir>', help: 'where events wait while the broker is unreachable', defaultValue: './bearline-mqtt-queue', parse: (raw: string) => raw },
+  { key: 'mqttQueueDir', flag: '--mqtt-queue-dir <dir>', help: 'where events wait while the broker is unreachable', defaultValue: `./${DEFAULT_MQTT_QUEUE_DIR}`, parse: (raw: string) => raw },
   { key: 'mqttQueueMax', flag: '--mqtt-queue-max <size>', help: 'most unsent events to keep (oldest dropped first), e.g. 16M', defaultValue: '16M', parse: (raw: string) => parseByteSize(raw, '--mqtt-queue-max') },
 ];
 
@@ -121,7 +124,7 @@ export class MqttSink {
     this.warn = deps.onWarning ?? stderrWarning;
     this.clock = deps.clock ?? Date.now;
     this.drainMs = deps.drainMs ?? 2000;
-    this.queue = new DiskQueue(this.options.mqttQueueDir ?? join(process.cwd(), 'bearline-mqtt-queue'), {
+    this.queue = new DiskQueue(this.options.mqttQueueDir ?? join(process.cwd(), DEFAULT_MQTT_QUEUE_DIR), {
       maxBytes: this.options.mqttQueueMax,
       onWarning: this.warn,
       clock: this.clock,

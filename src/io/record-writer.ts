@@ -1,6 +1,7 @@
-import { createWriteStream, existsSync, renameSync, type WriteStream } from 'node:fs';
-import { dirname, resolve } from 'node:path';
+import { createWriteStream, type WriteStream } from 'node:fs';
+import { finished } from 'node:stream/promises';
 import { RuntimeFailure, UsageError } from '../errors.js';
+import { abandonOutput, commitOutput, openOutputFd, type OutputTarget } from './output-target.js';
 
 export type RecordFormat = 'jsonl' | 'csv';
 
@@ -22,49 +23,57 @@ export function parseFormat(raw: string): RecordFormat {
 }
 
 /**
- * Writes records as JSON Lines or CSV to stdout or a file. A file is written as PATH.partial
- * and renamed over PATH only when complete, so an existing file is never left half-replaced;
- * on failure the partial file stays and the message says where.
+ * Writes records as JSON Lines or CSV to stdout or to an output planned by planOutput
+ * (output-target.ts): a file is written aside and renamed over its target only by close();
+ * abandon() deletes the partial file (the target keeps what it held); keepAside() stops and
+ * leaves the partial file where it is (for records that exist nowhere else, e.g. live capture).
+ * A FIFO or device is written straight through.
  */
 export class RecordWriter<T extends object> {
   private readonly stream: NodeJS.WritableStream;
-  private readonly partialPath: string | null;
+  private readonly file: WriteStream | null;
   private failed: Error | null = null;
   private headerDone = false;
   private draining: Promise<void> | null = null;
+  private ended: Promise<void> | null = null;
+  private settled = false;
+  /** Records written so far. */
+  records = 0;
 
   private constructor(
-    readonly path: string | null,
+    readonly target: OutputTarget | null,
     readonly format: RecordFormat,
     private readonly columns: readonly CsvColumn<T>[],
-    protectedInputs: readonly string[],
   ) {
-    if (path === null || path === '-') {
-      this.path = null;
-      this.partialPath = null;
+    if (target === null) {
+      this.file = null;
       this.stream = process.stdout;
     } else {
-      const abs = resolve(path);
-      if (protectedInputs.some((p) => resolve(p) === abs)) {
-        throw new UsageError(`--out ${path} is one of the inputs: choose another output file`);
-      }
-      if (!existsSync(dirname(abs))) throw new UsageError(`cannot write ${path}: the folder ${dirname(abs)} does not exist`);
-      this.partialPath = `${abs}.partial`;
-      const ws: WriteStream = createWriteStream(this.partialPath);
+      // A partial file is created at once (exclusively); a FIFO is opened in the background,
+      // as its reader may come later.
+      const ws = target.through ? createWriteStream(target.writePath, { flags: 'a' }) : createWriteStream('', { fd: openOutputFd(target) });
       ws.on('error', (err) => {
         this.failed = err;
       });
+      this.file = ws;
       this.stream = ws;
     }
   }
 
-  static open<T extends object>(path: string | null, format: RecordFormat, columns: readonly CsvColumn<T>[], protectedInputs: readonly string[] = []): RecordWriter<T> {
-    return new RecordWriter<T>(path, format, columns, protectedInputs);
+  /** Records to `target`, or to stdout when it is null. */
+  static open<T extends object>(target: OutputTarget | null, format: RecordFormat, columns: readonly CsvColumn<T>[]): RecordWriter<T> {
+    return new RecordWriter<T>(target, format, columns);
+  }
+
+  /** What the records go to, for messages. */
+  get name(): string {
+    return this.target?.path ?? 'stdout';
   }
 
   /** Write one record; returns a promise only when the output asks to wait (back-pressure). */
   write(rec: T): Promise<void> | undefined {
     if (this.failed) throw this.failure();
+    this.records++;
     let line: string;
     if (this.format === 'jsonl') line = JSON.stringify(rec) + '\n';
     else {
@@ -75,38 +84,75 @@ export class RecordWriter<T extends object> {
       line = this.columns.map((c) => csvCell(c.get(rec))).join(',') + '\n';
     }
     if (this.stream.write(line)) return this.draining ?? undefined;
-    // One wait per full buffer, however many records are written before it drains.
-    this.draining ??= new Promise<void>((res) =>
-      this.stream.once('drain', () => {
+    // One wait per full buffer, however many records are written before it drains. A stream
+    // that fails never drains: the wait ends then too, and the next write or close() throws.
+    this.draining ??= new Promise<void>((res) => {
+      const done = (): void => {
+        this.stream.off('drain', done);
+        this.stream.off('error', done);
+        this.stream.off('close', done);
         this.draining = null;
         res();
-      }),
-    );
+      };
+      this.stream.on('drain', done);
+      this.stream.on('error', done);
+      this.stream.on('close', done);
+    });
     return this.draining;
   }
 
   private failure(): RuntimeFailure {
-    return new RuntimeFailure(`writing ${this.path ?? 'stdout'} failed (${this.failed?.message}); what was written so far is in ${this.partialPath ?? 'stdout'}`);
+    return new RuntimeFailure(`writing ${this.name} failed (${this.failed?.message})`);
   }
 
-  /** Finish: flush, and move the partial file into place. */
+  /** Flush and close the file (or FIFO); errors are kept in `failed`. */
+  private end(): Promise<void> {
+    const ws = this.file;
+    this.ended ??= ws === null ? Promise.resolve() : finished(ws.end()).catch((err: unknown) => {
+      this.failed ??= err as Error;
+    });
+    return this.ended;
+  }
+
+  /**
+   * Finish: flush, and move the partial file over the target. A write that failed is thrown
+   * as a RuntimeFailure and the partial file is left for abandon() or keepAside().
+   */
   async close(): Promise<void> {
-    if (this.format === 'csv' && !this.headerDone) {
+    if (this.format === 'csv' && !this.headerDone && !this.failed) {
       this.stream.write(this.columns.map((c) => c.name).join(',') + '\n');
       this.headerDone = true;
     }
-    if (this.partialPath === null) return;
-    const ws = this.stream as WriteStream;
-    await new Promise<void>((res) => ws.end(() => res()));
+    await this.end();
     if (this.failed) throw this.failure();
-    renameSync(this.partialPath, this.path!);
+    if (this.target && !this.settled) {
+      this.settled = true;
+      commitOutput(this.target);
+    }
   }
 
-  /** Stop after a failure elsewhere: keep what was written in the partial file. */
-  async abandon(): Promise<string | null> {
-    if (this.partialPath === null) return null;
-    const ws = this.stream as WriteStream;
-    await new Promise<void>((res) => ws.end(() => res()));
-    return this.partialPath;
+  /** Stop after a failure (here or elsewhere): delete the partial file; the target keeps what it held. */
+  async abandon(): Promise<void> {
+    await this.end();
+    if (this.target && !this.settled) {
+      this.settled = true;
+      abandonOutput(this.target);
+    }
+  }
+
+  /**
+   * Stop after a failure but keep the records written so far in the partial file, beside the
+   * untouched target. Returns its path (null for stdout, for outputs written through, and when
+   * no record was written: then the partial file is abandoned).
+   */
+  async keepAside(): Promise<string | null> {
+    if (this.records === 0) {
+      await this.abandon();
+      return null;
+    }
+    await this.end();
+    if (!this.target || this.target.through || this.settled) return null;
+    this.settled = true;
+    return this.target.writePath;
   }
 }

@@ -2,6 +2,7 @@ import { open, type FileHandle } from 'node:fs/promises';
 import { RuntimeFailure, UsageError } from '../errors.js';
 import type { AudioBlock, AudioFormat, AudioSource, WarningSink } from './audio-source.js';
 import { deinterleave, type SampleEncoding } from './pcm-decode.js';
+import { ReplacedSamplesReport } from './replaced-samples-report.js';
 import { stderrWarning } from './stderr-warning.js';
 import { checkBlockFrames } from './stream-options.js';
 import { isOpenEndedSize, parseFmtChunk, planDataRange, type WavFormat } from './wav-format.js';
@@ -9,7 +10,7 @@ import { isOpenEndedSize, parseFmtChunk, planDataRange, type WavFormat } from '.
 export interface WavSourceOptions {
   /** Frames per block (default 4096). */
   blockFrames?: number;
-  /** Where warnings (truncated file, partial frame) go; default: stderr. */
+  /** Where warnings (truncated file, partial frame, samples that are not sound) go; default: stderr. */
   onWarning?: WarningSink;
 }
 
@@ -126,15 +127,19 @@ export async function openWavSource(path: string, opts: WavSourceOptions = {}): 
   const arrays = Array.from({ length: wav.channels }, () => new Float32Array(blockFrames));
   const block: { channels: readonly Float32Array[]; length: number } = { channels: arrays, length: 0 };
   let closed = false;
+  // Per reading of the file (blocks() may start again from the beginning).
+  let replaced = new ReplacedSamplesReport(path, wav.sampleRate, warn);
 
   async function* blocks(): AsyncGenerator<AudioBlock> {
+    replaced = new ReplacedSamplesReport(path, wav.sampleRate, warn);
     let done = 0;
     while (done < frames && !closed) {
       const want = Math.min(blockFrames, frames - done);
       const got = await readAt(fh, path, bytes, want * wav.blockAlign, dataOffset + done * wav.blockAlign);
       const n = Math.floor(got / wav.blockAlign);
       if (n > 0) {
-        deinterleave(wav.encoding, bytes, n, arrays);
+        deinterleave(wav.encoding, bytes, n, arrays, 0, replaced.scratch);
+        replaced.note(done);
         block.length = n;
         done += n;
         yield block;
@@ -142,9 +147,10 @@ export async function openWavSource(path: string, opts: WavSourceOptions = {}): 
       if (n < want) {
         const held = (x: number): string => (x / wav.sampleRate).toFixed(1);
         warn(`${path} became shorter while it was read: expected ${held(frames)} s, got ${held(done)} s; analysing what is there`);
-        return;
+        break;
       }
     }
+    replaced.finish();
   }
 
   return {
@@ -152,6 +158,7 @@ export async function openWavSource(path: string, opts: WavSourceOptions = {}): 
     encoding: wav.encoding,
     format,
     blocks,
+    replacedSamples: () => replaced.counted,
     async close() {
       if (closed) return;
       closed = true;

@@ -1,4 +1,3 @@
-import { closeSync, fsyncSync, openSync, writeSync } from 'node:fs';
 import { UsageError } from '../errors.js';
 
 export type WavSampleFormat = 's16' | 's24' | 's32' | 'f32';
@@ -55,63 +54,22 @@ export function encodeInterleaved(channels: readonly Float32Array[], length: num
 }
 
 /**
- * A WAV file written block by block in constant memory. The header's sizes are patched on
- * close(); until then the file holds a valid header with the sizes written so far at the
- * last flush.
+ * A whole planar float signal as the consecutive byte chunks of a WAV file: the header (its
+ * sizes known up front) and then the samples in blocks, so it can be written sequentially,
+ * to a file or straight through a FIFO (see output-target.ts).
  */
-export class WavWriter {
-  private fd: number;
-  private dataBytes = 0;
-  private closed = false;
-
-  constructor(
-    readonly path: string,
-    readonly sampleRate: number,
-    readonly channels: number,
-    readonly format: WavSampleFormat = 's16',
-  ) {
-    if (!Number.isInteger(sampleRate) || sampleRate <= 0) throw new UsageError(`sample rate ${sampleRate} is not a positive whole number`);
-    if (!Number.isInteger(channels) || channels < 1 || channels > 64) throw new UsageError(`channel count ${channels} is not between 1 and 64`);
-    try {
-      this.fd = openSync(path, 'w');
-    } catch (err) {
-      throw new UsageError(`cannot write ${path}: ${(err as Error).message}`);
-    }
-    writeSync(this.fd, header(sampleRate, channels, format, 0), 0, 44, 0);
-  }
-
-  /** Append `length` frames of planar float samples. */
-  write(channels: readonly Float32Array[], length = channels[0]?.length ?? 0): void {
-    if (this.closed) throw new Error('WavWriter: write after close');
-    if (channels.length !== this.channels) throw new Error(`WavWriter: got ${channels.length} channels, expected ${this.channels}`);
-    const buf = encodeInterleaved(channels, length, this.format);
-    writeSync(this.fd, buf, 0, buf.length, 44 + this.dataBytes);
-    this.dataBytes += buf.length;
-  }
-
-  /** Patch the header with the sizes written so far and push the data to disk. */
-  flush(): void {
-    if (this.closed) return;
-    writeSync(this.fd, header(this.sampleRate, this.channels, this.format, this.dataBytes), 0, 44, 0);
-    fsyncSync(this.fd);
-  }
-
-  close(): void {
-    if (this.closed) return;
-    this.flush();
-    closeSync(this.fd);
-    this.closed = true;
-  }
-}
-
-/** Write a whole planar float signal to a WAV file. */
-export function writeWavFile(path: string, sampleRate: number, channels: readonly Float32Array[], format: WavSampleFormat = 's16'): void {
-  const w = new WavWriter(path, sampleRate, channels.length, format);
+export function* wavFileChunks(sampleRate: number, channels: readonly Float32Array[], format: WavSampleFormat = 's16'): Generator<Uint8Array> {
+  if (!Number.isInteger(sampleRate) || sampleRate <= 0) throw new UsageError(`sample rate ${sampleRate} is not a positive whole number`);
+  if (!Number.isInteger(channels.length) || channels.length < 1 || channels.length > 64) throw new UsageError(`channel count ${channels.length} is not between 1 and 64`);
+  const total = channels[0]!.length;
+  yield header(sampleRate, channels.length, format, total * channels.length * BYTES[format]);
   const block = 65536;
-  const total = channels[0]?.length ?? 0;
   for (let start = 0; start < total; start += block) {
     const end = Math.min(total, start + block);
-    w.write(channels.map((c) => c.subarray(start, end)), end - start);
+    yield encodeInterleaved(
+      channels.map((c) => c.subarray(start, end)),
+      end - start,
+      format,
+    );
   }
-  w.close();
 }

@@ -91,7 +91,7 @@ describe('bearline scan: bad input exits 2 with one clear line', () => {
   });
   it('--out onto the input is refused and the input is untouched', () => {
     const before = readFileSync(pair);
-    expectUsageFailure(runCli(['scan', pair, '--spacing', '0.2', '--out', pair]), /one of the inputs/);
+    expectUsageFailure(runCli(['scan', pair, '--spacing', '0.2', '--out', pair]), /--out .* would overwrite the input/);
     expect(readFileSync(pair).equals(before)).toBe(true);
   });
 });
