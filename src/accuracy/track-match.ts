@@ -6,7 +6,7 @@
  */
 import { circularStdDeg } from '../track/circular.js';
 import { wrapDeg } from '../geometry/vec3.js';
-import type { EventRecord } from '../records.js';
+import type { EventRecord } from '../records/record-types.js';
 import { circularMeanDeg } from '../track/circular.js';
 import { azimuthError, mirrorAxisOf } from './score.js';
 import type { TruthIndex, TruthRecord } from './truth.js';

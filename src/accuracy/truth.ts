@@ -3,7 +3,7 @@
  * parsed and indexed by time step, so that the sources active at a hop are found in one look.
  * Pure: text in, records out; errors name the line.
  */
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import { TRUTH_STEP_S, type TruthRecord } from '../sim/truth.js';
 
 export { TRUTH_STEP_S, type TruthRecord };

@@ -9,7 +9,7 @@
  * fitted positions matched to the file's), polarity (signs of the correlation peaks), gain
  * (levels) and the direction error left per take. Pure.
  */
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import { micPairs, type ArrayGeometry } from '../geometry/array-geometry.js';
 import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
 import { angleBetweenDeg, bestDirection, pairConeAngleDeg } from './direction-fit.js';

@@ -2,8 +2,8 @@
  * Every setting of the bench check in one place: the options object, its defaults, one spec
  * per option (the CLI turns them into flags, --help shows them) and validation.
  */
-import { UsageError } from '../errors.js';
-import type { OptionSpec } from '../option-spec.js';
+import { UsageError } from '../util/errors.js';
+import type { OptionSpec } from '../options/option-spec.js';
 
 export interface BenchCheckOptions {
   /** Length of the pieces a take is cut into for the delay trend, seconds. */

@@ -9,7 +9,7 @@
  *     FROM_S  TO_S  AZ_DEG  [EL_DEG]
  * seconds from the start of the recording, blank lines and `#` comments allowed.
  */
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 
 export interface TakeDirection {
   azimuthDeg: number;

@@ -1,6 +1,6 @@
 import type { Command } from 'commander';
-import { analysisOptionSpecs, type AnalysisOptions } from '../pipeline/analysis-options.js';
-import { loadProfile, profileSection, type RunProfile } from '../pipeline/profile.js';
+import { analysisOptionSpecs, type AnalysisOptions } from '../analysis/analysis-options.js';
+import { loadProfile, profileSection, type RunProfile } from '../options/profile.js';
 import { resolveTrackerOptions, type TrackerOptions } from '../track/options.js';
 import { configsDir } from './geometry-option.js';
 import { addArrayOptions, addSpecs, pickSpecs, trackerCliSpecs } from './options.js';

@@ -6,10 +6,10 @@ import { correctedGeometry, resultJson, textReport } from '../bench-check/report
 import { parseSpanList, parseTakeArgument } from '../bench-check/take-list.js';
 import { tdoaPlotSvg } from '../bench-check/tdoa-plot.js';
 import { checkItems } from '../bench-check/verdict.js';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import { checkGeometryForStream } from '../geometry/geometry-file.js';
-import { planOutputs, writeOutputFiles, type OutputFile } from '../io/output-target.js';
-import { readWavFile, type WavData } from '../io/wav-reader.js';
+import { planOutputs, writeOutputFiles, type OutputFile } from '../sinks/output-target.js';
+import { readWavFile, type WavData } from '../sources/wav-reader.js';
 import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
 import { addArrayOptions, addSpecs, pickSpecs } from './options.js';
 import { action } from './run-command.js';

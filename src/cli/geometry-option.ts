@@ -1,5 +1,5 @@
-import { UsageError } from '../errors.js';
-export { configsDir } from '../configs.js';
+import { UsageError } from '../util/errors.js';
+export { configsDir } from '../util/configs.js';
 import { pairGeometry, type ArrayGeometry } from '../geometry/array-geometry.js';
 import { loadArrayRef } from '../geometry/array-presets.js';
 import { resolveSpeedOfSound } from '../geometry/sound-speed.js';

@@ -1,11 +1,11 @@
 import { existsSync } from 'node:fs';
 import type { Command } from 'commander';
 import { Option } from 'commander';
-import { UsageError } from '../errors.js';
-import { planOutput, writeOutputFiles } from '../io/output-target.js';
-import { readJsonFile, readTextFile } from '../io/read-json-file.js';
+import { UsageError } from '../util/errors.js';
+import { planOutput, writeOutputFiles } from '../sinks/output-target.js';
+import { readJsonFile, readTextFile } from '../util/read-json-file.js';
 import { resolveSpeedOfSound } from '../geometry/sound-speed.js';
-import type { EventRecord } from '../records.js';
+import type { EventRecord } from '../records/record-types.js';
 import { parseEventLog } from '../locate/events.js';
 import { locateEventLists } from '../locate/locate.js';
 import { DEFAULT_LOCATE_OPTIONS, type LocateOptions, resolveLocateOptions } from '../locate/options.js';

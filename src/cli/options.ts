@@ -1,5 +1,5 @@
 import { InvalidArgumentError, Option, type Command } from 'commander';
-import type { OptionSpec } from '../option-spec.js';
+import type { OptionSpec } from '../options/option-spec.js';
 import { trackerOptionSpecs, type NumericOptionSpec } from '../track/options.js';
 import { finiteNumber, positiveNumber } from './parse.js';
 

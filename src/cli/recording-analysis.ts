@@ -2,15 +2,15 @@
  * Analyse a WAV recording through the same path as `bearline scan` (createAnalysis,
  * runAnalysis, TrackingSession), for the commands that replay recordings (accuracy, demo).
  */
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import { checkGeometryForStream } from '../geometry/geometry-file.js';
-import { stderrWarning } from '../io/stderr-warning.js';
-import { replaySource, type ReplayControls } from '../io/tapped-source.js';
-import { openWavSource } from '../io/wav-source.js';
-import { createAnalysis, runAnalysis, type AnalysisSetup } from '../pipeline/analysis.js';
-import { TrackingSession, type SessionOutputs } from '../pipeline/tracking-session.js';
-import type { AnalysisOptions } from '../pipeline/analysis-options.js';
+import { stderrWarning } from '../util/stderr-warning.js';
+import { replaySource, type ReplayControls } from '../sources/replay-source.js';
+import { openWavSource } from '../sources/wav-source.js';
+import { createAnalysis, runAnalysis, type AnalysisSetup } from '../analysis/analysis.js';
+import { TrackingSession, type SessionOutputs } from '../track/tracking-session.js';
+import type { AnalysisOptions } from '../analysis/analysis-options.js';
 import type { TrackerOptions } from '../track/options.js';
 import { createProgress } from './progress.js';
 

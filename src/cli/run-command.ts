@@ -1,4 +1,4 @@
-import { RuntimeFailure, UsageError } from '../errors.js';
+import { RuntimeFailure, UsageError } from '../util/errors.js';
 
 /** Print a one-line error (no stack trace) and exit with the contract's code. */
 export function failAndExit(err: unknown): never {

@@ -1,8 +1,8 @@
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import { attributeNameOf, feedOptionsFromCli, type FeedOptions } from '../feed/feed-options.js';
 import type { FeedServer } from '../feed/feed-server.js';
-import type { OptionSpec } from '../option-spec.js';
-import type { SessionOutputs } from '../pipeline/tracking-session.js';
+import type { OptionSpec } from '../options/option-spec.js';
+import type { SessionOutputs } from '../track/tracking-session.js';
 
 type Raw = Readonly<Record<string, unknown>>;
 

@@ -1,10 +1,10 @@
 import { existsSync, statSync } from 'node:fs';
 import { basename, dirname, resolve } from 'node:path';
 import type { Command } from 'commander';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import { geometryToJson, type GeometryJson } from '../geometry/geometry-file.js';
-import { planOutputs, writeOutputFiles } from '../io/output-target.js';
-import { wavFileChunks } from '../io/wav-writer.js';
+import { planOutputs, writeOutputFiles } from '../sinks/output-target.js';
+import { wavFileChunks } from '../sinks/wav-writer.js';
 import { renderScene, sceneSamples } from '../sim/render.js';
 import { demoScenePath, loadSceneFile } from '../sim/scene.js';
 import { TRUTH_STEP_S, truthRecords } from '../sim/truth.js';

@@ -1,8 +1,8 @@
 import type { Command } from 'commander';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import { renderStimulus, resolveStimulusOptions, stimulusOptionSpecs, type StimulusOptions } from '../stimulus/bench-signals.js';
-import { planOutput, writeOutputFiles } from '../io/output-target.js';
-import { wavFileChunks } from '../io/wav-writer.js';
+import { planOutput, writeOutputFiles } from '../sinks/output-target.js';
+import { wavFileChunks } from '../sinks/wav-writer.js';
 import { addSpecs, pickSpecs } from './options.js';
 import { action } from './run-command.js';
 

@@ -5,7 +5,7 @@
  */
 import { isIP } from 'node:net';
 import { InvalidArgumentError } from 'commander';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 
 export interface FeedOptions {
   /** TCP port of the page and the feed; 0 takes any free port. */

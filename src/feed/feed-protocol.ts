@@ -4,7 +4,7 @@
  * Viewer to server: ping, subscribe. Pure: builds and reads messages, no I/O.
  */
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
-import type { EventRecord, FrameRecord } from '../records.js';
+import type { EventRecord, FrameRecord } from '../records/record-types.js';
 
 export const FEED_PROTOCOL = 1;
 

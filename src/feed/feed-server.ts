@@ -9,9 +9,9 @@ import { createServer, type IncomingMessage, type ServerResponse } from 'node:ht
 import type { AddressInfo, Socket } from 'node:net';
 import type { Duplex } from 'node:stream';
 import { WebSocket, WebSocketServer, type RawData } from 'ws';
-import { RuntimeFailure, UsageError } from '../errors.js';
+import { RuntimeFailure, UsageError } from '../util/errors.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
-import type { EventRecord, FrameRecord } from '../records.js';
+import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import { feedFlagName, isLoopbackHost, resolveFeedOptions, type FeedOptions } from './feed-options.js';
 import {
   eventMessage,

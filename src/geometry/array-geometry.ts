@@ -1,4 +1,4 @@
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import type { Vec3 } from './vec3.js';
 
 /** One microphone: the stream channel it is recorded on and its position in the array frame (m). */

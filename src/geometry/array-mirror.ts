@@ -22,7 +22,7 @@
  * be told apart (exactly so for sources in the horizontal plane, or any source on an upright
  * plane's array).
  */
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import type { ArrayGeometry } from './array-geometry.js';
 import { arrayShape, type ArrayShape } from './array-shape.js';
 import { wrapDeg, type Vec3 } from './vec3.js';

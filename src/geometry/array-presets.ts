@@ -1,7 +1,7 @@
-import { configsDir } from '../configs.js';
+import { configsDir } from '../util/configs.js';
 import { existsSync, readdirSync } from 'node:fs';
 import { isAbsolute, join } from 'node:path';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import type { ArrayGeometry } from './array-geometry.js';
 import { loadGeometryFile } from './geometry-file.js';
 

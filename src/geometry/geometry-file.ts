@@ -1,5 +1,5 @@
-import { readJsonFile } from '../io/read-json-file.js';
-import { UsageError } from '../errors.js';
+import { readJsonFile } from '../util/read-json-file.js';
+import { UsageError } from '../util/errors.js';
 import type { ArrayGeometry, Mic } from './array-geometry.js';
 import { norm, sub, wrap360, type Vec3 } from './vec3.js';
 

@@ -1,4 +1,4 @@
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 
 /** Default speed of sound, m/s (interface.md). */
 export const DEFAULT_SPEED_OF_SOUND = 343;

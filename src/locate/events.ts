@@ -3,8 +3,8 @@
  * line, then put on one time base with each station's clock offset. Pure: text in, records out.
  */
 import { wrap360 } from '../geometry/vec3.js';
-import { UsageError } from '../errors.js';
-import type { EventRecord } from '../records.js';
+import { UsageError } from '../util/errors.js';
+import type { EventRecord } from '../records/record-types.js';
 import type { PlacedStation } from './stations.js';
 import { parseUtcSeconds } from './time.js';
 

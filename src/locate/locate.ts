@@ -5,8 +5,8 @@
  *
  *   locateEventLists(placeStations(parseStationFile(json, name), name), { north: [...], dyke: [...] })
  */
-import { UsageError } from '../errors.js';
-import type { EventRecord } from '../records.js';
+import { UsageError } from '../util/errors.js';
+import type { EventRecord } from '../records/record-types.js';
 import { type ErrorEllipse, errorEllipse } from './ellipse.js';
 import { type StationEvent, toStationEvents } from './events.js';
 import { type Geodetic, bearingDirectionInFrame, enuAtHeight, enuToGeodetic, haversineDistance } from './geodesy.js';

@@ -2,7 +2,7 @@
  * Every user-settable number of `bearline locate`, with its default and its check.
  * The command line maps its flags onto this one object; the core takes only this.
  */
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import { DEFAULT_SPEED_OF_SOUND } from '../geometry/sound-speed.js';
 
 export interface LocateOptions {

@@ -3,7 +3,7 @@
  * coordinates [longitude, latitude, height]), CSV, and a plot-ready scene in local metres for
  * the browser viewer. Pure: results in, strings and plain objects out.
  */
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import type { LocateResult, LocatedCall } from './locate.js';
 
 export type LocateFormat = 'geojson' | 'csv' | 'scene';

@@ -17,7 +17,7 @@
  */
 import { wrap360 } from '../geometry/vec3.js';
 import type { Vec3 } from '../geometry/vec3.js';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import { type Geodetic, type LocalFrame, geodeticToEnu, localFrame, enuToGeodetic } from './geodesy.js';
 import { parseUtcSeconds } from './time.js';
 

@@ -9,15 +9,15 @@
  * WAV signals are fetched through a resolver, so the parser itself does no I/O.
  * loadSceneFile() is the I/O edge.
  */
-import { configsDir } from '../configs.js';
-import { readJsonFile } from '../io/read-json-file.js';
+import { configsDir } from '../util/configs.js';
+import { readJsonFile } from '../util/read-json-file.js';
 import { dirname, isAbsolute, join } from 'node:path';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import { isGeometryPath, loadArrayRef } from '../geometry/array-presets.js';
 import { DEFAULT_SPEED_OF_SOUND, speedOfSoundAt } from '../geometry/sound-speed.js';
 import { wrap360, type Vec3 } from '../geometry/vec3.js';
-import { readWavFile } from '../io/wav-reader.js';
+import { readWavFile } from '../sources/wav-reader.js';
 
 export interface PathPoint {
   readonly timeS: number;

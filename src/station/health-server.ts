@@ -1,5 +1,5 @@
 import { createServer, type Server } from 'node:http';
-import { RuntimeFailure } from '../errors.js';
+import { RuntimeFailure } from '../util/errors.js';
 import type { StationStatus } from './status.js';
 
 /**

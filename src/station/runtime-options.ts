@@ -1,6 +1,6 @@
-import { UsageError } from '../errors.js';
-import { applyDefaults } from './apply-defaults.js';
-import type { OptionSpec } from '../option-spec.js';
+import { UsageError } from '../util/errors.js';
+import { applyDefaults } from '../util/apply-defaults.js';
+import type { OptionSpec } from '../options/option-spec.js';
 import { defaultStationId, validateStationId } from './station-id.js';
 
 /** Options of a headless station run that are not about one sink. */

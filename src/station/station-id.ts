@@ -1,5 +1,5 @@
 import { hostname } from 'node:os';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 
 /**
  * A station id names log files and MQTT topics, so it is limited to characters that are safe

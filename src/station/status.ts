@@ -1,4 +1,4 @@
-import { formatByteSize } from './byte-size.js';
+import { formatByteSize } from '../util/byte-size.js';
 
 /** What the live command counts as it runs. */
 export interface StationCounters {

@@ -7,8 +7,8 @@
  *   x(t) = sin( 2 pi f1 T / ln(f2/f1) * (exp(t ln(f2/f1) / T) - 1) ),
  * whose instantaneous frequency is f1 exp(t ln(f2/f1) / T).
  */
-import { UsageError } from '../errors.js';
-import type { OptionSpec } from '../option-spec.js';
+import { UsageError } from '../util/errors.js';
+import type { OptionSpec } from '../options/option-spec.js';
 import { makeRng } from '../sim/rng.js';
 
 export type StimulusKind = 'sweep' | 'clicks' | 'noise';

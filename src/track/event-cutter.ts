@@ -26,7 +26,7 @@
  * hop, i.e. about maxGapS + hop/2 after the call ends (plus whatever delay the analysis
  * frames add before the hop reaches the tracker), or when its track dies or the stream ends.
  */
-import type { EventRecord } from '../records.js';
+import type { EventRecord } from '../records/record-types.js';
 import { DirectionSums } from './direction-sums.js';
 import { BAND_HI, BAND_LO, CONFIDENCE, HOP_S, LEVEL, ONSET, SNR, TIME, type HopScratch } from './hop-scratch.js';
 import type { TrackerOptions } from './options.js';

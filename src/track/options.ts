@@ -4,7 +4,7 @@
  * commander options, validation, and the "tracker" part of a run profile
  * (configs/profiles/*.json).
  */
-import { UsageError } from '../errors.js';
+import { UsageError } from '../util/errors.js';
 import { isArrayMirror, type ArrayMirror } from '../geometry/array-mirror.js';
 
 export interface TrackerOptions {

@@ -21,9 +21,9 @@
  *
  * Two sources closer than about gateSigma x bearingNoiseDeg look like one and share a track.
  */
-import { RuntimeFailure } from '../errors.js';
+import { RuntimeFailure } from '../util/errors.js';
 import { foldedOffsetDeg } from '../geometry/array-mirror.js';
-import type { EventRecord } from '../records.js';
+import type { EventRecord } from '../records/record-types.js';
 import { AngleFilterBank, IO_D2, IO_DT, IO_R, IO_RATE_SIGMA, IO_Z } from './angle-filter.js';
 import { NearestNeighbourAssigner } from './assignment.js';
 import { DirectionSums } from './direction-sums.js';

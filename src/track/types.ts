@@ -1,6 +1,6 @@
 /** Types at the border of the tracker: what the analysis core feeds in, what comes out. */
 import type { MirrorKind } from '../geometry/array-mirror.js';
-import type { EventRecord } from '../records.js';
+import type { EventRecord } from '../records/record-types.js';
 
 /** One direction candidate of a hop, best first in HopObservation.candidates. */
 export interface DirectionCandidate {

@@ -8,7 +8,7 @@
 import { describe, expect, it } from 'vitest';
 import { locateEventLists } from '../../src/locate/locate.js';
 import { parseStationFile, placeStations } from '../../src/locate/stations.js';
-import type { EventRecord } from '../../src/records.js';
+import type { EventRecord } from '../../src/records/record-types.js';
 import { DEG, render, scanEvents, tempDir } from './helpers.js';
 
 const CALLER = [0, 0, 1.5];

@@ -8,7 +8,7 @@
 import { describe, expect, it } from 'vitest';
 import { effectiveObservationS } from '../../src/accuracy/observation.js';
 import { whiteNoiseDelayCrlb } from '../../src/sim/crlb.js';
-import { ANALYSIS_DEFAULTS } from '../../src/pipeline/analysis-options.js';
+import { ANALYSIS_DEFAULTS } from '../../src/analysis/analysis-options.js';
 import { accuracyJson, DEG, render, scanFrames, tempDir, truthOf } from './helpers.js';
 
 const FS = 48000;

@@ -5,7 +5,7 @@ import { join } from 'node:path';
 import { expect } from 'vitest';
 import type { AccuracyReport } from '../../src/accuracy/score.js';
 import type { TruthRecord } from '../../src/accuracy/truth.js';
-import type { EventRecord, FrameRecord } from '../../src/records.js';
+import type { EventRecord, FrameRecord } from '../../src/records/record-types.js';
 import { runCli } from '../helpers/cli.js';
 
 export function tempDir(): string {

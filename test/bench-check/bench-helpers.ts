@@ -6,7 +6,7 @@ import { runBenchCheck, type TakeAudio } from '../../src/bench-check/bench-check
 import type { BenchFit } from '../../src/bench-check/array-fit.js';
 import { resolveBenchCheckOptions, type BenchCheckOptions } from '../../src/bench-check/options.js';
 import type { ArrayGeometry } from '../../src/geometry/array-geometry.js';
-import { readWavFile } from '../../src/io/wav-reader.js';
+import { readWavFile } from '../../src/sources/wav-reader.js';
 
 const HERE = fileURLToPath(new URL('.', import.meta.url));
 

@@ -12,7 +12,7 @@
  * earphones, start at a low volume (clicks and rumble are loud at the peaks).
  */
 import { writeFileSync } from 'node:fs';
-import { UsageError } from '../../src/errors.js';
+import { UsageError } from '../../src/util/errors.js';
 import type { Split } from './matrix/corpus.js';
 import { runMatrix } from './matrix/matrix.js';
 import { checkTargets, DEFINITIONS, familySummaries, formatReliability, formatSummaries, formatTable, formatTargets, reliability } from './matrix/report.js';

@@ -11,7 +11,7 @@ import { fileURLToPath } from 'node:url';
 import { RealFft } from '../../src/dsp/fft.js';
 import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
-import { createAnalysis } from '../../src/pipeline/analysis.js';
+import { createAnalysis } from '../../src/analysis/analysis.js';
 
 const RATE = 48000;
 const here = fileURLToPath(new URL('.', import.meta.url));

@@ -13,7 +13,7 @@ import { open } from 'node:fs/promises';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
-import { openWavSource } from '../../src/io/wav-source.js';
+import { openWavSource } from '../../src/sources/wav-source.js';
 
 export interface IoReadResult {
   readonly name: 'io-read';

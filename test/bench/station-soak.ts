@@ -11,8 +11,8 @@ import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { setFlagsFromString } from 'node:v8';
 import { runInNewContext } from 'node:vm';
-import { listLogFiles, RecordLog, type LogFormat } from '../../src/io/record-log.js';
-import type { EventRecord, FrameRecord } from '../../src/records.js';
+import { listLogFiles, RecordLog, type LogFormat } from '../../src/sinks/record-log.js';
+import type { EventRecord, FrameRecord } from '../../src/records/record-types.js';
 
 export interface SoakOptions {
   /** Seconds of station time to simulate (default 3600). */

@@ -1,7 +1,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { unitFromAzEl, wrapDeg } from '../../src/geometry/vec3.js';
-import { analyzeArrays, createAnalysis } from '../../src/pipeline/analysis.js';
+import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
 import { farFieldDelaysUp, soxDecode, soxDelayedSignal, tempDir } from '../helpers/sox.js';
 
 // Multichannel fractional delays made by sox, independently of the project (10x rate, whole

@@ -2,7 +2,7 @@ import { writeFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { unitFromAzEl, wrapDeg } from '../../src/geometry/vec3.js';
-import { analyzeArrays, createAnalysis } from '../../src/pipeline/analysis.js';
+import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
 import { farFieldDelaysUp, soxDecode, soxDelayedSignal, soxMix, tempDir } from '../helpers/sox.js';
 

@@ -9,7 +9,7 @@
 import { describe, expect, it } from 'vitest';
 import type { ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { arrayMirror, reportedAzimuthDeg } from '../../src/geometry/array-mirror.js';
-import { UsageError } from '../../src/errors.js';
+import { UsageError } from '../../src/util/errors.js';
 import { PairDirectionModel } from '../../src/direction/pair-direction.js';
 import { SrpDirectionModel } from '../../src/direction/srp-search.js';
 import type { Direction, DirectionModel } from '../../src/direction/direction-model.js';

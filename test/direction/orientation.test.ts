@@ -14,7 +14,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import type { ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { arrayMirror } from '../../src/geometry/array-mirror.js';
 import { unitFromAzEl, wrapDeg, type Vec3 } from '../../src/geometry/vec3.js';
-import { analyzeArrays, createAnalysis } from '../../src/pipeline/analysis.js';
+import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
 import { farFieldDelaysUp, soxDecode, soxDelayedSignal, tempDir } from '../helpers/sox.js';
 

@@ -1,7 +1,7 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { pairAzimuthDeg, pairTdoaS } from '../../src/direction/pair-direction.js';
 import { pairGeometry } from '../../src/geometry/array-geometry.js';
-import { analyzeArrays, createAnalysis } from '../../src/pipeline/analysis.js';
+import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
 import { soxDecode, soxDelayedSignal, tempDir } from '../helpers/sox.js';
 
 const tmp = tempDir();

@@ -1,8 +1,8 @@
 import { afterAll, describe, expect, it } from 'vitest';
 import { pairAzimuthDeg } from '../../src/direction/pair-direction.js';
 import { pairGeometry } from '../../src/geometry/array-geometry.js';
-import type { AnalysisOptions } from '../../src/pipeline/analysis-options.js';
-import { analyzeArrays, createAnalysis } from '../../src/pipeline/analysis.js';
+import type { AnalysisOptions } from '../../src/analysis/analysis-options.js';
+import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
 import { soxDecode, soxDelayedSignal, soxMix, tempDir } from '../helpers/sox.js';
 
 // Signals made by sox (independent tool). Delays in samples at 480 kHz (10x 48 kHz), as in

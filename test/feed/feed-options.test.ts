@@ -1,6 +1,6 @@
 import { Command } from 'commander';
 import { describe, expect, it } from 'vitest';
-import { UsageError } from '../../src/errors.js';
+import { UsageError } from '../../src/util/errors.js';
 import {
   DEFAULT_FEED_OPTIONS,
   feedOptionsFromCli,

@@ -1,7 +1,7 @@
 import { afterEach, describe, expect, it } from 'vitest';
-import { RuntimeFailure } from '../../src/errors.js';
+import { RuntimeFailure } from '../../src/util/errors.js';
 import { SOCKET_HIGH_WATER_BYTES, startFeedServer, type FeedServer, type FeedServerSetup } from '../../src/feed/feed-server.js';
-import type { EventRecord } from '../../src/records.js';
+import type { EventRecord } from '../../src/records/record-types.js';
 import { DEFAULT_SCENE, fakeEvents, fakeFrame, fakeGeometry, pairDelays } from '../helpers/feed-fake.js';
 import { probe, refusedStatus, until, type Probe } from '../helpers/ws-probe.js';
 

@@ -11,7 +11,7 @@ import type { ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { micPairs } from '../../src/geometry/array-geometry.js';
 import { dot, sub, unitFromAzEl, wrapDeg } from '../../src/geometry/vec3.js';
 import { startFeedServer, type FeedServer, type FeedServerSetup } from '../../src/feed/feed-server.js';
-import type { BandVote, EventRecord, FrameRecord } from '../../src/records.js';
+import type { BandVote, EventRecord, FrameRecord } from '../../src/records/record-types.js';
 
 export const FAKE_SPEED_OF_SOUND = 343;
 

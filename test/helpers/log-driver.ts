@@ -9,7 +9,7 @@
  * SIGINT go through the station shutdown helper, which prints "closed after N" first.
  */
 import { readFileSync } from 'node:fs';
-import { listLogFiles, RecordLog } from '../../src/io/record-log.js';
+import { listLogFiles, RecordLog } from '../../src/sinks/record-log.js';
 import { installShutdown } from '../../src/station/shutdown.js';
 import { DRIVER_STATION } from './log-files.js';
 

@@ -2,7 +2,7 @@
 import { spawn, type ChildProcess } from 'node:child_process';
 import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
-import { listLogFiles, type RecordKind } from '../../src/io/record-log.js';
+import { listLogFiles, type RecordKind } from '../../src/sinks/record-log.js';
 
 /** The station id the log driver writes under. */
 export const DRIVER_STATION = 'pond-test';

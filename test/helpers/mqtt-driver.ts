@@ -4,7 +4,7 @@
  *
  *   node --import tsx test/helpers/mqtt-driver.ts BROKER_URL STATION QUEUE_DIR COUNT
  */
-import { MqttSink } from '../../src/io/mqtt-sink.js';
+import { MqttSink } from '../../src/sinks/mqtt-sink.js';
 
 const [url, station, queueDir, countText] = process.argv.slice(2);
 const sink = new MqttSink(station!, { mqtt: url!, mqttQueueDir: queueDir! }, { retryMs: 200, onWarning: (m) => process.stderr.write(`${m}\n`) });

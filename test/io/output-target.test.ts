@@ -10,8 +10,8 @@ import { createServer } from 'node:net';
 import { join } from 'node:path';
 import { execFileSync } from 'node:child_process';
 import { afterAll, describe, expect, it } from 'vitest';
-import { RuntimeFailure, UsageError } from '../../src/errors.js';
-import { abandonOutput, checkFolderOption, planOutput, planOutputs, writeOutputFiles } from '../../src/io/output-target.js';
+import { RuntimeFailure, UsageError } from '../../src/util/errors.js';
+import { abandonOutput, checkFolderOption, planOutput, planOutputs, writeOutputFiles } from '../../src/sinks/output-target.js';
 import { tempDir } from './sox.js';
 
 const tmp = tempDir('outputs');

@@ -3,8 +3,8 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { Readable } from 'node:stream';
 import { afterAll, describe, expect, it } from 'vitest';
-import { UsageError } from '../../src/errors.js';
-import { openPcmStreamSource } from '../../src/io/pcm-stream-source.js';
+import { UsageError } from '../../src/util/errors.js';
+import { openPcmStreamSource } from '../../src/sources/pcm-stream-source.js';
 import { drain, maxAbsDiff, sox, SOX_PATH, soxDecode, synthSpecs, tempDir } from './sox.js';
 
 const tmp = tempDir('pcm');

@@ -1,11 +1,11 @@
 import { chmodSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
-import { RuntimeFailure, UsageError } from '../../src/errors.js';
-import type { AudioBlock } from '../../src/io/audio-source.js';
-import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptionsInput } from '../../src/io/recorder-options.js';
-import { openRecorderSource, type RecorderGap, type RecorderSource } from '../../src/io/recorder-source.js';
-import { RestartPolicy } from '../../src/io/restart-policy.js';
+import { RuntimeFailure, UsageError } from '../../src/util/errors.js';
+import type { AudioBlock } from '../../src/sources/audio-source.js';
+import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptionsInput } from '../../src/sources/recorder-options.js';
+import { openRecorderSource, type RecorderGap, type RecorderSource } from '../../src/sources/recorder-source.js';
+import { RestartPolicy } from '../../src/sources/restart-policy.js';
 import { maxAbsDiff, sox, soxDecode, synthSpecs, tempDir } from './sox.js';
 
 /**

@@ -7,7 +7,7 @@ import { execFileSync } from 'node:child_process';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import type { AudioSource } from '../../src/io/audio-source.js';
+import type { AudioSource } from '../../src/sources/audio-source.js';
 
 /** The real sox, found once at load time (recorder tests put stand-ins named sox first on PATH). */
 export const SOX_PATH = execFileSync('sh', ['-c', 'command -v sox']).toString().trim();

@@ -2,8 +2,8 @@ import { execFileSync } from 'node:child_process';
 import { mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { UsageError } from '../../src/errors.js';
-import { openWavSource } from '../../src/io/wav-source.js';
+import { UsageError } from '../../src/util/errors.js';
+import { openWavSource } from '../../src/sources/wav-source.js';
 import { drain, maxAbsDiff, sox, soxDecode, synthSpecs, tempDir } from './sox.js';
 
 const tmp = tempDir('wav');

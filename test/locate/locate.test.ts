@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { Geodesic } from 'geographiclib-geodesic';
-import { UsageError } from '../../src/errors.js';
-import type { EventRecord } from '../../src/records.js';
+import { UsageError } from '../../src/util/errors.js';
+import type { EventRecord } from '../../src/records/record-types.js';
 import { geodeticToEnu } from '../../src/locate/geodesy.js';
 import { locateEventLists } from '../../src/locate/locate.js';
 import { toCsv, toGeoJson, toPlotScene } from '../../src/locate/output.js';

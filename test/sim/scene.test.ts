@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { UsageError } from '../../src/errors.js';
+import { UsageError } from '../../src/util/errors.js';
 import { sceneFrom } from './helpers.js';
 
 // Validation of our own scene format: every error is a UsageError (exit 2) that names the field.

@@ -3,10 +3,10 @@ import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'no
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { mqttOptionSpecs, resolveMqttOptions, type MqttOptions } from '../../src/io/mqtt-sink.js';
-import { recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../../src/io/record-log.js';
-import { analysisOptionSpecs, resolveAnalysisOptions, type AnalysisOptions } from '../../src/pipeline/analysis-options.js';
-import { profileSection } from '../../src/pipeline/profile.js';
+import { mqttOptionSpecs, resolveMqttOptions, type MqttOptions } from '../../src/sinks/mqtt-sink.js';
+import { recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../../src/sinks/record-log.js';
+import { analysisOptionSpecs, resolveAnalysisOptions, type AnalysisOptions } from '../../src/analysis/analysis-options.js';
+import { profileSection } from '../../src/options/profile.js';
 import { defaultTrackerOptions, resolveTrackerOptions, trackerSettingsFromProfile } from '../../src/track/options.js';
 import { resolveStationOptions, stationOptionSpecs, type StationOptions } from '../../src/station/runtime-options.js';
 

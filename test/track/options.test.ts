@@ -1,6 +1,6 @@
 import { readdirSync, readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import { UsageError } from '../../src/errors.js';
+import { UsageError } from '../../src/util/errors.js';
 import {
   defaultTrackerOptions,
   resolveTrackerOptions,

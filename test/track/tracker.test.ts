@@ -5,7 +5,7 @@
  */
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
-import type { EventRecord } from '../../src/records.js';
+import type { EventRecord } from '../../src/records/record-types.js';
 import { angleDiffDeg } from '../../src/track/circular.js';
 import { trackerSettingsFromProfile, type TrackerSettings } from '../../src/track/options.js';
 import { Tracker } from '../../src/track/tracker.js';

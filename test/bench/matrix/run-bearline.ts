@@ -11,14 +11,14 @@
  */
 import { trackerCliSpecs } from '../../../src/cli/options.js';
 import { Framer } from '../../../src/dsp/framer.js';
-import { UsageError } from '../../../src/errors.js';
+import { UsageError } from '../../../src/util/errors.js';
 import type { ArrayGeometry } from '../../../src/geometry/array-geometry.js';
 import type { Vec3 } from '../../../src/geometry/vec3.js';
 import { checkGeometryForStream } from '../../../src/geometry/geometry-file.js';
-import type { OptionSpec } from '../../../src/option-spec.js';
-import { createAnalysis } from '../../../src/pipeline/analysis.js';
-import { analysisOptionSpecs, resolveAnalysisOptions, type AnalysisOptions } from '../../../src/pipeline/analysis-options.js';
-import { TrackingSession } from '../../../src/pipeline/tracking-session.js';
+import type { OptionSpec } from '../../../src/options/option-spec.js';
+import { createAnalysis } from '../../../src/analysis/analysis.js';
+import { analysisOptionSpecs, resolveAnalysisOptions, type AnalysisOptions } from '../../../src/analysis/analysis-options.js';
+import { TrackingSession } from '../../../src/track/tracking-session.js';
 import { resolveTrackerOptions, type TrackerOptions } from '../../../src/track/options.js';
 
 export interface StageSettings {

@@ -1,0 +1,99 @@
+import type { DirectionModel } from '../direction/direction-model.js';
+import { PairDirectionModel } from '../direction/pair-direction.js';
+import { SrpDirectionModel } from '../direction/srp-search.js';
+import { Framer } from '../dsp/framer.js';
+import type { ArrayGeometry } from '../geometry/array-geometry.js';
+import { micDistanceRange } from '../geometry/geometry-file.js';
+import type { AudioSource } from '../sources/audio-source.js';
+import { resolveAnalysisOptions, type AnalysisOptions, type ResolvedAnalysis } from './analysis-options.js';
+import { HopAnalyzer, type HopResult } from './hop-analyzer.js';
+import { StreamChecks } from './stream-checks.js';
+
+export interface AnalysisSetup {
+  analyzer: HopAnalyzer;
+  model: DirectionModel;
+  options: ResolvedAnalysis;
+  geometry: ArrayGeometry;
+  speedOfSound: number;
+  /** Window-edge and geometry checks over the stream (said once). */
+  checks: StreamChecks;
+}
+
+/**
+ * Build the analysis for a geometry and a stream format. The frame is sized to hold the
+ * array's largest delay (resolveAnalysisOptions); the direction model derives the array's
+ * mirror from the geometry (a near-vertical line is refused there).
+ */
+export function createAnalysis(
+  geometry: ArrayGeometry,
+  sampleRate: number,
+  speedOfSound: number,
+  options: AnalysisOptions,
+  where = 'the stream',
+): AnalysisSetup {
+  const resolved = resolveAnalysisOptions(options, sampleRate, { largestSpacingM: micDistanceRange(geometry).max, speedOfSound });
+  let model: DirectionModel;
+  if (geometry.mics.length === 2) {
+    model = new PairDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);
+  } else {
+    model = new SrpDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);
+  }
+  const analyzer = new HopAnalyzer(geometry.mics.length, sampleRate, model, resolved);
+  const checks = new StreamChecks(geometry, model.pairs, model.maxLag, sampleRate, speedOfSound, where);
+  return { analyzer, model, options: resolved, geometry, speedOfSound, checks };
+}
+
+/**
+ * Drive an analysis from a source: blocks -> frames -> hop results. `onHop` may return a
+ * promise (a sink applying back-pressure); the next block is read only after it settles.
+ */
+export async function runAnalysis(
+  source: AudioSource,
+  analyzer: HopAnalyzer,
+  onHop: (r: HopResult) => void | Promise<void>,
+  onProgress?: (framesDone: number) => void,
+): Promise<number> {
+  const framer = new Framer(analyzer.channels, analyzer.frame, analyzer.hop);
+  let hops = 0;
+  let done = 0;
+  const pending: Promise<void>[] = [];
+  for await (const block of source.blocks()) {
+    framer.push(block.channels, block.length, (frames) => {
+      const out = onHop(analyzer.process(frames));
+      hops++;
+      if (out) pending.push(out);
+    });
+    if (pending.length) {
+      await Promise.all(pending);
+      pending.length = 0;
+    }
+    done += block.length;
+    onProgress?.(done);
+  }
+  return hops;
+}
+
+/** Analyse planar arrays held in memory (tests, the simulator's checks). */
+export function analyzeArrays(setup: AnalysisSetup, channels: readonly Float32Array[], onHop: (r: HopResult) => void): void {
+  const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop);
+  framer.push(channels, channels[0]!.length, (frames) => onHop(setup.analyzer.process(frames)));
+}
+
+/**
+ * Run a throwaway copy of an analysis over a second of generated noise, so the JIT has
+ * compiled the hot paths before live audio arrives (the first seconds of a live run are
+ * otherwise several times slower per hop). The given setup's own state is untouched.
+ */
+export function warmUp(setup: AnalysisSetup, sampleRate: number, seconds = 1): void {
+  const copy = createAnalysis(setup.geometry, sampleRate, setup.speedOfSound, setup.options);
+  const n = Math.round(seconds * sampleRate);
+  let state = 12345;
+  const noise = (): number => {
+    state = (state * 1664525 + 1013904223) >>> 0;
+    return state / 4294967296 - 0.5;
+  };
+  // a source straight ahead of the array (the same noise at every mic) plus mic self-noise
+  const common = Float32Array.from({ length: n }, () => 0.1 * noise());
+  const channels = Array.from({ length: setup.geometry.mics.length }, () => common.map((v) => v + 0.01 * noise()));
+  analyzeArrays(copy, channels, () => undefined);
+}

@@ -1,0 +1,75 @@
+import { UsageError } from '../util/errors.js';
+
+export type WavSampleFormat = 's16' | 's24' | 's32' | 'f32';
+
+const BYTES: Record<WavSampleFormat, number> = { s16: 2, s24: 3, s32: 4, f32: 4 };
+
+function header(rate: number, channels: number, fmt: WavSampleFormat, dataBytes: number): Buffer {
+  const bps = BYTES[fmt];
+  const h = Buffer.alloc(44);
+  h.write('RIFF', 0, 'ascii');
+  h.writeUInt32LE(Math.min(0xffffffff, 36 + dataBytes), 4);
+  h.write('WAVE', 8, 'ascii');
+  h.write('fmt ', 12, 'ascii');
+  h.writeUInt32LE(16, 16);
+  h.writeUInt16LE(fmt === 'f32' ? 3 : 1, 20);
+  h.writeUInt16LE(channels, 22);
+  h.writeUInt32LE(rate, 24);
+  h.writeUInt32LE(rate * channels * bps, 28);
+  h.writeUInt16LE(channels * bps, 32);
+  h.writeUInt16LE(bps * 8, 34);
+  h.write('data', 36, 'ascii');
+  h.writeUInt32LE(Math.min(0xffffffff, dataBytes), 40);
+  return h;
+}
+
+/** Encode planar float samples (clipped to [-1, 1]) as interleaved little-endian PCM. */
+export function encodeInterleaved(channels: readonly Float32Array[], length: number, fmt: WavSampleFormat): Buffer {
+  const n = channels.length;
+  const bps = BYTES[fmt];
+  const buf = Buffer.alloc(length * n * bps);
+  let o = 0;
+  for (let i = 0; i < length; i++) {
+    for (let c = 0; c < n; c++) {
+      const raw = channels[c]![i]!;
+      const v = raw > 1 ? 1 : raw < -1 ? -1 : raw;
+      switch (fmt) {
+        case 's16':
+          buf.writeInt16LE(Math.round(v * 32767), o);
+          break;
+        case 's24':
+          buf.writeIntLE(Math.round(v * 8388607), o, 3);
+          break;
+        case 's32':
+          buf.writeInt32LE(Math.round(v * 2147483647), o);
+          break;
+        case 'f32':
+          buf.writeFloatLE(raw, o);
+          break;
+      }
+      o += bps;
+    }
+  }
+  return buf;
+}
+
+/**
+ * A whole planar float signal as the consecutive byte chunks of a WAV file: the header (its
+ * sizes known up front) and then the samples in blocks, so it can be written sequentially,
+ * to a file or straight through a FIFO (see output-target.ts).
+ */
+export function* wavFileChunks(sampleRate: number, channels: readonly Float32Array[], format: WavSampleFormat = 's16'): Generator<Uint8Array> {
+  if (!Number.isInteger(sampleRate) || sampleRate <= 0) throw new UsageError(`sample rate ${sampleRate} is not a positive whole number`);
+  if (!Number.isInteger(channels.length) || channels.length < 1 || channels.length > 64) throw new UsageError(`channel count ${channels.length} is not between 1 and 64`);
+  const total = channels[0]!.length;
+  yield header(sampleRate, channels.length, format, total * channels.length * BYTES[format]);
+  const block = 65536;
+  for (let start = 0; start < total; start += block) {
+    const end = Math.min(total, start + block);
+    yield encodeInterleaved(
+      channels.map((c) => c.subarray(start, end)),
+      end - start,
+      format,
+    );
+  }
+}

@@ -1,0 +1,68 @@
+import type { Readable } from 'node:stream';
+import { RuntimeFailure } from '../util/errors.js';
+import type { AudioBlock, AudioSource, WarningSink } from './audio-source.js';
+import { FrameAssembler } from './frame-assembler.js';
+import { checkBlockFrames, resolveChannels, resolveSampleRate } from './stream-options.js';
+import { stderrWarning } from '../util/stderr-warning.js';
+
+export interface PcmStreamOptions {
+  sampleRate: number;
+  channels: number;
+  /** Frames per block (default 4096). */
+  blockFrames?: number;
+  /** Where warnings (a partial last frame) go; default: stderr. */
+  onWarning?: WarningSink;
+  /** What to call the stream in messages (default 'stdin'). */
+  name?: string;
+}
+
+
+/**
+ * Raw interleaved signed 16-bit little-endian PCM from a Readable (e.g. process.stdin).
+ * Pull-based: the next chunk is read only when the consumer asks for the next block, so
+ * a fast producer is held back by the stream's own back-pressure, and memory stays at
+ * one block plus the stream's buffer. Chunks may split samples and frames anywhere.
+ * blocks() may be called once.
+ */
+export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): AudioSource {
+  const sampleRate = resolveSampleRate(opts.sampleRate);
+  const channels = resolveChannels(opts.channels);
+  const blockFrames = checkBlockFrames(opts.blockFrames);
+  const warn = opts.onWarning ?? stderrWarning;
+  const name = opts.name ?? 'stdin';
+  const assembler = new FrameAssembler('s16', channels, blockFrames);
+  let started = false;
+  let closed = false;
+
+  async function* blocks(): AsyncGenerator<AudioBlock> {
+    if (started) throw new Error('openPcmStreamSource: blocks() may be called only once');
+    started = true;
+    try {
+      for await (const chunk of stream) {
+        if (closed) return;
+        if (!(chunk instanceof Uint8Array)) throw new Error(`openPcmStreamSource: ${name} gives text, not bytes; do not set an encoding on it`);
+        let at = 0;
+        while (at < chunk.length) {
+          at = assembler.take(chunk, at);
+          if (assembler.full) yield assembler.emit();
+        }
+      }
+    } catch (err) {
+      if (err instanceof Error && err.message.startsWith('openPcmStreamSource:')) throw err;
+      throw new RuntimeFailure(`reading ${name} failed: ${(err as Error).message}`);
+    }
+    const partial = assembler.discardPartialFrame();
+    if (partial > 0) warn(`${name} ended inside a frame (${partial} of ${assembler.frameBytes} bytes); the partial frame is dropped`);
+    if (assembler.heldFrames > 0) yield assembler.emit();
+  }
+
+  return {
+    format: { sampleRate, channels, totalFrames: null },
+    blocks,
+    async close() {
+      if (closed) return;
+      closed = true;
+      stream.destroy();
+    },
+  };
+}
