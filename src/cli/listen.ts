@@ -18,7 +18,7 @@ import { createAnalysis, runAnalysis, warmUp, type AnalysisSetup } from '../anal
 import { frameColumns } from '../records/frame-columns.js';
 import { captureGapOf, gapRecord, type GapRecord } from '../records/gap-record.js';
 import type { HopResult } from '../analysis/hop-analyzer.js';
-import { StreamClock } from '../live/stream-clock.js';
+import { StreamClock } from '../sources/stream-clock.js';
 import { TrackingSession } from '../track/tracking-session.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import { startHealthServer } from '../station/health-server.js';

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import type { AudioBlock, AudioSource } from '../../src/sources/audio-source.js';
 import { pacedSource, parseSpeed } from '../../src/sources/paced-source.js';
-import { StreamClock } from '../../src/live/stream-clock.js';
+import { StreamClock } from '../../src/sources/stream-clock.js';
 
 describe('StreamClock: live stream time keeps step with the wall clock', () => {
   it('first run sets the origin; a hole is added to stream time; utc = origin + time_s', () => {
