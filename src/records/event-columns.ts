@@ -1,4 +1,4 @@
-import type { CsvColumn } from '../sinks/record-writer.js';
+import type { CsvColumn } from './csv.js';
 import type { EventRecord } from './record-types.js';
 
 /** CSV columns of event records: the interface.md fields, then the optional ones. */

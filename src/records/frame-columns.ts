@@ -1,4 +1,4 @@
-import type { CsvColumn } from '../sinks/record-writer.js';
+import type { CsvColumn } from './csv.js';
 import type { MicPair } from '../geometry/array-geometry.js';
 import type { FrameRecord } from './record-types.js';
 

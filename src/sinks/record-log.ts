@@ -12,7 +12,7 @@ import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import { formatByteSize, parseByteSize } from '../util/byte-size.js';
 import { validateStationId } from '../station/station-id.js';
 import { jsonObjectLine, LineFile, type LineFileFs, realFs, repairTail, type TailRepair } from './line-file.js';
-import { csvCell, type CsvColumn } from './record-writer.js';
+import { csvFieldCount, csvHeader, csvRow, type CsvColumn } from '../records/csv.js';
 
 /**
  * Log sink for frame and event records: JSON Lines (or CSV) files in one directory.
@@ -146,26 +146,6 @@ export function listLogFiles(dir: string, station: string, kind?: RecordKind): L
 }
 
 // ---------- CSV (pure) ----------
-
-/** Number of fields in a CSV line, honouring double-quoted fields; -1 for an open quote. */
-export function csvFieldCount(line: string): number {
-  let n = 1;
-  let quoted = false;
-  for (let i = 0; i < line.length; i++) {
-    const ch = line[i];
-    if (ch === '"') quoted = !quoted;
-    else if (ch === ',' && !quoted) n++;
-  }
-  return quoted ? -1 : n;
-}
-
-export function csvHeader<T>(columns: readonly CsvColumn<T>[]): string {
-  return columns.map((c) => c.name).join(',');
-}
-
-export function csvRow<T>(columns: readonly CsvColumn<T>[], rec: T): string {
-  return columns.map((c) => csvCell(c.get(rec))).join(',');
-}
 
 /** Mic pairs (0,1), (0,2), ... (1,2), ... for the number of tdoa entries a frame carries. */
 export function pairsForCount(count: number): MicPair[] {

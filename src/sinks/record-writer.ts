@@ -1,21 +1,10 @@
 import { createWriteStream, type WriteStream } from 'node:fs';
 import { finished } from 'node:stream/promises';
 import { RuntimeFailure, UsageError } from '../util/errors.js';
+import { csvHeader, csvRow, type CsvColumn } from '../records/csv.js';
 import { abandonOutput, commitOutput, openOutputFd, type OutputTarget } from './output-target.js';
 
 export type RecordFormat = 'jsonl' | 'csv';
-
-/** A CSV column: a header name and how to get its value from a record. */
-export interface CsvColumn<T> {
-  readonly name: string;
-  readonly get: (rec: T) => number | string | boolean | null | undefined;
-}
-
-export function csvCell(v: number | string | boolean | null | undefined): string {
-  if (v === null || v === undefined) return '';
-  if (typeof v === 'string') return /[",\n]/.test(v) ? `"${v.replace(/"/g, '""')}"` : v;
-  return String(v);
-}
 
 export function parseFormat(raw: string): RecordFormat {
   if (raw === 'jsonl' || raw === 'csv') return raw;
@@ -78,10 +67,10 @@ export class RecordWriter<T extends object> {
     if (this.format === 'jsonl') line = JSON.stringify(rec) + '\n';
     else {
       if (!this.headerDone) {
-        this.stream.write(this.columns.map((c) => c.name).join(',') + '\n');
+        this.stream.write(csvHeader(this.columns) + '\n');
         this.headerDone = true;
       }
-      line = this.columns.map((c) => csvCell(c.get(rec))).join(',') + '\n';
+      line = csvRow(this.columns, rec) + '\n';
     }
     if (this.stream.write(line)) return this.draining ?? undefined;
     // One wait per full buffer, however many records are written before it drains. A stream
@@ -120,7 +109,7 @@ export class RecordWriter<T extends object> {
    */
   async close(): Promise<void> {
     if (this.format === 'csv' && !this.headerDone && !this.failed) {
-      this.stream.write(this.columns.map((c) => c.name).join(',') + '\n');
+      this.stream.write(csvHeader(this.columns) + '\n');
       this.headerDone = true;
     }
     await this.end();

@@ -1,6 +1,4 @@
-import type { WarningSink } from '../sources/audio-source.js';
-
-/** The default warning sink of the sources: one line on stderr (stdout stays clean for data). */
-export const stderrWarning: WarningSink = (message) => {
+/** The default warning sink: one line on stderr (stdout stays clean for data). */
+export function stderrWarning(message: string): void {
   process.stderr.write(`bearline: warning: ${message}\n`);
-};
+}

@@ -7,9 +7,8 @@ import { RuntimeFailure, UsageError } from '../../src/util/errors.js';
 import { realFs, tornTailLength, jsonObjectLine, type LineFileFs } from '../../src/sinks/line-file.js';
 import { eventColumns } from '../../src/records/event-columns.js';
 import { frameColumns } from '../../src/records/frame-columns.js';
+import { csvFieldCount, csvHeader } from '../../src/records/csv.js';
 import {
-  csvFieldCount,
-  csvHeader,
   listLogFiles,
   parseLogFileName,
   RecordLog,
@@ -109,7 +108,10 @@ describe('torn-line repair', () => {
   it('cuts a CSV row with the wrong number of fields', () => {
     const dir = freshDir();
     const path = join(dir, 'pond-test.events.20250614T210000Z.csv');
-    const row = '1.5,1.9,,10,,,2,0.9,1,,,,,\n';
+    // A whole row has as many fields as the header (built from it, so that new columns keep it whole).
+    const cells = ['1.5', '1.9', '', '10'];
+    while (cells.length < csvFieldCount(EVENTS_HEADER)) cells.push('');
+    const row = cells.join(',') + '\n';
     expect(csvFieldCount(row.trimEnd())).toBe(csvFieldCount(EVENTS_HEADER));
     writeFileSync(path, EVENTS_HEADER + '\n' + row + '1.6,2.0,,11\n');
     expect(repairLogFile(path, false)!.cutBytes).toBe('1.6,2.0,,11\n'.length);
