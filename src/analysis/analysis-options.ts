@@ -1,7 +1,7 @@
 import { UsageError } from '../util/errors.js';
 import { searchLagLimit } from '../direction/direction-model.js';
 import { isPowerOfTwo } from '../dsp/fft.js';
-import type { OptionSpec } from '../options/option-spec.js';
+import { flagOption, numberOption, resolveWithSpecs, type OptionSpec } from '../options/option-spec.js';
 
 /** What the user can set about the analysis (all optional; defaults below). */
 export interface AnalysisOptions {
@@ -27,7 +27,9 @@ export interface AnalysisOptions {
   detectSnrDb?: number;
   /** Directions with a lower confidence are reported as null. */
   minConfidence?: number;
-  /** Most simultaneous sources reported per hop. */
+  /** Direction candidates compared by the band fusion per hop, best first. */
+  maxCandidates?: number;
+  /** Most simultaneous sources reported per hop (at most maxCandidates). */
   maxSources?: number;
   /** Evidence-weighted band fusion on (default) or off (plain weighted GCC-PHAT peak). */
   voting?: boolean;
@@ -48,10 +50,16 @@ export const ANALYSIS_DEFAULTS = {
   silenceDbfs: -100,
   detectSnrDb: 3,
   minConfidence: 0.3,
+  maxCandidates: 4,
   maxSources: 3,
   voting: true,
   lagMargin: 0.1,
 } as const;
+
+/** Most candidates the band fusion can compare per hop (--max-candidates), and so sources per hop. */
+export const CANDIDATE_LIMIT = 8;
+/** Sources reported per hop unless --max-sources says otherwise (fewer when --max-candidates is lower). */
+const DEFAULT_MAX_SOURCES = ANALYSIS_DEFAULTS.maxSources;
 
 /** Largest frame the analysis takes (samples). */
 export const MAX_FRAME = 65536;
@@ -81,42 +89,36 @@ export function minimumFrame(largestLag: number): number {
   return Math.max(64, 2 ** Math.ceil(Math.log2(FRAME_PER_LAG * largestLag)));
 }
 
-function num(raw: string): number {
-  const n = Number(raw);
-  if (raw.trim() === '' || !Number.isFinite(n)) throw new Error(`'${raw}' is not a number.`);
-  return n;
-}
+const ANY_FREQ_HZ = 1_000_000;
 
-export const analysisOptionSpecs: readonly OptionSpec[] = [
-  { key: 'frame', flag: '--frame <samples>', help: 'analysis frame length in samples, a power of two', defaultValue: 'nearest to 21 ms (1024 at 48 kHz), larger when the array\'s delays need it', parse: num },
-  { key: 'hop', flag: '--hop <samples>', help: 'hop between frames in samples', defaultValue: 'frame / 2', parse: num },
-  { key: 'bands', flag: '--bands <n>', help: 'frequency bands whose evidence is fused into the delay (1 to 32)', defaultValue: ANALYSIS_DEFAULTS.bands, parse: num },
-  { key: 'minFreqHz', flag: '--min-freq <hz>', help: 'lowest frequency analysed', defaultValue: ANALYSIS_DEFAULTS.minFreqHz, parse: num },
-  { key: 'maxFreqHz', flag: '--max-freq <hz>', help: 'highest frequency analysed (capped below Nyquist)', defaultValue: ANALYSIS_DEFAULTS.maxFreqHz, parse: num },
-  { key: 'onsetWeight', flag: '--onset-weight <0..1>', help: 'how much more sharp onsets count than steady sound (0 = off)', defaultValue: ANALYSIS_DEFAULTS.onsetWeight, parse: num },
-  { key: 'memoryS', flag: '--memory <s>', help: 'time constant of the evidence memory (0 = each hop alone)', defaultValue: ANALYSIS_DEFAULTS.memoryS, parse: num },
-  { key: 'backgroundS', flag: '--background <s>', help: 'time constant of the background level onsets are measured against', defaultValue: ANALYSIS_DEFAULTS.backgroundS, parse: num },
-  { key: 'floorRiseDbS', flag: '--floor-rise <dB/s>', help: 'how fast the per-bin noise floor may rise (sound that stays longer becomes background); sound near its floor counts little', defaultValue: ANALYSIS_DEFAULTS.floorRiseDbS, parse: num },
-  { key: 'silenceDbfs', flag: '--silence <dbfs>', help: 'hops quieter than this give no direction (digital silence; detection is by --detect-snr)', defaultValue: ANALYSIS_DEFAULTS.silenceDbfs, parse: num },
-  { key: 'detectSnrDb', flag: '--detect-snr <dB>', help: 'hops whose best band stands less than this above its noise floor give no direction', defaultValue: ANALYSIS_DEFAULTS.detectSnrDb, parse: num },
-  { key: 'minConfidence', flag: '--min-confidence <0..1>', help: 'directions less confident than this are reported as null', defaultValue: ANALYSIS_DEFAULTS.minConfidence, parse: num },
-  { key: 'maxSources', flag: '--max-sources <n>', help: 'most simultaneous sources per hop (1 to 8)', defaultValue: ANALYSIS_DEFAULTS.maxSources, parse: num },
-  { key: 'voting', flag: '--no-voting', help: 'turn band fusion off (plain weighted GCC-PHAT peak, for comparison)', defaultValue: null },
-  { key: 'lagMargin', flag: '--lag-margin <fraction>', help: 'extra delay allowed beyond spacing / c', defaultValue: ANALYSIS_DEFAULTS.lagMargin, parse: num },
+export const analysisOptionSpecs: readonly OptionSpec<keyof AnalysisOptions>[] = [
+  numberOption('frame', 'frame', 'samples', null, { min: 64, max: MAX_FRAME, integer: true }, 'analysis frame length in samples, a power of two', { defaultText: 'power of two nearest 21 ms (1024 at 48 kHz), larger for wide arrays' }),
+  numberOption('hop', 'hop', 'samples', null, { min: 1, max: MAX_FRAME, integer: true }, 'hop between frames in samples', { defaultText: 'frame / 2' }),
+  numberOption('bands', 'bands', 'n', ANALYSIS_DEFAULTS.bands, { min: 1, max: 32, integer: true }, 'frequency bands whose evidence is fused into the delay (1 to 32)'),
+  numberOption('minFreqHz', 'min-freq', 'hz', ANALYSIS_DEFAULTS.minFreqHz, { min: 0, max: ANY_FREQ_HZ, unit: 'Hz' }, 'lowest frequency analysed'),
+  numberOption('maxFreqHz', 'max-freq', 'hz', ANALYSIS_DEFAULTS.maxFreqHz, { min: 0, max: ANY_FREQ_HZ, minExclusive: true, unit: 'Hz' }, 'highest frequency analysed (capped below Nyquist)'),
+  numberOption('onsetWeight', 'onset-weight', '0..1', ANALYSIS_DEFAULTS.onsetWeight, { min: 0, max: 1 }, 'how much more sharp onsets count than steady sound (0 = off)'),
+  numberOption('memoryS', 'memory', 's', ANALYSIS_DEFAULTS.memoryS, { min: 0, max: 10, unit: 's' }, 'time constant of the evidence memory (0 = each hop alone)'),
+  numberOption('backgroundS', 'background', 's', ANALYSIS_DEFAULTS.backgroundS, { min: 0, max: 60, minExclusive: true, unit: 's' }, 'time constant of the background level onsets are measured against'),
+  numberOption('floorRiseDbS', 'floor-rise', 'dB/s', ANALYSIS_DEFAULTS.floorRiseDbS, { min: 0, max: 100, minExclusive: true, unit: 'dB/s' }, 'how fast the per-bin noise floor may rise (sound that stays longer becomes background); sound near its floor counts little'),
+  numberOption('silenceDbfs', 'silence', 'dbfs', ANALYSIS_DEFAULTS.silenceDbfs, { min: -200, max: 0, unit: 'dBFS' }, 'hops quieter than this give no direction (digital silence; detection is by --detect-snr)'),
+  numberOption('detectSnrDb', 'detect-snr', 'dB', ANALYSIS_DEFAULTS.detectSnrDb, { min: 0, max: 60, unit: 'dB' }, 'hops whose best band stands less than this above its noise floor give no direction'),
+  numberOption('minConfidence', 'min-confidence', '0..1', ANALYSIS_DEFAULTS.minConfidence, { min: 0, max: 1 }, 'directions less confident than this are reported as null'),
+  numberOption('maxCandidates', 'max-candidates', 'n', ANALYSIS_DEFAULTS.maxCandidates, { min: 1, max: CANDIDATE_LIMIT, integer: true }, `direction candidates the band fusion compares per hop, best first (1 to ${CANDIDATE_LIMIT}; fewer: less work per hop)`),
+  numberOption('maxSources', 'max-sources', 'n', null, { min: 1, max: CANDIDATE_LIMIT, integer: true }, 'most simultaneous sources reported per hop, at most --max-candidates', { defaultText: `${DEFAULT_MAX_SOURCES}, at most --max-candidates` }),
+  flagOption('voting', 'no-voting', true, 'turn band fusion off (plain weighted GCC-PHAT peak, for comparison)'),
+  numberOption('lagMargin', 'lag-margin', 'fraction', ANALYSIS_DEFAULTS.lagMargin, { min: 0, max: 1 }, 'extra delay allowed beyond spacing / c'),
 ];
 
-function check(ok: boolean, flag: string, what: string): void {
-  if (!ok) throw new UsageError(`${flag} ${what}`);
-}
-
 /**
- * Apply defaults and validate against the stream's sample rate. With the array's span, the
- * frame must hold its largest delay (minimumFrame): the default frame grows to fit, and a
- * frame given too small is an error that names --frame and the smallest frame that fits.
+ * Apply defaults and validate against the stream's sample rate. Each value is checked against
+ * its spec; then what depends on the stream: with the array's span, the frame must hold its
+ * largest delay (minimumFrame): the default frame grows to fit, and a frame given too small is
+ * an error that names --frame and the smallest frame that fits.
  */
 export function resolveAnalysisOptions(opts: AnalysisOptions, sampleRate: number, span?: ArraySpan): ResolvedAnalysis {
-  const lagMargin = opts.lagMargin ?? ANALYSIS_DEFAULTS.lagMargin;
-  check(lagMargin >= 0 && lagMargin <= 1, '--lag-margin', `${lagMargin} must be between 0 and 1`);
+  const given = resolveWithSpecs<AnalysisOptions>(analysisOptionSpecs, opts, 'analysis');
+  const lagMargin = given.lagMargin!;
   const largestLag = span ? searchLagLimit(span.largestSpacingM, sampleRate, span.speedOfSound, lagMargin) : 0;
   const needed = span ? minimumFrame(largestLag) : 64;
   const spanText = span
@@ -125,33 +127,23 @@ export function resolveAnalysisOptions(opts: AnalysisOptions, sampleRate: number
   if (needed > MAX_FRAME) {
     throw new UsageError(`${spanText}: ${needed} samples, more than the largest frame ${MAX_FRAME}; use a lower sample rate or a smaller array`);
   }
-  const frame = opts.frame ?? Math.max(defaultFrame(sampleRate), needed);
-  check(isPowerOfTwo(frame) && frame >= 64 && frame <= MAX_FRAME, '--frame', `${frame} must be a power of two from 64 to ${MAX_FRAME} (e.g. 1024)`);
+  const frame = given.frame ?? Math.max(defaultFrame(sampleRate), needed);
+  check(isPowerOfTwo(frame), '--frame', `${frame} must be a power of two from 64 to ${MAX_FRAME} (e.g. 1024)`);
   check(frame >= needed, '--frame', `${frame} is too small for this array: ${spanText}; give --frame ${needed} or more, or leave --frame out to size the frame from the array`);
-  const hop = opts.hop ?? frame / 2;
-  check(Number.isInteger(hop) && hop >= 1 && hop <= frame, '--hop', `${hop} must be a whole number of samples from 1 to the frame length ${frame}`);
-  const r: ResolvedAnalysis = { ...ANALYSIS_DEFAULTS, ...stripUndefined(opts), frame, hop };
-  check(Number.isInteger(r.bands) && r.bands >= 1 && r.bands <= 32, '--bands', `${r.bands} must be a whole number from 1 to 32`);
+  const hop = given.hop ?? frame / 2;
+  check(hop <= frame, '--hop', `${hop} must be a whole number of samples from 1 to the frame length ${frame}`);
+  const maxSources = given.maxSources ?? Math.min(DEFAULT_MAX_SOURCES, given.maxCandidates!);
+  check(maxSources <= given.maxCandidates!, '--max-sources', `${maxSources} is more than --max-candidates ${given.maxCandidates}: a hop reports at most as many sources as it compares candidates; raise --max-candidates or lower --max-sources`);
+  const r = { ...given, frame, hop, maxSources } as ResolvedAnalysis;
   const nyquist = sampleRate / 2;
-  check(r.minFreqHz >= 0 && r.minFreqHz < nyquist, '--min-freq', `${r.minFreqHz} Hz must be between 0 and the Nyquist frequency ${nyquist} Hz`);
+  check(r.minFreqHz < nyquist, '--min-freq', `${r.minFreqHz} Hz must be between 0 and the Nyquist frequency ${nyquist} Hz`);
   r.maxFreqHz = Math.min(r.maxFreqHz, 0.95 * nyquist);
   check(r.maxFreqHz > r.minFreqHz, '--max-freq', `${r.maxFreqHz} Hz must be above --min-freq ${r.minFreqHz} Hz`);
   const binHz = sampleRate / frame;
   check((r.maxFreqHz - r.minFreqHz) / binHz >= 2 * r.bands, '--bands', `${r.bands} bands do not fit in ${r.minFreqHz}-${r.maxFreqHz} Hz with ${frame}-sample frames: use fewer bands, a wider range or longer frames`);
-  check(r.onsetWeight >= 0 && r.onsetWeight <= 1, '--onset-weight', `${r.onsetWeight} must be between 0 and 1`);
-  check(r.memoryS >= 0 && r.memoryS <= 10, '--memory', `${r.memoryS} s must be between 0 and 10 s`);
-  check(r.backgroundS > 0 && r.backgroundS <= 60, '--background', `${r.backgroundS} s must be above 0 and at most 60 s`);
-  check(r.floorRiseDbS > 0 && r.floorRiseDbS <= 100, '--floor-rise', `${r.floorRiseDbS} dB/s must be above 0 and at most 100`);
-  check(r.silenceDbfs <= 0 && r.silenceDbfs >= -200, '--silence', `${r.silenceDbfs} dBFS must be between -200 and 0`);
-  check(r.detectSnrDb >= 0 && r.detectSnrDb <= 60, '--detect-snr', `${r.detectSnrDb} dB must be between 0 and 60`);
-  check(r.minConfidence >= 0 && r.minConfidence <= 1, '--min-confidence', `${r.minConfidence} must be between 0 and 1`);
-  check(Number.isInteger(r.maxSources) && r.maxSources >= 1 && r.maxSources <= 8, '--max-sources', `${r.maxSources} must be a whole number from 1 to 8`);
-  check(r.lagMargin >= 0 && r.lagMargin <= 1, '--lag-margin', `${r.lagMargin} must be between 0 and 1`);
   return r;
 }
 
-function stripUndefined<T extends object>(o: T): Partial<T> {
-  const out: Partial<T> = {};
-  for (const [k, v] of Object.entries(o)) if (v !== undefined) (out as Record<string, unknown>)[k] = v;
-  return out;
+function check(ok: boolean, flag: string, what: string): void {
+  if (!ok) throw new UsageError(`${flag} ${what}`);
 }

@@ -8,8 +8,6 @@ import type { ResolvedAnalysis } from './analysis-options.js';
 import { BandFusion, MIN_SUPPORT } from './band-fusion.js';
 import { confidenceOf, type ConfidenceFeatures } from './confidence.js';
 
-/** Most candidates compared by the band fusion per hop. */
-const MAX_CANDIDATES = 4;
 /** Candidates whose pair lags all differ by less than this (samples) are one peak. */
 const SAME_PEAK_LAGS = 1.5;
 /** A further source must reach this share of the winner's fused score. */
@@ -148,14 +146,15 @@ export class HopAnalyzer {
       fullPresence: 4,
     });
     const P = model.pairs.length;
+    const candidates = options.maxCandidates;
     this.correlators = model.pairs.map((_, p) => new PairCorrelator(n, model.maxLag[p]!));
-    this.candLags = new Float64Array(MAX_CANDIDATES * P);
-    this.candScores = new Float64Array(MAX_CANDIDATES);
-    this.bandScores = new Float64Array(options.bands * MAX_CANDIDATES);
+    this.candLags = new Float64Array(candidates * P);
+    this.candScores = new Float64Array(candidates);
+    this.bandScores = new Float64Array(options.bands * candidates);
     this.evidence = new Float64Array(options.bands);
     this.snrMem = new Float64Array(options.bands);
-    this.fusion = new BandFusion(options.bands, MAX_CANDIDATES);
-    this.selection = new Float64Array(MAX_CANDIDATES);
+    this.fusion = new BandFusion(options.bands, candidates);
+    this.selection = new Float64Array(candidates);
     this.prevLags = new Float64Array(P);
     let widest = 0;
     for (let p = 0; p < P; p++) widest = Math.max(widest, model.maxLag[p]!);
@@ -163,7 +162,7 @@ export class HopAnalyzer {
     this.useBand = new Uint8Array(options.bands);
     this.pairBandScores = new Float64Array(options.bands);
     this.refined = new Float64Array(P);
-    this.order = new Int32Array(MAX_CANDIDATES);
+    this.order = new Int32Array(candidates);
     this.result = {
       index: 0,
       timeS: 0,
@@ -327,8 +326,8 @@ export class HopAnalyzer {
   private fuseBands(res: HopResult, P: number): void {
     const opts = this.options;
     const B = this.bands.count;
-    const S = MAX_CANDIDATES;
-    const K = this.dedupe(this.model.findCandidates(this.correlators, MAX_CANDIDATES, this.candLags, this.candScores), P);
+    const S = opts.maxCandidates;
+    const K = this.dedupe(this.model.findCandidates(this.correlators, S, this.candLags, this.candScores), P);
     this.clearEstimate(res);
     if (K === 0) return;
 

@@ -3,7 +3,7 @@
  * per option (the CLI turns them into flags, --help shows them) and validation.
  */
 import { UsageError } from '../util/errors.js';
-import type { OptionSpec } from '../options/option-spec.js';
+import { numberOption, resolveWithSpecs, type OptionSpec } from '../options/option-spec.js';
 
 export interface BenchCheckOptions {
   /** Length of the pieces a take is cut into for the delay trend, seconds. */
@@ -44,59 +44,25 @@ export const BENCH_CHECK_DEFAULTS: BenchCheckOptions = {
   warnFactor: 2,
 };
 
-function num(raw: string): number {
-  const n = Number(raw);
-  if (raw.trim() === '' || !Number.isFinite(n)) throw new Error(`'${raw}' is not a number.`);
-  return n;
-}
-
-type Key = keyof BenchCheckOptions;
-
-interface Limit {
-  key: Key;
-  flag: string;
-  help: string;
-  min: number;
-  max: number;
-  /** Shown in --help; the value itself is in BENCH_CHECK_DEFAULTS. */
-  shown?: string;
-}
-
-const LIMITS: readonly Limit[] = [
-  { key: 'segmentS', flag: '--segment <s>', help: 'length of the pieces each take is cut into (delay trend, drift)', min: 0.05, max: 60 },
-  { key: 'minFreqHz', flag: '--min-freq <hz>', help: 'lowest frequency used for the delays', min: 0, max: 100000 },
-  { key: 'maxFreqHz', flag: '--max-freq <hz>', help: 'highest frequency used for the delays (capped below Nyquist)', min: 1, max: 200000 },
-  { key: 'maxOffsetS', flag: '--max-offset <s>', help: 'largest timing offset between channels looked for', min: 0, max: 0.1 },
-  { key: 'maxSpacingError', flag: '--max-spacing-error <fraction>', help: 'largest relative error of the file\'s mic distances looked for', min: 0, max: 3 },
-  { key: 'maxDriftPpm', flag: '--max-drift <ppm>', help: 'largest clock drift between channels looked for', min: 0, max: 10000 },
-  { key: 'driftMinSpanS', flag: '--drift-min-span <s>', help: 'fit the clock drift only when the longest take lasts at least this long', min: 0, max: 1e6 },
-  { key: 'positionTolM', flag: '--tol-position <m>', help: 'tolerance: mic position (pair: spacing) against the file', min: 0, max: 1 },
-  { key: 'offsetTolS', flag: '--tol-offset <s>', help: 'tolerance: timing offset of a channel', min: 0, max: 1 },
-  { key: 'gainTolDb', flag: '--tol-gain <db>', help: 'tolerance: gain of a channel against channel 0', min: 0, max: 60 },
-  { key: 'driftTolPpm', flag: '--tol-drift <ppm>', help: 'tolerance: clock drift of a channel against channel 0', min: 0, max: 1e5 },
-  { key: 'residualTolDeg', flag: '--tol-residual <deg>', help: 'tolerance: rms direction error left after the fit', min: 0, max: 180 },
-  { key: 'warnFactor', flag: '--warn-factor <x>', help: 'a value beyond its tolerance but within this many times it warns; beyond, it fails', min: 1, max: 100 },
+export const benchCheckOptionSpecs: readonly OptionSpec<keyof BenchCheckOptions>[] = [
+  numberOption('segmentS', 'segment', 's', BENCH_CHECK_DEFAULTS.segmentS, { min: 0.05, max: 60, unit: 's' }, 'length of the pieces each take is cut into (delay trend, drift)'),
+  numberOption('minFreqHz', 'min-freq', 'hz', BENCH_CHECK_DEFAULTS.minFreqHz, { min: 0, max: 100000, unit: 'Hz' }, 'lowest frequency used for the delays'),
+  numberOption('maxFreqHz', 'max-freq', 'hz', BENCH_CHECK_DEFAULTS.maxFreqHz, { min: 1, max: 200000, unit: 'Hz' }, 'highest frequency used for the delays (capped below Nyquist)'),
+  numberOption('maxOffsetS', 'max-offset', 's', BENCH_CHECK_DEFAULTS.maxOffsetS, { min: 0, max: 0.1, unit: 's' }, 'largest timing offset between channels looked for'),
+  numberOption('maxSpacingError', 'max-spacing-error', 'fraction', BENCH_CHECK_DEFAULTS.maxSpacingError, { min: 0, max: 3 }, 'largest relative error of the file\'s mic distances looked for'),
+  numberOption('maxDriftPpm', 'max-drift', 'ppm', BENCH_CHECK_DEFAULTS.maxDriftPpm, { min: 0, max: 10000, unit: 'ppm' }, 'largest clock drift between channels looked for'),
+  numberOption('driftMinSpanS', 'drift-min-span', 's', BENCH_CHECK_DEFAULTS.driftMinSpanS, { min: 0, max: 1e6, unit: 's' }, 'fit the clock drift only when the longest take lasts at least this long'),
+  numberOption('positionTolM', 'tol-position', 'm', BENCH_CHECK_DEFAULTS.positionTolM, { min: 0, max: 1, unit: 'm' }, 'tolerance: mic position (pair: spacing) against the file'),
+  numberOption('offsetTolS', 'tol-offset', 's', BENCH_CHECK_DEFAULTS.offsetTolS, { min: 0, max: 1, unit: 's' }, 'tolerance: timing offset of a channel'),
+  numberOption('gainTolDb', 'tol-gain', 'db', BENCH_CHECK_DEFAULTS.gainTolDb, { min: 0, max: 60, unit: 'dB' }, 'tolerance: gain of a channel against channel 0'),
+  numberOption('driftTolPpm', 'tol-drift', 'ppm', BENCH_CHECK_DEFAULTS.driftTolPpm, { min: 0, max: 1e5, unit: 'ppm' }, 'tolerance: clock drift of a channel against channel 0'),
+  numberOption('residualTolDeg', 'tol-residual', 'deg', BENCH_CHECK_DEFAULTS.residualTolDeg, { min: 0, max: 180, unit: 'deg' }, 'tolerance: rms direction error left after the fit'),
+  numberOption('warnFactor', 'warn-factor', 'x', BENCH_CHECK_DEFAULTS.warnFactor, { min: 1, max: 100 }, 'a value beyond its tolerance but within this many times it warns; beyond, it fails'),
 ];
-
-export const benchCheckOptionSpecs: readonly OptionSpec<Key>[] = LIMITS.map((l) => ({
-  key: l.key,
-  flag: l.flag,
-  help: l.help,
-  defaultValue: BENCH_CHECK_DEFAULTS[l.key],
-  parse: num,
-}));
 
 /** Apply defaults and check every value; a bad one throws a UsageError naming its flag. */
 export function resolveBenchCheckOptions(given: Partial<BenchCheckOptions>): BenchCheckOptions {
-  const out: BenchCheckOptions = { ...BENCH_CHECK_DEFAULTS };
-  for (const l of LIMITS) {
-    const v = given[l.key];
-    if (v === undefined) continue;
-    if (typeof v !== 'number' || !Number.isFinite(v) || v < l.min || v > l.max) {
-      throw new UsageError(`${l.flag.split(' ')[0]} ${String(v)} must be a number from ${l.min} to ${l.max}`);
-    }
-    out[l.key] = v;
-  }
+  const out = resolveWithSpecs<BenchCheckOptions>(benchCheckOptionSpecs, given, 'check-array');
   if (out.maxFreqHz <= out.minFreqHz) {
     throw new UsageError(`--max-freq ${out.maxFreqHz} Hz must be above --min-freq ${out.minFreqHz} Hz`);
   }

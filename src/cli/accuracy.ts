@@ -10,15 +10,21 @@ import { UsageError } from '../util/errors.js';
 import { loadGeometryFile } from '../geometry/geometry-file.js';
 import type { FrameRecord } from '../records/record-types.js';
 import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
-import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
+import { flagOption, textOption, type OptionSpec } from '../options/option-spec.js';
+import { resolveArray, resolveSpeed } from './geometry-option.js';
+import { addOptions, readOptions } from './options.js';
 import { analyseRecording } from './recording-analysis.js';
 import { action } from './run-command.js';
 
-interface AccuracyFlags extends ArrayOptionValues {
-  truth?: string;
-  json?: boolean;
-  profile?: string;
+interface AccuracyValues {
+  truth: string | null;
+  json: boolean;
 }
+
+const accuracyOptionSpecs: readonly OptionSpec<keyof AccuracyValues>[] = [
+  textOption('truth', 'truth', 'file.jsonl', null, 'truth records', { defaultText: 'REC.truth.jsonl beside the recording' }),
+  flagOption('json', 'json', false, 'write the figures as one JSON object instead of the readable report'),
+];
 
 /** REC.wav -> REC.truth.jsonl, REC.array.json (the files `bearline simulate` writes beside it). */
 export function companionPaths(wav: string): { truth: string; array: string } {
@@ -34,15 +40,16 @@ export interface AccuracyOutcome {
 }
 
 /** Scan a recording like `bearline scan --frames` and score it against its truth. */
-export async function measureAccuracy(wav: string, flags: AccuracyFlags, raw: Record<string, unknown>): Promise<AccuracyOutcome & { truthPath: string }> {
+export async function measureAccuracy(wav: string, cmd: Command): Promise<AccuracyOutcome & { truthPath: string }> {
+  const flags = readOptions<AccuracyValues>(cmd, accuracyOptionSpecs);
+  const stages = resolveStageSettings(cmd);
   const paths = companionPaths(wav);
   const truthPath = flags.truth ?? paths.truth;
   if (!existsSync(truthPath)) throw new UsageError(`no truth file ${truthPath}: render the recording with bearline simulate, or give --truth FILE`);
-  const given = flags.spacing !== undefined || flags.array !== undefined;
+  const given = stages.array.spacing !== undefined || stages.array.array !== undefined;
   if (!given && !existsSync(paths.array)) throw new UsageError(`no array file ${paths.array}: give the array with --array FILE.json or --spacing D`);
-  const geometry = given ? resolveArray(flags) : loadGeometryFile(paths.array);
-  const c = resolveSpeed(flags);
-  const stages = resolveStageSettings(raw, flags.profile);
+  const geometry = given ? resolveArray(stages.array) : loadGeometryFile(paths.array);
+  const c = resolveSpeed(stages.array);
   const truth = indexTruth(parseTruth(readFileSync(truthPath, 'utf8'), truthPath));
   const fixed = new Set(truth.sources.filter((s) => s.fixed).map((s) => s.name));
   const frames: FrameRecord[] = [];
@@ -94,9 +101,7 @@ export function registerAccuracy(program: Command): void {
         'against the Cramer-Rao bound of Knapp and Carter (1976), from the coherence measured in the recording.',
     )
     .argument('<rec.wav>', 'recording written by bearline simulate');
-  cmd
-    .option('--truth <file.jsonl>', 'truth records (default: REC.truth.jsonl beside the recording)')
-    .option('--json', 'write the figures as one JSON object instead of the readable report');
+  addOptions(cmd, accuracyOptionSpecs);
   addAnalysisOptions(cmd);
   cmd.addHelpText(
     'after',
@@ -107,8 +112,9 @@ export function registerAccuracy(program: Command): void {
       '  bearline accuracy room.wav --onset-weight 0 --memory 0 --no-voting --json\n',
   );
   cmd.action(
-    action(async (file: string, flags: AccuracyFlags) => {
-      const out = await measureAccuracy(file, flags, cmd.opts());
+    action(async (file: string) => {
+      const flags = readOptions<AccuracyValues>(cmd, accuracyOptionSpecs);
+      const out = await measureAccuracy(file, cmd);
       if (flags.json) {
         process.stdout.write(JSON.stringify({ recording: file, truth: out.truthPath, observation_s: out.observationS, ...out.report }) + '\n');
       } else {

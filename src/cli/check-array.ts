@@ -10,16 +10,24 @@ import { UsageError } from '../util/errors.js';
 import { checkGeometryForStream } from '../geometry/geometry-file.js';
 import { planOutputs, writeOutputFiles, type OutputFile } from '../sinks/output-target.js';
 import { readWavFile, type WavData } from '../sources/wav-reader.js';
-import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
-import { addArrayOptions, addSpecs, pickSpecs } from './options.js';
+import { textOption, type OptionSpec } from '../options/option-spec.js';
+import { arrayOptionSpecs, resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
+import { addOptions, givenOptions, readOptions } from './options.js';
 import { action } from './run-command.js';
 
-interface CheckFlags extends ArrayOptionValues {
-  spans?: string;
-  json?: string;
-  report?: string;
-  writeGeometry?: string;
+interface CheckValues {
+  spans: string | null;
+  json: string | null;
+  report: string | null;
+  writeGeometry: string | null;
 }
+
+const checkOptionSpecs: readonly OptionSpec<keyof CheckValues>[] = [
+  textOption('spans', 'spans', 'list', null, 'span list for one long recording: FROM_S TO_S AZ_DEG [EL_DEG] per line', { defaultText: 'none' }),
+  textOption('json', 'json', 'file', null, 'write the results as JSON (spacing_m, positions_m, offset_s, channels_swapped, polarity_inverted, gain_db, drift_ppm, residual_deg_rms, per-take delays, checks)', { defaultText: 'none' }),
+  textOption('report', 'report', 'file.svg|file.html', null, 'write a plot of measured against expected tdoa per pair', { defaultText: 'none' }),
+  textOption('writeGeometry', 'write-geometry', 'file', null, 'write a geometry file with the fitted positions (never the input geometry)', { defaultText: 'none' }),
+];
 
 interface LoadedTakes {
   takes: TakeAudio[];
@@ -37,11 +45,11 @@ function loadWav(path: string, cache: Map<string, WavData>): WavData {
   return w;
 }
 
-function loadTakes(args: readonly string[], spansPath: string | undefined): LoadedTakes {
+function loadTakes(args: readonly string[], spansPath: string | null): LoadedTakes {
   const cache = new Map<string, WavData>();
   const takes: TakeAudio[] = [];
   const inputs: string[] = [];
-  if (spansPath !== undefined) {
+  if (spansPath !== null) {
     if (args.length !== 1 || /^[-+.\d]/.test(args[0]!) && args[0]!.includes('=')) {
       throw new UsageError('with --spans give exactly one recording (a plain REC.wav, the directions come from the span list)');
     }
@@ -88,20 +96,22 @@ function loadTakes(args: readonly string[], spansPath: string | undefined): Load
   return { takes, sampleRate: first.sampleRate, channels: first.channels.length, inputs };
 }
 
-async function checkArray(args: string[], flags: CheckFlags, raw: Record<string, unknown>): Promise<void> {
+async function checkArray(args: string[], cmd: Command): Promise<void> {
   for (const a of args) {
     if (a.startsWith('-') && !/^-[\d.]/.test(a)) throw new UsageError(`unknown option '${a.split('=')[0]}' (run bearline check-array --help for the options)`);
   }
-  const opts: BenchCheckOptions = resolveBenchCheckOptions(pickSpecs<Partial<BenchCheckOptions>>(raw, benchCheckOptionSpecs));
-  const geometry = resolveArray(flags);
-  const c = resolveSpeed(flags);
-  if (flags.report !== undefined && !/\.(svg|html?)$/i.test(flags.report)) throw new UsageError(`--report ${flags.report} must end in .svg or .html`);
+  const flags = readOptions<CheckValues>(cmd, checkOptionSpecs);
+  const opts: BenchCheckOptions = resolveBenchCheckOptions(givenOptions<BenchCheckOptions>(cmd, benchCheckOptionSpecs));
+  const array = givenOptions<ArrayOptionValues>(cmd, arrayOptionSpecs);
+  const geometry = resolveArray(array);
+  const c = resolveSpeed(array);
+  if (flags.report !== null && !/\.(svg|html?)$/i.test(flags.report)) throw new UsageError(`--report ${flags.report} must end in .svg or .html`);
   const outputs = [
     { option: '--json', path: flags.json },
     { option: '--report', path: flags.report },
     { option: '--write-geometry', path: flags.writeGeometry },
-  ].filter((o): o is { option: string; path: string } => o.path !== undefined);
-  const inputPaths = [...args.map((a) => (a.includes('=') ? a.slice(a.indexOf('=') + 1) : a)), ...(flags.spans ? [flags.spans] : []), ...(flags.array ? [flags.array] : [])];
+  ].filter((o): o is { option: string; path: string } => o.path !== null);
+  const inputPaths = [...args.map((a) => (a.includes('=') ? a.slice(a.indexOf('=') + 1) : a)), ...(flags.spans ? [flags.spans] : []), ...(array.array ? [array.array] : [])];
   const planned = new Map(planOutputs(outputs, inputPaths).map((t) => [t.option, t]));
 
   const loaded = loadTakes(args, flags.spans);
@@ -155,13 +165,7 @@ export function registerCheckArray(program: Command): void {
     // A take with a negative azimuth (-30=left.wav) looks like an option to commander: let it
     // through and tell real unknown options apart in the action.
     .allowUnknownOption();
-  addArrayOptions(cmd);
-  cmd
-    .option('--spans <list>', 'span list for one long recording: FROM_S TO_S AZ_DEG [EL_DEG] per line')
-    .option('--json <file>', 'write the results as JSON (spacing_m, positions_m, offset_s, channels_swapped, polarity_inverted, gain_db, drift_ppm, residual_deg_rms, per-take delays, checks)')
-    .option('--report <file.svg|file.html>', 'write a plot of measured against expected tdoa per pair')
-    .option('--write-geometry <file>', 'write a geometry file with the fitted positions (never the input geometry)');
-  addSpecs(cmd, benchCheckOptionSpecs);
+  addOptions(cmd, [...arrayOptionSpecs, ...checkOptionSpecs, ...benchCheckOptionSpecs]);
   cmd.addHelpText(
     'after',
     '\nExamples:\n' +
@@ -170,5 +174,5 @@ export function registerCheckArray(program: Command): void {
       '  bearline check-array --array cube.json --spans bench-spans.txt long-take.wav\n' +
       '\nThe exit code is 0 whatever the verdict (read "verdict" in --json); 2 for bad input.\n',
   );
-  cmd.action(action(async (takes: string[], flags: CheckFlags) => checkArray(takes, flags, cmd.opts())));
+  cmd.action(action(async (takes: string[]) => checkArray(takes, cmd)));
 }

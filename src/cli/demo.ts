@@ -7,23 +7,29 @@ import { compareTracks, type TrackComparison } from '../accuracy/track-match.js'
 import { indexTruth, parseTruth, TRUTH_STEP_S } from '../accuracy/truth.js';
 import { UsageError } from '../util/errors.js';
 import { startFeedServer, type FeedServer } from '../feed/feed-server.js';
-import { feedOptionSpecs, feedOptionsFromCli } from '../feed/feed-options.js';
 import { loadGeometryFile } from '../geometry/geometry-file.js';
 import { resolveAnalysisOptions } from '../analysis/analysis-options.js';
 import { bearingOf } from '../records/frame-record.js';
 import type { EventRecord } from '../records/record-types.js';
 import { demoScenePath, loadSceneFile } from '../sim/scene.js';
 import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
-import { resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
+import { flagOption, textOption, type OptionSpec } from '../options/option-spec.js';
+import { resolveSpeed } from './geometry-option.js';
+import { addOptions, readOptions } from './options.js';
+import { addFeedOptions, feedOptionsOf } from './serve-flags.js';
 import { analyseRecording } from './recording-analysis.js';
 import { action } from './run-command.js';
 import { runSimulate } from './simulate.js';
 
-interface DemoFlags extends ArrayOptionValues {
-  fast?: boolean;
-  scene?: string;
-  profile?: string;
+interface DemoValues {
+  fast: boolean;
+  scene: string | null;
 }
+
+const demoOptionSpecs: readonly OptionSpec<keyof DemoValues>[] = [
+  flagOption('fast', 'fast', false, 'analyse as fast as possible, without the viewer'),
+  textOption('scene', 'scene', 'file.json', null, 'another scene file instead of the built-in one (format: bearline simulate --help)', { defaultText: 'configs/scenes/wetland-dusk.json' }),
+];
 
 /** Bumped when the simulator's output for the same scene file changes (old cache entries are then ignored). */
 const RENDER_VERSION = 'sim-1';
@@ -115,17 +121,18 @@ export function formatDemoSummary(cmp: TrackComparison, heading: number | null):
   return lines.join('\n') + '\n';
 }
 
-async function runDemo(flags: DemoFlags, raw: Record<string, unknown>): Promise<void> {
-  if (flags.array !== undefined || flags.spacing !== undefined) throw new UsageError('the demo takes its array from the scene: leave out --array and --spacing (use --scene for another scene)');
+async function runDemo(cmd: Command): Promise<void> {
+  const flags = readOptions<DemoValues>(cmd, demoOptionSpecs);
+  const stages = resolveStageSettings(cmd);
+  if (stages.array.array !== undefined || stages.array.spacing !== undefined) throw new UsageError('the demo takes its array from the scene: leave out --array and --spacing (use --scene for another scene)');
   const scenePath = flags.scene ?? demoScenePath();
-  const stages = resolveStageSettings(raw, flags.profile);
-  const feedOptions = flags.fast ? null : feedOptionsFromCli(raw);
+  const feedOptions = flags.fast ? null : feedOptionsOf(cmd);
   const { scene } = loadSceneFile(scenePath);
   // Every setting is checked before the scene is rendered or the feed opened.
   resolveAnalysisOptions(stages.analysis, scene.sampleRate);
   const files = renderedScene(scenePath);
   const geometry = loadGeometryFile(files.array);
-  const c = flags.temperature !== undefined || flags.speedOfSound !== undefined ? resolveSpeed(flags) : scene.speedOfSound;
+  const c = stages.array.temperature !== undefined || stages.array.speedOfSound !== undefined ? resolveSpeed(stages.array) : scene.speedOfSound;
   const truthRecords = parseTruth(readFileSync(files.truth, 'utf8'), files.truth);
   const heading = geometry.headingDeg;
 
@@ -187,10 +194,9 @@ export function registerDemo(program: Command): void {
         'The rendering is cached after the first run in $XDG_CACHE_HOME/bearline (else ~/.cache/bearline), one ' +
         'file set per scene content; delete the folder to render again.',
     )
-    .option('--fast', 'analyse as fast as possible, without the viewer')
-    .option('--scene <file.json>', 'another scene file instead of the built-in one (format: bearline simulate --help)');
+  addOptions(cmd, demoOptionSpecs);
   addAnalysisOptions(cmd);
-  for (const s of feedOptionSpecs) cmd.option(s.flag, `${s.help} (default: ${String(s.defaultValue)})`, s.parse);
+  addFeedOptions(cmd);
   cmd.addHelpText(
     'after',
     '\nThe speed of sound is the scene\'s unless --temperature or --speed-of-sound is given; the array is the scene\'s.\n' +
@@ -198,5 +204,5 @@ export function registerDemo(program: Command): void {
       'Caution: if you play the rendered WAV from the cache through speakers or earphones, start at a low volume.\n' +
       '\nExamples:\n  npm start\n  bearline demo --fast\n  bearline demo --feed-port 0 --profile frog-chorus\n',
   );
-  cmd.action(action(async (flags: DemoFlags) => runDemo(flags, cmd.opts())));
+  cmd.action(action(async () => runDemo(cmd)));
 }

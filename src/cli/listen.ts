@@ -5,15 +5,16 @@ import type { FeedSettings } from '../feed/feed-protocol.js';
 import { startFeedServer } from '../feed/feed-server.js';
 import { checkGeometryForStream } from '../geometry/geometry-file.js';
 import type { AudioSource } from '../sources/audio-source.js';
-import { DEFAULT_MQTT_QUEUE_DIR, mqttOptionSpecs, MqttSink, resolveMqttOptions, type MqttOptions } from '../sinks/mqtt-sink.js';
+import { DEFAULT_MQTT_QUEUE_DIR, mqttOptionSpecs, resolveMqttOptions, type MqttOptions } from '../sinks/mqtt-options.js';
+import { MqttSink } from '../sinks/mqtt-sink.js';
 import { openPcmStreamSource } from '../sources/pcm-stream-source.js';
-import { RecordLog, recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../sinks/record-log.js';
+import { RecordLog } from '../sinks/record-log.js';
+import { recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../sinks/record-log-options.js';
 import { checkFolderOption, planOutput, type OutputTarget } from '../sinks/output-target.js';
 import { RecordWriter } from '../sinks/record-writer.js';
-import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptions, type RecorderOptionsInput } from '../sources/recorder-options.js';
+import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptions } from '../sources/recorder-options.js';
 import { openRecorderSource, type RecorderGap, type RecorderSource } from '../sources/recorder-source.js';
 import { stderrWarning } from '../util/stderr-warning.js';
-import { resolveChannels, resolveSampleRate } from '../sources/stream-options.js';
 import { createAnalysis, runAnalysis, warmUp, type AnalysisSetup } from '../analysis/analysis.js';
 import { frameColumns } from '../records/frame-columns.js';
 import { captureGapOf, gapRecord, type GapRecord } from '../records/gap-record.js';
@@ -22,26 +23,32 @@ import { StreamClock } from '../sources/stream-clock.js';
 import { TrackingSession } from '../track/tracking-session.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import { startHealthServer } from '../station/health-server.js';
-import { profileSection } from '../options/profile.js';
+import { flagOption, textOption, type OptionSpec } from '../options/option-spec.js';
 import { resolveStationOptions, stationOptionSpecs, type StationOptions } from '../station/runtime-options.js';
 import { installShutdown, type StationSink } from '../station/shutdown.js';
 import { StatusMonitor } from '../station/status.js';
-import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
-import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
-import { addSpecs, pickSpecs } from './options.js';
+import { addAnalysisOptions, resolveStageSettings, sectionSettings } from './analysis-flags.js';
+import { resolveArray, resolveSpeed } from './geometry-option.js';
+import { addOptions, givenFlags, givenOptions, readOptions, refuseStray } from './options.js';
 import { action, failAndExit } from './run-command.js';
-import { givenFlags, refuseStray, resolveServe } from './serve-flags.js';
+import { addFeedOptions, resolveServe, SERVE_SPEC } from './serve-flags.js';
 
-interface ListenFlags extends ArrayOptionValues {
-  stdin?: boolean;
-  frames?: boolean;
-  out?: string;
-  quiet?: boolean;
-  serve?: boolean;
-  profile?: string;
+interface ListenValues {
+  stdin: boolean;
+  frames: boolean;
+  out: string | null;
+  quiet: boolean;
+  serve: boolean;
 }
 
-type Raw = Record<string, unknown>;
+const listenOptionSpecs: readonly OptionSpec<keyof ListenValues>[] = [
+  flagOption('stdin', 'stdin', false, 'read raw interleaved s16le PCM from stdin instead of a recorder (needs --rate and --channels)'),
+  flagOption('frames', 'frames', false, 'also write one frame record per hop to stdout'),
+  textOption('out', 'out', 'file', null, 'write the records to this file instead of stdout (written aside, renamed over FILE when listen stops cleanly; a FIFO or device is written straight through)', { defaultText: 'stdout', short: 'o' }),
+  flagOption('quiet', 'quiet', false, 'write no records to stdout (use with --log-dir, --mqtt or --serve)'),
+  SERVE_SPEC,
+];
+
 type LiveRecord = FrameRecord | EventRecord | GapRecord;
 
 /** Recorder options that mean nothing for a raw stream on stdin. */
@@ -62,18 +69,13 @@ export function registerListen(program: Command): void {
         'events to an MQTT broker (--mqtt). SIGINT/SIGTERM flush and close everything and exit 0; SIGHUP ' +
         'starts new log files.',
     );
-  cmd
-    .option('--stdin', 'read raw interleaved s16le PCM from stdin instead of a recorder (needs --rate and --channels)')
-    .option('--frames', 'also write one frame record per hop to stdout')
-    .option('-o, --out <file>', 'write the records to this file instead of stdout (written aside, renamed over FILE when listen stops cleanly; a FIFO or device is written straight through)')
-    .option('--quiet', 'write no records to stdout (use with --log-dir, --mqtt or --serve)')
-    .option('--serve', 'serve the live polar view and its WebSocket feed (see --feed-*)');
-  addSpecs(cmd, RECORDER_OPTION_SPECS);
+  addOptions(cmd, listenOptionSpecs);
+  addOptions(cmd, RECORDER_OPTION_SPECS);
   addAnalysisOptions(cmd);
-  addSpecs(cmd, feedOptionSpecs);
-  addSpecs(cmd, stationOptionSpecs);
-  addSpecs(cmd, recordLogOptionSpecs);
-  addSpecs(cmd, mqttOptionSpecs);
+  addFeedOptions(cmd);
+  addOptions(cmd, stationOptionSpecs);
+  addOptions(cmd, recordLogOptionSpecs);
+  addOptions(cmd, mqttOptionSpecs);
   cmd.addHelpText(
     'after',
     '\nWith a recorder, --rate defaults to 48000 and --channels to the number of mics; with --stdin give both.\n' +
@@ -89,7 +91,7 @@ export function registerListen(program: Command): void {
       'responsibility under your local codes. --feed-host and --health-host other than 127.0.0.1 let other\n' +
       'machines connect: set --feed-token, and expose --health only on a trusted network.\n',
   );
-  cmd.action(action(async (flags: ListenFlags) => listen(flags, cmd.opts())));
+  cmd.action(action(async () => listen(cmd)));
 }
 
 interface InputPlan {
@@ -99,44 +101,35 @@ interface InputPlan {
   recorder: RecorderOptions | null;
 }
 
-function planInput(flags: ListenFlags, raw: Raw, mics: number): InputPlan {
-  const rec = pickSpecs<RecorderOptionsInput>(raw, RECORDER_OPTION_SPECS);
-  if (flags.stdin) {
-    refuseStray(givenFlags(raw, RECORDER_OPTION_SPECS, RECORDER_ONLY_KEYS), 'for live capture through a recorder, not for --stdin; drop the option');
+function planInput(cmd: Command, stdin: boolean, mics: number): InputPlan {
+  const rec = givenOptions<RecorderOptions>(cmd, RECORDER_OPTION_SPECS);
+  if (stdin) {
+    refuseStray(givenFlags(cmd, RECORDER_OPTION_SPECS.filter((s) => RECORDER_ONLY_KEYS.includes(s.key))), 'for live capture through a recorder, not for --stdin; drop the option');
     if (rec.sampleRate === undefined || rec.channels === undefined) {
       throw new UsageError('--stdin needs --rate R and --channels N (the raw stream carries no header)');
     }
-    return { kind: 'stdin', sampleRate: resolveSampleRate(rec.sampleRate), channels: resolveChannels(rec.channels), recorder: null };
+    return { kind: 'stdin', sampleRate: rec.sampleRate, channels: rec.channels, recorder: null };
   }
   const recorder = resolveRecorderOptions({ ...rec, channels: rec.channels ?? mics });
   return { kind: 'recorder', sampleRate: recorder.sampleRate, channels: recorder.channels, recorder };
 }
 
-async function listen(flags: ListenFlags, raw: Raw): Promise<void> {
+async function listen(cmd: Command): Promise<void> {
   // Everything the user gave is checked before anything starts.
-  const geometry = resolveArray(flags);
-  const c = resolveSpeed(flags);
-  const stages = resolveStageSettings(raw, flags.profile);
-  const sections = { station: stages.profile?.station, log: stages.profile?.log, mqtt: stages.profile?.mqtt };
-  const station: StationOptions = resolveStationOptions({
-    ...profileSection<StationOptions>(stationOptionSpecs, sections.station, 'station'),
-    ...pickSpecs<Partial<StationOptions>>(raw, stationOptionSpecs),
-  });
-  const logOptions = resolveRecordLogOptions({
-    ...profileSection<RecordLogOptions>(recordLogOptionSpecs, sections.log, 'log'),
-    ...pickSpecs<Partial<RecordLogOptions>>(raw, recordLogOptionSpecs),
-  });
-  const mqttOptions = resolveMqttOptions({
-    ...profileSection<MqttOptions>(mqttOptionSpecs, sections.mqtt, 'mqtt'),
-    ...pickSpecs<Partial<MqttOptions>>(raw, mqttOptionSpecs),
-  });
-  const feedOptions = resolveServe(flags.serve, raw, feedOptionSpecs);
+  const flags = readOptions<ListenValues>(cmd, listenOptionSpecs);
+  const stages = resolveStageSettings(cmd);
+  const geometry = resolveArray(stages.array);
+  const c = resolveSpeed(stages.array);
+  const station = resolveStationOptions(sectionSettings<StationOptions>(cmd, stationOptionSpecs, stages.profile, 'station'));
+  const logOptions = resolveRecordLogOptions(sectionSettings<RecordLogOptions>(cmd, recordLogOptionSpecs, stages.profile, 'log'));
+  const mqttOptions = resolveMqttOptions(sectionSettings<MqttOptions>(cmd, mqttOptionSpecs, stages.profile, 'mqtt'));
+  const feedOptions = resolveServe(cmd, flags.serve, feedOptionSpecs);
   if (logOptions.logDir !== null) checkFolderOption('--log-dir', logOptions.logDir);
   if (mqttOptions.mqtt !== null) checkFolderOption('--mqtt-queue-dir', mqttOptions.mqttQueueDir ?? DEFAULT_MQTT_QUEUE_DIR);
-  if (flags.quiet && flags.out !== undefined) throw new UsageError('--quiet and --out both say where records go; give one of them');
-  const out = flags.out === undefined || flags.out === '-' ? null : planOutput('--out', flags.out);
+  if (flags.quiet && flags.out !== null) throw new UsageError('--quiet and --out both say where records go; give one of them');
+  const out = flags.out === null || flags.out === '-' ? null : planOutput('--out', flags.out);
   if (flags.quiet && flags.frames) throw new UsageError('--frames writes frame records to stdout, which --quiet turns off; use --log-frames to log them');
-  const input = planInput(flags, raw, geometry.mics.length);
+  const input = planInput(cmd, flags.stdin, geometry.mics.length);
   const where = input.kind === 'stdin' ? 'the stdin stream' : `the ${input.recorder!.recorder} capture`;
   if (input.channels < 2) throw new UsageError(`${where} has one channel: direction finding needs at least two (one per mic)`);
   checkGeometryForStream(geometry, input.channels, input.sampleRate, c, where);
@@ -166,7 +159,7 @@ interface LivePlan {
   tracker: ConstructorParameters<typeof TrackingSession>[1];
 }
 
-async function runLive(flags: ListenFlags, plan: LivePlan, opened: StationSink[]): Promise<void> {
+async function runLive(flags: ListenValues, plan: LivePlan, opened: StationSink[]): Promise<void> {
   const { setup, input, station } = plan;
   const rate = input.sampleRate;
   const geometry = setup.geometry;
@@ -215,10 +208,10 @@ async function runLive(flags: ListenFlags, plan: LivePlan, opened: StationSink[]
     mqtt?.publishStatus({ ...monitor.snapshot() });
   });
 
-  const wantFrames = !!flags.frames || plan.logOptions.logFrames || plan.mqttOptions.mqttFrames || feed !== null;
-  const writeFrames = !!flags.frames && writer !== null;
+  const wantFrames = flags.frames || plan.logOptions.logFrames || plan.mqttOptions.mqttFrames || feed !== null;
+  const writeFrames = flags.frames && writer !== null;
   session = new TrackingSession(
-    { headingDeg: geometry.headingDeg, mirror: setup.model.mirror, pairs: setup.model.pairs, diagnostics: false, viewerFields: feed !== null },
+    { headingDeg: geometry.headingDeg, mirror: setup.model.mirror, pairs: setup.model.pairs, maxSources: setup.options.maxSources, diagnostics: false, viewerFields: feed !== null },
     plan.tracker,
     {
       onFrame: wantFrames

@@ -1,37 +1,30 @@
 import { existsSync } from 'node:fs';
 import type { Command } from 'commander';
-import { Option } from 'commander';
 import { UsageError } from '../util/errors.js';
 import { planOutput, writeOutputFiles } from '../sinks/output-target.js';
 import { readJsonFile, readTextFile } from '../util/read-json-file.js';
-import { resolveSpeedOfSound } from '../geometry/sound-speed.js';
+import { resolveSpeedOfSound, soundSpeedOptionSpecs, type SoundSpeedOptions } from '../geometry/sound-speed.js';
+import { choiceOption, textOption, type OptionSpec } from '../options/option-spec.js';
 import type { EventRecord } from '../records/record-types.js';
 import { parseEventLog } from '../locate/events.js';
 import { locateEventLists } from '../locate/locate.js';
-import { DEFAULT_LOCATE_OPTIONS, type LocateOptions, resolveLocateOptions } from '../locate/options.js';
+import { locateOptionSpecs, resolveLocateOptions, type LocateOptions } from '../locate/options.js';
 import { type LocateFormat, LOCATE_FORMATS, toCsv, toGeoJson, toPlotScene } from '../locate/output.js';
 import { parseStationFile, placeStations } from '../locate/stations.js';
-import { finiteNumber, positiveNumber } from './parse.js';
+import { addOptions, givenOptions, readOptions } from './options.js';
 import { action } from './run-command.js';
 
-interface LocateFlags {
-  stations: string;
-  out?: string;
+interface LocateValues {
+  stations: string | null;
+  out: string | null;
   format: LocateFormat;
-  speedOfSound?: number;
-  temperature?: number;
-  bearingSd: number;
-  positionSd: number;
-  onsetSd: number;
-  clockUncertainty: number;
-  syncedClockUncertainty: number;
-  matchSlack: number;
-  minCrossing: number;
-  outlierSigma: number;
-  ellipseLevel: number;
-  timeDifferences: boolean;
-  includeUnfixed: boolean;
 }
+
+const locateCommandSpecs: readonly OptionSpec<keyof LocateValues>[] = [
+  textOption('stations', 'stations', 'file', null, 'station description file (JSON: ids, positions, headings, clocks); required', { defaultText: 'none' }),
+  textOption('out', 'out', 'file', null, 'write the output to this file instead of stdout', { defaultText: 'stdout' }),
+  choiceOption('format', 'format', LOCATE_FORMATS, 'geojson', 'output format'),
+];
 
 /** Split LOG arguments into (station, file): "ID=FILE" names the station; a plain FILE relies on each record's "station". */
 export function splitLogArgument(arg: string, knownIds: ReadonlySet<string>): { station: string | null; file: string } {
@@ -46,26 +39,8 @@ export function splitLogArgument(arg: string, knownIds: ReadonlySet<string>): { 
   return { station: null, file: arg };
 }
 
-function toOptions(f: LocateFlags): Partial<LocateOptions> {
-  return {
-    speedOfSound: resolveSpeedOfSound({ speedOfSound: f.speedOfSound, temperature: f.temperature }),
-    bearingSdDeg: f.bearingSd,
-    positionSdM: f.positionSd,
-    onsetSdS: f.onsetSd,
-    clockUncertaintyS: f.clockUncertainty,
-    syncedClockUncertaintyS: f.syncedClockUncertainty,
-    matchSlackS: f.matchSlack,
-    minCrossingDeg: f.minCrossing,
-    outlierSigma: f.outlierSigma,
-    ellipseLevel: f.ellipseLevel,
-    useTimeDifferences: f.timeDifferences,
-    includeUnfixed: f.includeUnfixed,
-  };
-}
-
 export function registerLocate(program: Command): void {
-  const d = DEFAULT_LOCATE_OPTIONS;
-  program
+  const cmd = program
     .command('locate')
     .summary('fix the positions of calls heard at several stations (GeoJSON with error ellipses)')
     .description(
@@ -73,23 +48,9 @@ export function registerLocate(program: Command): void {
         '(weighted least squares on the WGS 84 tangent plane, plus arrival-time differences where clocks are synchronised), ' +
         'and write GeoJSON points with error ellipses.',
     )
-    .argument('<logs...>', 'event logs (JSON Lines); STATION=FILE assigns a whole log to a station, a plain FILE needs "station" in each record')
-    .requiredOption('--stations <file>', 'station description file (JSON: ids, positions, headings, clocks)')
-    .option('--out <file>', 'write the output to this file instead of stdout')
-    .addOption(new Option('--format <format>', 'output format').choices(LOCATE_FORMATS).default('geojson'))
-    .option('--speed-of-sound <m/s>', `speed of sound (default ${d.speedOfSound} m/s)`, positiveNumber)
-    .option('--temperature <C>', 'air temperature; sets the speed of sound to 331.3 * sqrt(1 + C/273.15)', finiteNumber)
-    .option('--bearing-sd <deg>', 'bearing uncertainty (one sigma) for stations without bearing_sd_deg', positiveNumber, d.bearingSdDeg)
-    .option('--position-sd <m>', 'uncertainty (one sigma) of each station position', finiteNumber, d.positionSdM)
-    .option('--onset-sd <s>', 'uncertainty (one sigma) of an event onset time, for arrival-time differences', positiveNumber, d.onsetSdS)
-    .option('--clock-uncertainty <s>', 'clock uncertainty of unsynchronised stations after clock_offset_s (widens matching)', finiteNumber, d.clockUncertaintyS)
-    .option('--synced-clock-uncertainty <s>', 'clock uncertainty of stations with clock_synced', finiteNumber, d.syncedClockUncertaintyS)
-    .option('--match-slack <s>', 'extra time allowed when matching events across stations', finiteNumber, d.matchSlackS)
-    .option('--min-crossing <deg>', 'smallest crossing angle of bearing lines for a fix (poorer geometry is flagged)', finiteNumber, d.minCrossingDeg)
-    .option('--outlier-sigma <n>', 'a bearing missing the fix by more sigmas than this is an outlier', positiveNumber, d.outlierSigma)
-    .option('--ellipse-level <p>', 'probability inside the reported error ellipse', positiveNumber, d.ellipseLevel)
-    .option('--no-time-differences', 'do not use arrival-time differences between synchronised stations')
-    .option('--include-unfixed', 'also report matched calls that gave no fix (GeoJSON geometry null)', d.includeUnfixed)
+    .argument('<logs...>', 'event logs (JSON Lines); STATION=FILE assigns a whole log to a station, a plain FILE needs "station" in each record');
+  addOptions(cmd, [...locateCommandSpecs, ...soundSpeedOptionSpecs, ...locateOptionSpecs]);
+  cmd
     .addHelpText(
       'after',
       `
@@ -106,8 +67,11 @@ Examples:
   bearline locate --stations marsh.json --format csv --out calls.csv all-stations.jsonl`,
     )
     .action(
-      action(async (logs: string[], flags: LocateFlags) => {
-        const options = resolveLocateOptions(toOptions(flags));
+      action(async (logs: string[]) => {
+        const flags = readOptions<LocateValues>(cmd, locateCommandSpecs);
+        if (flags.stations === null) throw new UsageError('give the stations with --stations FILE.json (ids, positions, headings, clocks)');
+        const speedOfSound = resolveSpeedOfSound(givenOptions<SoundSpeedOptions>(cmd, soundSpeedOptionSpecs));
+        const options = resolveLocateOptions({ ...givenOptions<LocateOptions>(cmd, locateOptionSpecs), speedOfSound });
         const stationJson = readJsonFile(flags.stations, 'station file', '--stations');
         const placed = placeStations(parseStationFile(stationJson, flags.stations), flags.stations);
         const ids = new Set(placed.stations.map((s) => s.id));
@@ -115,7 +79,7 @@ Examples:
         const origins: Record<string, string[]> = {};
         const logArgs = logs.map((arg) => splitLogArgument(arg, ids));
         // Nothing the user gave may be overwritten: check --out before any work.
-        const target = flags.out === undefined ? null : planOutput('--out', flags.out, [flags.stations, ...logArgs.map((l) => l.file)]);
+        const target = flags.out === null ? null : planOutput('--out', flags.out, [flags.stations, ...logArgs.map((l) => l.file)]);
         for (const { station, file } of logArgs) {
           for (const item of parseEventLog(readTextFile(file, 'event log', 'the LOG arguments'), file, station, ids)) {
             (lists[item.station] ??= []).push(item.record);

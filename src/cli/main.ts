@@ -21,8 +21,9 @@ program
   .name('bearline')
   .description('Real-time sound-direction tracker for small microphone arrays (GCC-PHAT, SRP-PHAT).')
   .version('0.1.0')
-  .showHelpAfterError('(run with --help for usage)')
-  .exitOverride();
+  .exitOverride()
+  // commander's own usage errors (unknown option, bad value) as one line, like every other error.
+  .configureOutput({ outputError: (text, write) => write(`bearline: ${text.replace(/^error: /, '').trim()} (see --help)\n`) });
 
 registerScan(program);
 registerListen(program);

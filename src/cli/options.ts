@@ -1,20 +1,35 @@
 import { InvalidArgumentError, Option, type Command } from 'commander';
-import type { OptionSpec } from '../options/option-spec.js';
-import { trackerOptionSpecs, type NumericOptionSpec } from '../track/options.js';
-import { finiteNumber, positiveNumber } from './parse.js';
+import { UsageError } from '../util/errors.js';
+import { defaultText, flagGivenValue, parseOptionText, specDefaults, usageOf, type OptionSpec, type OptionValue } from '../options/option-spec.js';
 
-/** Add a stage's option specs to a command (one home per option: the stage's spec list). */
-export function addSpecs(cmd: Command, specs: readonly OptionSpec[]): Command {
-  for (const s of specs) {
-    const help = s.defaultValue !== null && s.defaultValue !== undefined ? `${s.help} (default: ${String(s.defaultValue)})` : s.help;
-    const opt = new Option(s.flag, help);
-    const parse = s.parse;
-    if (parse) {
+/**
+ * The command line from option specs (src/options/option-spec.ts): every option of every
+ * command is added here, with its default in --help, and parsed and checked as commander reads
+ * it, so that a bad value stops the command before anything is opened.
+ */
+
+/** commander's name for an option's value: '--feed-max-clients' -> 'feedMaxClients', '--no-voting' -> 'voting'. */
+export function attributeOf(spec: OptionSpec): string {
+  return new Option(usageOf(spec)).attributeName();
+}
+
+function commandLineOf(spec: OptionSpec): string {
+  return spec.short === undefined ? usageOf(spec) : `-${spec.short}, ${usageOf(spec)}`;
+}
+
+/** Add specs as command-line options. */
+export function addOptions(cmd: Command, specs: readonly OptionSpec[]): Command {
+  for (const spec of specs) {
+    const shown = defaultText(spec);
+    const help = spec.type === 'flag' ? spec.help : `${spec.help} (default: ${shown})`;
+    const opt = new Option(commandLineOf(spec), help);
+    if (spec.type !== 'flag') {
       opt.argParser((raw: string) => {
         try {
-          return parse(raw);
+          return parseOptionText(spec, raw);
         } catch (err) {
-          throw new InvalidArgumentError((err as Error).message);
+          // commander prints "option '--x <n>' argument 'raw' is invalid." before it; keep the reason.
+          throw new InvalidArgumentError(err instanceof UsageError ? err.message.replace(/^--[\w-]+: /, '') : String(err));
         }
       });
     }
@@ -23,28 +38,32 @@ export function addSpecs(cmd: Command, specs: readonly OptionSpec[]): Command {
   return cmd;
 }
 
-/** Pick a spec list's values out of commander's parsed options, under the stage's keys. */
-export function pickSpecs<T>(opts: Record<string, unknown>, specs: readonly OptionSpec[]): T {
-  const out: Record<string, unknown> = {};
-  for (const s of specs) {
-    const v = opts[new Option(s.flag).attributeName()];
-    if (v !== undefined) out[s.key] = v;
+/**
+ * The values given on the command line (not defaults), under the stages' keys: what is laid
+ * over a profile's settings.
+ */
+export function givenOptions<T>(cmd: Command, specs: readonly OptionSpec[]): Partial<T> {
+  const out: Record<string, OptionValue> = {};
+  for (const spec of specs) {
+    const attr = attributeOf(spec);
+    if (cmd.getOptionValueSource(attr) !== 'cli') continue;
+    const value: unknown = cmd.getOptionValue(attr);
+    out[spec.key] = spec.type === 'flag' ? flagGivenValue(spec) : (value as OptionValue);
   }
-  return out as T;
+  return out as Partial<T>;
 }
 
-/** The array options shared by every command that analyses audio. */
-export function addArrayOptions(cmd: Command): Command {
-  return cmd
-    .option('--spacing <m>', 'two-mic pair: spacing in metres (channel 0 left, channel 1 right)', positiveNumber)
-    .option('--array <file.json>', 'geometry file of the array (3 to 8 mics, or a pair); presets in configs/arrays/')
-    .option('--temperature <celsius>', 'air temperature; sets the speed of sound c = 331.3 sqrt(1 + T/273.15)', finiteNumber)
-    .option('--speed-of-sound <m/s>', 'speed of sound directly (default 343 m/s)', finiteNumber);
+/** Every option's value: the default, or what the command line gave. */
+export function readOptions<T>(cmd: Command, specs: readonly OptionSpec[]): T {
+  return { ...specDefaults(specs), ...givenOptions<Record<string, OptionValue>>(cmd, specs) } as T;
 }
 
-/** The tracker's settable options as command-line specs (its own spec list is the home). */
-export function trackerCliSpecs(): OptionSpec[] {
-  return trackerOptionSpecs
-    .filter((s): s is NumericOptionSpec => s.kind === 'number' && s.flag !== null)
-    .map((s) => ({ key: s.key, flag: s.flag, help: s.unit ? `${s.help} [${s.unit}]` : s.help, defaultValue: s.default, parse: (raw: string) => s.parse(raw) }));
+/** The flags (e.g. '--feed-port') of the specs given on the command line. */
+export function givenFlags(cmd: Command, specs: readonly OptionSpec[]): string[] {
+  return specs.filter((s) => cmd.getOptionValueSource(attributeOf(s)) === 'cli').map((s) => `--${s.name}`);
+}
+
+/** A UsageError naming the flags given that do not fit, with what to do about them. */
+export function refuseStray(flags: readonly string[], what: string): void {
+  if (flags.length > 0) throw new UsageError(`${flags.join(', ')}: ${what}`);
 }

@@ -46,6 +46,7 @@ export async function analyseRecording(job: RecordingAnalysis): Promise<Recordin
       headingDeg: job.geometry.headingDeg,
       mirror: setup.model.mirror,
       pairs: setup.model.pairs,
+      maxSources: setup.options.maxSources,
       diagnostics: false,
       viewerFields: !!job.viewerFields,
     };

@@ -9,7 +9,7 @@ import type { AudioSource } from '../sources/audio-source.js';
 import { pacedSource, paceOptionSpecs } from '../sources/paced-source.js';
 import { openPcmStreamSource } from '../sources/pcm-stream-source.js';
 import { abandonOnSignal, planOutput } from '../sinks/output-target.js';
-import { parseFormat, RecordWriter, type RecordFormat } from '../sinks/record-writer.js';
+import { RecordWriter, type RecordFormat } from '../sinks/record-writer.js';
 import { replacedSamplesLine } from '../sources/replaced-samples-report.js';
 import { stderrWarning } from '../util/stderr-warning.js';
 import { openWavSource } from '../sources/wav-source.js';
@@ -19,28 +19,42 @@ import { frameColumns } from '../records/frame-columns.js';
 import { TrackingSession } from '../track/tracking-session.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import { formatSummaryTable } from '../track/summary-table.js';
-import { resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
+import { choiceOption, flagOption, textOption, withDefault, type OptionSpec } from '../options/option-spec.js';
+import { CHANNELS_SPEC, RATE_SPEC } from '../sources/stream-options.js';
+import { resolveArray, resolveSpeed } from './geometry-option.js';
 import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
-import { addSpecs } from './options.js';
-import { alsoToFeed, resolveServe } from './serve-flags.js';
-import { positiveInteger } from './parse.js';
+import { addOptions, readOptions } from './options.js';
+import { addFeedOptions, alsoToFeed, resolveServe } from './serve-flags.js';
 import { createProgress } from './progress.js';
 import { action } from './run-command.js';
 
-interface ScanFlags extends ArrayOptionValues {
-  frames?: boolean;
-  summary?: boolean;
-  format: string;
-  out?: string;
-  stdin?: boolean;
-  rate?: number;
-  channels?: number;
-  diagnostics?: boolean;
-  viewerFields?: boolean;
-  profile?: string;
-  serve?: boolean;
-  speed?: number;
+interface ScanValues {
+  frames: boolean;
+  summary: boolean;
+  format: RecordFormat;
+  out: string | null;
+  stdin: boolean;
+  sampleRate: number | null;
+  channels: number | null;
+  diagnostics: boolean;
+  viewerFields: boolean;
+  serve: boolean;
+  speed: number;
 }
+
+const scanOptionSpecs: readonly OptionSpec<keyof ScanValues>[] = [
+  flagOption('frames', 'frames', false, 'write one frame record per hop instead of event records'),
+  flagOption('summary', 'summary', false, 'print a table per track at the end (on stderr)'),
+  choiceOption('format', 'format', ['jsonl', 'csv'], 'jsonl', 'output format'),
+  textOption('out', 'out', 'path', null, 'write to a file instead of stdout (written aside, renamed over PATH only when complete; a FIFO or device is written straight through)', { defaultText: 'stdout', short: 'o' }),
+  flagOption('stdin', 'stdin', false, 'read raw interleaved s16le PCM from stdin (needs --rate and --channels)'),
+  withDefault(RATE_SPEC, null, 'none: give it with --stdin'),
+  withDefault(CHANNELS_SPEC, null, 'none: give it with --stdin'),
+  flagOption('diagnostics', 'diagnostics', false, 'frame records: add per-pair diagnostics (tdoa, peak height, band agreement)'),
+  flagOption('viewerFields', 'viewer-fields', false, 'frame records: add per-channel levels and the band vote'),
+];
+
+const SCAN_SERVE_SPEC = flagOption('serve', 'serve', false, 'replay into the live polar view at real-time pace (see --speed, --feed-*); starts when a viewer connects');
 
 export function registerScan(program: Command): void {
   const cmd = program
@@ -54,20 +68,10 @@ export function registerScan(program: Command): void {
         'confidence, tdoa_s, level_dbfs, sources with their track ids).',
     )
     .argument('[file]', 'WAV file (PCM 8/16/24/32-bit or float, 1 to 8 channels); omit with --stdin');
-  cmd
-    .option('--frames', 'write one frame record per hop instead of event records')
-    .option('--summary', 'print a table per track at the end (on stderr)')
-    .option('--format <jsonl|csv>', 'output format', 'jsonl')
-    .option('-o, --out <path>', 'write to a file instead of stdout (written aside, renamed over PATH only when complete; a FIFO or device is written straight through)')
-    .option('--stdin', 'read raw interleaved s16le PCM from stdin (needs --rate and --channels)')
-    .option('--rate <hz>', 'sample rate of the stdin stream', positiveInteger)
-    .option('--channels <n>', 'channel count of the stdin stream', positiveInteger)
-    .option('--diagnostics', 'frame records: add per-pair diagnostics (tdoa, peak height, band agreement)')
-    .option('--viewer-fields', 'frame records: add per-channel levels and the band vote');
+  addOptions(cmd, scanOptionSpecs);
   addAnalysisOptions(cmd);
-  cmd.option('--serve', 'replay into the live polar view at real-time pace (see --speed, --feed-*); starts when a viewer connects');
-  addSpecs(cmd, paceOptionSpecs);
-  addSpecs(cmd, feedOptionSpecs);
+  addOptions(cmd, [SCAN_SERVE_SPEC, ...paceOptionSpecs]);
+  addFeedOptions(cmd);
   cmd.addHelpText(
     'after',
     '\nExamples:\n' +
@@ -77,36 +81,36 @@ export function registerScan(program: Command): void {
       '  bearline scan pond.wav --array square-10cm --serve --speed 4   (then open the printed URL)\n' +
       '  arecord -f S16_LE -r 48000 -c 2 -t raw | bearline scan --stdin --rate 48000 --channels 2 --spacing 0.2\n',
   );
-  cmd.action(action(async (file: string | undefined, flags: ScanFlags) => scan(file, flags, cmd.opts())));
+  cmd.action(action(async (file: string | undefined) => scan(file, cmd)));
 }
 
-async function openSource(file: string | undefined, flags: ScanFlags, blockFrames?: number): Promise<AudioSource> {
-  if (flags.stdin) {
+async function openSource(file: string | undefined, v: ScanValues, blockFrames?: number): Promise<AudioSource> {
+  if (v.stdin) {
     if (file !== undefined) throw new UsageError('give either a FILE or --stdin, not both');
-    if (flags.rate === undefined || flags.channels === undefined) {
+    if (v.sampleRate === null || v.channels === null) {
       throw new UsageError('--stdin needs --rate R and --channels N (the raw stream carries no header)');
     }
-    return openPcmStreamSource(process.stdin, { sampleRate: flags.rate, channels: flags.channels, blockFrames, onWarning: stderrWarning });
+    return openPcmStreamSource(process.stdin, { sampleRate: v.sampleRate, channels: v.channels, blockFrames, onWarning: stderrWarning });
   }
   if (file === undefined) throw new UsageError('give a WAV file to scan, or --stdin for raw PCM');
-  if (flags.rate !== undefined || flags.channels !== undefined) {
+  if (v.sampleRate !== null || v.channels !== null) {
     throw new UsageError('--rate and --channels are for --stdin; a WAV file says its own rate and channels');
   }
   return openWavSource(file, { blockFrames, onWarning: stderrWarning });
 }
 
-async function scan(file: string | undefined, flags: ScanFlags, raw: Record<string, unknown>): Promise<void> {
+async function scan(file: string | undefined, cmd: Command): Promise<void> {
   // Every option is checked, and the output planned, before the input is read or anything is written.
-  const format: RecordFormat = parseFormat(flags.format);
-  const geometry = resolveArray(flags);
-  const c = resolveSpeed(flags);
-  const stages = resolveStageSettings(raw, flags.profile);
-  const feedOptions = resolveServe(flags.serve, raw, [...paceOptionSpecs, ...feedOptionSpecs]);
+  const v: ScanValues = { ...readOptions<ScanValues>(cmd, [...scanOptionSpecs, SCAN_SERVE_SPEC, ...paceOptionSpecs]) };
+  const stages = resolveStageSettings(cmd);
+  const geometry = resolveArray(stages.array);
+  const c = resolveSpeed(stages.array);
+  const feedOptions = resolveServe(cmd, v.serve, [...paceOptionSpecs, ...feedOptionSpecs]);
   const inputs = file ? [file] : [];
-  const target = flags.out === undefined || flags.out === '-' ? null : planOutput('--out', flags.out, inputs);
+  const target = v.out === null || v.out === '-' ? null : planOutput('--out', v.out, inputs);
   // Served replays go in small blocks, so that the paced frames flow evenly (about 21 ms at 48 kHz).
-  const opened = await openSource(file, flags, feedOptions ? SERVE_BLOCK_FRAMES : undefined);
-  const source = feedOptions ? pacedSource(opened, flags.speed ?? 1) : opened;
+  const opened = await openSource(file, v, feedOptions ? SERVE_BLOCK_FRAMES : undefined);
+  const source = feedOptions ? pacedSource(opened, v.speed) : opened;
   let feed: FeedServer | null = null;
   try {
     const { sampleRate, channels, totalFrames } = source.format;
@@ -114,18 +118,19 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
     if (channels < 2) throw new UsageError(`${where} has one channel: direction finding needs at least two (one per mic)`);
     checkGeometryForStream(geometry, channels, sampleRate, c, where);
     const setup = createAnalysis(geometry, sampleRate, c, stages.analysis, where);
-    setup.analyzer.diagnostics = !!flags.diagnostics;
+    setup.analyzer.diagnostics = v.diagnostics;
     const settings = {
       headingDeg: geometry.headingDeg,
       mirror: setup.model.mirror,
       pairs: setup.model.pairs,
-      diagnostics: !!flags.diagnostics,
-      viewerFields: !!flags.viewerFields || feedOptions !== null,
+      maxSources: setup.options.maxSources,
+      diagnostics: v.diagnostics,
+      viewerFields: v.viewerFields || feedOptions !== null,
     };
     if (feedOptions) feed = await startViewerFeed(feedOptions, setup.geometry, sampleRate, setup.options.hop);
     const withBearing = geometry.headingDeg !== null;
-    const frameWriter = flags.frames ? RecordWriter.open<FrameRecord>(target, format, frameColumns(setup.model.pairs, withBearing)) : null;
-    const eventWriter = flags.frames ? null : RecordWriter.open<EventRecord>(target, format, eventColumns());
+    const frameWriter = v.frames ? RecordWriter.open<FrameRecord>(target, v.format, frameColumns(setup.model.pairs, withBearing)) : null;
+    const eventWriter = v.frames ? null : RecordWriter.open<EventRecord>(target, v.format, eventColumns());
     const writer = frameWriter ?? eventWriter!;
     // From here on, any failure (or Ctrl-C) abandons the partial file: the old file at --out stays as it was.
     const undoSignals = target ? abandonOnSignal(target) : () => undefined;
@@ -146,7 +151,7 @@ async function scan(file: string | undefined, flags: ScanFlags, raw: Record<stri
       }
       if (hops === 0) stderrWarning(`${where} is shorter than one analysis frame (${setup.options.frame} samples): no records`);
       await writer.close();
-      if (flags.summary) {
+      if (v.summary) {
         process.stderr.write(formatSummaryTable(session.summary()) + '\n');
         const replaced = opened.replacedSamples?.();
         const line = replaced ? replacedSamplesLine(where, replaced) : null;

@@ -1,26 +1,26 @@
-import { UsageError } from '../util/errors.js';
-import { attributeNameOf, feedOptionsFromCli, type FeedOptions } from '../feed/feed-options.js';
+import type { Command } from 'commander';
+import { feedOptionSpecs, resolveFeedOptions, type FeedOptions } from '../feed/feed-options.js';
 import type { FeedServer } from '../feed/feed-server.js';
-import type { OptionSpec } from '../options/option-spec.js';
+import { flagOption, type OptionSpec } from '../options/option-spec.js';
 import type { SessionOutputs } from '../track/tracking-session.js';
+import { addOptions, givenFlags, givenOptions, refuseStray } from './options.js';
 
-type Raw = Readonly<Record<string, unknown>>;
+export const SERVE_SPEC = flagOption('serve', 'serve', false, 'serve the live polar view and its WebSocket feed (see --feed-*)');
 
-/** The flags (e.g. '--feed-port') of the specs the user gave on the command line. */
-export function givenFlags(raw: Raw, specs: readonly OptionSpec[], keys?: readonly string[]): string[] {
-  return specs.filter((s) => (!keys || keys.includes(s.key)) && raw[attributeNameOf(s.flag)] !== undefined).map((s) => s.flag.split(' ')[0]!);
-}
-
-/** A UsageError naming the flags given that do not fit, with what to do about them. */
-export function refuseStray(flags: readonly string[], what: string): void {
-  if (flags.length > 0) throw new UsageError(`${flags.join(', ')}: ${what}`);
+/** The feed options, when the command serves the live view. */
+export function feedOptionsOf(cmd: Command): FeedOptions {
+  return resolveFeedOptions(givenOptions<FeedOptions>(cmd, feedOptionSpecs));
 }
 
 /** The feed options with --serve; without it, none (and no --feed-* or other serve-only flag may be given). */
-export function resolveServe(serve: boolean | undefined, raw: Raw, serveOnly: readonly OptionSpec[]): FeedOptions | null {
-  if (serve) return feedOptionsFromCli(raw);
-  refuseStray(givenFlags(raw, serveOnly), 'only with --serve; add --serve or drop the option');
+export function resolveServe(cmd: Command, serve: boolean, serveOnly: readonly OptionSpec[]): FeedOptions | null {
+  if (serve) return feedOptionsOf(cmd);
+  refuseStray(givenFlags(cmd, serveOnly), 'only with --serve; add --serve or drop the option');
   return null;
+}
+
+export function addFeedOptions(cmd: Command): Command {
+  return addOptions(cmd, feedOptionSpecs);
 }
 
 /** A session's outputs that also send every frame and event to the feed (frames for the feed even when no file wants them). */

@@ -9,6 +9,8 @@ import { renderScene, sceneSamples } from '../sim/render.js';
 import { demoScenePath, loadSceneFile } from '../sim/scene.js';
 import { TRUTH_STEP_S, truthRecords } from '../sim/truth.js';
 import { createProgress } from './progress.js';
+import { flagOption, textOption } from '../options/option-spec.js';
+import { addOptions, readOptions } from './options.js';
 import { action } from './run-command.js';
 
 /** The options of `bearline simulate` (their one home). */
@@ -74,8 +76,14 @@ export function runSimulate(opts: SimulateOptions): void {
   }
 }
 
+const simulateOptionSpecs = [
+  textOption('scene', 'scene', 'file', null, 'scene file (JSON)', { defaultText: 'the built-in demo configs/scenes/wetland-dusk.json' }),
+  textOption('out', 'out', 'rec.wav', null, 'output WAV file; REC.truth.jsonl and REC.array.json are written beside it; required', { defaultText: 'none' }),
+  flagOption('float', 'float', false, 'write 32-bit float samples (default: 16-bit integers, clipped at full scale)'),
+];
+
 export function registerSimulate(program: Command): void {
-  program
+  const cmd = program
     .command('simulate')
     .summary('render a scene (array, callers, room, wind) to a WAV file with its true directions')
     .description(
@@ -83,9 +91,9 @@ export function registerSimulate(program: Command): void {
         `beside it: REC.truth.jsonl (one record per ${TRUTH_STEP_S * 1000} ms per active source, in the array's frame) ` +
         'and REC.array.json (the array geometry). Without --scene it renders the built-in wetland demo scene.',
     )
-    .option('--scene <file>', 'scene file (JSON); default: the built-in demo configs/scenes/wetland-dusk.json')
-    .requiredOption('--out <rec.wav>', 'output WAV file; REC.truth.jsonl and REC.array.json are written beside it')
-    .option('--float', 'write 32-bit float samples (default: 16-bit integers, clipped at full scale)', false)
+;
+  addOptions(cmd, simulateOptionSpecs);
+  cmd
     .addHelpText(
       'after',
       '\nTruth records: {"time_s", "source", "azimuth_deg", "elevation_deg"}, time_s from the start, one per\n' +
@@ -93,8 +101,10 @@ export function registerSimulate(program: Command): void {
         'Caution: when you play a rendered scene through speakers or earphones, start at a low volume.',
     )
     .action(
-      action(async (opts: SimulateOptions) => {
-        runSimulate(opts);
+      action(async () => {
+        const v = readOptions<{ scene: string | null; out: string | null; float: boolean }>(cmd, simulateOptionSpecs);
+        if (v.out === null) throw new UsageError('give the WAV file to write with --out REC.wav');
+        runSimulate({ scene: v.scene ?? undefined, out: v.out, float: v.float });
       }),
     );
 }

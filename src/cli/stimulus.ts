@@ -3,7 +3,10 @@ import { UsageError } from '../util/errors.js';
 import { renderStimulus, resolveStimulusOptions, stimulusOptionSpecs, type StimulusOptions } from '../stimulus/bench-signals.js';
 import { planOutput, writeOutputFiles } from '../sinks/output-target.js';
 import { wavFileChunks } from '../sinks/wav-writer.js';
-import { addSpecs, pickSpecs } from './options.js';
+import { textOption } from '../options/option-spec.js';
+import { addOptions, givenOptions, readOptions } from './options.js';
+
+const OUT_SPEC = textOption('out', 'out', 'file.wav', null, 'the WAV file to write (written aside, renamed when complete); required', { defaultText: 'none' });
 import { action } from './run-command.js';
 
 export const SAFE_LEVEL_CAUTION =
@@ -31,9 +34,8 @@ export function registerStimulus(program: Command): void {
       'Write a test signal for the bench check (bearline check-array) to a 24-bit WAV file: an exponential ' +
         'sine sweep, a click train or noise bursts, repeated after silences, at a chosen peak level.\n\n' +
         SAFE_LEVEL_CAUTION,
-    )
-    .requiredOption('--out <file.wav>', 'the WAV file to write (written aside, renamed when complete)');
-  addSpecs(cmd, stimulusOptionSpecs);
+    );
+  addOptions(cmd, [OUT_SPEC, ...stimulusOptionSpecs]);
   cmd.addHelpText(
     'after',
     '\nExamples:\n' +
@@ -42,9 +44,11 @@ export function registerStimulus(program: Command): void {
       '  bearline stimulus --out clicks.wav --kind clicks --click-interval 0.5\n',
   );
   cmd.action(
-    action(async (flags: { out: string }) => {
-      const opts = resolveStimulusOptions(pickSpecs<Partial<StimulusOptions>>(cmd.opts(), stimulusOptionSpecs));
-      writeStimulus(flags.out, opts);
+    action(async () => {
+      const { out } = readOptions<{ out: string | null }>(cmd, [OUT_SPEC]);
+      if (out === null) throw new UsageError('give the file to write with --out FILE.wav');
+      const opts = resolveStimulusOptions(givenOptions<StimulusOptions>(cmd, stimulusOptionSpecs));
+      writeStimulus(out, opts);
     }),
   );
 }

@@ -1,11 +1,10 @@
 /**
- * The user-settable options of the WebSocket feed: one home for each (type, default,
- * validation, help text, command-line flag). The CLI turns `feedOptionSpecs` into commander
- * options; code that builds a FeedOptions by hand goes through `resolveFeedOptions`.
+ * The user-settable options of the WebSocket feed: the options object and one spec per option
+ * (src/options/option-spec.ts: type, default, range, help, command-line flag). Code that builds
+ * a FeedOptions by hand goes through `resolveFeedOptions`.
  */
 import { isIP } from 'node:net';
-import { InvalidArgumentError } from 'commander';
-import { UsageError } from '../util/errors.js';
+import { numberOption, resolveWithSpecs, textOption, type OptionSpec } from '../options/option-spec.js';
 
 export interface FeedOptions {
   /** TCP port of the page and the feed; 0 takes any free port. */
@@ -22,174 +21,38 @@ export interface FeedOptions {
   readonly pingIntervalS: number;
 }
 
-export const DEFAULT_FEED_OPTIONS: FeedOptions = {
-  port: 8417,
-  host: '127.0.0.1',
-  token: null,
-  maxClients: 8,
-  queueBound: 64,
-  pingIntervalS: 10,
-};
-
-/** One option as the command line shows it. */
-export interface FeedOptionSpec<K extends keyof FeedOptions = keyof FeedOptions> {
-  readonly key: K;
-  /** commander flag, e.g. '--feed-port <n>'. */
-  readonly flag: string;
-  readonly help: string;
-  readonly defaultValue: FeedOptions[K];
-  /** Parses the raw command-line text; throws commander's InvalidArgumentError on bad text. */
-  readonly parse: (raw: string) => FeedOptions[K];
-}
-
-const PORT_MAX = 65535;
-const CLIENTS_MAX = 256;
-const QUEUE_MAX = 100_000;
-const PING_MIN_S = 0.1;
-const PING_MAX_S = 3600;
 const TOKEN_MIN = 8;
 const TOKEN_MAX = 256;
 const TOKEN_PATTERN = /^[A-Za-z0-9._~-]+$/;
 
-/** The problem with a value, or null when it is fine (shared by the flag parsers and resolveFeedOptions). */
-type Check<T> = (value: T) => string | null;
-
-function wholeIn(lo: number, hi: number): Check<number> {
-  return (n) => (Number.isInteger(n) && n >= lo && n <= hi ? null : `must be a whole number from ${lo} to ${hi}`);
+function hostProblem(h: string): string | null {
+  return h === 'localhost' || isIP(h) !== 0 || /^[A-Za-z0-9.-]{1,253}$/.test(h) ? null : 'is not an IP address or a host name of this machine';
 }
 
-const checks: { [K in keyof FeedOptions]: Check<FeedOptions[K]> } = {
-  port: wholeIn(0, PORT_MAX),
-  host: (h) =>
-    h === 'localhost' || isIP(h) !== 0 || /^[A-Za-z0-9.-]{1,253}$/.test(h)
-      ? null
-      : 'must be an IP address or a host name of this machine, e.g. 127.0.0.1',
-  token: (t) =>
-    t === null || (t.length >= TOKEN_MIN && t.length <= TOKEN_MAX && TOKEN_PATTERN.test(t))
-      ? null
-      : `must be ${TOKEN_MIN} to ${TOKEN_MAX} characters of A-Z a-z 0-9 . _ ~ -`,
-  maxClients: wholeIn(1, CLIENTS_MAX),
-  queueBound: wholeIn(1, QUEUE_MAX),
-  pingIntervalS: (s) =>
-    Number.isFinite(s) && s >= PING_MIN_S && s <= PING_MAX_S ? null : `must be from ${PING_MIN_S} to ${PING_MAX_S} seconds`,
-};
-
-function numberFlag(key: 'port' | 'maxClients' | 'queueBound' | 'pingIntervalS'): (raw: string) => number {
-  return (raw) => {
-    const n = Number(raw);
-    const problem = raw.trim() === '' ? 'is empty' : checks[key](n);
-    if (problem) throw new InvalidArgumentError(`'${raw}' ${problem}.`);
-    return n;
-  };
+function tokenProblem(t: string): string | null {
+  return t.length >= TOKEN_MIN && t.length <= TOKEN_MAX && TOKEN_PATTERN.test(t) ? null : `must be ${TOKEN_MIN} to ${TOKEN_MAX} characters of A-Z a-z 0-9 . _ ~ -`;
 }
 
-function textFlag(key: 'host' | 'token'): (raw: string) => string {
-  return (raw) => {
-    const problem = checks[key](raw);
-    if (problem) throw new InvalidArgumentError(`${key === 'token' ? 'the token' : `'${raw}'`} ${problem}.`);
-    return raw;
-  };
-}
-
-export const feedOptionSpecs: readonly FeedOptionSpec[] = [
-  {
-    key: 'port',
-    flag: '--feed-port <n>',
-    help: 'port of the live page and its WebSocket feed (0 = any free port)',
-    defaultValue: DEFAULT_FEED_OPTIONS.port,
-    parse: numberFlag('port'),
-  },
-  {
-    key: 'host',
-    flag: '--feed-host <address>',
-    help: 'address to listen on; anything but loopback lets other machines watch (set --feed-token then)',
-    defaultValue: DEFAULT_FEED_OPTIONS.host,
-    parse: textFlag('host'),
-  },
-  {
-    key: 'token',
-    flag: '--feed-token <text>',
-    help: 'access token the page and feed require as ?token=... (none by default)',
-    defaultValue: DEFAULT_FEED_OPTIONS.token,
-    parse: textFlag('token'),
-  },
-  {
-    key: 'maxClients',
-    flag: '--feed-max-clients <n>',
-    help: 'most viewers at once; more are turned away',
-    defaultValue: DEFAULT_FEED_OPTIONS.maxClients,
-    parse: numberFlag('maxClients'),
-  },
-  {
-    key: 'queueBound',
-    flag: '--feed-queue <n>',
-    help: 'most frames held for one slow viewer; the oldest are dropped beyond it (events never are)',
-    defaultValue: DEFAULT_FEED_OPTIONS.queueBound,
-    parse: numberFlag('queueBound'),
-  },
-  {
-    key: 'pingIntervalS',
-    flag: '--feed-ping-interval <s>',
-    help: 'seconds between pings; a viewer that misses one is disconnected',
-    defaultValue: DEFAULT_FEED_OPTIONS.pingIntervalS,
-    parse: numberFlag('pingIntervalS'),
-  },
+export const feedOptionSpecs: readonly OptionSpec<keyof FeedOptions>[] = [
+  numberOption('port', 'feed-port', 'n', 8417, { min: 0, max: 65535, integer: true }, 'port of the live page and its WebSocket feed (0 = any free port)'),
+  textOption('host', 'feed-host', 'address', '127.0.0.1', 'address to listen on; anything but loopback lets other machines watch (set --feed-token then)', { check: hostProblem }),
+  textOption('token', 'feed-token', 'text', null, 'access token the page and feed require as ?token=...', { check: tokenProblem, secret: true }),
+  numberOption('maxClients', 'feed-max-clients', 'n', 8, { min: 1, max: 256, integer: true }, 'most viewers at once; more are turned away'),
+  numberOption('queueBound', 'feed-queue', 'n', 64, { min: 1, max: 100_000, integer: true }, 'most frames held for one slow viewer; the oldest are dropped beyond it (events never are)'),
+  numberOption('pingIntervalS', 'feed-ping-interval', 's', 10, { min: 0.1, max: 3600, unit: 's' }, 'seconds between pings; a viewer that misses one is disconnected'),
 ];
+
+/** The defaults (a frozen copy). */
+export const DEFAULT_FEED_OPTIONS: Readonly<FeedOptions> = Object.freeze(resolveFeedOptions());
 
 /** The flag of an option without its argument, e.g. '--feed-port' (for messages). */
 export function feedFlagName(key: keyof FeedOptions): string {
-  const spec = feedOptionSpecs.find((s) => s.key === key);
-  return spec ? spec.flag.split(' ')[0] : key;
+  return `--${feedOptionSpecs.find((s) => s.key === key)!.name}`;
 }
 
-/**
- * Fill in defaults and validate. Throws a UsageError naming the option's flag when a
- * value is bad; unknown keys are refused too.
- */
-export function resolveFeedOptions(partial: Partial<Record<keyof FeedOptions, unknown>> = {}): FeedOptions {
-  for (const key of Object.keys(partial)) {
-    if (!(key in DEFAULT_FEED_OPTIONS)) {
-      throw new UsageError(`unknown feed option '${key}': known ones are ${Object.keys(DEFAULT_FEED_OPTIONS).join(', ')}`);
-    }
-  }
-  const pick = <K extends keyof FeedOptions>(key: K, isType: (v: unknown) => v is FeedOptions[K]): FeedOptions[K] => {
-    const raw = partial[key];
-    if (raw === undefined) return DEFAULT_FEED_OPTIONS[key];
-    const problem = isType(raw) ? checks[key](raw) : 'has the wrong type';
-    if (problem !== null || !isType(raw)) {
-      throw new UsageError(`${feedFlagName(key)} ${JSON.stringify(raw)} ${problem ?? 'is invalid'}: see bearline --help`);
-    }
-    return raw;
-  };
-  const isNum = (v: unknown): v is number => typeof v === 'number';
-  const isStr = (v: unknown): v is string => typeof v === 'string';
-  const isToken = (v: unknown): v is string | null => v === null || typeof v === 'string';
-  return {
-    port: pick('port', isNum),
-    host: pick('host', isStr),
-    token: pick('token', isToken),
-    maxClients: pick('maxClients', isNum),
-    queueBound: pick('queueBound', isNum),
-    pingIntervalS: pick('pingIntervalS', isNum),
-  };
-}
-
-/** commander's attribute name for a flag: '--feed-max-clients <n>' -> 'feedMaxClients'. */
-export function attributeNameOf(flag: string): string {
-  return flag
-    .split(' ')[0]
-    .replace(/^--/, '')
-    .replace(/-([a-z])/g, (_, c: string) => c.toUpperCase());
-}
-
-/** The feed options from commander's parsed values (options registered from feedOptionSpecs). */
-export function feedOptionsFromCli(values: Readonly<Record<string, unknown>>): FeedOptions {
-  const partial: Partial<Record<keyof FeedOptions, unknown>> = {};
-  for (const spec of feedOptionSpecs) {
-    const v = values[attributeNameOf(spec.flag)];
-    if (v !== undefined) partial[spec.key] = v;
-  }
-  return resolveFeedOptions(partial);
+/** Fill in defaults and validate. Throws a UsageError naming the option's flag; unknown keys are refused too. */
+export function resolveFeedOptions(partial: Partial<FeedOptions> = {}): FeedOptions {
+  return resolveWithSpecs<FeedOptions>(feedOptionSpecs, partial, 'feed');
 }
 
 /** True for addresses only this machine can reach (127.0.0.0/8, ::1, localhost). */

@@ -1,3 +1,4 @@
+import { numberOption, type OptionSpec } from '../options/option-spec.js';
 import { UsageError } from '../util/errors.js';
 
 /** Default speed of sound, m/s (interface.md). */
@@ -13,11 +14,22 @@ export function speedOfSoundAt(temperatureC: number): number {
   return 331.3 * Math.sqrt(1 + temperatureC / 273.15);
 }
 
+export interface SoundSpeedOptions {
+  temperature?: number;
+  speedOfSound?: number;
+}
+
+/** The two ways a user sets the speed of sound (every command that needs it takes both). */
+export const soundSpeedOptionSpecs: readonly OptionSpec<keyof SoundSpeedOptions>[] = [
+  numberOption('temperature', 'temperature', 'celsius', null, { min: -100, max: 100, unit: 'degrees Celsius' }, 'air temperature; sets the speed of sound c = 331.3 sqrt(1 + T/273.15)', { defaultText: 'none' }),
+  numberOption('speedOfSound', 'speed-of-sound', 'm/s', null, { min: 200, max: 2000, unit: 'm/s' }, 'speed of sound directly', { defaultText: `${DEFAULT_SPEED_OF_SOUND} m/s` }),
+];
+
 /**
  * Resolve the speed of sound from the user's options: --speed-of-sound wins over
  * --temperature; neither gives the default 343 m/s. Both at once is a usage error.
  */
-export function resolveSpeedOfSound(opts: { speedOfSound?: number; temperature?: number }): number {
+export function resolveSpeedOfSound(opts: SoundSpeedOptions): number {
   if (opts.speedOfSound !== undefined && opts.temperature !== undefined) {
     throw new UsageError('give either --speed-of-sound or --temperature, not both');
   }

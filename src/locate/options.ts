@@ -4,6 +4,7 @@
  */
 import { UsageError } from '../util/errors.js';
 import { DEFAULT_SPEED_OF_SOUND } from '../geometry/sound-speed.js';
+import { flagOption, numberOption, resolveWithSpecs, type OptionSpec } from '../options/option-spec.js';
 
 export interface LocateOptions {
   /** Speed of sound, m/s. */
@@ -47,46 +48,27 @@ export const DEFAULT_LOCATE_OPTIONS: Readonly<LocateOptions> = Object.freeze({
   includeUnfixed: false,
 });
 
-/** The flag that sets each option, for messages. */
-export const LOCATE_OPTION_FLAGS: Readonly<Record<keyof LocateOptions, string>> = Object.freeze({
-  speedOfSound: '--speed-of-sound',
-  bearingSdDeg: '--bearing-sd',
-  positionSdM: '--position-sd',
-  onsetSdS: '--onset-sd',
-  clockUncertaintyS: '--clock-uncertainty',
-  syncedClockUncertaintyS: '--synced-clock-uncertainty',
-  matchSlackS: '--match-slack',
-  minCrossingDeg: '--min-crossing',
-  outlierSigma: '--outlier-sigma',
-  ellipseLevel: '--ellipse-level',
-  useTimeDifferences: '--no-time-differences',
-  includeUnfixed: '--include-unfixed',
-});
+const D = DEFAULT_LOCATE_OPTIONS;
 
-type NumericKey = { [K in keyof LocateOptions]: LocateOptions[K] extends number ? K : never }[keyof LocateOptions];
-
-const RANGES: Readonly<Record<NumericKey, readonly [number, number, string]>> = {
-  speedOfSound: [200, 2000, 'm/s'],
-  bearingSdDeg: [0.01, 90, 'degrees'],
-  positionSdM: [0, 1000, 'metres'],
-  onsetSdS: [1e-6, 10, 'seconds'],
-  clockUncertaintyS: [0, 3600, 'seconds'],
-  syncedClockUncertaintyS: [0, 10, 'seconds'],
-  matchSlackS: [0, 3600, 'seconds'],
-  minCrossingDeg: [0, 89, 'degrees'],
-  outlierSigma: [1, 100, 'sigmas'],
-  ellipseLevel: [0.01, 0.9999, '(a probability)'],
-};
+/** The user's locate options (the speed of sound comes from --speed-of-sound or --temperature, like every command's). */
+export const locateOptionSpecs: readonly OptionSpec<keyof LocateOptions>[] = [
+  numberOption('bearingSdDeg', 'bearing-sd', 'deg', D.bearingSdDeg, { min: 0.01, max: 90, unit: 'deg' }, 'bearing uncertainty (one sigma) for stations without bearing_sd_deg'),
+  numberOption('positionSdM', 'position-sd', 'm', D.positionSdM, { min: 0, max: 1000, unit: 'm' }, 'uncertainty (one sigma) of each station position'),
+  numberOption('onsetSdS', 'onset-sd', 's', D.onsetSdS, { min: 1e-6, max: 10, unit: 's' }, 'uncertainty (one sigma) of an event onset time, for arrival-time differences'),
+  numberOption('clockUncertaintyS', 'clock-uncertainty', 's', D.clockUncertaintyS, { min: 0, max: 3600, unit: 's' }, 'clock uncertainty of unsynchronised stations after clock_offset_s (widens matching)'),
+  numberOption('syncedClockUncertaintyS', 'synced-clock-uncertainty', 's', D.syncedClockUncertaintyS, { min: 0, max: 10, unit: 's' }, 'clock uncertainty of stations with clock_synced'),
+  numberOption('matchSlackS', 'match-slack', 's', D.matchSlackS, { min: 0, max: 3600, unit: 's' }, 'extra time allowed when matching events across stations'),
+  numberOption('minCrossingDeg', 'min-crossing', 'deg', D.minCrossingDeg, { min: 0, max: 89, unit: 'deg' }, 'smallest crossing angle of bearing lines for a fix (poorer geometry is flagged)'),
+  numberOption('outlierSigma', 'outlier-sigma', 'n', D.outlierSigma, { min: 1, max: 100, unit: 'sigmas' }, 'a bearing missing the fix by more sigmas than this is an outlier'),
+  numberOption('ellipseLevel', 'ellipse-level', 'p', D.ellipseLevel, { min: 0.01, max: 0.9999 }, 'probability inside the reported error ellipse'),
+  flagOption('useTimeDifferences', 'no-time-differences', D.useTimeDifferences, 'do not use arrival-time differences between synchronised stations'),
+  flagOption('includeUnfixed', 'include-unfixed', D.includeUnfixed, 'also report matched calls that gave no fix (GeoJSON geometry null)'),
+];
 
 /** Fill in defaults and check every value; a bad value is a UsageError naming its flag. */
 export function resolveLocateOptions(partial: Partial<LocateOptions> = {}): LocateOptions {
-  const o: LocateOptions = { ...DEFAULT_LOCATE_OPTIONS, ...partial };
-  for (const key of Object.keys(RANGES) as NumericKey[]) {
-    const [lo, hi, unit] = RANGES[key];
-    const v = o[key];
-    if (!Number.isFinite(v) || v < lo || v > hi) {
-      throw new UsageError(`${LOCATE_OPTION_FLAGS[key]} ${v} is out of range: give a value from ${lo} to ${hi} ${unit}`);
-    }
-  }
-  return o;
+  const o = resolveWithSpecs<LocateOptions>(locateOptionSpecs, partial, 'locate', ['speedOfSound']);
+  const c = o.speedOfSound ?? DEFAULT_SPEED_OF_SOUND;
+  if (!(Number.isFinite(c) && c >= 200 && c <= 2000)) throw new UsageError(`--speed-of-sound ${c} is out of range: give a value from 200 to 2000 m/s`);
+  return { ...o, speedOfSound: c };
 }

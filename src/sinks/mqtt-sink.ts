@@ -1,13 +1,11 @@
 import { join } from 'node:path';
 import mqtt, { type IClientOptions, type MqttClient } from 'mqtt';
 import { UsageError } from '../util/errors.js';
-import { applyDefaults } from '../util/apply-defaults.js';
 import { stderrWarning } from '../util/stderr-warning.js';
-import type { OptionSpec } from '../options/option-spec.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
-import { parseByteSize } from '../util/byte-size.js';
 import { validateStationId } from '../station/station-id.js';
 import { DiskQueue, type QueueItem } from './disk-queue.js';
+import { DEFAULT_MQTT_QUEUE_DIR, resolveMqttOptions, type MqttOptions } from './mqtt-options.js';
 
 /**
  * MQTT sink for fleets of stations. Topics (STATION = the station id):
@@ -20,55 +18,6 @@ import { DiskQueue, type QueueItem } from './disk-queue.js';
  * repeats. While the broker is unreachable, events wait in a disk-backed queue and go out in
  * order when it is back; each leaves the queue only after the broker's PUBACK.
  */
-
-export interface MqttOptions {
-  /** Broker URL (mqtt://host:port or mqtts://host:port); null = no MQTT. */
-  mqtt: string | null;
-  /** Also publish frame records (QoS 0). */
-  mqttFrames: boolean;
-  /** Directory of the disk-backed event queue; null = ./bearline-mqtt-queue. */
-  mqttQueueDir: string | null;
-  /** Most bytes of unsent events to keep; the oldest go first. */
-  mqttQueueMax: number;
-}
-
-/** Where events wait when --mqtt-queue-dir is not given (relative to the working folder). */
-export const DEFAULT_MQTT_QUEUE_DIR = 'bearline-mqtt-queue';
-
-export const MQTT_DEFAULTS: MqttOptions = {
-  mqtt: null,
-  mqttFrames: false,
-  mqttQueueDir: null,
-  mqttQueueMax: 16 * 1024 ** 2,
-};
-
-export function parseBrokerUrl(raw: string): string {
-  let url: URL;
-  try {
-    url = new URL(raw);
-  } catch {
-    throw new UsageError(`--mqtt '${raw}' is not a URL; write it like mqtt://127.0.0.1:1883`);
-  }
-  if (url.protocol !== 'mqtt:' && url.protocol !== 'mqtts:') throw new UsageError(`--mqtt '${raw}' must start with mqtt:// or mqtts://`);
-  if (url.hostname === '') throw new UsageError(`--mqtt '${raw}' names no host`);
-  if (url.username !== '' || url.password !== '') throw new UsageError('--mqtt must not hold a user name or password (they would show in the process list)');
-  return raw;
-}
-
-export const mqttOptionSpecs: readonly OptionSpec<keyof MqttOptions>[] = [
-  { key: 'mqtt', flag: '--mqtt <url>', help: 'publish events to this MQTT broker, e.g. mqtt://127.0.0.1:1883', defaultValue: 'off', parse: parseBrokerUrl },
-  { key: 'mqttFrames', flag: '--mqtt-frames', help: 'also publish one frame record per hop (QoS 0, not queued while the broker is away)', defaultValue: false },
-  { key: 'mqttQueueDir', flag: '--mqtt-queue-dir <dir>', help: 'where events wait while the broker is unreachable', defaultValue: `./${DEFAULT_MQTT_QUEUE_DIR}`, parse: (raw: string) => raw },
-  { key: 'mqttQueueMax', flag: '--mqtt-queue-max <size>', help: 'most unsent events to keep (oldest dropped first), e.g. 16M', defaultValue: '16M', parse: (raw: string) => parseByteSize(raw, '--mqtt-queue-max') },
-];
-
-export function resolveMqttOptions(partial: Partial<MqttOptions>): MqttOptions {
-  const o = applyDefaults(MQTT_DEFAULTS, partial);
-  if (o.mqtt !== null) parseBrokerUrl(o.mqtt);
-  if (o.mqttQueueDir !== null && o.mqttQueueDir.trim() === '') throw new UsageError('--mqtt-queue-dir is empty; give a directory');
-  if (!Number.isSafeInteger(o.mqttQueueMax) || o.mqttQueueMax < 64 * 1024) throw new UsageError(`--mqtt-queue-max ${o.mqttQueueMax} is too small; use at least 64K`);
-  return o;
-}
 
 export function stationTopics(station: string): { events: string; frames: string; status: string } {
   validateStationId(station);

@@ -1,16 +1,15 @@
 import * as nodeFs from 'node:fs';
 import { join } from 'node:path';
 import { RuntimeFailure, UsageError } from '../util/errors.js';
-import { applyDefaults } from '../util/apply-defaults.js';
 import { stderrWarning } from '../util/stderr-warning.js';
 import type { MicPair } from '../geometry/array-geometry.js';
-import type { OptionSpec } from '../options/option-spec.js';
 import { eventColumns } from '../records/event-columns.js';
 import type { GapRecord } from '../records/gap-record.js';
 import { frameColumns } from '../records/frame-columns.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
-import { formatByteSize, parseByteSize } from '../util/byte-size.js';
+import { formatByteSize } from '../util/byte-size.js';
 import { validateStationId } from '../station/station-id.js';
+import { resolveRecordLogOptions, type LogFormat, type RecordLogOptions } from './record-log-options.js';
 import { jsonObjectLine, LineFile, type LineFileFs, realFs, repairTail, type TailRepair } from './line-file.js';
 import { csvFieldCount, csvHeader, csvRow, type CsvColumn } from '../records/csv.js';
 
@@ -24,72 +23,8 @@ import { csvFieldCount, csvHeader, csvRow, type CsvColumn } from '../records/csv
  * line; files are fsynced on a timer, on rotation and on close.
  */
 
-export type LogFormat = 'jsonl' | 'csv';
 export type RecordKind = 'frames' | 'events' | 'gaps';
 export const RECORD_KINDS: readonly RecordKind[] = ['frames', 'events', 'gaps'];
-
-export interface RecordLogOptions {
-  /** Directory for the log files; null = no logging. */
-  logDir: string | null;
-  logFormat: LogFormat;
-  /** Also log frame records (one per hop), not only events. */
-  logFrames: boolean;
-  /** Start a new file before one would grow past this many bytes. */
-  rotateSize: number;
-  /** Seconds between fsyncs of the open files. */
-  fsyncEvery: number;
-  /** Delete the oldest log files of this station when all of them together pass this many bytes; null = no limit. */
-  maxDisk: number | null;
-  /** Warn when the free space on the log disk falls below this many bytes. */
-  minFree: number;
-}
-
-export const RECORD_LOG_DEFAULTS: RecordLogOptions = {
-  logDir: null,
-  logFormat: 'jsonl',
-  logFrames: false,
-  rotateSize: 64 * 1024 ** 2,
-  fsyncEvery: 5,
-  maxDisk: null,
-  minFree: 200 * 1024 ** 2,
-};
-
-function parseFormat(raw: string): LogFormat {
-  if (raw !== 'jsonl' && raw !== 'csv') throw new UsageError(`log format '${raw}' is not known; use jsonl or csv`);
-  return raw;
-}
-
-function parseSeconds(raw: string): number {
-  const n = Number(raw);
-  if (raw.trim() === '' || !Number.isFinite(n) || n <= 0 || n > 3600) {
-    throw new UsageError(`fsync interval '${raw}' must be a number of seconds above 0 and at most 3600`);
-  }
-  return n;
-}
-
-export const recordLogOptionSpecs: readonly OptionSpec<keyof RecordLogOptions>[] = [
-  { key: 'logDir', flag: '--log-dir <dir>', help: 'write records to rotating files in this directory', defaultValue: null, parse: (raw: string) => raw },
-  { key: 'logFormat', flag: '--log-format <format>', help: 'log file format: jsonl or csv', defaultValue: 'jsonl', parse: parseFormat },
-  { key: 'logFrames', flag: '--log-frames', help: 'also log one frame record per hop (large files), not only events', defaultValue: false },
-  { key: 'rotateSize', flag: '--rotate-size <size>', help: 'start a new log file at this size (e.g. 64M); files also rotate at each UTC midnight', defaultValue: '64M', parse: (raw: string) => parseByteSize(raw, '--rotate-size') },
-  { key: 'fsyncEvery', flag: '--fsync-every <seconds>', help: 'seconds between forced writes to disk (records written since can be lost on power failure, not on a crash)', defaultValue: RECORD_LOG_DEFAULTS.fsyncEvery, parse: parseSeconds },
-  { key: 'maxDisk', flag: '--max-disk <size>', help: "delete this station's oldest log files when all of them pass this size (e.g. 2G)", defaultValue: 'no limit', parse: (raw: string) => parseByteSize(raw, '--max-disk') },
-  { key: 'minFree', flag: '--min-free <size>', help: 'warn when free space on the log disk falls below this size', defaultValue: '200M', parse: (raw: string) => parseByteSize(raw, '--min-free') },
-];
-
-/** Fill in defaults and check the combination. Throws UsageError naming the option. */
-export function resolveRecordLogOptions(partial: Partial<RecordLogOptions>): RecordLogOptions {
-  const o = applyDefaults(RECORD_LOG_DEFAULTS, partial);
-  if (o.logDir !== null && o.logDir.trim() === '') throw new UsageError('--log-dir is empty; give a directory');
-  parseFormat(o.logFormat);
-  if (!Number.isSafeInteger(o.rotateSize) || o.rotateSize < 4096) throw new UsageError(`--rotate-size ${o.rotateSize} is too small; use at least 4K`);
-  if (!(o.fsyncEvery > 0 && o.fsyncEvery <= 3600)) throw new UsageError(`--fsync-every ${o.fsyncEvery} must be above 0 and at most 3600 seconds`);
-  if (o.maxDisk !== null && o.maxDisk < 2 * o.rotateSize) {
-    throw new UsageError(`--max-disk ${formatByteSize(o.maxDisk)} must be at least twice --rotate-size (${formatByteSize(o.rotateSize)}); raise it or lower --rotate-size`);
-  }
-  if (!Number.isSafeInteger(o.minFree) || o.minFree < 0) throw new UsageError(`--min-free ${o.minFree} is not a size`);
-  return o;
-}
 
 // ---------- file names (pure) ----------
 

@@ -1,15 +1,10 @@
 import { createWriteStream, type WriteStream } from 'node:fs';
 import { finished } from 'node:stream/promises';
-import { RuntimeFailure, UsageError } from '../util/errors.js';
+import { RuntimeFailure } from '../util/errors.js';
 import { csvHeader, csvRow, type CsvColumn } from '../records/csv.js';
 import { abandonOutput, commitOutput, openOutputFd, type OutputTarget } from './output-target.js';
 
 export type RecordFormat = 'jsonl' | 'csv';
-
-export function parseFormat(raw: string): RecordFormat {
-  if (raw === 'jsonl' || raw === 'csv') return raw;
-  throw new UsageError(`--format ${raw} is not known: use jsonl or csv`);
-}
 
 /**
  * Writes records as JSON Lines or CSV to stdout or to an output planned by planOutput

@@ -1,5 +1,4 @@
-import { UsageError } from '../util/errors.js';
-import type { OptionSpec } from '../options/option-spec.js';
+import { numberOption, type OptionSpec } from '../options/option-spec.js';
 import type { AudioBlock, AudioSource } from './audio-source.js';
 
 /**
@@ -9,19 +8,8 @@ import type { AudioBlock, AudioSource } from './audio-source.js';
  * sleep are injectable for tests.
  */
 
-export const MIN_SPEED = 0.01;
-export const MAX_SPEED = 1000;
-
-export function parseSpeed(raw: string): number {
-  const n = Number(raw);
-  if (raw.trim() === '' || !Number.isFinite(n) || n < MIN_SPEED || n > MAX_SPEED) {
-    throw new UsageError(`--speed '${raw}' must be a number from ${MIN_SPEED} to ${MAX_SPEED} (1 = real time, 2 = twice as fast)`);
-  }
-  return n;
-}
-
 export const paceOptionSpecs: readonly OptionSpec<'speed'>[] = [
-  { key: 'speed', flag: '--speed <x>', help: 'with --serve: replay at this many times real time', defaultValue: 1, parse: parseSpeed },
+  numberOption('speed', 'speed', 'x', 1, { min: 0.01, max: 1000 }, 'with --serve: replay at this many times real time (1 = real time, 2 = twice as fast)'),
 ];
 
 export interface PaceClock {

@@ -2,7 +2,8 @@ import type { Readable } from 'node:stream';
 import { RuntimeFailure } from '../util/errors.js';
 import type { AudioBlock, AudioSource, WarningSink } from './audio-source.js';
 import { FrameAssembler } from './frame-assembler.js';
-import { checkBlockFrames, resolveChannels, resolveSampleRate } from './stream-options.js';
+import { checkOptionValue } from '../options/option-spec.js';
+import { CHANNELS_SPEC, checkBlockFrames, RATE_SPEC } from './stream-options.js';
 import { stderrWarning } from '../util/stderr-warning.js';
 
 export interface PcmStreamOptions {
@@ -25,8 +26,8 @@ export interface PcmStreamOptions {
  * blocks() may be called once.
  */
 export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): AudioSource {
-  const sampleRate = resolveSampleRate(opts.sampleRate);
-  const channels = resolveChannels(opts.channels);
+  const sampleRate = checkOptionValue(RATE_SPEC, opts.sampleRate) as number;
+  const channels = checkOptionValue(CHANNELS_SPEC, opts.channels) as number;
   const blockFrames = checkBlockFrames(opts.blockFrames);
   const warn = opts.onWarning ?? stderrWarning;
   const name = opts.name ?? 'stdin';

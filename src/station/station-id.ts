@@ -9,12 +9,14 @@ import { UsageError } from '../util/errors.js';
  */
 const STATION_ID = /^[A-Za-z0-9][A-Za-z0-9_-]{0,63}$/;
 
+/** Why an id is not allowed, or null when it is. */
+export function stationIdProblem(id: string): string | null {
+  return STATION_ID.test(id) ? null : "is not allowed: use 1 to 64 letters, digits, '-' or '_', starting with a letter or digit (e.g. marsh-east)";
+}
+
 export function validateStationId(id: string): string {
-  if (!STATION_ID.test(id)) {
-    throw new UsageError(
-      `station id '${id}' is not allowed: use 1 to 64 letters, digits, '-' or '_', starting with a letter or digit (e.g. marsh-east)`,
-    );
-  }
+  const problem = stationIdProblem(id);
+  if (problem !== null) throw new UsageError(`station id '${id}' ${problem}`);
   return id;
 }
 

@@ -8,7 +8,7 @@
  * whose instantaneous frequency is f1 exp(t ln(f2/f1) / T).
  */
 import { UsageError } from '../util/errors.js';
-import type { OptionSpec } from '../options/option-spec.js';
+import { choiceOption, numberOption, resolveWithSpecs, type OptionSpec } from '../options/option-spec.js';
 import { makeRng } from '../sim/rng.js';
 
 export type StimulusKind = 'sweep' | 'clicks' | 'noise';
@@ -55,45 +55,33 @@ const FADE_S = 0.01;
 /** Level above which a stimulus is refused: leaves headroom for the playback chain. */
 export const MAX_LEVEL_DBFS = -1;
 
-function num(raw: string): number {
-  const n = Number(raw);
-  if (raw.trim() === '' || !Number.isFinite(n)) throw new Error(`'${raw}' is not a number.`);
-  return n;
-}
+const D = STIMULUS_DEFAULTS;
 
 export const stimulusOptionSpecs: readonly OptionSpec<keyof StimulusOptions>[] = [
-  { key: 'kind', flag: '--kind <sweep|clicks|noise>', help: 'the test signal', defaultValue: STIMULUS_DEFAULTS.kind },
-  { key: 'levelDbfs', flag: '--level <dbfs>', help: `peak level in dBFS, at most ${MAX_LEVEL_DBFS}`, defaultValue: STIMULUS_DEFAULTS.levelDbfs, parse: num },
-  { key: 'durationS', flag: '--duration <s>', help: 'length of one repetition', defaultValue: STIMULUS_DEFAULTS.durationS, parse: num },
-  { key: 'sampleRate', flag: '--rate <hz>', help: 'sample rate', defaultValue: STIMULUS_DEFAULTS.sampleRate, parse: num },
-  { key: 'channels', flag: '--channels <n>', help: 'channels (the same signal on each)', defaultValue: STIMULUS_DEFAULTS.channels, parse: num },
-  { key: 'repetitions', flag: '--repeat <n>', help: 'repetitions, each after a silence of --gap', defaultValue: STIMULUS_DEFAULTS.repetitions, parse: num },
-  { key: 'gapS', flag: '--gap <s>', help: 'silence before each repetition', defaultValue: STIMULUS_DEFAULTS.gapS, parse: num },
-  { key: 'fromHz', flag: '--from <hz>', help: 'sweep: start frequency', defaultValue: STIMULUS_DEFAULTS.fromHz, parse: num },
-  { key: 'toHz', flag: '--to <hz>', help: 'sweep: end frequency (capped at 0.45 x rate)', defaultValue: STIMULUS_DEFAULTS.toHz, parse: num },
-  { key: 'clickIntervalS', flag: '--click-interval <s>', help: 'clicks: time between clicks', defaultValue: STIMULUS_DEFAULTS.clickIntervalS, parse: num },
-  { key: 'burstS', flag: '--burst <s>', help: 'noise: burst length (bursts alternate with equal silences)', defaultValue: STIMULUS_DEFAULTS.burstS, parse: num },
-  { key: 'seed', flag: '--seed <n>', help: 'noise: seed of the generator', defaultValue: STIMULUS_DEFAULTS.seed, parse: num },
+  choiceOption('kind', 'kind', ['sweep', 'clicks', 'noise'], D.kind, 'the test signal'),
+  numberOption('levelDbfs', 'level', 'dbfs', D.levelDbfs, { min: -120, max: MAX_LEVEL_DBFS, unit: 'dBFS (start low: -20 or less)' }, `peak level in dBFS, at most ${MAX_LEVEL_DBFS}`),
+  numberOption('durationS', 'duration', 's', D.durationS, { min: 0, max: 600, minExclusive: true, unit: 's' }, 'length of one repetition'),
+  numberOption('sampleRate', 'rate', 'hz', D.sampleRate, { min: 8000, max: 384000, integer: true, unit: 'Hz' }, 'sample rate'),
+  numberOption('channels', 'channels', 'n', D.channels, { min: 1, max: 8, integer: true }, 'channels (the same signal on each)'),
+  numberOption('repetitions', 'repeat', 'n', D.repetitions, { min: 1, max: 1000, integer: true }, 'repetitions, each after a silence of --gap'),
+  numberOption('gapS', 'gap', 's', D.gapS, { min: 0, max: 60, unit: 's' }, 'silence before each repetition'),
+  numberOption('fromHz', 'from', 'hz', D.fromHz, { min: 0, max: 200000, minExclusive: true, unit: 'Hz' }, 'sweep: start frequency'),
+  numberOption('toHz', 'to', 'hz', D.toHz, { min: 0, max: 200000, minExclusive: true, unit: 'Hz' }, 'sweep: end frequency (capped at 0.45 x rate)'),
+  numberOption('clickIntervalS', 'click-interval', 's', D.clickIntervalS, { min: 0.001, max: 600, unit: 's' }, 'clicks: time between clicks'),
+  numberOption('burstS', 'burst', 's', D.burstS, { min: 0.01, max: 600, unit: 's' }, 'noise: burst length (bursts alternate with equal silences)'),
+  numberOption('seed', 'seed', 'n', D.seed, { min: Number.MIN_SAFE_INTEGER, max: Number.MAX_SAFE_INTEGER, integer: true }, 'noise: seed of the generator'),
 ];
 
+/** Defaults filled in, every value checked, and the sweep's top capped at 0.45 x the rate. */
 export function resolveStimulusOptions(given: Partial<StimulusOptions>): StimulusOptions {
-  const o: StimulusOptions = { ...STIMULUS_DEFAULTS };
-  for (const [k, v] of Object.entries(given)) if (v !== undefined) (o as unknown as Record<string, unknown>)[k] = v;
+  const o = resolveWithSpecs<StimulusOptions>(stimulusOptionSpecs, given, 'stimulus');
   const bad = (flag: string, what: string): never => {
     throw new UsageError(`${flag} ${what}`);
   };
-  if (!['sweep', 'clicks', 'noise'].includes(o.kind)) bad('--kind', `'${o.kind}' must be sweep, clicks or noise`);
-  if (!(o.levelDbfs <= MAX_LEVEL_DBFS && o.levelDbfs >= -120)) bad('--level', `${o.levelDbfs} dBFS must be from -120 to ${MAX_LEVEL_DBFS} (start low: -20 or less)`);
-  if (!(o.durationS > 0 && o.durationS <= 600)) bad('--duration', `${o.durationS} s must be above 0 and at most 600`);
-  if (!(Number.isInteger(o.sampleRate) && o.sampleRate >= 8000 && o.sampleRate <= 384000)) bad('--rate', `${o.sampleRate} must be a whole number of Hz from 8000 to 384000`);
-  if (!(Number.isInteger(o.channels) && o.channels >= 1 && o.channels <= 8)) bad('--channels', `${o.channels} must be a whole number from 1 to 8`);
-  if (!(Number.isInteger(o.repetitions) && o.repetitions >= 1 && o.repetitions <= 1000)) bad('--repeat', `${o.repetitions} must be a whole number from 1 to 1000`);
-  if (!(o.gapS >= 0 && o.gapS <= 60)) bad('--gap', `${o.gapS} s must be from 0 to 60`);
   const top = 0.45 * o.sampleRate;
-  if (!(o.fromHz > 0 && o.fromHz < Math.min(o.toHz, top))) bad('--from', `${o.fromHz} Hz must be above 0 and below --to (${o.toHz} Hz) and 0.45 x the rate (${top} Hz)`);
-  if (!(o.clickIntervalS >= 0.001 && o.clickIntervalS <= o.durationS)) bad('--click-interval', `${o.clickIntervalS} s must be from 0.001 s to --duration`);
-  if (!(o.burstS >= 0.01 && o.burstS <= o.durationS)) bad('--burst', `${o.burstS} s must be from 0.01 s to --duration`);
-  if (!Number.isInteger(o.seed)) bad('--seed', `${o.seed} must be a whole number`);
+  if (!(o.fromHz < Math.min(o.toHz, top))) bad('--from', `${o.fromHz} Hz must be above 0 and below --to (${o.toHz} Hz) and 0.45 x the rate (${top} Hz)`);
+  if (!(o.clickIntervalS <= o.durationS)) bad('--click-interval', `${o.clickIntervalS} s must be from 0.001 s to --duration`);
+  if (!(o.burstS <= o.durationS)) bad('--burst', `${o.burstS} s must be from 0.01 s to --duration`);
   o.toHz = Math.min(o.toHz, top);
   return o;
 }

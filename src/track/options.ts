@@ -1,11 +1,13 @@
 /**
  * Every setting of the tracker and the event cutter, in one place: the options object with
- * its defaults, a spec per option (flag, help, unit, parser) that the CLI turns into
- * commander options, validation, and the "tracker" part of a run profile
- * (configs/profiles/*.json).
+ * its defaults, a spec per option (src/options/option-spec.ts: flag, unit, range, help) from
+ * which come the command-line options, the "tracker" section of a run profile
+ * (configs/profiles/*.json) and the README's table, and validation.
  */
-import { UsageError } from '../util/errors.js';
+import { ANALYSIS_DEFAULTS, CANDIDATE_LIMIT } from '../analysis/analysis-options.js';
 import { isArrayMirror, type ArrayMirror } from '../geometry/array-mirror.js';
+import { numberOption, resolveWithSpecs, specDefaults, type NumberSpec } from '../options/option-spec.js';
+import { UsageError } from '../util/errors.js';
 
 export interface TrackerOptions {
   /**
@@ -41,7 +43,10 @@ export interface TrackerOptions {
   trackTimeoutS: number;
   /** Most tracks alive at once (tentative ones included), at most 16. */
   maxTracks: number;
-  /** Candidates considered per hop, best first, at most 8. */
+  /**
+   * Candidates considered per hop, best first, at most 8. Set from the analysis (its
+   * --max-sources: a hop hands the tracker no more), not a flag.
+   */
   maxCandidates: number;
   /** An event starts when the hop's SNR over the noise floor reaches this, dB (or an onset arrives above the leave SNR). */
   eventEnterSnrDb: number;
@@ -59,43 +64,17 @@ export interface TrackerOptions {
   maxGapS: number;
 }
 
-/** Settings as given: typed (from code) or parsed JSON (from a profile); resolveTrackerOptions checks both. */
-export type TrackerSettings = Partial<TrackerOptions> | Readonly<Record<string, unknown>>;
+/** Settings as given (from code, or read from the command line and a profile); resolveTrackerOptions checks them. */
+export type TrackerSettings = Partial<TrackerOptions>;
 
-export type NumericOptionKey = { [K in keyof TrackerOptions]: TrackerOptions[K] extends number ? K : never }[keyof TrackerOptions];
+type NumericKey = { [K in keyof TrackerOptions]: TrackerOptions[K] extends number ? K : never }[keyof TrackerOptions];
 
-export interface NumericOptionSpec {
-  readonly key: NumericOptionKey;
-  readonly kind: 'number';
-  /** commander flag with its value placeholder, e.g. "--gate <sigma>". */
-  readonly flag: string;
-  readonly help: string;
-  readonly unit: string;
-  readonly default: number;
-  readonly min: number;
-  readonly max: number;
-  /** min itself is not allowed (the value must be greater). */
-  readonly minExclusive: boolean;
-  readonly integer: boolean;
-  /** Parse and check a command-line value; a bad one throws a UsageError naming the flag. */
-  parse(raw: string): number;
-}
-
-export interface GeometryOptionSpec {
-  readonly key: 'mirror';
-  readonly kind: 'geometry';
-  /** null: not a command-line option (the caller derives it from the geometry). */
-  readonly flag: null;
-  readonly help: string;
-  readonly unit: '';
-  readonly default: null;
-}
-
-export type TrackerOptionSpec = NumericOptionSpec | GeometryOptionSpec;
+/** The fields set by the program, not the user: the mirror (from the geometry) and the candidates per hop (from the analysis). */
+const FROM_THE_PROGRAM = ['mirror', 'maxCandidates'] as const;
 
 /** The largest assignment problem solved per hop (global nearest neighbour, exact). */
 export const TRACK_LIMIT = 16;
-export const CANDIDATE_LIMIT = 8;
+export { CANDIDATE_LIMIT };
 
 interface Range {
   min: number;
@@ -104,53 +83,14 @@ interface Range {
   integer?: boolean;
 }
 
-function numberSpec(key: NumericOptionKey, flag: string, unit: string, def: number, range: Range, help: string): NumericOptionSpec {
-  const spec: NumericOptionSpec = {
-    key,
-    kind: 'number',
-    flag,
-    help,
-    unit,
-    default: def,
-    min: range.min,
-    max: range.max,
-    minExclusive: range.minExclusive ?? false,
-    integer: range.integer ?? false,
-    parse(raw: string): number {
-      const n = Number(raw);
-      const name = flag.split(' ')[0]!;
-      if (raw.trim() === '' || !Number.isFinite(n)) throw new UsageError(`${name}: '${raw}' is not a number; ${describeRange(spec)}.`);
-      return checkNumber(spec, n, name);
-    },
-  };
-  return spec;
+/** One tracker option: its flag ('--gate <sigma>'), unit, default, range and help. */
+function numberSpec(key: NumericKey, flag: string, unit: string, def: number, range: Range, help: string): NumberSpec<NumericKey> {
+  const [dashed, arg] = flag.split(' ') as [string, string];
+  return numberOption(key, dashed.slice(2), arg.slice(1, -1), def, { ...range, unit }, help);
 }
 
-function describeRange(spec: NumericOptionSpec): string {
-  const unit = spec.unit === '' ? '' : ` ${spec.unit}`;
-  const kind = spec.integer ? 'a whole number' : 'a number';
-  const low = spec.minExclusive ? `above ${spec.min}` : `from ${spec.min}`;
-  const high = Number.isFinite(spec.max) ? ` to ${spec.max}` : ' up';
-  return `give ${kind} ${low}${high}${unit}`;
-}
-
-function checkNumber(spec: NumericOptionSpec, n: number, name: string): number {
-  const tooLow = spec.minExclusive ? n <= spec.min : n < spec.min;
-  if (!Number.isFinite(n) || tooLow || n > spec.max || (spec.integer && !Number.isInteger(n))) {
-    throw new UsageError(`${name}: ${n} is out of range; ${describeRange(spec)}.`);
-  }
-  return n;
-}
-
-export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
-  {
-    key: 'mirror',
-    kind: 'geometry',
-    flag: null,
-    unit: '',
-    default: null,
-    help: 'the array\'s mirror (a pair or line cannot tell an azimuth from its mirror image across its axis); set from the geometry',
-  },
+/** The user's tracker options: command line, profile section "tracker", README table. */
+export const trackerOptionSpecs: readonly NumberSpec<NumericKey>[] = [
   numberSpec('bearingNoiseDeg', '--bearing-noise <deg>', 'deg', 3, { min: 0, max: 45, minExclusive: true },
     'spread (1 sigma) of a candidate azimuth at confidence x score 1; less confident candidates count as noisier'),
   numberSpec('rateWanderDegS', '--rate-wander <deg/s>', 'deg/s', 3, { min: 0, max: 1000 },
@@ -177,8 +117,6 @@ export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
     'a track dies after this long without support; a source calling again later gets a new id'),
   numberSpec('maxTracks', '--max-tracks <n>', 'tracks', 8, { min: 1, max: TRACK_LIMIT, integer: true },
     `most tracks alive at once (new and confirmed), at most ${TRACK_LIMIT}`),
-  numberSpec('maxCandidates', '--max-candidates <n>', 'per hop', 4, { min: 1, max: CANDIDATE_LIMIT, integer: true },
-    `direction candidates considered per hop, best first, at most ${CANDIDATE_LIMIT}`),
   numberSpec('eventEnterSnrDb', '--event-enter-snr <dB>', 'dB', 10, { min: 0, max: 60 },
     'SNR over the noise floor at which an event starts'),
   numberSpec('eventLeaveSnrDb', '--event-leave-snr <dB>', 'dB', 5, { min: 0, max: 60 },
@@ -195,78 +133,32 @@ export const trackerOptionSpecs: readonly TrackerOptionSpec[] = [
     'longest pause bridged inside one event; an event is emitted this long after its call ends'),
 ];
 
-function buildDefaults(): TrackerOptions {
-  const out: Record<string, number | ArrayMirror | null> = {};
-  for (const spec of trackerOptionSpecs) out[spec.key] = spec.default;
-  return out as unknown as TrackerOptions;
-}
-
 /** The defaults (a frozen copy; spread it to change fields). */
-export const defaultTrackerOptions: Readonly<TrackerOptions> = Object.freeze(buildDefaults());
-
-function flagName(spec: TrackerOptionSpec): string {
-  return spec.flag === null ? spec.key : `${spec.key} (${spec.flag.split(' ')[0]})`;
-}
+export const defaultTrackerOptions: Readonly<TrackerOptions> = Object.freeze({
+  ...(specDefaults(trackerOptionSpecs) as Record<NumericKey, number>),
+  mirror: null,
+  maxCandidates: ANALYSIS_DEFAULTS.maxCandidates,
+});
 
 /**
  * Fill in defaults and check every value; `undefined` means "use the default". A wrong type,
  * an out-of-range value, an unknown name or an inconsistent pair throws a UsageError that
- * names the option. `where` prefixes the message (e.g. the profile file).
+ * names the option.
  */
 export function resolveTrackerOptions(partial: TrackerSettings = {}, where = 'tracker'): TrackerOptions {
-  const given = partial as Readonly<Record<string, unknown>>;
-  const known = new Set<string>(trackerOptionSpecs.map((s) => s.key));
-  for (const name of Object.keys(given)) {
-    if (!known.has(name)) {
-      throw new UsageError(`${where}: unknown option '${name}'; known options are ${[...known].join(', ')}.`);
-    }
+  const opts: TrackerOptions = { ...defaultTrackerOptions, ...resolveWithSpecs<TrackerOptions>(trackerOptionSpecs, partial, where, FROM_THE_PROGRAM) };
+  if (opts.mirror !== null && !isArrayMirror(opts.mirror)) {
+    throw new UsageError(`${where}: mirror is derived from the array geometry (null or the description arrayMirror gives), got ${JSON.stringify(opts.mirror)}; leave it out.`);
   }
-  const out: Record<string, number | ArrayMirror | null> = {};
-  for (const spec of trackerOptionSpecs) {
-    const value = given[spec.key];
-    if (value === undefined) {
-      out[spec.key] = spec.default;
-    } else if (spec.kind === 'geometry') {
-      if (value !== null && !isArrayMirror(value)) {
-        throw new UsageError(`${where}: option ${flagName(spec)} is derived from the array geometry (null or the description arrayMirror gives), got ${JSON.stringify(value)}; leave it out.`);
-      }
-      out[spec.key] = value;
-    } else {
-      if (typeof value !== 'number') throw new UsageError(`${where}: option ${flagName(spec)} must be a number, got ${JSON.stringify(value)}; ${describeRange(spec)}.`);
-      out[spec.key] = checkNumber(spec, value, `${where}: option ${flagName(spec)}`);
-    }
+  if (!(Number.isInteger(opts.maxCandidates) && opts.maxCandidates >= 1 && opts.maxCandidates <= CANDIDATE_LIMIT)) {
+    throw new UsageError(`${where}: maxCandidates ${opts.maxCandidates} must be a whole number from 1 to ${CANDIDATE_LIMIT} (the analysis's --max-sources)`);
   }
-  const opts = out as unknown as TrackerOptions;
-  if (opts.eventLeaveSnrDb > opts.eventEnterSnrDb) {
-    throw new UsageError(`${where}: option eventLeaveSnrDb (--event-leave-snr) is ${opts.eventLeaveSnrDb} dB, above eventEnterSnrDb (--event-enter-snr) ${opts.eventEnterSnrDb}; the leave SNR must not exceed the enter SNR.`);
-  }
-  if (opts.eventLeaveConfidence > opts.eventEnterConfidence) {
-    throw new UsageError(`${where}: option eventLeaveConfidence (--event-leave-confidence) is ${opts.eventLeaveConfidence}, above eventEnterConfidence (--event-enter-confidence) ${opts.eventEnterConfidence}; the leave value must not exceed the enter value.`);
-  }
-  if (opts.confirmHits > opts.confirmWindow) {
-    throw new UsageError(`${where}: option confirmHits (--confirm-hits) is ${opts.confirmHits}, more than confirmWindow (--confirm-window) ${opts.confirmWindow}; M must not exceed N.`);
-  }
-  if (opts.trackTimeoutS < opts.maxGapS) {
-    throw new UsageError(`${where}: option trackTimeoutS (--track-timeout) is ${opts.trackTimeoutS} s, shorter than maxGapS (--max-gap) ${opts.maxGapS} s; a track must outlive the gaps its events bridge.`);
-  }
+  const pair = (a: string, av: number, b: string, bv: number, rule: string): never => {
+    throw new UsageError(`${where}: --${a} ${av} against --${b} ${bv}: ${rule}.`);
+  };
+  if (opts.eventLeaveSnrDb > opts.eventEnterSnrDb) pair('event-leave-snr', opts.eventLeaveSnrDb, 'event-enter-snr', opts.eventEnterSnrDb, 'the leave SNR must not exceed the enter SNR');
+  if (opts.eventLeaveConfidence > opts.eventEnterConfidence) pair('event-leave-confidence', opts.eventLeaveConfidence, 'event-enter-confidence', opts.eventEnterConfidence, 'the leave value must not exceed the enter value');
+  if (opts.confirmHits > opts.confirmWindow) pair('confirm-hits', opts.confirmHits, 'confirm-window', opts.confirmWindow, 'M must not exceed N');
+  if (opts.trackTimeoutS < opts.maxGapS) pair('track-timeout', opts.trackTimeoutS, 'max-gap', opts.maxGapS, 'a track must outlive the gaps its events bridge');
   return opts;
-}
-
-/**
- * The tracker settings of a parsed run profile (configs/profiles/*.json): the object under
- * its "tracker" key (absent: no settings). `where` names the file in error messages. The
- * result still needs resolveTrackerOptions (after any command-line overrides are merged).
- */
-export function trackerSettingsFromProfile(profile: unknown, where: string): Readonly<Record<string, unknown>> {
-  if (typeof profile !== 'object' || profile === null || Array.isArray(profile)) {
-    throw new UsageError(`${where}: a profile must be a JSON object with a "tracker" object inside.`);
-  }
-  const tracker = (profile as Readonly<Record<string, unknown>>)['tracker'];
-  if (tracker === undefined) return {};
-  if (typeof tracker !== 'object' || tracker === null || Array.isArray(tracker)) {
-    throw new UsageError(`${where}: "tracker" must be an object of tracker options, e.g. {"gateSigma": 3}.`);
-  }
-  const settings = tracker as Readonly<Record<string, unknown>>;
-  resolveTrackerOptions(settings, `${where} "tracker"`);
-  return settings;
 }

@@ -6,6 +6,12 @@ import { bearingOf, round, toFrameRecord, type FrameRecordSettings } from '../re
 import type { HopResult } from '../analysis/hop-analyzer.js';
 import type { StreamChecks } from '../analysis/stream-checks.js';
 
+/** What the session needs to know about the analysis: the frame records' settings and the sources a hop can hold. */
+export interface SessionSettings extends FrameRecordSettings {
+  /** Most sources a hop hands on (the analysis's --max-sources): the tracker considers as many candidates. */
+  maxSources?: number;
+}
+
 export interface SessionOutputs {
   /** Called for every hop's frame record (when frames are wanted). */
   onFrame?: (rec: FrameRecord) => void | Promise<void> | undefined;
@@ -32,12 +38,12 @@ export class TrackingSession {
   events = 0;
 
   constructor(
-    private readonly settings: FrameRecordSettings,
+    private readonly settings: SessionSettings,
     tracker: Partial<TrackerOptions>,
     private readonly outputs: SessionOutputs,
     private readonly checks: StreamChecks | null = null,
   ) {
-    this.tracker = new Tracker({ ...tracker, mirror: settings.mirror });
+    this.tracker = new Tracker({ ...tracker, mirror: settings.mirror, ...(settings.maxSources !== undefined ? { maxCandidates: settings.maxSources } : {}) });
     this.candidates = [];
     this.obs = { timeS: 0, levelDbfs: 0, snrDb: 0, onset: 0, confidence: 0, candidates: this.candidates, bandHz: null };
   }

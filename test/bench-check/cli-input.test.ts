@@ -39,7 +39,7 @@ describe('check-array and stimulus on bad input', () => {
     expectUsageFailure(runCli(['check-array', '--array', geo, ...takeArgs(takes)]), /has 2 channels but the geometry "tri" lists 3 mics/);
   });
   it('rejects a bad tolerance', () => {
-    expectUsageFailure(runCli(['check-array', '--spacing', '0.2', ...takeArgs(takes), '--tol-gain', '-1']), /--tol-gain -1 must be a number from 0/);
+    expectUsageFailure(runCli(['check-array', '--spacing', '0.2', ...takeArgs(takes), '--tol-gain', '-1']), /--tol-gain <db>.*-1 is out of range; give a number from 0 to 60 dB/);
   });
   it('rejects a span beyond the recording and a malformed span line', () => {
     const spans = join(tmp.dir, 'bad.spans');
@@ -63,8 +63,8 @@ describe('check-array and stimulus on bad input', () => {
   it('stimulus: rejects a level above -1 dBFS and a bad kind, and keeps an existing file', () => {
     const out = join(tmp.dir, 'stim.wav');
     writeFileSync(out, 'old');
-    expectUsageFailure(runCli(['stimulus', '--out', out, '--level', '0']), /--level 0 dBFS must be from -120 to -1/);
-    expectUsageFailure(runCli(['stimulus', '--out', out, '--kind', 'chirp']), /--kind 'chirp' must be sweep, clicks or noise/);
+    expectUsageFailure(runCli(['stimulus', '--out', out, '--level', '0']), /--level <dbfs>.*0 is out of range; give a number from -120 to -1 dBFS/);
+    expectUsageFailure(runCli(['stimulus', '--out', out, '--kind', 'chirp']), /--kind <sweep\|clicks\|noise>.*'chirp' is not known; give one of sweep, clicks, noise/);
     expect(readFileSync(out, 'utf8')).toBe('old');
   });
   it('stimulus --help carries the safe-level caution', () => {

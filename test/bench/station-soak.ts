@@ -11,7 +11,8 @@ import { join } from 'node:path';
 import { pathToFileURL } from 'node:url';
 import { setFlagsFromString } from 'node:v8';
 import { runInNewContext } from 'node:vm';
-import { listLogFiles, RecordLog, type LogFormat } from '../../src/sinks/record-log.js';
+import { listLogFiles, RecordLog } from '../../src/sinks/record-log.js';
+import type { LogFormat } from '../../src/sinks/record-log-options.js';
 import type { EventRecord, FrameRecord } from '../../src/records/record-types.js';
 
 export interface SoakOptions {

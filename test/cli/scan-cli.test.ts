@@ -86,7 +86,7 @@ describe('bearline scan: bad input exits 2 with one clear line', () => {
   it('no array given, unknown option, bad format', () => {
     expectUsageFailure(runCli(['scan', pair]), /--spacing D|--array/);
     expectUsageFailure(runCli(['scan', pair, '--spacing', '0.2', '--bogus']), /unknown option '--bogus'/);
-    expectUsageFailure(runCli(['scan', pair, '--spacing', '0.2', '--format', 'xml']), /--format xml/);
+    expectUsageFailure(runCli(['scan', pair, '--spacing', '0.2', '--format', 'xml']), /--format <jsonl\|csv>.*'xml' is not known; give one of jsonl, csv/);
     expectUsageFailure(runCli(['scan', pair, '--spacing', '0.2', '--frame', '1000']), /--frame 1000 must be a power of two/);
   });
   it('--out onto the input is refused and the input is untouched', () => {

@@ -13,8 +13,8 @@ import {
   parseLogFileName,
   RecordLog,
   repairLogFile,
-  resolveRecordLogOptions,
 } from '../../src/sinks/record-log.js';
+import { resolveRecordLogOptions } from '../../src/sinks/record-log-options.js';
 import { DRIVER_STATION, firstGap, LOG_DRIVER, readEvents, startDriver } from '../helpers/log-files.js';
 import type { EventRecord } from '../../src/records/record-types.js';
 

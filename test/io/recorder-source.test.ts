@@ -3,7 +3,8 @@ import { join } from 'node:path';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { RuntimeFailure, UsageError } from '../../src/util/errors.js';
 import type { AudioBlock } from '../../src/sources/audio-source.js';
-import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptionsInput } from '../../src/sources/recorder-options.js';
+import { defaultText, parseOptionText, usageOf } from '../../src/options/option-spec.js';
+import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptions } from '../../src/sources/recorder-options.js';
 import { openRecorderSource, type RecorderGap, type RecorderSource } from '../../src/sources/recorder-source.js';
 import { RestartPolicy } from '../../src/sources/restart-policy.js';
 import { maxAbsDiff, sox, soxDecode, synthSpecs, tempDir } from './sox.js';
@@ -57,8 +58,8 @@ async function take(src: RecorderSource, frames: number): Promise<Float32Array> 
   return out;
 }
 
-async function start(input: RecorderOptionsInput, gaps: RecorderGap[] = [], timing = {}, warnings: string[] = []): Promise<RecorderSource> {
-  open = await openRecorderSource(resolveRecorderOptions(input), { blockFrames: 800, onGap: (g) => gaps.push(g), onWarning: (m) => warnings.push(m), timing });
+async function start(input: Partial<RecorderOptions>, gaps: RecorderGap[] = [], timing = {}, warnings: string[] = []): Promise<RecorderSource> {
+  open = await openRecorderSource(resolveRecorderOptions({ channels: 2, ...input }), { blockFrames: 800, onGap: (g) => gaps.push(g), onWarning: (m) => warnings.push(m), timing });
   return open;
 }
 
@@ -178,7 +179,7 @@ describe('recorder source with stand-in recorders on PATH', () => {
     const savedPath2 = process.env.PATH;
     process.env.PATH = join(tmp.dir, 'empty');
     try {
-      const err = await openRecorderSource(resolveRecorderOptions({ recorder: 'arecord' })).then(() => null, (e: unknown) => e);
+      const err = await openRecorderSource(resolveRecorderOptions({ recorder: 'arecord', channels: 2 })).then(() => null, (e: unknown) => e);
       expect(err).toBeInstanceOf(UsageError);
       expect((err as Error).message).toBe("the recorder 'arecord' was not found on PATH; install it (apt-get install alsa-utils) or choose another with --recorder (sox, rec, arecord)");
     } finally {
@@ -201,38 +202,40 @@ describe('recorder source with stand-in recorders on PATH', () => {
 });
 
 describe('recorder options (one home: specs, defaults, validation)', () => {
-  it('fills the defaults', () => {
-    expect(resolveRecorderOptions()).toEqual({ recorder: 'sox', device: null, sampleRate: 48000, channels: 2, stallTimeoutS: 2, maxRestarts: null });
-    expect(resolveRecorderOptions({ sampleRate: '16000', channels: '4', stallTimeoutS: '0.5', maxRestarts: '3' })).toMatchObject({ sampleRate: 16000, channels: 4, stallTimeoutS: 0.5, maxRestarts: 3 });
+  it('fills the defaults; the channel count is the caller\'s (the number of mics)', () => {
+    expect(resolveRecorderOptions({ channels: 2 })).toEqual({ recorder: 'sox', device: null, sampleRate: 48000, channels: 2, stallTimeoutS: 2, maxRestarts: null });
+    expect(resolveRecorderOptions({ sampleRate: 16000, channels: 4, stallTimeoutS: 0.5, maxRestarts: 3 })).toMatchObject({ sampleRate: 16000, channels: 4, stallTimeoutS: 0.5, maxRestarts: 3 });
+    expect(parseOptionText(RECORDER_OPTION_SPECS.find((s) => s.key === 'maxRestarts')!, 'never')).toBeNull();
   });
 
   it('lists every option with its flag, help and default', () => {
-    expect(RECORDER_OPTION_SPECS.map((s) => [s.key, s.flag, s.defaultValue])).toEqual([
-      ['recorder', '--recorder <name>', 'sox'],
-      ['device', '--device <name>', null],
-      ['sampleRate', '--rate <hz>', 48000],
-      ['channels', '--channels <n>', 2],
-      ['stallTimeoutS', '--stall-timeout <s>', 2],
+    expect(RECORDER_OPTION_SPECS.map((s) => [s.key, usageOf(s), defaultText(s)])).toEqual([
+      ['recorder', '--recorder <sox|rec|arecord>', 'sox'],
+      ['device', '--device <name>', "the recorder's default input"],
+      ['sampleRate', '--rate <hz>', '48000'],
+      ['channels', '--channels <n>', 'the number of mics'],
+      ['stallTimeoutS', '--stall-timeout <s>', '2'],
       ['maxRestarts', '--max-restarts <n>', 'never'],
     ]);
     for (const s of RECORDER_OPTION_SPECS) expect(s.help.length).toBeGreaterThan(10);
   });
 
   it.each([
-    [{ recorder: 'ffmpeg' }, "--recorder must be one of sox, rec, arecord (got 'ffmpeg'); install one and make sure it is on PATH"],
-    [{ recorder: '/usr/bin/sox' }, /--recorder must be one of sox, rec, arecord \(got '\/usr\/bin\/sox'\)/],
-    [{ recorder: '../recorders/sox' }, /--recorder must be one of sox, rec, arecord/],
-    [{ device: '' }, /--device '' is not a device name/],
-    [{ device: '-x' }, /--device '-x' is not a device name/],
-    [{ sampleRate: 500 }, /--rate must be a whole number from 1000 to 768000 Hz/],
-    [{ channels: 9 }, /--channels must be a whole number from 1 to 8/],
-    [{ stallTimeoutS: 0 }, /--stall-timeout must be a number of seconds from 0.1 to 600/],
-    [{ stallTimeoutS: 'soon' }, /--stall-timeout must be a number of seconds/],
-    [{ maxRestarts: -1 }, /--max-restarts must be a whole number of 0 or more, or 'never'/],
-    [{ maxRestarts: '2.5' }, /--max-restarts must be a whole number/],
-  ] as [RecorderOptionsInput, string | RegExp][])('%o is a UsageError', (input, message) => {
-    expect(() => resolveRecorderOptions(input)).toThrow(UsageError);
-    expect(() => resolveRecorderOptions(input)).toThrow(message);
+    [{ recorder: 'ffmpeg' }, "--recorder: 'ffmpeg' is not known; give one of sox, rec, arecord."],
+    [{ recorder: '/usr/bin/sox' }, /--recorder: '\/usr\/bin\/sox' is not known; give one of sox, rec, arecord/],
+    [{ recorder: '../recorders/sox' }, /--recorder: .* is not known/],
+    [{ device: '' }, /--device: '' is empty/],
+    [{ device: '-x' }, /--device: '-x' is not a device name/],
+    [{ sampleRate: 500 }, /--rate: 500 is out of range; give a whole number from 1000 to 768000 Hz/],
+    [{ channels: 9 }, /--channels: 9 is out of range; give a whole number from 1 to 8/],
+    [{ stallTimeoutS: 0 }, /--stall-timeout: 0 is out of range; give a number from 0.1 to 600 s/],
+    [{ stallTimeoutS: 'soon' }, /--stall-timeout: 'soon' is not a number/],
+    [{ maxRestarts: -1 }, /--max-restarts: -1 is out of range; give a whole number from 0 .*, or 'never'/],
+    [{ maxRestarts: 2.5 }, /--max-restarts: 2.5 is out of range/],
+  ] as [Record<string, unknown>, string | RegExp][])('%o is a UsageError', (input, message) => {
+    const given = { channels: 2, ...input } as Parameters<typeof resolveRecorderOptions>[0];
+    expect(() => resolveRecorderOptions(given)).toThrow(UsageError);
+    expect(() => resolveRecorderOptions(given)).toThrow(message);
   });
 });
 

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import type { AudioBlock, AudioSource } from '../../src/sources/audio-source.js';
-import { pacedSource, parseSpeed } from '../../src/sources/paced-source.js';
+import { parseOptionText } from '../../src/options/option-spec.js';
+import { pacedSource, paceOptionSpecs } from '../../src/sources/paced-source.js';
 import { StreamClock } from '../../src/sources/stream-clock.js';
 
 describe('StreamClock: live stream time keeps step with the wall clock', () => {
@@ -44,8 +45,9 @@ describe('pacedSource: a block is handed on when its last sample would have been
     expect(handed).toEqual([250, 500, 1000]);
   });
   it('--speed is checked', () => {
-    expect(parseSpeed('20')).toBe(20);
-    expect(() => parseSpeed('0')).toThrow(/--speed '0' must be a number from 0\.01 to 1000/);
-    expect(() => parseSpeed('fast')).toThrow(/--speed 'fast'/);
+    const speed = paceOptionSpecs[0]!;
+    expect(parseOptionText(speed, '20')).toBe(20);
+    expect(() => parseOptionText(speed, '0')).toThrow(/--speed: 0 is out of range; give a number from 0\.01 to 1000/);
+    expect(() => parseOptionText(speed, 'fast')).toThrow(/--speed: 'fast' is not a number/);
   });
 });

@@ -2,15 +2,16 @@ import { EventEmitter } from 'node:events';
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { Command, Option } from 'commander';
+import { Command } from 'commander';
 import { afterEach, describe, expect, it, vi } from 'vitest';
-import { addSpecs, pickSpecs } from '../../src/cli/options.js';
+import { addOptions, givenOptions } from '../../src/cli/options.js';
 import { feedOptionSpecs } from '../../src/feed/feed-options.js';
 import { analysisOptionSpecs } from '../../src/analysis/analysis-options.js';
 import { trackerOptionSpecs } from '../../src/track/options.js';
 import { RuntimeFailure } from '../../src/util/errors.js';
-import { mqttOptionSpecs, resolveMqttOptions } from '../../src/sinks/mqtt-sink.js';
-import { listLogFiles, RecordLog, recordLogOptionSpecs, resolveRecordLogOptions } from '../../src/sinks/record-log.js';
+import { mqttOptionSpecs, resolveMqttOptions } from '../../src/sinks/mqtt-options.js';
+import { listLogFiles, RecordLog } from '../../src/sinks/record-log.js';
+import { recordLogOptionSpecs, resolveRecordLogOptions } from '../../src/sinks/record-log-options.js';
 import { formatByteSize, parseByteSize } from '../../src/util/byte-size.js';
 import { startHealthServer } from '../../src/station/health-server.js';
 import { resolveStationOptions, stationOptionSpecs } from '../../src/station/runtime-options.js';
@@ -151,26 +152,23 @@ describe('shutdown helper', () => {
 describe('option specs (one home per option)', () => {
   const all = [...stationOptionSpecs, ...recordLogOptionSpecs, ...mqttOptionSpecs];
 
-  it('every key is the name commander gives its flag, and no flag clashes with the analysis, tracker or feed flags', () => {
-    for (const s of all) expect(new Option(s.flag).attributeName()).toBe(s.key);
-    const others = [...analysisOptionSpecs, ...feedOptionSpecs, ...trackerOptionSpecs].flatMap((s) => (s.flag === null ? [] : [s.flag]));
+  it('no option name clashes with the analysis, tracker or feed options', () => {
+    const others = [...analysisOptionSpecs, ...feedOptionSpecs, ...trackerOptionSpecs].map((s) => s.name);
     expect(others.length).toBeGreaterThan(20);
-    const head = (f: string): string => f.split(' ')[0]!;
-    const mine = all.map((s) => head(s.flag));
+    const mine = all.map((s) => s.name);
     expect(new Set(mine).size).toBe(mine.length);
-    expect(mine.filter((f) => others.map(head).includes(f))).toEqual([]);
+    expect(mine.filter((f) => others.includes(f))).toEqual([]);
   });
 
   it('commander parses the flags into options that resolve with defaults', () => {
     const cmd = new Command().exitOverride();
-    addSpecs(cmd, stationOptionSpecs);
-    addSpecs(cmd, recordLogOptionSpecs);
-    addSpecs(cmd, mqttOptionSpecs);
+    addOptions(cmd, stationOptionSpecs);
+    addOptions(cmd, recordLogOptionSpecs);
+    addOptions(cmd, mqttOptionSpecs);
     cmd.parse(['--station', 'marsh-east', '--log-dir', '/data/bearline', '--max-disk', '2G', '--rotate-size', '500M', '--mqtt', 'mqtt://127.0.0.1:1883', '--log-frames', '--health', '8077'], { from: 'user' });
-    const v = cmd.opts();
-    const st = resolveStationOptions(pickSpecs(v, stationOptionSpecs));
-    const lg = resolveRecordLogOptions(pickSpecs(v, recordLogOptionSpecs));
-    const mq = resolveMqttOptions(pickSpecs(v, mqttOptionSpecs));
+    const st = resolveStationOptions(givenOptions(cmd, stationOptionSpecs));
+    const lg = resolveRecordLogOptions(givenOptions(cmd, recordLogOptionSpecs));
+    const mq = resolveMqttOptions(givenOptions(cmd, mqttOptionSpecs));
     expect(st).toMatchObject({ station: 'marsh-east', health: 8077, healthHost: '127.0.0.1', statusEvery: 10 });
     expect(lg).toMatchObject({ logDir: '/data/bearline', maxDisk: 2 * 1024 ** 3, rotateSize: 500 * 1024 ** 2, logFrames: true, logFormat: 'jsonl' });
     expect(mq).toMatchObject({ mqtt: 'mqtt://127.0.0.1:1883', mqttFrames: false, mqttQueueMax: 16 * 1024 ** 2 });
@@ -179,12 +177,12 @@ describe('option specs (one home per option)', () => {
 
   it('a bad value is a one-line usage error naming the flag', () => {
     const cmd = new Command().exitOverride().configureOutput({ writeErr: () => {} });
-    addSpecs(cmd, recordLogOptionSpecs);
-    expect(() => cmd.parse(['--max-disk', '5X'], { from: 'user' })).toThrow(/--max-disk.*'5X' is not a size; write it like 500M, 2G or 65536/);
+    addOptions(cmd, recordLogOptionSpecs);
+    expect(() => cmd.parse(['--max-disk', '5X'], { from: 'user' })).toThrow(/--max-disk.*'5X' is not a size; give a size like 500M, 2G or 65536/);
     const c2 = new Command().exitOverride().configureOutput({ writeErr: () => {} });
-    addSpecs(c2, stationOptionSpecs);
-    expect(() => c2.parse(['--station', 'pond/east'], { from: 'user' })).toThrow(/station id 'pond\/east' is not allowed/);
-    expect(() => c2.parse(['--health', '70000'], { from: 'user' })).toThrow(/not a TCP port/);
+    addOptions(c2, stationOptionSpecs);
+    expect(() => c2.parse(['--station', 'pond/east'], { from: 'user' })).toThrow(/--station.*'pond\/east' is not allowed/);
+    expect(() => c2.parse(['--health', '70000'], { from: 'user' })).toThrow(/--health.*70000 is out of range; give a whole number from 0 to 65535/);
   });
 
   // 1024-based units, as in `df -h` and `ls -h` (common practice, no source).

@@ -3,15 +3,23 @@
  * directions, calling schedules) with bearing noise, clutter and dropouts (synth.ts). The
  * ground truth is the reference; the acoustic end-to-end checks come with the analysis core.
  */
-import { readFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import type { EventRecord } from '../../src/records/record-types.js';
 import { angleDiffDeg } from '../../src/track/circular.js';
-import { trackerSettingsFromProfile, type TrackerSettings } from '../../src/track/options.js';
+import { PROFILE_SECTIONS } from '../../src/cli/analysis-flags.js';
+import { loadProfile, profileValues } from '../../src/options/profile.js';
+import type { TrackerSettings } from '../../src/track/options.js';
 import { Tracker } from '../../src/track/tracker.js';
 import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { arrayMirror, type ArrayMirror } from '../../src/geometry/array-mirror.js';
 import { bursts, fold, foldAbout, generateHops, type Synth, type TruthSource } from './synth.js';
+
+/** The tracker section of a shipped profile, read as bearline reads it. */
+function trackerProfile(name: string): TrackerSettings {
+  const dir = fileURLToPath(new URL('../../configs/profiles/', import.meta.url));
+  return profileValues<TrackerSettings>(loadProfile(name, dir, PROFILE_SECTIONS), 'tracker');
+}
 
 /** The mirror the pipeline derives for an array (src/geometry/array-mirror.ts). */
 function mirrorOf(g: ArrayGeometry): ArrayMirror {
@@ -236,7 +244,7 @@ function crossingSwapRate(c: Crossing, seeds: number, options: TrackerSettings):
 }
 
 describe('two crossing sources at different angular rates (40 noisy runs each)', () => {
-  const birds = trackerSettingsFromProfile(JSON.parse(readFileSync(new URL('../../configs/profiles/passing-birds.json', import.meta.url), 'utf8')), 'passing-birds.json');
+  const birds = trackerProfile('passing-birds');
   it.each([
     [headOn, 'the defaults', {}],
     [headOn, 'the passing-birds profile', birds],
@@ -431,7 +439,7 @@ describe('births, coasting and deaths', () => {
 
 describe('frog chorus profile: three static callers, overlapping bouts, long silences', () => {
   it('keeps each frog on its own id across 4-minute silences', () => {
-    const frogs = trackerSettingsFromProfile(JSON.parse(readFileSync(new URL('../../configs/profiles/frog-chorus.json', import.meta.url), 'utf8')), 'frog-chorus.json');
+    const frogs = trackerProfile('frog-chorus');
     // Three bouts (at 0, 250 and 500 s) of 20 s; within a bout each frog repeats a 0.4 s call
     // with its own period, so calls overlap.
     const bout = (phase: number, period: number): [number, number][] =>

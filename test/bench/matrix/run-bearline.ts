@@ -5,21 +5,20 @@
  * analysis internals (they are being reworked); keep it that way.
  *
  * Settings come as `key=value` strings: keys of the analysis options
- * (src/pipeline/analysis-options.ts) and of the tracker options (src/track/options.ts), read
+ * (src/analysis/analysis-options.ts) and of the tracker options (src/track/options.ts), read
  * through their own option specs (their command-line flag names work too, without "--").
  * A key both stages have (minConfidence) needs its stage: `analysis.minConfidence=0.4`.
  */
-import { trackerCliSpecs } from '../../../src/cli/options.js';
 import { Framer } from '../../../src/dsp/framer.js';
 import { UsageError } from '../../../src/util/errors.js';
 import type { ArrayGeometry } from '../../../src/geometry/array-geometry.js';
 import type { Vec3 } from '../../../src/geometry/vec3.js';
 import { checkGeometryForStream } from '../../../src/geometry/geometry-file.js';
-import type { OptionSpec } from '../../../src/options/option-spec.js';
+import { parseOptionText, type OptionSpec } from '../../../src/options/option-spec.js';
 import { createAnalysis } from '../../../src/analysis/analysis.js';
 import { analysisOptionSpecs, resolveAnalysisOptions, type AnalysisOptions } from '../../../src/analysis/analysis-options.js';
 import { TrackingSession } from '../../../src/track/tracking-session.js';
-import { resolveTrackerOptions, type TrackerOptions } from '../../../src/track/options.js';
+import { resolveTrackerOptions, trackerOptionSpecs, type TrackerOptions } from '../../../src/track/options.js';
 
 export interface StageSettings {
   readonly analysis: AnalysisOptions;
@@ -36,7 +35,7 @@ export interface BearlineHop {
   readonly conf: number;
   /** Delay of pair (0, 1), seconds; null without a direction. */
   readonly tdoa0: number | null;
-  /** The confidence features of the hop's strongest candidate (src/pipeline/confidence.ts), null when it had none. */
+  /** The confidence features of the hop's strongest candidate (src/analysis/confidence.ts), null when it had none. */
   readonly features: HopFeatures | null;
 }
 
@@ -66,11 +65,11 @@ export interface BearlineRun {
 type Stage = 'analysis' | 'tracker';
 
 function flagName(spec: OptionSpec): string {
-  return spec.flag.split(' ')[0]!.replace(/^--(no-)?/, '');
+  return spec.name.replace(/^no-/, '');
 }
 
 function stageSpecs(): Record<Stage, readonly OptionSpec[]> {
-  return { analysis: analysisOptionSpecs, tracker: trackerCliSpecs() };
+  return { analysis: analysisOptionSpecs, tracker: trackerOptionSpecs };
 }
 
 /** Every settable key, per stage (for --help and error messages). */
@@ -81,12 +80,11 @@ export function settingKeys(): Record<Stage, string[]> {
 
 function parseValue(spec: OptionSpec, raw: string, assignment: string): unknown {
   try {
-    if (spec.parse) return spec.parse(raw);
+    // A switch's value is the setting itself (voting=false), not "given".
+    return parseOptionText(spec, raw);
   } catch (err) {
     throw new UsageError(`--set ${assignment}: ${(err as Error).message}`);
   }
-  if (raw === 'true' || raw === 'false') return raw === 'true';
-  throw new UsageError(`--set ${assignment}: ${spec.key} is true or false`);
 }
 
 /** Parse `key=value` assignments into analysis and tracker options; unknown keys are an error. */
@@ -136,7 +134,7 @@ export function runBearline(mics: readonly Vec3[], sampleRate: number, speedOfSo
   const hops: BearlineHop[] = [];
   const events: BearlineEvent[] = [];
   const session = new TrackingSession(
-    { headingDeg: null, mirror: setup.model.mirror, pairs: setup.model.pairs, diagnostics: false, viewerFields: false },
+    { headingDeg: null, mirror: setup.model.mirror, pairs: setup.model.pairs, maxSources: setup.options.maxSources, diagnostics: false, viewerFields: false },
     settings.tracker,
     {
       onFrame: (f) => {

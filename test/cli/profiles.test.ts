@@ -1,0 +1,87 @@
+/**
+ * Run profiles (--profile) from the command line: keys are the option names, every section
+ * reaches its stage, the command line wins, and a wrong section or key stops the command with
+ * exit 2 naming the file and the key (issue 15: profiles used internal names, a misspelled
+ * section was ignored, and nothing showed that a profile's tracker section took effect).
+ * The signal is made by sox (an independent tool): three 0.4 s noise calls, 1.5 s apart, on a
+ * 0.2 m pair.
+ */
+import { writeFileSync } from 'node:fs';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { expectUsageFailure, runCli } from '../helpers/cli.js';
+import { soxDelayedSignal, tempDir } from '../helpers/sox.js';
+
+const tmp = tempDir();
+afterAll(() => tmp.cleanup());
+let pair: string;
+beforeAll(() => {
+  pair = soxDelayedSignal(
+    { out: `${tmp.dir}/calls.wav`, delaysUp: [0, 100], durationS: 0.4, effects: ['pad', '0.5', '0.6', 'repeat', '2'], bits: 16 },
+    tmp.dir,
+  );
+});
+
+function profile(name: string, body: unknown): string {
+  const path = `${tmp.dir}/${name}.json`;
+  writeFileSync(path, JSON.stringify(body));
+  return path;
+}
+
+function records(args: string[]): Record<string, unknown>[] {
+  const r = runCli(['scan', pair, '--spacing', '0.2', ...args]);
+  expect(r.stderr).not.toMatch(/bearline: (?!warning)/);
+  expect(r.status).toBe(0);
+  return r.stdout.trim() === '' ? [] : r.stdout.trim().split('\n').map((l) => JSON.parse(l) as Record<string, unknown>);
+}
+
+describe('a profile changes the stages it names', () => {
+  it('its tracker section changes the tracker: events shorter than "min-event" are not reported', () => {
+    const plain = records([]);
+    expect(plain.length).toBe(3);
+    const strict = profile('strict', { about: 'only very long calls', tracker: { 'min-event': 100, 'track-timeout': 200 } });
+    expect(records(['--profile', strict])).toEqual([]);
+    // the command line wins over the profile
+    expect(records(['--profile', strict, '--min-event', '0.04']).length).toBe(plain.length);
+  });
+
+  it('its analysis section changes the analysis: "hop" sets the time between frames; a switch reads as on the command line', () => {
+    const times = (args: string[]): number[] => records(['--frames', ...args]).map((f) => f.time_s as number);
+    // time_s has 4 decimals: the mean step over all frames gives the hop to the sample
+    const hop = (t: number[]): number => Math.round(((t[t.length - 1]! - t[0]!) / (t.length - 1)) * 48000);
+    expect(hop(times([]))).toBe(512);
+    const wide = profile('wide', { analysis: { frame: 2048, hop: 2048 } });
+    expect(hop(times(['--profile', wide]))).toBe(2048);
+    expect(hop(times(['--profile', wide, '--hop', '256']))).toBe(256);
+    // "no-voting": true is --no-voting (the plain weighted GCC-PHAT peak): the same frames as the flag gives, not the default's
+    const plain = profile('plain', { analysis: { 'no-voting': true } });
+    const flagged = records(['--frames', '--no-voting']);
+    expect(records(['--frames', '--profile', plain])).toEqual(flagged);
+    expect(records(['--frames'])).not.toEqual(flagged);
+  });
+
+  it('the shipped profiles load by name', () => {
+    for (const name of ['frog-chorus', 'passing-birds', 'bench', 'station-low-cpu']) records(['--profile', name]);
+  });
+});
+
+describe('a wrong profile stops the command with exit 2, naming the file and the key', () => {
+  it.each([
+    ['a misspelled section', { trakcer: { 'bearing-noise': 2 } }, /"trakcer" is not a known section; known: about, analysis, tracker/],
+    ['an internal name instead of the option name', { tracker: { bearingNoiseDeg: 2 } }, /tracker\.bearingNoiseDeg is not a known option; known: bearing-noise,/],
+    ["another stage's option (min-confidence is the analysis's; the tracker's is track-confidence)", { tracker: { 'min-confidence': 0.5 } }, /tracker\.min-confidence is not a known option/],
+    ['a value out of range', { tracker: { gate: 99 } }, /tracker\.gate: 99 is out of range; give a number from 1 to 10 sigma/],
+    ['text that is no number', { analysis: { bands: 'many' } }, /analysis\.bands: 'many' is not a number/],
+    ['a switch that is not true or false', { analysis: { 'no-voting': 'yes' } }, /analysis\.no-voting: 'yes' is not true or false/],
+    ['a bad size in a station section', { log: { 'max-disk': 'lots' } }, /log\.max-disk: 'lots' is not a size/],
+    ['not an object', [1, 2], /must hold a JSON object/],
+  ])('%s', (_what, body, message) => {
+    const path = profile('bad', body);
+    const r = runCli(['scan', pair, '--spacing', '0.2', '--profile', path]);
+    expectUsageFailure(r, message);
+    expect(r.stderr).toContain(path);
+  });
+
+  it('an unknown preset name says where the presets are', () => {
+    expectUsageFailure(runCli(['scan', pair, '--spacing', '0.2', '--profile', 'frog-choir']), /--profile frog-choir: no such profile file or preset \(presets are in .*configs\/profiles\/\)/);
+  });
+});
