@@ -46,7 +46,7 @@ export const ANALYSIS_DEFAULTS = {
   backgroundS: 0.02,
   floorRiseDbS: 1,
   silenceDbfs: -100,
-  detectSnrDb: 3,
+  detectSnrDb: 5,
   minConfidence: 0.3,
   maxSources: 3,
   voting: true,
