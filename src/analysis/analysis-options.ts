@@ -48,7 +48,7 @@ export const ANALYSIS_DEFAULTS = {
   backgroundS: 0.02,
   floorRiseDbS: 1,
   silenceDbfs: -100,
-  detectSnrDb: 3,
+  detectSnrDb: 5,
   minConfidence: 0.3,
   maxCandidates: 4,
   maxSources: 3,

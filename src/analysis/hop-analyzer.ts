@@ -16,6 +16,8 @@ const SOURCE_RATIO = 0.25;
 const STICKINESS = 0.5;
 /** ... when a candidate's lags all lie within this many samples of it. */
 const STICKY_LAGS = 2;
+/** The first hops of a stream only learn the noise floor (their SNRs mean little yet). */
+const FLOOR_WARMUP_HOPS = 4;
 /** A band's evidence grows with its SNR up to this many dB. */
 const EVIDENCE_SNR_CAP_DB = 30;
 
@@ -255,7 +257,7 @@ export class HopAnalyzer {
     // noise floor) that is all (nights are mostly quiet).
     const pairs = this.model.pairs;
     const P = pairs.length;
-    const silent = res.levelDbfs < this.options.silenceDbfs || snr < this.options.detectSnrDb;
+    const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs || snr < this.options.detectSnrDb;
     for (let p = 0; p < P; p++) {
       const [a, b] = pairs[p]!;
       const pc = this.correlators[p]!;

@@ -20,7 +20,7 @@ import { parseSettings, settingKeys } from './matrix/run-bearline.js';
 import { cacheDir } from './matrix/cache.js';
 
 const HELP = `usage: npx tsx test/bench/accuracy-matrix.ts [options]
-  --quick              a reduced subset of the tune half (about a minute once cached)
+  --quick              a reduced subset of the tune half (13 cells, seconds once cached)
   --split S            tune | check | all (default all)
   --cells ID,...       only these cells (ids or id prefixes, e.g. rum,kem01)
   --json FILE          write the table, summaries, targets and reliability as JSON
@@ -103,15 +103,26 @@ export function accuracyMatrixCli(argv: readonly string[]): number {
     throw err;
   }
   const t0 = performance.now();
-  const res = runMatrix({
-    split: args.split,
-    quick: args.quick,
-    cells: args.cells,
-    settings,
-    log: (l) => {
-      if (process.stderr.isTTY) process.stderr.write(`\r\x1b[K${l}`);
-    },
-  });
+  let res;
+  try {
+    res = runMatrix({
+      split: args.split,
+      quick: args.quick,
+      cells: args.cells,
+      settings,
+      log: (l) => {
+        // On a terminal, one progress line; otherwise only the (slow, first-run) rendering is said.
+        if (process.stderr.isTTY) process.stderr.write(`\r\x1b[K${l}`);
+        else if (l.startsWith('rendering')) process.stderr.write(`${l}\n`);
+      },
+    });
+  } catch (err) {
+    if (err instanceof UsageError) {
+      console.error(`accuracy-matrix: ${err.message}`);
+      return 2;
+    }
+    throw err;
+  }
   if (process.stderr.isTTY) process.stderr.write('\r\x1b[K');
   const sums = familySummaries(res.cells);
   const targets = checkTargets(res.cells);

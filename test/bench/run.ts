@@ -1,8 +1,12 @@
 /**
  * `npm run bench`: every benchmark of the project, one after the other, printing figures
  * and ratios measured in this run (never a pass/fail on a bare time). Not part of `npm test`.
- * Run one part alone with `npx tsx test/bench/<part>.ts`.
+ * Run one part alone with `npx tsx test/bench/<part>.ts`, or name parts:
+ * `npm run bench core tracker`. Options after the part names go to the accuracy matrix:
+ * `npm run bench accuracy -- --quick --set memoryS=0.1` (see test/bench/accuracy-matrix.ts;
+ * the full matrix renders its corpus once, several minutes, then analyses in about a minute).
  */
+import { accuracyMatrixCli } from './accuracy-matrix.js';
 import { benchCase, benchMemory, coreCases, printCore } from './core.js';
 import { runFeedLatencyBench } from './feed-latency.js';
 import { benchIoRead } from './io-read.js';
@@ -10,7 +14,10 @@ import { formatSoak, runStationSoak } from './station-soak.js';
 import { runLiveBench } from './live.js';
 import { formatTrackerBench, runTrackerBench } from './tracker.js';
 
-const only = process.argv.slice(2);
+const argv = process.argv.slice(2);
+const firstOption = argv.findIndex((a) => a.startsWith('-'));
+const only = firstOption < 0 ? argv : argv.slice(0, firstOption);
+const accuracyArgs = firstOption < 0 ? [] : argv.slice(firstOption);
 const want = (part: string) => only.length === 0 || only.includes(part);
 
 async function main(): Promise<void> {
@@ -47,6 +54,11 @@ async function main(): Promise<void> {
   if (want('live')) {
     const r = await runLiveBench();
     console.log('\n' + r.lines.join('\n'));
+  }
+  if (want('accuracy')) {
+    console.log('');
+    const code = accuracyMatrixCli(accuracyArgs);
+    if (code !== 0) process.exitCode = code;
   }
 }
 

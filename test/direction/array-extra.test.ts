@@ -26,9 +26,11 @@ function hopsOf(path: string) {
 
 describe('two simultaneous uncorrelated sources 90 degrees apart (sox-made)', () => {
   it('both directions are found among the sources of the hops', () => {
-    // Two independent noise sources (different stretches of one repeatable sox noise), each broadband.
-    const a = soxDelayedSignal({ out: `${tmp.dir}/a.wav`, delaysUp: delaysFor(30), durationS: 2, effects: ['sinc', '300-7000'] }, tmp.dir);
-    const b = soxDelayedSignal({ out: `${tmp.dir}/b.wav`, delaysUp: delaysFor(120), durationS: 7, effects: ['trim', '5', 'sinc', '300-7000'] }, tmp.dir);
+    // Two independent noise sources (different stretches of one repeatable sox noise), each
+    // broadband, starting together after half a second of quiet (a sound steady from the very
+    // first sample would be the background the analysis measures calls against).
+    const a = soxDelayedSignal({ out: `${tmp.dir}/a.wav`, delaysUp: delaysFor(30), durationS: 2, effects: ['sinc', '300-7000', 'pad', '0.5'] }, tmp.dir);
+    const b = soxDelayedSignal({ out: `${tmp.dir}/b.wav`, delaysUp: delaysFor(120), durationS: 7, effects: ['trim', '5', 'sinc', '300-7000', 'pad', '0.5'] }, tmp.dir);
     const mix = soxMix(`${tmp.dir}/ab.wav`, [{ path: a, volume: 1 }, { path: b, volume: 1 }]);
     const hops = hopsOf(mix).filter((h) => h.valid);
     const near = (list: number[], az: number) => list.some((x) => Math.abs(wrapDeg(x - az)) < 3);
@@ -55,7 +57,8 @@ describe('spatial aliasing (common practice: above c / (2 d_min) a pair sees sev
 describe('geometry files: bad ones exit 2 naming the field', () => {
   let wav: string;
   beforeAll(() => {
-    wav = soxDelayedSignal({ out: `${tmp.dir}/four.wav`, delaysUp: delaysFor(0), durationS: 0.3 }, tmp.dir);
+    // a quiet lead-in, then noise from straight ahead (steady sound from the first sample is background)
+    wav = soxDelayedSignal({ out: `${tmp.dir}/four.wav`, delaysUp: delaysFor(0), durationS: 0.6, effects: ['pad', '0.3'] }, tmp.dir);
   });
   const good = { name: 'test-square', mics: square.mics.map((m) => ({ channel: m.channel, position_m: [...m.position] })) };
   const cases: [string, unknown, RegExp][] = [

@@ -213,10 +213,11 @@ function conditions(): Condition[] {
 
 const PREFIX: Record<Family, string> = { base: 'base', snr: 'snr', call: 'call', rumble: 'rum', bursts: 'bur', room: 'room', geometry: 'geo', kemar: 'kem', cross: 'x' };
 
+/** Seconds per cell: about 9 calls or 15 bursts each (steady sounds: 4 s). */
 function durationOf(c: Condition): number {
   if (c.schedule === 'steady') return 4;
-  if (c.call === 'speech') return 6;
-  return 5;
+  if (c.call === 'speech') return 12;
+  return 8;
 }
 
 function timing(c: Condition, rng: Rng, durationS: number): { callLengthS: number; everyS: number; jitterS: number } {

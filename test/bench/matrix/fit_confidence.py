@@ -15,14 +15,17 @@ import sys
 
 import numpy as np
 
-FEATURES = ["agree", "share", "snr", "log_evidence", "log_waves", "onset"]
+FEATURES = ["agree", "log_agree", "share", "snr", "snr_x_agree", "log_evidence", "log_waves", "onset"]
 
 
 def features(f):
+    snr = min(f["snrDb"], 40.0) / 10.0
     return [
         f["agree"],
+        np.log(f["agree"] + 0.01),
         f["share"],
-        min(f["snrDb"], 40.0) / 10.0,
+        snr,
+        snr * f["agree"],
         np.log(f["evidence"] + 0.01),
         np.log(f["apertureWaves"] + 0.05),
         f["onset"],
@@ -60,6 +63,33 @@ def predict(w, x):
     return 1 / (1 + np.exp(-(w[0] + x @ w[1:])))
 
 
+def isotonic_knots(p, y, bins=20):
+    """A monotone map from the logistic output to the observed share (pool-adjacent-violators
+    over equal-count bins), as (x, y) knots for piecewise-linear interpolation."""
+    order = np.argsort(p)
+    groups = np.array_split(order, bins)
+    xs = [float(p[g].mean()) for g in groups]
+    ys = [float(y[g].mean()) for g in groups]
+    ws = [len(g) for g in groups]
+    blocks = [[x, yv, w] for x, yv, w in zip(xs, ys, ws)]
+    merged = []
+    for b in blocks:
+        merged.append(b)
+        while len(merged) > 1 and merged[-2][1] > merged[-1][1]:
+            b2 = merged.pop()
+            b1 = merged.pop()
+            w = b1[2] + b2[2]
+            merged.append([(b1[0] * b1[2] + b2[0] * b2[2]) / w, (b1[1] * b1[2] + b2[1] * b2[2]) / w, w])
+    knots = [(0.0, 0.0)] + [(round(b[0], 4), round(b[1], 4)) for b in merged] + [(1.0, 1.0)]
+    return knots
+
+
+def apply_knots(knots, p):
+    kx = np.array([k[0] for k in knots])
+    ky = np.array([k[1] for k in knots])
+    return np.interp(p, kx, ky)
+
+
 def reliability(p, y, title):
     print(title)
     print("  confidence   hops  mean conf  within 5 deg")
@@ -79,8 +109,11 @@ def main():
     print("coefficients (intercept first):")
     for name, v in zip(["b0"] + FEATURES, w):
         print(f"  {name:14s} {v:+.4f}")
+    knots = isotonic_knots(predict(w, xt), yt)
+    print("calibration knots (logistic output -> probability):")
+    print("  " + ", ".join(f"[{x}, {yv}]" for x, yv in knots))
     for name, (x, y) in (("tune", (xt, yt)), ("check", (xc, yc))):
-        p = predict(w, x)
+        p = apply_knots(knots, predict(w, x))
         brier = np.mean((p - y) ** 2)
         wrong = np.mean((p >= 0.6) & (y == 0))
         print(f"{name}: {len(y)} hops, {100 * y.mean():.1f}% within 5 deg, Brier {brier:.4f}, confident (>= 0.6) and not within 5: {100 * wrong:.2f}% of hops")

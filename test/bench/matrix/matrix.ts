@@ -7,6 +7,7 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { UsageError } from '../../../src/util/errors.js';
 import type { ArrayGeometry } from '../../../src/geometry/array-geometry.js';
 import { ambiguityOf } from './angles.js';
 import { runBaseline, type BaselineHop } from './baseline.js';
@@ -64,7 +65,7 @@ export function pickCells(opts: Pick<MatrixOptions, 'split' | 'quick' | 'cells'>
 export function runMatrix(opts: MatrixOptions): MatrixResult {
   const log = opts.log ?? (() => undefined);
   const cells = pickCells(opts);
-  if (cells.length === 0) throw new Error('no cell matches: check --split, --quick and --cells');
+  if (cells.length === 0) throw new UsageError('no cell matches: check --split, --quick and --cells (ids such as base01t, or prefixes such as rum)');
   let rendered = 0;
   let renderS = 0;
   const missing = cells.filter((c) => !isRendered(c));

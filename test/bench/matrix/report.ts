@@ -226,7 +226,7 @@ export const DEFINITIONS = [
   'gcc5: plain GCC-PHAT (SRP-PHAT for 3+ mics) on the same frames, within 5 deg; delta = b5 - gcc5 (points).',
   'Pairs and lines are scored against the mirror image about their axis too; planar arrays on azimuth; 3-D on the great circle.',
   `ev/call: events (less a rumble's own) per true call; match: calls matched one to one by an overlapping event within ${EVENT_DEG} deg.`,
-  `c-wrong: hops with confidence >= ${CONFIDENT} more than ${WRONG_DEG} deg from every source present (present until ${GRACE_S} s after a call), of all hops.`,
+  `c-wrong: hops with confidence >= ${CONFIDENT} more than ${WRONG_DEG} deg from every source present (from half a frame before a call to ${GRACE_S} s after it), of all hops.`,
   `gap-dir: hops more than ${GRACE_S} s after a call and before the next that carry a direction (not measured with a steady rumble).`,
   '1-delay: steady sounds and KEMAR cells, share of calling hops whose pair delay lies within the most populated +-1 sample window (bearline, then gcc).',
   'KEMAR angles are scored against the true direction: no sine-law pair matches a head at all frequencies (Woodworth), so read its 1-delay column.',

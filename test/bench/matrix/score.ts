@@ -7,8 +7,9 @@
  * - calling hop: a call source (not an interferer) is active at the hop's time (the truth
  *   step nearest it, as src/accuracy/score.ts). within-X: calling hops whose direction lies
  *   within X degrees of an active call source; a calling hop without a direction is a miss.
- * - a source counts as present for a hop from its start until GRACE_S (one memory time)
- *   after it ends; the per-hop error `err` is the angle to the nearest present source
+ * - a source counts as present for a hop from half a frame before its start (the frame
+ *   reaches it) until GRACE_S (one memory time) after it ends; the per-hop error `err` is
+ *   the angle to the nearest present source
  *   (calls and interferers such as a coherent rumble, which is a real source), null when
  *   the hop has no direction or no source is present.
  * - confident-and-wrong: a hop with a direction, confidence >= CONFIDENT, and err null or
@@ -122,8 +123,9 @@ function presentSources(sources: readonly TruthSource[], roles: Record<string, R
   }));
 }
 
-function isPresent(p: Present, t: number): boolean {
-  return p.calls.some((c) => t >= c.startS && t <= c.endS + GRACE_S);
+/** A source is present for a hop whose frame reaches its start, until GRACE_S after it ends. */
+function isPresent(p: Present, t: number, frameS: number): boolean {
+  return p.calls.some((c) => t >= c.startS - frameS / 2 && t <= c.endS + GRACE_S);
 }
 
 export function scoreCell(r: RenderedCell, run: BearlineRun, base: readonly BaselineHop[], amb: Ambiguity): { score: CellScore; rows: HopRow[] } {
@@ -165,7 +167,7 @@ export function scoreCell(r: RenderedCell, run: BearlineRun, base: readonly Base
     }
     let err: number | null = null;
     if (est) {
-      for (const p of present) if (isPresent(p, h.t)) err = Math.min(err ?? Infinity, angleError(est, p.dir, amb));
+      for (const p of present) if (isPresent(p, h.t, frameS)) err = Math.min(err ?? Infinity, angleError(est, p.dir, amb));
       if (h.conf >= CONFIDENT && (err === null || err > WRONG_DEG)) confidentWrong++;
     }
     if (gaps.some(([a, b]) => h.t > a && h.t + frameS / 2 < b)) {
