@@ -105,7 +105,7 @@ function renderEventList() {
     if (e.type === 'gap') {
       li.className = 'gap';
       const lost = Number(e.end_s) - Number(e.start_s);
-      li.textContent = `gap at ${Number(e.start_s).toFixed(1)} s: ${lost.toFixed(2)} s lost${e.reason ? ` (${e.reason})` : ''}`;
+      li.textContent = `gap at ${Number(e.start_s).toFixed(1)} s: ${lost.toFixed(2)} s lost${e.gap ? ` (${e.gap})` : ''}`;
       return li;
     }
     const sw = document.createElement('span');

@@ -4,7 +4,7 @@ import { SrpDirectionModel } from '../direction/srp-search.js';
 import { Framer } from '../dsp/framer.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import { micDistanceRange } from '../geometry/geometry-file.js';
-import type { AudioSource } from '../sources/audio-source.js';
+import type { AudioSource, StreamGap } from '../sources/audio-source.js';
 import { resolveAnalysisOptions, type AnalysisOptions, type ResolvedAnalysis } from './analysis-options.js';
 import { HopAnalyzer, type HopResult } from './hop-analyzer.js';
 import { StreamChecks } from './stream-checks.js';
@@ -43,32 +43,56 @@ export function createAnalysis(
   return { analyzer, model, options: resolved, geometry, speedOfSound, checks };
 }
 
+/** Where a hop sits in the stream. One object, reused for every hop: read it in the callback. */
+export interface HopTime {
+  /** Stream time (s) of the hop's frame centre: the analyzer's time, shifted by the holes of a live stream. */
+  timeS: number;
+  /** Live streams: wall-clock ms of stream time 0 (the hop's UTC is epochMs + 1000 timeS); null for files. */
+  epochMs: number | null;
+}
+
+export interface StreamHandlers {
+  /** Every hop. May return a promise (a sink applying back-pressure): the next block is read only after it settles. */
+  onHop(r: HopResult, time: HopTime): void | Promise<void>;
+  /** A hole in a live stream (marked on the block after it), told before the hops after it. */
+  onGap?(gap: StreamGap, epochMs: number): void | Promise<void>;
+  onProgress?(framesDone: number): void;
+}
+
 /**
- * Drive an analysis from a source: blocks -> frames -> hop results. `onHop` may return a
- * promise (a sink applying back-pressure); the next block is read only after it settles.
+ * Drive an analysis from a source: blocks -> frames -> hop results. Live sources carry their
+ * stream time on the blocks (sources/stream-clock.ts); a hop takes the time of the block that
+ * completed its frame. Returns the number of hops.
  */
-export async function runAnalysis(
-  source: AudioSource,
-  analyzer: HopAnalyzer,
-  onHop: (r: HopResult) => void | Promise<void>,
-  onProgress?: (framesDone: number) => void,
-): Promise<number> {
+export async function runAnalysis(source: AudioSource, analyzer: HopAnalyzer, handlers: StreamHandlers): Promise<number> {
   const framer = new Framer(analyzer.channels, analyzer.frame, analyzer.hop);
+  const rate = analyzer.sampleRate;
+  const time: HopTime = { timeS: 0, epochMs: null };
+  let offsetS = 0;
   let hops = 0;
   let done = 0;
   const pending: Promise<void>[] = [];
+  const keep = (out: void | Promise<void>): void => {
+    if (out) pending.push(out);
+  };
   for await (const block of source.blocks()) {
+    if (block.time) {
+      offsetS = block.time.startS - done / rate;
+      time.epochMs = block.time.epochMs;
+      if (block.time.gapBefore) keep(handlers.onGap?.(block.time.gapBefore, block.time.epochMs));
+    }
     framer.push(block.channels, block.length, (frames) => {
-      const out = onHop(analyzer.process(frames));
+      const r = analyzer.process(frames);
+      time.timeS = r.timeS + offsetS;
+      keep(handlers.onHop(r, time));
       hops++;
-      if (out) pending.push(out);
     });
     if (pending.length) {
       await Promise.all(pending);
       pending.length = 0;
     }
     done += block.length;
-    onProgress?.(done);
+    handlers.onProgress?.(done);
   }
   return hops;
 }

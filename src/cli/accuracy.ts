@@ -9,6 +9,7 @@ import { Framer } from '../dsp/framer.js';
 import { UsageError } from '../util/errors.js';
 import { loadGeometryFile } from '../geometry/geometry-file.js';
 import type { FrameRecord } from '../records/record-types.js';
+import { callbackSink } from '../sinks/record-sink.js';
 import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
 import { flagOption, textOption, type OptionSpec } from '../options/option-spec.js';
 import { resolveArray, resolveSpeed } from './geometry-option.js';
@@ -60,7 +61,7 @@ export async function measureAccuracy(wav: string, cmd: Command): Promise<Accura
     speedOfSound: c,
     stages,
     progress: true,
-    outputs: { onFrame: (rec) => void frames.push(rec) },
+    sink: callbackSink('the accuracy score', { frame: (rec) => void frames.push(rec) }),
     onSetup: (setup) => {
       const { frame, hop } = setup.options;
       const fs = setup.analyzer.sampleRate;

@@ -11,6 +11,7 @@ import { loadGeometryFile } from '../geometry/geometry-file.js';
 import { resolveAnalysisOptions } from '../analysis/analysis-options.js';
 import { bearingOf } from '../records/frame-record.js';
 import type { EventRecord } from '../records/record-types.js';
+import { callbackSink, fanOut } from '../sinks/record-sink.js';
 import { demoScenePath, loadSceneFile } from '../sim/scene.js';
 import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
 import { flagOption, textOption, type OptionSpec } from '../options/option-spec.js';
@@ -161,14 +162,15 @@ async function runDemo(cmd: Command): Promise<void> {
       speedOfSound: c,
       stages,
       viewerFields: feed !== null,
-      outputs: {
-        onFrame: feed ? (rec) => feed!.sendFrame(rec) : undefined,
-        onEvent: (rec) => {
-          events.push(rec);
-          feed?.sendEvent(rec);
-          process.stdout.write(eventLine(rec, heading) + '\n');
-        },
-      },
+      sink: fanOut([
+        callbackSink('the terminal', {
+          event: (rec) => {
+            events.push(rec);
+            process.stdout.write(eventLine(rec, heading) + '\n');
+          },
+        }),
+        ...(feed ? [feed] : []),
+      ]),
       onSetup: () => ({ realTime: !flags.fast, stopped: () => stopped }),
     });
     const doneS = (result.hops * result.setup.options.hop) / result.sampleRate;

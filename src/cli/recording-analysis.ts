@@ -9,7 +9,8 @@ import { stderrWarning } from '../util/stderr-warning.js';
 import { replaySource, type ReplayControls } from '../sources/replay-source.js';
 import { openWavSource } from '../sources/wav-source.js';
 import { createAnalysis, runAnalysis, type AnalysisSetup } from '../analysis/analysis.js';
-import { TrackingSession, type SessionOutputs } from '../track/tracking-session.js';
+import type { RecordSink } from '../sinks/record-sink.js';
+import { TrackingSession } from '../track/tracking-session.js';
 import type { AnalysisOptions } from '../analysis/analysis-options.js';
 import type { TrackerOptions } from '../track/options.js';
 import { createProgress } from './progress.js';
@@ -21,7 +22,8 @@ export interface RecordingAnalysis {
   readonly stages: { analysis: AnalysisOptions; tracker: Partial<TrackerOptions> };
   /** Frame records carry the viewer's fields (levels, band votes). */
   readonly viewerFields?: boolean;
-  readonly outputs: SessionOutputs;
+  /** Where the frame and event records go. */
+  readonly sink: RecordSink;
   /** Told the analysis setup before the first hop (e.g. to size a tap on the blocks). */
   readonly onSetup?: (setup: AnalysisSetup) => ReplayControls;
   /** Show a progress bar on a terminal. */
@@ -42,20 +44,12 @@ export async function analyseRecording(job: RecordingAnalysis): Promise<Recordin
     if (channels < 2) throw new UsageError(`${job.wav} has one channel: direction finding needs at least two (one per mic)`);
     checkGeometryForStream(job.geometry, channels, sampleRate, job.speedOfSound, job.wav);
     const setup = createAnalysis(job.geometry, sampleRate, job.speedOfSound, job.stages.analysis, job.wav);
-    const settings = {
-      headingDeg: job.geometry.headingDeg,
-      mirror: setup.model.mirror,
-      pairs: setup.model.pairs,
-      maxSources: setup.options.maxSources,
-      diagnostics: false,
-      viewerFields: !!job.viewerFields,
-    };
-    const session = new TrackingSession(settings, job.stages.tracker, { onWarning: stderrWarning, ...job.outputs }, setup.checks);
+    const session = TrackingSession.of(setup, job.stages.tracker, job.sink, { viewerFields: !!job.viewerFields, onWarning: stderrWarning });
     const controls = job.onSetup?.(setup) ?? {};
     const progress = job.progress ? createProgress(`scanning ${job.wav}`, totalFrames, sampleRate) : null;
     let hops: number;
     try {
-      hops = await runAnalysis(replaySource(source, controls), setup.analyzer, (r) => session.hop(r), (done) => progress?.update(done));
+      hops = await runAnalysis(replaySource(source, controls), setup.analyzer, { onHop: (r) => session.hop(r), onProgress: (done) => progress?.update(done) });
       await session.finish();
     } finally {
       progress?.finish();

@@ -8,23 +8,23 @@ import { checkGeometryForStream } from '../geometry/geometry-file.js';
 import type { AudioSource } from '../sources/audio-source.js';
 import { pacedSource, paceOptionSpecs } from '../sources/paced-source.js';
 import { openPcmStreamSource } from '../sources/pcm-stream-source.js';
-import { abandonOnSignal, planOutput } from '../sinks/output-target.js';
+import { abandonOnSignal, planOutput, type OutputTarget } from '../sinks/output-target.js';
+import { fanOut } from '../sinks/record-sink.js';
 import { RecordWriter, type RecordFormat } from '../sinks/record-writer.js';
 import { replacedSamplesLine } from '../sources/replaced-samples-report.js';
 import { stderrWarning } from '../util/stderr-warning.js';
 import { openWavSource } from '../sources/wav-source.js';
-import { createAnalysis, runAnalysis } from '../analysis/analysis.js';
+import { createAnalysis, runAnalysis, type AnalysisSetup } from '../analysis/analysis.js';
 import { eventColumns } from '../records/event-columns.js';
 import { frameColumns } from '../records/frame-columns.js';
 import { TrackingSession } from '../track/tracking-session.js';
-import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import { formatSummaryTable } from '../track/summary-table.js';
 import { choiceOption, flagOption, textOption, withDefault, type OptionSpec } from '../options/option-spec.js';
 import { CHANNELS_SPEC, RATE_SPEC } from '../sources/stream-options.js';
 import { resolveArray, resolveSpeed } from './geometry-option.js';
 import { addAnalysisOptions, resolveStageSettings } from './analysis-flags.js';
 import { addOptions, readOptions } from './options.js';
-import { addFeedOptions, alsoToFeed, resolveServe } from './serve-flags.js';
+import { addFeedOptions, resolveServe } from './serve-flags.js';
 import { createProgress } from './progress.js';
 import { action } from './run-command.js';
 
@@ -119,32 +119,17 @@ async function scan(file: string | undefined, cmd: Command): Promise<void> {
     checkGeometryForStream(geometry, channels, sampleRate, c, where);
     const setup = createAnalysis(geometry, sampleRate, c, stages.analysis, where);
     setup.analyzer.diagnostics = v.diagnostics;
-    const settings = {
-      headingDeg: geometry.headingDeg,
-      mirror: setup.model.mirror,
-      pairs: setup.model.pairs,
-      maxSources: setup.options.maxSources,
-      diagnostics: v.diagnostics,
-      viewerFields: v.viewerFields || feedOptions !== null,
-    };
     if (feedOptions) feed = await startViewerFeed(feedOptions, setup.geometry, sampleRate, setup.options.hop);
-    const withBearing = geometry.headingDeg !== null;
-    const frameWriter = v.frames ? RecordWriter.open<FrameRecord>(target, v.format, frameColumns(setup.model.pairs, withBearing)) : null;
-    const eventWriter = v.frames ? null : RecordWriter.open<EventRecord>(target, v.format, eventColumns());
-    const writer = frameWriter ?? eventWriter!;
+    const writer = openWriter(target, v, setup);
     // From here on, any failure (or Ctrl-C) abandons the partial file: the old file at --out stays as it was.
     const undoSignals = target ? abandonOnSignal(target) : () => undefined;
     try {
-      const outputs = {
-        onFrame: frameWriter ? (rec: FrameRecord) => frameWriter.write(rec) : undefined,
-        onEvent: eventWriter ? (rec: EventRecord) => eventWriter.write(rec) : undefined,
-        onWarning: stderrWarning,
-      };
-      const session = new TrackingSession(settings, stages.tracker, feed ? alsoToFeed(feed, outputs) : outputs, setup.checks);
+      const sink = feed ? fanOut([writer, feed]) : writer;
+      const session = TrackingSession.of(setup, stages.tracker, sink, { diagnostics: v.diagnostics, viewerFields: v.viewerFields || feed !== null, onWarning: stderrWarning });
       const progress = createProgress(`scanning ${file ?? 'stdin'}`, totalFrames, sampleRate);
       let hops: number;
       try {
-        hops = await runAnalysis(source, setup.analyzer, (r) => session.hop(r), (done) => progress.update(done));
+        hops = await runAnalysis(source, setup.analyzer, { onHop: (r, time) => session.hop(r, time), onProgress: (done) => progress.update(done) });
         await session.finish();
       } finally {
         progress.finish();
@@ -172,6 +157,13 @@ async function scan(file: string | undefined, cmd: Command): Promise<void> {
 }
 
 const SERVE_BLOCK_FRAMES = 1024;
+
+/** Frame records with --frames, else event records; JSON Lines or CSV. */
+function openWriter(target: OutputTarget | null, v: ScanValues, setup: AnalysisSetup): RecordWriter {
+  if (v.format === 'jsonl') return RecordWriter.jsonLines(target, v.frames ? { frames: true } : { events: true });
+  if (v.frames) return RecordWriter.csvFrames(target, frameColumns(setup.model.pairs, setup.geometry.headingDeg !== null));
+  return RecordWriter.csvEvents(target, eventColumns());
+}
 
 /** Start the viewer's feed and wait for the first viewer, so that it sees the replay from its start. */
 async function startViewerFeed(options: FeedOptions, geometry: ArrayGeometry, sampleRate: number, hop: number): Promise<FeedServer> {

@@ -1,8 +1,6 @@
 import type { Command } from 'commander';
 import { feedOptionSpecs, resolveFeedOptions, type FeedOptions } from '../feed/feed-options.js';
-import type { FeedServer } from '../feed/feed-server.js';
 import { flagOption, type OptionSpec } from '../options/option-spec.js';
-import type { SessionOutputs } from '../track/tracking-session.js';
 import { addOptions, givenFlags, givenOptions, refuseStray } from './options.js';
 
 export const SERVE_SPEC = flagOption('serve', 'serve', false, 'serve the live polar view and its WebSocket feed (see --feed-*)');
@@ -21,20 +19,4 @@ export function resolveServe(cmd: Command, serve: boolean, serveOnly: readonly O
 
 export function addFeedOptions(cmd: Command): Command {
   return addOptions(cmd, feedOptionSpecs);
-}
-
-/** A session's outputs that also send every frame and event to the feed (frames for the feed even when no file wants them). */
-export function alsoToFeed(feed: FeedServer, outputs: SessionOutputs): SessionOutputs {
-  const { onFrame, onEvent } = outputs;
-  return {
-    ...outputs,
-    onFrame: (rec) => {
-      feed.sendFrame(rec);
-      return onFrame?.(rec);
-    },
-    onEvent: (rec) => {
-      feed.sendEvent(rec);
-      return onEvent?.(rec);
-    },
-  };
 }

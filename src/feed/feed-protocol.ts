@@ -4,6 +4,7 @@
  * Viewer to server: ping, subscribe. Pure: builds and reads messages, no I/O.
  */
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
+import type { GapRecord } from '../records/gap-record.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
 
 export const FEED_PROTOCOL = 1;
@@ -25,14 +26,6 @@ export interface HelloMessage {
   settings: FeedSettings;
 }
 
-/** A stretch of the stream that capture lost (device overrun, restart): times in stream seconds. */
-export interface CaptureGap {
-  start_s: number;
-  end_s: number;
-  reason?: string;
-  utc?: string;
-}
-
 /** Sent about once a second to a viewer whose frames were dropped since the last one. */
 export interface StatusMessage {
   type: 'status';
@@ -45,7 +38,7 @@ export type ServerMessage =
   | HelloMessage
   | ({ type: 'frame' } & FrameRecord)
   | ({ type: 'event' } & EventRecord)
-  | ({ type: 'gap' } & CaptureGap)
+  | ({ type: 'gap' } & GapRecord)
   | StatusMessage
   | { type: 'pong'; id: string | number | null };
 
@@ -70,7 +63,8 @@ export function eventMessage(rec: EventRecord): string {
   return JSON.stringify({ type: 'event', ...rec });
 }
 
-export function gapMessage(gap: CaptureGap): string {
+/** A stretch of live audio that capture lost: the gap record (records/gap-record.ts) with its type. */
+export function gapMessage(gap: GapRecord): string {
   return JSON.stringify({ type: 'gap', ...gap });
 }
 

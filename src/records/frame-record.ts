@@ -29,11 +29,11 @@ export function bearingOf(azimuthDeg: number, headingDeg: number): number {
 
 const sig = (x: number): number | null => (Number.isFinite(x) ? Number(x.toPrecision(7)) : null);
 
-/** Turn a hop's result into the frame record of interface.md. */
-export function toFrameRecord(r: HopResult, s: FrameRecordSettings): FrameRecord {
+/** Turn a hop's result into the frame record of interface.md; `timeS` is its stream time (a live stream's, which keeps step with the wall clock). */
+export function toFrameRecord(r: HopResult, s: FrameRecordSettings, timeS: number = r.timeS): FrameRecord {
   const top = r.valid ? r.sources[0]! : null;
   const rec: FrameRecord = {
-    time_s: round(r.timeS, 4),
+    time_s: round(timeS, 4),
     azimuth_deg: top ? round(top.azimuthDeg, 2) : null,
     elevation_deg: top && top.elevationDeg !== null ? round(top.elevationDeg, 2) : null,
     confidence: round(r.confidence, 3),

@@ -1,4 +1,3 @@
-import type { CaptureGap } from '../feed/feed-protocol.js';
 import { round } from './frame-record.js';
 
 /**
@@ -18,11 +17,4 @@ export function gapRecord(startS: number, lostS: number, reason: string, utc?: s
   const rec: GapRecord = { gap: reason, start_s: round(startS, 4), end_s: round(startS + lostS, 4) };
   if (utc !== undefined) rec.utc = utc;
   return rec;
-}
-
-/** The same hole as the feed's gap message carries it. */
-export function captureGapOf(rec: GapRecord): CaptureGap {
-  const gap: CaptureGap = { start_s: rec.start_s, end_s: rec.end_s, reason: rec.gap };
-  if (rec.utc !== undefined) gap.utc = rec.utc;
-  return gap;
 }

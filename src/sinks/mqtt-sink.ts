@@ -2,19 +2,22 @@ import { join } from 'node:path';
 import mqtt, { type IClientOptions, type MqttClient } from 'mqtt';
 import { UsageError } from '../util/errors.js';
 import { stderrWarning } from '../util/stderr-warning.js';
+import type { GapRecord } from '../records/gap-record.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
+import type { RecordSink } from './record-sink.js';
 import { validateStationId } from '../station/station-id.js';
 import { DiskQueue, type QueueItem } from './disk-queue.js';
 import { DEFAULT_MQTT_QUEUE_DIR, resolveMqttOptions, type MqttOptions } from './mqtt-options.js';
 
 /**
  * MQTT sink for fleets of stations. Topics (STATION = the station id):
- *   bearline/STATION/events  one message per event, QoS 1, JSON: {"seq": N, "station": ..., ...event}
+ *   bearline/STATION/events  one message per event or capture gap, QoS 1, JSON:
+ *                            {"seq": N, "station": ..., ...event} or {"seq": N, "station": ..., "gap": why, ...}
  *   bearline/STATION/frames  one message per hop, QoS 0 (only with --mqtt-frames; never queued)
  *   bearline/STATION/status  retained: {"station", "state": "online"|"offline", "utc", ...};
  *                            the broker sends the "offline" one as the last will when the
  *                            station vanishes without saying goodbye.
- * `seq` grows by one per event and survives restarts, so subscribers can spot gaps and drop
+ * `seq` grows by one per message and survives restarts, so subscribers can spot losses and drop
  * repeats. While the broker is unreachable, events wait in a disk-backed queue and go out in
  * order when it is back; each leaves the queue only after the broker's PUBACK.
  */
@@ -46,7 +49,7 @@ export interface MqttSinkStats {
 /** Events sent at once before waiting for acknowledgements. */
 const WINDOW = 16;
 
-export class MqttSink {
+export class MqttSink implements RecordSink {
   readonly options: MqttOptions;
   readonly topics: ReturnType<typeof stationTopics>;
   readonly name: string;
@@ -57,6 +60,8 @@ export class MqttSink {
   private readonly drainMs: number;
   private sending = 0;
   private delivered = 0;
+  /** The seq of the newest event or gap queued (0 before the first in this run). */
+  lastSeq = 0;
   private outage = false;
   private closing = false;
   private idleWaiters: (() => void)[] = [];
@@ -122,15 +127,27 @@ export class MqttSink {
     }
   }
 
-  /** Queue an event (on disk, fsynced) and send it when the broker is there. Returns its seq. */
-  publishEvent(event: EventRecord): number {
-    const item = this.queue.push((seq) => JSON.stringify({ seq, station: this.station, ...event }));
+  get wantsFrames(): boolean {
+    return this.options.mqttFrames;
+  }
+
+  /** Queue an event (on disk, fsynced) and send it when the broker is there. */
+  event(event: EventRecord): void {
+    this.enqueue(event);
+  }
+
+  /** A gap goes where the events go, in order with them (told apart by its "gap" field, as in listen's output). */
+  gap(gap: GapRecord): void {
+    this.enqueue(gap);
+  }
+
+  private enqueue(rec: EventRecord | GapRecord): void {
+    this.lastSeq = this.queue.push((seq) => JSON.stringify({ seq, station: this.station, ...rec })).seq;
     this.pump();
-    return item.seq;
   }
 
   /** Send a frame now if connected (QoS 0); frames are never queued. */
-  publishFrame(frame: FrameRecord): void {
+  frame(frame: FrameRecord): void {
     if (!this.options.mqttFrames || !this.client.connected) return;
     this.client.publish(this.topics.frames, JSON.stringify({ station: this.station, ...frame }), { qos: 0 });
   }

@@ -9,12 +9,13 @@ import { frameColumns } from '../records/frame-columns.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import { formatByteSize } from '../util/byte-size.js';
 import { validateStationId } from '../station/station-id.js';
+import type { RecordSink } from './record-sink.js';
 import { resolveRecordLogOptions, type LogFormat, type RecordLogOptions } from './record-log-options.js';
 import { jsonObjectLine, LineFile, type LineFileFs, realFs, repairTail, type TailRepair } from './line-file.js';
 import { csvFieldCount, csvHeader, csvRow, type CsvColumn } from '../records/csv.js';
 
 /**
- * Log sink for frame and event records: JSON Lines (or CSV) files in one directory.
+ * Log sink for frame, event and gap records: JSON Lines (or CSV) files in one directory.
  *
  * File names: STATION.KIND.YYYYMMDDTHHMMSSZ[_NNN].EXT, e.g. marsh-east.events.20250614T213000Z.jsonl,
  * where the time is the UTC time the file was opened and _001, _002, ... separate files opened
@@ -161,7 +162,7 @@ const GAP_COLUMNS: CsvColumn<GapRecord>[] = [
   { name: 'utc', get: (r) => r.utc },
 ];
 
-export class RecordLog {
+export class RecordLog implements RecordSink {
   readonly options: RecordLogOptions;
   readonly dir: string;
   /** For the shutdown helper's messages. */
@@ -234,20 +235,24 @@ export class RecordLog {
     }
   }
 
-  writeFrame(record: FrameRecord): void {
+  get wantsFrames(): boolean {
+    return this.options.logFrames;
+  }
+
+  frame(record: FrameRecord): void {
     if (!this.options.logFrames) return;
     if (this.options.logFormat === 'jsonl') return this.write('frames', JSON.stringify(record), '');
     this.frameCols ??= frameColumns(pairsForCount(record.tdoa_s.length), record.bearing_deg !== undefined);
     this.write('frames', csvRow(this.frameCols, record), this.headerOf('frames', this.frameCols));
   }
 
-  writeEvent(record: EventRecord): void {
+  event(record: EventRecord): void {
     if (this.options.logFormat === 'jsonl') return this.write('events', JSON.stringify(record), '');
     this.write('events', csvRow(this.eventCols, record), this.headerOf('events', this.eventCols));
   }
 
   /** A capture gap (a stretch of lost audio), in its own log files next to the events. */
-  writeGap(record: GapRecord): void {
+  gap(record: GapRecord): void {
     if (this.options.logFormat === 'jsonl') return this.write('gaps', JSON.stringify(record), '');
     this.write('gaps', csvRow(GAP_COLUMNS, record), this.headerOf('gaps', GAP_COLUMNS));
   }

@@ -2,18 +2,31 @@ import { createWriteStream, type WriteStream } from 'node:fs';
 import { finished } from 'node:stream/promises';
 import { RuntimeFailure } from '../util/errors.js';
 import { csvHeader, csvRow, type CsvColumn } from '../records/csv.js';
+import type { GapRecord } from '../records/gap-record.js';
+import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import { abandonOutput, commitOutput, openOutputFd, type OutputTarget } from './output-target.js';
+import type { RecordSink, SinkResult } from './record-sink.js';
 
 export type RecordFormat = 'jsonl' | 'csv';
 
+/** How each record kind becomes a line; a kind without one is not written by this writer. */
+interface Lines {
+  readonly frame: ((rec: FrameRecord) => string) | null;
+  readonly event: ((rec: EventRecord) => string) | null;
+  readonly gap: ((rec: GapRecord) => string) | null;
+}
+
+const json = (rec: object): string => JSON.stringify(rec);
+
 /**
- * Writes records as JSON Lines or CSV to stdout or to an output planned by planOutput
+ * A record sink that writes JSON Lines or CSV to stdout or to an output planned by planOutput
  * (output-target.ts): a file is written aside and renamed over its target only by close();
  * abandon() deletes the partial file (the target keeps what it held); keepAside() stops and
  * leaves the partial file where it is (for records that exist nowhere else, e.g. live capture).
- * A FIFO or device is written straight through.
+ * A FIFO or device is written straight through. JSON Lines may mix kinds (events and gaps,
+ * with frames or without); a CSV file holds one kind under its header.
  */
-export class RecordWriter<T extends object> {
+export class RecordWriter implements RecordSink {
   private readonly stream: NodeJS.WritableStream;
   private readonly file: WriteStream | null;
   private failed: Error | null = null;
@@ -26,8 +39,9 @@ export class RecordWriter<T extends object> {
 
   private constructor(
     readonly target: OutputTarget | null,
-    readonly format: RecordFormat,
-    private readonly columns: readonly CsvColumn<T>[],
+    private readonly lines: Lines,
+    /** The CSV header line, written before the first record (or at close when there is none); null for JSON Lines. */
+    private readonly header: string | null,
   ) {
     if (target === null) {
       this.file = null;
@@ -44,9 +58,19 @@ export class RecordWriter<T extends object> {
     }
   }
 
-  /** Records to `target`, or to stdout when it is null. */
-  static open<T extends object>(target: OutputTarget | null, format: RecordFormat, columns: readonly CsvColumn<T>[]): RecordWriter<T> {
-    return new RecordWriter<T>(target, format, columns);
+  /** JSON Lines of the kinds asked for, to `target` or to stdout when it is null. */
+  static jsonLines(target: OutputTarget | null, kinds: { frames?: boolean; events?: boolean; gaps?: boolean }): RecordWriter {
+    return new RecordWriter(target, { frame: kinds.frames ? json : null, event: kinds.events ? json : null, gap: kinds.gaps ? json : null }, null);
+  }
+
+  /** CSV of frame records. */
+  static csvFrames(target: OutputTarget | null, columns: readonly CsvColumn<FrameRecord>[]): RecordWriter {
+    return new RecordWriter(target, { frame: (r) => csvRow(columns, r), event: null, gap: null }, csvHeader(columns));
+  }
+
+  /** CSV of event records. */
+  static csvEvents(target: OutputTarget | null, columns: readonly CsvColumn<EventRecord>[]): RecordWriter {
+    return new RecordWriter(target, { frame: null, event: (r) => csvRow(columns, r), gap: null }, csvHeader(columns));
   }
 
   /** What the records go to, for messages. */
@@ -54,20 +78,31 @@ export class RecordWriter<T extends object> {
     return this.target?.path ?? 'stdout';
   }
 
-  /** Write one record; returns a promise only when the output asks to wait (back-pressure). */
-  write(rec: T): Promise<void> | undefined {
+  get wantsFrames(): boolean {
+    return this.lines.frame !== null;
+  }
+
+  frame(rec: FrameRecord): SinkResult {
+    return this.lines.frame ? this.writeLine(this.lines.frame(rec)) : undefined;
+  }
+
+  event(rec: EventRecord): SinkResult {
+    return this.lines.event ? this.writeLine(this.lines.event(rec)) : undefined;
+  }
+
+  gap(rec: GapRecord): SinkResult {
+    return this.lines.gap ? this.writeLine(this.lines.gap(rec)) : undefined;
+  }
+
+  /** Write one line; returns a promise only when the output asks to wait (back-pressure). */
+  private writeLine(text: string): Promise<void> | undefined {
     if (this.failed) throw this.failure();
     this.records++;
-    let line: string;
-    if (this.format === 'jsonl') line = JSON.stringify(rec) + '\n';
-    else {
-      if (!this.headerDone) {
-        this.stream.write(csvHeader(this.columns) + '\n');
-        this.headerDone = true;
-      }
-      line = csvRow(this.columns, rec) + '\n';
+    if (this.header !== null && !this.headerDone) {
+      this.stream.write(this.header + '\n');
+      this.headerDone = true;
     }
-    if (this.stream.write(line)) return this.draining ?? undefined;
+    if (this.stream.write(text + '\n')) return this.draining ?? undefined;
     // One wait per full buffer, however many records are written before it drains. A stream
     // that fails never drains: the wait ends then too, and the next write or close() throws.
     this.draining ??= new Promise<void>((res) => {
@@ -103,8 +138,8 @@ export class RecordWriter<T extends object> {
    * as a RuntimeFailure and the partial file is left for abandon() or keepAside().
    */
   async close(): Promise<void> {
-    if (this.format === 'csv' && !this.headerDone && !this.failed) {
-      this.stream.write(csvHeader(this.columns) + '\n');
+    if (this.header !== null && !this.headerDone && !this.failed) {
+      this.stream.write(this.header + '\n');
       this.headerDone = true;
     }
     await this.end();

@@ -14,8 +14,30 @@ export interface AudioFormat {
 export interface AudioBlock {
   /** One array per channel, all the same length. The arrays may be reused by the next block. */
   readonly channels: readonly Float32Array[];
-  /** Number of valid frames in each channel array (may be less than the array length). */
+  /** Number of valid frames in each channel array (may be less than the array length; 0 for a block that only marks a gap). */
   readonly length: number;
+  /** Live sources only: where the block sits in live stream time. Absent for files. */
+  readonly time?: BlockTime;
+}
+
+/**
+ * Live stream time (stream-clock.ts): it keeps step with the wall clock, so after audio is lost
+ * it jumps by the seconds lost, and the UTC of stream time t is epochMs + 1000 t.
+ */
+export interface BlockTime {
+  /** Stream time (s) of the block's first frame. */
+  readonly startS: number;
+  /** Wall-clock time (ms since the epoch) of stream time 0. */
+  readonly epochMs: number;
+  /** Audio lost just before this block (a recorder restart, a dropped backlog). */
+  readonly gapBefore?: StreamGap;
+}
+
+/** A hole in a live stream, in stream time: from fromS, lostS seconds of audio (0 when not known). */
+export interface StreamGap {
+  readonly reason: string;
+  readonly fromS: number;
+  readonly lostS: number;
 }
 
 export interface AudioSource {

@@ -3,6 +3,7 @@ import { RuntimeFailure } from '../util/errors.js';
 import type { AudioBlock, AudioSource, WarningSink } from './audio-source.js';
 import { FrameAssembler } from './frame-assembler.js';
 import { checkOptionValue } from '../options/option-spec.js';
+import { StreamClock } from './stream-clock.js';
 import { CHANNELS_SPEC, checkBlockFrames, RATE_SPEC } from './stream-options.js';
 import { stderrWarning } from '../util/stderr-warning.js';
 
@@ -15,6 +16,12 @@ export interface PcmStreamOptions {
   onWarning?: WarningSink;
   /** What to call the stream in messages (default 'stdin'). */
   name?: string;
+  /**
+   * A live stream: blocks carry live stream time (stream-clock.ts), taken to run in real time
+   * from the audio that has arrived when the first block is complete. The clock (ms since the
+   * epoch, default Date.now) is read then.
+   */
+  live?: { clock?: () => number };
 }
 
 
@@ -35,6 +42,18 @@ export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): A
   let started = false;
   let closed = false;
 
+  const clock = opts.live ? new StreamClock(sampleRate) : null;
+  let framesOut = 0;
+  /** The assembled block, with its live stream time when the stream is live. */
+  const emit = (): AudioBlock => {
+    const block = assembler.emit();
+    const first = framesOut;
+    framesOut += block.length;
+    if (!clock) return block;
+    if (!clock.started) clock.beginRun(first, (opts.live?.clock ?? Date.now)() - (block.length / sampleRate) * 1000);
+    return { channels: block.channels, length: block.length, time: { startS: clock.streamTime(first / sampleRate), epochMs: clock.epochMs } };
+  };
+
   async function* blocks(): AsyncGenerator<AudioBlock> {
     if (started) throw new Error('openPcmStreamSource: blocks() may be called only once');
     started = true;
@@ -45,7 +64,7 @@ export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): A
         let at = 0;
         while (at < chunk.length) {
           at = assembler.take(chunk, at);
-          if (assembler.full) yield assembler.emit();
+          if (assembler.full) yield emit();
         }
       }
     } catch (err) {
@@ -54,7 +73,7 @@ export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): A
     }
     const partial = assembler.discardPartialFrame();
     if (partial > 0) warn(`${name} ended inside a frame (${partial} of ${assembler.frameBytes} bytes); the partial frame is dropped`);
-    if (assembler.heldFrames > 0) yield assembler.emit();
+    if (assembler.heldFrames > 0) yield emit();
   }
 
   return {

@@ -2,38 +2,31 @@ import type { ChildProcess } from 'node:child_process';
 import { endianness } from 'node:os';
 import lpcm16, { type Recording } from 'node-record-lpcm16';
 import { RuntimeFailure, UsageError } from '../util/errors.js';
-import type { AudioBlock, AudioSource, WarningSink } from './audio-source.js';
+import type { AudioBlock, AudioSource, StreamGap, WarningSink } from './audio-source.js';
 import { FrameAssembler } from './frame-assembler.js';
 import type { RecorderOptions } from './recorder-options.js';
 import { DEFAULT_RESTART_TIMING, RestartPolicy, type RestartTiming } from './restart-policy.js';
 import { stderrWarning } from '../util/stderr-warning.js';
+import { StreamClock } from './stream-clock.js';
 import { checkBlockFrames } from './stream-options.js';
 
 /**
  * Live capture through node-record-lpcm16, which builds the command line of sox, rec or
  * arecord (raw signed 16-bit, the requested rate and channel count) and spawns it. Around
  * it this source adds what an all-night station needs: a stall detector, restarts with
- * exponential back-off, gap reports, a bounded queue, and the wall-clock time of the
- * first sample. See the report in the commit that added it for the package's limits.
+ * exponential back-off, a bounded queue, and live stream time on every block, with the holes
+ * (restarts, a dropped backlog) marked on the block after them. See the report in the commit
+ * that added it for the package's limits.
  */
-
-/** A hole in the live stream: audio before `atFrame` and after it are not contiguous. */
-export interface RecorderGap {
-  /** Index (from the start of the stream) of the first frame after the gap. */
-  readonly atFrame: number;
-  /** What happened, for the log, e.g. "no audio from arecord for 2 s". */
-  readonly reason: string;
-  /** Seconds until the recorder is started again (0 when it keeps running). */
-  readonly retryInS: number;
-}
 
 export interface RecorderHooks {
   /** Frames per block (default 4096). */
   blockFrames?: number;
-  onGap?: (gap: RecorderGap) => void;
   onWarning?: WarningSink;
   /** Back-off timing; the defaults (0.5 s doubling to 30 s, reset after 60 s healthy) are the design's. */
   timing?: Partial<RecorderTiming>;
+  /** Milliseconds since the epoch (default Date.now): when audio arrives. */
+  clock?: () => number;
 }
 
 export interface RecorderTiming extends RestartTiming {
@@ -48,13 +41,6 @@ export interface RecorderTiming extends RestartTiming {
 const DEFAULT_TIMING: RecorderTiming = { ...DEFAULT_RESTART_TIMING, drainGraceS: 1, killGraceS: 2, maxQueueS: 10 };
 
 export interface RecorderSource extends AudioSource {
-  /** Wall-clock time of the first sample (estimated from its arrival), null before it arrives. */
-  readonly startedAt: Date | null;
-  /**
-   * Where the current run of the recorder began: its first frame's index and wall-clock
-   * time. The utc of frame f is at + (f - frame) / sampleRate; null before audio arrives.
-   */
-  readonly segment: { readonly frame: number; readonly at: Date } | null;
   /** Restarts so far. */
   readonly restarts: number;
 }
@@ -65,8 +51,120 @@ const INSTALL_HINT: Readonly<Record<RecorderOptions['recorder'], string>> = {
   arecord: 'apt-get install alsa-utils',
 };
 
-type Marker = { readonly kind: 'start'; readonly at: Date } | { readonly kind: 'drop'; seconds: number; skipBytes: number };
+/** A run of the recorder began, its first sample captured at `atMs`; or queued audio was dropped. */
+type Marker = { readonly kind: 'start'; readonly atMs: number } | { readonly kind: 'drop'; seconds: number; skipBytes: number };
 type QueueItem = Uint8Array | Marker;
+
+/**
+ * What the recorder's output becomes until the analysis asks for it: its chunks, and a marker
+ * where each run begins. Bounded: beyond maxBytes (the analysis fell behind) the queued audio
+ * is dropped and a marker says how much.
+ */
+class CaptureQueue {
+  private readonly items: QueueItem[] = [];
+  private bytes = 0;
+  /** Bytes received from the current run, dropped ones included. */
+  private runBytes = 0;
+  /** Wall-clock ms of the current run's first audio, 0 before it. */
+  private runFirstAudio = 0;
+
+  constructor(
+    private readonly frameBytes: number,
+    private readonly bytesPerSecond: number,
+    private readonly maxBytes: number,
+    private readonly policy: RestartPolicy,
+  ) {}
+
+  get length(): number {
+    return this.items.length;
+  }
+
+  /** A new run of the recorder is starting. */
+  newRun(): void {
+    this.runBytes = 0;
+    this.runFirstAudio = 0;
+  }
+
+  /** Seconds the current run has delivered audio for (0 before any). */
+  healthyForS(nowMs: number): number {
+    return this.runFirstAudio === 0 ? 0 : (nowMs - this.runFirstAudio) / 1000;
+  }
+
+  push(chunk: Uint8Array, nowMs: number): void {
+    if (this.runFirstAudio === 0) {
+      this.runFirstAudio = nowMs;
+      // its first sample was captured one chunk ago
+      this.items.push({ kind: 'start', atMs: nowMs - (chunk.length / this.bytesPerSecond) * 1000 });
+    } else {
+      this.policy.onAudio(this.healthyForS(nowMs));
+    }
+    this.runBytes += chunk.length;
+    this.items.push(chunk);
+    this.bytes += chunk.length;
+    if (this.bytes > this.maxBytes) this.dropQueued();
+  }
+
+  shift(): QueueItem | undefined {
+    const item = this.items.shift();
+    if (item instanceof Uint8Array) this.bytes -= item.length;
+    return item;
+  }
+
+  /** The analysis fell behind: drop the queued audio, keep one marker in its place (and the run markers). */
+  private dropQueued(): void {
+    const kept = this.items.filter((item): item is Marker => !(item instanceof Uint8Array) && item.kind === 'start');
+    const seconds = this.bytes / this.bytesPerSecond;
+    this.items.length = 0;
+    this.items.push(...kept, { kind: 'drop', seconds, skipBytes: (this.frameBytes - (this.runBytes % this.frameBytes)) % this.frameBytes });
+    this.bytes = 0;
+  }
+}
+
+function droppedReason(seconds: number): string {
+  return `the analysis fell behind the live audio; dropped ${seconds.toFixed(1)} s`;
+}
+
+/**
+ * Live stream time of the blocks (stream-clock.ts): each block is stamped with its stream
+ * time, and the first block after a hole carries the hole.
+ */
+class BlockStamper {
+  private readonly clock: StreamClock;
+  /** A run ended here (stream time) for this reason; the hole is known when the next run begins. */
+  private pending: { reason: string; fromS: number } | null = null;
+  private gap: StreamGap | null = null;
+
+  constructor(private readonly rate: number) {
+    this.clock = new StreamClock(rate);
+  }
+
+  /** The recorder stopped after `frame` frames were delivered. */
+  runEnded(frame: number, reason: string): void {
+    this.pending = { reason, fromS: this.clock.streamTime(frame / this.rate) };
+  }
+
+  /** A run begins at frame `frame`, its first sample captured at `atMs`. */
+  runStarted(frame: number, atMs: number): void {
+    const lostS = this.clock.beginRun(frame, atMs);
+    if (this.pending) this.gap = { ...this.pending, lostS };
+    this.pending = null;
+  }
+
+  /** Queued audio after frame `frame` was dropped (drops with no audio between them make one hole). */
+  dropped(frame: number, seconds: number): void {
+    const fromS = this.gap?.fromS ?? this.clock.streamTime(frame / this.rate);
+    const lostS = (this.gap?.lostS ?? 0) + seconds;
+    this.gap = { reason: droppedReason(lostS), fromS, lostS };
+    this.clock.lose(seconds);
+  }
+
+  /** `block` (whose first frame is frame `frame`) with its time, and the hole before it if there was one. */
+  stamp(block: AudioBlock, frame: number): AudioBlock {
+    const time = { startS: this.clock.streamTime(frame / this.rate), epochMs: this.clock.epochMs, ...(this.gap ? { gapBefore: this.gap } : {}) };
+    this.gap = null;
+    return { channels: block.channels, length: block.length, time };
+  }
+}
 
 /** Spawn the recorder through the package. It ignores `device` for rec, which reads AUDIODEV like sox. */
 function spawnRecording(o: RecorderOptions): Recording {
@@ -179,33 +277,27 @@ class RecorderRun {
 
 /**
  * Start the recorder and wait until it has been spawned. A recorder that is not installed
- * is a UsageError; one that stops later is restarted (see RecorderHooks), each gap reported
- * through onGap; after more than options.maxRestarts failed restarts in a row, blocks()
- * throws a RuntimeFailure. blocks() may be called once; close() stops the recorder.
+ * is a UsageError; one that stops later is restarted (see RecorderHooks), and the first block
+ * after each hole carries it (block.time.gapBefore); after more than options.maxRestarts failed
+ * restarts in a row, blocks() throws a RuntimeFailure. Every block carries its live stream time.
+ * blocks() may be called once; close() stops the recorder.
  */
 export async function openRecorderSource(options: RecorderOptions, hooks: RecorderHooks = {}): Promise<RecorderSource> {
   const blockFrames = checkBlockFrames(hooks.blockFrames);
   const timing: RecorderTiming = { ...DEFAULT_TIMING, ...hooks.timing };
   const warn = hooks.onWarning ?? stderrWarning;
-  const onGap = hooks.onGap ?? (() => {});
+  const now = hooks.clock ?? Date.now;
   const name = options.recorder;
   if (name !== 'arecord' && endianness() !== 'LE') {
     throw new UsageError(`${name} writes raw samples in this machine's big-endian order, which bearline does not read; use --recorder arecord`);
   }
   const assembler = new FrameAssembler('s16', options.channels, blockFrames);
-  const frameBytes = assembler.frameBytes;
-  const bytesPerSecond = frameBytes * options.sampleRate;
-  const maxQueueBytes = Math.ceil(timing.maxQueueS * bytesPerSecond);
+  const bytesPerSecond = assembler.frameBytes * options.sampleRate;
   const policy = new RestartPolicy(options.maxRestarts, timing);
+  const queue = new CaptureQueue(assembler.frameBytes, bytesPerSecond, Math.ceil(timing.maxQueueS * bytesPerSecond), policy);
+  const stamper = new BlockStamper(options.sampleRate);
 
-  const queue: QueueItem[] = [];
-  let queuedBytes = 0;
   let runEnded: string | null = null;
-  let run: RecorderRun;
-  let runBytes = 0; // bytes received from the current run, dropped ones included
-  let runFirstAudio = 0; // Date.now() of the current run's first audio, 0 before it
-  let startedAt: Date | null = null;
-  let segment: { frame: number; at: Date } | null = null;
   let restarts = 0;
   let framesOut = 0;
   let closed = false;
@@ -218,43 +310,23 @@ export async function openRecorderSource(options: RecorderOptions, hooks: Record
     wake = null;
     w?.();
   };
-
-  const onData = (chunk: Uint8Array): void => {
-    const now = Date.now();
-    if (runFirstAudio === 0) {
-      runFirstAudio = now;
-      const at = new Date(now - (chunk.length / bytesPerSecond) * 1000); // its first sample was captured one chunk ago
-      startedAt ??= at;
-      queue.push({ kind: 'start', at });
-    } else {
-      policy.onAudio((now - runFirstAudio) / 1000);
-    }
-    runBytes += chunk.length;
-    queue.push(chunk);
-    queuedBytes += chunk.length;
-    if (queuedBytes > maxQueueBytes) dropQueued();
-    notify();
-  };
-
-  /** The analysis fell behind: drop the queued audio, keep one marker in its place. */
-  const dropQueued = (): void => {
-    const kept = queue.filter((item): item is Marker => !(item instanceof Uint8Array) && item.kind === 'start');
-    const seconds = queuedBytes / bytesPerSecond;
-    queue.length = 0;
-    queue.push(...kept, { kind: 'drop', seconds, skipBytes: (frameBytes - (runBytes % frameBytes)) % frameBytes });
-    queuedBytes = 0;
-  };
-
   const startRun = (): RecorderRun => {
-    runBytes = 0;
-    runFirstAudio = 0;
-    return new RecorderRun(options, timing, onData, (reason) => {
-      runEnded = reason;
-      notify();
-    });
+    queue.newRun();
+    return new RecorderRun(
+      options,
+      timing,
+      (chunk) => {
+        queue.push(chunk, now());
+        notify();
+      },
+      (reason) => {
+        runEnded = reason;
+        notify();
+      },
+    );
   };
 
-  run = startRun();
+  let run = startRun();
   try {
     await run.spawned;
   } catch (err) {
@@ -268,7 +340,6 @@ export async function openRecorderSource(options: RecorderOptions, hooks: Record
     if (queue.length > 0 || runEnded !== null || closed) return;
     await new Promise<void>((res) => (wake = res));
   };
-
   const sleep = async (seconds: number): Promise<void> => {
     await new Promise<void>((res) => {
       wake = res;
@@ -276,56 +347,61 @@ export async function openRecorderSource(options: RecorderOptions, hooks: Record
     });
     if (sleepTimer) clearTimeout(sleepTimer);
   };
+  /** The assembled block, stamped; framesOut counts it. */
+  const emit = (): AudioBlock => {
+    const first = framesOut;
+    const block = assembler.emit();
+    framesOut += block.length;
+    return stamper.stamp(block, first);
+  };
+
+  /** The blocks of the queued chunks and markers, until the queue is empty. */
+  /** Bytes still to skip to the next frame boundary after a drop (kept across calls: the queue may empty first). */
+  let skip = 0;
+  async function* drainQueue(): AsyncGenerator<AudioBlock> {
+    while (queue.length > 0 && !closed) {
+      const item = queue.shift()!;
+      if (item instanceof Uint8Array) {
+        let at = Math.min(skip, item.length);
+        skip -= at;
+        while (at < item.length) {
+          at = assembler.take(item, at);
+          if (assembler.full) yield emit();
+        }
+      } else {
+        // The frames before a marker go out on their own, so that a hole falls between blocks.
+        assembler.discardPartialFrame();
+        if (assembler.heldFrames > 0) yield emit();
+        if (item.kind === 'start') {
+          skip = 0;
+          stamper.runStarted(framesOut, item.atMs);
+        } else {
+          skip = item.skipBytes;
+          warn(droppedReason(item.seconds));
+          stamper.dropped(framesOut, item.seconds);
+        }
+      }
+    }
+  }
 
   async function* blocks(): AsyncGenerator<AudioBlock> {
     if (iterating) throw new Error('openRecorderSource: blocks() may be called only once');
     iterating = true;
-    let skip = 0;
     try {
       while (!closed) {
         await waitForWork();
-        while (queue.length > 0 && !closed) {
-          const item = queue.shift()!;
-          if (item instanceof Uint8Array) {
-            queuedBytes -= item.length;
-            let at = Math.min(skip, item.length);
-            skip -= at;
-            while (at < item.length) {
-              at = assembler.take(item, at);
-              if (assembler.full) {
-                const block = assembler.emit();
-                framesOut += block.length;
-                yield block;
-              }
-            }
-          } else if (item.kind === 'start') {
-            assembler.discardPartialFrame();
-            skip = 0;
-            segment = { frame: framesOut + assembler.heldFrames, at: item.at };
-          } else {
-            assembler.discardPartialFrame();
-            skip = item.skipBytes;
-            const lost = `the analysis fell behind the live audio; dropped ${item.seconds.toFixed(1)} s`;
-            warn(lost);
-            onGap({ atFrame: framesOut + assembler.heldFrames, reason: lost, retryInS: 0 });
-          }
-        }
+        yield* drainQueue();
         if (closed || runEnded === null || queue.length > 0) continue;
         const reason: string = runEnded;
         runEnded = null;
         assembler.discardPartialFrame();
-        const healthyForS = runFirstAudio === 0 ? 0 : (Date.now() - runFirstAudio) / 1000;
-        const decision = policy.onRunEnded(healthyForS);
+        if (assembler.heldFrames > 0) yield emit();
+        const decision = policy.onRunEnded(queue.healthyForS(now()));
         if (decision.giveUp) {
-          if (assembler.heldFrames > 0) {
-            const block = assembler.emit();
-            framesOut += block.length;
-            yield block;
-          }
           throw new RuntimeFailure(`the recorder ${name} failed ${decision.failures} times in a row (last: ${reason}); giving up, check the device and its cable`);
         }
         warn(`${reason}; restarting ${name} in ${decision.retryInS} s`);
-        onGap({ atFrame: framesOut + assembler.heldFrames, reason, retryInS: decision.retryInS });
+        stamper.runEnded(framesOut, reason);
         await sleep(decision.retryInS);
         if (closed) break;
         restarts += 1;
@@ -351,12 +427,6 @@ export async function openRecorderSource(options: RecorderOptions, hooks: Record
     format: { sampleRate: options.sampleRate, channels: options.channels, totalFrames: null },
     blocks,
     close,
-    get startedAt() {
-      return startedAt;
-    },
-    get segment() {
-      return segment;
-    },
     get restarts() {
       return restarts;
     },

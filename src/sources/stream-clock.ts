@@ -38,6 +38,16 @@ export class StreamClock {
     return lost;
   }
 
+  /** Audio known to be lost without a new run (a dropped backlog): stream time jumps by it. */
+  lose(seconds: number): void {
+    if (seconds > 0) this.offsetS += seconds;
+  }
+
+  /** Wall-clock time (ms since the epoch) of stream time 0; 0 before the first run. */
+  get epochMs(): number {
+    return this.startMs ?? 0;
+  }
+
   /** Stream time (seconds) of an audio time (seconds of audio delivered). */
   streamTime(audioS: number): number {
     return audioS + this.offsetS;

@@ -1,10 +1,12 @@
-import { Tracker } from './tracker.js';
-import type { HopObservation, TrackSummary } from './types.js';
-import type { TrackerOptions } from './options.js';
-import type { EventRecord, FrameRecord } from '../records/record-types.js';
-import { bearingOf, round, toFrameRecord, type FrameRecordSettings } from '../records/frame-record.js';
+import type { AnalysisSetup, HopTime } from '../analysis/analysis.js';
 import type { HopResult } from '../analysis/hop-analyzer.js';
 import type { StreamChecks } from '../analysis/stream-checks.js';
+import { bearingOf, round, toFrameRecord, type FrameRecordSettings } from '../records/frame-record.js';
+import type { EventRecord } from '../records/record-types.js';
+import type { RecordSink, SinkResult } from '../sinks/record-sink.js';
+import { Tracker } from './tracker.js';
+import type { TrackerOptions } from './options.js';
+import type { HopObservation, TrackSummary } from './types.js';
 
 /** What the session needs to know about the analysis: the frame records' settings and the sources a hop can hold. */
 export interface SessionSettings extends FrameRecordSettings {
@@ -12,21 +14,18 @@ export interface SessionSettings extends FrameRecordSettings {
   maxSources?: number;
 }
 
-export interface SessionOutputs {
-  /** Called for every hop's frame record (when frames are wanted). */
-  onFrame?: (rec: FrameRecord) => void | Promise<void> | undefined;
-  /** Called for every finished event. */
-  onEvent?: (rec: EventRecord) => void | Promise<void> | undefined;
-  /** For live streams: the UTC time of a stream time, ISO 8601. */
-  utcAt?: (timeS: number) => string;
+export interface SessionHooks {
+  /** Window-edge and geometry checks over the stream (said once). */
+  checks?: StreamChecks | null;
   /** Told each stream-check warning once (window edge, geometry). */
   onWarning?: (message: string) => void;
 }
 
 /**
- * Hop results -> tracker -> frame and event records. The glue between the analysis core and
- * the sinks, shared by scan, listen and the demo. The tracker sees every hop's candidates
- * (with the hop's confidence) and assigns track ids; events come out when they end.
+ * Hop results -> tracker -> frame and event records into a sink. The glue between the analysis
+ * core and the sinks, shared by scan, listen, the demo and accuracy. The tracker sees every
+ * hop's candidates (with the hop's confidence) and assigns track ids; events come out when
+ * they end. Frame records are made only when the sink wants them. Live records carry `utc`.
  */
 export class TrackingSession {
   readonly tracker: Tracker;
@@ -34,32 +33,56 @@ export class TrackingSession {
   private readonly candidates: { azimuthDeg: number; elevationDeg: number | null; score: number }[];
   private readonly band: [number, number] = [0, 0];
   private readonly pending: Promise<void>[] = [];
+  private readonly checks: StreamChecks | null;
+  /** Wall-clock ms of stream time 0 of a live stream (for utc), null for files. */
+  private epochMs: number | null = null;
   hops = 0;
   events = 0;
 
   constructor(
     private readonly settings: SessionSettings,
     tracker: Partial<TrackerOptions>,
-    private readonly outputs: SessionOutputs,
-    private readonly checks: StreamChecks | null = null,
+    private readonly sink: RecordSink,
+    private readonly hooks: SessionHooks = {},
   ) {
     this.tracker = new Tracker({ ...tracker, mirror: settings.mirror, ...(settings.maxSources !== undefined ? { maxCandidates: settings.maxSources } : {}) });
+    this.checks = hooks.checks ?? null;
     this.candidates = [];
     this.obs = { timeS: 0, levelDbfs: 0, snrDb: 0, onset: 0, confidence: 0, candidates: this.candidates, bandHz: null };
   }
 
-  /** One hop. Returns a promise when a sink asks to wait. */
-  hop(r: HopResult): Promise<void> | undefined {
+  /** A session for an analysis (its mirror, pairs, sources per hop and stream checks) into `sink`. */
+  static of(setup: AnalysisSetup, tracker: Partial<TrackerOptions>, sink: RecordSink, extra: { diagnostics?: boolean; viewerFields?: boolean; onWarning?: (message: string) => void } = {}): TrackingSession {
+    const settings: SessionSettings = {
+      headingDeg: setup.geometry.headingDeg,
+      mirror: setup.model.mirror,
+      pairs: setup.model.pairs,
+      maxSources: setup.options.maxSources,
+      diagnostics: extra.diagnostics ?? false,
+      viewerFields: extra.viewerFields ?? false,
+    };
+    return new TrackingSession(settings, tracker, sink, { checks: setup.checks, onWarning: extra.onWarning });
+  }
+
+  /** The UTC of a stream time, when the stream is live. */
+  utcAt(timeS: number): string | undefined {
+    return this.epochMs === null ? undefined : new Date(this.epochMs + timeS * 1000).toISOString();
+  }
+
+  /** One hop at its stream time (default: the analyzer's). Returns a promise when a sink asks to wait. */
+  hop(r: HopResult, time?: HopTime): SinkResult {
     this.hops++;
+    const timeS = time?.timeS ?? r.timeS;
+    if (time) this.epochMs = time.epochMs;
     if (this.checks) {
       const warning = this.checks.observe(r);
-      if (warning !== null) this.outputs.onWarning?.(warning);
+      if (warning !== null) this.hooks.onWarning?.(warning);
     }
     const cands = this.candidates;
     cands.length = 0;
     for (let i = 0; i < r.sourceCount; i++) cands.push(r.sources[i]!);
     const o = this.obs;
-    o.timeS = r.timeS;
+    o.timeS = timeS;
     o.levelDbfs = r.levelDbfs;
     o.snrDb = r.snrDb;
     o.onset = r.onset;
@@ -71,21 +94,22 @@ export class TrackingSession {
       o.bandHz = this.band;
     } else o.bandHz = null;
     const upd = this.tracker.update(o);
-    if (this.outputs.onFrame) {
-      const rec = toFrameRecord(r, this.settings);
+    if (this.sink.wantsFrames) {
+      const rec = toFrameRecord(r, this.settings, timeS);
       if (rec.sources) rec.sources.forEach((s, i) => (s.track = upd.trackIds[i] ?? null));
       rec.track = r.valid ? (upd.trackIds[0] ?? null) : null;
-      if (this.outputs.utcAt) rec.utc = this.outputs.utcAt(r.timeS);
-      this.push(this.outputs.onFrame(rec));
+      const utc = this.utcAt(timeS);
+      if (utc !== undefined) rec.utc = utc;
+      this.push(this.sink.frame(rec));
     }
     for (const e of upd.events) this.emit(e);
     return this.drain();
   }
 
   /** End of stream: emit the events still open. */
-  finish(): Promise<void> | undefined {
+  finish(): SinkResult {
     const warning = this.checks?.finish() ?? null;
-    if (warning !== null) this.outputs.onWarning?.(warning);
+    if (warning !== null) this.hooks.onWarning?.(warning);
     for (const e of this.tracker.finish()) this.emit(e);
     return this.drain();
   }
@@ -112,15 +136,16 @@ export class TrackingSession {
     if (e.peak_dbfs !== undefined) rec.peak_dbfs = round(e.peak_dbfs, 1);
     if (e.elevation_deg !== undefined && e.elevation_deg !== null) rec.elevation_deg = round(e.elevation_deg, 2);
     if (this.settings.headingDeg !== null) rec.bearing_deg = bearingOf(rec.azimuth_deg, this.settings.headingDeg);
-    if (this.outputs.utcAt) rec.utc = this.outputs.utcAt(rec.start_s);
-    if (this.outputs.onEvent) this.push(this.outputs.onEvent(rec));
+    const utc = this.utcAt(rec.start_s);
+    if (utc !== undefined) rec.utc = utc;
+    this.push(this.sink.event(rec));
   }
 
-  private push(p: void | Promise<void> | undefined): void {
+  private push(p: SinkResult): void {
     if (p) this.pending.push(p);
   }
 
-  private drain(): Promise<void> | undefined {
+  private drain(): SinkResult {
     if (this.pending.length === 0) return undefined;
     const all = Promise.all(this.pending).then(() => undefined);
     this.pending.length = 0;

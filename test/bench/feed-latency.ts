@@ -43,7 +43,7 @@ async function measureLatency(frames: number): Promise<{ medianMs: number; p99Ms
     const frame = fakeFrame(DEFAULT_SCENE, i);
     const t0 = performance.now();
     sentAt[i] = t0;
-    server.sendFrame(frame);
+    server.frame(frame);
     sendCosts.push((performance.now() - t0) * 1000);
     await new Promise((r) => setTimeout(r, HOP_MS));
   }
@@ -54,7 +54,7 @@ async function measureLatency(frames: number): Promise<{ medianMs: number; p99Ms
   const frame = fakeFrame(DEFAULT_SCENE, 0);
   for (let i = 0; i < frames; i++) {
     const t0 = performance.now();
-    server.sendFrame(frame);
+    server.frame(frame);
     burst.push((performance.now() - t0) * 1000);
     if (i % 20 === 19) await new Promise((r) => setImmediate(r));
   }

@@ -78,10 +78,10 @@ export function runStationSoak(opts: SoakOptions = {}): SoakResult {
       frame.confidence = 0.5 + 0.5 * Math.abs(Math.sin(t));
       for (let p = 0; p < tdoa.length; p++) tdoa[p] = Number((Math.sin(t + p) * 2.9e-4).toFixed(7));
       frame.level_dbfs = Number((-40 + 10 * Math.sin(t / 3)).toFixed(1));
-      log.writeFrame(frame);
+      log.frame(frame);
       if (t >= nextEvent) {
         const e: EventRecord = { start_s: nextEvent - 0.4, end_s: nextEvent, azimuth_deg: frame.azimuth_deg, spread_deg: 2.5, confidence: 0.8, track: events % 5 };
-        log.writeEvent(e);
+        log.event(e);
         events++;
         nextEvent++;
       }

@@ -60,9 +60,9 @@ describe('feed messages', () => {
     });
 
     const frame = fakeFrame(DEFAULT_SCENE, 7);
-    server.sendFrame(frame);
-    server.sendEvent(sampleEvent);
-    server.sendGap({ start_s: 4, end_s: 4.25, reason: 'device overrun' });
+    server.frame(frame);
+    server.event(sampleEvent);
+    server.gap({ gap: 'device overrun', start_s: 4, end_s: 4.25 });
     await c.waitFor((m) => m.length >= 4, 'frame, event, gap');
     expect(c.messages.slice(1).map((m) => m.type)).toEqual(['frame', 'event', 'gap']);
     expect(c.messages[1]).toEqual({ type: 'frame', ...frame });
@@ -71,7 +71,8 @@ describe('feed messages', () => {
       expect(c.messages[1]).toHaveProperty(key);
     }
     expect(c.messages[2]).toEqual({ type: 'event', ...sampleEvent });
-    expect(c.messages[3]).toEqual({ type: 'gap', start_s: 4, end_s: 4.25, reason: 'device overrun' });
+    // the gap record of every sink (records/gap-record.ts), with its type
+    expect(c.messages[3]).toEqual({ type: 'gap', gap: 'device overrun', start_s: 4, end_s: 4.25 });
     expect(server.stats()).toMatchObject({ clients: 1, framesIn: 1, eventsIn: 1, gapsIn: 1, framesDropped: 0 });
   });
 
@@ -93,8 +94,8 @@ describe('feed messages', () => {
     c.ws.send(JSON.stringify({ type: 'subscribe', frames: false }));
     c.ws.send(JSON.stringify({ type: 'ping', id: 'after-subscribe' }));
     await c.waitFor((m) => m.some((x) => x.type === 'pong' && x.id === 'after-subscribe'), 'pong');
-    for (let i = 0; i < 20; i++) server.sendFrame(fakeFrame(DEFAULT_SCENE, i));
-    server.sendEvent(sampleEvent);
+    for (let i = 0; i < 20; i++) server.frame(fakeFrame(DEFAULT_SCENE, i));
+    server.event(sampleEvent);
     await c.waitFor((m) => m.some((x) => x.type === 'event'), 'event');
     expect(c.ofType('frame')).toHaveLength(0);
     expect(server.stats().perClient[0].frames).toBe(false);
@@ -121,9 +122,9 @@ describe('slow viewers', () => {
       for (let k = 0; k < 100; k++) {
         const f = fakeFrame(DEFAULT_SCENE, pushed++);
         longest = Math.max(longest, JSON.stringify(f).length + 20);
-        server.sendFrame(f);
+        server.frame(f);
       }
-      if (batch === 3) server.sendEvent(sampleEvent);
+      if (batch === 3) server.event(sampleEvent);
       await reader.waitFor((m) => m.length >= 1 + pushed + (batch >= 3 ? 1 : 0), 'the reading viewer to catch up');
       const s = stuckStats();
       if (s === undefined) throw new Error('the stuck viewer was cut off');
@@ -198,7 +199,7 @@ describe('bad client messages', () => {
     expect(logs.some((l) => l.includes('not JSON'))).toBe(true);
     expect(logs.some((l) => l.includes('unknown type "launch"'))).toBe(true);
 
-    server.sendFrame(fakeFrame(DEFAULT_SCENE, 0));
+    server.frame(fakeFrame(DEFAULT_SCENE, 0));
     await rude.waitFor((m) => m.some((x) => x.type === 'frame'), 'a frame to the rude viewer, still served');
 
     rude.ws.send('x'.repeat(100_000));
@@ -206,7 +207,7 @@ describe('bad client messages', () => {
     // RFC 6455 section 7.4.1: 1009 = message too big to process.
     expect(closed.code).toBe(1009);
 
-    for (let i = 1; i <= 5; i++) server.sendFrame(fakeFrame(DEFAULT_SCENE, i));
+    for (let i = 1; i <= 5; i++) server.frame(fakeFrame(DEFAULT_SCENE, i));
     await calm.waitFor((m) => m.filter((x) => x.type === 'frame').length === 6, 'all frames to the calm viewer');
     expect(calm.ws.readyState).toBe(calm.ws.OPEN);
     await until(() => server.stats().clients === 1, 'the rude viewer to be gone');

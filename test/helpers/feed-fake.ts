@@ -149,9 +149,9 @@ export async function startFeedFake(setup: FeedFakeSetup = {}): Promise<FeedFake
   const timer = setInterval(() => {
     const due = Math.floor(((performance.now() - startedAt) / 1000) * rateHz);
     while (pushed.frames < due) {
-      server.sendFrame(fakeFrame(scene, pushed.frames));
+      server.frame(fakeFrame(scene, pushed.frames));
       for (const e of fakeEvents(scene, pushed.frames)) {
-        server.sendEvent(e);
+        server.event(e);
         pushed.events++;
       }
       pushed.frames++;

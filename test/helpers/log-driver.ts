@@ -51,7 +51,7 @@ function batch(): void {
       process.stdout.write(`done at ${next}\n`);
       return;
     }
-    log.writeEvent({ start_s: next / 10, end_s: next / 10 + 0.05, azimuth_deg: (next % 360) - 179, spread_deg: 1.5, confidence: 0.8, track: next });
+    log.event({ start_s: next / 10, end_s: next / 10 + 0.05, azimuth_deg: (next % 360) - 179, spread_deg: 1.5, confidence: 0.8, track: next });
     next++;
   }
   process.stdout.write(`at ${next}\n`);

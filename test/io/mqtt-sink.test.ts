@@ -63,14 +63,17 @@ describe('MQTT sink against Mosquitto on 127.0.0.1', () => {
     const sub = await subscriber(broker.url, [topics.events], { clientId: 'pond-watcher', clean: false });
     const warnings: string[] = [];
     const sink = new MqttSink('reedbed-north', { mqtt: broker.url, mqttQueueDir: join(work, 'q1') }, { retryMs: 200, onWarning: (m) => warnings.push(m) });
-    for (let n = 0; n < 20; n++) expect(sink.publishEvent(ev(n))).toBe(n + 1);
+    for (let n = 0; n < 20; n++) {
+      sink.event(ev(n));
+      expect(sink.lastSeq).toBe(n + 1);
+    }
     await waitFor('20 events', () => sub.got.length >= 20);
     await waitFor('acks', () => sink.stats().queued === 0);
     await new Promise((r) => setTimeout(r, 300)); // let the subscriber's own PUBACKs reach the broker
 
     await broker.stop();
     await waitFor('the sink to see the broker gone', () => !sink.stats().connected);
-    for (let n = 20; n < 50; n++) sink.publishEvent(ev(n));
+    for (let n = 20; n < 50; n++) sink.event(ev(n));
     expect(sink.stats().queued).toBe(30);
     expect(readdirSync(join(work, 'q1')).some((f) => f.startsWith('seg-'))).toBe(true);
     await broker.start();
@@ -102,15 +105,33 @@ describe('MQTT sink against Mosquitto on 127.0.0.1', () => {
 
     // seq goes on after a restart of the station (read back from the queue directory)
     const again = new MqttSink('reedbed-north', { mqtt: broker.url, mqttQueueDir: join(work, 'q1') }, { retryMs: 200 });
-    expect(again.publishEvent(ev(50))).toBe(51);
+    again.event(ev(50));
+    expect(again.lastSeq).toBe(51);
     await again.close();
+  });
+
+  it('capture gaps go out too, in the gap record shape of every sink, in order with the events (issue 15: MQTT had none)', async () => {
+    const topics = stationTopics('reedbed-south');
+    const sub = await subscriber(broker.url, [topics.events]);
+    const sink = new MqttSink('reedbed-south', { mqtt: broker.url, mqttQueueDir: join(work, 'q-gaps') }, { retryMs: 200 });
+    const gap = { gap: 'arecord exited with code 1', start_s: 812.4, end_s: 813.2, utc: '2025-06-14T21:43:32.400Z' };
+    sink.event(ev(0));
+    sink.gap(gap);
+    sink.event(ev(1));
+    await waitFor('two events and a gap', () => sub.got.length >= 3);
+    const got = sub.got.map((m) => JSON.parse(m.text) as Record<string, unknown>);
+    expect(got.map((m) => m.seq)).toEqual([1, 2, 3]);
+    expect(got[1]).toEqual({ seq: 2, station: 'reedbed-south', ...gap });
+    expect(got[2]).toMatchObject({ seq: 3, track: 1 });
+    await sink.close();
+    await sub.client.endAsync();
   });
 
   it('a station that starts before its broker queues events and delivers them once the broker is up', async () => {
     const port = await freePort();
     const warnings: string[] = [];
     const sink = new MqttSink('creek-mouth', { mqtt: `mqtt://127.0.0.1:${port}`, mqttQueueDir: join(work, 'q4') }, { retryMs: 200, onWarning: (m) => warnings.push(m) });
-    for (let n = 0; n < 5; n++) sink.publishEvent(ev(n));
+    for (let n = 0; n < 5; n++) sink.event(ev(n));
     await waitFor('a failed connection attempt', () => warnings.length > 0);
     expect(warnings[0]).toMatch(/MQTT broker mqtt:\/\/127\.0\.0\.1:\d+ .*keeping events on disk in .*q4 and retrying/);
     expect(sink.stats()).toMatchObject({ connected: false, queued: 5, delivered: 0 });

@@ -97,15 +97,34 @@ describe('raw s16le stream source against sox decoding', () => {
   });
 });
 
+describe('a live stream (listen --stdin): blocks carry live stream time', () => {
+  it('stream time runs on with the frames from the first block, which is taken to end when it arrives', async () => {
+    const { raw } = soxRaw(2, 8000, 0.5);
+    const arrived = Date.UTC(2025, 5, 14, 21, 30, 0);
+    const src = openPcmStreamSource(Readable.from(splitOdd(raw, [999, 4001])), { sampleRate: 8000, channels: 2, blockFrames: 800, live: { clock: () => arrived } });
+    const times: { startS: number; epochMs: number }[] = [];
+    for await (const b of src.blocks()) times.push({ startS: b.time!.startS, epochMs: b.time!.epochMs });
+    expect(times.map((t) => t.startS)).toEqual([0, 0.1, 0.2, 0.3, 0.4]);
+    // the first block (800 frames, 100 ms) ended when it arrived: stream time 0 is 100 ms before
+    for (const t of times) expect(t.epochMs).toBe(arrived - 100);
+  });
+
+  it('a file-like stream (scan --stdin) has no stream time', async () => {
+    const { raw } = soxRaw(2, 8000, 0.5);
+    const src = openPcmStreamSource(Readable.from([raw]), { sampleRate: 8000, channels: 2, blockFrames: 800 });
+    for await (const b of src.blocks()) expect(b.time).toBeUndefined();
+  });
+});
+
 describe('stream options: UsageError naming the option', () => {
   const empty = (): Readable => Readable.from([]);
   it.each([
-    [{ sampleRate: 999, channels: 2 }, /^--rate must be a whole number from 1000 to 768000 Hz \(got '999'\)$/],
-    [{ sampleRate: 768001, channels: 2 }, /^--rate must be a whole number from 1000 to 768000 Hz/],
-    [{ sampleRate: 44100.5, channels: 2 }, /^--rate must be a whole number/],
-    [{ sampleRate: Number.NaN, channels: 2 }, /^--rate must be a whole number/],
-    [{ sampleRate: 48000, channels: 0 }, /^--channels must be a whole number from 1 to 8 \(got '0'\)$/],
-    [{ sampleRate: 48000, channels: 9 }, /^--channels must be a whole number from 1 to 8 \(got '9'\)$/],
+    [{ sampleRate: 999, channels: 2 }, /^--rate: 999 is out of range; give a whole number from 1000 to 768000 Hz\.$/],
+    [{ sampleRate: 768001, channels: 2 }, /^--rate: 768001 is out of range; give a whole number from 1000 to 768000 Hz/],
+    [{ sampleRate: 44100.5, channels: 2 }, /^--rate: 44100.5 is out of range; give a whole number/],
+    [{ sampleRate: Number.NaN, channels: 2 }, /^--rate: NaN is out of range/],
+    [{ sampleRate: 48000, channels: 0 }, /^--channels: 0 is out of range; give a whole number from 1 to 8\.$/],
+    [{ sampleRate: 48000, channels: 9 }, /^--channels: 9 is out of range; give a whole number from 1 to 8\.$/],
   ])('%o', (opts, message) => {
     expect(() => openPcmStreamSource(empty(), opts)).toThrow(UsageError);
     expect(() => openPcmStreamSource(empty(), opts)).toThrow(message);

@@ -124,7 +124,7 @@ describe('torn-line repair', () => {
     writeFileSync(old, JSON.stringify(ev(0)) + '\n' + '{"start_s":0.1,"tra');
     const warnings: string[] = [];
     const log = new RecordLog('pond-test', { logDir: dir }, { onWarning: (m) => warnings.push(m), clock: () => Date.parse('2025-06-14T22:00:00Z') });
-    log.writeEvent(ev(1));
+    log.event(ev(1));
     log.close();
     expect(warnings.join('\n')).toMatch(/torn line.*cut 19 bytes, kept in .*\.torn/);
     expect(readFileSync(old, 'utf8')).toBe(JSON.stringify(ev(0)) + '\n');
@@ -136,7 +136,7 @@ describe('rotation', () => {
   it('by size under a fast stream: no file passes the limit, order and count kept across files', () => {
     const dir = freshDir();
     const log = new RecordLog('pond-test', { logDir: dir, rotateSize: 16 * 1024 });
-    for (let n = 0; n < 20_000; n++) log.writeEvent(ev(n));
+    for (let n = 0; n < 20_000; n++) log.event(ev(n));
     log.close();
     const files = listLogFiles(dir, 'pond-test');
     expect(files.length).toBeGreaterThan(50);
@@ -153,9 +153,9 @@ describe('rotation', () => {
     const dir = freshDir();
     let now = Date.parse('2025-06-14T23:59:58.500Z');
     const log = new RecordLog('pond-test', { logDir: dir, logFormat: 'csv' }, { clock: () => now });
-    for (let n = 0; n < 3; n++) log.writeEvent(ev(n));
+    for (let n = 0; n < 3; n++) log.event(ev(n));
     now = Date.parse('2025-06-15T00:00:01.200Z');
-    for (let n = 3; n < 5; n++) log.writeEvent(ev(n));
+    for (let n = 3; n < 5; n++) log.event(ev(n));
     log.close();
     const files = listLogFiles(dir, 'pond-test');
     expect(files.map((f) => f.path.slice(dir.length + 1))).toEqual([
@@ -171,7 +171,7 @@ describe('rotation', () => {
   it('CSV frames use the frame columns of scan (one tdoa column per pair of a 4-mic array)', () => {
     const dir = freshDir();
     const log = new RecordLog('pond-test', { logDir: dir, logFormat: 'csv', logFrames: true });
-    for (let n = 0; n < 3; n++) log.writeFrame({ time_s: n * 0.02, azimuth_deg: n === 1 ? null : 20, elevation_deg: null, confidence: 0.5, tdoa_s: [1e-4, 2e-4, null, 0, -1e-4, 5e-5], level_dbfs: -30 });
+    for (let n = 0; n < 3; n++) log.frame({ time_s: n * 0.02, azimuth_deg: n === 1 ? null : 20, elevation_deg: null, confidence: 0.5, tdoa_s: [1e-4, 2e-4, null, 0, -1e-4, 5e-5], level_dbfs: -30 });
     log.close();
     const text = readFileSync(listLogFiles(dir, 'pond-test', 'frames')[0]!.path, 'utf8');
     const lines = text.trimEnd().split('\n');
@@ -185,9 +185,9 @@ describe('rotation', () => {
   it('reopen (SIGHUP) starts new files', () => {
     const dir = freshDir();
     const log = new RecordLog('pond-test', { logDir: dir }, { clock: () => Date.parse('2025-06-14T21:00:00Z') });
-    log.writeEvent(ev(0));
+    log.event(ev(0));
     log.reopen();
-    log.writeEvent(ev(1));
+    log.event(ev(1));
     log.close();
     expect(listLogFiles(dir, 'pond-test').map((f) => parseLogFileName(f.path.slice(dir.length + 1))!.n)).toEqual([0, 1]);
   });
@@ -198,7 +198,7 @@ describe('disk limits', () => {
     const dir = freshDir();
     const warnings: string[] = [];
     const log = new RecordLog('pond-test', { logDir: dir, rotateSize: 4096, maxDisk: 16 * 1024 }, { onWarning: (m) => warnings.push(m) });
-    for (let n = 0; n < 3000; n++) log.writeEvent(ev(n));
+    for (let n = 0; n < 3000; n++) log.event(ev(n));
     const open = log.openPaths();
     expect(existsSync(open[0]!)).toBe(true);
     log.close();
@@ -220,7 +220,7 @@ describe('disk limits', () => {
     const dir = freshDir();
     const warnings: string[] = [];
     const log = new RecordLog('pond-test', { logDir: dir, minFree: 10 * 1024 ** 2 }, { onWarning: (m) => warnings.push(m), freeBytes: () => 3 * 1024 ** 2 });
-    log.writeEvent(ev(0));
+    log.event(ev(0));
     expect(log.stats().diskFree).toBe(3 * 1024 ** 2);
     log.close();
     expect(warnings).toEqual([expect.stringMatching(/only 3\.0 MiB free .*below --min-free 10\.0 MiB/)]);
@@ -240,13 +240,13 @@ describe('disk limits', () => {
       let written = 0;
       let failure: unknown = null;
       try {
-        for (; written < 1_000_000; written++) log.writeEvent(ev(written));
+        for (; written < 1_000_000; written++) log.event(ev(written));
       } catch (err) {
         failure = err;
       }
       expect(failure).toBeInstanceOf(RuntimeFailure);
       expect((failure as Error).message).toMatch(/^cannot write .*pond-test\.events.*: the disk is full \(ENOSPC\); free some space/);
-      expect(() => log.writeEvent(ev(written))).toThrow(/ENOSPC/);
+      expect(() => log.event(ev(written))).toThrow(/ENOSPC/);
       log.close();
       const disk = readEvents(mnt, 'pond-test');
       expect(disk.unterminated).toEqual([]);
@@ -274,7 +274,7 @@ describe('disk limits', () => {
     };
     const log = new RecordLog('pond-test', { logDir: dir }, { fs: failing });
     expect(() => {
-      for (let n = 0; n < 100; n++) log.writeEvent(ev(n));
+      for (let n = 0; n < 100; n++) log.event(ev(n));
     }).toThrow(/storage reported an I\/O error \(EIO\)/);
     log.close();
     const disk = readEvents(dir, 'pond-test');

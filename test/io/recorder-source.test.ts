@@ -2,10 +2,10 @@ import { chmodSync, mkdirSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, afterEach, beforeAll, describe, expect, it } from 'vitest';
 import { RuntimeFailure, UsageError } from '../../src/util/errors.js';
-import type { AudioBlock } from '../../src/sources/audio-source.js';
+import type { AudioBlock, BlockTime, StreamGap } from '../../src/sources/audio-source.js';
 import { defaultText, parseOptionText, usageOf } from '../../src/options/option-spec.js';
 import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptions } from '../../src/sources/recorder-options.js';
-import { openRecorderSource, type RecorderGap, type RecorderSource } from '../../src/sources/recorder-source.js';
+import { openRecorderSource, type RecorderSource } from '../../src/sources/recorder-source.js';
 import { RestartPolicy } from '../../src/sources/restart-policy.js';
 import { maxAbsDiff, sox, soxDecode, synthSpecs, tempDir } from './sox.js';
 
@@ -46,20 +46,26 @@ function standIn(name: 'sox' | 'rec' | 'arecord', body: string): void {
 }
 const argsOf = (name: string): string[] => readFileSync(join(bin, `${name}.args`), 'utf8').trim().split('\n');
 
-/** Collect interleaved samples until `frames` frames have arrived. */
-async function take(src: RecorderSource, frames: number): Promise<Float32Array> {
+/** A hole as the blocks mark it: at which frame of the stream (frames delivered before the block). */
+interface MarkedGap extends StreamGap {
+  atFrame: number;
+}
+
+/** Collect interleaved samples until `frames` frames have arrived (and each block's time). */
+async function take(src: RecorderSource, frames: number, times: BlockTime[] = []): Promise<Float32Array> {
   const C = src.format.channels;
   const out = new Float32Array(frames * C);
   let n = 0;
   for await (const b of src.blocks()) {
+    if (b.time) times.push(b.time);
     for (let i = 0; i < b.length && n < frames; i++, n++) for (let c = 0; c < C; c++) out[n * C + c] = b.channels[c]![i]!;
     if (n >= frames) break;
   }
   return out;
 }
 
-async function start(input: Partial<RecorderOptions>, gaps: RecorderGap[] = [], timing = {}, warnings: string[] = []): Promise<RecorderSource> {
-  open = await openRecorderSource(resolveRecorderOptions({ channels: 2, ...input }), { blockFrames: 800, onGap: (g) => gaps.push(g), onWarning: (m) => warnings.push(m), timing });
+async function start(input: Partial<RecorderOptions>, timing = {}, warnings: string[] = []): Promise<RecorderSource> {
+  open = await openRecorderSource(resolveRecorderOptions({ channels: 2, ...input }), { blockFrames: 800, onWarning: (m) => warnings.push(m), timing });
   return open;
 }
 
@@ -71,12 +77,19 @@ describe('recorder source with stand-in recorders on PATH', () => {
     standIn('sox', `exec cat "${file}"`);
     const before = Date.now();
     const src = await start({ recorder: 'sox', sampleRate: 16000, channels: 4 });
-    expect(src.startedAt).toBeNull();
-    const got = await take(src, 8000);
+    const times: BlockTime[] = [];
+    const got = await take(src, 8000, times);
     expect(maxAbsDiff(got, ref)).toBeLessThanOrEqual(HALF_STEP);
-    expect(src.startedAt!.getTime()).toBeGreaterThanOrEqual(before - 1000);
-    expect(src.startedAt!.getTime()).toBeLessThanOrEqual(Date.now());
-    expect(src.segment).toEqual({ frame: 0, at: src.startedAt });
+    // Every block carries live stream time: it starts at 0 when the first sample was captured,
+    // and runs on with the frames (800 per block at 16 kHz: 50 ms) while nothing is lost.
+    expect(times.length).toBe(10);
+    expect(times[0]!.epochMs).toBeGreaterThanOrEqual(before - 1000);
+    expect(times[0]!.epochMs).toBeLessThanOrEqual(Date.now());
+    times.forEach((t, i) => {
+      expect(t.startS).toBeCloseTo(i * 0.05, 9);
+      expect(t.epochMs).toBe(times[0]!.epochMs);
+      expect(t.gapBefore).toBeUndefined();
+    });
     const args = argsOf('sox').join(' ');
     for (const a of ['--rate 16000', '--channels 4', '--encoding signed-integer', '--bits 16', '--type raw']) expect(args).toContain(a);
   });
@@ -101,28 +114,42 @@ describe('recorder source with stand-in recorders on PATH', () => {
   it('a recorder that exits after a second is restarted (0.5 s, then 1 s), each gap reported, then gives up', async () => {
     const { file, ref } = soxRaw('d.raw', 1, 16000, 0.5);
     standIn('sox', `head -c 16000 "${file}"\necho "sox FAIL sox: the capture device went away" >&2\nsleep 1 >/dev/null\nexit 3`);
-    const gaps: RecorderGap[] = [];
+    const gaps: MarkedGap[] = [];
     const warnings: string[] = [];
-    const src = await start({ recorder: 'sox', sampleRate: 16000, channels: 1, maxRestarts: 2 }, gaps, {}, warnings);
+    const src = await start({ recorder: 'sox', sampleRate: 16000, channels: 1, maxRestarts: 2 }, {}, warnings);
     const blocks: number[] = [];
     const heard: Float32Array[] = [];
+    let frames = 0;
+    let lastStart = 0;
     const err = await (async () => {
       for await (const b of src.blocks()) {
+        if (b.time?.gapBefore) gaps.push({ ...b.time.gapBefore, atFrame: frames });
+        lastStart = b.time!.startS;
+        frames += b.length;
         blocks.push(b.length);
         heard.push(Float32Array.from(b.channels[0]!.subarray(0, b.length)));
       }
     })().then(() => null, (e: unknown) => e);
     expect(err).toBeInstanceOf(RuntimeFailure);
     expect((err as Error).message).toMatch(/^the recorder sox failed 3 times in a row \(last: sox exited with code 3 \(sox FAIL sox: the capture device went away\)\); giving up/);
-    expect(gaps).toEqual([
-      { atFrame: 8000, reason: 'sox exited with code 3 (sox FAIL sox: the capture device went away)', retryInS: 0.5 },
-      { atFrame: 16000, reason: 'sox exited with code 3 (sox FAIL sox: the capture device went away)', retryInS: 1 },
+    // Each hole is marked on the first block after it: where the stream stopped (stream time)
+    // and the audio lost until the next run's first sample (at least the 0.5 s and 1 s of
+    // back-off; loose bounds, a sanity check only).
+    const reason = 'sox exited with code 3 (sox FAIL sox: the capture device went away)';
+    expect(gaps.map((g) => [g.atFrame, g.reason])).toEqual([
+      [8000, reason],
+      [16000, reason],
     ]);
+    expect(gaps[0]!.fromS).toBeCloseTo(0.5, 9);
+    expect(gaps[0]!.lostS).toBeGreaterThan(0.4);
+    expect(gaps[1]!.fromS).toBeCloseTo(1 + gaps[0]!.lostS, 9);
+    expect(gaps[1]!.lostS).toBeGreaterThan(0.9);
+    expect(gaps[1]!.lostS).toBeLessThan(10);
+    // Stream time keeps step with the wall clock: the last run's blocks sit after both holes.
+    expect(lastStart).toBeGreaterThanOrEqual(1 + gaps[0]!.lostS + gaps[1]!.lostS);
     expect(src.restarts).toBe(2);
     expect(warnings.map((w) => w.replace(/^.*; /, ''))).toEqual(['restarting sox in 0.5 s', 'restarting sox in 1 s']);
     expect(blocks.reduce((a, b) => a + b, 0)).toBe(24000); // three runs of 8000 frames each
-    // Each run starts the stream again: the segment after the last gap begins at frame 16000.
-    expect(src.segment?.frame).toBe(16000);
     const all = new Float32Array(24000);
     heard.reduce((o, h) => (all.set(h, o), o + h.length), 0);
     for (let run = 0; run < 3; run++) expect(maxAbsDiff(all.subarray(run * 8000, run * 8000 + 8000), ref.subarray(0, 8000))).toBeLessThanOrEqual(HALF_STEP);
@@ -131,16 +158,19 @@ describe('recorder source with stand-in recorders on PATH', () => {
   it('a recorder that hangs is stopped by the stall detector and restarted; after max restarts it ends with a RuntimeFailure', async () => {
     const { file } = soxRaw('e.raw', 2, 8000, 0.5);
     standIn('arecord', `head -c 6400 "${file}"\nexec sleep 30`);
-    const gaps: RecorderGap[] = [];
-    const src = await start({ recorder: 'arecord', sampleRate: 8000, channels: 2, stallTimeoutS: 1, maxRestarts: 1 }, gaps);
+    const gaps: MarkedGap[] = [];
+    const src = await start({ recorder: 'arecord', sampleRate: 8000, channels: 2, stallTimeoutS: 1, maxRestarts: 1 });
     const t0 = Date.now();
     let frames = 0;
     const err = await (async () => {
-      for await (const b of src.blocks()) frames += b.length;
+      for await (const b of src.blocks()) {
+        if (b.time?.gapBefore) gaps.push({ ...b.time.gapBefore, atFrame: frames });
+        frames += b.length;
+      }
     })().then(() => null, (e: unknown) => e);
     expect(err).toBeInstanceOf(RuntimeFailure);
     expect((err as Error).message).toMatch(/failed 2 times in a row \(last: no audio from arecord for 1 s\)/);
-    expect(gaps).toEqual([{ atFrame: 1600, reason: 'no audio from arecord for 1 s', retryInS: 0.5 }]);
+    expect(gaps.map((g) => [g.atFrame, g.reason])).toEqual([[1600, 'no audio from arecord for 1 s']]);
     expect(frames).toBe(3200);
     // Loose sanity bound only (two stalls of 1 s and one back-off of 0.5 s), not a timing target.
     expect(Date.now() - t0).toBeGreaterThanOrEqual(2400);
@@ -149,11 +179,12 @@ describe('recorder source with stand-in recorders on PATH', () => {
   it('the analysis falling behind drops queued audio as a gap; what follows is contiguous and frame-aligned', async () => {
     const { file, ref } = soxRaw('f.raw', 3, 8000, 12);
     standIn('sox', `exec cat "${file}"\n`);
-    const gaps: RecorderGap[] = [];
-    const src = await start({ recorder: 'sox', sampleRate: 8000, channels: 3 }, gaps, { maxQueueS: 1 });
+    const gaps: MarkedGap[] = [];
+    const src = await start({ recorder: 'sox', sampleRate: 8000, channels: 3 }, { maxQueueS: 1 });
     const got: number[][] = [[], [], []];
     let first = true;
     for await (const b of src.blocks()) {
+      if (b.time?.gapBefore) gaps.push({ ...b.time.gapBefore, atFrame: got[0]!.length });
       for (let c = 0; c < 3; c++) for (let i = 0; i < b.length; i++) got[c]!.push(b.channels[c]![i]!);
       if (first) await new Promise((r) => setTimeout(r, 700)); // slow analysis: the recorder's output piles up
       first = false;
@@ -161,7 +192,9 @@ describe('recorder source with stand-in recorders on PATH', () => {
     }
     expect(gaps.length).toBeGreaterThanOrEqual(1);
     expect(gaps[0]!.reason).toMatch(/^the analysis fell behind the live audio; dropped \d+\.\d s$/);
-    expect(gaps[0]!.retryInS).toBe(0);
+    // The dropped audio counts as lost: stream time jumps by it (it used to be marked as a gap of 0 s).
+    expect(gaps[0]!.lostS).toBeCloseTo(Number(/dropped (\d+\.\d) s/.exec(gaps[0]!.reason)![1]), 1);
+    expect(gaps[0]!.lostS).toBeGreaterThan(0.5);
     // Find where the audio after the gap sits in sox's signal (whitenoise on channel 1 makes it unique), then compare all channels.
     const at = gaps[0]!.atFrame;
     const frameAt = (k: number): number[] => [0, 1, 2].map((c) => ref[k * 3 + c]!);

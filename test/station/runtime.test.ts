@@ -139,10 +139,10 @@ describe('shutdown helper', () => {
     const signals = new EventEmitter();
     const log = new RecordLog('pond-test', { logDir: dir });
     const h = installShutdown([log], { signals, exit: () => {}, log: () => {} });
-    log.writeEvent({ start_s: 1, end_s: 2, azimuth_deg: 5, spread_deg: 1, confidence: 1, track: 0 });
+    log.event({ start_s: 1, end_s: 2, azimuth_deg: 5, spread_deg: 1, confidence: 1, track: 0 });
     signals.emit('SIGHUP');
     await new Promise((r) => setTimeout(r, 10));
-    log.writeEvent({ start_s: 3, end_s: 4, azimuth_deg: 5, spread_deg: 1, confidence: 1, track: 1 });
+    log.event({ start_s: 3, end_s: 4, azimuth_deg: 5, spread_deg: 1, confidence: 1, track: 1 });
     await h.stop('SIGTERM');
     expect(listLogFiles(dir, 'pond-test').length).toBe(2);
     h.dispose();

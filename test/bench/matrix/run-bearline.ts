@@ -17,6 +17,7 @@ import { checkGeometryForStream } from '../../../src/geometry/geometry-file.js';
 import { parseOptionText, type OptionSpec } from '../../../src/options/option-spec.js';
 import { createAnalysis } from '../../../src/analysis/analysis.js';
 import { analysisOptionSpecs, resolveAnalysisOptions, type AnalysisOptions } from '../../../src/analysis/analysis-options.js';
+import { callbackSink } from '../../../src/sinks/record-sink.js';
 import { TrackingSession } from '../../../src/track/tracking-session.js';
 import { resolveTrackerOptions, trackerOptionSpecs, type TrackerOptions } from '../../../src/track/options.js';
 
@@ -133,17 +134,17 @@ export function runBearline(mics: readonly Vec3[], sampleRate: number, speedOfSo
   const setup = createAnalysis(geometry, sampleRate, speedOfSound, settings.analysis);
   const hops: BearlineHop[] = [];
   const events: BearlineEvent[] = [];
-  const session = new TrackingSession(
-    { headingDeg: null, mirror: setup.model.mirror, pairs: setup.model.pairs, maxSources: setup.options.maxSources, diagnostics: false, viewerFields: false },
+  const session = TrackingSession.of(
+    setup,
     settings.tracker,
-    {
-      onFrame: (f) => {
+    callbackSink('the matrix', {
+      frame: (f) => {
         hops.push({ t: f.time_s, az: f.azimuth_deg, el: f.elevation_deg, conf: f.confidence, tdoa0: f.tdoa_s[0] ?? null, features: null });
       },
-      onEvent: (e) => {
+      event: (e) => {
         events.push({ start: e.start_s, end: e.end_s, az: e.azimuth_deg, el: e.elevation_deg ?? null });
       },
-    },
+    }),
   );
   const features: (HopFeatures | null)[] = [];
   const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop);
