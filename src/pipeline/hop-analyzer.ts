@@ -1,6 +1,6 @@
 import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft, type FftBuffer } from '../dsp/fft.js';
-import { addBandScores, PairCorrelator, refineLag } from '../dsp/gcc.js';
+import { addBandScores, hopCoherence, PairCorrelator, refineLag } from '../dsp/gcc.js';
 import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow } from '../dsp/window.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
@@ -20,6 +20,12 @@ const STICKINESS = 0.5;
 const STICKY_LAGS = 2;
 /** The first hops of a stream only learn the noise floor (their SNRs mean little yet). */
 const FLOOR_WARMUP_HOPS = 4;
+/**
+ * A hop below the detection SNR still reports a direction when its own coherence with the
+ * answer stands this many standard deviations above that of incoherent noise
+ * (1 / sqrt(2 bins pairs)).
+ */
+const FRESH_Z = 5;
 /** A band's evidence grows with its SNR up to this many dB. */
 const EVIDENCE_SNR_CAP_DB = 30;
 
@@ -44,6 +50,10 @@ export interface HopResult {
   evidence: number;
   /** Wavelengths across the array at the winner's evidence-weighted mean frequency (the resolving power of its bands). */
   apertureWaves: number;
+  /** This hop's own coherence with the winner's lags over its supporting bands, [0, 1] (no memory). */
+  fresh: number;
+  /** The same in standard deviations of incoherent noise's (sqrt(2 bins pairs) x fresh). */
+  freshZ: number;
   /** True when the strongest source is confident enough to report. */
   valid: boolean;
   /** Refined delay per pair for the strongest source, seconds (NaN when none). */
@@ -102,9 +112,11 @@ export class HopAnalyzer {
   private readonly bandScores: Float64Array;
   private readonly evidence: Float64Array;
   private readonly snrMem: Float64Array;
+  /** Per band: log2(1 + its bin count): a wider band holds more independent evidence, but far less than in proportion (a wide-band interferer must not outweigh a call in several narrower bands). */
+  private readonly bandWidthWeight: Float64Array;
   private readonly fusion: BandFusion;
   private readonly selection: Float64Array;
-  private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0, evidence: 0, apertureWaves: 0, onset: 0 };
+  private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0, evidence: 0, apertureWaves: 0, onset: 0, fresh: 0 };
   /** The array's largest delay, seconds (the widest pair's search limit without margin). */
   private readonly apertureS: number;
   private readonly prevLags: Float64Array;
@@ -156,6 +168,7 @@ export class HopAnalyzer {
     this.bandScores = new Float64Array(options.bands * MAX_CANDIDATES);
     this.evidence = new Float64Array(options.bands);
     this.snrMem = new Float64Array(options.bands);
+    this.bandWidthWeight = Float64Array.from({ length: options.bands }, (_, b) => Math.log2(1 + this.bands.end[b]! - this.bands.start[b]!));
     this.fusion = new BandFusion(options.bands, MAX_CANDIDATES);
     this.selection = new Float64Array(MAX_CANDIDATES);
     this.prevLags = new Float64Array(P);
@@ -179,6 +192,8 @@ export class HopAnalyzer {
       share: 0,
       evidence: 0,
       apertureWaves: 0,
+      fresh: 0,
+      freshZ: 0,
       valid: false,
       tdoaS: new Float64Array(P),
       sourceCount: 0,
@@ -232,9 +247,9 @@ export class HopAnalyzer {
     res.levelDbfs = toDb(totalMs / this.channels);
 
     // Onset weights, the weight memory, each band's SNR over its noise floor and its evidence
-    // (from its SNR, smoothed over the memory). Within a band the bins count by their onset and
-    // presence weights; between bands, by evidence: the correlation for the candidates gives
-    // each band the say of its evidence.
+    // (from its SNR, smoothed over the memory, times log2(1 + its width in bins)).
+    // Within a band the bins count by their onset and presence weights; between bands, by
+    // evidence: the correlation for the candidates gives each band the say of its evidence.
     res.onset = this.onset.update(this.power, k0, k1, this.weights);
     this.onset.bandSnrDb(this.bands, this.power, res.bandSnrDb);
     const mem = this.memory;
@@ -247,7 +262,7 @@ export class HopAnalyzer {
       const bandSnr = res.bandSnrDb[b]!;
       if (bandSnr > snr) snr = bandSnr;
       const smoothed = (this.snrMem[b] = mem * this.snrMem[b]! + (1 - mem) * bandSnr);
-      const e = s > 1e-9 ? evidenceGain(smoothed) : 0;
+      const e = s > 1e-9 ? evidenceGain(smoothed) * this.bandWidthWeight[b]! : 0;
       this.evidence[b] = e;
       const g = e / Math.max(1e-12, s);
       for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) this.binScale[k] = g;
@@ -258,7 +273,7 @@ export class HopAnalyzer {
     // noise floor) that is all (nights are mostly quiet).
     const pairs = this.model.pairs;
     const P = pairs.length;
-    const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs || snr < this.options.detectSnrDb;
+    const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs;
     for (let p = 0; p < P; p++) {
       const [a, b] = pairs[p]!;
       const pc = this.correlators[p]!;
@@ -315,6 +330,8 @@ export class HopAnalyzer {
     res.share = 0;
     res.evidence = 0;
     res.apertureWaves = 0;
+    res.fresh = 0;
+    res.freshZ = 0;
     res.dominantBand = -1;
     res.supportFirstBand = -1;
     res.supportLastBand = -1;
@@ -427,6 +444,9 @@ export class HopAnalyzer {
         this.features.apertureWaves = res.apertureWaves;
         this.features.evidence = fusion.totalEvidence;
         this.features.onset = res.onset;
+        this.features.fresh = this.freshCoherence(first, last, P);
+        res.fresh = this.features.fresh;
+        res.freshZ = first < 0 ? 0 : res.fresh * Math.sqrt(2 * (this.bands.end[last]! - this.bands.start[first]!) * P);
         res.agree = this.features.agree;
         res.share = this.features.share;
         res.confidence = confidenceOf(this.features);
@@ -441,9 +461,28 @@ export class HopAnalyzer {
       }
       res.sourceCount++;
     }
-    res.valid = res.sourceCount > 0 && res.confidence >= opts.minConfidence;
-    this.prevValid = res.valid;
-    if (res.valid) for (let p = 0; p < P; p++) this.prevLags[p] = this.refined0(res, p);
+    // A direction is reported when it is confident enough and something sounds now: the hop
+    // stands out of the noise floor, or its own spectra are coherent with the answer (a steady
+    // source). Otherwise the memory would carry the last call's direction through silence.
+    res.valid = res.sourceCount > 0 && res.confidence >= opts.minConfidence && (res.snrDb >= opts.detectSnrDb || res.freshZ >= FRESH_Z);
+    this.prevValid = res.sourceCount > 0;
+    if (this.prevValid) for (let p = 0; p < P; p++) this.prevLags[p] = this.refined0(res, p);
+  }
+
+  /**
+   * This hop's own coherence with the winner's refined lags over its supporting bands (first to
+   * last), averaged over the pairs: a sounding source, not the memory of one.
+   */
+  private freshCoherence(first: number, last: number, P: number): number {
+    if (first < 0) return 0;
+    const k0 = this.bands.start[first]!;
+    const k1 = this.bands.end[last]!;
+    let sum = 0;
+    for (let p = 0; p < P; p++) {
+      const [a, b] = this.model.pairs[p]!;
+      sum += hopCoherence(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, this.frame, this.refined[p]!, k0, k1);
+    }
+    return Math.max(0, sum / P);
   }
 
   /** The winner's refined lag of pair p (samples). */
