@@ -463,8 +463,11 @@ export class HopAnalyzer {
     }
     // A direction is reported when it is confident enough and something sounds now: the hop
     // stands out of the noise floor, or its own spectra are coherent with the answer (a steady
-    // source). Otherwise the memory would carry the last call's direction through silence.
-    res.valid = res.sourceCount > 0 && res.confidence >= opts.minConfidence && (res.snrDb >= opts.detectSnrDb || res.freshZ >= FRESH_Z);
+    // source). Otherwise the memory would carry the last call's direction through silence; a
+    // hop where nothing sounds has confidence 0.
+    const sounding = res.snrDb >= opts.detectSnrDb || res.freshZ >= FRESH_Z;
+    if (!sounding) res.confidence = 0;
+    res.valid = res.sourceCount > 0 && sounding && res.confidence >= opts.minConfidence;
     this.prevValid = res.sourceCount > 0;
     if (this.prevValid) for (let p = 0; p < P; p++) this.prevLags[p] = this.refined0(res, p);
   }
