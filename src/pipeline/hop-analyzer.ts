@@ -58,6 +58,8 @@ export interface HopResult {
   valid: boolean;
   /** Refined delay per pair for the strongest source, seconds (NaN when none). */
   tdoaS: Float64Array;
+  /** Per pair (arrays of 3+ mics): the delay of the pair's own best correlation peak, seconds (NaN when none). */
+  pairOwnTdoaS: Float64Array;
   /** Sources found, strongest first. */
   sourceCount: number;
   sources: { azimuthDeg: number; elevationDeg: number | null; score: number }[];
@@ -120,6 +122,8 @@ export class HopAnalyzer {
   /** The array's largest delay, seconds (the widest pair's search limit without margin). */
   private readonly apertureS: number;
   private readonly prevLags: Float64Array;
+  private readonly ownLag = new Float64Array(1);
+  private readonly ownHeight = new Float64Array(1);
   private prevValid = false;
   private readonly useBand: Uint8Array;
   private readonly refined: Float64Array;
@@ -196,6 +200,7 @@ export class HopAnalyzer {
       freshZ: 0,
       valid: false,
       tdoaS: new Float64Array(P),
+      pairOwnTdoaS: new Float64Array(P),
       sourceCount: 0,
       sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0 })),
       bandVoteWeight: new Float64Array(options.bands),
@@ -336,6 +341,7 @@ export class HopAnalyzer {
     res.supportFirstBand = -1;
     res.supportLastBand = -1;
     res.tdoaS.fill(NaN);
+    res.pairOwnTdoaS.fill(NaN);
     res.bandVoteWeight.fill(0);
     res.bandVoteCandidate.fill(-1);
     res.bandVoteTdoaS.fill(NaN);
@@ -453,7 +459,11 @@ export class HopAnalyzer {
         res.dominantBand = domBand;
         res.supportFirstBand = first;
         res.supportLastBand = last;
-        for (let p = 0; p < P; p++) res.tdoaS[p] = this.refined[p]! / this.sampleRate;
+        for (let p = 0; p < P; p++) {
+          res.tdoaS[p] = this.refined[p]! / this.sampleRate;
+          // Each pair's own best peak, for the geometry check (src/pipeline/stream-checks.ts).
+          res.pairOwnTdoaS[p] = P > 1 && this.correlators[p]!.peaks(1, this.ownLag, this.ownHeight) === 1 ? this.ownLag[0]! / this.sampleRate : NaN;
+        }
         if (this.diagnostics) this.pairDiagnostics(res, P);
         src.score = 1;
       } else {
