@@ -1,17 +1,15 @@
 /**
  * What `confidence` means: the estimated probability that the hop's direction lies within
  * 5 degrees of the true direction of a source that is sounding (on arrays with a mirror, of
- * the source or its mirror image). It is a logistic function of measurable features of the
- * hop (see ConfidenceFeatures):
- *   confidence = 1 / (1 + exp(-z)),  with s = min(snr, 40 dB) / 10 and
- *   z = b0 + b1 agree + b2 ln(agree + 0.01) + b3 share + b4 s + b5 s agree
- *       + b6 ln(evidence + 0.01) + b7 ln(waves + 0.05) + b8 onset
+ * the source or its mirror image).
  *
- * then mapped through a monotone calibration (CALIBRATION_KNOTS). The coefficients were fitted
- * by logistic regression, and the knots by isotonic regression, on the `tune` half of the
- * generated accuracy corpus (test/bench/matrix/, every hop that had a candidate) and checked
- * on the held-apart `check` half; the README shows the reliability table. Refit after a change to
- * the analysis:
+ * It is a logistic function of measurable features of the hop (ConfidenceFeatures, turned
+ * into the terms of confidenceTerms), mapped through a monotone calibration
+ * (CALIBRATION_KNOTS). The coefficients were fitted by logistic regression, and the knots by
+ * isotonic regression, on the `tune` half of the generated accuracy corpus (test/bench/matrix/,
+ * every hop that had a candidate) and checked on the held-apart `check` half; the README shows
+ * the reliability table. Refit after a change to the analysis (the script prints this file's
+ * two tables; its feature list must match confidenceTerms):
  *   npx tsx test/bench/accuracy-matrix.ts --set analysis.minConfidence=0 --hops /tmp/hops.jsonl
  *   python3 test/bench/matrix/fit_confidence.py /tmp/hops.jsonl
  */
@@ -28,47 +26,45 @@ export interface ConfidenceFeatures {
   apertureWaves: number;
   /** Onset strength of the hop, [0, 1]. */
   onset: number;
-}
-
-export const CONFIDENCE_COEFFICIENTS = {
-  b0: 3.7971,
-  agree: 0.2711,
-  logAgree: 1.1522,
-  share: 0.9291,
-  snr: 0.8322,
-  snrTimesAgree: -0.2573,
-  logEvidence: -2.1643,
-  logWaves: 0.1561,
-  onset: -1.0675,
-} as const;
-
-export function confidenceOf(f: ConfidenceFeatures): number {
-  const k = CONFIDENCE_COEFFICIENTS;
-  const snr = Math.min(f.snrDb, 40) / 10;
-  const z =
-    k.b0 +
-    k.agree * f.agree +
-    k.logAgree * Math.log(f.agree + 0.01) +
-    k.share * f.share +
-    k.snr * snr +
-    k.snrTimesAgree * snr * f.agree +
-    k.logEvidence * Math.log(f.evidence + 0.01) +
-    k.logWaves * Math.log(f.apertureWaves + 0.05) +
-    k.onset * f.onset;
-  return calibrate(1 / (1 + Math.exp(-z)));
+  /** This hop's own coherence with the winner's lags, [0, 1] (no memory). */
+  fresh: number;
 }
 
 /**
- * The logistic output mapped onto the observed share within 5 degrees: a monotone,
- * piecewise-linear map (pool-adjacent-violators over 20 equal-count bins of the tune half),
- * as [logistic output, probability] knots.
+ * The terms of the logistic, in the order of CONFIDENCE_COEFFICIENTS (after its intercept):
+ * agree, ln(agree + 0.01), share, s, s agree, ln(evidence + 0.01), ln(waves + 0.05), onset,
+ * fresh, fresh s; with s = min(snr, 40 dB) / 10.
  */
-export const CALIBRATION_KNOTS: readonly (readonly [number, number])[] = [
-  [0.0, 0.0], [0.0694, 0.1745], [0.1466, 0.1885], [0.2138, 0.2583], [0.2913, 0.3365], [0.3951, 0.3528],
-  [0.5828, 0.4868], [0.7012, 0.4899], [0.744, 0.6115], [0.7846, 0.7765], [0.8229, 0.884], [0.8553, 0.9482],
-  [0.8802, 0.951], [0.9005, 0.9769], [0.9193, 0.9769], [0.9562, 0.9779], [1.0, 1.0],
-];
+export function confidenceTerms(f: ConfidenceFeatures, out: Float64Array): void {
+  const s = Math.min(f.snrDb, 40) / 10;
+  out[0] = f.agree;
+  out[1] = Math.log(f.agree + 0.01);
+  out[2] = f.share;
+  out[3] = s;
+  out[4] = s * f.agree;
+  out[5] = Math.log(f.evidence + 0.01);
+  out[6] = Math.log(f.apertureWaves + 0.05);
+  out[7] = f.onset;
+  out[8] = f.fresh;
+  out[9] = f.fresh * s;
+}
 
+// FITTED-BEGIN (written by test/bench/matrix/fit_confidence.py)
+export const CONFIDENCE_COEFFICIENTS: readonly number[] = [-1.5668, 3.3104, -0.0723, -1.4492, 0.1941, 5.9793, -0.0184, 0.5041, 0.1329, 3.0772, -1.0504];
+export const CALIBRATION_KNOTS: readonly (readonly [number, number])[] = [[0.0, 0.0], [0.087, 0.1389], [0.1466, 0.1604], [0.1959, 0.1723], [0.2516, 0.22], [0.3225, 0.2946], [0.4269, 0.4293], [0.5709, 0.5692], [0.7256, 0.7023], [0.8542, 0.8687], [0.9331, 0.9523], [0.973, 0.9869], [0.9893, 0.9893], [0.9958, 0.9916], [0.9984, 0.997], [0.9994, 0.9982], [0.9998, 0.9994], [1.0, 0.9998], [1.0, 1.0], [1.0, 1.0]];
+// FITTED-END
+
+const terms = new Float64Array(16);
+
+export function confidenceOf(f: ConfidenceFeatures): number {
+  confidenceTerms(f, terms);
+  const k = CONFIDENCE_COEFFICIENTS;
+  let z = k[0]!;
+  for (let i = 1; i < k.length; i++) z += k[i]! * terms[i - 1]!;
+  return calibrate(1 / (1 + Math.exp(-z)));
+}
+
+/** The logistic output mapped onto the observed share within 5 degrees (piecewise linear between the knots). */
 function calibrate(p: number): number {
   const k = CALIBRATION_KNOTS;
   for (let i = 1; i < k.length; i++) {

@@ -1,6 +1,6 @@
 import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft, type FftBuffer } from '../dsp/fft.js';
-import { addBandScores, PairCorrelator, refineLag } from '../dsp/gcc.js';
+import { addBandScores, hopCoherence, PairCorrelator, refineLag } from '../dsp/gcc.js';
 import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow } from '../dsp/window.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
@@ -18,6 +18,12 @@ const STICKINESS = 0.5;
 const STICKY_LAGS = 2;
 /** The first hops of a stream only learn the noise floor (their SNRs mean little yet). */
 const FLOOR_WARMUP_HOPS = 4;
+/**
+ * A hop below the detection SNR still reports a direction when its own coherence with the
+ * answer stands this many standard deviations above that of incoherent noise
+ * (1 / sqrt(2 bins pairs)).
+ */
+const FRESH_Z = 5;
 /** A band's evidence grows with its SNR up to this many dB. */
 const EVIDENCE_SNR_CAP_DB = 30;
 
@@ -42,10 +48,16 @@ export interface HopResult {
   evidence: number;
   /** Wavelengths across the array at the winner's evidence-weighted mean frequency (the resolving power of its bands). */
   apertureWaves: number;
+  /** This hop's own coherence with the winner's lags over its supporting bands, [0, 1] (no memory). */
+  fresh: number;
+  /** The same in standard deviations of incoherent noise's (sqrt(2 bins pairs) x fresh). */
+  freshZ: number;
   /** True when the strongest source is confident enough to report. */
   valid: boolean;
   /** Refined delay per pair for the strongest source, seconds (NaN when none). */
   tdoaS: Float64Array;
+  /** Per pair (arrays of 3+ mics): the delay of the pair's own best correlation peak, seconds (NaN when none). */
+  pairOwnTdoaS: Float64Array;
   /** Sources found, strongest first. */
   sourceCount: number;
   sources: { azimuthDeg: number; elevationDeg: number | null; score: number }[];
@@ -100,12 +112,16 @@ export class HopAnalyzer {
   private readonly bandScores: Float64Array;
   private readonly evidence: Float64Array;
   private readonly snrMem: Float64Array;
+  /** Per band: log2(1 + its bin count): a wider band holds more independent evidence, but far less than in proportion (a wide-band interferer must not outweigh a call in several narrower bands). */
+  private readonly bandWidthWeight: Float64Array;
   private readonly fusion: BandFusion;
   private readonly selection: Float64Array;
-  private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0, evidence: 0, apertureWaves: 0, onset: 0 };
+  private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0, evidence: 0, apertureWaves: 0, onset: 0, fresh: 0 };
   /** The array's largest delay, seconds (the widest pair's search limit without margin). */
   private readonly apertureS: number;
   private readonly prevLags: Float64Array;
+  private readonly ownLag = new Float64Array(1);
+  private readonly ownHeight = new Float64Array(1);
   private prevValid = false;
   private readonly useBand: Uint8Array;
   private readonly refined: Float64Array;
@@ -155,6 +171,7 @@ export class HopAnalyzer {
     this.bandScores = new Float64Array(options.bands * candidates);
     this.evidence = new Float64Array(options.bands);
     this.snrMem = new Float64Array(options.bands);
+    this.bandWidthWeight = Float64Array.from({ length: options.bands }, (_, b) => Math.log2(1 + this.bands.end[b]! - this.bands.start[b]!));
     this.fusion = new BandFusion(options.bands, candidates);
     this.selection = new Float64Array(candidates);
     this.prevLags = new Float64Array(P);
@@ -178,8 +195,11 @@ export class HopAnalyzer {
       share: 0,
       evidence: 0,
       apertureWaves: 0,
+      fresh: 0,
+      freshZ: 0,
       valid: false,
       tdoaS: new Float64Array(P),
+      pairOwnTdoaS: new Float64Array(P),
       sourceCount: 0,
       sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0 })),
       bandVoteWeight: new Float64Array(options.bands),
@@ -231,9 +251,9 @@ export class HopAnalyzer {
     res.levelDbfs = toDb(totalMs / this.channels);
 
     // Onset weights, the weight memory, each band's SNR over its noise floor and its evidence
-    // (from its SNR, smoothed over the memory). Within a band the bins count by their onset and
-    // presence weights; between bands, by evidence: the correlation for the candidates gives
-    // each band the say of its evidence.
+    // (from its SNR, smoothed over the memory, times log2(1 + its width in bins)).
+    // Within a band the bins count by their onset and presence weights; between bands, by
+    // evidence: the correlation for the candidates gives each band the say of its evidence.
     res.onset = this.onset.update(this.power, k0, k1, this.weights);
     this.onset.bandSnrDb(this.bands, this.power, res.bandSnrDb);
     const mem = this.memory;
@@ -246,7 +266,7 @@ export class HopAnalyzer {
       const bandSnr = res.bandSnrDb[b]!;
       if (bandSnr > snr) snr = bandSnr;
       const smoothed = (this.snrMem[b] = mem * this.snrMem[b]! + (1 - mem) * bandSnr);
-      const e = s > 1e-9 ? evidenceGain(smoothed) : 0;
+      const e = s > 1e-9 ? evidenceGain(smoothed) * this.bandWidthWeight[b]! : 0;
       this.evidence[b] = e;
       const g = e / Math.max(1e-12, s);
       for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) this.binScale[k] = g;
@@ -257,7 +277,7 @@ export class HopAnalyzer {
     // noise floor) that is all (nights are mostly quiet).
     const pairs = this.model.pairs;
     const P = pairs.length;
-    const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs || snr < this.options.detectSnrDb;
+    const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs;
     for (let p = 0; p < P; p++) {
       const [a, b] = pairs[p]!;
       const pc = this.correlators[p]!;
@@ -314,10 +334,13 @@ export class HopAnalyzer {
     res.share = 0;
     res.evidence = 0;
     res.apertureWaves = 0;
+    res.fresh = 0;
+    res.freshZ = 0;
     res.dominantBand = -1;
     res.supportFirstBand = -1;
     res.supportLastBand = -1;
     res.tdoaS.fill(NaN);
+    res.pairOwnTdoaS.fill(NaN);
     res.bandVoteWeight.fill(0);
     res.bandVoteCandidate.fill(-1);
     res.bandVoteTdoaS.fill(NaN);
@@ -426,13 +449,20 @@ export class HopAnalyzer {
         this.features.apertureWaves = res.apertureWaves;
         this.features.evidence = fusion.totalEvidence;
         this.features.onset = res.onset;
+        this.features.fresh = this.freshCoherence(first, last, P);
+        res.fresh = this.features.fresh;
+        res.freshZ = first < 0 ? 0 : res.fresh * Math.sqrt(2 * (this.bands.end[last]! - this.bands.start[first]!) * P);
         res.agree = this.features.agree;
         res.share = this.features.share;
         res.confidence = confidenceOf(this.features);
         res.dominantBand = domBand;
         res.supportFirstBand = first;
         res.supportLastBand = last;
-        for (let p = 0; p < P; p++) res.tdoaS[p] = this.refined[p]! / this.sampleRate;
+        for (let p = 0; p < P; p++) {
+          res.tdoaS[p] = this.refined[p]! / this.sampleRate;
+          // Each pair's own best peak, for the geometry check (src/pipeline/stream-checks.ts).
+          res.pairOwnTdoaS[p] = P > 1 && this.correlators[p]!.peaks(1, this.ownLag, this.ownHeight) === 1 ? this.ownLag[0]! / this.sampleRate : NaN;
+        }
         if (this.diagnostics) this.pairDiagnostics(res, P);
         src.score = 1;
       } else {
@@ -440,9 +470,31 @@ export class HopAnalyzer {
       }
       res.sourceCount++;
     }
-    res.valid = res.sourceCount > 0 && res.confidence >= opts.minConfidence;
-    this.prevValid = res.valid;
-    if (res.valid) for (let p = 0; p < P; p++) this.prevLags[p] = this.refined0(res, p);
+    // A direction is reported when it is confident enough and something sounds now: the hop
+    // stands out of the noise floor, or its own spectra are coherent with the answer (a steady
+    // source). Otherwise the memory would carry the last call's direction through silence; a
+    // hop where nothing sounds has confidence 0.
+    const sounding = res.snrDb >= opts.detectSnrDb || res.freshZ >= FRESH_Z;
+    if (!sounding) res.confidence = 0;
+    res.valid = res.sourceCount > 0 && sounding && res.confidence >= opts.minConfidence;
+    this.prevValid = res.sourceCount > 0;
+    if (this.prevValid) for (let p = 0; p < P; p++) this.prevLags[p] = this.refined0(res, p);
+  }
+
+  /**
+   * This hop's own coherence with the winner's refined lags over its supporting bands (first to
+   * last), averaged over the pairs: a sounding source, not the memory of one.
+   */
+  private freshCoherence(first: number, last: number, P: number): number {
+    if (first < 0) return 0;
+    const k0 = this.bands.start[first]!;
+    const k1 = this.bands.end[last]!;
+    let sum = 0;
+    for (let p = 0; p < P; p++) {
+      const [a, b] = this.model.pairs[p]!;
+      sum += hopCoherence(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, this.frame, this.refined[p]!, k0, k1);
+    }
+    return Math.max(0, sum / P);
   }
 
   /** The winner's refined lag of pair p (samples). */

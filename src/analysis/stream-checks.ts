@@ -6,13 +6,13 @@
  *   limit, or beyond spacing / c, the true delay probably lies beyond what the geometry allows: the spacing given is too small, or the
  *   channels are not the mics the geometry names.
  * - Geometry: the per-pair delays of a confident hop should be those of one direction,
- *   (p_a - p_b) . u / c (interface.md). When many hops' delays stay far from the delays of
- *   the direction they solve to (the closure error), the geometry file does not describe the
- *   array (positions, units or channel order wrong).
+ *   (p_a - p_b) . u / c (interface.md). When many hops' best direction leaves the pairs' own
+ *   correlation peaks far from its delays (the closure error), the geometry file does not
+ *   describe the array (positions, units or channel order wrong).
  * Both point to `bearline check-array`. Pure: hop results in, messages out; no I/O.
  */
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
-import { dot, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
+import { dot, sub } from '../geometry/vec3.js';
 import type { HopResult } from './hop-analyzer.js';
 
 /** Confident hops needed before a check may speak. */
@@ -34,7 +34,6 @@ export interface StreamCheckFigures {
 }
 
 export class StreamChecks {
-  private readonly baselines: Vec3[];
   /** Physical delay limit per pair, |p_a - p_b| / c, samples. */
   private readonly physical: Float64Array;
   private readonly largestLag: number;
@@ -49,11 +48,11 @@ export class StreamChecks {
     readonly pairs: readonly MicPair[],
     private readonly maxLag: Int32Array,
     private readonly sampleRate: number,
-    private readonly speedOfSound: number,
+    speedOfSound: number,
     private readonly where: string = 'the stream',
   ) {
-    this.baselines = pairs.map(([a, b]) => sub(geometry.mics[a]!.position, geometry.mics[b]!.position));
-    this.physical = Float64Array.from(this.baselines, (b) => (Math.sqrt(dot(b, b)) / speedOfSound) * sampleRate);
+    const baselines = pairs.map(([a, b]) => sub(geometry.mics[a]!.position, geometry.mics[b]!.position));
+    this.physical = Float64Array.from(baselines, (b) => (Math.sqrt(dot(b, b)) / speedOfSound) * sampleRate);
     this.largestLag = Math.max(1, ...Array.from(maxLag));
   }
 
@@ -69,15 +68,19 @@ export class StreamChecks {
     }
     if (atEdge) this.edge++;
     if (P > 1) {
-      const top = r.sources[0]!;
-      const u = unitFromAzEl(top.azimuthDeg, top.elevationDeg ?? 0);
+      // The delays of one direction (what the search settles on) against each pair's own best
+      // peak: with a right geometry they agree on most confident hops; with wrong positions or
+      // channels the pairs' own peaks lie elsewhere.
       let sq = 0;
+      let n = 0;
       for (let p = 0; p < P; p++) {
-        const predicted = (dot(this.baselines[p]!, u) / this.speedOfSound) * this.sampleRate;
-        const e = r.tdoaS[p]! * this.sampleRate - predicted;
+        const own = r.pairOwnTdoaS[p]!;
+        if (!Number.isFinite(own)) continue;
+        const e = (r.tdoaS[p]! - own) * this.sampleRate;
         sq += e * e;
+        n++;
       }
-      const rms = Math.sqrt(sq / P);
+      const rms = n > 0 ? Math.sqrt(sq / n) : 0;
       if (rms > CLOSURE_SAMPLES && rms > CLOSURE_SHARE * this.largestLag) this.offGeometry++;
     }
     return this.check(false);

@@ -197,3 +197,41 @@ export function inverseMagnitudes(spectrum: ArrayLike<number>, first: number, en
     out[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
   }
 }
+
+/**
+ * Coherence of this hop alone with a lag: the mean over the bins [first, end) of
+ *   Re(conj(X_a) X_b / |X_a X_b| e^{j 2 pi k lag / N})
+ * from the hop's own spectra (no memory, no weights): near 1 when a source at that lag sounds
+ * now, near 0 (within about 1 / sqrt(bins)) when the hop holds only incoherent noise, so it
+ * tells a sounding source from the memory of one that has stopped.
+ */
+export function hopCoherence(
+  a: ArrayLike<number>,
+  b: ArrayLike<number>,
+  invA: Float64Array,
+  invB: Float64Array,
+  n: number,
+  lag: number,
+  first: number,
+  end: number,
+): number {
+  if (end <= first) return 0;
+  const step = (2 * Math.PI * lag) / n;
+  const sr = Math.cos(step);
+  const si = Math.sin(step);
+  let pr = Math.cos(step * first);
+  let pi = Math.sin(step * first);
+  let acc = 0;
+  for (let k = first; k < end; k++) {
+    const xr = a[2 * k]!;
+    const xi = a[2 * k + 1]!;
+    const yr = b[2 * k]!;
+    const yi = b[2 * k + 1]!;
+    const g = invA[k]! * invB[k]!;
+    acc += ((xr * yr + xi * yi) * pr - (xr * yi - xi * yr) * pi) * g;
+    const t = pr * sr - pi * si;
+    pi = pr * si + pi * sr;
+    pr = t;
+  }
+  return acc / (end - first);
+}

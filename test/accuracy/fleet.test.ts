@@ -35,7 +35,7 @@ describe('simulated fleet of three stations around a caller at 50 m', () => {
             name: 'caller',
             position_m: CALLER,
             signal: { type: 'noise', low_hz: 400, high_hz: 8000 },
-            level: { db_spl_at_1m: 100 }, // about -44 dBFS at 50 m: above the event threshold (--event-enter-db -45)
+            level: { db_spl_at_1m: 100 }, // about -44 dBFS at 50 m, far above the floor (--event-enter-snr)
             calls: { start_s: 0.3, length_s: 0.15, every_s: 0.8, jitter_s: 0.1 },
           },
         ],

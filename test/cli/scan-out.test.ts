@@ -43,7 +43,7 @@ const SCAN = (): string[] => ['scan', pair, '--spacing', '0.2'];
 describe('scan --out: a bad option found after the input is opened changes nothing (issue 15 bug)', () => {
   it.each([
     ['tracker pair', ['--confirm-hits', '5', '--confirm-window', '3'], /--confirm-hits/],
-    ['tracker levels', ['--event-enter-snr', '6', '--event-leave-snr', '9'], /--event-leave-snr 9 against --event-enter-snr 6/],
+    ['tracker levels', ['--event-enter-snr', '6', '--event-leave-snr', '12'], /--event-leave-snr 12 against --event-enter-snr 6/],
     ['analysis frame (checked against the file\'s rate)', ['--frame', '100'], /--frame/],
   ])('%s: exit 2, the old file byte for byte, no partial file', (_name, bad, named) => {
     const { dir, path, old } = withOldFile();

@@ -4,10 +4,10 @@ regression (iteratively reweighted least squares, a small ridge) on the per-hop 
 accuracy matrix, and check the fit on the held-apart half.
 
     npx tsx test/bench/accuracy-matrix.ts --set analysis.minConfidence=0 --hops /tmp/hops.jsonl
-    python3 test/bench/matrix/fit_confidence.py /tmp/hops.jsonl
+    python3 test/bench/matrix/fit_confidence.py /tmp/hops.jsonl [src/pipeline/confidence.ts]
 
 Label: the hop's direction lies within 5 degrees of a sounding source (err <= 5). Hops without
-a candidate are left out. Features: see FEATURES below (the same transforms as confidence.ts).
+a candidate, and the KEMAR cells (a head's delays fit no far-field direction), are left out. Features: see FEATURES below (the same transforms as confidence.ts).
 numpy is the only dependency.
 """
 import json
@@ -15,7 +15,7 @@ import sys
 
 import numpy as np
 
-FEATURES = ["agree", "log_agree", "share", "snr", "snr_x_agree", "log_evidence", "log_waves", "onset"]
+FEATURES = ["agree", "log_agree", "share", "snr", "snr_x_agree", "log_evidence", "log_waves", "onset", "fresh", "fresh_x_snr"]
 
 
 def features(f):
@@ -29,6 +29,8 @@ def features(f):
         np.log(f["evidence"] + 0.01),
         np.log(f["apertureWaves"] + 0.05),
         f["onset"],
+        f["fresh"],
+        f["fresh"] * snr,
     ]
 
 
@@ -38,6 +40,10 @@ def load(path):
         for line in fh:
             r = json.loads(line)
             if not r.get("dir") or r.get("features") is None:
+                continue
+            # A head's delays fit no far-field direction of a 0.25 m pair: its angles cannot be
+            # within 5 degrees, so those cells say nothing about confidence.
+            if r.get("family") == "kemar":
                 continue
             x, y = rows[r["split"]]
             x.append(features(r["features"]))
@@ -101,6 +107,22 @@ def reliability(p, y, title):
         print(f"  {lo:.1f}-{lo + 0.1:.1f}   {m.sum():6d}      {p[m].mean():.3f}      {100 * y[m].mean():5.1f}%")
 
 
+def write_fitted(path, w, knots):
+    """Replace the fitted tables between the FITTED markers of src/pipeline/confidence.ts."""
+    text = open(path).read()
+    a = text.index("// FITTED-BEGIN")
+    b = text.index("// FITTED-END")
+    coef = ", ".join(f"{v:.4f}" for v in w)
+    kn = ", ".join(f"[{x}, {y}]" for x, y in knots)
+    block = (
+        "// FITTED-BEGIN (written by test/bench/matrix/fit_confidence.py)\n"
+        f"export const CONFIDENCE_COEFFICIENTS: readonly number[] = [{coef}];\n"
+        f"export const CALIBRATION_KNOTS: readonly (readonly [number, number])[] = [{kn}];\n"
+    )
+    open(path, "w").write(text[:a] + block + text[b:])
+    print(f"wrote the fitted tables to {path}")
+
+
 def main():
     data = load(sys.argv[1])
     xt, yt = data["tune"]
@@ -112,6 +134,8 @@ def main():
     knots = isotonic_knots(predict(w, xt), yt)
     print("calibration knots (logistic output -> probability):")
     print("  " + ", ".join(f"[{x}, {yv}]" for x, yv in knots))
+    if len(sys.argv) > 2:
+        write_fitted(sys.argv[2], w, knots)
     for name, (x, y) in (("tune", (xt, yt)), ("check", (xc, yc))):
         p = apply_knots(knots, predict(w, x))
         brier = np.mean((p - y) ** 2)

@@ -214,7 +214,7 @@ export function formatTargets(t: readonly TargetCheck[]): string[] {
 }
 
 export function formatReliability(title: string, bins: readonly ReliabilityBin[]): string[] {
-  const out = ['', `reliability of confidence (${title}): hops with a direction per confidence decile`, '  confidence   hops  mean conf  within 5 deg'];
+  const out = ['', `reliability of confidence (${title}): hops with a direction per confidence decile (KEMAR cells left out)`, '  confidence   hops  mean conf  within 5 deg'];
   for (const b of bins) {
     out.push(`  ${b.lo.toFixed(1)}-${b.hi.toFixed(1)}  ${String(b.hops).padStart(7)}  ${b.meanConfidence === null ? '        -' : b.meanConfidence.toFixed(3).padStart(9)}  ${b.within5 === null ? '-' : `${pct(b.within5)}%`.padStart(12)}`);
   }

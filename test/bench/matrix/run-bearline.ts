@@ -47,6 +47,7 @@ export interface HopFeatures {
   readonly evidence: number;
   readonly apertureWaves: number;
   readonly onset: number;
+  readonly fresh: number;
 }
 
 export interface BearlineEvent {
@@ -150,7 +151,7 @@ export function runBearline(mics: readonly Vec3[], sampleRate: number, speedOfSo
   const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop);
   framer.push(channels as Float32Array[], channels[0]!.length, (frames) => {
     const r = setup.analyzer.process(frames);
-    features.push(r.sourceCount > 0 ? { agree: r.agree, share: r.share, snrDb: r.snrDb, evidence: r.evidence, apertureWaves: r.apertureWaves, onset: r.onset } : null);
+    features.push(r.sourceCount > 0 ? { agree: r.agree, share: r.share, snrDb: r.snrDb, evidence: r.evidence, apertureWaves: r.apertureWaves, onset: r.onset, fresh: r.fresh } : null);
     void session.hop(r);
   });
   hops.forEach((h, i) => ((h as { features: HopFeatures | null }).features = features[i] ?? null));

@@ -1,0 +1,67 @@
+/**
+ * The stream checks of src/pipeline/stream-checks.ts: said once on stderr, and again in
+ * `--summary`. Signals made by sox (fractional delays: 10x rate, whole-sample delays, resample;
+ * references.md) from the far-field delay formula of interface.md, tdoa = (p_a - p_b) . u / c.
+ */
+import { writeFileSync } from 'node:fs';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { unitFromAzEl } from '../../src/geometry/vec3.js';
+import { runCli } from '../helpers/cli.js';
+import { farFieldDelaysUp, soxDelayedSignal, tempDir } from '../helpers/sox.js';
+
+const tmp = tempDir();
+afterAll(() => tmp.cleanup());
+const EDGE = /at or beyond the largest delay the geometry allows/g;
+const OFF_GEOMETRY = /fit no single direction of this geometry/g;
+
+let pairWav: string;
+let squareWav: string;
+const square = [
+  [-0.05, 0.05, 0],
+  [0.05, 0.05, 0],
+  [0.05, -0.05, 0],
+  [-0.05, -0.05, 0],
+];
+beforeAll(() => {
+  // Calls every 0.5 s from -50 degrees for a real 0.2 m pair (delay 447 us), and from 40
+  // degrees for the 10 cm square of configs/arrays/square-10cm.json.
+  const calls = ['sinc', '300-6000', 'pad', '0.2', '0.2', 'repeat', '5'];
+  pairWav = soxDelayedSignal({ out: `${tmp.dir}/pair.wav`, delaysUp: farFieldDelaysUp([[-0.1, 0, 0], [0.1, 0, 0]], unitFromAzEl(-50, 0), 343, 480000), durationS: 0.3, effects: calls }, tmp.dir);
+  squareWav = soxDelayedSignal({ out: `${tmp.dir}/square.wav`, delaysUp: farFieldDelaysUp(square, unitFromAzEl(40, 0), 343, 480000), durationS: 0.3, effects: calls }, tmp.dir);
+});
+
+const count = (text: string, re: RegExp) => (text.match(re) ?? []).length;
+
+describe('stream checks: said once, plainly', () => {
+  it('a spacing given too small (0.1 m for a 0.2 m pair): the window-edge warning, once, pointing to check-array', () => {
+    const r = runCli(['scan', pairWav, '--spacing', '0.1']);
+    expect(r.status).toBe(0);
+    expect(count(r.stderr, EDGE)).toBe(1);
+    expect(r.stderr).toMatch(/bearline check-array/);
+  });
+
+  it('the right spacing: no warning', () => {
+    const r = runCli(['scan', pairWav, '--spacing', '0.2']);
+    expect(r.status).toBe(0);
+    expect(r.stderr).not.toMatch(EDGE);
+    expect(r.stderr).not.toMatch(OFF_GEOMETRY);
+  });
+
+  it('--summary repeats it under the track table', () => {
+    const r = runCli(['scan', pairWav, '--spacing', '0.1', '--summary']);
+    expect(r.status).toBe(0);
+    expect(count(r.stderr, EDGE)).toBe(2);
+    expect(r.stderr).toMatch(/warning: \d+ % of the confident hops/);
+  });
+
+  it('a geometry file with two channels swapped: the delays fit no direction, said once', () => {
+    const swapped = { name: 'square-swapped', mics: [0, 2, 1, 3].map((m, channel) => ({ channel, position_m: square[m] })) };
+    const path = `${tmp.dir}/swapped.json`;
+    writeFileSync(path, JSON.stringify(swapped));
+    const bad = runCli(['scan', squareWav, '--array', path]);
+    expect(bad.status).toBe(0);
+    expect(count(bad.stderr, OFF_GEOMETRY)).toBe(1);
+    const good = runCli(['scan', squareWav, '--array', 'configs/arrays/square-10cm.json']);
+    expect(good.stderr).not.toMatch(OFF_GEOMETRY);
+  });
+});
