@@ -13,7 +13,7 @@ import { UsageError } from '../util/errors.js';
 import { micPairs, type ArrayGeometry } from '../geometry/array-geometry.js';
 import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
 import { angleBetweenDeg, bestDirection, pairConeAngleDeg } from './direction-fit.js';
-import { solveLeastSquares } from './least-squares.js';
+import { solveLeastSquares, type LeastSquaresResult } from './least-squares.js';
 import type { BenchCheckOptions } from './options.js';
 import type { TakeDelays } from './take-delays.js';
 
@@ -139,81 +139,100 @@ function median(xs: number[]): number {
   return s.length % 2 ? s[m]! : (s[m - 1]! + s[m]!) / 2;
 }
 
-export function fitBenchArray(geometry: ArrayGeometry, speedOfSound: number, sampleRate: number, takes: readonly BenchTake[], opts: BenchCheckOptions): BenchFit {
-  const c = speedOfSound;
-  const M = geometry.mics.length;
-  const pairs = micPairs(geometry).map(([a, b]) => [a, b] as [number, number]);
-  const P = pairs.length;
-  const file = geometry.mics.map((m) => m.position);
-  const mode: 'spacing' | 'positions' = M === 2 ? 'spacing' : 'positions';
-  const threeD = takes.some((t) => t.elevationDeg !== null && t.elevationDeg !== 0);
-  const dims = mode === 'spacing' ? 1 : threeD ? 3 : 2;
-  const axis: Vec3 = mode === 'spacing' ? scale(sub(file[1]!, file[0]!), 1 / norm(sub(file[1]!, file[0]!))) : [1, 0, 0];
-  const longest = Math.max(...takes.map((t) => t.durationS));
-  let fitDrift = longest >= opts.driftMinSpanS;
-  const notes: string[] = [];
-  if (!fitDrift) notes.push(`drift not measured: the longest take lasts ${longest.toFixed(1)} s, under the ${opts.driftMinSpanS} s needed (--drift-min-span)`);
-  const units = takes.map((t) => unitFromAzEl(t.azimuthDeg, t.elevationDeg ?? 0));
+/** What every step of the fit needs: the array as the file gives it, the pairs and the take directions. */
+interface FitSetup {
+  readonly c: number;
+  readonly M: number;
+  readonly pairs: [number, number][];
+  readonly file: readonly Vec3[];
+  readonly mode: 'spacing' | 'positions';
+  /** Coordinates fitted per mic: 1 (pair axis), 2 (x, y) or 3. */
+  readonly dims: number;
+  readonly threeD: boolean;
+  /** The pair's axis (pair mode). */
+  readonly axis: Vec3;
+  readonly takes: readonly BenchTake[];
+  /** Unit direction of each take. */
+  readonly units: Vec3[];
+}
 
-  const fileTdoa = (p: number, u: Vec3): number => dot(sub(file[pairs[p]![0]]!, file[pairs[p]![1]]!), u) / c;
+/** The delay of pair p for direction u with the file's geometry. */
+function fileTdoa(f: FitSetup, p: number, u: Vec3): number {
+  return dot(sub(f.file[f.pairs[p]![0]]!, f.file[f.pairs[p]![1]]!), u) / f.c;
+}
 
-  const buildRows = (cols: Columns, withGeometry: boolean): Row[] => {
-    const rows: Row[] = [];
-    takes.forEach((t, ti) => {
-      const u = units[ti]!;
-      t.delays.segments.forEach((s, si) => {
-        for (let p = 0; p < P; p++) {
-          const tau = s.tdoaS[p]!;
-          if (!Number.isFinite(tau)) continue;
-          const [a, b] = pairs[p]!;
-          const k = new Float64Array(cols.total);
-          if (b > 0) k[cols.offset + b - 1] += 1;
-          if (a > 0) k[cols.offset + a - 1] -= 1;
-          if (cols.drift >= 0) {
-            if (b > 0) k[cols.drift + b - 1] += s.timeS;
-            if (a > 0) k[cols.drift + a - 1] -= s.timeS;
-          }
-          if (withGeometry) {
-            if (mode === 'spacing') {
-              // p_1 = p_1(file) + ds * axis, so d tdoa / d ds = -(axis . u) / c.
-              k[cols.geometry] = -dot(axis, u) / c;
-            } else {
-              for (let d = 0; d < dims; d++) {
-                if (a > 0) k[cols.geometry + (a - 1) * dims + d] += u[d]! / c;
-                if (b > 0) k[cols.geometry + (b - 1) * dims + d] -= u[d]! / c;
-              }
+/** One row of the linear model per pair, segment and take with a delay. */
+function buildRows(f: FitSetup, cols: Columns, withGeometry: boolean): Row[] {
+  const rows: Row[] = [];
+  f.takes.forEach((t, ti) => {
+    const u = f.units[ti]!;
+    t.delays.segments.forEach((s, si) => {
+      for (let p = 0; p < f.pairs.length; p++) {
+        const tau = s.tdoaS[p]!;
+        if (!Number.isFinite(tau)) continue;
+        const [a, b] = f.pairs[p]!;
+        const k = new Float64Array(cols.total);
+        if (b > 0) k[cols.offset + b - 1] += 1;
+        if (a > 0) k[cols.offset + a - 1] -= 1;
+        if (cols.drift >= 0) {
+          if (b > 0) k[cols.drift + b - 1] += s.timeS;
+          if (a > 0) k[cols.drift + a - 1] -= s.timeS;
+        }
+        if (withGeometry) {
+          if (f.mode === 'spacing') {
+            // p_1 = p_1(file) + ds * axis, so d tdoa / d ds = -(axis . u) / c.
+            k[cols.geometry] = -dot(f.axis, u) / f.c;
+          } else {
+            for (let d = 0; d < f.dims; d++) {
+              if (a > 0) k[cols.geometry + (a - 1) * f.dims + d] += u[d]! / f.c;
+              if (b > 0) k[cols.geometry + (b - 1) * f.dims + d] -= u[d]! / f.c;
             }
           }
-          rows.push({ take: ti, seg: si, pair: p, timeS: s.timeS, y: tau - fileTdoa(p, u), coeffs: k });
         }
-      });
+        rows.push({ take: ti, seg: si, pair: p, timeS: s.timeS, y: tau - fileTdoa(f, p, u), coeffs: k });
+      }
     });
-    return rows;
-  };
+  });
+  return rows;
+}
 
-  const geometryCount = mode === 'spacing' ? 1 : dims * (M - 1);
+/** The least-squares solution with the unknowns the takes determine, after one pass of outlier rejection. */
+interface Solved {
+  sol: LeastSquaresResult;
+  cols: Columns;
+  rows: Row[];
+  withGeometry: boolean;
+  fitDrift: boolean;
+  /** Rows rejected as outliers (0 when none or when rejection was not applied). */
+  rejected: number;
+}
+
+function solve(f: FitSetup, fitDriftWanted: boolean, sampleRate: number, notes: string[]): Solved {
+  const { M, mode, threeD } = f;
+  let fitDrift = fitDriftWanted;
+  const solveRows = (rows: Row[], cols: Columns): LeastSquaresResult => solveLeastSquares(rows.map((r) => r.coeffs), Float64Array.from(rows.map((r) => r.y)), cols.total);
+  const geometryCount = mode === 'spacing' ? 1 : f.dims * (M - 1);
   let withGeometry = true;
   let cols = layout(M, fitDrift, geometryCount);
-  let rows = buildRows(cols, withGeometry);
+  let rows = buildRows(f, cols, withGeometry);
   if (rows.length === 0) {
     throw new UsageError('no take gave a usable delay: check that the stimulus was playing and reached every mic');
   }
-  let sol = solveLeastSquares(rows.map((r) => r.coeffs), Float64Array.from(rows.map((r) => r.y)), cols.total);
-  const geometryUndetermined = (): boolean => sol.undetermined.slice(cols.geometry, cols.geometry + cols.geometryCount).some(Boolean);
-  if (geometryUndetermined()) {
+  let sol = solveRows(rows, cols);
+  if (sol.undetermined.slice(cols.geometry, cols.geometry + cols.geometryCount).some(Boolean)) {
     const need = mode === 'spacing' ? 'two directions at least (best spread from -60 to 60 degrees)' : threeD ? 'four directions at least, not all in one plane' : 'three directions at least, spread around the array';
     notes.push(`${mode === 'spacing' ? 'spacing' : 'positions'} not measured: the takes do not tell geometry from timing offsets; record ${need}`);
     withGeometry = false;
     cols = layout(M, fitDrift, 0);
-    rows = buildRows(cols, false);
-    sol = solveLeastSquares(rows.map((r) => r.coeffs), Float64Array.from(rows.map((r) => r.y)), cols.total);
+    rows = buildRows(f, cols, false);
+    sol = solveRows(rows, cols);
   }
   if (fitDrift && sol.undetermined.slice(cols.drift, cols.drift + M - 1).some(Boolean)) {
     notes.push('drift not measured: the takes do not tell it from the other unknowns');
     fitDrift = false;
     cols = layout(M, false, withGeometry ? geometryCount : 0);
-    rows = buildRows(cols, withGeometry);
-    sol = solveLeastSquares(rows.map((r) => r.coeffs), Float64Array.from(rows.map((r) => r.y)), cols.total);
+    rows = buildRows(f, cols, withGeometry);
+    sol = solveRows(rows, cols);
   }
 
   // One pass of outlier rejection (a segment that locked onto a wrong peak).
@@ -221,178 +240,211 @@ export function fitBenchArray(geometry: ArrayGeometry, speedOfSound: number, sam
   const robust = 1.4826 * median(absRes);
   const limit = Math.max(6 * robust, 0.05 / sampleRate);
   const keep = absRes.map((r) => r <= limit);
-  const rejected = keep.filter((k) => !k).length;
+  let rejected = keep.filter((k) => !k).length;
   if (rejected > 0 && rejected < rows.length / 2) {
     rows = rows.filter((_, i) => keep[i]);
-    sol = solveLeastSquares(rows.map((r) => r.coeffs), Float64Array.from(rows.map((r) => r.y)), cols.total);
+    sol = solveRows(rows, cols);
+  } else {
+    rejected = 0;
   }
+  return { sol, cols, rows, withGeometry, fitDrift, rejected };
+}
+
+/** The fitted mic geometry: a pair's spacing, or positions centred on the file's centroid; null when not fitted. */
+function fittedGeometry(f: FitSetup, s: Solved, est: (j: number) => Estimate): { spacing: Estimate | null; positions: Vec3[] | null; positionSigma: Vec3[] | null } {
+  const { file, dims } = f;
+  if (!s.withGeometry) return { spacing: null, positions: null, positionSigma: null };
+  if (f.mode === 'spacing') {
+    const ds = est(s.cols.geometry);
+    const sp = norm(sub(file[1]!, file[0]!)) + ds.value;
+    const centre = scale(add(file[0]!, file[1]!), 0.5);
+    const sa = scale(f.axis, ds.sigma);
+    return {
+      spacing: { value: Math.abs(sp), sigma: ds.sigma },
+      positions: [add(centre, scale(f.axis, -sp / 2)), add(centre, scale(f.axis, sp / 2))],
+      positionSigma: [[0, 0, 0], [Math.abs(sa[0]), Math.abs(sa[1]), Math.abs(sa[2])]],
+    };
+  }
+  const raw: [number, number, number][] = file.map((p) => [p[0], p[1], p[2]]);
+  const sig: [number, number, number][] = file.map(() => [0, 0, 0]);
+  for (let ch = 1; ch < f.M; ch++) {
+    for (let d = 0; d < dims; d++) {
+      const e = est(s.cols.geometry + (ch - 1) * dims + d);
+      raw[ch]![d] = file[ch]![d]! + e.value;
+      sig[ch]![d] = e.sigma;
+    }
+  }
+  // Centre the fitted coordinates on the file's centroid (the shift is unobservable).
+  for (let d = 0; d < dims; d++) {
+    const shift = mean(file.map((p) => p[d]!)) - mean(raw.map((p) => p[d]!));
+    for (const p of raw) p[d] += shift;
+  }
+  return { spacing: null, positions: raw, positionSigma: sig };
+}
+
+/** Channel order: the permutation that puts the fitted positions nearest the file's. */
+function channelOrder(f: FitSetup, positions: Vec3[] | null): { channelMap: number[]; swapped: boolean | null } {
+  let channelMap = Array.from({ length: f.M }, (_, i) => i);
+  if (!positions) return { channelMap, swapped: null };
+  let bestCost = Infinity;
+  for (const perm of permutations(f.M)) {
+    let cost = 0;
+    for (let ch = 0; ch < f.M && cost < bestCost; ch++) {
+      const d = sub(positions[ch]!, f.file[perm[ch]!]!);
+      cost += d[0] * d[0] + d[1] * d[1] + (f.dims === 3 ? d[2] * d[2] : 0);
+    }
+    if (cost < bestCost) {
+      bestCost = cost;
+      channelMap = perm;
+    }
+  }
+  return { channelMap, swapped: channelMap.some((m, i) => m !== i) };
+}
+
+/** Polarity: the sign of pair (0, c) over all segments; support from every pair. */
+function polarity(f: FitSetup): { polarityInverted: boolean[]; polaritySupport: number[] } {
+  const { M, pairs, takes } = f;
+  const P = pairs.length;
+  const signSum = new Float64Array(M);
+  for (const t of takes) for (const s of t.delays.segments) for (let p = 0; p < P; p++) if (pairs[p]![0] === 0) signSum[pairs[p]![1]] += s.sign[p]!;
+  const polarityInverted = Array.from(signSum, (v, ch) => ch > 0 && v < 0);
+  const agree = new Float64Array(M);
+  const count = new Float64Array(M);
+  for (const t of takes) {
+    for (const s of t.delays.segments) {
+      for (let p = 0; p < P; p++) {
+        if (s.sign[p] === 0) continue;
+        const [a, b] = pairs[p]!;
+        const expect = (polarityInverted[a] ? -1 : 1) * (polarityInverted[b] ? -1 : 1);
+        const ok = s.sign[p] === expect ? 1 : 0;
+        for (const ch of [a, b]) {
+          agree[ch] += ok;
+          count[ch] += 1;
+        }
+      }
+    }
+  }
+  const polaritySupport = Array.from({ length: M }, (_, ch) => (count[ch]! > 0 ? agree[ch]! / count[ch]! : 0));
+  return { polarityInverted, polaritySupport };
+}
+
+/** Gain per channel against channel 0, from the take levels. */
+function gains(f: FitSetup): Estimate[] {
+  const gainDb: Estimate[] = [];
+  for (let ch = 0; ch < f.M; ch++) {
+    const d = f.takes.map((t) => t.delays.levelDbfs[ch]! - t.delays.levelDbfs[0]!).filter(Number.isFinite);
+    const m = mean(d);
+    const sd = d.length > 1 ? Math.sqrt(d.reduce((s, v) => s + (v - m) ** 2, 0) / (d.length - 1)) / Math.sqrt(d.length) : 0;
+    gainDb.push({ value: ch === 0 ? 0 : m, sigma: ch === 0 ? 0 : sd });
+  }
+  return gainDb;
+}
+
+/** One take: expected, measured and fitted delays; direction error before and after the fit. */
+function takeResult(f: FitSetup, ti: number, fittedPositions: readonly Vec3[], offset: readonly Estimate[], drift: readonly Estimate[] | null): TakeResult {
+  const { pairs, c } = f;
+  const P = pairs.length;
+  const t = f.takes[ti]!;
+  const u = f.units[ti]!;
+  const used = t.delays.segments.map((s) => s.tdoaS);
+  const measured = new Float64Array(P);
+  const corrected = new Float64Array(P);
+  const fitted: number[] = [];
+  let segmentsUsed = 0;
+  for (const s of t.delays.segments) if (Array.from(s.tdoaS).some(Number.isFinite)) segmentsUsed++;
+  for (let p = 0; p < P; p++) {
+    const [a, b] = pairs[p]!;
+    const vals: number[] = [];
+    const corr: number[] = [];
+    t.delays.segments.forEach((s, si) => {
+      const v = used[si]![p]!;
+      if (!Number.isFinite(v)) return;
+      vals.push(v);
+      let k = offset[b]!.value - offset[a]!.value;
+      if (drift) k += (drift[b]!.value - drift[a]!.value) * US * s.timeS;
+      corr.push(v - k);
+    });
+    measured[p] = vals.length ? mean(vals) : NaN;
+    corrected[p] = corr.length ? mean(corr) : NaN;
+    const tMid = mean(t.delays.segments.map((s) => s.timeS));
+    let model = dot(sub(fittedPositions[a]!, fittedPositions[b]!), u) / c + offset[b]!.value - offset[a]!.value;
+    if (drift) model += (drift[b]!.value - drift[a]!.value) * US * tMid;
+    fitted.push(model);
+  }
+  return {
+    label: t.label,
+    azimuthDeg: t.azimuthDeg,
+    elevationDeg: t.elevationDeg,
+    expectedS: Array.from({ length: P }, (_, p) => fileTdoa(f, p, u)),
+    measuredS: Array.from(measured),
+    fittedS: fitted,
+    errorBeforeDeg: directionError(f.file, pairs, measured, c, u, f.mode, !f.threeD),
+    errorAfterDeg: directionError(fittedPositions, pairs, corrected, c, u, f.mode, !f.threeD),
+    segmentsUsed,
+    segments: t.delays.segments.length,
+  };
+}
+
+export function fitBenchArray(geometry: ArrayGeometry, speedOfSound: number, sampleRate: number, takes: readonly BenchTake[], opts: BenchCheckOptions): BenchFit {
+  const M = geometry.mics.length;
+  const file = geometry.mics.map((m) => m.position);
+  const mode: 'spacing' | 'positions' = M === 2 ? 'spacing' : 'positions';
+  const threeD = takes.some((t) => t.elevationDeg !== null && t.elevationDeg !== 0);
+  const f: FitSetup = {
+    c: speedOfSound,
+    M,
+    pairs: micPairs(geometry).map(([a, b]) => [a, b] as [number, number]),
+    file,
+    mode,
+    dims: mode === 'spacing' ? 1 : threeD ? 3 : 2,
+    threeD,
+    axis: mode === 'spacing' ? scale(sub(file[1]!, file[0]!), 1 / norm(sub(file[1]!, file[0]!))) : [1, 0, 0],
+    takes,
+    units: takes.map((t) => unitFromAzEl(t.azimuthDeg, t.elevationDeg ?? 0)),
+  };
+  const longest = Math.max(...takes.map((t) => t.durationS));
+  const notes: string[] = [];
+  const fitDriftWanted = longest >= opts.driftMinSpanS;
+  if (!fitDriftWanted) notes.push(`drift not measured: the longest take lasts ${longest.toFixed(1)} s, under the ${opts.driftMinSpanS} s needed (--drift-min-span)`);
+  const solved = solve(f, fitDriftWanted, sampleRate, notes);
+  const { sol, cols } = solved;
   const est = (j: number): Estimate => ({ value: sol.x[j]!, sigma: Math.sqrt(Math.max(0, sol.cov[j * cols.total + j]!)) });
 
   const offset: Estimate[] = [{ value: 0, sigma: 0 }];
   for (let ch = 1; ch < M; ch++) offset.push(est(cols.offset + ch - 1));
   let drift: Estimate[] | null = null;
-  if (fitDrift) {
+  if (solved.fitDrift) {
     drift = [{ value: 0, sigma: 0 }];
     for (let ch = 1; ch < M; ch++) {
       const e = est(cols.drift + ch - 1);
       drift.push({ value: e.value * 1e6, sigma: e.sigma * 1e6 });
     }
   }
-
-  // Geometry.
-  let spacing: Estimate | null = null;
-  let positions: Vec3[] | null = null;
-  let positionSigma: Vec3[] | null = null;
-  const spacingFileM = mode === 'spacing' ? norm(sub(file[1]!, file[0]!)) : null;
-  if (withGeometry) {
-    if (mode === 'spacing') {
-      const ds = est(cols.geometry);
-      const s = spacingFileM! + ds.value;
-      const centre = scale(add(file[0]!, file[1]!), 0.5);
-      positions = [add(centre, scale(axis, -s / 2)), add(centre, scale(axis, s / 2))];
-      spacing = { value: Math.abs(s), sigma: ds.sigma };
-      const sa = scale(axis, ds.sigma);
-      positionSigma = [[0, 0, 0], [Math.abs(sa[0]), Math.abs(sa[1]), Math.abs(sa[2])]];
-    } else {
-      const raw: [number, number, number][] = file.map((p) => [p[0], p[1], p[2]]);
-      const sig: [number, number, number][] = file.map(() => [0, 0, 0]);
-      for (let ch = 1; ch < M; ch++) {
-        for (let d = 0; d < dims; d++) {
-          const e = est(cols.geometry + (ch - 1) * dims + d);
-          raw[ch]![d] = file[ch]![d]! + e.value;
-          sig[ch]![d] = e.sigma;
-        }
-      }
-      // Centre the fitted coordinates on the file's centroid (the shift is unobservable).
-      for (let d = 0; d < dims; d++) {
-        const shift = mean(file.map((p) => p[d]!)) - mean(raw.map((p) => p[d]!));
-        for (const p of raw) p[d] += shift;
-      }
-      positions = raw;
-      positionSigma = sig;
-    }
-  }
-
-  // Channel order: the permutation that puts the fitted positions nearest the file's.
-  let channelMap = Array.from({ length: M }, (_, i) => i);
-  let swapped: boolean | null = null;
-  if (positions) {
-    let bestCost = Infinity;
-    for (const perm of permutations(M)) {
-      let cost = 0;
-      for (let ch = 0; ch < M && cost < bestCost; ch++) {
-        const d = sub(positions[ch]!, file[perm[ch]!]!);
-        cost += d[0] * d[0] + d[1] * d[1] + (dims === 3 ? d[2] * d[2] : 0);
-      }
-      if (cost < bestCost) {
-        bestCost = cost;
-        channelMap = perm;
-      }
-    }
-    swapped = channelMap.some((m, i) => m !== i);
-  }
-
-  // Polarity: the sign of pair (0, c) over all segments; support from every pair.
-  const signSum = new Float64Array(M);
-  for (const t of takes) for (const s of t.delays.segments) for (let p = 0; p < P; p++) if (pairs[p]![0] === 0) signSum[pairs[p]![1]] += s.sign[p]!;
-  const polarityInverted = Array.from(signSum, (v, ch) => ch > 0 && v < 0);
-  const polaritySupport = new Array<number>(M).fill(0);
-  {
-    const agree = new Float64Array(M);
-    const count = new Float64Array(M);
-    for (const t of takes) {
-      for (const s of t.delays.segments) {
-        for (let p = 0; p < P; p++) {
-          if (s.sign[p] === 0) continue;
-          const [a, b] = pairs[p]!;
-          const expect = (polarityInverted[a] ? -1 : 1) * (polarityInverted[b] ? -1 : 1);
-          const ok = s.sign[p] === expect ? 1 : 0;
-          for (const ch of [a, b]) {
-            agree[ch] += ok;
-            count[ch] += 1;
-          }
-        }
-      }
-    }
-    for (let ch = 0; ch < M; ch++) polaritySupport[ch] = count[ch]! > 0 ? agree[ch]! / count[ch]! : 0;
-  }
-
-  // Gain per channel against channel 0, from the take levels.
-  const gainDb: Estimate[] = [];
-  for (let ch = 0; ch < M; ch++) {
-    const d = takes.map((t) => t.delays.levelDbfs[ch]! - t.delays.levelDbfs[0]!).filter(Number.isFinite);
-    const m = mean(d);
-    const sd = d.length > 1 ? Math.sqrt(d.reduce((s, v) => s + (v - m) ** 2, 0) / (d.length - 1)) / Math.sqrt(d.length) : 0;
-    gainDb.push({ value: ch === 0 ? 0 : m, sigma: ch === 0 ? 0 : sd });
-  }
-
-  // Per take: expected, measured and fitted delays; direction error before and after.
-  const fittedPositions = positions ?? file;
-  const takeResults: TakeResult[] = takes.map((t, ti) => {
-    const u = units[ti]!;
-    const used = t.delays.segments.map((s) => s.tdoaS);
-    const measured = new Float64Array(P);
-    const corrected = new Float64Array(P);
-    const fitted: number[] = [];
-    let segmentsUsed = 0;
-    for (const s of t.delays.segments) if (Array.from(s.tdoaS).some(Number.isFinite)) segmentsUsed++;
-    for (let p = 0; p < P; p++) {
-      const [a, b] = pairs[p]!;
-      const vals: number[] = [];
-      const corr: number[] = [];
-      t.delays.segments.forEach((s, si) => {
-        const v = used[si]![p]!;
-        if (!Number.isFinite(v)) return;
-        vals.push(v);
-        let k = offset[b]!.value - offset[a]!.value;
-        if (drift) k += (drift[b]!.value - drift[a]!.value) * US * s.timeS;
-        corr.push(v - k);
-      });
-      measured[p] = vals.length ? mean(vals) : NaN;
-      corrected[p] = corr.length ? mean(corr) : NaN;
-      const tMid = mean(t.delays.segments.map((s) => s.timeS));
-      let model = dot(sub(fittedPositions[a]!, fittedPositions[b]!), u) / c + offset[b]!.value - offset[a]!.value;
-      if (drift) model += (drift[b]!.value - drift[a]!.value) * US * tMid;
-      fitted.push(model);
-    }
-    return {
-      label: t.label,
-      azimuthDeg: t.azimuthDeg,
-      elevationDeg: t.elevationDeg,
-      expectedS: Array.from({ length: P }, (_, p) => fileTdoa(p, u)),
-      measuredS: Array.from(measured),
-      fittedS: fitted,
-      errorBeforeDeg: directionError(file, pairs, measured, c, u, mode, !threeD),
-      errorAfterDeg: directionError(fittedPositions, pairs, corrected, c, u, mode, !threeD),
-      segmentsUsed,
-      segments: t.delays.segments.length,
-    };
-  });
+  const { spacing, positions, positionSigma } = fittedGeometry(f, solved, est);
+  const takeResults = takes.map((_, ti) => takeResult(f, ti, positions ?? file, offset, drift));
   const rms = (xs: number[]): number => Math.sqrt(mean(xs.filter(Number.isFinite).map((x) => x * x)));
 
   return {
     channels: M,
-    pairs,
+    pairs: f.pairs,
     mode,
-    spacingFileM,
+    spacingFileM: mode === 'spacing' ? norm(sub(file[1]!, file[0]!)) : null,
     spacing,
     filePositions: file.map((p) => [p[0], p[1], p[2]] as Vec3),
     positions,
     positionSigma,
-    fittedDims: withGeometry ? dims : 0,
-    channelMap,
-    swapped,
+    fittedDims: solved.withGeometry ? f.dims : 0,
+    ...channelOrder(f, positions),
     offset,
     drift,
-    polarityInverted,
-    polaritySupport,
-    gainDb,
+    ...polarity(f),
+    gainDb: gains(f),
     takes: takeResults,
     residualDegRms: rms(takeResults.map((t) => t.errorAfterDeg)),
     residualBeforeDegRms: rms(takeResults.map((t) => t.errorBeforeDeg)),
-    residualRmsS: Math.sqrt(sol.rss / Math.max(1, rows.length)),
-    rowsUsed: rows.length,
-    rowsRejected: rejected > 0 && rejected < absRes.length / 2 ? rejected : 0,
+    residualRmsS: Math.sqrt(sol.rss / Math.max(1, solved.rows.length)),
+    rowsUsed: solved.rows.length,
+    rowsRejected: solved.rejected,
     notes,
   };
 }

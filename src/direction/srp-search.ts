@@ -5,6 +5,7 @@ import { arrayShape, type ArrayShape } from '../geometry/array-shape.js';
 import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
 import { coneAzimuthDeg } from './cone.js';
 import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
+import { invertMatrix } from '../util/matrix.js';
 
 /** Smallest automatic grid step (degrees): finer grids cost time and the refinement recovers the rest. */
 const MIN_AUTO_STEP_DEG = 2.5;
@@ -132,7 +133,9 @@ export class SrpDirectionModel implements DirectionModel {
       const row = this.basis.map((e) => dot(bl, e));
       for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) ata[i]![j]! += row[i]! * row[j]!;
     }
-    this.lsInverseFlat = Float64Array.from(invert(ata).flat());
+    const inverse = invertMatrix(ata.flat(), ata.length);
+    if (inverse === null) throw new Error('array geometry is degenerate for the direction fit');
+    this.lsInverseFlat = Float64Array.from(inverse);
     this.lsRhs = new Float64Array(d);
     this.baselineProj = Float64Array.from(this.baselines.flatMap((bl) => this.basis.map((e) => dot(bl, e))));
   }
@@ -315,25 +318,6 @@ function planeBasis(normal: Vec3): Vec3[] {
 
 function cross(a: Vec3, b: Vec3): Vec3 {
   return [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]];
-}
-
-function invert(m: number[][]): number[][] {
-  const n = m.length;
-  const a = m.map((row, i) => [...row, ...Array.from({ length: n }, (_, j) => (i === j ? 1 : 0))]);
-  for (let c = 0; c < n; c++) {
-    let piv = c;
-    for (let r = c + 1; r < n; r++) if (Math.abs(a[r]![c]!) > Math.abs(a[piv]![c]!)) piv = r;
-    [a[c], a[piv]] = [a[piv]!, a[c]!];
-    const d = a[c]![c]!;
-    if (Math.abs(d) < 1e-18) throw new Error('array geometry is degenerate for the direction fit');
-    for (let j = 0; j < 2 * n; j++) a[c]![j]! /= d;
-    for (let r = 0; r < n; r++) {
-      if (r === c) continue;
-      const f = a[r]![c]!;
-      for (let j = 0; j < 2 * n; j++) a[r]![j]! -= f * a[c]![j]!;
-    }
-  }
-  return a.map((row) => row.slice(n));
 }
 
 /**

@@ -13,6 +13,7 @@
  * station is found by leaving each out in turn. Pure: numbers in, numbers out.
  */
 import type { Covariance2 } from './ellipse.js';
+import { invertMatrix } from '../util/matrix.js';
 
 export interface BearingLine {
   station: string;
@@ -110,40 +111,6 @@ export function largestCrossingDeg(lines: readonly PlaneLine[]): number {
   return best;
 }
 
-/** Invert a small symmetric positive-definite matrix (row-major, n x n) by Gauss-Jordan; null if singular. */
-function invert(m: number[], n: number): number[] | null {
-  const a = m.slice();
-  const inv = new Array<number>(n * n).fill(0);
-  for (let i = 0; i < n; i++) inv[i * n + i] = 1;
-  const scale = Math.max(...a.map(Math.abs));
-  for (let col = 0; col < n; col++) {
-    let pivot = col;
-    for (let r = col + 1; r < n; r++) if (Math.abs(a[r * n + col]!) > Math.abs(a[pivot * n + col]!)) pivot = r;
-    const p = a[pivot * n + col]!;
-    if (Math.abs(p) <= scale * 1e-14) return null;
-    if (pivot !== col) {
-      for (let k = 0; k < n; k++) {
-        [a[col * n + k], a[pivot * n + k]] = [a[pivot * n + k]!, a[col * n + k]!];
-        [inv[col * n + k], inv[pivot * n + k]] = [inv[pivot * n + k]!, inv[col * n + k]!];
-      }
-    }
-    for (let k = 0; k < n; k++) {
-      a[col * n + k] = a[col * n + k]! / p;
-      inv[col * n + k] = inv[col * n + k]! / p;
-    }
-    for (let r = 0; r < n; r++) {
-      if (r === col) continue;
-      const f = a[r * n + col]!;
-      if (f === 0) continue;
-      for (let k = 0; k < n; k++) {
-        a[r * n + k] = a[r * n + k]! - f * a[col * n + k]!;
-        inv[r * n + k] = inv[r * n + k]! - f * inv[col * n + k]!;
-      }
-    }
-  }
-  return inv;
-}
-
 function range3(at: readonly [number, number, number], e: number, n: number, up: number): number {
   return Math.hypot(e - at[0], n - at[1], up - at[2]);
 }
@@ -228,7 +195,7 @@ function solveOnce(lines: readonly BearingLine[], arrivals: readonly Arrival[], 
         addRow([(e - a.at[0]) / rng, (n - a.at[1]) / rng, c], r, 1 / (sigma * sigma));
       }
     }
-    const inv = invert(normal, np);
+    const inv = invertMatrix(normal, np);
     if (inv === null) return null;
     const step = new Array<number>(np).fill(0);
     for (let p = 0; p < np; p++) for (let q = 0; q < np; q++) step[p] = step[p]! - inv[p * np + q]! * rhs[q]!;
@@ -252,7 +219,7 @@ function solveOnce(lines: readonly BearingLine[], arrivals: readonly Arrival[], 
       chi2 += z * z;
     }
   }
-  const inv = invert(normal, np);
+  const inv = invertMatrix(normal, np);
   if (inv === null) return null;
   const nObs = lines.length + (useTime ? arrivals.length : 0);
   return {
