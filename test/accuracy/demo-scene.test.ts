@@ -7,14 +7,24 @@
  */
 import { join } from 'node:path';
 import { readdirSync } from 'node:fs';
-import { describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
+import type { AccuracyReport } from '../../src/accuracy/score.js';
 import { runCli } from '../helpers/cli.js';
-import { accuracyJson, share, tempDir } from './helpers.js';
+import { accuracyJson, share } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 describe('the demo scene (wetland station at dusk)', () => {
-  const cache = tempDir();
-  const first = runCli(['demo', '--fast'], { env: { XDG_CACHE_HOME: cache } });
-  console.log(first.stdout.split('\n').slice(-14).join('\n'));
+  const cache = tempDir('accuracy').dir;
+  let first: ReturnType<typeof runCli>;
+  let report: AccuracyReport;
+  beforeAll(() => {
+    first = runCli(['demo', '--fast'], { env: { XDG_CACHE_HOME: cache } });
+    console.log(first.stdout.split('\n').slice(-14).join('\n'));
+    const wav = join(cache, 'bearline', readdirSync(join(cache, 'bearline')).find((f) => f.endsWith('.wav')) ?? 'missing.wav');
+    report = accuracyJson(wav, '--temperature', '14');
+    console.log(`demo scene: ${report.voicedHops} voiced hops, within 2/5/10 deg: ${report.within.map((w) => (100 * w.share).toFixed(1) + '%').join(' / ')}, median ${report.medianDeg?.toFixed(2)} deg, p90 ${report.p90Deg?.toFixed(2)} deg`);
+    for (const s of report.sources) console.log(`  ${s.source}: ${s.voicedHops} hops alone, within 5 deg ${(100 * share(s as typeof report, 5)).toFixed(1)}%`);
+  });
 
   it('bearline demo --fast renders once into the cache, prints a line per event and the table against the truth', () => {
     expect(first.status).toBe(0);
@@ -44,10 +54,6 @@ describe('the demo scene (wetland station at dusk)', () => {
     }
   });
 
-  const wav = join(cache, 'bearline', readdirSync(join(cache, 'bearline')).find((f) => f.endsWith('.wav')) ?? 'missing.wav');
-  const report = accuracyJson(wav, '--temperature', '14');
-  console.log(`demo scene: ${report.voicedHops} voiced hops, within 2/5/10 deg: ${report.within.map((w) => (100 * w.share).toFixed(1) + '%').join(' / ')}, median ${report.medianDeg?.toFixed(2)} deg, p90 ${report.p90Deg?.toFixed(2)} deg`);
-  for (const s of report.sources) console.log(`  ${s.source}: ${s.voicedHops} hops alone, within 5 deg ${(100 * share(s as typeof report, 5)).toFixed(1)}%`);
 
   // Issue target (85.2% measured with the evidence-weighted fusion and calibrated confidence; 87% before).
   it('target: at least 80% of voiced hops within 5 degrees', () => {

@@ -9,7 +9,8 @@ import { describe, expect, it } from 'vitest';
 import { locateEventLists } from '../../src/locate/locate.js';
 import { parseStationFile, placeStations } from '../../src/locate/stations.js';
 import type { EventRecord } from '../../src/records/record-types.js';
-import { DEG, render, scanEvents, tempDir } from './helpers.js';
+import { DEG, render, scanEvents } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const CALLER = [0, 0, 1.5];
 const RANGE = 50;
@@ -21,7 +22,7 @@ const STATIONS = [
 
 describe('simulated fleet of three stations around a caller at 50 m', () => {
   it('positions from the scanned events of the three stations lie within 1 m of the caller', () => {
-    const dir = tempDir();
+    const dir = tempDir('accuracy').dir;
     const lists: Record<string, EventRecord[]> = {};
     for (const s of STATIONS) {
       const wav = render(dir, s.id, {

@@ -9,7 +9,8 @@ import { describe, expect, it } from 'vitest';
 import { effectiveObservationS } from '../../src/accuracy/observation.js';
 import { whiteNoiseDelayCrlb } from '../../src/sim/crlb.js';
 import { ANALYSIS_DEFAULTS } from '../../src/analysis/analysis-options.js';
-import { accuracyJson, DEG, render, scanFrames, tempDir, truthOf } from './helpers.js';
+import { accuracyJson, DEG, render, scanFrames, truthOf } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const FS = 48000;
 const C = 343;
@@ -41,7 +42,7 @@ interface Measured {
 }
 
 describe('free field, broadband source at SNR 20 dB, 0.2 m pair at 48 kHz', () => {
-  const dir = tempDir();
+  const dir = tempDir('accuracy').dir;
   const measured: Measured[] = [];
   // The bound from the scene's SNR: C = (snr / (1 + snr))^2 over LOW..HIGH (Knapp and Carter), T as the report takes it.
   const T = effectiveObservationS(1024, 512, ANALYSIS_DEFAULTS.memoryS, FS);

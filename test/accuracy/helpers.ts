@@ -1,16 +1,11 @@
 /** Shared helpers of the accuracy tests: scenes rendered and scanned through the built CLI. */
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { expect } from 'vitest';
 import type { AccuracyReport } from '../../src/accuracy/score.js';
 import type { TruthRecord } from '../../src/accuracy/truth.js';
 import type { EventRecord, FrameRecord } from '../../src/records/record-types.js';
 import { runCli } from '../helpers/cli.js';
-
-export function tempDir(): string {
-  return mkdtempSync(join(tmpdir(), 'bearline-accuracy-'));
-}
 
 function ok(args: string[]): string {
   const r = runCli(args);

@@ -11,9 +11,10 @@ import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { rmSync } from 'node:fs';
-import { accuracyJson, DEG, render, scanFrames, share, tempDir } from './helpers.js';
+import { accuracyJson, DEG, render, scanFrames, share } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
-const dir = tempDir();
+const dir = tempDir('accuracy').dir;
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 function scene(geometry: string, azDeg: number): unknown {

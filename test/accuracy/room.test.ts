@@ -6,8 +6,10 @@
  * same file. Onset weighting is the precedence defence (law of the first wavefront,
  * references.md): the direct sound leads each call.
  */
-import { describe, expect, it } from 'vitest';
-import { accuracyJson, DEG, render, share, tempDir } from './helpers.js';
+import { beforeAll, describe, expect, it } from 'vitest';
+import type { AccuracyReport } from '../../src/accuracy/score.js';
+import { accuracyJson, DEG, render, share } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const scene = {
   sample_rate_hz: 48000,
@@ -29,14 +31,18 @@ const scene = {
 };
 
 describe('room, RT60 0.5 s, caller 2 m from a 0.2 m pair', () => {
-  const wav = render(tempDir(), 'room', scene);
-  const weighted = accuracyJson(wav);
-  const plain = accuracyJson(wav, '--onset-weight', '0', '--memory', '0', '--no-voting');
-  const line = (name: string, r: typeof weighted): string =>
-    `${name}: ${r.voicedHops} voiced hops, ${r.estimatedHops} with a direction; within 5 deg ${(100 * share(r, 5)).toFixed(1)}% of voiced hops ` +
-    `(${((100 * share(r, 5) * r.voicedHops) / Math.max(1, r.estimatedHops)).toFixed(1)}% of those with a direction); median ${r.medianDeg?.toFixed(2)} deg, p90 ${r.p90Deg?.toFixed(2)} deg`;
-  console.log(line('onset weighting (defaults)', weighted));
-  console.log(line('plain GCC-PHAT', plain));
+  let weighted: AccuracyReport;
+  let plain: AccuracyReport;
+  beforeAll(() => {
+    const wav = render(tempDir('accuracy').dir, 'room', scene);
+    weighted = accuracyJson(wav);
+    plain = accuracyJson(wav, '--onset-weight', '0', '--memory', '0', '--no-voting');
+    const line = (name: string, r: AccuracyReport): string =>
+      `${name}: ${r.voicedHops} voiced hops, ${r.estimatedHops} with a direction; within 5 deg ${(100 * share(r, 5)).toFixed(1)}% of voiced hops ` +
+      `(${((100 * share(r, 5) * r.voicedHops) / Math.max(1, r.estimatedHops)).toFixed(1)}% of those with a direction); median ${r.medianDeg?.toFixed(2)} deg, p90 ${r.p90Deg?.toFixed(2)} deg`;
+    console.log(line('onset weighting (defaults)', weighted));
+    console.log(line('plain GCC-PHAT', plain));
+  });
 
   it('onset weighting gains over plain GCC-PHAT on the same file (within 5 degrees, share of voiced hops)', () => {
     expect(weighted.voicedHops).toBe(plain.voicedHops);

@@ -7,7 +7,7 @@ import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { azimuthError, mirrorAxisOf, median, quantile } from '../../src/accuracy/score.js';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
-import { tempDir } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 describe('scoring parts', () => {
   it('median and 90th percentile agree with numpy (median; percentile, method inverted_cdf = nearest rank)', () => {
@@ -44,7 +44,7 @@ describe('scoring parts', () => {
 });
 
 describe('bad input', () => {
-  const dir = tempDir();
+  const dir = tempDir('accuracy').dir;
   it('accuracy: a recording without its truth file, or not a .wav name: exit 2 with one clear line', () => {
     const wav = join(dir, 'lonely.wav');
     writeFileSync(wav, 'not really');

@@ -6,7 +6,8 @@
 import { describe, expect, it } from 'vitest';
 import { eventSource } from '../../src/accuracy/track-match.js';
 import { indexTruth, TRUTH_STEP_S } from '../../src/accuracy/truth.js';
-import { DEG, render, scanEvents, tempDir, truthOf } from './helpers.js';
+import { DEG, render, scanEvents, truthOf } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const R = 10;
 const at = (azDeg: number, z = 1.5): number[] => [R * Math.sin(azDeg * DEG), R * Math.cos(azDeg * DEG), z];
@@ -32,7 +33,7 @@ const burst = (name: string, path: unknown[], startS: number): unknown => ({
 });
 
 describe('tracks on simulated scenes', () => {
-  const dir = tempDir();
+  const dir = tempDir('accuracy').dir;
 
   it('a source moving behind the array across the +-180 degree seam (150 -> 210 degrees in 6 s) keeps one track id', () => {
     // A straight path between the two points; it crosses azimuth 180 at 3 s.

@@ -14,7 +14,8 @@ import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { unitFromAzEl } from '../../src/geometry/vec3.js';
 import { loadProfile, profileValues } from '../../src/options/profile.js';
 import { UsageError } from '../../src/util/errors.js';
-import { farFieldDelaysUp, soxDecode, soxDelayedSignal, soxMix, tempDir } from '../helpers/sox.js';
+import { farFieldDelaysUp, soxDecode, soxDelayedSignal, soxMix } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const square = loadGeometryFile(fileURLToPath(new URL('../../configs/arrays/square-10cm.json', import.meta.url)));
 const profiles = fileURLToPath(new URL('../../configs/profiles/', import.meta.url));

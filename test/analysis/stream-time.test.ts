@@ -8,7 +8,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createAnalysis, runAnalysis } from '../../src/analysis/analysis.js';
 import { pairGeometry } from '../../src/geometry/array-geometry.js';
 import type { AudioBlock, AudioSource, BlockTime } from '../../src/sources/audio-source.js';
-import { soxDecode, soxDelayedSignal, tempDir } from '../helpers/sox.js';
+import { soxDecode, soxDelayedSignal } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const tmp = tempDir();
 afterAll(() => tmp.cleanup());

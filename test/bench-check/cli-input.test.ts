@@ -10,7 +10,8 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
-import { sox, tempDir } from '../helpers/sox.js';
+import { sox } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 import { numpyTakes, takeArgs, type MadeTake } from './bench-helpers.js';
 
 describe('check-array and stimulus on bad input', () => {

@@ -10,7 +10,8 @@ import { readFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { runCli } from '../helpers/cli.js';
-import { sox, tempDir } from '../helpers/sox.js';
+import { sox } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const RATE = 8000;
 const UP = 10;

@@ -8,7 +8,7 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { resolveBenchCheckOptions } from '../../src/bench-check/options.js';
 import { checkItems, overallStatus } from '../../src/bench-check/verdict.js';
 import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geometry.js';
-import { tempDir } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 import { fitTakes, numpyTakes } from './bench-helpers.js';
 
 const SQUARE: number[][] = [

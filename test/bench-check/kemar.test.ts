@@ -13,7 +13,7 @@ import { existsSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { BenchFit } from '../../src/bench-check/array-fit.js';
 import { pairGeometry } from '../../src/geometry/array-geometry.js';
-import { tempDir } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 import { fitTakes, python, type MadeTake } from './bench-helpers.js';
 
 const SOFA = '/usr/share/libmysofa/MIT_KEMAR_normal_pinna.sofa';

@@ -11,7 +11,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { norm, sub } from '../../src/geometry/vec3.js';
 import { runCli } from '../helpers/cli.js';
-import { sox, tempDir } from '../helpers/sox.js';
+import { sox } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 import { numpyTakes, takeArgs, type MadeTake } from './bench-helpers.js';
 
 const TRUE_D = 0.23;

@@ -2,7 +2,8 @@ import { writeFileSync, readFileSync, existsSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { pairAzimuthDeg } from '../../src/direction/pair-direction.js';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
-import { sox, soxDelayedSignal, tempDir } from '../helpers/sox.js';
+import { sox, soxDelayedSignal } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const tmp = tempDir();
 let pair: string;

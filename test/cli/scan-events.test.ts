@@ -2,7 +2,8 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { unitFromAzEl, wrapDeg } from '../../src/geometry/vec3.js';
 import { runCli } from '../helpers/cli.js';
-import { farFieldDelaysUp, soxDelayedSignal, soxIndependentNoise, soxMix, tempDir } from '../helpers/sox.js';
+import { farFieldDelaysUp, soxDelayedSignal, soxIndependentNoise, soxMix } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 // Two sources at fixed directions calling in alternating bursts, made by sox (independent of
 // the project): far-field delays per mic of the 10 cm square (interface.md), fractional delays

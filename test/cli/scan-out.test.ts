@@ -10,7 +10,8 @@ import { lstatSync, mkdirSync, readdirSync, readFileSync, readlinkSync, symlinkS
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { BIN, expectUsageFailure, runCli } from '../helpers/cli.js';
-import { sox, soxDelayedSignal, tempDir } from '../helpers/sox.js';
+import { sox, soxDelayedSignal } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const tmp = tempDir();
 let pair: string;

@@ -2,7 +2,8 @@ import { execFileSync } from 'node:child_process';
 import { afterAll, describe, expect, it } from 'vitest';
 import { pairAzimuthDeg } from '../../src/direction/pair-direction.js';
 import { runCli } from '../helpers/cli.js';
-import { soxDelayedSignal, soxIndependentNoise, soxMix, tempDir } from '../helpers/sox.js';
+import { soxDelayedSignal, soxIndependentNoise, soxMix } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 // Real speech (espeak-ng, an independent speech synthesiser) as a non-stationary source: many
 // onsets, pauses, voiced and unvoiced stretches. Delays by sox (10x rate, whole-sample delay,

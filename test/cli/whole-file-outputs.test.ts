@@ -9,7 +9,7 @@ import { lstatSync, mkdirSync, readdirSync, readFileSync, symlinkSync, writeFile
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
-import { tempDir } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const tmp = tempDir();
 afterAll(() => tmp.cleanup());

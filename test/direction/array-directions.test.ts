@@ -2,7 +2,8 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { unitFromAzEl, wrapDeg } from '../../src/geometry/vec3.js';
 import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
-import { farFieldDelaysUp, soxDecode, soxDelayedSignal, tempDir } from '../helpers/sox.js';
+import { farFieldDelaysUp, soxDecode, soxDelayedSignal } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 // Multichannel fractional delays made by sox, independently of the project (10x rate, whole
 // sample delays per channel, resample; ../shared/references.md). Arrival times from the

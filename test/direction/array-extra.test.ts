@@ -4,7 +4,8 @@ import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { unitFromAzEl, wrapDeg } from '../../src/geometry/vec3.js';
 import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
-import { farFieldDelaysUp, soxDecode, soxDelayedSignal, soxMix, tempDir } from '../helpers/sox.js';
+import { farFieldDelaysUp, soxDecode, soxDelayedSignal, soxMix } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 // Signals made by sox (independent tool): far-field per-mic delays of interface.md, fractional
 // delays by the 10x-rate method of references.md.

@@ -16,7 +16,8 @@ import { arrayMirror } from '../../src/geometry/array-mirror.js';
 import { unitFromAzEl, wrapDeg, type Vec3 } from '../../src/geometry/vec3.js';
 import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
 import { expectUsageFailure, runCli } from '../helpers/cli.js';
-import { farFieldDelaysUp, soxDecode, soxDelayedSignal, tempDir } from '../helpers/sox.js';
+import { farFieldDelaysUp, soxDecode, soxDelayedSignal } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const tmp = tempDir();
 afterAll(() => tmp.cleanup());

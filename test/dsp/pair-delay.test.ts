@@ -2,7 +2,8 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { pairAzimuthDeg, pairTdoaS } from '../../src/direction/pair-direction.js';
 import { pairGeometry } from '../../src/geometry/array-geometry.js';
 import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
-import { soxDecode, soxDelayedSignal, tempDir } from '../helpers/sox.js';
+import { soxDecode, soxDelayedSignal } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const tmp = tempDir();
 afterAll(() => tmp.cleanup());

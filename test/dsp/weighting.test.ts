@@ -3,7 +3,8 @@ import { pairAzimuthDeg } from '../../src/direction/pair-direction.js';
 import { pairGeometry } from '../../src/geometry/array-geometry.js';
 import type { AnalysisOptions } from '../../src/analysis/analysis-options.js';
 import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
-import { soxDecode, soxDelayedSignal, soxMix, tempDir } from '../helpers/sox.js';
+import { soxDecode, soxDelayedSignal, soxMix } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 // Signals made by sox (independent tool). Delays in samples at 480 kHz (10x 48 kHz), as in
 // ../shared/references.md. Azimuths from the far-field pair formula of interface.md.

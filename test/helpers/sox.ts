@@ -5,23 +5,44 @@
  * samples per channel, resample to the target rate.
  */
 import { execFileSync } from 'node:child_process';
-import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
 import { join } from 'node:path';
+
+/**
+ * The real sox, found on PATH when this module loads (recorder tests later put stand-ins named
+ * sox first on PATH; they must not take the place of the real one here); null when missing.
+ */
+const SOX_PATH: string | null = (() => {
+  try {
+    return execFileSync('sh', ['-c', 'command -v sox'], { encoding: 'utf8' }).trim() || null;
+  } catch {
+    return null;
+  }
+})();
+
+export function realSox(): string {
+  if (SOX_PATH === null) throw new Error('sox is not installed: run apt-get install -y sox (the tests need it)');
+  return SOX_PATH;
+}
 
 export function sox(args: string[]): Buffer {
   try {
-    return execFileSync('sox', args, { maxBuffer: 1 << 30, stdio: ['ignore', 'pipe', 'pipe'] });
+    return execFileSync(realSox(), args, { maxBuffer: 1 << 30, stdio: ['ignore', 'pipe', 'pipe'] });
   } catch (err) {
     const e = err as NodeJS.ErrnoException & { stderr?: Buffer };
-    if (e.code === 'ENOENT') throw new Error('sox is not installed: run apt-get install -y sox (the tests need it)');
     throw new Error(`sox ${args.join(' ')} failed: ${e.stderr?.toString() ?? e.message}`);
   }
 }
 
-export function tempDir(prefix = 'bearline-test-'): { dir: string; cleanup: () => void } {
-  const dir = mkdtempSync(join(tmpdir(), prefix));
-  return { dir, cleanup: () => rmSync(dir, { recursive: true, force: true }) };
+/** sox's own decoding of a file (any format sox reads; raw needs `inputFormat`) to interleaved 32-bit float. */
+export function soxDecodeInterleaved(file: string, inputFormat: string[] = []): Float32Array {
+  const out = sox([...inputFormat, file, '-t', 'raw', '-e', 'floating-point', '-b', '32', '-']);
+  return new Float32Array(out.buffer.slice(out.byteOffset, out.byteOffset + out.byteLength));
+}
+
+/** One synth spec per channel, so that every channel carries a different signal. */
+export function synthSpecs(channels: number): string[] {
+  const kinds = ['sine 311', 'whitenoise', 'square 97', 'sine 1303', 'triangle 211', 'pinknoise', 'sawtooth 53', 'brownnoise'];
+  return Array.from({ length: channels }, (_, c) => kinds[c % kinds.length]!.split(' ')).flat();
 }
 
 /** Decode any file sox reads into planar float channels (sox does the decoding). */

@@ -15,7 +15,9 @@ import { openWavSource } from '../../src/sources/wav-source.js';
 import { readWavFile } from '../../src/sources/wav-reader.js';
 import { runCli } from '../helpers/cli.js';
 import { soxDelayedSignal } from '../helpers/sox.js';
-import { drain, sox, tempDir } from './sox.js';
+import { drain } from '../helpers/audio.js';
+import { sox } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const RATE = 48000;
 /** Where the bad sample goes: a little after 1 s into a 2 s file. */
@@ -40,7 +42,7 @@ open(out, 'wb').write(b'RIFF' + struct.pack('<I', len(body)) + body)
 `;
 
 const tmp = tempDir('bad-samples');
-afterAll(() => tmp.remove());
+afterAll(() => tmp.cleanup());
 let raw: string;
 
 /** A float WAV written by numpy; edits are [frame, channel, value as Python's float() reads it]. */

@@ -1,10 +1,10 @@
 import { spawn } from 'node:child_process';
-import { mkdtempSync, readdirSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import mqtt, { type MqttClient } from 'mqtt';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { tempDir } from '../helpers/temp-dir.js';
 import { DiskQueue } from '../../src/sinks/disk-queue.js';
 import { brokerUrlProblem, resolveMqttOptions } from '../../src/sinks/mqtt-options.js';
 import { MqttSink, stationTopics } from '../../src/sinks/mqtt-sink.js';
@@ -44,7 +44,7 @@ async function subscriber(url: string, topics: string[], opts: { clientId?: stri
   return { client, got };
 }
 
-const work = mkdtempSync(join(tmpdir(), 'bearline-mqtt-'));
+const work = tempDir('mqtt').dir;
 let broker: Broker;
 
 beforeAll(async () => {
@@ -53,7 +53,6 @@ beforeAll(async () => {
 });
 afterAll(async () => {
   await broker?.stop();
-  rmSync(work, { recursive: true, force: true });
 });
 
 describe('MQTT sink against Mosquitto on 127.0.0.1', () => {

@@ -12,10 +12,10 @@ import { execFileSync } from 'node:child_process';
 import { afterAll, describe, expect, it } from 'vitest';
 import { RuntimeFailure, UsageError } from '../../src/util/errors.js';
 import { abandonOutput, checkFolderOption, planOutput, planOutputs, writeOutputFiles } from '../../src/sinks/output-target.js';
-import { tempDir } from './sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const tmp = tempDir('outputs');
-afterAll(() => tmp.remove());
+afterAll(() => tmp.cleanup());
 let n = 0;
 const fresh = (): string => {
   const d = join(tmp.dir, `case${n++}`);

@@ -5,16 +5,18 @@ import { Readable } from 'node:stream';
 import { afterAll, describe, expect, it } from 'vitest';
 import { UsageError } from '../../src/util/errors.js';
 import { openPcmStreamSource } from '../../src/sources/pcm-stream-source.js';
-import { drain, maxAbsDiff, sox, SOX_PATH, soxDecode, synthSpecs, tempDir } from './sox.js';
+import { drain, maxAbsDiff } from '../helpers/audio.js';
+import { realSox, sox, soxDecodeInterleaved, synthSpecs } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const tmp = tempDir('pcm');
-afterAll(() => tmp.remove());
+afterAll(() => tmp.cleanup());
 
 /** Raw s16le written by sox (-R: the same noise on every run), and sox's own float decoding of it. */
 function soxRaw(channels: number, rate: number, seconds: number): { raw: Buffer; ref: Float32Array } {
   const file = join(tmp.dir, `r${channels}-${rate}.raw`);
   sox(['-R', '-n', '-r', String(rate), '-c', String(channels), '-e', 'signed-integer', '-b', '16', '-L', '-t', 'raw', file, 'synth', String(seconds), ...synthSpecs(channels), 'vol', '0.8']);
-  const ref = soxDecode(file, ['-t', 'raw', '-r', String(rate), '-c', String(channels), '-e', 'signed-integer', '-b', '16', '-L']);
+  const ref = soxDecodeInterleaved(file, ['-t', 'raw', '-r', String(rate), '-c', String(channels), '-e', 'signed-integer', '-b', '16', '-L']);
   return { raw: readFileSync(file), ref };
 }
 
@@ -46,7 +48,7 @@ describe('raw s16le stream source against sox decoding', () => {
 
   it('reads the stdout of a sox process (a real pipe)', async () => {
     const { ref } = soxRaw(4, 48000, 0.5);
-    const child = spawn(SOX_PATH, ['-R', '-n', '-r', '48000', '-c', '4', '-e', 'signed-integer', '-b', '16', '-L', '-t', 'raw', '-', 'synth', '0.5', ...synthSpecs(4), 'vol', '0.8']);
+    const child = spawn(realSox(), ['-R', '-n', '-r', '48000', '-c', '4', '-e', 'signed-integer', '-b', '16', '-L', '-t', 'raw', '-', 'synth', '0.5', ...synthSpecs(4), 'vol', '0.8']);
     const src = openPcmStreamSource(child.stdout, { sampleRate: 48000, channels: 4 });
     const { samples } = await drain(src);
     expect(maxAbsDiff(samples, ref)).toBeLessThanOrEqual(HALF_STEP);

@@ -1,8 +1,8 @@
 import { execFileSync } from 'node:child_process';
-import { appendFileSync, existsSync, mkdirSync, mkdtempSync, readdirSync, readFileSync, rmSync, statSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { appendFileSync, existsSync, mkdirSync, readdirSync, readFileSync, statSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
-import { afterEach, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
+import { tempDir } from '../helpers/temp-dir.js';
 import { RuntimeFailure, UsageError } from '../../src/util/errors.js';
 import { realFs, tornTailLength, jsonObjectLine, type LineFileFs } from '../../src/sinks/line-file.js';
 import { eventColumns } from '../../src/records/event-columns.js';
@@ -18,15 +18,9 @@ import { resolveRecordLogOptions } from '../../src/sinks/record-log-options.js';
 import { DRIVER_STATION, firstGap, LOG_DRIVER, readEvents, startDriver } from '../helpers/log-files.js';
 import type { EventRecord } from '../../src/records/record-types.js';
 
-const dirs: string[] = [];
 function freshDir(): string {
-  const d = mkdtempSync(join(tmpdir(), 'bearline-log-'));
-  dirs.push(d);
-  return d;
+  return tempDir('log').dir;
 }
-afterEach(() => {
-  while (dirs.length) rmSync(dirs.pop()!, { recursive: true, force: true });
-});
 
 function ev(n: number): EventRecord {
   return { start_s: n / 10, end_s: n / 10 + 0.05, azimuth_deg: 12.5, spread_deg: 1, confidence: 0.9, track: n };

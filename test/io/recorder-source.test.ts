@@ -7,7 +7,9 @@ import { defaultText, parseOptionText, usageOf } from '../../src/options/option-
 import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptions } from '../../src/sources/recorder-options.js';
 import { openRecorderSource, type RecorderSource } from '../../src/sources/recorder-source.js';
 import { RestartPolicy } from '../../src/sources/restart-policy.js';
-import { maxAbsDiff, sox, soxDecode, synthSpecs, tempDir } from './sox.js';
+import { maxAbsDiff } from '../helpers/audio.js';
+import { sox, soxDecodeInterleaved, synthSpecs } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 /**
  * The live recorder is replaced by stand-in executables named sox / rec / arecord, placed
@@ -23,7 +25,7 @@ beforeAll(() => {
 });
 afterAll(() => {
   process.env.PATH = savedPath;
-  tmp.remove();
+  tmp.cleanup();
 });
 let open: RecorderSource | null = null;
 afterEach(async () => {
@@ -35,7 +37,7 @@ function soxRaw(name: string, channels: number, rate: number, seconds: number): 
   const file = join(tmp.dir, name);
   const fmt = ['-r', String(rate), '-c', String(channels), '-e', 'signed-integer', '-b', '16', '-L', '-t', 'raw'];
   sox(['-R', '-n', ...fmt, file, 'synth', String(seconds), ...synthSpecs(channels), 'vol', '0.8']);
-  return { file, ref: soxDecode(file, fmt) };
+  return { file, ref: soxDecodeInterleaved(file, fmt) };
 }
 
 /** Write a stand-in recorder script; it records its arguments and AUDIODEV next to itself. */

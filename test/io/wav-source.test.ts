@@ -4,10 +4,12 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { UsageError } from '../../src/util/errors.js';
 import { openWavSource } from '../../src/sources/wav-source.js';
-import { drain, maxAbsDiff, sox, soxDecode, synthSpecs, tempDir } from './sox.js';
+import { drain, maxAbsDiff } from '../helpers/audio.js';
+import { sox, soxDecodeInterleaved, synthSpecs } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const tmp = tempDir('wav');
-afterAll(() => tmp.remove());
+afterAll(() => tmp.cleanup());
 
 /** Byte offset of a RIFF chunk's header in a WAV file (walked like the format says). */
 function chunkAt(buf: Buffer, id: string): number {
@@ -70,7 +72,7 @@ describe('WAV source against sox decoding (sox writes and decodes every file)', 
     expect(src.format.totalFrames).toBe(soxFrames(file));
     const { samples, blockLengths } = await drain(src);
     await src.close();
-    const ref = soxDecode(file);
+    const ref = soxDecodeInterleaved(file);
     expect(samples.length).toBe(ref.length);
     expect(maxAbsDiff(samples, ref)).toBeLessThanOrEqual(c.step);
     // Blocks across block boundaries: full blocks, then the remainder.
@@ -84,7 +86,7 @@ describe('WAV source against sox decoding (sox writes and decodes every file)', 
 
   it('block sizes 1, 7 and 4096 give the same samples (sox decoding as reference)', async () => {
     const file = makeWav(['-e', 'signed-integer', '-b', '16'], 3, 16000, 0.3);
-    const ref = soxDecode(file);
+    const ref = soxDecodeInterleaved(file);
     for (const blockFrames of [1, 7, 4096]) {
       const src = await openWavSource(file, { blockFrames });
       const { samples } = await drain(src);
@@ -116,7 +118,7 @@ describe('WAV layout variants built from sox files', () => {
     h.writeUInt32LE(body.length + 4, 4);
     return Buffer.concat([h, body]);
   };
-  const ref = soxDecode(base);
+  const ref = soxDecodeInterleaved(base);
   const read = async (file: string, warnings: string[] = []) => {
     const src = await openWavSource(file, { blockFrames: 333, onWarning: (m) => warnings.push(m) });
     const out = await drain(src);
@@ -129,7 +131,7 @@ describe('WAV layout variants built from sox files', () => {
     // (odd, so a pad byte follows) + an unknown 'wxyz' chunk + data (from sox).
     const info = Buffer.concat([Buffer.from('INFO', 'latin1'), chunk('ICMT', Buffer.from('frog chorus, north pond!', 'latin1'))]);
     const file = writeBytes('list.wav', riff(Buffer.concat([fmt, chunk('LIST', Buffer.concat([info, Buffer.from('x')])), chunk('wxyz', Buffer.alloc(6, 7)), data])));
-    expect(maxAbsDiff(soxDecode(file), ref)).toBe(0); // sox agrees the file is sound
+    expect(maxAbsDiff(soxDecodeInterleaved(file), ref)).toBe(0); // sox agrees the file is sound
     expect(maxAbsDiff(await read(file), ref)).toBeLessThanOrEqual(2 ** -16);
   });
 
@@ -145,8 +147,8 @@ describe('WAV layout variants built from sox files', () => {
     ext.writeUInt16LE(32, 18);
     Buffer.from('0300000000001000800000aa00389b71', 'hex').copy(ext, 24);
     const file = writeBytes('ext-float.wav', riff(Buffer.concat([chunk('fmt ', ext), b.subarray(chunkAt(b, 'data'))])));
-    const f32ref = soxDecode(f32);
-    expect(maxAbsDiff(soxDecode(file), f32ref)).toBe(0);
+    const f32ref = soxDecodeInterleaved(f32);
+    expect(maxAbsDiff(soxDecodeInterleaved(file), f32ref)).toBe(0);
     expect(maxAbsDiff(await read(file), f32ref)).toBe(0);
   });
 

@@ -8,7 +8,8 @@ import { chmodSync, mkdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { afterAll, beforeAll } from 'vitest';
 import { BIN } from '../helpers/cli.js';
-import { farFieldDelaysUp, sox, soxDelayedSignal, soxIndependentNoise, soxMix, tempDir } from '../helpers/sox.js';
+import { farFieldDelaysUp, sox, soxDelayedSignal, soxIndependentNoise, soxMix } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 export const RATE = 48_000;
 export const SPACING = 0.2;

@@ -1,14 +1,13 @@
 import { spawnSync } from 'node:child_process';
-import { mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { mkdirSync, readFileSync, readdirSync, symlinkSync, writeFileSync } from 'node:fs';
 import { dirname, join, relative } from 'node:path';
 import ts from 'typescript';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { tempDir } from '../helpers/temp-dir.js';
 import { bearingTo } from './helpers.js';
 
 const root = new URL('../..', import.meta.url).pathname;
-const dir = mkdtempSync(join(tmpdir(), 'bearline-locate-'));
-afterAll(() => rmSync(dir, { recursive: true, force: true }));
+const dir = tempDir('locate').dir;
 // Transpile src/ once without type checks (tsc -p checks types elsewhere); plain node
 // start-up per run keeps the suite fast.
 const built = join(dir, 'dist');

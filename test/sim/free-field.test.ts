@@ -2,7 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { loadArrayRef } from '../../src/geometry/array-presets.js';
 import { renderScene } from '../../src/sim/render.js';
 import { parseScene } from '../../src/sim/scene.js';
-import { dist, micInScene, numpy, sceneFrom, tempDir, writeF32 } from './helpers.js';
+import { dist, micInScene, numpy, sceneFrom, writeF32 } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const FS = 48000;
 const C = 343;
@@ -38,7 +39,7 @@ describe('free-field rendering: delays and levels against the geometry', () => {
       { loadArray: (ref, field) => loadArrayRef(ref, '.', field), loadWav: () => ({ sampleRate: FS, samples: click }) },
     );
     const { channels } = renderScene(scene);
-    const peaks = numpy(writeF32(tempDir(), 'click.f32', channels), 4, FS, 'peak');
+    const peaks = numpy(writeF32(tempDir('sim').dir, 'click.f32', channels), 4, FS, 'peak');
     const errs = peaks.map((t, m) => t - (100 / FS + dist(SOURCE, mics[m]!) / C));
     console.log(`impulse arrival errors (us): ${errs.map((e) => (1e6 * e).toFixed(3)).join(', ')}`);
     for (const e of errs) expect(Math.abs(e)).toBeLessThan(1e-6);
@@ -47,7 +48,7 @@ describe('free-field rendering: delays and levels against the geometry', () => {
   it('broadband noise: TDOAs of every mic against mic 0 (numpy cross-correlation) match (r_m - r_0) / c within 1 us; RMS follows 1 / r and the dBFS-at-array level', () => {
     const scene = sceneFrom(baseScene({ position_m: SOURCE, signal: { type: 'noise', low_hz: 200, high_hz: 18000 }, level: { dbfs_at_array: -20 } }));
     const { channels } = renderScene(scene);
-    const file = writeF32(tempDir(), 'noise.f32', channels);
+    const file = writeF32(tempDir('sim').dir, 'noise.f32', channels);
     const tdoa = numpy(file, 4, FS, 'tdoa', 2000, 46000);
     const errs = tdoa.map((t, m) => t - (dist(SOURCE, mics[m]!) - dist(SOURCE, mics[0]!)) / C);
     console.log(`noise TDOA errors (us): ${errs.map((e) => (1e6 * e).toFixed(3)).join(', ')}`);
@@ -71,7 +72,7 @@ describe('free-field rendering: delays and levels against the geometry', () => {
     );
     const { channels } = renderScene(scene);
     const start = Math.ceil((dist(far, ARRAY_POS) / C) * FS) + 100;
-    const rms = numpy(writeF32(tempDir(), 'tone.f32', channels.map((c) => c.subarray(start))), 4, FS, 'rms');
+    const rms = numpy(writeF32(tempDir('sim').dir, 'tone.f32', channels.map((c) => c.subarray(start))), 4, FS, 'rms');
     rms.forEach((v, m) => expect(Math.abs(v / (0.1 / dist(far, mics[m]!)) - 1)).toBeLessThan(0.01));
   });
 
@@ -103,7 +104,7 @@ describe('free-field rendering: delays and levels against the geometry', () => {
       ],
     });
     const { channels } = renderScene(scene);
-    const file = writeF32(tempDir(), 'moving.f32', channels);
+    const file = writeF32(tempDir('sim').dir, 'moving.f32', channels);
     const win = 960;
     const step = 4800;
     const first = 4800;

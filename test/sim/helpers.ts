@@ -1,6 +1,5 @@
 import { execFileSync } from 'node:child_process';
-import { mkdtempSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import type { ArrayGeometry } from '../../src/geometry/array-geometry.js';
@@ -8,10 +7,6 @@ import { loadArrayRef } from '../../src/geometry/array-presets.js';
 import { parseScene, type Scene } from '../../src/sim/scene.js';
 
 export const SCRIPT = fileURLToPath(new URL('./numpy_delays.py', import.meta.url));
-
-export function tempDir(): string {
-  return mkdtempSync(join(tmpdir(), 'bearline-sim-'));
-}
 
 /** Interleaved float32 file of planar channels, for numpy. */
 export function writeF32(dir: string, name: string, channels: readonly (Float32Array | Float64Array)[]): string {

@@ -4,7 +4,8 @@ import { pathResponse } from '../../src/sim/render.js';
 import { Fft, nextPow2 } from '../../src/sim/fft.js';
 import { imageSources } from '../../src/sim/room.js';
 import type { Room, WallAbsorption } from '../../src/sim/scene.js';
-import { dist, numpy, sceneFrom, tempDir, writeF32 } from './helpers.js';
+import { dist, numpy, sceneFrom, writeF32 } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const C = 343;
 const FS = 16000;
@@ -180,7 +181,7 @@ describe('image-source rooms (Allen and Berkley, JASA 65(4), 1979)', () => {
     const direct = roomResponse({ sizeM: size, absorption: uniform(0.3), maxOrder: 0, cutoffS: 1, movingMaxOrder: 0 }, src, mic);
     // Only the floor image: mirror of the source in z = 0 (common practice, no source).
     const floorOnly = roomResponse({ sizeM: size, absorption: { ...uniform(1), floor: 0.19 }, maxOrder: 1, cutoffS: 1, movingMaxOrder: 0 }, src, mic);
-    const dir = tempDir();
+    const dir = tempDir('sim').dir;
     const pad = (x: Float64Array): Float64Array => {
       const y = new Float64Array(4096);
       y.set(x);

@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
-import { tempDir } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const MAIN = fileURLToPath(new URL('../../dist/cli/main.js', import.meta.url));
 
@@ -77,7 +77,7 @@ function smallScene(dir: string): string {
 
 describe('bearline simulate', () => {
   it('writes REC.wav, REC.truth.jsonl and REC.array.json that agree with the scene', () => {
-    const dir = tempDir();
+    const dir = tempDir('sim').dir;
     const scene = smallScene(dir);
     const out = join(dir, 'rec.wav');
     const r = run(['simulate', '--scene', scene, '--out', out]);
@@ -120,7 +120,7 @@ describe('bearline simulate', () => {
   });
 
   it('--float writes 32-bit float samples; the same seed gives the same samples', () => {
-    const dir = tempDir();
+    const dir = tempDir('sim').dir;
     const scene = smallScene(dir);
     expect(run(['simulate', '--scene', scene, '--out', join(dir, 'a.wav'), '--float']).code).toBe(0);
     expect(run(['simulate', '--scene', scene, '--out', join(dir, 'b.wav'), '--float']).code).toBe(0);
@@ -129,7 +129,7 @@ describe('bearline simulate', () => {
   });
 
   it('bad input: one line on stderr, exit 2, and nothing already written is touched', () => {
-    const dir = tempDir();
+    const dir = tempDir('sim').dir;
     const out = join(dir, 'rec.wav');
     writeFileSync(out, 'earlier recording');
     const bad = join(dir, 'bad.json');
@@ -156,7 +156,7 @@ describe('bearline simulate', () => {
   });
 
   it('without --scene renders the built-in wetland demo: frogs at their bearings, a bird crossing in front', () => {
-    const dir = tempDir();
+    const dir = tempDir('sim').dir;
     mkdirSync(join(dir, 'demo'));
     const out = join(dir, 'demo', 'dusk.wav');
     const r = run(['simulate', '--out', out]);

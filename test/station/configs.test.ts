@@ -1,8 +1,8 @@
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
-import { tmpdir } from 'node:os';
+import { existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { tempDir } from '../helpers/temp-dir.js';
 import { PROFILE_SECTIONS } from '../../src/cli/analysis-flags.js';
 import { resolveMqttOptions, type MqttOptions } from '../../src/sinks/mqtt-options.js';
 import { resolveRecordLogOptions, type RecordLogOptions } from '../../src/sinks/record-log-options.js';
@@ -52,16 +52,11 @@ describe('configs/systemd/bearline-station.service', () => {
 
   it('parses cleanly, and the same check flags a broken copy', () => {
     expect(verify(UNIT)).toBe('');
-    const dir = mkdtempSync(join(tmpdir(), 'bearline-unit-'));
-    try {
-      const bad = join(dir, 'bearline-station.service');
-      writeFileSync(bad, readFileSync(UNIT, 'utf8').replace('Restart=on-failure', 'Restart=sometimes').replace('CPUQuota=60%', 'CPUQuota=lots'));
-      const out = verify(bad);
-      expect(out).toMatch(/restart specifier.*sometimes/);
-      expect(out).toMatch(/CPU quota 'lots'/);
-    } finally {
-      rmSync(dir, { recursive: true, force: true });
-    }
+    const bad = join(tempDir('unit').dir, 'bearline-station.service');
+    writeFileSync(bad, readFileSync(UNIT, 'utf8').replace('Restart=on-failure', 'Restart=sometimes').replace('CPUQuota=60%', 'CPUQuota=lots'));
+    const out = verify(bad);
+    expect(out).toMatch(/restart specifier.*sometimes/);
+    expect(out).toMatch(/CPU quota 'lots'/);
   });
 
   it('runs as a dedicated user, restarts on failure after a delay, logs to the journal, has limits', () => {

@@ -1,9 +1,7 @@
 import { EventEmitter } from 'node:events';
-import { mkdtempSync, rmSync } from 'node:fs';
-import { tmpdir } from 'node:os';
-import { join } from 'node:path';
 import { Command } from 'commander';
 import { afterEach, describe, expect, it, vi } from 'vitest';
+import { tempDir } from '../helpers/temp-dir.js';
 import { addOptions, givenOptions } from '../../src/cli/options.js';
 import { feedOptionSpecs } from '../../src/feed/feed-options.js';
 import { analysisOptionSpecs } from '../../src/analysis/analysis-options.js';
@@ -19,10 +17,8 @@ import { installShutdown, type StationSink } from '../../src/station/shutdown.js
 import { defaultStationId } from '../../src/station/station-id.js';
 import { buildStatus, formatStatusLine, StatusMonitor } from '../../src/station/status.js';
 
-const dirs: string[] = [];
 afterEach(() => {
   vi.useRealTimers();
-  while (dirs.length) rmSync(dirs.pop()!, { recursive: true, force: true });
 });
 
 describe('status snapshot', () => {
@@ -134,8 +130,7 @@ describe('shutdown helper', () => {
   });
 
   it('SIGHUP through the helper makes the record log start new files', async () => {
-    const dir = mkdtempSync(join(tmpdir(), 'bearline-hup-'));
-    dirs.push(dir);
+    const dir = tempDir('hup').dir;
     const signals = new EventEmitter();
     const log = new RecordLog('pond-test', { logDir: dir });
     const h = installShutdown([log], { signals, exit: () => {}, log: () => {} });

@@ -4,7 +4,7 @@
  * ground truth is the reference; the acoustic end-to-end checks come with the analysis core.
  */
 import { fileURLToPath } from 'node:url';
-import { describe, expect, it } from 'vitest';
+import { beforeAll, describe, expect, it } from 'vitest';
 import type { EventRecord } from '../../src/records/record-types.js';
 import { angleDiffDeg } from '../../src/track/circular.js';
 import { PROFILE_SECTIONS } from '../../src/cli/analysis-flags.js';
@@ -110,10 +110,16 @@ describe('two static sources calling in alternating bursts (ground truth: synth.
     { azimuthAt: () => -40, calls: bursts(0.2, 0.3, 0.7, 60), levelDbfs: -30 },
     { azimuthAt: () => 65, calls: bursts(0.7, 0.3, 0.7, 60), levelDbfs: -34 },
   ];
-  const synth = generateHops(sources, { durationS: 60, hopS: 0.01, seed: 3, noiseDeg: 2, clutter: 0.3, dropout: 0.1 });
-  const r = run(synth);
-  const matches = matchCalls(sources, r.events);
-  const idOf = [0, 1].map((i) => majority(matches.filter((m) => m.source === i).map((m) => m.event?.track ?? null)));
+  let synth: ReturnType<typeof generateHops>;
+  let r: ReturnType<typeof run>;
+  let matches: ReturnType<typeof matchCalls>;
+  let idOf: (number | null)[];
+  beforeAll(() => {
+    synth = generateHops(sources, { durationS: 60, hopS: 0.01, seed: 3, noiseDeg: 2, clutter: 0.3, dropout: 0.1 });
+    r = run(synth);
+    matches = matchCalls(sources, r.events);
+    idOf = [0, 1].map((i) => majority(matches.filter((m) => m.source === i).map((m) => m.event?.track ?? null)));
+  });
 
   it('gives each source its own track and >= 95 % of events the right id', () => {
     expect(idOf[0]).not.toBeNull();
