@@ -39,7 +39,7 @@ export interface HopResult {
   snrDb: number;
   /** Per band: SNR over its noise floor, dB. */
   bandSnrDb: Float64Array;
-  /** Calibrated: the probability that the direction lies within 5 deg of a sounding source (src/pipeline/confidence.ts). */
+  /** Calibrated: the probability that the direction lies within 5 deg of a sounding source (src/analysis/confidence.ts). */
   confidence: number;
   /** Confidence features of the winner: share of the band evidence that agrees with it, its share of the fused scores. */
   agree: number;
@@ -460,7 +460,7 @@ export class HopAnalyzer {
         res.supportLastBand = last;
         for (let p = 0; p < P; p++) {
           res.tdoaS[p] = this.refined[p]! / this.sampleRate;
-          // Each pair's own best peak, for the geometry check (src/pipeline/stream-checks.ts).
+          // Each pair's own best peak, for the geometry check (src/analysis/stream-checks.ts).
           res.pairOwnTdoaS[p] = P > 1 && this.correlators[p]!.peaks(1, this.ownLag, this.ownHeight) === 1 ? this.ownLag[0]! / this.sampleRate : NaN;
         }
         if (this.diagnostics) this.pairDiagnostics(res, P);

@@ -5,7 +5,7 @@
  * taken (its sign tells the polarity), and the lag is refined on the continuous correlation
  * (refineLag of src/dsp/gcc.ts). Pure: arrays in, numbers out.
  *
- * Why not the per-hop analysis of src/pipeline: its lag range is the file geometry's D / c
+ * Why not the per-hop analysis of src/analysis: its lag range is the file geometry's D / c
  * (plus a small margin), which a wrong spacing or a channel skew can exceed, it looks for
  * positive peaks only (an inverted channel would be missed) and it weights onsets, which a
  * steady bench stimulus does not have. A bench take is still and long, so one sum over it is

@@ -31,7 +31,7 @@ export interface DirectionModel {
 /**
  * Largest lag searched for a pair (whole samples): the physical limit spacing / c, plus the
  * margin, plus one sample for the peak's neighbour. The frame must hold it with room to spare:
- * see minimumFrame (src/pipeline/analysis-options.ts), which sizes or checks the frame.
+ * see minimumFrame (src/analysis/analysis-options.ts), which sizes or checks the frame.
  */
 export function searchLagLimit(spacingM: number, sampleRate: number, speedOfSound: number, lagMargin: number): number {
   return Math.ceil((spacingM / speedOfSound) * sampleRate * (1 + lagMargin)) + 1;

@@ -1,5 +1,5 @@
 /**
- * `confidence` is a calibrated probability (src/pipeline/confidence.ts): checked here on cells of
+ * `confidence` is a calibrated probability (src/analysis/confidence.ts): checked here on cells of
  * the held-apart `check` half of the accuracy matrix (test/bench/matrix), which the confidence
  * was not fitted on. Scenes from the project's simulator (image-source rooms after Allen and
  * Berkley, JASA 65(4), 1979); the truth is the simulator's geometry with the far-field delay

@@ -1,5 +1,5 @@
 /**
- * The stream checks of src/pipeline/stream-checks.ts: said once on stderr, and again in
+ * The stream checks of src/analysis/stream-checks.ts: said once on stderr, and again in
  * `--summary`. Signals made by sox (fractional delays: 10x rate, whole-sample delays, resample;
  * references.md) from the far-field delay formula of interface.md, tdoa = (p_a - p_b) . u / c.
  */
@@ -7,7 +7,8 @@ import { writeFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { unitFromAzEl } from '../../src/geometry/vec3.js';
 import { runCli } from '../helpers/cli.js';
-import { farFieldDelaysUp, soxDelayedSignal, tempDir } from '../helpers/sox.js';
+import { farFieldDelaysUp, soxDelayedSignal } from '../helpers/sox.js';
+import { tempDir } from '../helpers/temp-dir.js';
 
 const tmp = tempDir();
 afterAll(() => tmp.cleanup());

@@ -107,6 +107,19 @@ describe('the import graph between folders of src/ (DESIGN.md: no cycle between 
     expect(cycle?.map((e) => e.example) ?? []).toEqual([]);
   });
 
+  it('follows the layout of DEVELOPERS.md: every folder listed once, and each imports only folders listed below it', () => {
+    const text = readFileSync(new URL('../../DEVELOPERS.md', import.meta.url), 'utf8');
+    const block = text.slice(text.indexOf('\nsrc/\n'), text.indexOf('\nweb-viewer/'));
+    const listed = [...block.matchAll(/^ {2}([a-z-]+)\/ /gm)].map((m) => m[1]!);
+    const folders = readdirSync(SRC).filter((n) => statSync(join(SRC, n)).isDirectory());
+    expect([...listed].sort()).toEqual([...folders].sort());
+    const upward: string[] = [];
+    for (const [from, out] of folderEdges()) {
+      for (const e of out.values()) if (listed.indexOf(e.to) < listed.indexOf(from)) upward.push(`${e.from} -> ${e.to} (${e.example}): ${e.to} is listed above ${e.from}`);
+    }
+    expect(upward).toEqual([]);
+  });
+
   it('keeps every source file in a folder (src/ holds folders only)', () => {
     const loose = sourceFiles(SRC).filter((f) => folderOf(f) === '').map((f) => relative(SRC, f));
     expect(loose).toEqual([]);

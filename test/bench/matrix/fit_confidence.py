@@ -1,10 +1,10 @@
 """
-Fit the coefficients of bearline's confidence (src/pipeline/confidence.ts) by logistic
+Fit the coefficients of bearline's confidence (src/analysis/confidence.ts) by logistic
 regression (iteratively reweighted least squares, a small ridge) on the per-hop dump of the
 accuracy matrix, and check the fit on the held-apart half.
 
     npx tsx test/bench/accuracy-matrix.ts --set analysis.minConfidence=0 --hops /tmp/hops.jsonl
-    python3 test/bench/matrix/fit_confidence.py /tmp/hops.jsonl [src/pipeline/confidence.ts]
+    python3 test/bench/matrix/fit_confidence.py /tmp/hops.jsonl [src/analysis/confidence.ts]
 
 Label: the hop's direction lies within 5 degrees of a sounding source (err <= 5). Hops without
 a candidate, and the KEMAR cells (a head's delays fit no far-field direction), are left out. Features: see FEATURES below (the same transforms as confidence.ts).
@@ -108,7 +108,7 @@ def reliability(p, y, title):
 
 
 def write_fitted(path, w, knots):
-    """Replace the fitted tables between the FITTED markers of src/pipeline/confidence.ts."""
+    """Replace the fitted tables between the FITTED markers of src/analysis/confidence.ts."""
     text = open(path).read()
     a = text.index("// FITTED-BEGIN")
     b = text.index("// FITTED-END")
