@@ -23,7 +23,7 @@ export interface AnalysisOptions {
   floorRiseDbS?: number;
   /** Hops quieter than this (dBFS) give no direction (digital silence; detection is by SNR). */
   silenceDbfs?: number;
-  /** Hops whose best band stands less than this (dB) above its noise floor give no direction. */
+  /** A hop gives a direction only when its best band stands this far (dB) above its noise floor, or its own spectra are coherent with the answer. */
   detectSnrDb?: number;
   /** Directions with a lower confidence are reported as null. */
   minConfidence?: number;
@@ -98,7 +98,7 @@ export const analysisOptionSpecs: readonly OptionSpec[] = [
   { key: 'backgroundS', flag: '--background <s>', help: 'time constant of the background level onsets are measured against', defaultValue: ANALYSIS_DEFAULTS.backgroundS, parse: num },
   { key: 'floorRiseDbS', flag: '--floor-rise <dB/s>', help: 'how fast the per-bin noise floor may rise (sound that stays longer becomes background); sound near its floor counts little', defaultValue: ANALYSIS_DEFAULTS.floorRiseDbS, parse: num },
   { key: 'silenceDbfs', flag: '--silence <dbfs>', help: 'hops quieter than this give no direction (digital silence; detection is by --detect-snr)', defaultValue: ANALYSIS_DEFAULTS.silenceDbfs, parse: num },
-  { key: 'detectSnrDb', flag: '--detect-snr <dB>', help: 'hops whose best band stands less than this above its noise floor give no direction', defaultValue: ANALYSIS_DEFAULTS.detectSnrDb, parse: num },
+  { key: 'detectSnrDb', flag: '--detect-snr <dB>', help: 'a hop gives a direction only when its best band stands this far above its noise floor, or its own spectra are coherent with the answer (a steady source)', defaultValue: ANALYSIS_DEFAULTS.detectSnrDb, parse: num },
   { key: 'minConfidence', flag: '--min-confidence <0..1>', help: 'directions less confident than this are reported as null', defaultValue: ANALYSIS_DEFAULTS.minConfidence, parse: num },
   { key: 'maxSources', flag: '--max-sources <n>', help: 'most simultaneous sources per hop (1 to 8)', defaultValue: ANALYSIS_DEFAULTS.maxSources, parse: num },
   { key: 'voting', flag: '--no-voting', help: 'turn band fusion off (plain weighted GCC-PHAT peak, for comparison)', defaultValue: null },
