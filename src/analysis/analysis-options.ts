@@ -23,7 +23,7 @@ export interface AnalysisOptions {
   floorRiseDbS?: number;
   /** Hops quieter than this (dBFS) give no direction (digital silence; detection is by SNR). */
   silenceDbfs?: number;
-  /** Hops whose best band stands less than this (dB) above its noise floor give no direction. */
+  /** A hop gives a direction only when its best band stands this far (dB) above its noise floor, or its own spectra are coherent with the answer. */
   detectSnrDb?: number;
   /** Directions with a lower confidence are reported as null. */
   minConfidence?: number;
@@ -102,7 +102,7 @@ export const analysisOptionSpecs: readonly OptionSpec<keyof AnalysisOptions>[] =
   numberOption('backgroundS', 'background', 's', ANALYSIS_DEFAULTS.backgroundS, { min: 0, max: 60, minExclusive: true, unit: 's' }, 'time constant of the background level onsets are measured against'),
   numberOption('floorRiseDbS', 'floor-rise', 'dB/s', ANALYSIS_DEFAULTS.floorRiseDbS, { min: 0, max: 100, minExclusive: true, unit: 'dB/s' }, 'how fast the per-bin noise floor may rise (sound that stays longer becomes background); sound near its floor counts little'),
   numberOption('silenceDbfs', 'silence', 'dbfs', ANALYSIS_DEFAULTS.silenceDbfs, { min: -200, max: 0, unit: 'dBFS' }, 'hops quieter than this give no direction (digital silence; detection is by --detect-snr)'),
-  numberOption('detectSnrDb', 'detect-snr', 'dB', ANALYSIS_DEFAULTS.detectSnrDb, { min: 0, max: 60, unit: 'dB' }, 'hops whose best band stands less than this above its noise floor give no direction'),
+  numberOption('detectSnrDb', 'detect-snr', 'dB', ANALYSIS_DEFAULTS.detectSnrDb, { min: 0, max: 60, unit: 'dB' }, 'a hop gives a direction only when its best band stands this far above its noise floor, or its own spectra are coherent with the answer (a steady source)'),
   numberOption('minConfidence', 'min-confidence', '0..1', ANALYSIS_DEFAULTS.minConfidence, { min: 0, max: 1 }, 'directions less confident than this are reported as null'),
   numberOption('maxCandidates', 'max-candidates', 'n', ANALYSIS_DEFAULTS.maxCandidates, { min: 1, max: CANDIDATE_LIMIT, integer: true }, `direction candidates the band fusion compares per hop, best first (1 to ${CANDIDATE_LIMIT}; fewer: less work per hop)`),
   numberOption('maxSources', 'max-sources', 'n', null, { min: 1, max: CANDIDATE_LIMIT, integer: true }, 'most simultaneous sources reported per hop, at most --max-candidates', { defaultText: `${DEFAULT_MAX_SOURCES}, at most --max-candidates` }),

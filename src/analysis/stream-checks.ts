@@ -19,9 +19,15 @@ import type { HopResult } from './hop-analyzer.js';
 const MIN_HOPS = 30;
 /** Share of confident hops at the window edge (or off the geometry) that triggers the warning. */
 const TRIGGER_SHARE = 0.25;
-/** A delay within this many samples of the search limit, or of the physical limit D / c or beyond it, sits at the edge. */
+/**
+ * A delay within EDGE_SAMPLES of the search limit sits at the edge; so does, for a lone pair, a
+ * delay within NEAR_PHYSICAL_SAMPLES of its physical limit D / c (a pair cannot tell a source
+ * on its axis from a spacing given too small), and for an array, where some pair often lies
+ * along a source, a delay BEYOND_PHYSICAL_SAMPLES past that limit.
+ */
 const EDGE_SAMPLES = 1;
 const NEAR_PHYSICAL_SAMPLES = 0.2;
+const BEYOND_PHYSICAL_SAMPLES = 0.5;
 /** A hop is off the geometry when its RMS closure error exceeds this many samples ... */
 const CLOSURE_SAMPLES = 1.5;
 /** ... and this share of the array's largest delay. */
@@ -64,7 +70,8 @@ export class StreamChecks {
     let atEdge = false;
     for (let p = 0; p < P; p++) {
       const lag = Math.abs(r.tdoaS[p]! * this.sampleRate);
-      if (lag >= this.maxLag[p]! - EDGE_SAMPLES || lag >= this.physical[p]! - NEAR_PHYSICAL_SAMPLES) atEdge = true;
+      const physicalEdge = P === 1 ? this.physical[p]! - NEAR_PHYSICAL_SAMPLES : this.physical[p]! + BEYOND_PHYSICAL_SAMPLES;
+      if (lag >= this.maxLag[p]! - EDGE_SAMPLES || lag >= physicalEdge) atEdge = true;
     }
     if (atEdge) this.edge++;
     if (P > 1) {

@@ -61,15 +61,19 @@ describe('the demo scene (wetland station at dusk)', () => {
     expect(share(report, 5)).toBeGreaterThanOrEqual(0.8);
   });
 
-  // Target not yet met: each chorus is one track (the pond chorus is still split over two).
-  // it.fails turns red the day the tracker meets it; then make it a plain it().
+  // Targets not yet met (issue 13, the tracker): each chorus is one track, and the passing bird
+  // (2.2-3.2 kHz sweeps on a 20 cm square, where the pairs alias) has a track of its own that
+  // carries at least 60 % of its 17 calls. Measured with the evidence-weighted fusion: the reeds
+  // chorus on tracks 1 and 3 (3 chains towards the bird, spread 51 deg), the bird's calls on
+  // tracks 4 and 5 with one event each, although 79 % of its hops alone are within 5 deg.
+  // it.fails turns red the day the tracker meets them; then make them plain it().
   it.fails('target: one track per frog chorus', () => {
     for (const name of ['frogs-reeds', 'frogs-pond']) expect(first.stdout).toMatch(new RegExp(`^\\s*${name}\\s+fixed\\s+\\d+\\s+\\d+\\s+\\d+$`, 'm'));
   });
-  // The passing bird (2.2-3.2 kHz sweeps on a 20 cm square, where the pairs alias): with the
-  // evidence-weighted fusion it has a track of its own (15 events for its 17 calls; 57.5 % of
-  // its hops alone within 5 deg). Before, about a third of its hops and no track.
-  it('target: the passing bird is followed by a track', () => {
-    expect(first.stdout).toMatch(/^\s*passing-bird\s+moving\s+\d+\s+\d+\s+\d/m);
+  it.fails('target: the passing bird has its own track, carrying at least 60 % of its calls', () => {
+    // table rows: track, events, mean bearing, spread, source, true bearing, off by, events of it
+    const rows = [...first.stdout.matchAll(/^\s*(\d+)\s+(\d+)\s+\S+ deg\s+\S+ deg\s+passing-bird\s+\S+ deg\s+\S+ deg\s+(\d+)$/gm)];
+    const best = Math.max(0, ...rows.map((m) => Number(m[3])));
+    expect(best / 17).toBeGreaterThanOrEqual(0.6);
   });
 });
