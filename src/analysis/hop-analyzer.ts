@@ -5,7 +5,7 @@ import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow } from '../dsp/window.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
 import type { ResolvedAnalysis } from './analysis-options.js';
-import { BandFusion, MIN_SUPPORT } from './band-fusion.js';
+import { BandFusion, MIN_SUPPORT, type FusionResult } from './band-fusion.js';
 import { confidenceOf, type ConfidenceFeatures } from './confidence.js';
 
 /** Candidates whose pair lags all differ by less than this (samples) are one peak. */
@@ -26,6 +26,15 @@ const FLOOR_WARMUP_HOPS = 4;
 const FRESH_Z = 5;
 /** A band's evidence grows with its SNR up to this many dB. */
 const EVIDENCE_SNR_CAP_DB = 30;
+
+/** The bands that support one candidate: first and last (-1 when none), the strongest, and sums for the support-weighted frequency. */
+interface BandSupport {
+  first: number;
+  last: number;
+  dominant: number;
+  freqSum: number;
+  weightSum: number;
+}
 
 /** One hop's result. The object and its arrays are reused by the next hop: copy what you keep. */
 export interface HopResult {
@@ -127,6 +136,8 @@ export class HopAnalyzer {
   private readonly refined: Float64Array;
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
   private readonly order: Int32Array;
+  /** The bands supporting the candidate being refined (reused). */
+  private readonly support: BandSupport = { first: -1, last: -1, dominant: -1, freqSum: 0, weightSum: 0 };
   private readonly result: HopResult;
   private readonly pairBandScores: Float64Array;
   /** Compute per-pair diagnostics (costs one pass over the bins per pair per hop). */
@@ -348,62 +359,26 @@ export class HopAnalyzer {
     res.pairAgreement.fill(0);
   }
 
+  /**
+   * Band fusion over the candidates of this hop: each band's coherence with each candidate,
+   * fused by evidence (./band-fusion.ts); the candidates ranked; then, best first, each
+   * candidate's lags refined on the bands that support it and turned into a direction. The
+   * first is the hop's answer, with its confidence.
+   */
   private fuseBands(res: HopResult, P: number): void {
     const opts = this.options;
-    const B = this.bands.count;
-    const S = opts.maxCandidates;
-    const K = this.dedupe(this.model.findCandidates(this.correlators, S, this.candLags, this.candScores), P);
+    const K = this.dedupe(this.model.findCandidates(this.correlators, opts.maxCandidates, this.candLags, this.candScores), P);
     this.clearEstimate(res);
     if (K === 0) return;
-
-    // Normalised band coherence: s[b, c] = sum over pairs of Re(A e^{j w tau}) / (pairs * band weight).
-    const s = this.bandScores;
-    s.fill(0);
-    for (let c = 0; c < K; c++) {
-      for (let p = 0; p < P; p++) addBandScores(this.correlators[p]!, this.bands, this.candLags[c * P + p]!, s, S, c);
-    }
-    for (let b = 0; b < B; b++) {
-      const norm = 1 / (P * Math.max(1e-12, this.bandWeight[b]!));
-      for (let c = 0; c < K; c++) s[b * S + c]! *= norm;
-    }
-    const fusion = this.fusion.fuse(K, s, this.evidence);
+    const fusion = this.fusion.fuse(K, this.bandCoherence(K, P), this.evidence);
     res.evidence = fusion.totalEvidence;
     if (!(fusion.totalEvidence > 0)) return;
-
-    // Selection: fused score, with a preference for the previous hop's answer so that a steady
-    // sound whose bands disagree on the delay (a baffle between the mics) keeps one answer.
-    // Without fusion (--no-voting) the plain peak of the weighted correlation wins.
-    const sel = this.selection;
-    for (let c = 0; c < K; c++) {
-      sel[c] = opts.voting ? fusion.fused[c]! : c === 0 ? 1 : 0;
-      if (opts.voting && this.prevValid && this.nearPrevious(c, P)) sel[c]! *= 1 + STICKINESS;
-    }
-    const order = this.order;
-    for (let c = 0; c < K; c++) order[c] = c;
-    for (let i = 1; i < K; i++) {
-      const v = order[i]!;
-      let j = i - 1;
-      while (j >= 0 && sel[order[j]!]! < sel[v]!) {
-        order[j + 1] = order[j]!;
-        j--;
-      }
-      order[j + 1] = v;
-    }
-    const win = order[0]!;
+    const order = this.rankCandidates(K, P, fusion);
     let fusedTotal = 0;
     for (let c = 0; c < K; c++) fusedTotal += fusion.fused[c]!;
-    const winFused = fusion.fused[win]!;
+    const winFused = fusion.fused[order[0]!]!;
     if (!(winFused > 0)) return;
-
-    let maxSupport = 0;
-    for (let b = 0; b < B; b++) maxSupport = Math.max(maxSupport, fusion.supportWeight[b]!);
-    for (let b = 0; b < B; b++) {
-      const c = fusion.supportOf[b]!;
-      if (c < 0) continue;
-      res.bandVoteWeight[b] = maxSupport > 0 ? fusion.supportWeight[b]! / maxSupport : 0;
-      res.bandVoteCandidate[b] = c;
-      res.bandVoteTdoaS[b] = this.candLags[c * P]! / this.sampleRate;
-    }
+    this.reportBandVotes(res, fusion, P);
 
     for (let i = 0; i < K && res.sourceCount < opts.maxSources; i++) {
       const c = order[i]!;
@@ -411,28 +386,10 @@ export class HopAnalyzer {
       if (i > 0 && (f < SOURCE_RATIO * winFused || f <= 0)) continue;
       // The bands that support this candidate refine its lags (every band with evidence for
       // the plain peak's winner when none supports it).
-      let first = -1;
-      let last = -1;
-      let domBand = -1;
-      let domWeight = 0;
-      let freqSum = 0;
-      let weightSum = 0;
-      for (let b = 0; b < B; b++) {
-        const use = fusion.supportOf[b] === c;
-        this.useBand[b] = use ? 1 : 0;
-        if (!use) continue;
-        if (first < 0) first = b;
-        last = b;
-        freqSum += fusion.supportWeight[b]! * Math.sqrt(this.bands.loHz[b]! * this.bands.hiHz[b]!);
-        weightSum += fusion.supportWeight[b]!;
-        if (fusion.supportWeight[b]! > domWeight) {
-          domWeight = fusion.supportWeight[b]!;
-          domBand = b;
-        }
-      }
-      if (first < 0) {
+      const support = this.supportOf(c, fusion);
+      if (support.first < 0) {
         if (opts.voting || i > 0) continue;
-        for (let b = 0; b < B; b++) this.useBand[b] = this.evidence[b]! > 0 ? 1 : 0;
+        for (let b = 0; b < this.bands.count; b++) this.useBand[b] = this.evidence[b]! > 0 ? 1 : 0;
       }
       for (let p = 0; p < P; p++) {
         this.refined[p] = refineLag(this.correlators[p]!, this.bands, this.useBand, this.candLags[c * P + p]!);
@@ -442,28 +399,7 @@ export class HopAnalyzer {
       src.azimuthDeg = this.dir.azimuthDeg;
       src.elevationDeg = this.dir.elevationDeg;
       if (res.sourceCount === 0) {
-        this.features.agree = Math.min(1, f / fusion.totalEvidence);
-        this.features.share = fusedTotal > 0 ? f / fusedTotal : 0;
-        this.features.snrDb = res.snrDb;
-        res.apertureWaves = weightSum > 0 ? (freqSum / weightSum) * this.apertureS : 0;
-        this.features.apertureWaves = res.apertureWaves;
-        this.features.evidence = fusion.totalEvidence;
-        this.features.onset = res.onset;
-        this.features.fresh = this.freshCoherence(first, last, P);
-        res.fresh = this.features.fresh;
-        res.freshZ = first < 0 ? 0 : res.fresh * Math.sqrt(2 * (this.bands.end[last]! - this.bands.start[first]!) * P);
-        res.agree = this.features.agree;
-        res.share = this.features.share;
-        res.confidence = confidenceOf(this.features);
-        res.dominantBand = domBand;
-        res.supportFirstBand = first;
-        res.supportLastBand = last;
-        for (let p = 0; p < P; p++) {
-          res.tdoaS[p] = this.refined[p]! / this.sampleRate;
-          // Each pair's own best peak, for the geometry check (src/analysis/stream-checks.ts).
-          res.pairOwnTdoaS[p] = P > 1 && this.correlators[p]!.peaks(1, this.ownLag, this.ownHeight) === 1 ? this.ownLag[0]! / this.sampleRate : NaN;
-        }
-        if (this.diagnostics) this.pairDiagnostics(res, P);
+        this.setWinner(res, f, fusion.totalEvidence, fusedTotal, support, P);
         src.score = 1;
       } else {
         src.score = Math.max(0, Math.min(1, f / winFused));
@@ -479,6 +415,113 @@ export class HopAnalyzer {
     res.valid = res.sourceCount > 0 && sounding && res.confidence >= opts.minConfidence;
     this.prevValid = res.sourceCount > 0;
     if (this.prevValid) for (let p = 0; p < P; p++) this.prevLags[p] = this.refined0(res, p);
+  }
+
+  /** Normalised band coherence: s[b, c] = sum over pairs of Re(A e^{j w tau}) / (pairs * band weight). */
+  private bandCoherence(K: number, P: number): Float64Array {
+    const S = this.options.maxCandidates;
+    const s = this.bandScores;
+    s.fill(0);
+    for (let c = 0; c < K; c++) {
+      for (let p = 0; p < P; p++) addBandScores(this.correlators[p]!, this.bands, this.candLags[c * P + p]!, s, S, c);
+    }
+    for (let b = 0; b < this.bands.count; b++) {
+      const norm = 1 / (P * Math.max(1e-12, this.bandWeight[b]!));
+      for (let c = 0; c < K; c++) s[b * S + c]! *= norm;
+    }
+    return s;
+  }
+
+  /**
+   * The candidates best first: by fused score, with a preference for the previous hop's answer
+   * so that a steady sound whose bands disagree on the delay (a baffle between the mics) keeps
+   * one answer. Without fusion (--no-voting) the plain peak of the weighted correlation wins.
+   */
+  private rankCandidates(K: number, P: number, fusion: FusionResult): Int32Array {
+    const voting = this.options.voting;
+    const sel = this.selection;
+    for (let c = 0; c < K; c++) {
+      sel[c] = voting ? fusion.fused[c]! : c === 0 ? 1 : 0;
+      if (voting && this.prevValid && this.nearPrevious(c, P)) sel[c]! *= 1 + STICKINESS;
+    }
+    const order = this.order;
+    for (let c = 0; c < K; c++) order[c] = c;
+    for (let i = 1; i < K; i++) {
+      const v = order[i]!;
+      let j = i - 1;
+      while (j >= 0 && sel[order[j]!]! < sel[v]!) {
+        order[j + 1] = order[j]!;
+        j--;
+      }
+      order[j + 1] = v;
+    }
+    return order;
+  }
+
+  /** Each band's vote for the viewer: the candidate it supports and its support, relative to the strongest band's. */
+  private reportBandVotes(res: HopResult, fusion: FusionResult, P: number): void {
+    const B = this.bands.count;
+    let maxSupport = 0;
+    for (let b = 0; b < B; b++) maxSupport = Math.max(maxSupport, fusion.supportWeight[b]!);
+    for (let b = 0; b < B; b++) {
+      const c = fusion.supportOf[b]!;
+      if (c < 0) continue;
+      res.bandVoteWeight[b] = maxSupport > 0 ? fusion.supportWeight[b]! / maxSupport : 0;
+      res.bandVoteCandidate[b] = c;
+      res.bandVoteTdoaS[b] = this.candLags[c * P]! / this.sampleRate;
+    }
+  }
+
+  /** The bands that support candidate c (marked in useBand): their range, the strongest, and the support-weighted frequency. */
+  private supportOf(c: number, fusion: FusionResult): BandSupport {
+    const sup = this.support;
+    sup.first = -1;
+    sup.last = -1;
+    sup.dominant = -1;
+    sup.freqSum = 0;
+    sup.weightSum = 0;
+    let domWeight = 0;
+    for (let b = 0; b < this.bands.count; b++) {
+      const use = fusion.supportOf[b] === c;
+      this.useBand[b] = use ? 1 : 0;
+      if (!use) continue;
+      if (sup.first < 0) sup.first = b;
+      sup.last = b;
+      sup.freqSum += fusion.supportWeight[b]! * Math.sqrt(this.bands.loHz[b]! * this.bands.hiHz[b]!);
+      sup.weightSum += fusion.supportWeight[b]!;
+      if (fusion.supportWeight[b]! > domWeight) {
+        domWeight = fusion.supportWeight[b]!;
+        sup.dominant = b;
+      }
+    }
+    return sup;
+  }
+
+  /** The hop's answer (the first candidate with a direction): its confidence features, confidence, delays and band range. */
+  private setWinner(res: HopResult, fused: number, totalEvidence: number, fusedTotal: number, support: BandSupport, P: number): void {
+    const { first, last } = support;
+    this.features.agree = Math.min(1, fused / totalEvidence);
+    this.features.share = fusedTotal > 0 ? fused / fusedTotal : 0;
+    this.features.snrDb = res.snrDb;
+    res.apertureWaves = support.weightSum > 0 ? (support.freqSum / support.weightSum) * this.apertureS : 0;
+    this.features.apertureWaves = res.apertureWaves;
+    this.features.evidence = totalEvidence;
+    this.features.onset = res.onset;
+    this.features.fresh = this.freshCoherence(first, last, P);
+    res.fresh = this.features.fresh;
+    res.freshZ = first < 0 ? 0 : res.fresh * Math.sqrt(2 * (this.bands.end[last]! - this.bands.start[first]!) * P);
+    res.agree = this.features.agree;
+    res.share = this.features.share;
+    res.confidence = confidenceOf(this.features);
+    res.dominantBand = support.dominant;
+    res.supportFirstBand = first;
+    res.supportLastBand = last;
+    for (let p = 0; p < P; p++) {
+      res.tdoaS[p] = this.refined[p]! / this.sampleRate;
+      // Each pair's own best peak, for the geometry check (src/analysis/stream-checks.ts).
+      res.pairOwnTdoaS[p] = P > 1 && this.correlators[p]!.peaks(1, this.ownLag, this.ownHeight) === 1 ? this.ownLag[0]! / this.sampleRate : NaN;
+    }
+    if (this.diagnostics) this.pairDiagnostics(res, P);
   }
 
   /**
