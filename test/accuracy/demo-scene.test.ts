@@ -29,6 +29,23 @@ describe('the demo scene (wetland station at dusk)', () => {
     expect(again.stdout).toBe(first.stdout);
   });
 
+  it('the table lists every track that carried an event, and its "off by" is its mean minus the true bearing shown', () => {
+    const rows = first.stdout.split('\n');
+    const inLines = new Set(rows.map((l) => /^\s+\d:\d\d\.\d .* track +(\d+) /.exec(l)?.[1]).filter((x) => x !== undefined).map(Number));
+    const tableRows = rows
+      .map((l) => /^\s*(\d+)\s+(\d+)\s+(\d+\.\d) deg\s+\d+\.\d deg\s+.+?\s+(?:(\d+\.\d) deg|-)\s+(?:([+-]\d+\.\d) deg|-)\s+\d+$/.exec(l))
+      .filter((m) => m !== null);
+    const listed = new Set(tableRows.map((m) => Number(m[1])));
+    expect(inLines.size).toBeGreaterThan(1);
+    expect(listed.size).toBeGreaterThanOrEqual(inLines.size);
+    for (const id of inLines) expect(listed.has(id)).toBe(true);
+    for (const m of tableRows) {
+      if (m[5] === undefined) continue;
+      const diff = ((Number(m[3]) - Number(m[4]) + 540) % 360) - 180;
+      expect(Math.abs(diff - Number(m[5]))).toBeLessThanOrEqual(0.11);
+    }
+  });
+
   it('tracks against the truth: each frog chorus (fixed) is followed by a track within 1 degree of its true bearing, carrying most of its calls', () => {
     const rows = first.stdout.split('\n');
     for (const [name, bearing] of [['frogs-reeds', 75], ['frogs-pond', 250]] as const) {
