@@ -17,6 +17,13 @@
  *    hops within confirmWindow hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
  *    unsupported and die after trackTimeoutS without support;
+ *    a *settled* confirmed track (followed for at least SETTLED_SPAN_S with a lifetime spread of
+ *    at most bearingNoiseDeg: a static chorus) also keeps a home, its lifetime mean; a
+ *    candidate within the gate of a settled track's home goes to that track before any track
+ *    that merely gates it by prediction (a chorus calling again after a pause is re-acquired,
+ *    and a mover that passes through or stops at its bearing does not take it over); it
+ *    feeds no unsettled track even when the settled one took another candidate of the hop (a
+ *    side peak of the chorus), and it starts no new track;
  * 6. the event cutter (event-cutter.ts) sees every live track every hop.
  *
  * Two sources closer than about gateSigma x bearingNoiseDeg look like one and share a track.
@@ -28,6 +35,7 @@ import { AngleFilterBank, IO_D2, IO_DT, IO_R, IO_RATE_SIGMA, IO_Z } from './angl
 import { NearestNeighbourAssigner } from './assignment.js';
 import { DirectionSums } from './direction-sums.js';
 import { EventCutter } from './event-cutter.js';
+import { wrapDeg } from './circular.js';
 import { BAND_HI, BAND_LO, CONFIDENCE, DT, HOP_S, HopScratch, LEVEL, ONSET, SNR, TIME } from './hop-scratch.js';
 import { resolveTrackerOptions, type TrackerOptions, type TrackerSettings } from './options.js';
 import type { HopObservation, TrackSummary, TrackUpdate } from './types.js';
@@ -41,6 +49,16 @@ const MIN_SCORE = 0.05;
 /** Floor on cos(elevation) when widening the azimuth noise of high candidates. */
 const MIN_COS_ELEVATION = 0.2;
 const DEG = Math.PI / 180;
+/** A confirmed track followed this long (first to last support) with a small lifetime spread is settled. */
+const SETTLED_SPAN_S = 3;
+/**
+ * Floor on the standard deviation of a settled track's home, degrees. The home's spread is
+ * that of the track's own hop azimuths, so it already holds the measurement noise: a
+ * candidate is home when within gateSigma x max(spread, this) of the home.
+ */
+const HOME_MIN_SD_DEG = 1.5;
+/** The same for the home's elevation, which a planar array measures far more loosely than azimuth. */
+const HOME_MIN_EL_SD_DEG = 6;
 
 const NO_EVENTS: readonly EventRecord[] = Object.freeze([]);
 
@@ -76,6 +94,15 @@ export class Tracker {
   private readonly candUsable: Uint8Array;
   private readonly candTaken: Uint8Array;
   private readonly candGated: Uint8Array;
+  /** Per slot: 1 when the track is settled (see above); its home (working angle) and home variance. */
+  private readonly settled: Uint8Array;
+  private readonly homeAz: Float64Array;
+  private readonly homeVar: Float64Array;
+  /** Home elevation and its variance (NaN when the track carries no elevations). */
+  private readonly homeEl: Float64Array;
+  private readonly homeElVar: Float64Array;
+  /** Per candidate of the hop: 1 when it lies within the home gate of a settled track. */
+  private readonly candHome: Uint8Array;
   private readonly idsByLength: (number | null)[][] = [];
   private readonly result: MutableUpdate = { trackIds: [], events: NO_EVENTS };
   private readonly finished: TrackSummary[] = [];
@@ -129,6 +156,12 @@ export class Tracker {
     this.candUsable = new Uint8Array(c);
     this.candTaken = new Uint8Array(c);
     this.candGated = new Uint8Array(c);
+    this.settled = new Uint8Array(n);
+    this.homeAz = new Float64Array(n);
+    this.homeVar = new Float64Array(n);
+    this.homeEl = new Float64Array(n);
+    this.homeElVar = new Float64Array(n);
+    this.candHome = new Uint8Array(c);
     this.gate2 = o.gateSigma * o.gateSigma;
   }
 
@@ -149,9 +182,11 @@ export class Tracker {
 
     for (let s = 0; s < this.size; s++) {
       this.chosen[s] = -1;
+      this.settled[s] = 0;
       if (this.state[s] === FREE) continue;
       this.az.predict(s);
       if (this.hasEl[s] === 1) this.el.predict(s);
+      if (this.state[s] === CONFIRMED) this.settle(s);
     }
 
     const nC = this.loadCandidates(obs);
@@ -236,11 +271,18 @@ export class Tracker {
       this.candUsable[j] = usable ? 1 : 0;
       this.candTaken[j] = 0;
       this.candGated[j] = 0;
+      this.candHome[j] = 0;
       if (!usable) continue;
       sc.candAz[j] = this.sideDeg === null ? az : foldedOffsetDeg(az, this.sideDeg);
       sc.candEl[j] = el === null ? NaN : el;
       sc.candScore[j] = c.score;
       sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, conf * c.score));
+      for (let s = 0; s < this.size; s++) {
+        if (this.settled[s] === 1 && this.homeDistance2(s, j) <= this.gate2) {
+          this.candHome[j] = 1;
+          break;
+        }
+      }
     }
     return nC;
   }
@@ -280,6 +322,33 @@ export class Tracker {
     return d2 <= g;
   }
 
+  /** Is slot s a settled track? If so, note its home. */
+  private settle(s: number): void {
+    if (this.lastSupportT[s]! - this.firstSeenT[s]! < SETTLED_SPAN_S) return;
+    const spread = this.lifetime.spreadDeg(s);
+    if (!(spread <= this.options.bearingNoiseDeg)) return;
+    this.settled[s] = 1;
+    this.homeAz[s] = this.lifetime.meanWorkingDeg(s);
+    const sd = Math.max(spread, HOME_MIN_SD_DEG);
+    this.homeVar[s] = sd * sd;
+    const el = this.lifetime.meanElevationDeg(s);
+    this.homeEl[s] = el ?? NaN;
+    const elSd = Math.max(this.lifetime.elevationSpreadDeg(s), HOME_MIN_EL_SD_DEG);
+    this.homeElVar[s] = elSd * elSd;
+  }
+
+  /**
+   * Squared distance of candidate j from the home of settled slot s over the home's variance,
+   * per angle: the larger of azimuth and elevation (when both carry elevations).
+   */
+  private homeDistance2(s: number, j: number): number {
+    let nu = this.sc.candAz[j]! - this.homeAz[s]!;
+    if (this.sideDeg === null) nu = wrapDeg(nu);
+    const d2 = (nu * nu) / this.homeVar[s]!;
+    const dEl = this.sc.candEl[j]! - this.homeEl[s]!;
+    return dEl === dEl ? Math.max(d2, (dEl * dEl) / this.homeElVar[s]!) : d2;
+  }
+
   /** Global nearest neighbour between the tracks in one state and the untaken candidates. */
   private assignStage(which: number, nC: number): void {
     let nT = 0;
@@ -291,10 +360,21 @@ export class Tracker {
       const s = this.listed[i]!;
       for (let j = 0; j < nC; j++) {
         this.cost[i * stride + j] = Infinity;
-        if (this.candUsable[j] === 1 && this.candTaken[j] === 0 && this.gate(s, j)) {
+        if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
+        if (this.candHome[j] === 1 && this.settled[s] === 0) continue;
+        if (this.gate(s, j)) {
           this.cost[i * stride + j] = this.d2[0]!;
           this.candGated[j] = 1;
           any = true;
+        }
+        if (this.settled[s] === 1) {
+          // Home matches rank below (before) every match by prediction: cost in [-2 gate^2, -gate^2).
+          const d2 = this.homeDistance2(s, j);
+          if (d2 <= this.gate2) {
+            this.cost[i * stride + j] = d2 - 2 * this.gate2;
+            this.candGated[j] = 1;
+            any = true;
+          }
         }
       }
     }
@@ -342,7 +422,7 @@ export class Tracker {
     for (let j = 0; j < nC; j++) {
       if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
       if (sc.hop[CONFIDENCE]! * sc.candScore[j]! < o.birthConfidence) continue;
-      if (this.candGated[j] === 1 || this.withinAnyGate(j)) continue;
+      if (this.candGated[j] === 1 || this.candHome[j] === 1 || this.withinAnyGate(j)) continue;
       let s = 0;
       while (s < this.size && this.state[s] !== FREE) s++;
       if (s === this.size) return;
@@ -374,7 +454,10 @@ export class Tracker {
 
   /** A candidate inside the gate of a live track is that track's (a side peak), not a newcomer. */
   private withinAnyGate(j: number): boolean {
-    for (let s = 0; s < this.size; s++) if (this.state[s] !== FREE && this.gate(s, j)) return true;
+    for (let s = 0; s < this.size; s++) {
+      if (this.state[s] === FREE) continue;
+      if (this.gate(s, j)) return true;
+    }
     return false;
   }
   private tentativeBookkeeping(): void {

@@ -468,3 +468,45 @@ describe('frog chorus profile: three static callers, overlapping bouts, long sil
     expect(r.events.length).toBeLessThanOrEqual(matches.length * 1.05);
   });
 });
+
+describe('choruses in bouts and a caller that passes them (issue 13, items 2 and 3)', () => {
+  // A chorus at 75 degrees calls in bouts (6 calls, then a 5 s pause); a bird flies past from
+  // -60 degrees and slows down until it sits on the chorus' bearing (as a bird flying away
+  // along that line does), calling every 0.7 s from 14 to 26 s. The truth is the schedule.
+  const chorusCalls: [number, number][] = [];
+  for (let bout = 0; bout * 9.5 < 44; bout++) for (let k = 0; k < 6; k++) chorusCalls.push([bout * 9.5 + 1 + 0.75 * k, bout * 9.5 + 1.3 + 0.75 * k]);
+  const birdAt = (t: number): number => {
+    const u = Math.min(1, Math.max(0, (t - 14) / 12));
+    return 74 - 134 * (1 - u) * (1 - u);
+  };
+  const sources: TruthSource[] = [
+    { azimuthAt: () => 75, calls: chorusCalls, levelDbfs: -30 },
+    { azimuthAt: birdAt, calls: bursts(14, 0.18, 0.52, 26), levelDbfs: -28 },
+  ];
+  const synth = generateHops(sources, { durationS: 44, hopS: 0.01, seed: 13, noiseDeg: 1.5, clutter: 0.1, dropout: 0.1 });
+  const r = run(synth);
+  const chorus = idsOfSource(synth, r, 0).filter((x) => x.id !== null);
+  const bird = idsOfSource(synth, r, 1).filter((x) => x.id !== null);
+  const chorusId = majority(chorus.map((x) => x.id));
+  const birdId = majority(bird.filter((x) => x.t < 22).map((x) => x.id));
+
+  it('the chorus keeps one id across its 5 s pauses, and no other track is born on it', () => {
+    const share = chorus.filter((x) => x.id === chorusId).length / chorus.length;
+    console.log(`chorus: ${chorus.length} assigned hops, ${(100 * share).toFixed(1)} % on track ${chorusId}; ids ${[...new Set(chorus.map((x) => x.id))].join(', ')}`);
+    expect(chorus.length).toBeGreaterThan(700);
+    expect(share).toBeGreaterThanOrEqual(0.99);
+    const onChorus = r.events.filter((e) => Math.abs(angleDiffDeg(e.azimuth_deg, 75)) < 5 && e.start_s > 26.5);
+    expect(onChorus.length).toBeGreaterThan(10);
+    expect(new Set(onChorus.map((e) => e.track))).toEqual(new Set([chorusId]));
+  });
+
+  it("the bird has its own track, and that track takes no call of the chorus after the bird stops at the chorus' bearing", () => {
+    expect(birdId).not.toBeNull();
+    expect(birdId).not.toBe(chorusId);
+    const birdCalls = bird.filter((x) => x.t < 22);
+    expect(birdCalls.filter((x) => x.id === birdId).length / birdCalls.length).toBeGreaterThanOrEqual(0.95);
+    const stolen = chorus.filter((x) => x.id === birdId);
+    console.log(`bird track ${birdId}: ${stolen.length} chorus hops taken (of ${chorus.length})`);
+    expect(stolen.filter((x) => x.t > 26.5)).toEqual([]);
+  });
+});
