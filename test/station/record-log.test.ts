@@ -109,7 +109,7 @@ describe('torn-line repair', () => {
   it('cuts a CSV row with the wrong number of fields', () => {
     const dir = freshDir();
     const path = join(dir, 'pond-test.events.20250614T210000Z.csv');
-    const row = '1.5,1.9,,10,,,2,0.9,1,,,,,,\n';
+    const row = '1.5,1.9,,10,,,2,0.9,1,,,,,,,,,\n';
     expect(csvFieldCount(row.trimEnd())).toBe(csvFieldCount(EVENTS_HEADER));
     writeFileSync(path, EVENTS_HEADER + '\n' + row + '1.6,2.0,,11\n');
     expect(repairLogFile(path, false)!.cutBytes).toBe('1.6,2.0,,11\n'.length);

@@ -510,3 +510,32 @@ describe('choruses in bouts and a caller that passes them (issue 13, items 2 and
     expect(stolen.filter((x) => x.t > 26.5)).toEqual([]);
   });
 });
+
+describe('where a moving call starts and ends (issue 13, item 5)', () => {
+  it('events carry start_azimuth_deg, end_azimuth_deg and rate_deg_s of a line fitted to their hops: a caller sweeping 15 deg/s across the seam, and a fixed one', () => {
+    const sources: TruthSource[] = [
+      { azimuthAt: (t) => 150 + 15 * t, calls: bursts(0.3, 0.5, 0.3, 8), levelDbfs: -30 },
+      { azimuthAt: () => -40, calls: bursts(0.7, 0.5, 0.3, 8), levelDbfs: -30 },
+    ];
+    const synth = generateHops(sources, { durationS: 8, hopS: 0.01, seed: 21, noiseDeg: 1, clutter: 0, dropout: 0.05 });
+    const r = run(synth);
+    const matches = matchCalls(sources, r.events).filter((m) => m.event !== null);
+    expect(matches.length).toBeGreaterThan(14);
+    for (const { source, event } of matches) {
+      const e = event!;
+      const truthAt = sources[source]!.azimuthAt;
+      const rate = source === 0 ? 15 : 0;
+      // A line over ~50 hops with 1 degree of noise: the slope to a few deg/s, the ends to ~1 degree.
+      expect(Math.abs(e.rate_deg_s! - rate)).toBeLessThan(4);
+      expect(Math.abs(angleDiffDeg(e.start_azimuth_deg!, truthAt(e.start_s)))).toBeLessThan(1.5);
+      expect(Math.abs(angleDiffDeg(e.end_azimuth_deg!, truthAt(e.end_s)))).toBeLessThan(1.5);
+      // The line runs through the event's mean.
+      const mid = e.start_azimuth_deg! + angleDiffDeg(e.end_azimuth_deg!, e.start_azimuth_deg!) / 2;
+      expect(Math.abs(angleDiffDeg(mid, e.azimuth_deg))).toBeLessThan(0.5);
+    }
+    const movers = matches.filter((m) => m.source === 0).map((m) => m.event!.rate_deg_s!);
+    const mean = movers.reduce((a, b) => a + b, 0) / movers.length;
+    console.log(`sweeping caller: ${movers.length} events, mean rate ${mean.toFixed(2)} deg/s (true 15)`);
+    expect(Math.abs(mean - 15)).toBeLessThan(1);
+  });
+});
