@@ -539,3 +539,19 @@ describe('where a moving call starts and ends (issue 13, item 5)', () => {
     expect(Math.abs(mean - 15)).toBeLessThan(1);
   });
 });
+
+describe('where a moving call starts and ends on a pair (folded azimuths)', () => {
+  it('a caller moving 60 -> 84 degrees in front of a pair along x: start, end and rate as reported azimuths', () => {
+    const sources: TruthSource[] = [{ azimuthAt: (t) => 60 + 8 * t, calls: bursts(0.2, 0.5, 0.3, 3), levelDbfs: -30 }];
+    const synth = generateHops(sources, { durationS: 3, hopS: 0.01, seed: 4, noiseDeg: 0.5, clutter: 0, dropout: 0, mirrored: true });
+    const r = run(synth, { mirror: PAIR_X_MIRROR });
+    const matches = matchCalls(sources, r.events).filter((m) => m.event !== null);
+    expect(matches.length).toBeGreaterThanOrEqual(3);
+    for (const { event } of matches) {
+      const e = event!;
+      expect(Math.abs(e.rate_deg_s! - 8)).toBeLessThan(2);
+      expect(Math.abs(e.start_azimuth_deg! - (60 + 8 * e.start_s))).toBeLessThan(1);
+      expect(Math.abs(e.end_azimuth_deg! - (60 + 8 * e.end_s))).toBeLessThan(1);
+    }
+  });
+});
