@@ -51,7 +51,7 @@ describe('tracks on simulated scenes', () => {
     expect(ids.size).toBe(1);
   });
 
-  it('two sources crossing at different angular rates (-50 -> 50 and 30 -> -10 degrees in 6 s): ids through the crossing, swap rate measured (best effort)', () => {
+  it('two sources crossing at different angular rates (-50 -> 50 and 30 -> -10 degrees in 6 s): each keeps its id through the crossing (events within 0.5 s of it exempt)', () => {
     const wav = render(
       dir,
       'cross',
@@ -66,12 +66,27 @@ describe('tracks on simulated scenes', () => {
     const truth = indexTruth(truthOf(wav));
     const events = scanEvents(wav);
     const bySource = new Map<string, number[]>();
+    const away = new Map<string, Set<number>>();
+    // The crossing: where the two true directions (interpolated between calls) meet.
+    const [fastTruth, slowTruth] = ['fast', 'slow'].map((n) => truth.sources.find((s) => s.name === n)!);
+    let crossS = NaN;
+    let closest = Infinity;
+    for (let t = 0.5; t < 5.5; t += 0.01) {
+      const d = Math.abs(angleDiffDeg(truthAzimuthDuring(fastTruth!, t, t), truthAzimuthDuring(slowTruth!, t, t)));
+      if (d < closest) [closest, crossS] = [d, t];
+    }
+    console.log(`crossing at ${crossS.toFixed(2)} s (${closest.toFixed(2)} deg apart)`);
     for (const e of events) {
       const m = eventSource(truth, e, TRUTH_STEP_S);
       if (!m) continue;
       let list = bySource.get(m.source);
       if (!list) bySource.set(m.source, (list = []));
       list.push(e.track);
+      if (e.end_s < crossS - 0.5 || e.start_s > crossS + 0.5) {
+        let ids = away.get(m.source);
+        if (!ids) away.set(m.source, (ids = new Set()));
+        ids.add(e.track);
+      }
     }
     let changes = 0;
     let steps = 0;
@@ -89,6 +104,9 @@ describe('tracks on simulated scenes', () => {
     // The sources start on different tracks.
     expect(bySource.get('fast')![0]).not.toBe(bySource.get('slow')![0]);
     expect(swapRate).toBeLessThan(0.5);
+    // Issue 13 item 4: away from the crossing each source has one id, and not the other's.
+    expect([...away.get('fast')!]).toEqual([bySource.get('fast')![0]]);
+    expect([...away.get('slow')!]).toEqual([bySource.get('slow')![0]]);
   });
 
   // The analysis' evidence memory (--memory, 0.15 s by default) smooths the hop directions over
