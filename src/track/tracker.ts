@@ -18,12 +18,12 @@
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
  *    unsupported and die after trackTimeoutS without support;
  *    a *settled* confirmed track (followed for at least SETTLED_SPAN_S with a lifetime spread of
- *    at most bearingNoiseDeg: a static chorus) also keeps a home, its lifetime mean; a
- *    candidate within the gate of a settled track's home goes to that track before any track
- *    that merely gates it by prediction (a chorus calling again after a pause is re-acquired,
- *    and a mover that passes through or stops at its bearing does not take it over); it
- *    feeds no unsettled track even when the settled one took another candidate of the hop (a
- *    side peak of the chorus), and it starts no new track;
+ *    at most bearingNoiseDeg: a static chorus) also keeps a home, its lifetime mean, and gates
+ *    a candidate by its home as well as by its prediction. A candidate within a settled
+ *    track's home starts no new track, and feeds an unsettled track only if that track was
+ *    supported outside every home (in azimuth) within the last PASSING_S seconds (a caller
+ *    passing through); so a chorus calling again after a pause is re-acquired, and a track whose
+ *    caller went quiet on, or stopped at, a chorus' bearing does not carry the chorus off;
  * 6. the event cutter (event-cutter.ts) sees every live track every hop.
  *
  * Two sources closer than about gateSigma x bearingNoiseDeg look like one and share a track.
@@ -51,6 +51,8 @@ const MIN_COS_ELEVATION = 0.2;
 const DEG = Math.PI / 180;
 /** A confirmed track followed this long (first to last support) with a small lifetime spread is settled. */
 const SETTLED_SPAN_S = 3;
+/** An unsettled track may take a candidate in a settled home this long after its last support outside every home, seconds. */
+const PASSING_S = 1;
 /**
  * Floor on the standard deviation of a settled track's home, degrees. The home's spread is
  * that of the track's own hop azimuths, so it already holds the measurement noise: a
@@ -80,6 +82,8 @@ export class Tracker {
   private readonly hits: Int32Array;
   private readonly age: Int32Array;
   private readonly lastSupportT: Float64Array;
+  /** Time of the last support by a candidate outside every settled home. */
+  private readonly lastFreeT: Float64Array;
   private readonly firstSeenT: Float64Array;
   private readonly hopCount: Float64Array;
   private readonly eventCount: Int32Array;
@@ -103,6 +107,8 @@ export class Tracker {
   private readonly homeElVar: Float64Array;
   /** Per candidate of the hop: 1 when it lies within the home gate of a settled track. */
   private readonly candHome: Uint8Array;
+  /** The same in azimuth alone (elevation not asked): a support outside every such home is free. */
+  private readonly candHomeAz: Uint8Array;
   private readonly idsByLength: (number | null)[][] = [];
   private readonly result: MutableUpdate = { trackIds: [], events: NO_EVENTS };
   private readonly finished: TrackSummary[] = [];
@@ -142,6 +148,7 @@ export class Tracker {
     this.hits = new Int32Array(n);
     this.age = new Int32Array(n);
     this.lastSupportT = new Float64Array(n);
+    this.lastFreeT = new Float64Array(n);
     this.firstSeenT = new Float64Array(n);
     this.hopCount = new Float64Array(n);
     this.eventCount = new Int32Array(n);
@@ -162,6 +169,7 @@ export class Tracker {
     this.homeEl = new Float64Array(n);
     this.homeElVar = new Float64Array(n);
     this.candHome = new Uint8Array(c);
+    this.candHomeAz = new Uint8Array(c);
     this.gate2 = o.gateSigma * o.gateSigma;
   }
 
@@ -272,16 +280,16 @@ export class Tracker {
       this.candTaken[j] = 0;
       this.candGated[j] = 0;
       this.candHome[j] = 0;
+      this.candHomeAz[j] = 0;
       if (!usable) continue;
       sc.candAz[j] = this.sideDeg === null ? az : foldedOffsetDeg(az, this.sideDeg);
       sc.candEl[j] = el === null ? NaN : el;
       sc.candScore[j] = c.score;
       sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, conf * c.score));
       for (let s = 0; s < this.size; s++) {
-        if (this.settled[s] === 1 && this.homeDistance2(s, j) <= this.gate2) {
-          this.candHome[j] = 1;
-          break;
-        }
+        if (this.settled[s] === 0) continue;
+        if (this.homeDistance2(s, j) <= this.gate2) this.candHome[j] = 1;
+        if (this.homeAzimuthDistance2(s, j) <= this.gate2) this.candHomeAz[j] = 1;
       }
     }
     return nC;
@@ -342,11 +350,15 @@ export class Tracker {
    * per angle: the larger of azimuth and elevation (when both carry elevations).
    */
   private homeDistance2(s: number, j: number): number {
-    let nu = this.sc.candAz[j]! - this.homeAz[s]!;
-    if (this.sideDeg === null) nu = wrapDeg(nu);
-    const d2 = (nu * nu) / this.homeVar[s]!;
+    const d2 = this.homeAzimuthDistance2(s, j);
     const dEl = this.sc.candEl[j]! - this.homeEl[s]!;
     return dEl === dEl ? Math.max(d2, (dEl * dEl) / this.homeElVar[s]!) : d2;
+  }
+
+  private homeAzimuthDistance2(s: number, j: number): number {
+    let nu = this.sc.candAz[j]! - this.homeAz[s]!;
+    if (this.sideDeg === null) nu = wrapDeg(nu);
+    return (nu * nu) / this.homeVar[s]!;
   }
 
   /** Global nearest neighbour between the tracks in one state and the untaken candidates. */
@@ -361,17 +373,16 @@ export class Tracker {
       for (let j = 0; j < nC; j++) {
         this.cost[i * stride + j] = Infinity;
         if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
-        if (this.candHome[j] === 1 && this.settled[s] === 0) continue;
+        if (this.candHome[j] === 1 && this.settled[s] === 0 && this.sc.hop[TIME]! - this.lastFreeT[s]! > PASSING_S) continue;
         if (this.gate(s, j)) {
           this.cost[i * stride + j] = this.d2[0]!;
           this.candGated[j] = 1;
           any = true;
         }
         if (this.settled[s] === 1) {
-          // Home matches rank below (before) every match by prediction: cost in [-2 gate^2, -gate^2).
           const d2 = this.homeDistance2(s, j);
-          if (d2 <= this.gate2) {
-            this.cost[i * stride + j] = d2 - 2 * this.gate2;
+          if (d2 <= this.gate2 && d2 - this.gate2 < this.cost[i * stride + j]!) {
+            this.cost[i * stride + j] = d2 - this.gate2;
             this.candGated[j] = 1;
             any = true;
           }
@@ -412,6 +423,7 @@ export class Tracker {
   private support(s: number, j: number): void {
     this.hits[s] = this.hits[s]! + 1;
     this.lastSupportT[s] = this.sc.hop[TIME]!;
+    if (this.candHomeAz[j] === 0) this.lastFreeT[s] = this.sc.hop[TIME]!;
     this.hopCount[s] = this.hopCount[s]! + 1;
     this.lifetime.add(s, j);
   }
