@@ -81,7 +81,7 @@ describe('the demo scene (wetland station at dusk)', () => {
     for (const name of ['frogs-reeds', 'frogs-pond']) expect(first.stdout).toMatch(new RegExp(`^\\s*${name}\\s+fixed\\s+\\d+\\s+\\d+\\s+\\d+$`, 'm'));
   });
   // The passing bird (2.2-3.2 kHz sweeps on a 20 cm square, where the pairs alias) has a track
-  // of its own (14 of its 17 calls measured, the rest on two short tracks of one or two events).
+  // of its own (15 of its 17 calls measured, the rest on two short tracks of one event each).
   it('target: the passing bird is followed by a track', () => {
     expect(first.stdout).toMatch(/^\s*passing-bird\s+moving\s+\d+\s+\d+\s+\d/m);
   });
