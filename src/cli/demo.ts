@@ -103,12 +103,13 @@ export function formatDemoSummary(cmp: TrackComparison, heading: number | null):
       String(t.events),
       show(t.azimuthDeg),
       `${t.spreadDeg.toFixed(1)} deg`,
-      t.source ?? '(none active)',
+      t.events === 0 ? '(no events)' : (t.source ?? '(none active)'),
       show(t.truthAzimuthDeg),
       t.errorDeg === null ? '-' : `${t.errorDeg >= 0 ? '+' : ''}${t.errorDeg.toFixed(1)} deg`,
       String(t.matchedEvents),
     ]),
   ]);
+  lines.push(`off by = the track's mean minus its source's true ${name} averaged over the times of the same events; a track with no events shows the mean of its hops`);
   lines.push('');
   lines.push(
     ...table([
@@ -177,7 +178,7 @@ async function runDemo(cmd: Command): Promise<void> {
     if (stopped) process.stdout.write(`stopped at ${clock(doneS)} of ${clock(scene.durationS)}\n`);
     // Against the truth of the stretch analysed (all of it unless stopped early).
     const truth = indexTruth(truthRecords.filter((r) => r.time_s < doneS));
-    process.stdout.write('\n' + formatDemoSummary(compareTracks(events, truth, TRUTH_STEP_S), heading));
+    process.stdout.write('\n' + formatDemoSummary(compareTracks(events, truth, TRUTH_STEP_S, result.session.summary()), heading));
   } finally {
     process.off('SIGINT', onSigint);
     await feed?.close();

@@ -18,6 +18,9 @@ export function eventColumns(): CsvColumn<EventRecord>[] {
     { name: 'band_hi_hz', get: (r) => r.band_hz?.[1] },
     { name: 'mirror', get: (r) => r.mirror ?? '' },
     { name: 'mirror_axis_deg', get: (r) => r.mirror_axis_deg },
+    { name: 'start_azimuth_deg', get: (r) => r.start_azimuth_deg },
+    { name: 'end_azimuth_deg', get: (r) => r.end_azimuth_deg },
+    { name: 'rate_deg_s', get: (r) => r.rate_deg_s },
     { name: 'station', get: (r) => r.station },
   ];
 }

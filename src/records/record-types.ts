@@ -75,6 +75,11 @@ export interface EventRecord {
   peak_dbfs?: number;
   /** Dominant frequency band of the event, Hz. */
   band_hz?: [number, number];
+  /** Azimuth at start_s and at end_s of a straight line fitted to the event's hop azimuths over time, degrees. */
+  start_azimuth_deg?: number;
+  end_azimuth_deg?: number;
+  /** Slope of that line: the caller's angular rate, deg/s (positive = clockwise seen from above, towards +azimuth). */
+  rate_deg_s?: number;
   mirror?: MirrorKind | null;
   mirror_axis_deg?: number;
   station?: string;

@@ -20,6 +20,7 @@ export class DirectionSums {
   private readonly sumLin2: Float64Array;
   private readonly sumEl: Float64Array;
   private readonly sumElW: Float64Array;
+  private readonly sumEl2: Float64Array;
   private readonly mirrored: boolean;
   /** Centre of the reported half circle, degrees (0 when not mirrored). */
   private readonly sideDeg: number;
@@ -38,6 +39,7 @@ export class DirectionSums {
     this.sumLin2 = new Float64Array(size);
     this.sumEl = new Float64Array(size);
     this.sumElW = new Float64Array(size);
+    this.sumEl2 = new Float64Array(size);
   }
 
   reset(slot: number): void {
@@ -48,6 +50,7 @@ export class DirectionSums {
     this.sumLin2[slot] = 0;
     this.sumEl[slot] = 0;
     this.sumElW[slot] = 0;
+    this.sumEl2[slot] = 0;
   }
 
   /** Add candidate j of the current hop, weighted by hop confidence x its score. */
@@ -64,11 +67,21 @@ export class DirectionSums {
     if (elevationDeg === elevationDeg) {
       this.sumEl[slot] = this.sumEl[slot]! + w * elevationDeg;
       this.sumElW[slot] = this.sumElW[slot]! + w;
+      this.sumEl2[slot] = this.sumEl2[slot]! + w * elevationDeg * elevationDeg;
     }
   }
 
   meanAzimuthDeg(slot: number): number {
     if (this.mirrored) return this.sumW[slot]! > 0 ? wrapDeg(this.sideDeg + this.sumLin[slot]! / this.sumW[slot]!) : NaN;
+    return meanFromSums(this.sumCos[slot]!, this.sumSin[slot]!);
+  }
+
+  /**
+   * The mean in the tracker's working angle (the candidates' domain): the circular mean
+   * azimuth, or on a mirrored array the mean folded offset from the reported side's centre.
+   */
+  meanWorkingDeg(slot: number): number {
+    if (this.mirrored) return this.sumW[slot]! > 0 ? this.sumLin[slot]! / this.sumW[slot]! : NaN;
     return meanFromSums(this.sumCos[slot]!, this.sumSin[slot]!);
   }
 
@@ -80,6 +93,14 @@ export class DirectionSums {
       return Math.sqrt(Math.max(0, this.sumLin2[slot]! / w - mean * mean));
     }
     return stdFromResultantDeg(resultantFromSums(this.sumCos[slot]!, this.sumSin[slot]!, w));
+  }
+
+  /** Weighted standard deviation of the elevations, degrees, or NaN when none carried one. */
+  elevationSpreadDeg(slot: number): number {
+    const w = this.sumElW[slot]!;
+    if (!(w > 0)) return NaN;
+    const mean = this.sumEl[slot]! / w;
+    return Math.sqrt(Math.max(0, this.sumEl2[slot]! / w - mean * mean));
   }
 
   /** Weighted mean elevation, or null when no direction carried one. */

@@ -20,19 +20,29 @@
  * is the circular mean of its hops' azimuths weighted by c (linear mean of the folded azimuths
  * when the array's mirror flips azimuth, see direction-sums.ts),
  * spread_deg their circular standard deviation, confidence the mean c, peak_dbfs the loudest
- * hop level, band_hz the band of the loudest hop that named one.
+ * hop level, band_hz the band of the loudest hop that named one. A straight line fitted to the
+ * hops' azimuths over time (weighted least squares with the same weights, on the azimuth
+ * unwrapped from the event's first hop, or on the folded azimuth of a mirrored array) gives
+ * rate_deg_s, its slope, and start_azimuth_deg / end_azimuth_deg, the line at start_s and
+ * end_s: where a moving caller's call began and ended (rate 0 and both equal to the mean for an
+ * event of one hop).
  *
  * Latency: an event is emitted at the first hop more than maxGapS after its last sustaining
  * hop, i.e. about maxGapS + hop/2 after the call ends (plus whatever delay the analysis
  * frames add before the hop reaches the tracker), or when its track dies or the stream ends.
  */
 import type { EventRecord } from '../records/record-types.js';
+import { wrapDeg } from './circular.js';
 import { DirectionSums } from './direction-sums.js';
-import { BAND_HI, BAND_LO, CONFIDENCE, HOP_S, LEVEL, ONSET, SNR, TIME, type HopScratch } from './hop-scratch.js';
+import { BAND_HI, BAND_LO, CONFIDENCE, HOP_S, LEVEL, MIN_WEIGHT, ONSET, SNR, TIME, type HopScratch } from './hop-scratch.js';
 import type { TrackerOptions } from './options.js';
 
 /** Shortest pause (hops) after which an onset splits an event. */
 const MIN_SPLIT_PAUSE_HOPS = 2;
+/** Sums per slot of the line fit. */
+const LINE_SUMS = 5;
+/** Below this spread of hop times (s^2) the line has no slope. */
+const MIN_TIME_VARIANCE = 1e-9;
 
 export class EventCutter {
   private readonly active: Uint8Array;
@@ -47,6 +57,11 @@ export class EventCutter {
   private readonly peakBandHi: Float64Array;
   private readonly peakBandLevel: Float64Array;
   private readonly sums: DirectionSums;
+  /** Line fit of angle over time: reference angle, then sums of w, w t, w a, w t^2, w t a (t from the first hop). */
+  private readonly lineRef: Float64Array;
+  private readonly line: Float64Array;
+  private readonly mirrored: boolean;
+  private readonly sideDeg: number;
 
   constructor(
     size: number,
@@ -65,6 +80,10 @@ export class EventCutter {
     this.peakBandHi = new Float64Array(size);
     this.peakBandLevel = new Float64Array(size);
     this.sums = new DirectionSums(size, o.mirror, scratch);
+    this.lineRef = new Float64Array(size);
+    this.line = new Float64Array(size * LINE_SUMS);
+    this.mirrored = o.mirror !== null && o.mirror.sideDeg !== null;
+    this.sideDeg = o.mirror?.sideDeg ?? 0;
   }
 
   /** Forget any open event of a slot. */
@@ -122,6 +141,7 @@ export class EventCutter {
       track,
       peak_dbfs: this.peak[slot]!,
     };
+    this.fitLine(slot, start, end, record);
     const elevation = this.sums.meanElevationDeg(slot);
     if (elevation !== null) record.elevation_deg = elevation;
     if (this.peakBandLo[slot] === this.peakBandLo[slot]) record.band_hz = [this.peakBandLo[slot]!, this.peakBandHi[slot]!];
@@ -130,8 +150,29 @@ export class EventCutter {
     return record;
   }
 
+  /** Fill rate_deg_s, start_azimuth_deg and end_azimuth_deg from the line fit. */
+  private fitLine(slot: number, startS: number, endS: number, record: EventRecord): void {
+    const b = slot * LINE_SUMS;
+    const l = this.line;
+    const w = l[b]!;
+    const tm = l[b + 1]! / w;
+    const am = l[b + 2]! / w;
+    const varT = l[b + 3]! / w - tm * tm;
+    const rate = varT > MIN_TIME_VARIANCE ? (l[b + 4]! / w - tm * am) / varT : 0;
+    const t0 = this.startT[slot]!;
+    const at = (t: number): number => {
+      const a = am + rate * (t - t0 - tm);
+      return this.mirrored ? wrapDeg(this.sideDeg + a) : wrapDeg(this.lineRef[slot]! + a);
+    };
+    record.start_azimuth_deg = at(startS);
+    record.end_azimuth_deg = at(endS);
+    record.rate_deg_s = rate;
+  }
+
   private begin(slot: number, j: number): void {
     this.active[slot] = 1;
+    this.lineRef[slot] = this.scratch.candAz[j]!;
+    this.line.fill(0, slot * LINE_SUMS, (slot + 1) * LINE_SUMS);
     this.startT[slot] = this.scratch.hop[TIME]!;
     this.hops[slot] = 0;
     this.sumConf[slot] = 0;
@@ -153,6 +194,16 @@ export class EventCutter {
     this.hops[slot] = this.hops[slot]! + 1;
     this.sumConf[slot] = this.sumConf[slot]! + hop[CONFIDENCE]! * sc.candScore[j]!;
     this.sums.add(slot, j);
+    const w = Math.max(hop[CONFIDENCE]! * sc.candScore[j]!, MIN_WEIGHT);
+    const t = hop[TIME]! - this.startT[slot]!;
+    const a = this.mirrored ? sc.candAz[j]! : wrapDeg(sc.candAz[j]! - this.lineRef[slot]!);
+    const l = this.line;
+    const b = slot * LINE_SUMS;
+    l[b] = l[b]! + w;
+    l[b + 1] = l[b + 1]! + w * t;
+    l[b + 2] = l[b + 2]! + w * a;
+    l[b + 3] = l[b + 3]! + w * t * t;
+    l[b + 4] = l[b + 4]! + w * t * a;
     if (level > this.peak[slot]!) this.peak[slot] = level;
     // The event's band: that of its loudest hop that named one.
     const lo = hop[BAND_LO]!;

@@ -17,6 +17,13 @@
  *    hops within confirmWindow hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
  *    unsupported and die after trackTimeoutS without support;
+ *    a *settled* confirmed track (followed for at least SETTLED_SPAN_S with a lifetime spread of
+ *    at most bearingNoiseDeg: a static chorus) also keeps a home, its lifetime mean, and gates
+ *    a candidate by its home as well as by its prediction. A candidate within a settled
+ *    track's home starts no new track, and feeds an unsettled track only if that track was
+ *    supported outside every home (in azimuth) within the last PASSING_S seconds (a caller
+ *    passing through); so a chorus calling again after a pause is re-acquired, and a track whose
+ *    caller went quiet on, or stopped at, a chorus' bearing does not carry the chorus off;
  * 6. the event cutter (event-cutter.ts) sees every live track every hop.
  *
  * Two sources closer than about gateSigma x bearingNoiseDeg look like one and share a track.
@@ -28,6 +35,7 @@ import { AngleFilterBank, IO_D2, IO_DT, IO_R, IO_RATE_SIGMA, IO_Z } from './angl
 import { NearestNeighbourAssigner } from './assignment.js';
 import { DirectionSums } from './direction-sums.js';
 import { EventCutter } from './event-cutter.js';
+import { wrapDeg } from './circular.js';
 import { BAND_HI, BAND_LO, CONFIDENCE, DT, HOP_S, HopScratch, LEVEL, ONSET, SNR, TIME } from './hop-scratch.js';
 import { resolveTrackerOptions, type TrackerOptions, type TrackerSettings } from './options.js';
 import type { HopObservation, TrackSummary, TrackUpdate } from './types.js';
@@ -41,6 +49,18 @@ const MIN_SCORE = 0.05;
 /** Floor on cos(elevation) when widening the azimuth noise of high candidates. */
 const MIN_COS_ELEVATION = 0.2;
 const DEG = Math.PI / 180;
+/** A confirmed track followed this long (first to last support) with a small lifetime spread is settled. */
+const SETTLED_SPAN_S = 3;
+/** An unsettled track may take a candidate in a settled home this long after its last support outside every home, seconds. */
+const PASSING_S = 1;
+/**
+ * Floor on the standard deviation of a settled track's home, degrees. The home's spread is
+ * that of the track's own hop azimuths, so it already holds the measurement noise: a
+ * candidate is home when within gateSigma x max(spread, this) of the home.
+ */
+const HOME_MIN_SD_DEG = 1.5;
+/** The same for the home's elevation, which a planar array measures far more loosely than azimuth. */
+const HOME_MIN_EL_SD_DEG = 6;
 
 const NO_EVENTS: readonly EventRecord[] = Object.freeze([]);
 
@@ -62,6 +82,8 @@ export class Tracker {
   private readonly hits: Int32Array;
   private readonly age: Int32Array;
   private readonly lastSupportT: Float64Array;
+  /** Time of the last support by a candidate outside every settled home. */
+  private readonly lastFreeT: Float64Array;
   private readonly firstSeenT: Float64Array;
   private readonly hopCount: Float64Array;
   private readonly eventCount: Int32Array;
@@ -76,6 +98,17 @@ export class Tracker {
   private readonly candUsable: Uint8Array;
   private readonly candTaken: Uint8Array;
   private readonly candGated: Uint8Array;
+  /** Per slot: 1 when the track is settled (see above); its home (working angle) and home variance. */
+  private readonly settled: Uint8Array;
+  private readonly homeAz: Float64Array;
+  private readonly homeVar: Float64Array;
+  /** Home elevation and its variance (NaN when the track carries no elevations). */
+  private readonly homeEl: Float64Array;
+  private readonly homeElVar: Float64Array;
+  /** Per candidate of the hop: 1 when it lies within the home gate of a settled track. */
+  private readonly candHome: Uint8Array;
+  /** The same in azimuth alone (elevation not asked): a support outside every such home is free. */
+  private readonly candHomeAz: Uint8Array;
   private readonly idsByLength: (number | null)[][] = [];
   private readonly result: MutableUpdate = { trackIds: [], events: NO_EVENTS };
   private readonly finished: TrackSummary[] = [];
@@ -115,6 +148,7 @@ export class Tracker {
     this.hits = new Int32Array(n);
     this.age = new Int32Array(n);
     this.lastSupportT = new Float64Array(n);
+    this.lastFreeT = new Float64Array(n);
     this.firstSeenT = new Float64Array(n);
     this.hopCount = new Float64Array(n);
     this.eventCount = new Int32Array(n);
@@ -129,6 +163,13 @@ export class Tracker {
     this.candUsable = new Uint8Array(c);
     this.candTaken = new Uint8Array(c);
     this.candGated = new Uint8Array(c);
+    this.settled = new Uint8Array(n);
+    this.homeAz = new Float64Array(n);
+    this.homeVar = new Float64Array(n);
+    this.homeEl = new Float64Array(n);
+    this.homeElVar = new Float64Array(n);
+    this.candHome = new Uint8Array(c);
+    this.candHomeAz = new Uint8Array(c);
     this.gate2 = o.gateSigma * o.gateSigma;
   }
 
@@ -149,9 +190,11 @@ export class Tracker {
 
     for (let s = 0; s < this.size; s++) {
       this.chosen[s] = -1;
+      this.settled[s] = 0;
       if (this.state[s] === FREE) continue;
       this.az.predict(s);
       if (this.hasEl[s] === 1) this.el.predict(s);
+      if (this.state[s] === CONFIRMED) this.settle(s);
     }
 
     const nC = this.loadCandidates(obs);
@@ -236,11 +279,18 @@ export class Tracker {
       this.candUsable[j] = usable ? 1 : 0;
       this.candTaken[j] = 0;
       this.candGated[j] = 0;
+      this.candHome[j] = 0;
+      this.candHomeAz[j] = 0;
       if (!usable) continue;
       sc.candAz[j] = this.sideDeg === null ? az : foldedOffsetDeg(az, this.sideDeg);
       sc.candEl[j] = el === null ? NaN : el;
       sc.candScore[j] = c.score;
       sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, conf * c.score));
+      for (let s = 0; s < this.size; s++) {
+        if (this.settled[s] === 0) continue;
+        if (this.homeDistance2(s, j) <= this.gate2) this.candHome[j] = 1;
+        if (this.homeAzimuthDistance2(s, j) <= this.gate2) this.candHomeAz[j] = 1;
+      }
     }
     return nC;
   }
@@ -280,6 +330,37 @@ export class Tracker {
     return d2 <= g;
   }
 
+  /** Is slot s a settled track? If so, note its home. */
+  private settle(s: number): void {
+    if (this.lastSupportT[s]! - this.firstSeenT[s]! < SETTLED_SPAN_S) return;
+    const spread = this.lifetime.spreadDeg(s);
+    if (!(spread <= this.options.bearingNoiseDeg)) return;
+    this.settled[s] = 1;
+    this.homeAz[s] = this.lifetime.meanWorkingDeg(s);
+    const sd = Math.max(spread, HOME_MIN_SD_DEG);
+    this.homeVar[s] = sd * sd;
+    const el = this.lifetime.meanElevationDeg(s);
+    this.homeEl[s] = el ?? NaN;
+    const elSd = Math.max(this.lifetime.elevationSpreadDeg(s), HOME_MIN_EL_SD_DEG);
+    this.homeElVar[s] = elSd * elSd;
+  }
+
+  /**
+   * Squared distance of candidate j from the home of settled slot s over the home's variance,
+   * per angle: the larger of azimuth and elevation (when both carry elevations).
+   */
+  private homeDistance2(s: number, j: number): number {
+    const d2 = this.homeAzimuthDistance2(s, j);
+    const dEl = this.sc.candEl[j]! - this.homeEl[s]!;
+    return dEl === dEl ? Math.max(d2, (dEl * dEl) / this.homeElVar[s]!) : d2;
+  }
+
+  private homeAzimuthDistance2(s: number, j: number): number {
+    let nu = this.sc.candAz[j]! - this.homeAz[s]!;
+    if (this.sideDeg === null) nu = wrapDeg(nu);
+    return (nu * nu) / this.homeVar[s]!;
+  }
+
   /** Global nearest neighbour between the tracks in one state and the untaken candidates. */
   private assignStage(which: number, nC: number): void {
     let nT = 0;
@@ -291,10 +372,20 @@ export class Tracker {
       const s = this.listed[i]!;
       for (let j = 0; j < nC; j++) {
         this.cost[i * stride + j] = Infinity;
-        if (this.candUsable[j] === 1 && this.candTaken[j] === 0 && this.gate(s, j)) {
+        if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
+        if (this.candHome[j] === 1 && this.settled[s] === 0 && this.sc.hop[TIME]! - this.lastFreeT[s]! > PASSING_S) continue;
+        if (this.gate(s, j)) {
           this.cost[i * stride + j] = this.d2[0]!;
           this.candGated[j] = 1;
           any = true;
+        }
+        if (this.settled[s] === 1) {
+          const d2 = this.homeDistance2(s, j);
+          if (d2 <= this.gate2 && d2 - this.gate2 < this.cost[i * stride + j]!) {
+            this.cost[i * stride + j] = d2 - this.gate2;
+            this.candGated[j] = 1;
+            any = true;
+          }
         }
       }
     }
@@ -332,6 +423,7 @@ export class Tracker {
   private support(s: number, j: number): void {
     this.hits[s] = this.hits[s]! + 1;
     this.lastSupportT[s] = this.sc.hop[TIME]!;
+    if (this.candHomeAz[j] === 0) this.lastFreeT[s] = this.sc.hop[TIME]!;
     this.hopCount[s] = this.hopCount[s]! + 1;
     this.lifetime.add(s, j);
   }
@@ -342,7 +434,7 @@ export class Tracker {
     for (let j = 0; j < nC; j++) {
       if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
       if (sc.hop[CONFIDENCE]! * sc.candScore[j]! < o.birthConfidence) continue;
-      if (this.candGated[j] === 1 || this.withinAnyGate(j)) continue;
+      if (this.candGated[j] === 1 || this.candHome[j] === 1 || this.withinAnyGate(j)) continue;
       let s = 0;
       while (s < this.size && this.state[s] !== FREE) s++;
       if (s === this.size) return;
@@ -374,7 +466,10 @@ export class Tracker {
 
   /** A candidate inside the gate of a live track is that track's (a side peak), not a newcomer. */
   private withinAnyGate(j: number): boolean {
-    for (let s = 0; s < this.size; s++) if (this.state[s] !== FREE && this.gate(s, j)) return true;
+    for (let s = 0; s < this.size; s++) {
+      if (this.state[s] === FREE) continue;
+      if (this.gate(s, j)) return true;
+    }
     return false;
   }
   private tentativeBookkeeping(): void {

@@ -134,6 +134,9 @@ export class TrackingSession {
       confidence: round(e.confidence, 3),
     };
     if (e.peak_dbfs !== undefined) rec.peak_dbfs = round(e.peak_dbfs, 1);
+    if (e.start_azimuth_deg !== undefined) rec.start_azimuth_deg = round(e.start_azimuth_deg, 2);
+    if (e.end_azimuth_deg !== undefined) rec.end_azimuth_deg = round(e.end_azimuth_deg, 2);
+    if (e.rate_deg_s !== undefined) rec.rate_deg_s = round(e.rate_deg_s, 2);
     if (e.elevation_deg !== undefined && e.elevation_deg !== null) rec.elevation_deg = round(e.elevation_deg, 2);
     if (this.settings.headingDeg !== null) rec.bearing_deg = bearingOf(rec.azimuth_deg, this.settings.headingDeg);
     const utc = this.utcAt(rec.start_s);

@@ -482,3 +482,90 @@ describe('frog chorus profile: three static callers, overlapping bouts, long sil
     expect(r.events.length).toBeLessThanOrEqual(matches.length * 1.05);
   });
 });
+
+describe('choruses in bouts and a caller that passes them (issue 13, items 2 and 3)', () => {
+  // A chorus at 75 degrees calls in bouts (6 calls, then a 5 s pause); a bird flies past from
+  // -60 degrees and slows down until it sits on the chorus' bearing (as a bird flying away
+  // along that line does), calling every 0.7 s from 14 to 26 s. The truth is the schedule.
+  const chorusCalls: [number, number][] = [];
+  for (let bout = 0; bout * 9.5 < 44; bout++) for (let k = 0; k < 6; k++) chorusCalls.push([bout * 9.5 + 1 + 0.75 * k, bout * 9.5 + 1.3 + 0.75 * k]);
+  const birdAt = (t: number): number => {
+    const u = Math.min(1, Math.max(0, (t - 14) / 12));
+    return 74 - 134 * (1 - u) * (1 - u);
+  };
+  const sources: TruthSource[] = [
+    { azimuthAt: () => 75, calls: chorusCalls, levelDbfs: -30 },
+    { azimuthAt: birdAt, calls: bursts(14, 0.18, 0.52, 26), levelDbfs: -28 },
+  ];
+  const synth = generateHops(sources, { durationS: 44, hopS: 0.01, seed: 13, noiseDeg: 1.5, clutter: 0.1, dropout: 0.1 });
+  const r = run(synth);
+  const chorus = idsOfSource(synth, r, 0).filter((x) => x.id !== null);
+  const bird = idsOfSource(synth, r, 1).filter((x) => x.id !== null);
+  const chorusId = majority(chorus.map((x) => x.id));
+  const birdId = majority(bird.filter((x) => x.t < 22).map((x) => x.id));
+
+  it('the chorus keeps one id across its 5 s pauses, and no other track is born on it', () => {
+    const share = chorus.filter((x) => x.id === chorusId).length / chorus.length;
+    console.log(`chorus: ${chorus.length} assigned hops, ${(100 * share).toFixed(1)} % on track ${chorusId}; ids ${[...new Set(chorus.map((x) => x.id))].join(', ')}`);
+    expect(chorus.length).toBeGreaterThan(700);
+    expect(share).toBeGreaterThanOrEqual(0.99);
+    const onChorus = r.events.filter((e) => Math.abs(angleDiffDeg(e.azimuth_deg, 75)) < 5 && e.start_s > 26.5);
+    expect(onChorus.length).toBeGreaterThan(10);
+    expect(new Set(onChorus.map((e) => e.track))).toEqual(new Set([chorusId]));
+  });
+
+  it("the bird has its own track, and that track takes no call of the chorus after the bird stops at the chorus' bearing", () => {
+    expect(birdId).not.toBeNull();
+    expect(birdId).not.toBe(chorusId);
+    const birdCalls = bird.filter((x) => x.t < 22);
+    expect(birdCalls.filter((x) => x.id === birdId).length / birdCalls.length).toBeGreaterThanOrEqual(0.95);
+    const stolen = chorus.filter((x) => x.id === birdId);
+    console.log(`bird track ${birdId}: ${stolen.length} chorus hops taken (of ${chorus.length})`);
+    expect(stolen.filter((x) => x.t > 26.5)).toEqual([]);
+  });
+});
+
+describe('where a moving call starts and ends (issue 13, item 5)', () => {
+  it('events carry start_azimuth_deg, end_azimuth_deg and rate_deg_s of a line fitted to their hops: a caller sweeping 15 deg/s across the seam, and a fixed one', () => {
+    const sources: TruthSource[] = [
+      { azimuthAt: (t) => 150 + 15 * t, calls: bursts(0.3, 0.5, 0.3, 8), levelDbfs: -30 },
+      { azimuthAt: () => -40, calls: bursts(0.7, 0.5, 0.3, 8), levelDbfs: -30 },
+    ];
+    const synth = generateHops(sources, { durationS: 8, hopS: 0.01, seed: 21, noiseDeg: 1, clutter: 0, dropout: 0.05 });
+    const r = run(synth);
+    const matches = matchCalls(sources, r.events).filter((m) => m.event !== null);
+    expect(matches.length).toBeGreaterThan(14);
+    for (const { source, event } of matches) {
+      const e = event!;
+      const truthAt = sources[source]!.azimuthAt;
+      const rate = source === 0 ? 15 : 0;
+      // A line over ~50 hops with 1 degree of noise: the slope to a few deg/s, the ends to ~1 degree.
+      expect(Math.abs(e.rate_deg_s! - rate)).toBeLessThan(4);
+      expect(Math.abs(angleDiffDeg(e.start_azimuth_deg!, truthAt(e.start_s)))).toBeLessThan(1.5);
+      expect(Math.abs(angleDiffDeg(e.end_azimuth_deg!, truthAt(e.end_s)))).toBeLessThan(1.5);
+      // The line runs through the event's mean.
+      const mid = e.start_azimuth_deg! + angleDiffDeg(e.end_azimuth_deg!, e.start_azimuth_deg!) / 2;
+      expect(Math.abs(angleDiffDeg(mid, e.azimuth_deg))).toBeLessThan(0.5);
+    }
+    const movers = matches.filter((m) => m.source === 0).map((m) => m.event!.rate_deg_s!);
+    const mean = movers.reduce((a, b) => a + b, 0) / movers.length;
+    console.log(`sweeping caller: ${movers.length} events, mean rate ${mean.toFixed(2)} deg/s (true 15)`);
+    expect(Math.abs(mean - 15)).toBeLessThan(1);
+  });
+});
+
+describe('where a moving call starts and ends on a pair (folded azimuths)', () => {
+  it('a caller moving 60 -> 84 degrees in front of a pair along x: start, end and rate as reported azimuths', () => {
+    const sources: TruthSource[] = [{ azimuthAt: (t) => 60 + 8 * t, calls: bursts(0.2, 0.5, 0.3, 3), levelDbfs: -30 }];
+    const synth = generateHops(sources, { durationS: 3, hopS: 0.01, seed: 4, noiseDeg: 0.5, clutter: 0, dropout: 0, mirrored: true });
+    const r = run(synth, { mirror: PAIR_X_MIRROR });
+    const matches = matchCalls(sources, r.events).filter((m) => m.event !== null);
+    expect(matches.length).toBeGreaterThanOrEqual(3);
+    for (const { event } of matches) {
+      const e = event!;
+      expect(Math.abs(e.rate_deg_s! - 8)).toBeLessThan(2);
+      expect(Math.abs(e.start_azimuth_deg! - (60 + 8 * e.start_s))).toBeLessThan(1);
+      expect(Math.abs(e.end_azimuth_deg! - (60 + 8 * e.end_s))).toBeLessThan(1);
+    }
+  });
+});

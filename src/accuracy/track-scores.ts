@@ -1,0 +1,91 @@
+/**
+ * Multi-target tracking measures of a scan against a scene's truth (common practice in
+ * multi-target tracking evaluation, no single source): per track its purity (the share of its
+ * attributed events that come from its main source), per source its completeness (the share
+ * of its calls that have an event on its main track) and its id switches (changes of track
+ * id between consecutive attributed events of the source).
+ *
+ * An event is attributed to a source when exactly one source that is active during it lies
+ * within toleranceDeg of its azimuth and no other source (calling or between calls, within its
+ * time in the scene) lies that close then; other events (ghosts, two sources on one bearing)
+ * are left out. Pure: records in, figures out.
+ */
+import type { EventRecord } from '../records/record-types.js';
+import { angleDiffDeg } from '../track/circular.js';
+import { truthAzimuthDuring } from './track-match.js';
+import type { TruthIndex } from './truth.js';
+
+export interface TrackPurity {
+  track: number;
+  /** Events attributed to some source. */
+  attributed: number;
+  /** The source most of them come from, and the share they make. */
+  source: string | null;
+  purity: number;
+}
+
+export interface SourceCompleteness {
+  source: string;
+  calls: number;
+  /** The track most of its attributed events are on (null when none). */
+  track: number | null;
+  /** Calls with an attributed event on that track, over all its calls. */
+  completeness: number;
+  idSwitches: number;
+}
+
+export interface TrackScores {
+  tracks: TrackPurity[];
+  sources: SourceCompleteness[];
+  /** Events attributed to a source, over all events. */
+  attributedShare: number;
+}
+
+/** The source an event is attributed to (see above), or null. */
+export function attributeEvent(truth: TruthIndex, e: EventRecord, step: number, toleranceDeg: number): string | null {
+  const near = new Set<string>();
+  for (let t = e.start_s; t <= e.end_s + 1e-9; t += step) {
+    for (const r of truth.activeAt(t)) if (Math.abs(angleDiffDeg(e.azimuth_deg, r.azimuth_deg)) <= toleranceDeg) near.add(r.source);
+  }
+  if (near.size !== 1) return null;
+  const [only] = near;
+  const crowded = truth.sources.some(
+    (src) =>
+      src.name !== only &&
+      src.records.length > 0 &&
+      src.records[0]!.time_s <= e.end_s &&
+      src.records[src.records.length - 1]!.time_s >= e.start_s &&
+      Math.abs(angleDiffDeg(e.azimuth_deg, truthAzimuthDuring(src, e.start_s, e.end_s))) <= toleranceDeg,
+  );
+  return crowded ? null : only!;
+}
+
+function majority<T>(values: readonly T[]): { value: T | null; count: number } {
+  const counts = new Map<T, number>();
+  for (const v of values) counts.set(v, (counts.get(v) ?? 0) + 1);
+  let value: T | null = null;
+  let count = 0;
+  for (const [k, n] of counts) if (n > count) [value, count] = [k, n];
+  return { value, count };
+}
+
+export function scoreTracks(events: readonly EventRecord[], truth: TruthIndex, step: number, toleranceDeg = 5): TrackScores {
+  const sorted = events.slice().sort((a, b) => a.start_s - b.start_s);
+  const attributed = sorted.map((e) => ({ e, source: attributeEvent(truth, e, step, toleranceDeg) })).filter((x) => x.source !== null) as { e: EventRecord; source: string }[];
+  const trackIds = [...new Set(sorted.map((e) => e.track))].sort((a, b) => a - b);
+  const tracks = trackIds.map((track) => {
+    const mine = attributed.filter((x) => x.e.track === track);
+    const top = majority(mine.map((x) => x.source));
+    return { track, attributed: mine.length, source: top.value, purity: mine.length ? top.count / mine.length : 1 };
+  });
+  const sources = truth.sources.map((src) => {
+    const mine = attributed.filter((x) => x.source === src.name);
+    const main = majority(mine.map((x) => x.e.track)).value;
+    let idSwitches = 0;
+    for (let i = 1; i < mine.length; i++) if (mine[i]!.e.track !== mine[i - 1]!.e.track) idSwitches++;
+    const onMain = mine.filter((x) => x.e.track === main).map((x) => x.e);
+    const found = src.calls.filter((c) => onMain.some((e) => e.start_s < c.endS && e.end_s > c.startS)).length;
+    return { source: src.name, calls: src.calls.length, track: main, completeness: src.calls.length ? found / src.calls.length : 1, idSwitches };
+  });
+  return { tracks, sources, attributedShare: sorted.length ? attributed.length / sorted.length : 1 };
+}

@@ -1,0 +1,111 @@
+/**
+ * Motion cells (issue 13 item 7), rendered by the simulator and scored with the tracking
+ * measures of src/accuracy/track-scores.ts (track purity, completeness, id switches: common
+ * practice in multi-target tracking evaluation). Issue targets: purity >= 95 %, completeness
+ * >= 80 %, at most one id switch per crossing.
+ */
+import { describe, expect, it } from 'vitest';
+import { scoreTracks, type TrackScores } from '../../src/accuracy/track-scores.js';
+import { indexTruth, TRUTH_STEP_S } from '../../src/accuracy/truth.js';
+import { DEG, render, scanEvents, truthOf } from './helpers.js';
+import { tempDir } from '../helpers/temp-dir.js';
+
+const at = (azDeg: number, r: number, z = 1.5): number[] => [r * Math.sin(azDeg * DEG), r * Math.cos(azDeg * DEG), z];
+
+function scene(sources: unknown[], durationS: number, seed: number): unknown {
+  return {
+    sample_rate_hz: 48000,
+    duration_s: durationS,
+    seed,
+    speed_of_sound_m_s: 343,
+    array: { geometry: 'square-20cm', position_m: [0, 0, 1.5], heading_deg: 0 },
+    sources,
+    noise: { floor_dbfs: -60 },
+  };
+}
+const noise = { type: 'noise', low_hz: 500, high_hz: 8000 };
+const sweep = { type: 'sweep', start_hz: 3200, end_hz: 2200, shape: 'exponential', harmonics: [1, 0.3] };
+const chorus = (f0: number) => ({ type: 'tone', f0_hz: f0, harmonics: [1, 0.6, 0.35, 0.2], pulse_rate_hz: 40, pulse_duty: 0.6 });
+
+const CELLS: { name: string; durationS: number; sources: unknown[] }[] = [
+  {
+    name: 'broadband caller at ~10 deg/s',
+    durationS: 8,
+    sources: [{ name: 'walker', path: [{ time_s: 0, position_m: at(-50, 12) }, { time_s: 8, position_m: at(30, 12) }], signal: noise, level: { dbfs_at_array: -25 }, calls: { start_s: 0.3, length_s: 0.15, every_s: 0.5 } }],
+  },
+  {
+    name: 'high sweeps (2.2-3.2 kHz, aliasing on 20 cm) at ~30 deg/s',
+    durationS: 5,
+    sources: [{ name: 'bird', path: [{ time_s: 0, position_m: at(-75, 15, 8) }, { time_s: 5, position_m: at(75, 15, 8) }], signal: sweep, level: { dbfs_at_array: -25 }, calls: { start_s: 0.2, length_s: 0.18, every_s: 0.5 } }],
+  },
+  {
+    name: 'two broadband callers crossing',
+    durationS: 6,
+    sources: [
+      { name: 'fast', path: [{ time_s: 0, position_m: at(-50, 10) }, { time_s: 6, position_m: at(50, 10) }], signal: noise, level: { dbfs_at_array: -25 }, calls: { start_s: 0.2, length_s: 0.12, every_s: 0.5 } },
+      { name: 'slow', path: [{ time_s: 0, position_m: at(30, 10) }, { time_s: 6, position_m: at(-10, 10) }], signal: noise, level: { dbfs_at_array: -25 }, calls: { start_s: 0.45, length_s: 0.12, every_s: 0.5 } },
+    ],
+  },
+  {
+    name: 'two choruses in bouts and a caller passing one of them',
+    durationS: 24,
+    sources: [
+      { name: 'chorus-a', position_m: at(60, 14, 0.1), signal: chorus(450), level: { dbfs_at_array: -28 }, calls: { start_s: 0.5, length_s: 0.3, every_s: 0.8, jitter_s: 0.1, per_bout: 6, bout_gap_s: 4 } },
+      { name: 'chorus-b', position_m: at(-120, 10, 0.1), signal: chorus(620), level: { dbfs_at_array: -28 }, calls: { start_s: 1.1, length_s: 0.2, every_s: 0.6, jitter_s: 0.1, per_bout: 8, bout_gap_s: 5 } },
+      { name: 'passer', path: [{ time_s: 6, position_m: at(-20, 30, 8) }, { time_s: 18, position_m: at(110, 30, 8) }], signal: noise, level: { dbfs_at_array: -26 }, calls: { start_s: 6, end_s: 18, length_s: 0.15, every_s: 0.7, jitter_s: 0.1 } },
+    ],
+  },
+];
+
+describe('motion cells: track purity, completeness and id switches', () => {
+  const dir = tempDir('accuracy').dir;
+  const scores = new Map<string, TrackScores>();
+  CELLS.forEach((cell, i) => {
+    const wav = render(dir, `cell${i}`, scene(cell.sources, cell.durationS, 30 + i));
+    const s = scoreTracks(scanEvents(wav), indexTruth(truthOf(wav)), TRUTH_STEP_S);
+    scores.set(cell.name, s);
+    console.log(
+      `${cell.name}: ${(100 * s.attributedShare).toFixed(0)} % of events attributed; tracks ${s.tracks.map((t) => `${t.track} (${t.attributed} ev, ${t.source ?? '-'} ${(100 * t.purity).toFixed(0)} %)`).join(', ')}; ` +
+        s.sources.map((x) => `${x.source}: completeness ${(100 * x.completeness).toFixed(0)} % of ${x.calls} calls on track ${x.track}, ${x.idSwitches} id switches`).join('; '),
+    );
+  });
+  const cell = (name: string): TrackScores => scores.get(name)!;
+  const src = (name: string, source: string) => cell(name).sources.find((x) => x.source === source)!;
+  const purityOf = (name: string, source: string): number => {
+    const t = cell(name).tracks.find((x) => x.track === src(name, source).track)!;
+    return t.purity;
+  };
+
+  // Measured with the tracker of this commit and the one before the settled homes alike.
+  it('a broadband caller at ~10 deg/s: one pure track with all its calls (100 % / 100 %, no switch)', () => {
+    expect(purityOf(CELLS[0]!.name, 'walker')).toBeGreaterThanOrEqual(0.95);
+    expect(src(CELLS[0]!.name, 'walker').completeness).toBeGreaterThanOrEqual(0.8);
+    expect(src(CELLS[0]!.name, 'walker').idSwitches).toBe(0);
+  });
+
+  it('two callers crossing: each on a pure track (100 %), completeness 92 % and 83 %, at most one id switch each (0)', () => {
+    for (const name of ['fast', 'slow']) {
+      expect(purityOf(CELLS[2]!.name, name)).toBeGreaterThanOrEqual(0.95);
+      expect(src(CELLS[2]!.name, name).completeness).toBeGreaterThanOrEqual(0.8);
+      expect(src(CELLS[2]!.name, name).idSwitches).toBeLessThanOrEqual(1);
+    }
+    expect(src(CELLS[2]!.name, 'fast').track).not.toBe(src(CELLS[2]!.name, 'slow').track);
+  });
+
+  it('two choruses in bouts and a caller passing one: three pure tracks (100 %), completeness 83 / 81 / 100 %, no switch', () => {
+    for (const name of ['chorus-a', 'chorus-b', 'passer']) {
+      expect(purityOf(CELLS[3]!.name, name)).toBeGreaterThanOrEqual(0.95);
+      expect(src(CELLS[3]!.name, name).completeness).toBeGreaterThanOrEqual(0.8);
+      expect(src(CELLS[3]!.name, name).idSwitches).toBeLessThanOrEqual(1);
+    }
+  });
+
+  it('high sweeps at ~30 deg/s: the tracks that hold them are pure', () => {
+    expect(purityOf(CELLS[1]!.name, 'bird')).toBeGreaterThanOrEqual(0.95);
+  });
+  // Target not met (issue 13 item 1, fast movers above the aliasing limit, not done): 60 % of
+  // the calls on the main track (6 of 10; 4 more on a second track, 63 % of events attributed).
+  it.fails('target: high sweeps at ~30 deg/s, completeness >= 80 %', () => {
+    expect(src(CELLS[1]!.name, 'bird').completeness).toBeGreaterThanOrEqual(0.8);
+  });
+});

@@ -1,0 +1,74 @@
+"""A caller moving at a constant angular rate, rendered with numpy independently of bearline's
+simulator: far-field plane-wave delays per mic, applied per sample as a fractional delay by a
+Hann-windowed sinc interpolator (common practice, no source: band-limited interpolation).
+
+Usage: python3 numpy_mover.py OUT.wav AZ0_DEG RATE_DEG_S DURATION_S
+Writes OUT.wav (4 channels, 16-bit, 48 kHz), OUT.array.json (a 20 cm square, heading 0) and
+prints the calls as JSON: [[start_s, end_s], ...]. Azimuth(t) = AZ0 + RATE * t (0 = front +y,
++90 = right +x); the source is in the horizontal plane; c = 343 m/s.
+"""
+import json
+import sys
+import wave
+
+import numpy as np
+
+FS = 48000
+C = 343.0
+MICS = np.array([[-0.1, 0.1, 0.0], [0.1, 0.1, 0.0], [0.1, -0.1, 0.0], [-0.1, -0.1, 0.0]])
+HALF = 32
+
+
+def band_noise(rng, n, lo, hi):
+    spec = np.fft.rfft(rng.standard_normal(n))
+    f = np.fft.rfftfreq(n, 1 / FS)
+    spec[(f < lo) | (f > hi)] = 0
+    return np.fft.irfft(spec, n)
+
+
+def main():
+    out, az0, rate, dur = sys.argv[1], float(sys.argv[2]), float(sys.argv[3]), float(sys.argv[4])
+    rng = np.random.default_rng(7)
+    n = int(dur * FS)
+    pad = 2 * HALF
+    src = np.zeros(n + 2 * pad)
+    calls = []
+    t = 0.2
+    while t + 0.4 <= dur - 0.1:
+        a, b = int(t * FS), int((t + 0.4) * FS)
+        burst = band_noise(rng, b - a, 500, 4000)
+        ramp = np.minimum(1, np.minimum(np.arange(b - a), np.arange(b - a)[::-1]) / (0.005 * FS))
+        src[pad + a : pad + b] = burst * ramp
+        calls.append([t, t + 0.4])
+        t += 0.6
+    src *= 0.1 / np.sqrt(np.mean(src[src != 0] ** 2))
+    times = np.arange(n) / FS
+    az = np.radians(az0 + rate * times)
+    u = np.stack([np.sin(az), np.cos(az), np.zeros(n)], axis=1)
+    chans = []
+    for m in MICS:
+        # A mic nearer the source hears it earlier: delay -(p . u) / c (relative to the centre).
+        delay = -(u @ m) / C * FS
+        pos = np.arange(n) - delay + pad
+        k = np.floor(pos).astype(int)
+        frac = pos - k
+        y = np.zeros(n)
+        for j in range(-HALF + 1, HALF + 1):
+            x = frac - j
+            w = 0.5 * (1 + np.cos(np.pi * x / HALF))
+            y += src[k + j] * np.sinc(x) * w
+        chans.append(y)
+    data = np.stack(chans, axis=1) + 1e-3 * rng.standard_normal((n, 4))
+    pcm = np.clip(np.round(data * 32767), -32768, 32767).astype('<i2')
+    with wave.open(out, 'wb') as w:
+        w.setnchannels(4)
+        w.setsampwidth(2)
+        w.setframerate(FS)
+        w.writeframes(pcm.tobytes())
+    geometry = {'name': 'square-20cm-numpy', 'heading_deg': 0, 'mics': [{'channel': i, 'position_m': list(p)} for i, p in enumerate(MICS)]}
+    with open(out[:-4] + '.array.json', 'w') as f:
+        json.dump(geometry, f)
+    print(json.dumps(calls))
+
+
+main()
