@@ -20,10 +20,11 @@ describe('the demo scene (wetland station at dusk)', () => {
   const cache = tempDir('accuracy').dir;
   let first: ReturnType<typeof runCli>;
   let report: AccuracyReport;
+  let wav: string;
   beforeAll(() => {
     first = runCli(['demo', '--fast'], { env: { XDG_CACHE_HOME: cache } });
     console.log(first.stdout.split('\n').slice(-14).join('\n'));
-    const wav = join(cache, 'bearline', readdirSync(join(cache, 'bearline')).find((f) => f.endsWith('.wav')) ?? 'missing.wav');
+    wav = join(cache, 'bearline', readdirSync(join(cache, 'bearline')).find((f) => f.endsWith('.wav')) ?? 'missing.wav');
     report = accuracyJson(wav, '--temperature', '14');
     console.log(`demo scene: ${report.voicedHops} voiced hops, within 2/5/10 deg: ${report.within.map((w) => (100 * w.share).toFixed(1) + '%').join(' / ')}, median ${report.medianDeg?.toFixed(2)} deg, p90 ${report.p90Deg?.toFixed(2)} deg`);
     for (const s of report.sources) console.log(`  ${s.source}: ${s.voicedHops} hops alone, within 5 deg ${(100 * share(s as typeof report, 5)).toFixed(1)}%`);
