@@ -52,6 +52,9 @@ export async function measureAccuracy(wav: string, cmd: Command): Promise<Accura
   const geometry = given ? resolveArray(stages.array) : loadGeometryFile(paths.array);
   const c = resolveSpeed(stages.array);
   const truth = indexTruth(parseTruth(readFileSync(truthPath, 'utf8'), truthPath));
+  if (truth.sources.length === 0) {
+    throw new UsageError(`truth file ${truthPath} holds no source: there is nothing to score against; render the recording with bearline simulate, or give the --truth FILE that belongs to it`);
+  }
   const fixed = new Set(truth.sources.filter((s) => s.fixed).map((s) => s.name));
   const frames: FrameRecord[] = [];
   let meter: CoherenceMeter | null = null;
