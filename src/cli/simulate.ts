@@ -74,6 +74,12 @@ export function runSimulate(opts: SimulateOptions): void {
   if (clipped > 0) {
     process.stderr.write(`bearline: warning: ${clipped} samples clipped at full scale: lower the source levels or use --float\n`);
   }
+  // Said on stderr (stdout stays for data): what was written, so a run is not silent.
+  const calls = new Set(truth.map((r) => r.source)).size;
+  process.stderr.write(
+    `bearline: wrote ${paths.wav} (${scene.durationS} s, ${rendered.channels.length} channels, ${scene.sampleRate} Hz${opts.float ? ', float' : ''}), ` +
+      `its truth ${paths.truth} (${calls} source${calls === 1 ? '' : 's'}) and array ${paths.array}\n`,
+  );
 }
 
 const simulateOptionSpecs = [

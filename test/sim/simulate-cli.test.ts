@@ -81,7 +81,8 @@ describe('bearline simulate', () => {
     const scene = smallScene(dir);
     const out = join(dir, 'rec.wav');
     const r = run(['simulate', '--scene', scene, '--out', out]);
-    expect(r.stderr).toBe('');
+    // one line saying what was written (issue 17: simulate used to print nothing on success)
+    expect(r.stderr).toMatch(/^bearline: wrote .*\.wav \(.* s, \d+ channels, \d+ Hz.*\), its truth .*\.truth\.jsonl \(\d+ sources?\) and array .*\.array\.json\n$/);
     expect(r.code).toBe(0);
     expect(r.stdout).toBe('');
     expect(soxInfo(out)).toEqual({ channels: 4, rate: 16000, samples: 48000, encoding: 'Signed Integer PCM' });
