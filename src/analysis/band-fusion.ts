@@ -5,8 +5,7 @@
  * Every band b carries an evidence weight e_b >= 0 (how much direction-bearing sound it holds
  * this hop; the analyzer sets it from the band's SNR over its own noise floor and its width,
  * see hop-analyzer.ts) and, for each candidate c, a normalised PHAT coherence s_bc in [-1, 1]
- * (1: every
- * weighted bin of the band agrees exactly with the candidate's lags). Each band supports the
+ * (1: every weighted bin of the band agrees exactly with the candidate's lags). Each band supports the
  * candidate it scores best (when that score reaches MIN_SUPPORT), in proportion to its margin
  * over the runner-up (full at FULL_SUPPORT_MARGIN), and the fused score of a candidate is the
  * evidence of the bands that support it, weighted by their coherence and margin:
