@@ -414,7 +414,7 @@ export class HopAnalyzer {
     if (!sounding) res.confidence = 0;
     res.valid = res.sourceCount > 0 && sounding && res.confidence >= opts.minConfidence;
     this.prevValid = res.sourceCount > 0;
-    if (this.prevValid) for (let p = 0; p < P; p++) this.prevLags[p] = this.refined0(res, p);
+    if (this.prevValid) for (let p = 0; p < P; p++) this.prevLags[p] = res.tdoaS[p]! * this.sampleRate;
   }
 
   /** Normalised band coherence: s[b, c] = sum over pairs of Re(A e^{j w tau}) / (pairs * band weight). */
@@ -538,11 +538,6 @@ export class HopAnalyzer {
       sum += hopCoherence(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, this.frame, this.refined[p]!, k0, k1);
     }
     return Math.max(0, sum / P);
-  }
-
-  /** The winner's refined lag of pair p (samples). */
-  private refined0(res: HopResult, p: number): number {
-    return res.tdoaS[p]! * this.sampleRate;
   }
 
   /** Candidate c's lags all lie within STICKY_LAGS samples of the previous hop's answer. */
