@@ -14,9 +14,22 @@
  *
  * Model (common practice, no source; any estimation text): x = [angle, rate],
  * F = [[1, dt], [0, a]], a = exp(-dt / rateMemory), Q = q [[dt^3/3, dt^2/2], [dt^2/2, dt]]
- * with q = rateWander^2 (continuous white noise on the rate).
+ * with q = rateWander^2 + (FLYBY_ACCEL x rate^2)^2 (continuous white noise on the rate).
+ *
+ * The second term lets a moving source turn: a source on a straight path at constant speed
+ * sweeps past the array with angular acceleration 2 w^2 tan(b) (w its angular rate in rad/s,
+ * b its angle from the point of closest approach; geometry of a straight line, common practice,
+ * no source), so a fly-by speeds up and slows down by tens of deg/s per second while a static
+ * source (rate near 0) keeps the small rateWander alone.
  */
 import { wrapDeg } from './circular.js';
+
+const RAD = Math.PI / 180;
+/**
+ * FLYBY_ACCEL x rate^2 bounds the angular acceleration of a straight-line pass (deg/s^2 for a
+ * rate in deg/s): 2 tan(b) <= 3 covers a pass from 56 deg before to 56 deg after its closest point.
+ */
+const FLYBY_ACCEL = 3 * RAD;
 
 export type AngleDomain = 'circle' | 'half-circle' | 'elevation';
 
@@ -89,7 +102,9 @@ export class AngleFilterBank {
     const p00 = this.p00[slot]!;
     const p01 = this.p01[slot]!;
     const p11 = this.p11[slot]!;
-    const q = this.q;
+    const rate = this.rate[slot]!;
+    const turn = FLYBY_ACCEL * rate * rate;
+    const q = this.q + turn * turn;
     const dt2 = dt * dt;
     // P' = F P F^T + Q
     let n00 = p00 + 2 * dt * p01 + dt2 * p11 + (q * dt2 * dt) / 3;
@@ -106,7 +121,6 @@ export class AngleFilterBank {
     this.p00[slot] = n00;
     this.p01[slot] = n01;
     this.p11[slot] = n11;
-    const rate = this.rate[slot]!;
     this.angle[slot] = this.angle[slot]! + rate * dt;
     this.rate[slot] = rate * a;
     this.settle(slot);

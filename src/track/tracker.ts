@@ -275,6 +275,7 @@ export class Tracker {
         Number.isFinite(az) &&
         Number.isFinite(c.score) &&
         conf * c.score >= o.minConfidence &&
+        sc.hop[SNR]! >= o.eventLeaveSnrDb &&
         (el === null || Number.isFinite(el));
       this.candUsable[j] = usable ? 1 : 0;
       this.candTaken[j] = 0;

@@ -1,0 +1,310 @@
+/**
+ * The motion matrix (issue 13, item 7): the tracker on a seeded, generated set of moving and
+ * crowded scenes, scored by the multi-target tracking measures of src/accuracy/track-scores.ts
+ * (track purity, completeness, id switches: common practice in multi-target tracking
+ * evaluation, no single source). Scenes are rendered with `bearline simulate` and scanned with
+ * `bearline scan` (the built command, as a user would), renders cached in
+ * os.tmpdir()/bearline-motion-cache.
+ *
+ * Families:
+ * - pass:   one caller on a straight line past the array (peak angular rate 10-80 deg/s at the
+ *           closest point, so it speeds up and slows down), calls below or above the array's
+ *           spatial-aliasing limit, on every array preset shape;
+ * - cross:  two callers whose bearings cross;
+ * - chorus: two static choruses calling in bouts and a caller passing across one of them,
+ *           scanned with the scene's speed of sound and with it 1 % and 2 % off.
+ *
+ *   npx tsx test/bench/motion-matrix.ts [--quick] [--json FILE] [--set key=value ...]
+ *   npm run bench motion
+ *
+ * Caution: the cached WAV files are ordinary recordings; if you play them through speakers or
+ * earphones, start at a low volume.
+ */
+import { spawnSync } from 'node:child_process';
+import { createHash } from 'node:crypto';
+import { existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { scoreTracks, type TrackScores } from '../../src/accuracy/track-scores.js';
+import { indexTruth, parseTruth, TRUTH_STEP_S } from '../../src/accuracy/truth.js';
+import type { EventRecord } from '../../src/records/record-types.js';
+import { makeRng, type Rng } from '../../src/sim/rng.js';
+
+const BIN = fileURLToPath(new URL('../../dist/cli/main.js', import.meta.url));
+const DEG = Math.PI / 180;
+const ARRAY_Z = 1.5;
+
+type Family = 'pass' | 'cross' | 'chorus';
+type CallKind = 'broadband' | 'low-harmonic' | 'high-sweep' | 'high-band';
+
+interface Cell {
+  id: string;
+  family: Family;
+  condition: string;
+  scene: Record<string, unknown>;
+  /** Speed of sound the scan assumes, as a ratio of the scene's. */
+  cRatio: number;
+}
+
+/** Calls of each kind; "high" kinds lie above the spatial-aliasing limit of every preset but the 5 cm circle. */
+function signalOf(kind: CallKind, rng: Rng): Record<string, unknown> {
+  switch (kind) {
+    case 'broadband':
+      return { type: 'noise', low_hz: 500, high_hz: 8000 };
+    case 'low-harmonic':
+      return { type: 'tone', f0_hz: Math.round(300 + 300 * rng.uniform()), harmonics: [1, 0.5, 0.3] };
+    case 'high-sweep': {
+      const hi = Math.round(2800 + 1200 * rng.uniform());
+      return { type: 'sweep', start_hz: hi, end_hz: Math.round(hi * 0.7), shape: 'exponential', harmonics: [1, 0.3] };
+    }
+    case 'high-band':
+      return { type: 'noise', low_hz: 3500, high_hz: 6000 };
+  }
+}
+
+const at = (azDeg: number, r: number, z: number): number[] => [r * Math.sin(azDeg * DEG), r * Math.cos(azDeg * DEG), z];
+
+/**
+ * A straight pass: closest point at bearing `closestDeg`, distance d (horizontal), height h over
+ * the array, peak angular rate `rateDegS` (speed = rate x d), spanning +-`spanDeg` of bearing
+ * around the closest point or `maxS` seconds, whichever is shorter. Returns the path and its duration.
+ */
+function pass(closestDeg: number, d: number, h: number, rateDegS: number, spanDeg: number, maxS: number, t0: number, dir: 1 | -1): { path: unknown[]; durationS: number } {
+  const v = rateDegS * DEG * d;
+  const half = Math.min(d * Math.tan(spanDeg * DEG), (v * maxS) / 2);
+  const c = at(closestDeg, d, ARRAY_Z + h);
+  // The path runs at right angles to the closest bearing.
+  const ux = Math.cos(closestDeg * DEG) * dir;
+  const uy = -Math.sin(closestDeg * DEG) * dir;
+  const durationS = (2 * half) / v;
+  return {
+    path: [
+      { time_s: t0, position_m: [c[0]! - ux * half, c[1]! - uy * half, c[2]!] },
+      { time_s: t0 + durationS, position_m: [c[0]! + ux * half, c[1]! + uy * half, c[2]!] },
+    ],
+    durationS,
+  };
+}
+
+const ARRAYS = ['pair-20cm', 'square-10cm', 'square-20cm', 'triangle-10cm', 'tetrahedron-10cm', 'circle8-r5cm'] as const;
+const PLANAR = ARRAYS.filter((a) => !a.startsWith('pair'));
+const RATES = [10, 25, 50, 80] as const;
+const KINDS: readonly CallKind[] = ['broadband', 'low-harmonic', 'high-sweep', 'high-band'];
+
+function sceneOf(array: string, durationS: number, seed: number, sources: unknown[], windDbfs: number | null): Record<string, unknown> {
+  return {
+    sample_rate_hz: 48000,
+    duration_s: Math.round(durationS * 100) / 100,
+    seed,
+    speed_of_sound_m_s: 343,
+    array: { geometry: array, position_m: [0, 0, ARRAY_Z], heading_deg: 0 },
+    sources,
+    noise: windDbfs === null ? { floor_dbfs: -60 } : { floor_dbfs: -60, wind_dbfs: windDbfs },
+  };
+}
+
+function calls(rng: Rng, start: number, end: number | null): Record<string, unknown> {
+  const length = 0.08 + 0.14 * rng.uniform();
+  const every = Math.max(length + 0.15, 0.35 + 0.5 * rng.uniform());
+  return { start_s: start, ...(end === null ? {} : { end_s: end }), length_s: Math.round(length * 1000) / 1000, every_s: Math.round(every * 1000) / 1000, jitter_s: 0.05 };
+}
+
+function pick<T>(rng: Rng, xs: readonly T[]): T {
+  return xs[Math.floor(rng.uniform() * xs.length)]!;
+}
+
+/** The generated cells (seeded: the same list every run). */
+export function motionCells(quick: boolean): Cell[] {
+  const cells: Cell[] = [];
+  const rng = makeRng(1313);
+  // pass: every rate x call kind, arrays in turn, random geometry of the pass.
+  let n = 0;
+  for (const rate of RATES) {
+    for (const kind of KINDS) {
+      const array = ARRAYS[n % ARRAYS.length]!;
+      const pairLike = array.startsWith('pair');
+      const closest = pairLike ? -15 + 30 * rng.uniform() : -180 + 360 * rng.uniform();
+      const d = 6 + 14 * rng.uniform();
+      const h = pairLike ? 0 : 6 * rng.uniform();
+      const p = pass(closest, d, h, rate, pairLike ? 55 : 65, 10, 0.3, rng.uniform() < 0.5 ? 1 : -1);
+      const level = -24 - 8 * rng.uniform();
+      const src = { name: 'passer', path: p.path, signal: signalOf(kind, rng), level: { dbfs_at_array: Math.round(level) }, calls: calls(rng, 0.4, p.durationS + 0.3) };
+      const wind = rng.uniform() < 0.4 ? Math.round(-45 - 10 * rng.uniform()) : null;
+      cells.push({
+        id: `pas${String(++n).padStart(2, '0')}`,
+        family: 'pass',
+        condition: `${array}, ${kind}, peak ${rate} deg/s, d ${d.toFixed(0)} m, h ${h.toFixed(0)} m, ${Math.round(level)} dBFS${wind === null ? '' : `, wind ${wind} dBFS`}`,
+        scene: sceneOf(array, p.durationS + 0.8, 500 + n, [src], wind),
+        cRatio: 1,
+      });
+    }
+  }
+  // cross: two callers whose bearings cross near the middle.
+  for (let i = 0; i < 6; i++) {
+    const array = pick(rng, PLANAR);
+    const centre = -180 + 360 * rng.uniform();
+    const dur = 6 + 4 * rng.uniform();
+    const spanA = 40 + 60 * rng.uniform();
+    const spanB = 15 + 30 * rng.uniform();
+    const kindA = pick(rng, ['broadband', 'low-harmonic', 'high-sweep'] as const);
+    const kindB = pick(rng, ['broadband', 'low-harmonic'] as const);
+    const ra = 8 + 8 * rng.uniform();
+    const rb = 8 + 8 * rng.uniform();
+    const mk = (name: string, from: number, to: number, r: number, kind: CallKind, start: number): unknown => ({
+      name,
+      path: [{ time_s: 0, position_m: at(from, r, ARRAY_Z + 1) }, { time_s: dur, position_m: at(to, r, ARRAY_Z + 1) }],
+      signal: signalOf(kind, rng),
+      level: { dbfs_at_array: -26 },
+      calls: calls(rng, start, null),
+    });
+    cells.push({
+      id: `crs${String(i + 1).padStart(2, '0')}`,
+      family: 'cross',
+      condition: `${array}, ${kindA} over ${spanA.toFixed(0)} deg x ${kindB} over ${spanB.toFixed(0)} deg in ${dur.toFixed(1)} s`,
+      scene: sceneOf(array, dur, 700 + i, [mk('a', centre - spanA / 2, centre + spanA / 2, ra, kindA, 0.2), mk('b', centre + spanB / 2, centre - spanB / 2, rb, kindB, 0.4)], null),
+      cRatio: 1,
+    });
+  }
+  // chorus: two choruses in bouts and a passer across one of them, at three speed-of-sound errors.
+  for (let i = 0; i < 4; i++) {
+    const array = pick(rng, PLANAR);
+    const a = -180 + 360 * rng.uniform();
+    const b = a + 60 + 180 * rng.uniform();
+    const dur = 20;
+    const chorus = (name: string, az: number, f0: number, start: number): unknown => ({
+      name,
+      position_m: at(az, 8 + 10 * rng.uniform(), 0.2),
+      signal: { type: 'tone', f0_hz: f0, harmonics: [1, 0.6, 0.35, 0.2], pulse_rate_hz: 30 + 20 * rng.uniform(), pulse_duty: 0.6 },
+      level: { dbfs_at_array: -28 },
+      calls: { start_s: start, length_s: 0.25, every_s: 0.7, jitter_s: 0.1, per_bout: 5 + Math.floor(4 * rng.uniform()), bout_gap_s: 3 + 3 * rng.uniform() },
+    });
+    const rate = 15 + 25 * rng.uniform();
+    const p = pass(a + (rng.uniform() < 0.5 ? -1 : 1) * 90, 15, 4, rate, 60, 12, 4, rng.uniform() < 0.5 ? 1 : -1);
+    const passer = { name: 'passer', path: p.path, signal: signalOf(pick(rng, ['broadband', 'high-sweep', 'low-harmonic'] as const), rng), level: { dbfs_at_array: -26 }, calls: calls(rng, 4.2, 4 + p.durationS) };
+    const scene = sceneOf(array, dur, 900 + i, [chorus('chorus-a', a, 450 + 200 * rng.uniform(), 0.5), chorus('chorus-b', b, 700 + 300 * rng.uniform(), 1.1), passer], -50);
+    for (const cRatio of quick ? [1] : [1, 1.01, 0.98]) {
+      cells.push({
+        id: `cho${String(i + 1).padStart(2, '0')}${cRatio === 1 ? '' : cRatio > 1 ? 'p1' : 'm2'}`,
+        family: 'chorus',
+        condition: `${array}, choruses at ${a.toFixed(0)} and ${b.toFixed(0)} deg, passer at ${rate.toFixed(0)} deg/s${cRatio === 1 ? '' : `, c ${cRatio > 1 ? '+1' : '-2'} %`}`,
+        scene,
+        cRatio,
+      });
+    }
+  }
+  return quick ? cells.filter((_, i) => i % 3 === 0) : cells;
+}
+
+function cacheDir(): string {
+  const d = process.env.BEARLINE_MOTION_CACHE ?? join(tmpdir(), 'bearline-motion-cache');
+  mkdirSync(d, { recursive: true });
+  return d;
+}
+
+function run(args: string[]): string {
+  const r = spawnSync(process.execPath, [BIN, ...args], { encoding: 'utf8', maxBuffer: 1 << 28 });
+  if (r.status !== 0) throw new Error(`bearline ${args.join(' ')} failed (${r.status}): ${r.stderr}`);
+  return r.stdout;
+}
+
+/** Render (cached by the scene's text) and return the WAV path. */
+function rendered(cell: Cell): string {
+  const text = JSON.stringify(cell.scene);
+  const key = createHash('sha256').update(text).digest('hex').slice(0, 16);
+  const wav = join(cacheDir(), `${key}.wav`);
+  if (!existsSync(wav)) {
+    const scenePath = join(cacheDir(), `${key}.scene.json`);
+    writeFileSync(scenePath, text);
+    const tmp = join(cacheDir(), `${key}.part.wav`);
+    run(['simulate', '--scene', scenePath, '--out', tmp, '--float']);
+    renameSync(tmp.replace(/\.wav$/, '.truth.jsonl'), wav.replace(/\.wav$/, '.truth.jsonl'));
+    renameSync(tmp.replace(/\.wav$/, '.array.json'), wav.replace(/\.wav$/, '.array.json'));
+    renameSync(tmp, wav);
+  }
+  return wav;
+}
+
+export interface CellResult {
+  id: string;
+  family: Family;
+  condition: string;
+  scores: TrackScores;
+  /** Tracks whose attributed events come from two sources (minor share over 5 %). */
+  mixedTracks: number;
+}
+
+export function runCell(cell: Cell, set: readonly string[]): CellResult {
+  const wav = rendered(cell);
+  const extra = set.flatMap((s) => ['--' + s.split('=')[0], s.slice(s.indexOf('=') + 1)]);
+  const c = 343 * cell.cRatio;
+  const out = run(['scan', wav, '--array', wav.replace(/\.wav$/, '.array.json'), '--speed-of-sound', c.toFixed(2), ...extra]);
+  const events = out.split('\n').filter((l) => l.trim() !== '').map((l) => JSON.parse(l) as EventRecord);
+  const truth = indexTruth(parseTruth(readFileSync(wav.replace(/\.wav$/, '.truth.jsonl'), 'utf8'), 'truth'));
+  const scores = scoreTracks(events, truth, TRUTH_STEP_S);
+  const mixedTracks = scores.tracks.filter((t) => t.attributed >= 2 && t.purity < 0.95).length;
+  return { id: cell.id, family: cell.family, condition: cell.condition, scores, mixedTracks };
+}
+
+const pct = (x: number): string => `${(100 * x).toFixed(0)}%`.padStart(4);
+
+export function formatMotion(results: readonly CellResult[]): string[] {
+  const lines = ['motion matrix: per source, purity of its main track / completeness / id switches; mixed = tracks holding two sources'];
+  for (const r of results) {
+    const per = r.scores.sources
+      .map((s) => {
+        const t = r.scores.tracks.find((x) => x.track === s.track);
+        return `${s.source} ${t ? pct(t.purity) : '   -'}/${pct(s.completeness)}/${s.idSwitches}`;
+      })
+      .join('  ');
+    lines.push(`  ${r.id.padEnd(8)} ${per.padEnd(62)} mixed ${r.mixedTracks}  ${r.condition}`);
+  }
+  lines.push('', 'summary (targets: purity >= 95 %, completeness >= 80 %, at most one id switch per crossing, no mixed track):');
+  const fams: (Family | 'all')[] = ['pass', 'cross', 'chorus', 'all'];
+  for (const f of fams) {
+    const rs = results.filter((r) => f === 'all' || r.family === f);
+    if (rs.length === 0) continue;
+    const srcs = rs.flatMap((r) => r.scores.sources.map((s) => ({ s, t: r.scores.tracks.find((x) => x.track === s.track) })));
+    const pure = srcs.filter((x) => (x.t?.purity ?? 0) >= 0.95).length;
+    const complete = srcs.filter((x) => x.s.completeness >= 0.8).length;
+    const meanC = srcs.reduce((a, x) => a + x.s.completeness, 0) / Math.max(1, srcs.length);
+    const switches = srcs.reduce((a, x) => a + x.s.idSwitches, 0);
+    const mixed = rs.reduce((a, r) => a + r.mixedTracks, 0);
+    lines.push(`  ${f.padEnd(7)} ${String(rs.length).padStart(3)} cells, ${String(srcs.length).padStart(3)} sources: pure ${pct(pure / Math.max(1, srcs.length))}, completeness >= 80 % ${pct(complete / Math.max(1, srcs.length))} (mean ${pct(meanC)}), id switches ${switches}, mixed tracks ${mixed}`);
+  }
+  return lines;
+}
+
+export function motionMatrixCli(argv: readonly string[]): number {
+  const quick = argv.includes('--quick');
+  const set: string[] = [];
+  let json: string | null = null;
+  let only: string[] = [];
+  for (let i = 0; i < argv.length; i++) {
+    if (argv[i] === '--set') set.push(argv[++i] ?? '');
+    else if (argv[i] === '--json') json = argv[++i] ?? null;
+    else if (argv[i] === '--cells') only = (argv[++i] ?? '').split(',');
+    else if (argv[i] !== '--quick') {
+      console.error(`motion-matrix: unknown argument ${argv[i]} (give --quick, --cells ID,..., --json FILE, --set flag=value with a scan flag name)`);
+      return 2;
+    }
+  }
+  if (set.some((s) => !/^[a-z-]+=.+$/.test(s))) {
+    console.error('motion-matrix: --set takes a scan flag and value, e.g. --set rate-wander=5');
+    return 2;
+  }
+  const cells = motionCells(quick).filter((c) => only.length === 0 || only.some((o) => c.id.startsWith(o)));
+  const results: CellResult[] = [];
+  cells.forEach((c, i) => {
+    if (process.stderr.isTTY) process.stderr.write(`\r\x1b[K${i + 1}/${cells.length} ${c.id}`);
+    results.push(runCell(c, set));
+  });
+  if (process.stderr.isTTY) process.stderr.write('\r\x1b[K');
+  console.log([`settings: ${set.length ? set.join(' ') : 'defaults'}`, ...formatMotion(results)].join('\n'));
+  if (json) writeFileSync(json, JSON.stringify(results, null, 1));
+  return 0;
+}
+
+if (process.argv[1] && import.meta.url === new URL(`file://${process.argv[1]}`).href) {
+  process.exitCode = motionMatrixCli(process.argv.slice(2));
+}
