@@ -20,7 +20,9 @@
  * sweeps past the array with angular acceleration 2 w^2 tan(b) (w its angular rate in rad/s,
  * b its angle from the point of closest approach; geometry of a straight line, common practice,
  * no source), so a fly-by speeds up and slows down by tens of deg/s per second while a static
- * source (rate near 0) keeps the small rateWander alone.
+ * source (rate near 0) keeps the small rateWander alone. The caller leaves the allowance out
+ * (io[IO_HOLD_RATE] = 1) while another track is near, where the rate is what keeps two crossing
+ * sources apart.
  */
 import { wrapDeg } from './circular.js';
 
@@ -50,11 +52,13 @@ export const IO_R = 2;
 export const IO_D2 = 3;
 /** Starting rate standard deviation (init). */
 export const IO_RATE_SIGMA = 4;
+/** predict: 1 to leave out the fly-by allowance (another track is near: its rate is what tells them apart). */
+export const IO_HOLD_RATE = 5;
 
 export class AngleFilterBank {
   readonly angle: Float64Array;
   readonly rate: Float64Array;
-  readonly io = new Float64Array(5);
+  readonly io = new Float64Array(6);
   private readonly p00: Float64Array;
   private readonly p01: Float64Array;
   private readonly p11: Float64Array;
@@ -103,7 +107,7 @@ export class AngleFilterBank {
     const p01 = this.p01[slot]!;
     const p11 = this.p11[slot]!;
     const rate = this.rate[slot]!;
-    const turn = FLYBY_ACCEL * rate * rate;
+    const turn = this.io[IO_HOLD_RATE] === 1 ? 0 : FLYBY_ACCEL * rate * rate;
     const q = this.q + turn * turn;
     const dt2 = dt * dt;
     // P' = F P F^T + Q
@@ -124,6 +128,11 @@ export class AngleFilterBank {
     this.angle[slot] = this.angle[slot]! + rate * dt;
     this.rate[slot] = rate * a;
     this.settle(slot);
+  }
+
+  /** The angle variance of a slot (degrees squared). */
+  variance(slot: number): number {
+    return this.p00[slot]!;
   }
 
   /** io[IO_D2] = squared innovation of io[IO_Z] (variance io[IO_R]) over its variance. */

@@ -120,7 +120,7 @@ export const trackerOptionSpecs: readonly NumberSpec<NumericKey>[] = [
   numberSpec('eventEnterSnrDb', '--event-enter-snr <dB>', 'dB', 10, { min: 0, max: 60 },
     'SNR over the noise floor at which an event starts'),
   numberSpec('eventLeaveSnrDb', '--event-leave-snr <dB>', 'dB', 5, { min: 0, max: 60 },
-    'SNR below which an event counts as paused (at most the enter SNR)'),
+    'SNR below which an event counts as paused (at most the enter SNR); hops below it neither start nor move a track'),
   numberSpec('eventEnterConfidence', '--event-enter-confidence <c>', '', 0.5, { min: 0, max: 1 },
     'confidence x candidate score at which an event starts'),
   numberSpec('eventLeaveConfidence', '--event-leave-confidence <c>', '', 0.3, { min: 0, max: 1 },

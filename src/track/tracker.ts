@@ -9,7 +9,9 @@
  * Per hop:
  * 1. predict every live track to the hop's time (angle-filter.ts);
  * 2. gate each candidate against each track by the Mahalanobis distance of its innovation;
- *    a candidate whose hop confidence x score is below minConfidence is ignored;
+ *    a candidate whose hop confidence x score is below minConfidence is ignored, and so is
+ *    every candidate of a hop below the event-leave SNR (sound at the noise floor, such as
+ *    coherent wind between calls, neither moves nor starts a track);
  * 3. assign candidates to confirmed tracks by global nearest neighbour (assignment.ts), then
  *    the leftovers to tentative tracks, and update the assigned tracks;
  * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate, starts a
@@ -31,7 +33,7 @@
 import { RuntimeFailure } from '../util/errors.js';
 import { foldedOffsetDeg } from '../geometry/array-mirror.js';
 import type { EventRecord } from '../records/record-types.js';
-import { AngleFilterBank, IO_D2, IO_DT, IO_R, IO_RATE_SIGMA, IO_Z } from './angle-filter.js';
+import { AngleFilterBank, IO_D2, IO_DT, IO_HOLD_RATE, IO_R, IO_RATE_SIGMA, IO_Z } from './angle-filter.js';
 import { NearestNeighbourAssigner } from './assignment.js';
 import { DirectionSums } from './direction-sums.js';
 import { EventCutter } from './event-cutter.js';
@@ -192,6 +194,9 @@ export class Tracker {
       this.chosen[s] = -1;
       this.settled[s] = 0;
       if (this.state[s] === FREE) continue;
+      const hold = this.hasNeighbour(s) ? 1 : 0;
+      this.az.io[IO_HOLD_RATE] = hold;
+      this.el.io[IO_HOLD_RATE] = hold;
       this.az.predict(s);
       if (this.hasEl[s] === 1) this.el.predict(s);
       if (this.state[s] === CONFIRMED) this.settle(s);
@@ -259,6 +264,21 @@ export class Tracker {
     const band = obs.bandHz;
     hop[BAND_LO] = band ? band[0] : NaN;
     hop[BAND_HI] = band ? band[1] : NaN;
+  }
+
+  /**
+   * Another confirmed track lies within the gate of slot s's angle (both uncertainties and
+   * twice the bearing noise): the two may cross, and their rates must not wander (angle-filter.ts).
+   */
+  private hasNeighbour(s: number): boolean {
+    if (this.state[s] !== CONFIRMED) return false;
+    const r = this.options.bearingNoiseDeg;
+    for (let o = 0; o < this.size; o++) {
+      if (o === s || this.state[o] !== CONFIRMED) continue;
+      const d = this.sideDeg === null ? wrapDeg(this.az.angle[o]! - this.az.angle[s]!) : this.az.angle[o]! - this.az.angle[s]!;
+      if (d * d <= this.gate2 * (this.az.variance(s) + this.az.variance(o) + 2 * r * r)) return true;
+    }
+    return false;
   }
 
   /** Copy the usable candidates into the scratch arrays; returns how many are considered. */

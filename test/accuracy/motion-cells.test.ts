@@ -12,22 +12,41 @@ import { tempDir } from '../helpers/temp-dir.js';
 
 const at = (azDeg: number, r: number, z = 1.5): number[] => [r * Math.sin(azDeg * DEG), r * Math.cos(azDeg * DEG), z];
 
-function scene(sources: unknown[], durationS: number, seed: number): unknown {
+function scene(sources: unknown[], durationS: number, seed: number, geometry = 'square-20cm', windDbfs?: number): unknown {
   return {
     sample_rate_hz: 48000,
     duration_s: durationS,
     seed,
     speed_of_sound_m_s: 343,
-    array: { geometry: 'square-20cm', position_m: [0, 0, 1.5], heading_deg: 0 },
+    array: { geometry, position_m: [0, 0, 1.5], heading_deg: 0 },
     sources,
-    noise: { floor_dbfs: -60 },
+    noise: windDbfs === undefined ? { floor_dbfs: -60 } : { floor_dbfs: -60, wind_dbfs: windDbfs },
   };
 }
 const noise = { type: 'noise', low_hz: 500, high_hz: 8000 };
 const sweep = { type: 'sweep', start_hz: 3200, end_hz: 2200, shape: 'exponential', harmonics: [1, 0.3] };
 const chorus = (f0: number) => ({ type: 'tone', f0_hz: f0, harmonics: [1, 0.6, 0.35, 0.2], pulse_rate_hz: 40, pulse_duty: 0.6 });
 
-const CELLS: { name: string; durationS: number; sources: unknown[] }[] = [
+const lowTone = { type: 'tone', f0_hz: 400, harmonics: [1, 0.5, 0.3] };
+/**
+ * A straight line past the array at constant speed, closest (horizontal distance d, height h
+ * over the array) at bearing closestDeg at the middle of `spanS` seconds, speed chosen for a
+ * peak angular rate of peakDegS at the closest point (rate = v / d: plane geometry, common
+ * practice), limited to +-65 deg of bearing around the closest point.
+ */
+function straightPass(closestDeg: number, d: number, h: number, peakDegS: number, spanS: number): unknown[] {
+  const v = peakDegS * DEG * d;
+  const half = Math.min(d * Math.tan(65 * DEG), (v * spanS) / 2);
+  const c = at(closestDeg, d, 1.5 + h);
+  const ux = Math.cos(closestDeg * DEG);
+  const uy = -Math.sin(closestDeg * DEG);
+  return [
+    { time_s: 0.3, position_m: [c[0]! - ux * half, c[1]! - uy * half, c[2]!] },
+    { time_s: 0.3 + (2 * half) / v, position_m: [c[0]! + ux * half, c[1]! + uy * half, c[2]!] },
+  ];
+}
+
+const CELLS: { name: string; durationS: number; sources: unknown[]; windDbfs?: number; geometry?: string }[] = [
   {
     name: 'broadband caller at ~10 deg/s',
     durationS: 8,
@@ -55,13 +74,29 @@ const CELLS: { name: string; durationS: number; sources: unknown[] }[] = [
       { name: 'passer', path: [{ time_s: 6, position_m: at(-20, 30, 8) }, { time_s: 18, position_m: at(110, 30, 8) }], signal: noise, level: { dbfs_at_array: -26 }, calls: { start_s: 6, end_s: 18, length_s: 0.15, every_s: 0.7, jitter_s: 0.1 } },
     ],
   },
+  {
+    // A slow pass with a low tonal call on a 10 cm square, in wind: the wind's coherent part
+    // gives confident directions overhead between the calls.
+    name: 'slow low-tone caller in wind (10 deg/s peak, 10 cm square)',
+    durationS: 10.6,
+    sources: [{ name: 'walker', path: straightPass(120, 10, 3, 10, 10), signal: lowTone, level: { dbfs_at_array: -28 }, calls: { start_s: 0.4, end_s: 10.3, length_s: 0.1, every_s: 0.78, jitter_s: 0.05 } }],
+    windDbfs: -46,
+    geometry: 'square-10cm',
+  },
+  {
+    // A fast, close pass: the bearing speeds up to 80 deg/s and slows down again within 3 s.
+    name: 'fast close pass (80 deg/s peak, 10 cm square)',
+    durationS: 3.9,
+    sources: [{ name: 'swift', path: straightPass(-40, 6, 5, 80, 10), signal: lowTone, level: { dbfs_at_array: -29 }, calls: { start_s: 0.4, end_s: 3.4, length_s: 0.12, every_s: 0.3, jitter_s: 0.03 } }],
+    geometry: 'square-10cm',
+  },
 ];
 
 describe('motion cells: track purity, completeness and id switches', () => {
   const dir = tempDir('accuracy').dir;
   const scores = new Map<string, TrackScores>();
   CELLS.forEach((cell, i) => {
-    const wav = render(dir, `cell${i}`, scene(cell.sources, cell.durationS, 30 + i));
+    const wav = render(dir, `cell${i}`, scene(cell.sources, cell.durationS, 30 + i, cell.geometry, cell.windDbfs));
     const s = scoreTracks(scanEvents(wav), indexTruth(truthOf(wav)), TRUTH_STEP_S);
     scores.set(cell.name, s);
     console.log(
@@ -103,9 +138,31 @@ describe('motion cells: track purity, completeness and id switches', () => {
   it('high sweeps at ~30 deg/s: the tracks that hold them are pure', () => {
     expect(purityOf(CELLS[1]!.name, 'bird')).toBeGreaterThanOrEqual(0.95);
   });
-  // Target not met (issue 13 item 1, fast movers above the aliasing limit, not done): 60 % of
-  // the calls on the main track (6 of 10; 4 more on a second track, 63 % of events attributed).
-  it.fails('target: high sweeps at ~30 deg/s, completeness >= 80 %', () => {
+  // Issue 13 item 1: the bird's bearing runs from -74 to +74 deg, up to ~85 deg/s at its closest
+  // point; before the fly-by allowance of the track's rate (src/track/angle-filter.ts) 60 % of
+  // its calls were on its main track (6 of 10, 4 more on a second one).
+  it('high sweeps (a pass peaking near 85 deg/s): one track with at least 80 % of the calls, at most one id switch', () => {
     expect(src(CELLS[1]!.name, 'bird').completeness).toBeGreaterThanOrEqual(0.8);
+    expect(src(CELLS[1]!.name, 'bird').idSwitches).toBeLessThanOrEqual(1);
+  });
+
+  // Target not met: 62 % of its calls on the main track, 6 id switches. The wind's gusts rise
+  // 10 dB and more over the floor at the low tone's own frequencies and its coherent part reads
+  // as a confident source overhead (elevation 75-89 deg, any azimuth): the gusts make events of
+  // their own and pull the caller's elevation (the matrix's like cell pas02, with weaker gusts,
+  // went from 62 % to 100 % once floor-level hops were kept from the tracks).
+  it.fails('target: a slow low-tone caller in wind: one pure track with at least 80 % of its calls, at most one id switch', () => {
+    const name = CELLS[4]!.name;
+    expect(purityOf(name, 'walker')).toBeGreaterThanOrEqual(0.95);
+    expect(src(name, 'walker').completeness).toBeGreaterThanOrEqual(0.8);
+    expect(src(name, 'walker').idSwitches).toBeLessThanOrEqual(1);
+  });
+
+  // Before the fly-by allowance: 40 % with 2 id switches in the matrix's like cell (pas14).
+  it('a fast close pass peaking at 80 deg/s: one pure track with at least 80 % of its calls, at most one id switch', () => {
+    const name = CELLS[5]!.name;
+    expect(purityOf(name, 'swift')).toBeGreaterThanOrEqual(0.95);
+    expect(src(name, 'swift').completeness).toBeGreaterThanOrEqual(0.8);
+    expect(src(name, 'swift').idSwitches).toBeLessThanOrEqual(1);
   });
 });

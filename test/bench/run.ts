@@ -7,6 +7,7 @@
  * the full matrix renders its corpus once, several minutes, then analyses in about a minute).
  */
 import { accuracyMatrixCli } from './accuracy-matrix.js';
+import { motionMatrixCli } from './motion-matrix.js';
 import { benchCase, benchMemory, coreCases, printCore } from './core.js';
 import { runFeedLatencyBench } from './feed-latency.js';
 import { benchIoRead } from './io-read.js';
@@ -54,6 +55,11 @@ async function main(): Promise<void> {
   if (want('live')) {
     const r = await runLiveBench();
     console.log('\n' + r.lines.join('\n'));
+  }
+  if (want('motion')) {
+    console.log('');
+    const code = motionMatrixCli(only.length === 1 && only[0] === 'motion' ? accuracyArgs : []);
+    if (code !== 0) process.exitCode = code;
   }
   if (want('accuracy')) {
     console.log('');
