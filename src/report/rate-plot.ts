@@ -7,7 +7,7 @@ import { esc, formatTime, px, seriesColour, timeTicks } from './svg-kit.js';
 const W = 1100;
 const H = 230;
 const L = 70;
-const R = 14;
+const R = 34;
 const T = 14;
 const B = 40;
 

@@ -41,9 +41,16 @@ export function formatTime(s: number, absolute: boolean): string {
 /** A length of time: '3 h 12 min', '4 min 5 s', '12.5 s'. */
 export function formatDuration(s: number): string {
   if (s < 60) return `${s.toFixed(s < 10 ? 2 : 1)} s`;
-  if (s < 3600) return `${Math.floor(s / 60)} min ${Math.round(s % 60)} s`;
-  if (s < 86400 * 2) return `${Math.floor(s / 3600)} h ${Math.round((s % 3600) / 60)} min`;
-  return `${Math.floor(s / 86400)} d ${Math.round((s % 86400) / 3600)} h`;
+  if (s < 3600) {
+    const sec = Math.round(s);
+    return `${Math.floor(sec / 60)} min ${sec % 60} s`;
+  }
+  if (s < 86400 * 2) {
+    const min = Math.round(s / 60);
+    return `${Math.floor(min / 60)} h ${min % 60} min`;
+  }
+  const h = Math.round(s / 3600);
+  return `${Math.floor(h / 24)} d ${h % 24} h`;
 }
 
 const STEPS_S = [0.1, 0.2, 0.5, 1, 2, 5, 10, 15, 30, 60, 120, 300, 600, 900, 1800, 3600, 7200, 10800, 21600, 43200, 86400, 172800, 604800];

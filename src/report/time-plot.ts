@@ -11,7 +11,7 @@ import { esc, formatDuration, GAP_FILL, px, seriesColour, timeTicks } from './sv
 const W = 1100;
 const H = 380;
 const L = 70;
-const R = 14;
+const R = 34;
 const T = 14;
 const B = 44;
 
