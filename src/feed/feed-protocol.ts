@@ -1,11 +1,13 @@
 /**
  * The messages of the WebSocket feed (protocol 1). Every message is one JSON text with a
- * `type` field. Server to viewer: hello (first, once), frame, event, gap, status, pong.
+ * `type` field. Server to viewer: hello (first, once), catch_up (right after hello when
+ * anything has happened: recent-history.ts), frame, event, gap, status, pong.
  * Viewer to server: ping, subscribe. Pure: builds and reads messages, no I/O.
  */
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import type { GapRecord } from '../records/gap-record.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
+import type { CatchUpMessage } from './recent-history.js';
 
 export const FEED_PROTOCOL = 1;
 
@@ -36,6 +38,7 @@ export interface StatusMessage {
 
 export type ServerMessage =
   | HelloMessage
+  | CatchUpMessage
   | ({ type: 'frame' } & FrameRecord)
   | ({ type: 'event' } & EventRecord)
   | ({ type: 'gap' } & GapRecord)

@@ -2,7 +2,8 @@
  * The live feed: an HTTP server for the browser viewer (web-viewer/ at `/`) and a WebSocket
  * feed at `/feed` (messages of feed-protocol.ts). An I/O edge and a record sink: the analysis
  * hands it frames, events and gaps and it returns at once; each viewer has its own queue
- * (viewer-hub.ts), so a slow or stuck viewer only loses its own oldest frames.
+ * (viewer-hub.ts), so a slow or stuck viewer only loses its own oldest frames. A viewer that
+ * joins late gets the recent events and the tracks (recent-history.ts) right after hello.
  */
 import { createHash, timingSafeEqual } from 'node:crypto';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
@@ -17,6 +18,7 @@ import type { RecordSink } from '../sinks/record-sink.js';
 import { feedFlagName, isLoopbackHost, resolveFeedOptions, type FeedOptions } from './feed-options.js';
 import { eventMessage, frameMessage, gapMessage, helloFromGeometry, type FeedSettings } from './feed-protocol.js';
 import { contentTypeOf, DEFAULT_WEB_ROOT, listStaticFiles, lookUpStaticPath, readStaticFile } from './static-files.js';
+import { RecentHistory } from './recent-history.js';
 import { ViewerHub, type FeedClientStats } from './viewer-hub.js';
 
 export { SOCKET_HIGH_WATER_BYTES, MAX_KEPT_WAITING, type FeedClientStats } from './viewer-hub.js';
@@ -186,7 +188,11 @@ export async function startFeedServer(setup: FeedServerSetup): Promise<FeedServe
   });
   const expectedToken = opts.token === null ? null : digest(opts.token);
   const allowed = (url: URL): boolean => expectedToken === null || tokenMatches(url.searchParams.get('token'), expectedToken);
-  const hub = new ViewerHub(opts, JSON.stringify(helloFromGeometry(setup.geometry, setup.settings ?? {})), log);
+  const history = new RecentHistory(setup.geometry.headingDeg);
+  const hub = new ViewerHub(opts, JSON.stringify(helloFromGeometry(setup.geometry, setup.settings ?? {})), log, () => {
+    const recent = history.catchUp();
+    return recent === null ? null : JSON.stringify(recent);
+  });
   const server = feedHttpServer(files, webRoot, allowed, hub, log);
   const port = await listen(server, opts);
   if (!isLoopbackHost(opts.host)) {
@@ -213,14 +219,17 @@ export async function startFeedServer(setup: FeedServerSetup): Promise<FeedServe
     port,
     frame(rec) {
       totals.framesIn++;
+      history.frame(rec);
       if (hub.count > 0) hub.broadcast('frame', frameMessage(rec));
     },
     event(rec) {
       totals.eventsIn++;
+      history.event(rec);
       if (hub.count > 0) hub.broadcast('keep', eventMessage(rec));
     },
     gap(rec) {
       totals.gapsIn++;
+      history.gap(rec);
       if (hub.count > 0) hub.broadcast('keep', gapMessage(rec));
     },
     stats() {

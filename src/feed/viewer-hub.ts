@@ -58,6 +58,8 @@ export class ViewerHub {
     /** The hello message every viewer gets first. */
     private readonly hello: string,
     private readonly log: (line: string) => void,
+    /** What a viewer gets right after hello (the recent events and tracks), or null for nothing. */
+    private readonly catchUp: () => string | null = () => null,
   ) {}
 
   get count(): number {
@@ -100,6 +102,8 @@ export class ViewerHub {
       this.log(`viewer ${c.id} left (${code})`);
     });
     this.enqueue(c, 'keep', this.hello);
+    const recent = this.catchUp();
+    if (recent !== null) this.enqueue(c, 'keep', recent);
   }
 
   /** A message for every viewer (frames only for those that subscribe to them). */
