@@ -11,12 +11,13 @@ import type { AddressInfo, Socket } from 'node:net';
 import type { Duplex } from 'node:stream';
 import { WebSocketServer } from 'ws';
 import { RuntimeFailure, UsageError } from '../util/errors.js';
+import type { EvidenceMaps } from '../direction/evidence-map.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import type { GapRecord } from '../records/gap-record.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import type { RecordSink } from '../sinks/record-sink.js';
 import { feedFlagName, isLoopbackHost, resolveFeedOptions, type FeedOptions } from './feed-options.js';
-import { eventMessage, frameMessage, gapMessage, helloFromGeometry, type FeedSettings } from './feed-protocol.js';
+import { eventMessage, frameMessage, gapMessage, helloFromGeometry, mapsMessage, type FeedSettings } from './feed-protocol.js';
 import { contentTypeOf, DEFAULT_WEB_ROOT, listStaticFiles, lookUpStaticPath, readStaticFile } from './static-files.js';
 import { RecentHistory } from './recent-history.js';
 import { ViewerHub, type FeedClientStats } from './viewer-hub.js';
@@ -27,6 +28,8 @@ export { SOCKET_HIGH_WATER_BYTES, MAX_KEPT_WAITING, type FeedClientStats } from 
 export const FEED_PATH = '/feed';
 /** Largest message a viewer may send (bytes); a bigger one closes that viewer (1009). */
 export const MAX_CLIENT_MESSAGE_BYTES = 4096;
+/** Evidence maps go out at most this often (seconds of stream time): 10 a second is plenty for the eye. */
+export const MAP_INTERVAL_S = 0.1;
 /** How often a viewer that lost frames is told so (ms). */
 const STATUS_INTERVAL_MS = 1000;
 
@@ -48,6 +51,8 @@ export interface FeedStats {
   framesIn: number;
   eventsIn: number;
   gapsIn: number;
+  /** Evidence maps sent (each to every viewer that asked). */
+  mapsOut: number;
   /** Frames dropped over all viewers since the start. */
   framesDropped: number;
   refused: number;
@@ -64,6 +69,13 @@ export interface FeedServer extends RecordSink {
   frame(rec: FrameRecord): void;
   event(rec: EventRecord): void;
   gap(rec: GapRecord): void;
+  /**
+   * Whether a map of the hop at `timeS` is wanted: a viewer asked for maps and the last map
+   * went out at least MAP_INTERVAL_S of stream time before (evidence-tap.ts asks every hop).
+   */
+  wantsMapAt(timeS: number): boolean;
+  /** The evidence of the hop at `timeS` (its frame record's time_s) to the viewers that asked. */
+  maps(timeS: number, maps: EvidenceMaps): void;
   close(): Promise<void>;
   stats(): FeedStats;
 }
@@ -208,7 +220,8 @@ export async function startFeedServer(setup: FeedServerSetup): Promise<FeedServe
 
   const query = opts.token === null ? '' : `?token=${encodeURIComponent(opts.token)}`;
   const base = `${urlHost(opts.host)}:${port}`;
-  const totals = { framesIn: 0, eventsIn: 0, gapsIn: 0 };
+  const totals = { framesIn: 0, eventsIn: 0, gapsIn: 0, mapsOut: 0 };
+  let lastMapS = -Infinity;
   let closed = false;
 
   return {
@@ -231,6 +244,14 @@ export async function startFeedServer(setup: FeedServerSetup): Promise<FeedServe
       totals.gapsIn++;
       history.gap(rec);
       if (hub.count > 0) hub.broadcast('keep', gapMessage(rec));
+    },
+    wantsMapAt(timeS) {
+      return hub.count > 0 && (timeS - lastMapS >= MAP_INTERVAL_S || timeS < lastMapS) && hub.wantsMaps;
+    },
+    maps(timeS, maps) {
+      lastMapS = timeS;
+      totals.mapsOut++;
+      hub.broadcastMaps(mapsMessage(timeS, maps));
     },
     stats() {
       return { clients: hub.count, ...totals, framesDropped: hub.framesDropped, refused: hub.refused, perClient: hub.stats() };
