@@ -37,7 +37,7 @@ export function pairResiduals(fit: BenchFit): PairResidual[] {
 }
 
 /** Take colours of the residual rows (this project's own set). */
-const TAKE_COLOURS = ['#1060c0', '#d07000', '#2a9d4a', '#b8306a', '#6a4fc9', '#8a6d00', '#0f8b8d', '#c4302b'];
+const TAKE_COLOURS = ['#3b7dd8', '#e08a1e', '#2a9d4a', '#b8306a', '#6a4fc9', '#8a6d00', '#0f8b8d', '#c4302b'];
 
 const ROW_H = 26;
 
