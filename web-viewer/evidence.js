@@ -97,3 +97,55 @@ export function drawLagPlot(ctx, w, h, pairMap, chosenS) {
   }
   return lagOf(peak);
 }
+
+/**
+ * For arrays that span height: the steered response over azimuth (across) and elevation (up),
+ * warm white where the evidence is, the hop's directions as rings. Returns the lit cells.
+ */
+export function drawElevationMap(ctx, w, h, map, directions, colourOf) {
+  const dm = map && map.direction_map;
+  if (!dm || !Array.isArray(dm.elevation_deg) || dm.elevation_deg.length < 2) return 0;
+  const els = dm.elevation_deg;
+  const rows = dm.values;
+  const n = rows[0].length;
+  const L = 34;
+  const B = 16;
+  const pw = w - L;
+  const ph = h - B;
+  const elStep = els.length > 1 ? els[1] - els[0] : 20;
+  const elLo = els[0] - elStep / 2;
+  const elHi = els[els.length - 1] + elStep / 2;
+  const x = (az) => L + ((az + 180) / 360) * pw;
+  const y = (el) => ph * (1 - (el - elLo) / (elHi - elLo));
+  const [er, eg, eb] = EVIDENCE;
+  ctx.fillStyle = '#0e1915';
+  ctx.fillRect(L, 0, pw, ph);
+  let lit = 0;
+  rows.forEach((row, r) => {
+    for (let i = 0; i < n; i++) {
+      const v = row[i];
+      if (v <= 0.02) continue;
+      lit++;
+      const az0 = dm.azimuth_first_deg + (i - 0.5) * dm.azimuth_step_deg;
+      ctx.fillStyle = `rgba(${er},${eg},${eb},${(0.95 * v * v * v).toFixed(3)})`;
+      ctx.fillRect(x(az0), y(els[r] + elStep / 2), (dm.azimuth_step_deg / 360) * pw + 0.5, y(els[r] - elStep / 2) - y(els[r] + elStep / 2) + 0.5);
+    }
+  });
+  for (const d of directions) {
+    if (typeof d.el !== 'number') continue;
+    ctx.strokeStyle = colourOf(d.track);
+    ctx.lineWidth = 2;
+    ctx.beginPath();
+    ctx.arc(x(d.az), y(d.el), 6, 0, Math.PI * 2);
+    ctx.stroke();
+  }
+  ctx.fillStyle = '#86a194';
+  ctx.font = '11px system-ui, sans-serif';
+  ctx.textAlign = 'right';
+  ctx.textBaseline = 'middle';
+  for (const el of [elLo + elStep / 2, 0, els[els.length - 1]]) ctx.fillText(`${Math.round(el)}°`, L - 4, y(el));
+  ctx.textAlign = 'center';
+  ctx.textBaseline = 'bottom';
+  for (const az of [-180, -90, 0, 90, 180]) ctx.fillText(az === 0 ? 'front' : String(az), Math.min(w - 12, Math.max(L + 10, x(az))), h);
+  return lit;
+}

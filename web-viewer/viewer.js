@@ -7,7 +7,7 @@
 
 import { trackColour, TRACK_COLOURS, VOTE_AGREES, VOTE_COLOURS, VOTE_NONE, VOTE_OTHER } from './palette.js';
 import { addHistory, drawHistory, renderLegend } from './history-strip.js';
-import { drawEvidenceRing, drawLagPlot, ringValues } from './evidence.js';
+import { drawElevationMap, drawEvidenceRing, drawLagPlot, ringValues } from './evidence.js';
 
 const TRAIL_S = 3; // seconds of history drawn per track on the dial
 const STALE_S = 1.5; // a direction older than this is drawn dimmed
@@ -28,7 +28,7 @@ const el = {
   elevation: $('elevation-readout'), elevationCell: $('elevation-cell'), readout: document.querySelector('.readout'),
   link: $('link-state'), arrayName: $('array-name'), events: $('event-list'), drops: $('drop-note'),
   history: $('history'), historySpan: $('history-span'), legend: $('track-legend'),
-  lagPlot: $('lag-plot'), lagPair: $('lag-pair'),
+  lagPlot: $('lag-plot'), lagPair: $('lag-pair'), elevWrap: $('elev-wrap'), elevMap: $('elev-map'),
 };
 
 const state = {
@@ -52,7 +52,7 @@ const state = {
 };
 
 // Counters and drawn figures for tests and the bench (read through window.bearlineViewer).
-const counts = { messages: 0, frames: 0, events: 0, connects: 0, draws: 0, catchUps: 0, maps: 0, historyDots: 0 };
+const counts = { messages: 0, frames: 0, events: 0, connects: 0, draws: 0, catchUps: 0, maps: 0, historyDots: 0, elevationCells: 0 };
 const colours = { tracks: TRACK_COLOURS, votes: VOTE_COLOURS };
 window.bearlineViewer = { counts, colours, lagPeakS: null, mapTimeS: null };
 
@@ -637,6 +637,14 @@ function drawLag() {
   const chosen = state.mapTdoa ? state.mapTdoa[p] : null;
   window.bearlineViewer.lagPeakS = drawLagPlot(ctx, w, h, pairMap, chosen);
   window.bearlineViewer.mapTimeS = state.maps ? state.maps.time_s : null;
+  // Arrays that span height: the evidence over azimuth and elevation too.
+  const rows = state.maps && state.maps.direction_map ? state.maps.direction_map.elevation_deg.length : 0;
+  el.elevWrap.hidden = !(state.threeD && rows > 1);
+  if (!el.elevWrap.hidden) {
+    const [ectx, ew, eh] = fit(el.elevMap);
+    const fresh = state.frame && (performance.now() - state.frameAt) / 1000 < STALE_S;
+    counts.elevationCells = drawElevationMap(ectx, ew, eh, state.maps, fresh ? directionsOf(state.frame) : [], trackColour);
+  }
 }
 
 function draw(now) {

@@ -102,7 +102,7 @@ describe('viewer history, legend and catch-up', () => {
     }
   });
 
-  it('shows elevation for a 3-D array, and fits a phone width with the strip and legend', async () => {
+  it('shows elevation for a 3-D array (readout, legend, evidence over elevation), and fits a phone width with the strip and legend', async () => {
     const base = fakeGeometry(30);
     const tall: ArrayGeometry = { ...base, name: 'reed-bed-tetra', mics: base.mics.map((m, i) => ({ ...m, position: [m.position[0], m.position[1], i === 3 ? 0.08 : 0] as const })) };
     const fake = await startFeedFake({ scene: { geometry: tall } });
@@ -114,6 +114,9 @@ describe('viewer history, legend and catch-up', () => {
       expect(await page.isVisible('#elevation-cell')).toBe(true);
       await page.waitForFunction(() => document.querySelectorAll('#track-legend tr[data-track]').length >= 1, undefined, { timeout: 5000 });
       expect(await page.$$eval('#track-legend th', (ths) => ths.map((t) => t.textContent))).toContain('elev.');
+      // The evidence over azimuth and elevation (8 rows of the direction map for a 3-D array) is drawn.
+      await page.waitForFunction(() => (window as unknown as { bearlineViewer: ViewerProbe }).bearlineViewer.counts.elevationCells > 50, undefined, { timeout: 5000 });
+      expect(await page.isVisible('#elev-map')).toBe(true);
       await page.waitForTimeout(2500);
       await page.screenshot({ path: `${ARTIFACTS}viewer-phone-history.png`, fullPage: true });
       const phone = await page.evaluate(() => ({
