@@ -22,6 +22,10 @@ export interface CallItem {
   readonly track: number;
   readonly confidence: number;
   readonly station: string | null;
+  /** The mirror ambiguity the record names (a pair or line), else null. */
+  readonly mirror: string | null;
+  /** The call's band, Hz, when the record has one. */
+  readonly bandHz: readonly [number, number] | null;
 }
 
 /** A stretch of lost capture (a gap record). */
@@ -91,6 +95,8 @@ function item(o: Record<string, unknown>, where: string): LogItem {
     track: r.track,
     confidence: r.confidence,
     station: r.station ?? null,
+    mirror: typeof r.mirror === 'string' ? r.mirror : null,
+    bandHz: r.band_hz ?? null,
   };
 }
 

@@ -23,6 +23,11 @@ export interface ReportFacts {
   readonly selection: string;
   readonly anyElevation: boolean;
   readonly warnings: readonly string[];
+  /** Calls per mirror ambiguity the records name. */
+  readonly mirrors: ReadonlyMap<string, number>;
+  /** The calls' band edges, Hz (null when no record has a band). */
+  readonly band: readonly [number, number] | null;
+  readonly meanConfidence: number | null;
   readonly generatedUtc: string;
   readonly version: string;
 }
@@ -126,6 +131,9 @@ ${trackTable(bins, facts.anyElevation)}
 <dt>angle</dt><dd>${angleWord}</dd>
 <dt>calls</dt><dd>${bins.calls} shown of ${facts.callsRead} in the logs${facts.selection === '' ? '' : ` (${esc(facts.selection)})`}</dd>
 <dt>capture gaps</dt><dd>${gaps}</dd>
+${facts.band ? `<dt>call bands</dt><dd>${Math.round(facts.band[0])} Hz to ${Math.round(facts.band[1])} Hz</dd>` : ''}
+${facts.meanConfidence !== null ? `<dt>confidence</dt><dd>${facts.meanConfidence.toFixed(2)} on average</dd>` : ''}
+${facts.mirrors.size > 0 ? `<dt>ambiguity</dt><dd>${[...facts.mirrors].map(([m, n]) => `${n} calls with the ${esc(m)} mirror (the array cannot tell a direction from its mirror image)`).join('; ')}</dd>` : ''}
 <dt>logs</dt><dd>${facts.files.length} files, ${(facts.bytes / 1e6).toFixed(1)} MB<br>${files}</dd>
 <dt>made</dt><dd>${esc(facts.generatedUtc)} by bearline ${esc(facts.version)} report</dd>
 </dl></section>

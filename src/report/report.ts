@@ -105,6 +105,9 @@ export async function buildReport(inputs: readonly LogInput[], options: ReportOp
     selection: selectionText(options),
     anyElevation: scan.anyElevation,
     warnings,
+    mirrors: scan.mirrors,
+    band: Number.isFinite(scan.bandLoHz) ? [scan.bandLoHz, scan.bandHiHz] : null,
+    meanConfidence: scan.calls > 0 ? scan.confidenceSum / scan.calls : null,
     generatedUtc: (hooks.now?.() ?? new Date()).toISOString().replace(/\.\d{3}Z$/, 'Z'),
     version: hooks.version ?? '',
   });

@@ -24,6 +24,12 @@ export class SpanScan {
   anyElevation = false;
   readonly stations = new Set<string>();
   stationsOver = false;
+  /** Calls per mirror ambiguity named in the records (at most a few kinds exist). */
+  readonly mirrors = new Map<string, number>();
+  /** Lowest and highest band edge over the calls, Hz. */
+  bandLoHz = Infinity;
+  bandHiHz = -Infinity;
+  confidenceSum = 0;
 
   constructor(private readonly sel: ReportSelection) {}
 
@@ -74,6 +80,12 @@ export class SpanScan {
     this.maxS = Math.max(this.maxS, item.timeS + item.durationS);
     if (item.bearingDeg === null) this.allBearing = false;
     if (item.elevationDeg !== null) this.anyElevation = true;
+    if (item.mirror !== null && (this.mirrors.has(item.mirror) || this.mirrors.size < 8)) this.mirrors.set(item.mirror, (this.mirrors.get(item.mirror) ?? 0) + 1);
+    if (item.bandHz !== null) {
+      this.bandLoHz = Math.min(this.bandLoHz, item.bandHz[0]);
+      this.bandHiHz = Math.max(this.bandHiHz, item.bandHz[1]);
+    }
+    this.confidenceSum += item.confidence;
     const st = item.station ?? station;
     if (st !== null && !this.stations.has(st)) {
       if (this.stations.size < MAX_STATIONS) this.stations.add(st);
