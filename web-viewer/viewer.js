@@ -1,22 +1,34 @@
 // bearline live view. Messages (protocol 1) update `state`; a requestAnimationFrame loop
 // draws from it, so the drawing rate does not follow the message rate. No framework, no build.
 // Angles follow the project's convention: azimuth 0 = front (+y, drawn up), +90 = right (+x).
+// The dial's rings are time: a track's dots sink from "now" to "3 s ago"; calls flash on the
+// rim; the delay map's evidence glows in the band just inside it (evidence.js). Below the dial
+// the history strip and the track legend (history-strip.js). Colours: palette.js.
 
-const TRAIL_S = 3; // seconds of history drawn per track
+import { trackColour, TRACK_COLOURS, VOTE_AGREES, VOTE_COLOURS, VOTE_NONE, VOTE_OTHER } from './palette.js';
+import { addHistory, drawHistory, renderLegend } from './history-strip.js';
+import { drawElevationMap, drawEvidenceRing, drawLagPlot, ringValues } from './evidence.js';
+
+const TRAIL_S = 3; // seconds of history drawn per track on the dial
 const STALE_S = 1.5; // a direction older than this is drawn dimmed
 const EVENT_FLASH_S = 2.5;
 const EVENTS_SHOWN = 8;
 const LEVEL_FLOOR_DB = -80;
 const RETRY_FIRST_MS = 500;
 const RETRY_MAX_MS = 8000;
-const TRACK_COLOURS = ['#f2b134', '#4fc3b0', '#ef6f6c', '#a98bd9', '#9bd35a', '#5aa9e6', '#e889c0', '#d9d36a'];
-const UNTRACKED = '#e2ece6';
+const LEGEND_EVERY_MS = 500;
+/** Radii of the dial's time rings (fractions of the dial), as the trails use them. */
+const RING_NOW = 0.86;
+const RING_SINK = 0.32;
 
 const $ = (id) => document.getElementById(id);
 const el = {
   dial: $('dial'), levels: $('levels'), bands: $('bands'),
   azimuth: $('azimuth-readout'), bearing: $('bearing-readout'), hop: $('hop-readout'),
+  elevation: $('elevation-readout'), elevationCell: $('elevation-cell'), readout: document.querySelector('.readout'),
   link: $('link-state'), arrayName: $('array-name'), events: $('event-list'), drops: $('drop-note'),
+  history: $('history'), historySpan: $('history-span'), legend: $('track-legend'),
+  lagPlot: $('lag-plot'), lagPair: $('lag-pair'), elevWrap: $('elev-wrap'), elevMap: $('elev-map'),
 };
 
 const state = {
@@ -28,16 +40,23 @@ const state = {
   events: [], // newest first: event and gap messages with `at`
   peaks: [], // per-channel peak hold, dBFS
   dropped: 0,
+  history: [], // events of the last minutes for the strip: {t, az, bearing, track}
+  tracks: new Map(), // track id -> {track, az, el, calls, lastS}
+  nowS: null, // stream time of the newest record
+  nowAt: 0, // performance.now() when it came
+  threeD: false, // the array spans height: elevation is shown
+  maps: null, // latest 'maps' message (delay map, direction map)
+  mapTdoa: null, // tdoa_s of the map's own hop
+  mapsAt: 0,
+  legendAt: 0,
 };
 
-// Counters for tests and the bench (read through window.bearlineViewer).
-const counts = { messages: 0, frames: 0, events: 0, connects: 0, draws: 0 };
-window.bearlineViewer = { counts };
+// Counters and drawn figures for tests and the bench (read through window.bearlineViewer).
+const counts = { messages: 0, frames: 0, events: 0, connects: 0, draws: 0, catchUps: 0, maps: 0, historyDots: 0, elevationCells: 0 };
+const colours = { tracks: TRACK_COLOURS, votes: VOTE_COLOURS };
+window.bearlineViewer = { counts, colours, lagPeakS: null, mapTimeS: null };
 
-export function trackColour(track) {
-  if (track === null || track === undefined || !Number.isFinite(track)) return UNTRACKED;
-  return TRACK_COLOURS[((Math.trunc(track) % TRACK_COLOURS.length) + TRACK_COLOURS.length) % TRACK_COLOURS.length];
-}
+export { trackColour };
 
 export function formatDeg(deg) {
   return typeof deg === 'number' && Number.isFinite(deg) ? `${deg.toFixed(1)}°` : '—';
@@ -55,25 +74,50 @@ function directionsOf(frame) {
   if (Array.isArray(frame.sources) && frame.sources.length > 0) {
     return frame.sources
       .filter((s) => typeof s.azimuth_deg === 'number')
-      .map((s) => ({ az: s.azimuth_deg, score: clamp01(s.score), track: s.track ?? null }));
+      .map((s) => ({ az: s.azimuth_deg, el: typeof s.elevation_deg === 'number' ? s.elevation_deg : null, score: clamp01(s.score), track: s.track ?? null }));
   }
   if (typeof frame.azimuth_deg !== 'number') return [];
-  return [{ az: frame.azimuth_deg, score: clamp01(frame.confidence), track: frame.track ?? null }];
+  return [{ az: frame.azimuth_deg, el: typeof frame.elevation_deg === 'number' ? frame.elevation_deg : null, score: clamp01(frame.confidence), track: frame.track ?? null }];
 }
 
 function clamp01(x) {
   return typeof x === 'number' && Number.isFinite(x) ? Math.min(1, Math.max(0, x)) : 0;
 }
 
+function noteTime(t, now) {
+  if (typeof t === 'number' && Number.isFinite(t) && (state.nowS === null || t >= state.nowS)) {
+    state.nowS = t;
+    state.nowAt = now;
+  }
+}
+
+function trackEntry(id) {
+  let t = state.tracks.get(id);
+  if (!t) state.tracks.set(id, (t = { track: id, az: 0, el: null, calls: 0, lastS: -Infinity }));
+  return t;
+}
+
 function onFrame(msg, now) {
   counts.frames++;
   state.frame = msg;
   state.frameAt = now;
+  noteTime(msg.time_s, now);
   for (const d of directionsOf(msg)) {
     const key = d.track ?? 'untracked';
     let trail = state.trails.get(key);
     if (!trail) state.trails.set(key, (trail = []));
     trail.push({ az: d.az, at: now, score: d.score });
+    if (d.track !== null) {
+      const t = trackEntry(d.track);
+      t.az = d.az;
+      t.el = d.el;
+      t.lastS = msg.time_s;
+    }
+  }
+  if (state.threeD) {
+    const hasEl = typeof msg.elevation_deg === 'number';
+    el.elevation.textContent = hasEl ? formatDeg(msg.elevation_deg) : '—';
+    el.elevation.dataset.value = hasEl ? String(msg.elevation_deg) : '';
   }
   el.azimuth.textContent = formatDeg(msg.azimuth_deg);
   el.azimuth.dataset.value = typeof msg.azimuth_deg === 'number' ? String(msg.azimuth_deg) : '';
@@ -92,14 +136,60 @@ function mirrorAxis(rec) {
   return rec.mirror === 'front-back' ? 90 : null;
 }
 
-function onEventLike(msg, now) {
-  if (msg.type === 'event') counts.events++;
-  state.events.unshift({ ...msg, at: now });
+function onEventLike(msg, now, replay = false) {
+  if (msg.type === 'event') {
+    counts.events++;
+    addHistory(state.history, msg);
+    const t = trackEntry(msg.track);
+    t.calls++;
+    if (Number(msg.end_s) >= t.lastS) {
+      t.az = msg.azimuth_deg;
+      t.el = typeof msg.elevation_deg === 'number' ? msg.elevation_deg : t.el;
+      t.lastS = Number(msg.end_s);
+    }
+  }
+  noteTime(Number(msg.end_s), now);
+  // A replayed event (catch-up) does not flash on the dial: it is not news.
+  state.events.unshift({ ...msg, at: replay ? -Infinity : now });
   state.events.length = Math.min(state.events.length, 40);
+  if (!replay) renderEventList();
+}
+
+/** A late viewer's catch-up: the recent events and gaps in order, then the tracks as the server knows them. */
+function onCatchUp(msg, now) {
+  counts.catchUps++;
+  const items = [...(msg.events ?? []).map((e) => ({ ...e, type: 'event' })), ...(msg.gaps ?? []).map((g) => ({ ...g, type: 'gap' }))];
+  items.sort((a, b) => Number(a.start_s) - Number(b.start_s));
+  for (const item of items) onEventLike(item, now, true);
+  for (const t of msg.tracks ?? []) {
+    const entry = trackEntry(t.track);
+    entry.az = t.azimuth_deg;
+    entry.el = t.elevation_deg;
+    entry.calls = t.calls;
+    entry.lastS = t.last_s;
+  }
+  noteTime(msg.now_s, now);
   renderEventList();
+  state.legendAt = 0;
+}
+
+function onMaps(msg, now) {
+  counts.maps++;
+  state.maps = msg;
+  state.mapsAt = now;
+  // The feed sends a hop's frame just before its map: keep that frame's delays beside the map.
+  const f = state.frame;
+  state.mapTdoa = f && Math.abs(Number(f.time_s) - Number(msg.time_s)) < 1e-6 && Array.isArray(f.tdoa_s) ? f.tdoa_s : null;
 }
 
 function renderEventList() {
+  if (state.events.length === 0) {
+    const li = document.createElement('li');
+    li.className = 'muted';
+    li.textContent = 'none yet';
+    el.events.replaceChildren(li);
+    return;
+  }
   const items = state.events.slice(0, EVENTS_SHOWN).map((e) => {
     const li = document.createElement('li');
     if (e.type === 'gap') {
@@ -131,7 +221,22 @@ function onHello(msg) {
   state.settings = msg.settings ?? {};
   state.trails.clear();
   state.peaks = [];
+  state.history.length = 0;
+  state.tracks.clear();
+  state.events.length = 0;
+  state.nowS = null;
+  state.maps = null;
+  renderEventList();
   const g = state.geometry;
+  // A 3-D array (mics at different heights) resolves elevation: show it.
+  const zs = g && Array.isArray(g.mics) ? g.mics.map((m) => m.position_m[2]) : [];
+  state.threeD = zs.length > 0 && Math.max(...zs) - Math.min(...zs) > 0.005;
+  el.elevationCell.hidden = !state.threeD;
+  el.readout.dataset.threeD = String(state.threeD);
+  const pairs = [];
+  const n = g && Array.isArray(g.mics) ? g.mics.length : 0;
+  for (let a = 0; a < n; a++) for (let b = a + 1; b < n; b++) pairs.push(`${g.mics[a].channel}–${g.mics[b].channel}`);
+  el.lagPair.replaceChildren(...pairs.map((label, i) => Object.assign(document.createElement('option'), { value: String(i), textContent: label })));
   const bits = [];
   if (g) bits.push(`${g.name} · ${g.mics.length} mics`);
   if (typeof state.settings.station === 'string') bits.unshift(state.settings.station);
@@ -152,6 +257,8 @@ function onMessage(text) {
   const now = performance.now();
   switch (msg.type) {
     case 'hello': return onHello(msg);
+    case 'catch_up': return onCatchUp(msg, now);
+    case 'maps': return onMaps(msg, now);
     case 'frame': return onFrame(msg, now);
     case 'event':
     case 'gap': return onEventLike(msg, now);
@@ -187,6 +294,8 @@ function connect() {
     counts.connects++;
     retryMs = RETRY_FIRST_MS;
     setLink('live', 'live');
+    // Ask for the delay map too: the feed sends it only to viewers that ask.
+    ws.send(JSON.stringify({ type: 'subscribe', frames: true, maps: true }));
   };
   ws.onmessage = (ev) => onMessage(ev.data);
   ws.onclose = (ev) => {
@@ -240,11 +349,14 @@ function drawDial(now) {
   ctx.fill();
   ctx.strokeStyle = line;
   ctx.lineWidth = 1;
-  for (const f of [0.4, 0.7, 1]) {
+  for (const f of [RING_NOW - RING_SINK, RING_NOW - RING_SINK / 2, RING_NOW, 1]) {
     ctx.beginPath();
     ctx.arc(cx, cy, R * f, 0, Math.PI * 2);
     ctx.stroke();
   }
+  // The delay map's evidence, in the band inside the rim (fades when no map has come lately).
+  const mapAge = (now - state.mapsAt) / 1000;
+  if (state.maps && mapAge < 2) drawEvidenceRing(ctx, cx, cy, R * 0.895, R * 0.975, ringValues(state.maps), mapAge < 0.5 ? 1 : 0.4);
   for (let a = -170; a <= 180; a += 10) {
     const major = a % 30 === 0;
     const [x0, y0] = polar(a, R);
@@ -282,6 +394,7 @@ function drawDial(now) {
   }
 
   drawArray(ctx, cx, cy, R * 0.26, labelSize);
+  drawRingLabels(ctx, cx, cy, R, labelSize, muted);
 
   // Event flashes: an arc over the event's spread on the rim, fading out.
   for (const e of state.events) {
@@ -311,7 +424,7 @@ function drawDial(now) {
     ctx.fillStyle = colour;
     for (const p of trail) {
       const age = (now - p.at) / (TRAIL_S * 1000);
-      const [x, y] = polar(p.az, R * (0.86 - 0.32 * age));
+      const [x, y] = polar(p.az, R * (RING_NOW - RING_SINK * age));
       ctx.globalAlpha = (1 - age) * 0.45;
       ctx.beginPath();
       ctx.arc(cx + x, cy + y, 2 + 3 * p.score * (1 - age), 0, Math.PI * 2);
@@ -328,7 +441,7 @@ function drawDial(now) {
     const colour = trackColour(d.track);
     const alpha = (0.35 + 0.65 * d.score) * (fresh ? 1 : 0.3);
     const [xi, yi] = polar(d.az, R * 0.3);
-    const [xo, yo] = polar(d.az, R * 0.86);
+    const [xo, yo] = polar(d.az, R * RING_NOW);
     ctx.globalAlpha = alpha * 0.7;
     ctx.strokeStyle = colour;
     ctx.lineWidth = 2 + 3 * d.score;
@@ -344,7 +457,7 @@ function drawDial(now) {
     const axis = mirrorAxis(f);
     if (axis !== null) {
       // The mirror image a pair or line cannot tell apart (across its axis): a hollow bead.
-      const [xm, ym] = polar(2 * axis - d.az, R * 0.86);
+      const [xm, ym] = polar(2 * axis - d.az, R * RING_NOW);
       ctx.globalAlpha = alpha * 0.6;
       ctx.lineWidth = 2;
       ctx.setLineDash([4, 4]);
@@ -355,6 +468,32 @@ function drawDial(now) {
     }
   }
   ctx.globalAlpha = 1;
+}
+
+/** What the rings mean, written along the line to the back of the dial (lower right of it). */
+function drawRingLabels(ctx, cx, cy, R, labelSize, muted) {
+  const size = Math.max(11, Math.round(labelSize * 0.72));
+  ctx.font = `${size}px system-ui, sans-serif`;
+  ctx.textAlign = 'left';
+  ctx.textBaseline = 'middle';
+  // Time rings just right of the line to the back; the rim's bands just left of it.
+  const labels = [
+    [RING_NOW, 'now', 168, 'left'],
+    [RING_NOW - RING_SINK / 2, `${TRAIL_S / 2} s ago`, 168, 'left'],
+    [RING_NOW - RING_SINK, `${TRAIL_S} s ago`, 168, 'left'],
+    [1, 'calls', -172, 'right'],
+    [0.935, 'evidence', -157, 'right'],
+  ];
+  for (const [f, text, az, side] of labels) {
+    const [x, y] = polar(az, R * f);
+    const w = ctx.measureText(text).width;
+    const x0 = side === 'left' ? cx + x + 3 : cx + x - w - 7;
+    ctx.fillStyle = 'rgba(11,20,17,0.75)';
+    ctx.fillRect(x0, cy + y - size * 0.6, w + 4, size * 1.2);
+    ctx.fillStyle = muted;
+    ctx.textAlign = 'left';
+    ctx.fillText(text, x0 + 2, cy + y);
+  }
 }
 
 /** The mics seen from above (x right, y front = up), scaled into a circle of radius r. */
@@ -450,7 +589,7 @@ function drawBands() {
   votes.forEach((v, i) => {
     const frac = maxW > 0 ? (Number(v.weight) || 0) / maxW : 0;
     const agrees = typeof consensus === 'number' && typeof v.tdoa_s === 'number' && Math.abs(v.tdoa_s - consensus) <= 25e-6;
-    ctx.fillStyle = v.tdoa_s === null ? '#3a4f46' : agrees ? '#f2b134' : '#5aa9e6';
+    ctx.fillStyle = v.tdoa_s === null ? VOTE_NONE : agrees ? VOTE_AGREES : VOTE_OTHER;
     const bh = Math.max(1, plotH * frac);
     ctx.fillRect(i * (bw + gap), top + plotH - bh, bw, bh);
   });
@@ -462,7 +601,50 @@ function drawBands() {
   ctx.textAlign = 'right';
   ctx.fillText(kHz(votes[votes.length - 1].hi_hz), w, h);
   ctx.textAlign = 'center';
-  ctx.fillText('amber: agrees with the hop', w / 2, h);
+  ctx.fillText('amber: agrees · grey: other delay', w / 2, h);
+}
+
+/** Stream time now: the newest record's, run on by the wall clock while frames flow. */
+function streamNow(now) {
+  if (state.nowS === null) return null;
+  const fresh = state.frame && (now - state.frameAt) / 1000 < STALE_S;
+  return state.nowS + (fresh ? Math.min(STALE_S, (now - state.nowAt) / 1000) : 0);
+}
+
+function drawStrip(now) {
+  const [ctx, w, h] = fit(el.history);
+  const nowS = streamNow(now);
+  const heading = state.geometry && typeof state.geometry.heading_deg === 'number' ? state.geometry.heading_deg : null;
+  const fresh = state.frame && (now - state.frameAt) / 1000 < STALE_S;
+  counts.historyDots = drawHistory(ctx, w, h, {
+    history: state.history,
+    nowS: nowS ?? 0,
+    spanS: Number(el.historySpan.value) || 120,
+    heading,
+    live: fresh ? directionsOf(state.frame) : [],
+  });
+  if (nowS !== null && now - state.legendAt > LEGEND_EVERY_MS) {
+    state.legendAt = now;
+    renderLegend(el.legend, state.tracks, { heading, elevation: state.threeD, nowS });
+  }
+}
+
+function drawLag() {
+  const [ctx, w, h] = fit(el.lagPlot);
+  const p = Number(el.lagPair.value) || 0;
+  const pairMap = state.maps && Array.isArray(state.maps.delay_map) ? state.maps.delay_map[p] : null;
+  // The chosen delay of the same hop as the map (the frame with the map's time), else none.
+  const chosen = state.mapTdoa ? state.mapTdoa[p] : null;
+  window.bearlineViewer.lagPeakS = drawLagPlot(ctx, w, h, pairMap, chosen);
+  window.bearlineViewer.mapTimeS = state.maps ? state.maps.time_s : null;
+  // Arrays that span height: the evidence over azimuth and elevation too.
+  const rows = state.maps && state.maps.direction_map ? state.maps.direction_map.elevation_deg.length : 0;
+  el.elevWrap.hidden = !(state.threeD && rows > 1);
+  if (!el.elevWrap.hidden) {
+    const [ectx, ew, eh] = fit(el.elevMap);
+    const fresh = state.frame && (performance.now() - state.frameAt) / 1000 < STALE_S;
+    counts.elevationCells = drawElevationMap(ectx, ew, eh, state.maps, fresh ? directionsOf(state.frame) : [], trackColour);
+  }
 }
 
 function draw(now) {
@@ -471,10 +653,14 @@ function draw(now) {
   const stale = !state.frame || (now - state.frameAt) / 1000 >= STALE_S;
   if (document.body.dataset.stale !== String(stale)) document.body.dataset.stale = String(stale);
   drawDial(now);
+  drawStrip(now);
+  drawLag();
   drawLevels();
   drawBands();
   requestAnimationFrame(draw);
 }
+
+el.historySpan.addEventListener('change', () => (state.legendAt = 0));
 
 connect();
 requestAnimationFrame(draw);

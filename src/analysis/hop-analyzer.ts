@@ -143,6 +143,8 @@ export class HopAnalyzer {
   /** Compute per-pair diagnostics (costs one pass over the bins per pair per hop). */
   diagnostics = false;
   private hopIndex = 0;
+  /** Whether the last hop computed its pair correlations (a silent hop does not). */
+  private lastHopCorrelated = false;
 
   constructor(
     readonly channels: number,
@@ -225,6 +227,15 @@ export class HopAnalyzer {
     };
   }
 
+  /**
+   * The pair correlations of the last hop (in model.pairs order), for pictures of the evidence
+   * (direction/evidence-map.ts); null when the hop was silent and computed none. Read right
+   * after process(): the next hop overwrites them. Costs nothing unless called.
+   */
+  lastCorrelations(): readonly PairCorrelator[] | null {
+    return this.lastHopCorrelated ? this.correlators : null;
+  }
+
   /** Analyse one hop. `frames[c]` holds the frame's raw samples of channel c (length = frame). */
   process(frames: readonly Float64Array[]): HopResult {
     const n = this.frame;
@@ -289,6 +300,7 @@ export class HopAnalyzer {
     const pairs = this.model.pairs;
     const P = pairs.length;
     const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs;
+    this.lastHopCorrelated = !silent;
     for (let p = 0; p < P; p++) {
       const [a, b] = pairs[p]!;
       const pc = this.correlators[p]!;

@@ -5,6 +5,7 @@
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import type { GeometryJson } from '../geometry/geometry-file.js';
 import type { BenchFit } from './array-fit.js';
+import { pairResiduals, residualsUs, type PairResidual } from './tdoa-plot.js';
 import { overallStatus, type CheckItem } from './verdict.js';
 
 export interface BenchContext {
@@ -40,6 +41,8 @@ export interface BenchResultJson {
   residual_deg_rms: number | null;
   residual_before_deg_rms: number | null;
   tdoa_residual_rms_s: number;
+  /** Per pair, measured minus expected (file geometry) tdoa over the takes, microseconds: the residual plot's rows. */
+  pair_residuals: PairResidual[];
   takes: {
     label: string;
     azimuth_deg: number;
@@ -47,6 +50,8 @@ export interface BenchResultJson {
     expected_tdoa_s: number[];
     measured_tdoa_s: (number | null)[];
     fitted_tdoa_s: number[];
+    /** Measured minus expected tdoa per pair, microseconds (null where not measured). */
+    residual_tdoa_us: (number | null)[];
     error_before_deg: number | null;
     error_deg: number | null;
     segments_used: number;
@@ -59,6 +64,9 @@ export interface BenchResultJson {
 const finiteOrNull = (x: number): number | null => (Number.isFinite(x) ? x : null);
 
 export function resultJson(fit: BenchFit, items: readonly CheckItem[], ctx: BenchContext): BenchResultJson {
+  // residualsUs is per pair, then take; the takes list wants per take, then pair.
+  const byPair = residualsUs(fit);
+  const residuals = fit.takes.map((_, t) => byPair.map((row) => row[t]!));
   return {
     array: ctx.geometry.name,
     channels: fit.channels,
@@ -83,13 +91,15 @@ export function resultJson(fit: BenchFit, items: readonly CheckItem[], ctx: Benc
     residual_deg_rms: finiteOrNull(round(fit.residualDegRms, 6)),
     residual_before_deg_rms: finiteOrNull(round(fit.residualBeforeDegRms, 6)),
     tdoa_residual_rms_s: round(fit.residualRmsS, 4),
-    takes: fit.takes.map((t) => ({
+    pair_residuals: pairResiduals(fit),
+    takes: fit.takes.map((t, ti) => ({
       label: t.label,
       azimuth_deg: t.azimuthDeg,
       elevation_deg: t.elevationDeg,
       expected_tdoa_s: t.expectedS.map(r9),
       measured_tdoa_s: t.measuredS.map((x) => finiteOrNull(r9(x))),
       fitted_tdoa_s: t.fittedS.map(r9),
+      residual_tdoa_us: residuals[ti]!.map((us) => finiteOrNull(Math.round(us * 1000) / 1000)),
       error_before_deg: finiteOrNull(round(t.errorBeforeDeg, 6)),
       error_deg: finiteOrNull(round(t.errorAfterDeg, 6)),
       segments_used: t.segmentsUsed,

@@ -173,6 +173,7 @@ async function runDemo(cmd: Command): Promise<void> {
         ...(feed ? [feed] : []),
       ]),
       onSetup: () => ({ realTime: !flags.fast, stopped: () => stopped }),
+      evidenceTo: feed,
     });
     const doneS = (result.hops * result.setup.options.hop) / result.sampleRate;
     if (stopped) process.stdout.write(`stopped at ${clock(doneS)} of ${clock(scene.durationS)}\n`);

@@ -7,6 +7,7 @@ import { registerAccuracy } from './accuracy.js';
 import { registerDemo } from './demo.js';
 import { registerListen } from './listen.js';
 import { registerLocate } from './locate.js';
+import { registerReport } from './report.js';
 import { registerScan } from './scan.js';
 import { registerSimulate } from './simulate.js';
 
@@ -28,6 +29,7 @@ program
 registerScan(program);
 registerListen(program);
 registerLocate(program);
+registerReport(program);
 registerSimulate(program);
 registerCheckArray(program);
 registerStimulus(program);

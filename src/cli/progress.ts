@@ -49,3 +49,29 @@ export function createProgress(label: string, total: number | null, rate: number
     },
   };
 }
+
+/** A progress bar over bytes read (files whose length is known), on stderr when it is a terminal. */
+export function createByteProgress(label: string, totalBytes: number, stream: NodeJS.WriteStream = process.stderr): Progress {
+  if (!stream.isTTY || totalBytes <= 0) return NONE;
+  let last = 0;
+  let lastDone = 0;
+  const draw = (done: number, final: boolean): void => {
+    const now = Date.now();
+    if (!final && now - last < 100) return;
+    last = now;
+    const f = Math.min(1, done / totalBytes);
+    const width = Math.max(10, Math.min(40, (stream.columns ?? 80) - 40));
+    const filled = Math.round(f * width);
+    stream.write(`\r${label} [${'#'.repeat(filled)}${'-'.repeat(width - filled)}] ${(f * 100).toFixed(0).padStart(3)}%\x1b[K`);
+    if (final) stream.write('\n');
+  };
+  return {
+    update(done) {
+      lastDone = done;
+      draw(done, false);
+    },
+    finish() {
+      draw(lastDone, true);
+    },
+  };
+}

@@ -10,6 +10,9 @@ import { replaySource, type ReplayControls } from '../sources/replay-source.js';
 import { openWavSource } from '../sources/wav-source.js';
 import { createAnalysis, runAnalysis, type AnalysisSetup } from '../analysis/analysis.js';
 import type { RecordSink } from '../sinks/record-sink.js';
+import type { HopResult } from '../analysis/hop-analyzer.js';
+import { evidenceTap } from '../feed/evidence-tap.js';
+import type { FeedServer } from '../feed/feed-server.js';
 import { TrackingSession } from '../track/tracking-session.js';
 import type { AnalysisOptions } from '../analysis/analysis-options.js';
 import type { TrackerOptions } from '../track/options.js';
@@ -28,6 +31,8 @@ export interface RecordingAnalysis {
   readonly onSetup?: (setup: AnalysisSetup) => ReplayControls;
   /** Show a progress bar on a terminal. */
   readonly progress?: boolean;
+  /** A live feed that gets the evidence maps of the hops when a viewer asks (feed/evidence-tap.ts). */
+  readonly evidenceTo?: FeedServer | null;
 }
 
 export interface RecordingResult {
@@ -49,7 +54,13 @@ export async function analyseRecording(job: RecordingAnalysis): Promise<Recordin
     const progress = job.progress ? createProgress(`scanning ${job.wav}`, totalFrames, sampleRate) : null;
     let hops: number;
     try {
-      hops = await runAnalysis(replaySource(source, controls), setup.analyzer, { onHop: (r) => session.hop(r), onProgress: (done) => progress?.update(done) });
+      const tap = job.evidenceTo ? evidenceTap(job.evidenceTo, setup) : null;
+      const onHop = (r: HopResult): ReturnType<TrackingSession['hop']> => {
+        const out = session.hop(r);
+        tap?.(r.timeS);
+        return out;
+      };
+      hops = await runAnalysis(replaySource(source, controls), setup.analyzer, { onHop, onProgress: (done) => progress?.update(done) });
       await session.finish();
     } finally {
       progress?.finish();

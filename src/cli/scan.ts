@@ -2,6 +2,7 @@ import { existsSync } from 'node:fs';
 import type { Command } from 'commander';
 import { UsageError } from '../util/errors.js';
 import { feedOptionSpecs, type FeedOptions } from '../feed/feed-options.js';
+import { evidenceTap } from '../feed/evidence-tap.js';
 import { startFeedServer, type FeedServer } from '../feed/feed-server.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import { checkGeometryForStream } from '../geometry/geometry-file.js';
@@ -129,7 +130,15 @@ async function scan(file: string | undefined, cmd: Command): Promise<void> {
       const progress = createProgress(`scanning ${file ?? 'stdin'}`, totalFrames, sampleRate);
       let hops: number;
       try {
-        hops = await runAnalysis(source, setup.analyzer, { onHop: (r, time) => session.hop(r, time), onProgress: (done) => progress.update(done) });
+        const tap = feed ? evidenceTap(feed, setup) : null;
+        hops = await runAnalysis(source, setup.analyzer, {
+          onHop: (r, time) => {
+            const out = session.hop(r, time);
+            tap?.(time.timeS);
+            return out;
+          },
+          onProgress: (done) => progress.update(done),
+        });
         await session.finish();
       } finally {
         progress.finish();

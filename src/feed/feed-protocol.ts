@@ -1,11 +1,15 @@
 /**
  * The messages of the WebSocket feed (protocol 1). Every message is one JSON text with a
- * `type` field. Server to viewer: hello (first, once), frame, event, gap, status, pong.
- * Viewer to server: ping, subscribe. Pure: builds and reads messages, no I/O.
+ * `type` field. Server to viewer: hello (first, once), catch_up (right after hello when
+ * anything has happened: recent-history.ts), frame, maps (to viewers that subscribe to them),
+ * event, gap, status, pong. Viewer to server: ping, subscribe ({"frames": bool, "maps": bool}).
+ * Pure: builds and reads messages, no I/O.
  */
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import type { GapRecord } from '../records/gap-record.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
+import type { EvidenceMaps } from '../direction/evidence-map.js';
+import type { CatchUpMessage } from './recent-history.js';
 
 export const FEED_PROTOCOL = 1;
 
@@ -36,14 +40,25 @@ export interface StatusMessage {
 
 export type ServerMessage =
   | HelloMessage
+  | CatchUpMessage
+  | MapsMessage
   | ({ type: 'frame' } & FrameRecord)
   | ({ type: 'event' } & EventRecord)
   | ({ type: 'gap' } & GapRecord)
   | StatusMessage
   | { type: 'pong'; id: string | number | null };
 
+/**
+ * The evidence of one hop (direction/evidence-map.ts), at most a few per second and only to
+ * viewers that subscribe with "maps": true. time_s is the hop's, as in its frame record.
+ */
+export interface MapsMessage extends EvidenceMaps {
+  type: 'maps';
+  time_s: number;
+}
+
 /** What a viewer may send. Anything else is ignored (and reported through the server's log callback). */
-export type ClientMessage = { type: 'ping'; id: string | number | null } | { type: 'subscribe'; frames: boolean };
+export type ClientMessage = { type: 'ping'; id: string | number | null } | { type: 'subscribe'; frames: boolean; maps?: boolean };
 
 /** The hello message for an array geometry and the analysis settings. */
 export function helloFromGeometry(geometry: ArrayGeometry, settings: FeedSettings = {}): HelloMessage {
@@ -57,6 +72,10 @@ export function helloFromGeometry(geometry: ArrayGeometry, settings: FeedSetting
 
 export function frameMessage(rec: FrameRecord): string {
   return JSON.stringify({ type: 'frame', ...rec });
+}
+
+export function mapsMessage(timeS: number, maps: EvidenceMaps): string {
+  return JSON.stringify({ type: 'maps', time_s: timeS, ...maps });
 }
 
 export function eventMessage(rec: EventRecord): string {
@@ -84,7 +103,8 @@ export function parseClientMessage(text: string): ClientMessage | { problem: str
   }
   if (obj.type === 'subscribe') {
     if (typeof obj.frames !== 'boolean') return { problem: 'subscribe needs "frames": true or false' };
-    return { type: 'subscribe', frames: obj.frames };
+    if (obj.maps !== undefined && typeof obj.maps !== 'boolean') return { problem: 'subscribe: "maps" must be true or false' };
+    return obj.maps === undefined ? { type: 'subscribe', frames: obj.frames } : { type: 'subscribe', frames: obj.frames, maps: obj.maps };
   }
   return { problem: `unknown type ${JSON.stringify(obj.type ?? null).slice(0, 40)}` };
 }

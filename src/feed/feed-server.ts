@@ -2,7 +2,8 @@
  * The live feed: an HTTP server for the browser viewer (web-viewer/ at `/`) and a WebSocket
  * feed at `/feed` (messages of feed-protocol.ts). An I/O edge and a record sink: the analysis
  * hands it frames, events and gaps and it returns at once; each viewer has its own queue
- * (viewer-hub.ts), so a slow or stuck viewer only loses its own oldest frames.
+ * (viewer-hub.ts), so a slow or stuck viewer only loses its own oldest frames. A viewer that
+ * joins late gets the recent events and the tracks (recent-history.ts) right after hello.
  */
 import { createHash, timingSafeEqual } from 'node:crypto';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
@@ -10,13 +11,15 @@ import type { AddressInfo, Socket } from 'node:net';
 import type { Duplex } from 'node:stream';
 import { WebSocketServer } from 'ws';
 import { RuntimeFailure, UsageError } from '../util/errors.js';
+import type { EvidenceMaps } from '../direction/evidence-map.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import type { GapRecord } from '../records/gap-record.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import type { RecordSink } from '../sinks/record-sink.js';
 import { feedFlagName, isLoopbackHost, resolveFeedOptions, type FeedOptions } from './feed-options.js';
-import { eventMessage, frameMessage, gapMessage, helloFromGeometry, type FeedSettings } from './feed-protocol.js';
+import { eventMessage, frameMessage, gapMessage, helloFromGeometry, mapsMessage, type FeedSettings } from './feed-protocol.js';
 import { contentTypeOf, DEFAULT_WEB_ROOT, listStaticFiles, lookUpStaticPath, readStaticFile } from './static-files.js';
+import { RecentHistory } from './recent-history.js';
 import { ViewerHub, type FeedClientStats } from './viewer-hub.js';
 
 export { SOCKET_HIGH_WATER_BYTES, MAX_KEPT_WAITING, type FeedClientStats } from './viewer-hub.js';
@@ -25,6 +28,8 @@ export { SOCKET_HIGH_WATER_BYTES, MAX_KEPT_WAITING, type FeedClientStats } from 
 export const FEED_PATH = '/feed';
 /** Largest message a viewer may send (bytes); a bigger one closes that viewer (1009). */
 export const MAX_CLIENT_MESSAGE_BYTES = 4096;
+/** Evidence maps go out at most this often (seconds of stream time): 10 a second is plenty for the eye. */
+export const MAP_INTERVAL_S = 0.1;
 /** How often a viewer that lost frames is told so (ms). */
 const STATUS_INTERVAL_MS = 1000;
 
@@ -46,6 +51,8 @@ export interface FeedStats {
   framesIn: number;
   eventsIn: number;
   gapsIn: number;
+  /** Evidence maps sent (each to every viewer that asked). */
+  mapsOut: number;
   /** Frames dropped over all viewers since the start. */
   framesDropped: number;
   refused: number;
@@ -62,6 +69,13 @@ export interface FeedServer extends RecordSink {
   frame(rec: FrameRecord): void;
   event(rec: EventRecord): void;
   gap(rec: GapRecord): void;
+  /**
+   * Whether a map of the hop at `timeS` is wanted: a viewer asked for maps and the last map
+   * went out at least MAP_INTERVAL_S of stream time before (evidence-tap.ts asks every hop).
+   */
+  wantsMapAt(timeS: number): boolean;
+  /** The evidence of the hop at `timeS` (its frame record's time_s) to the viewers that asked. */
+  maps(timeS: number, maps: EvidenceMaps): void;
   close(): Promise<void>;
   stats(): FeedStats;
 }
@@ -186,7 +200,11 @@ export async function startFeedServer(setup: FeedServerSetup): Promise<FeedServe
   });
   const expectedToken = opts.token === null ? null : digest(opts.token);
   const allowed = (url: URL): boolean => expectedToken === null || tokenMatches(url.searchParams.get('token'), expectedToken);
-  const hub = new ViewerHub(opts, JSON.stringify(helloFromGeometry(setup.geometry, setup.settings ?? {})), log);
+  const history = new RecentHistory(setup.geometry.headingDeg);
+  const hub = new ViewerHub(opts, JSON.stringify(helloFromGeometry(setup.geometry, setup.settings ?? {})), log, () => {
+    const recent = history.catchUp();
+    return recent === null ? null : JSON.stringify(recent);
+  });
   const server = feedHttpServer(files, webRoot, allowed, hub, log);
   const port = await listen(server, opts);
   if (!isLoopbackHost(opts.host)) {
@@ -202,7 +220,8 @@ export async function startFeedServer(setup: FeedServerSetup): Promise<FeedServe
 
   const query = opts.token === null ? '' : `?token=${encodeURIComponent(opts.token)}`;
   const base = `${urlHost(opts.host)}:${port}`;
-  const totals = { framesIn: 0, eventsIn: 0, gapsIn: 0 };
+  const totals = { framesIn: 0, eventsIn: 0, gapsIn: 0, mapsOut: 0 };
+  let lastMapS = -Infinity;
   let closed = false;
 
   return {
@@ -213,15 +232,26 @@ export async function startFeedServer(setup: FeedServerSetup): Promise<FeedServe
     port,
     frame(rec) {
       totals.framesIn++;
+      history.frame(rec);
       if (hub.count > 0) hub.broadcast('frame', frameMessage(rec));
     },
     event(rec) {
       totals.eventsIn++;
+      history.event(rec);
       if (hub.count > 0) hub.broadcast('keep', eventMessage(rec));
     },
     gap(rec) {
       totals.gapsIn++;
+      history.gap(rec);
       if (hub.count > 0) hub.broadcast('keep', gapMessage(rec));
+    },
+    wantsMapAt(timeS) {
+      return hub.count > 0 && (timeS - lastMapS >= MAP_INTERVAL_S || timeS < lastMapS) && hub.wantsMaps;
+    },
+    maps(timeS, maps) {
+      lastMapS = timeS;
+      totals.mapsOut++;
+      hub.broadcastMaps(mapsMessage(timeS, maps));
     },
     stats() {
       return { clients: hub.count, ...totals, framesDropped: hub.framesDropped, refused: hub.refused, perClient: hub.stats() };

@@ -22,6 +22,8 @@ export interface FeedClientStats {
   remote: string;
   /** False after the viewer subscribed with frames: false. */
   frames: boolean;
+  /** True after the viewer subscribed with maps: true. */
+  maps: boolean;
   framesWaiting: number;
   keptWaiting: number;
   /** Characters waiting in the queue (the memory a slow viewer costs, besides the socket). */
@@ -38,6 +40,7 @@ interface Client {
   readonly remote: string;
   readonly queue: OutboundQueue;
   frames: boolean;
+  maps: boolean;
   alive: boolean;
   reportedDrops: number;
   notes: number;
@@ -58,6 +61,8 @@ export class ViewerHub {
     /** The hello message every viewer gets first. */
     private readonly hello: string,
     private readonly log: (line: string) => void,
+    /** What a viewer gets right after hello (the recent events and tracks), or null for nothing. */
+    private readonly catchUp: () => string | null = () => null,
   ) {}
 
   get count(): number {
@@ -80,6 +85,7 @@ export class ViewerHub {
       remote,
       queue: new OutboundQueue(this.options.queueBound),
       frames: true,
+      maps: false,
       alive: true,
       reportedDrops: 0,
       notes: 0,
@@ -100,11 +106,24 @@ export class ViewerHub {
       this.log(`viewer ${c.id} left (${code})`);
     });
     this.enqueue(c, 'keep', this.hello);
+    const recent = this.catchUp();
+    if (recent !== null) this.enqueue(c, 'keep', recent);
   }
 
   /** A message for every viewer (frames only for those that subscribe to them). */
   broadcast(kind: MessageKind, text: string): void {
     for (const c of this.clients.values()) if (kind !== 'frame' || c.frames) this.enqueue(c, kind, text);
+  }
+
+  /** Whether any viewer asked for the evidence maps. */
+  get wantsMaps(): boolean {
+    for (const c of this.clients.values()) if (c.maps) return true;
+    return false;
+  }
+
+  /** An evidence map to the viewers that asked for them (dropped like frames for a slow viewer). */
+  broadcastMaps(text: string): void {
+    for (const c of this.clients.values()) if (c.maps) this.enqueue(c, 'frame', text);
   }
 
   /** Cut off the viewers that did not answer the last ping; ping the others. */
@@ -134,6 +153,7 @@ export class ViewerHub {
       id: c.id,
       remote: c.remote,
       frames: c.frames,
+      maps: c.maps,
       framesWaiting: c.queue.framesWaiting,
       keptWaiting: c.queue.keptWaiting,
       queuedChars: c.queue.chars,
@@ -194,6 +214,9 @@ export class ViewerHub {
     const msg = parseClientMessage(data.toString());
     if ('problem' in msg) return this.note(c, `message ignored (${msg.problem})`);
     if (msg.type === 'ping') this.enqueue(c, 'keep', JSON.stringify({ type: 'pong', id: msg.id }));
-    else c.frames = msg.frames;
+    else {
+      c.frames = msg.frames;
+      if (msg.maps !== undefined) c.maps = msg.maps;
+    }
   }
 }

@@ -7,6 +7,7 @@
 import { runAnalysis, warmUp, type AnalysisSetup } from '../analysis/analysis.js';
 import type { FeedOptions } from '../feed/feed-options.js';
 import type { FeedSettings } from '../feed/feed-protocol.js';
+import { evidenceTap } from '../feed/evidence-tap.js';
 import { startFeedServer } from '../feed/feed-server.js';
 import { frameColumns } from '../records/frame-columns.js';
 import { gapRecord } from '../records/gap-record.js';
@@ -163,8 +164,16 @@ export async function runLive(plan: LivePlan): Promise<void> {
   };
   const running = session;
   let stopping = false;
+  const tap = sinks.feed ? evidenceTap(sinks.feed, setup) : null;
   const loopDone = (async () => {
-    await runAnalysis(source, setup.analyzer, { onHop: (r, time) => running.hop(r, time), onGap });
+    await runAnalysis(source, setup.analyzer, {
+      onHop: (r, time) => {
+        const out = running.hop(r, time);
+        tap?.(time.timeS);
+        return out;
+      },
+      onGap,
+    });
     await running.finish();
   })().then(
     () => null,

@@ -32,3 +32,28 @@ export function csvFieldCount(line: string): number {
   }
   return quoted ? -1 : n;
 }
+
+/** The fields of one CSV line (RFC 4180 quoting); null for a line that ends inside a quote. */
+export function csvSplit(line: string): string[] | null {
+  if (!line.includes('"')) return line.split(',');
+  const out: string[] = [];
+  let cell = '';
+  let quoted = false;
+  for (let i = 0; i < line.length; i++) {
+    const ch = line[i];
+    if (quoted) {
+      if (ch === '"' && line[i + 1] === '"') {
+        cell += '"';
+        i++;
+      } else if (ch === '"') quoted = false;
+      else cell += ch;
+    } else if (ch === '"') quoted = true;
+    else if (ch === ',') {
+      out.push(cell);
+      cell = '';
+    } else cell += ch;
+  }
+  if (quoted) return null;
+  out.push(cell);
+  return out;
+}

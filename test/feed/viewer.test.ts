@@ -96,8 +96,11 @@ describe('browser viewer in headless Chromium', () => {
       await page.goto(fake.server.url);
       await page.waitForSelector('#link-state[data-state="live"]');
       await second.goto(fake.server.url);
-      await second.waitForFunction(() => /feed full/.test(document.getElementById('link-state')?.textContent ?? ''));
-      expect(await second.getAttribute('#link-state', 'data-state')).toBe('lost');
+      // Read text and state together: the page retries (state 'connecting') half a second later.
+      await second.waitForFunction(() => {
+        const link = document.getElementById('link-state');
+        return /feed full/.test(link?.textContent ?? '') && link?.dataset.state === 'lost';
+      });
       expect(fake.server.stats().clients).toBe(1);
     } finally {
       await second.close();

@@ -11,6 +11,7 @@ import type { ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { micPairs } from '../../src/geometry/array-geometry.js';
 import { dot, sub, unitFromAzEl, wrapDeg } from '../../src/geometry/vec3.js';
 import { startFeedServer, type FeedServer, type FeedServerSetup } from '../../src/feed/feed-server.js';
+import { EvidenceMapper, type LagCorrelation } from '../../src/direction/evidence-map.js';
 import type { BandVote, EventRecord, FrameRecord } from '../../src/records/record-types.js';
 
 export const FAKE_SPEED_OF_SOUND = 343;
@@ -119,6 +120,25 @@ export function fakeEvents(scene: FakeScene, i: number): EventRecord[] {
   return out;
 }
 
+const FAKE_RATE_HZ = 48000;
+
+/**
+ * The fake's evidence for frame i: per pair a correlation with a peak at the chorus' delay
+ * (height 1) and, with the bird, a lower one at the bird's (0.6), 1.5 samples wide, on a
+ * little ripple. Invented shapes for the viewer's pictures, not a model of GCC-PHAT.
+ */
+export function fakeCorrelations(scene: FakeScene, i: number): LagCorrelation[] {
+  const t = i * scene.hopS;
+  const chorus = pairDelays(scene.geometry, scene.chorusAzimuthDeg);
+  const bird = scene.passingBird ? pairDelays(scene.geometry, birdAzimuth(t)) : null;
+  return chorus.map((c, p) => ({
+    at(lag: number): number {
+      const g = (d: number, h: number): number => h * Math.exp(-0.5 * ((lag - d * FAKE_RATE_HZ) / 1.5) ** 2);
+      return g(chorus[p]!, 1) + (bird ? g(bird[p]!, 0.6) : 0) + 0.05 * Math.sin(lag * 1.3 + i * 0.2 + p) - 0.05;
+    },
+  }));
+}
+
 export interface FeedFake {
   readonly server: FeedServer;
   /** Frames and events pushed so far. */
@@ -144,12 +164,17 @@ export async function startFeedFake(setup: FeedFakeSetup = {}): Promise<FeedFake
     geometry: scene.geometry,
   });
   const pushed = { frames: 0, events: 0 };
+  const pairs = micPairs(scene.geometry);
+  const maxLag = pairs.map(([a, b]) => Math.ceil((Math.hypot(...sub(scene.geometry.mics[a]!.position, scene.geometry.mics[b]!.position)) / FAKE_SPEED_OF_SOUND) * FAKE_RATE_HZ) + 2);
+  const mapper = new EvidenceMapper(scene.geometry, pairs, FAKE_RATE_HZ, FAKE_SPEED_OF_SOUND, maxLag);
   const startedAt = performance.now();
   // Catch up by wall clock so the mean rate holds even when the timer runs late.
   const timer = setInterval(() => {
     const due = Math.floor(((performance.now() - startedAt) / 1000) * rateHz);
     while (pushed.frames < due) {
-      server.frame(fakeFrame(scene, pushed.frames));
+      const frame = fakeFrame(scene, pushed.frames);
+      server.frame(frame);
+      if (server.wantsMapAt(frame.time_s)) server.maps(frame.time_s, mapper.build(fakeCorrelations(scene, pushed.frames)));
       for (const e of fakeEvents(scene, pushed.frames)) {
         server.event(e);
         pushed.events++;

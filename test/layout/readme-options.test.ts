@@ -12,6 +12,7 @@ import { defaultText, usageOf, type OptionSpec } from '../../src/options/option-
 import { mqttOptionSpecs } from '../../src/sinks/mqtt-options.js';
 import { recordLogOptionSpecs } from '../../src/sinks/record-log-options.js';
 import { RECORDER_OPTION_SPECS } from '../../src/sources/recorder-options.js';
+import { reportOptionSpecs } from '../../src/report/report-options.js';
 import { stationOptionSpecs } from '../../src/station/runtime-options.js';
 import { trackerOptionSpecs } from '../../src/track/options.js';
 
@@ -25,6 +26,7 @@ const GROUPS: Record<string, readonly OptionSpec[]> = {
   'station and log': [...stationOptionSpecs, ...recordLogOptionSpecs],
   mqtt: mqttOptionSpecs,
   recorder: RECORDER_OPTION_SPECS,
+  report: reportOptionSpecs,
 };
 
 interface Row {
