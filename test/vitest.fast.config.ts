@@ -4,9 +4,9 @@ import full from './vitest.config.js';
 /**
  * `npm run test:fast`: every test but the heavy ones, for the edit-test loop. Left out: the
  * simulator's scenes (test/sim, test/accuracy), the live runs with stand-in recorders and
- * brokers (test/live, the MQTT sink against mosquitto), and the browser viewer in Chromium.
+ * brokers (test/live, the MQTT sink and live locating against mosquitto), and the browser viewer in Chromium.
  * `npm test` runs them all.
  */
-export const HEAVY = ['test/sim/**', 'test/accuracy/**', 'test/live/**', 'test/io/mqtt-sink.test.ts', 'test/feed/viewer.test.ts'];
+export const HEAVY = ['test/sim/**', 'test/accuracy/**', 'test/live/**', 'test/io/mqtt-sink.test.ts', 'test/fleet/**', 'test/feed/viewer.test.ts'];
 
 export default mergeConfig(full, defineConfig({ test: { exclude: HEAVY } }));
