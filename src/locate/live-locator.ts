@@ -49,6 +49,8 @@ export interface LiveCounts {
   late: number;
   /** Events decided without a partner at another station. */
   unmatched: number;
+  /** Calls matched at two or more stations that gave no fix (poor geometry, behind a station; see --include-unfixed). */
+  unfixed: number;
   /** Events older than --backfill-window when they came, left out. */
   stale: number;
   /** Seeds decided before their time because more than --max-pending events waited. */
@@ -99,7 +101,7 @@ export class LiveLocator {
   private readonly ids: string[];
   /** Decided calls and lone events, by time. */
   private readonly decided: Decided[] = [];
-  private readonly n = { fixes: 0, revised: 0, backfilled: 0, late: 0, unmatched: 0, stale: 0, forced: 0, repeats: 0, lost: 0 };
+  private readonly n = { fixes: 0, revised: 0, backfilled: 0, late: 0, unmatched: 0, unfixed: 0, stale: 0, forced: 0, repeats: 0, lost: 0 };
 
   constructor(
     private readonly placed: PlacedStations,
@@ -201,7 +203,10 @@ export class LiveLocator {
   /** Fix a decided call; a fix to publish, or null when it has none (and --include-unfixed is off). */
   private publish(d: Decided, backfill: boolean): LiveFix | null {
     const call = locateGroup(this.placed, d.events, this.options, this.timeZeroS);
-    if (!call.fix.ok && !this.options.includeUnfixed && d.id === null) return null;
+    if (!call.fix.ok && !this.options.includeUnfixed && d.id === null) {
+      this.n.unfixed++;
+      return null;
+    }
     if (d.id === null) {
       const first = d.events.reduce((a, b) => (b.timeS < a.timeS ? b : a));
       d.id = `${first.station}@${formatUtc(first.timeS)}`;

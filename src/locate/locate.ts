@@ -117,16 +117,21 @@ export function locateGroup(placed: PlacedStations, group: readonly StationEvent
 /** The matching settings of a set of stations: the one place both the file and the live mode get them from. */
 export function matchSettingsFor(placed: PlacedStations, options: LocateOptions): MatchSettings {
   const byId = stationById(placed);
+  // Looked up many times per seed: made once here.
+  const at = new Map(placed.stations.map((st) => [st.id, [st.enu[0], st.enu[1]] as const]));
+  const clock = new Map(placed.stations.map((st) => [st.id, clockUncertainty(st, options)]));
+  const sd = new Map(placed.stations.map((st) => [st.id, (st.bearingSdDeg ?? options.bearingSdDeg) * DEG]));
   return {
     speedOfSound: options.speedOfSound,
     slackS: options.matchSlackS,
     distanceM: (a, b) => stationDistanceM(byId.get(a)!, byId.get(b)!),
-    clockUncertaintyS: (id) => clockUncertainty(byId.get(id)!, options),
-    at: (id) => [byId.get(id)!.enu[0], byId.get(id)!.enu[1]],
+    clockUncertaintyS: (id) => clock.get(id)!,
+    at: (id) => at.get(id)!,
     direction: (ev) => bearingLine(placed, byId.get(ev.station)!, ev, options).dir,
-    bearingSdRad: (id) => (byId.get(id)!.bearingSdDeg ?? options.bearingSdDeg) * DEG,
+    bearingSdRad: (id) => sd.get(id)!,
     onsetSdS: options.onsetSdS,
     minCrossingDeg: options.minCrossingDeg,
+    gateSigma: options.outlierSigma,
   };
 }
 

@@ -10,7 +10,8 @@
  * the group as one source: the point where the bearing lines meet predicts when the call
  * reached the candidate (emission + range / c), and with three or more lines also where the
  * candidate's bearing should point. The best candidate joins, one station at a time; a
- * candidate whose bearing line meets the group's behind a station is not the same call.
+ * candidate whose bearing line meets the group's behind a station, or whose time or bearing
+ * misses the group by more than the gate (the solver's outlier threshold), is not the same call.
  * A group of two or more stations is a call. Pure: events in, groups out.
  *
  * The matcher is incremental (CallMatcher): events are added as they come, and a seed is
@@ -38,6 +39,11 @@ export interface MatchSettings {
   onsetSdS: number;
   /** Lines crossing at less than this (degrees) give no usable meeting point. */
   minCrossingDeg: number;
+  /**
+   * A candidate whose time or bearing misses the group by more than this many sigmas is not
+   * the same call (the solver's outlier threshold); Infinity = no gate.
+   */
+  gateSigma: number;
 }
 
 export interface MatchResult {
@@ -71,7 +77,8 @@ function meetingPoint(group: readonly StationEvent[], s: MatchSettings): [number
 
 /**
  * How badly a candidate disagrees with the group as one source (a sum of squared sigmas),
- * or null when it cannot be the same call (the lines would meet behind a station).
+ * or null when it cannot be the same call: the lines would meet behind a station, or its
+ * arrival time or its bearing misses by more than the gate.
  */
 export function disagreement(group: readonly StationEvent[], cand: StationEvent, s: MatchSettings, windowS: number): number | null {
   const withCand = [...group, cand];
@@ -93,13 +100,18 @@ export function disagreement(group: readonly StationEvent[], cand: StationEvent,
   // that shifts the predicted arrival by up to that distance over c.
   const geometryM = Math.max(1, ...withCand.map((e) => range(e) * s.bearingSdRad(e.station)));
   const sdT = Math.hypot(s.onsetSdS, s.clockUncertaintyS(cand.station), s.clockUncertaintyS(group[0]!.station), geometryM / s.speedOfSound);
-  let score = ((cand.timeS - (emission + range(cand) / s.speedOfSound)) / sdT) ** 2;
+  const gate = s.gateSigma ** 2;
+  const timeTerm = ((cand.timeS - (emission + range(cand) / s.speedOfSound)) / sdT) ** 2;
+  if (timeTerm > gate) return null;
+  let score = timeTerm;
   if (group.length >= 2) {
     const [ux, uy] = s.direction(cand);
     const [px, py] = s.at(cand.station);
     const miss = uy * (x[0] - px) - ux * (x[1] - py);
     const sdM = Math.max(1, range(cand) * s.bearingSdRad(cand.station));
-    score += (miss / sdM) ** 2;
+    const bearingTerm = (miss / sdM) ** 2;
+    if (bearingTerm > gate) return null;
+    score += bearingTerm;
   }
   return score;
 }
@@ -136,7 +148,9 @@ export class CallMatcher {
   private readonly s: MatchSettings;
   private readonly ids: string[];
   private readonly waiting = new Map<string, StationEvent[]>();
-  private readonly windows = new Map<string, number>();
+  private readonly index = new Map<string, number>();
+  /** window(a, b) by station index: row a, column b. */
+  private readonly windows: Float64Array;
   private widest = 0;
   private count = 0;
   /** Time of the newest seed decided (-Infinity before the first). */
@@ -146,15 +160,20 @@ export class CallMatcher {
   constructor(settings: MatchSettings, stations: readonly string[]) {
     this.s = cachedDirections(settings);
     this.ids = [...stations];
-    for (const id of this.ids) this.waiting.set(id, []);
-    for (const a of this.ids) {
-      for (const b of this.ids) {
-        if (a === b) continue;
+    const n = this.ids.length;
+    this.windows = new Float64Array(n * n);
+    this.ids.forEach((id, i) => {
+      this.waiting.set(id, []);
+      this.index.set(id, i);
+    });
+    this.ids.forEach((a, i) =>
+      this.ids.forEach((b, j) => {
+        if (i === j) return;
         const w = matchWindowS(settings, a, b);
-        this.windows.set(`${a}\u0000${b}`, w);
+        this.windows[i * n + j] = w;
         this.widest = Math.max(this.widest, w);
-      }
-    }
+      }),
+    );
   }
 
   /** Events waiting for a decision. */
@@ -163,7 +182,9 @@ export class CallMatcher {
   }
 
   window(a: string, b: string): number {
-    return this.windows.get(`${a}\u0000${b}`) ?? matchWindowS(this.s, a, b);
+    const i = this.index.get(a);
+    const j = this.index.get(b);
+    return i === undefined || j === undefined ? matchWindowS(this.s, a, b) : this.windows[i * this.ids.length + j]!;
   }
 
   /** The widest window from a station to any of `others` (all stations when not given). */
@@ -237,7 +258,9 @@ export class CallMatcher {
       for (const id of this.ids) {
         if (g.some((m) => m.station === id)) continue;
         const list = this.waiting.get(id)!;
-        for (let k = lowerBound(list, seed.timeS - this.widest); k < list.length && list[k]!.timeS <= seed.timeS + this.widest; k++) {
+        // Every member must fit the seed's window, so the seed's window bounds the search.
+        const w = this.window(seed.station, id);
+        for (let k = lowerBound(list, seed.timeS - w); k < list.length && list[k]!.timeS <= seed.timeS + w; k++) {
           if (list[k] !== seed && fitsGroup(g, list[k]!)) found.push(list[k]!);
         }
       }

@@ -283,3 +283,24 @@ describe('live locator bounds and message checks', () => {
     expect(locator.stationState('dyke-east', true, T0 + 4)).toBeNull();
   });
 });
+
+describe('the matching gate (file and live mode alike)', () => {
+  const { placed, geo } = stationsOf();
+  const made = makeCalls(placed, geo, 12, 4, 23);
+
+  it('a bearing 25 deg off (about 10 sigma at 2 deg) does not join the call at --outlier-sigma 3; with the gate wide open it does', () => {
+    // The first call that all four stations heard.
+    const k = [...Array(12).keys()].find((c) => made.all.filter((a) => a.call === c).length === 4)!;
+    const call = made.all.filter((a) => a.call === k).sort((a, b) => a.record.start_s - b.record.start_s);
+    expect(call.length).toBe(4);
+    // The last to hear it (not the seed of the group) gets the wrong bearing.
+    const bad = call[call.length - 1]!;
+    const lists = Object.fromEntries(call.map((a) => [a.station, [a === bad ? { ...a.record, bearing_deg: (a.record.bearing_deg! + 25) % 360 } : a.record]]));
+    const gated = locateEventLists(placed, lists, { speedOfSound: C, outlierSigma: 3 });
+    expect(gated.calls.length).toBe(1);
+    expect(gated.calls[0]!.events.map((e) => e.station)).not.toContain(bad.station);
+    expect(gated.unmatched.map((e) => e.station)).toEqual([bad.station]);
+    const open = locateEventLists(placed, lists, { speedOfSound: C, outlierSigma: 100 });
+    expect(open.calls[0]!.events.map((e) => e.station)).toContain(bad.station);
+  });
+});
