@@ -4,7 +4,7 @@ import { UsageError } from '../util/errors.js';
 import { planOutput, writeOutputFiles } from '../sinks/output-target.js';
 import { readJsonFile, readTextFile } from '../util/read-json-file.js';
 import { resolveSpeedOfSound, soundSpeedOptionSpecs, type SoundSpeedOptions } from '../geometry/sound-speed.js';
-import { choiceOption, textOption, type OptionSpec } from '../options/option-spec.js';
+import { choiceOption, flagOption, textOption, type OptionSpec } from '../options/option-spec.js';
 import type { EventRecord } from '../records/record-types.js';
 import { parseEventLog } from '../locate/events.js';
 import { locateEventLists } from '../locate/locate.js';
@@ -16,7 +16,7 @@ import { checkLiveStations, startFleetLocate } from '../fleet/fleet-locate.js';
 import { liveLocateOptionSpecs, resolveLiveLocateOptions, type LiveLocateOptions } from '../locate/live-options.js';
 import type { PlacedStations } from '../locate/stations.js';
 import { addOptions, givenFlags, givenOptions, readOptions, refuseStray } from './options.js';
-import { SERVE_SPEC, addFeedOptions, resolveServe } from './serve-flags.js';
+import { addFeedOptions, resolveServe } from './serve-flags.js';
 import { feedOptionSpecs } from '../feed/feed-options.js';
 import { action } from './run-command.js';
 
@@ -33,6 +33,9 @@ const locateCommandSpecs: readonly OptionSpec<keyof LocateValues>[] = [
 ];
 
 /** Split LOG arguments into (station, file): "ID=FILE" names the station; a plain FILE relies on each record's "station". */
+/** --serve of locate: the live fix view, not the polar view of listen and scan. */
+const SERVE_SPEC = flagOption('serve', 'serve', false, 'with --mqtt: serve the live fix view (stations, bearing rays, fixes with ellipses) and its WebSocket (see --feed-*)');
+
 export function splitLogArgument(arg: string, knownIds: ReadonlySet<string>): { station: string | null; file: string } {
   const eq = arg.indexOf('=');
   if (eq > 0) {
@@ -52,7 +55,7 @@ export function registerLocate(program: Command): void {
     .description(
       'Fix the positions of calls heard at several stations: match events across the stations\' logs, intersect their bearing lines ' +
         '(weighted least squares on the WGS 84 tangent plane, plus arrival-time differences where clocks are synchronised), ' +
-        'and write GeoJSON points with error ellipses.',
+        'and write GeoJSON points with error ellipses. With --mqtt, the same live from the stations on an MQTT broker.',
     )
     .argument('[logs...]', 'event logs (JSON Lines); STATION=FILE assigns a whole log to a station, a plain FILE needs "station" in each record');
   addOptions(cmd, [...locateCommandSpecs, ...soundSpeedOptionSpecs, ...locateOptionSpecs, ...fleetOptionSpecs, ...liveLocateOptionSpecs, SERVE_SPEC]);

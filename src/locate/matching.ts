@@ -80,20 +80,24 @@ function meetingPoint(group: readonly StationEvent[], s: MatchSettings): [number
  * or null when it cannot be the same call: the lines would meet behind a station, or its
  * arrival time or its bearing misses by more than the gate.
  */
-export function disagreement(group: readonly StationEvent[], cand: StationEvent, s: MatchSettings, windowS: number): number | null {
+export function disagreement(
+  group: readonly StationEvent[],
+  cand: StationEvent,
+  s: MatchSettings,
+  windowS: number,
+  /** The group's meeting point when already known (groups of two or more). */
+  groupPoint?: [number, number] | null,
+): number | null {
   const withCand = [...group, cand];
-  const x = meetingPoint(group.length >= 2 ? group : withCand, s);
+  const x = group.length >= 2 && groupPoint !== undefined ? groupPoint : meetingPoint(group.length >= 2 ? group : withCand, s);
   if (x === null) {
     // No usable geometry: closeness in time to the seed, the window's edge counting as 3 sigma.
     return 9 * ((cand.timeS - group[0]!.timeS) / windowS) ** 2;
   }
-  const range = (e: StationEvent): number => Math.hypot(x[0] - s.at(e.station)[0], x[1] - s.at(e.station)[1]);
-  const xFull = group.length >= 2 ? meetingPoint(withCand, s) ?? x : x;
-  for (const e of withCand) {
-    const [ux, uy] = s.direction(e);
-    const [px, py] = s.at(e.station);
-    if (ux * (xFull[0] - px) + uy * (xFull[1] - py) <= 0) return null;
-  }
+  const range = (e: StationEvent): number => {
+    const at = s.at(e.station);
+    return Math.hypot(x[0] - at[0], x[1] - at[1]);
+  };
   // Emission time from the group, predicted arrival at the candidate's station.
   const emission = group.reduce((acc, e) => acc + e.timeS - range(e) / s.speedOfSound, 0) / group.length;
   // The meeting point is itself uncertain by about range x bearing sigma across each line;
@@ -103,6 +107,12 @@ export function disagreement(group: readonly StationEvent[], cand: StationEvent,
   const gate = s.gateSigma ** 2;
   const timeTerm = ((cand.timeS - (emission + range(cand) / s.speedOfSound)) / sdT) ** 2;
   if (timeTerm > gate) return null;
+  const xFull = group.length >= 2 ? meetingPoint(withCand, s) ?? x : x;
+  for (const e of withCand) {
+    const [ux, uy] = s.direction(e);
+    const [px, py] = s.at(e.station);
+    if (ux * (xFull[0] - px) + uy * (xFull[1] - py) <= 0) return null;
+  }
   let score = timeTerm;
   if (group.length >= 2) {
     const [ux, uy] = s.direction(cand);
@@ -266,7 +276,18 @@ export class CallMatcher {
       }
       return found;
     };
-    const score = (g: readonly StationEvent[], e: StationEvent): number | null => disagreement(g, e, this.s, this.window(seed.station, e.station));
+    // A group's meeting point does not depend on the candidate: work it out once per group.
+    const points = new Map<readonly StationEvent[], [number, number] | null>();
+    const pointOf = (g: readonly StationEvent[]): [number, number] | null => {
+      let p = points.get(g);
+      if (p === undefined) {
+        p = meetingPoint(g, this.s);
+        points.set(g, p);
+      }
+      return p;
+    };
+    const score = (g: readonly StationEvent[], e: StationEvent): number | null =>
+      disagreement(g, e, this.s, this.window(seed.station, e.station), g.length >= 2 ? pointOf(g) : undefined);
     for (;;) {
       let best: StationEvent | null = null;
       let bestScore = Infinity;
@@ -290,6 +311,7 @@ export class CallMatcher {
         }
       }
       if (best === null) break;
+      points.delete(group);
       group.push(best);
     }
     for (const g of group) this.remove(g);

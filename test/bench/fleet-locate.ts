@@ -7,7 +7,8 @@
  * this measures the matching and fixing core). One station drops off for a while in every
  * hour and comes back with its backlog.
  *
- * Reports, for the simulated span (default one hour; `--hours 24` for a day): CPU seconds per
+ * Reports, for the simulated span (default 0.4 h, past the 15-minute --backfill-window so that the
+ * kept calls reach their bound; `--hours 24` for a day, hours of CPU): CPU seconds per
  * simulated second (the share of one core the core needs; real time needs below 1), events
  * and fixes per second, and the live heap after a full collection at each tenth of the run
  * (flat = bounded; the pending events and kept calls are bounded by time and by
@@ -39,6 +40,8 @@ export interface FleetBenchResult {
   /** CPU seconds per simulated second: the share of one core. */
   coreShare: number;
   heapMiB: number[];
+  /** CPU share of one core in each tenth of the run (flat = no growth with time). */
+  tenthShares: number[];
   counts: ReturnType<LiveLocator['counts']>;
 }
 
@@ -47,7 +50,7 @@ function collectGarbage(): void {
   (runInNewContext('gc') as () => void)();
 }
 
-export function runFleetLocateBench(hours = 1): FleetBenchResult {
+export function runFleetLocateBench(hours = 0.4): FleetBenchResult {
   const ids: string[] = [];
   const stations = [];
   for (let i = 0; i < 4; i++) {
@@ -77,8 +80,10 @@ export function runFleetLocateBench(hours = 1): FleetBenchResult {
   let nextCall = T0;
   let n = 0;
   const heap: number[] = [];
+  const tenthShares: number[] = [];
   collectGarbage();
   const cpu0 = process.cpuUsage();
+  let cpuTenth = process.cpuUsage();
   for (let t = T0; t < T0 + span; t += 0.1) {
     // New calls in this tick, arriving later in shuffled order.
     while (nextCall < t + 0.1) {
@@ -113,13 +118,16 @@ export function runFleetLocateBench(hours = 1): FleetBenchResult {
     }
     fixes += locator.tick(t).length;
     if (Math.round((t - T0) * 10) % Math.round(span) === 0 && t > T0) {
+      const u = process.cpuUsage(cpuTenth);
+      tenthShares.push((u.user + u.system) / 1e6 / (span / 10));
       collectGarbage();
+      cpuTenth = process.cpuUsage();
       heap.push(process.memoryUsage().heapUsed / 2 ** 20);
     }
   }
   const used = process.cpuUsage(cpu0);
   const cpuSeconds = (used.user + used.system) / 1e6;
-  return { hours, stations: ids.length, events, fixes, cpuSeconds, coreShare: cpuSeconds / span, heapMiB: heap, counts: locator.counts() };
+  return { hours, stations: ids.length, events, fixes, cpuSeconds, coreShare: cpuSeconds / span, heapMiB: heap, tenthShares, counts: locator.counts() };
 }
 
 export function formatFleetBench(r: FleetBenchResult): string {
@@ -127,6 +135,7 @@ export function formatFleetBench(r: FleetBenchResult): string {
   return [
     `live locate core, ${r.stations} stations, ${r.hours} h simulated: ${r.events} events (${(r.events / s / r.stations).toFixed(1)} per station per s), ${r.fixes} fixes published`,
     `  CPU ${r.cpuSeconds.toFixed(1)} s for ${s} s: ${(100 * r.coreShare).toFixed(1)} % of one core (real time needs below 100 %)`,
+    `  CPU share in each tenth (%): ${r.tenthShares.map((x) => (100 * x).toFixed(1)).join(' ')} (target: flat)`,
     `  live heap after GC at each tenth (MiB): ${r.heapMiB.map((h) => h.toFixed(1)).join(' ')} (target: flat)`,
     `  counts at the end: ${JSON.stringify(r.counts)}`,
   ].join('\n');
@@ -134,6 +143,6 @@ export function formatFleetBench(r: FleetBenchResult): string {
 
 if (import.meta.url === pathToFileURL(process.argv[1] ?? '').href) {
   const k = process.argv.indexOf('--hours');
-  const hours = k > 0 ? Number(process.argv[k + 1]) : 1;
+  const hours = k > 0 ? Number(process.argv[k + 1]) : 0.4;
   console.log(formatFleetBench(runFleetLocateBench(hours)));
 }
