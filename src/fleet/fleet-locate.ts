@@ -221,7 +221,7 @@ export async function startFleetLocate(setup: FleetLocateSetup): Promise<FleetLo
     const c = locator.counts();
     const states = placed.stations.map((s) => `${s.id} ${stationState[s.id] === null ? 'unknown' : stationState[s.id] ? 'online' : 'offline'}`).join(', ');
     return (
-      `status: ${c.fixes} fixes, ${c.revised} revised, ${c.backfilled} backfill events, ${c.late} late, ${c.unmatched} unmatched, ` +
+      `status: ${c.fixes} fixes, ${c.revised} revised, ${c.backfilled} backfill events, ${c.late} late, ${c.unmatched} unmatched, ${c.unfixed} unfixed, ` +
       `${c.stale} stale, ${c.forced} forced, ${c.repeats} repeats, ${c.lost} lost; ${c.pending} waiting; stations: ${states}`
     );
   };

@@ -5,7 +5,7 @@
  * (src/locate/live-locator.ts) in shuffled order 0.3 to 2.9 s after their onset, on a
  * simulated clock ticking every 0.1 s, as `locate --mqtt` drives it (the broker is left out:
  * this measures the matching and fixing core). One station drops off for a while in every
- * hour and comes back with its backlog.
+ * hour (from minute 10 to 15) and comes back with its backlog.
  *
  * Reports, for the simulated span (default 0.4 h, past the 15-minute --backfill-window so that the
  * kept calls reach their bound; `--hours 24` for a day, hours of CPU): CPU seconds per
@@ -106,9 +106,9 @@ export function runFleetLocateBench(hours = 0.4): FleetBenchResult {
     }
     // One station away for five minutes in every hour; its events come back after it returns.
     const inHour = (t - T0) % 3600;
-    const away = inHour >= 1800 && inHour < 2100;
-    if (inHour >= 1800 && inHour < 1800.1) locator.stationState('st-11', false, t);
-    if (inHour >= 2100 && inHour < 2100.1) locator.stationState('st-11', true, t);
+    const away = inHour >= 600 && inHour < 900;
+    if (inHour >= 600 && inHour < 600.1) locator.stationState('st-11', false, t);
+    if (inHour >= 900 && inHour < 900.1) locator.stationState('st-11', true, t);
     const due = queue.filter((a) => a.atS <= t && !(away && a.station === 'st-11'));
     queue = queue.filter((a) => !(a.atS <= t && !(away && a.station === 'st-11')));
     due.sort((a, b) => a.atS - b.atS);

@@ -34,6 +34,7 @@ const STATIONS = [
   { id: 'hide', bearingFromCaller: 280, heading: 120 },
 ].map((s) => ({ ...s, east: RANGE * Math.sin(s.bearingFromCaller * DEG), north: RANGE * Math.cos(s.bearingFromCaller * DEG) }));
 const OFF = 'willow';
+const LATE = 'hide';
 /** Publishing delay after a call's end (a station's event cutter and network), seconds. */
 const DELAY_S = 0.3;
 
@@ -120,7 +121,8 @@ beforeAll(async () => {
     stationFile,
     JSON.stringify({
       origin: { lat_deg: 52.0, lon_deg: 5.0, alt_m: 0 },
-      stations: STATIONS.map((s) => ({ id: s.id, east_m: s.east, north_m: s.north, up_m: 1.5, heading_deg: s.heading })),
+      // NTP-disciplined clocks (50 ms): the matching window (about 0.44 s) stays shorter than the 0.8 s between calls.
+      stations: STATIONS.map((s) => ({ id: s.id, east_m: s.east, north_m: s.north, up_m: 1.5, heading_deg: s.heading, clock_uncertainty_s: 0.05 })),
     }),
   );
 });
@@ -147,7 +149,7 @@ describe('locate --mqtt with four simulated stations, one dropping off and comin
   let fileFeatures: Feature[] = [];
 
   beforeAll(async () => {
-    const child: ChildProcess = spawn(process.execPath, [BIN, 'locate', '--stations', stationFile, '--mqtt', broker.url, '--speed-of-sound', '343', '--event-latency', '0.6', '--status-interval', '1', '--serve', '--feed-port', '0'], {
+    const child: ChildProcess = spawn(process.execPath, [BIN, 'locate', '--stations', stationFile, '--mqtt', broker.url, '--speed-of-sound', '343', '--event-latency', '1.5', '--revise', '--status-interval', '1', '--serve', '--feed-port', '0'], {
       stdio: ['ignore', 'pipe', 'pipe'],
     });
     child.stdout!.setEncoding('utf8').on('data', (d: string) => (liveOut += d));
@@ -176,7 +178,10 @@ describe('locate --mqtt with four simulated stations, one dropping off and comin
     const backAt = t0 + 3900;
     const plan = STATIONS.flatMap((s) =>
       lists[s.id]!.map((rec, i) => ({ station: s.id, seq: i + 1, rec: { ...rec, utc: formatUtc(t0 / 1000 + rec.start_s) }, at: t0 + (rec.end_s + DELAY_S) * 1000 })),
-    ).sort((a, b) => a.at - b.at);
+    );
+    // One event of 'hide' (online all along) is held up 3.5 s: late, past its call's wait (about 1.9 s after the onset).
+    plan.find((p) => p.station === LATE)!.at += 3500;
+    plan.sort((a, b) => a.at - b.at);
     for (const s of STATIONS) lists[s.id] = lists[s.id]!.map((r) => ({ ...r, utc: formatUtc(t0 / 1000 + r.start_s) }));
     const send = (p: (typeof plan)[number]): Promise<unknown> =>
       clients.get(p.station)!.publishAsync(stationTopicNames('bearline', p.station).events, JSON.stringify({ seq: p.seq, station: p.station, ...p.rec }), { qos: 1 });
@@ -200,8 +205,13 @@ describe('locate --mqtt with four simulated stations, one dropping off and comin
       if (dropped && !back && p.station === OFF) held.push(p);
       else await send(p);
     }
+    if (!back) {
+      await sleepUntil(backAt);
+      clients.set(OFF, await stationClient(broker.url, OFF));
+      for (const h of held) await send(h);
+    }
     // Let the last calls wait out their time, then stop with SIGINT.
-    await new Promise((r) => setTimeout(r, 3000));
+    await new Promise((r) => setTimeout(r, 3500));
     child.kill('SIGINT');
     await exited;
     for (const c of clients.values()) await c.endAsync();
@@ -255,6 +265,17 @@ describe('locate --mqtt with four simulated stations, one dropping off and comin
     expect(backfill.length).toBeGreaterThanOrEqual(1);
     for (const b of backfill) expect(b.properties.stations).toContain(OFF);
     expect(backfill.some((b) => b.properties.revision > 0 && all.some((f) => f.id === b.id && f.properties.revision === 0))).toBe(true);
+  });
+
+  it("a late event is counted and, with --revise, revises its call's fix under the same id", () => {
+    const finalStatus = [...liveErr.matchAll(/status: .*?(\d+) late/g)].pop();
+    expect(Number(finalStatus![1])).toBe(1);
+    const all = features(liveOut);
+    const revised = all.filter((f) => f.properties.revision > 0 && !f.properties.backfill);
+    expect(revised.length).toBe(1);
+    expect(revised[0]!.properties.stations).toContain(LATE);
+    const first = all.find((f) => f.id === revised[0]!.id && f.properties.revision === 0)!;
+    expect(first.properties.stations).not.toContain(LATE);
   });
 
   it('every fix on stdout is on bearline/fixes too (GeoJSON Features with ids)', () => {
