@@ -161,6 +161,7 @@ export async function startFleetLocate(setup: FleetLocateSetup): Promise<FleetLo
     }
   };
   const badSaid = new Set<string>();
+  const headings = new Map(placed.stations.map((st) => [st.id, st.headingDeg]));
   client.on('message', (topic, payload) => {
     const where = byTopic.get(topic);
     if (where === undefined) return;
@@ -190,7 +191,8 @@ export async function startFleetLocate(setup: FleetLocateSetup): Promise<FleetLo
     if (outcome.note !== null) say(`warning: ${outcome.note}`);
     emit(outcome.fixes);
     if (view !== null) {
-      const bearing = msg.record.bearing_deg ?? (placed.stations.find((s) => s.id === where.id)!.headingDeg === null ? null : msg.record.azimuth_deg + placed.stations.find((s) => s.id === where.id)!.headingDeg!);
+      const heading = headings.get(where.id) ?? null;
+      const bearing = msg.record.bearing_deg ?? (heading === null ? null : msg.record.azimuth_deg + heading);
       if (bearing !== null) {
         const call: FixViewCall = { type: 'call', station: where.id, bearing_deg: ((bearing % 360) + 360) % 360, utc: msg.record.utc ?? null };
         recentCalls.push(call);
