@@ -4,9 +4,9 @@
  * every station about 10 events per second. Events reach the live locator
  * (src/locate/live-locator.ts) in shuffled order 0.3 to 2.9 s after their onset, on a
  * simulated clock ticking every 0.1 s, as `locate --mqtt` drives it (the broker is left out:
- * this measures the matching and fixing core; about 37 calls a second, each heard by 4.3 stations
- * on average). One station drops off for a while in every
- * hour (from minute 10 to 15) and comes back with its backlog.
+ * this measures the matching and fixing core; about 37 calls a second, each heard by 4.3
+ * stations on average). One station drops off from minute 10 to 15 of every hour and comes
+ * back with its backlog.
  *
  * Reports, for the simulated span (default 0.4 h, past the 15-minute --backfill-window so that the
  * kept calls reach their bound; `--hours 24` for a day, hours of CPU): CPU seconds per
