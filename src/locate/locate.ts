@@ -11,7 +11,7 @@ import { type ErrorEllipse, errorEllipse } from './ellipse.js';
 import { type StationEvent, toStationEvents } from './events.js';
 import { type Geodetic, bearingDirectionInFrame, enuAtHeight, enuToGeodetic, haversineDistance } from './geodesy.js';
 import { type Arrival, type BearingLine, type FixSolution, fixPosition } from './intersect.js';
-import { matchEvents } from './matching.js';
+import { type MatchSettings, matchEvents } from './matching.js';
 import { type LocateOptions, resolveLocateOptions } from './options.js';
 import type { PlacedStation, PlacedStations } from './stations.js';
 import { formatUtc } from './time.js';
@@ -114,6 +114,27 @@ export function locateGroup(placed: PlacedStations, group: readonly StationEvent
   };
 }
 
+/** The matching settings of a set of stations: the one place both the file and the live mode get them from. */
+export function matchSettingsFor(placed: PlacedStations, options: LocateOptions): MatchSettings {
+  const byId = stationById(placed);
+  // Looked up many times per seed: made once here.
+  const at = new Map(placed.stations.map((st) => [st.id, [st.enu[0], st.enu[1]] as const]));
+  const clock = new Map(placed.stations.map((st) => [st.id, clockUncertainty(st, options)]));
+  const sd = new Map(placed.stations.map((st) => [st.id, (st.bearingSdDeg ?? options.bearingSdDeg) * DEG]));
+  return {
+    speedOfSound: options.speedOfSound,
+    slackS: options.matchSlackS,
+    distanceM: (a, b) => stationDistanceM(byId.get(a)!, byId.get(b)!),
+    clockUncertaintyS: (id) => clock.get(id)!,
+    at: (id) => at.get(id)!,
+    direction: (ev) => bearingLine(placed, byId.get(ev.station)!, ev, options).dir,
+    bearingSdRad: (id) => sd.get(id)!,
+    onsetSdS: options.onsetSdS,
+    minCrossingDeg: options.minCrossingDeg,
+    gateSigma: options.outlierSigma,
+  };
+}
+
 /**
  * Match events across stations and fix each call. `lists` maps a station id to its events
  * (EventRecords as the scanner writes them); `origins` optionally names where each record
@@ -142,17 +163,7 @@ export function locateEventLists(
   }
   const absolute = abs.length > 0;
   const timeZeroS = absolute ? abs.reduce((m, e) => Math.min(m, e.streamStartS), Infinity) : 0;
-  const { groups, unmatched } = matchEvents(events, {
-    speedOfSound: options.speedOfSound,
-    slackS: options.matchSlackS,
-    distanceM: (a, b) => stationDistanceM(byId.get(a)!, byId.get(b)!),
-    clockUncertaintyS: (id) => clockUncertainty(byId.get(id)!, options),
-    at: (id) => [byId.get(id)!.enu[0], byId.get(id)!.enu[1]],
-    direction: (ev) => bearingLine(placed, byId.get(ev.station)!, ev, options).dir,
-    bearingSdRad: (id) => (byId.get(id)!.bearingSdDeg ?? options.bearingSdDeg) * DEG,
-    onsetSdS: options.onsetSdS,
-    minCrossingDeg: options.minCrossingDeg,
-  });
+  const { groups, unmatched } = matchEvents(events, matchSettingsFor(placed, options), placed.stations.map((st) => st.id));
   const calls = groups.map((g) => locateGroup(placed, g, options, timeZeroS));
   return { stations: placed, calls, unmatched, absolute, timeZeroS };
 }

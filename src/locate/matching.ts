@@ -10,8 +10,14 @@
  * the group as one source: the point where the bearing lines meet predicts when the call
  * reached the candidate (emission + range / c), and with three or more lines also where the
  * candidate's bearing should point. The best candidate joins, one station at a time; a
- * candidate whose bearing line meets the group's behind a station is not the same call.
+ * candidate whose bearing line meets the group's behind a station, or whose time or bearing
+ * misses the group by more than the gate (the solver's outlier threshold), is not the same call.
  * A group of two or more stations is a call. Pure: events in, groups out.
+ *
+ * The matcher is incremental (CallMatcher): events are added as they come, and a seed is
+ * decided once every event that could join it can have arrived (`decide(now, wait)`); the
+ * file mode adds all events and decides them all at once (`matchEvents`), the live mode
+ * (live-locator.ts) decides on a clock. Both make the same groups from the same events.
  */
 import type { StationEvent } from './events.js';
 import { largestCrossingDeg, meetLines } from './intersect.js';
@@ -33,6 +39,11 @@ export interface MatchSettings {
   onsetSdS: number;
   /** Lines crossing at less than this (degrees) give no usable meeting point. */
   minCrossingDeg: number;
+  /**
+   * A candidate whose time or bearing misses the group by more than this many sigmas is not
+   * the same call (the solver's outlier threshold); Infinity = no gate.
+   */
+  gateSigma: number;
 }
 
 export interface MatchResult {
@@ -41,7 +52,7 @@ export interface MatchResult {
   unmatched: StationEvent[];
 }
 
-function bandsOverlap(a: StationEvent, b: StationEvent): boolean {
+export function bandsOverlap(a: StationEvent, b: StationEvent): boolean {
   if (a.band === null || b.band === null) return true;
   return a.band[0] <= b.band[1] && b.band[0] <= a.band[1];
 }
@@ -66,43 +77,64 @@ function meetingPoint(group: readonly StationEvent[], s: MatchSettings): [number
 
 /**
  * How badly a candidate disagrees with the group as one source (a sum of squared sigmas),
- * or null when it cannot be the same call (the lines would meet behind a station).
+ * or null when it cannot be the same call: the lines would meet behind a station, or its
+ * arrival time or its bearing misses by more than the gate.
  */
-function disagreement(group: readonly StationEvent[], cand: StationEvent, s: MatchSettings, windowS: number): number | null {
+export function disagreement(
+  group: readonly StationEvent[],
+  cand: StationEvent,
+  s: MatchSettings,
+  windowS: number,
+  /** The group's meeting point when already known (groups of two or more). */
+  groupPoint?: [number, number] | null,
+): number | null {
   const withCand = [...group, cand];
-  const x = meetingPoint(group.length >= 2 ? group : withCand, s);
+  const x = group.length >= 2 && groupPoint !== undefined ? groupPoint : meetingPoint(group.length >= 2 ? group : withCand, s);
   if (x === null) {
     // No usable geometry: closeness in time to the seed, the window's edge counting as 3 sigma.
     return 9 * ((cand.timeS - group[0]!.timeS) / windowS) ** 2;
   }
-  const range = (e: StationEvent): number => Math.hypot(x[0] - s.at(e.station)[0], x[1] - s.at(e.station)[1]);
-  const xFull = group.length >= 2 ? meetingPoint(withCand, s) ?? x : x;
-  for (const e of withCand) {
-    const [ux, uy] = s.direction(e);
-    const [px, py] = s.at(e.station);
-    if (ux * (xFull[0] - px) + uy * (xFull[1] - py) <= 0) return null;
-  }
+  const range = (e: StationEvent): number => {
+    const at = s.at(e.station);
+    return Math.hypot(x[0] - at[0], x[1] - at[1]);
+  };
   // Emission time from the group, predicted arrival at the candidate's station.
   const emission = group.reduce((acc, e) => acc + e.timeS - range(e) / s.speedOfSound, 0) / group.length;
   // The meeting point is itself uncertain by about range x bearing sigma across each line;
   // that shifts the predicted arrival by up to that distance over c.
   const geometryM = Math.max(1, ...withCand.map((e) => range(e) * s.bearingSdRad(e.station)));
   const sdT = Math.hypot(s.onsetSdS, s.clockUncertaintyS(cand.station), s.clockUncertaintyS(group[0]!.station), geometryM / s.speedOfSound);
-  let score = ((cand.timeS - (emission + range(cand) / s.speedOfSound)) / sdT) ** 2;
+  const gate = s.gateSigma ** 2;
+  const timeTerm = ((cand.timeS - (emission + range(cand) / s.speedOfSound)) / sdT) ** 2;
+  if (timeTerm > gate) return null;
+  const xFull = group.length >= 2 ? meetingPoint(withCand, s) ?? x : x;
+  for (const e of withCand) {
+    const [ux, uy] = s.direction(e);
+    const [px, py] = s.at(e.station);
+    if (ux * (xFull[0] - px) + uy * (xFull[1] - py) <= 0) return null;
+  }
+  let score = timeTerm;
   if (group.length >= 2) {
     const [ux, uy] = s.direction(cand);
     const [px, py] = s.at(cand.station);
     const miss = uy * (x[0] - px) - ux * (x[1] - py);
     const sdM = Math.max(1, range(cand) * s.bearingSdRad(cand.station));
-    score += (miss / sdM) ** 2;
+    const bearingTerm = (miss / sdM) ** 2;
+    if (bearingTerm > gate) return null;
+    score += bearingTerm;
   }
   return score;
 }
 
-export function matchEvents(events: readonly StationEvent[], s: MatchSettings): MatchResult {
-  // Each event's direction is asked for many times: work it out once.
-  const dirs = new Map<StationEvent, readonly [number, number]>();
-  const settings: MatchSettings = {
+/** The window (seconds) within which events at stations a and b can be one call. */
+export function matchWindowS(s: MatchSettings, a: string, b: string): number {
+  return s.distanceM(a, b) / s.speedOfSound + s.clockUncertaintyS(a) + s.clockUncertaintyS(b) + s.slackS;
+}
+
+/** The settings with each event's direction worked out once (it is asked for many times). */
+export function cachedDirections(s: MatchSettings): MatchSettings {
+  const dirs = new WeakMap<StationEvent, readonly [number, number]>();
+  return {
     ...s,
     direction: (e) => {
       let d = dirs.get(e);
@@ -113,40 +145,149 @@ export function matchEvents(events: readonly StationEvent[], s: MatchSettings): 
       return d;
     },
   };
-  const byStation = new Map<string, StationEvent[]>();
-  for (const e of events) {
-    const list = byStation.get(e.station) ?? [];
-    list.push(e);
-    byStation.set(e.station, list);
-  }
-  for (const list of byStation.values()) list.sort((a, b) => a.timeS - b.timeS);
-  const ids = [...byStation.keys()];
-  const windowS = (a: string, b: string): number =>
-    s.distanceM(a, b) / s.speedOfSound + s.clockUncertaintyS(a) + s.clockUncertaintyS(b) + s.slackS;
-  let widest = 0;
-  for (const a of ids) for (const b of ids) if (a !== b) widest = Math.max(widest, windowS(a, b));
+}
 
-  const used = new Set<StationEvent>();
-  const all = [...events].sort((a, b) => a.timeS - b.timeS);
-  const groups: StationEvent[][] = [];
-  const unmatched: StationEvent[] = [];
-  for (const seed of all) {
-    if (used.has(seed)) continue;
+/**
+ * Incremental matching. Events wait per station in time order; `decide` takes the earliest
+ * waiting event as the seed and builds its group from the waiting events of the other stations
+ * (greedy, as described at the top), in time order, as long as the seed's deadline has passed:
+ * seed time + the widest window from its station + `waitS`. Decided events leave the matcher,
+ * so memory holds only what is still undecided.
+ */
+export class CallMatcher {
+  private readonly s: MatchSettings;
+  private readonly ids: string[];
+  private readonly waiting = new Map<string, StationEvent[]>();
+  private readonly index = new Map<string, number>();
+  /** window(a, b) by station index: row a, column b. */
+  private readonly windows: Float64Array;
+  private widest = 0;
+  private count = 0;
+  /** Time of the newest seed decided (-Infinity before the first). */
+  lastSeedS = -Infinity;
+
+  /** `stations`: every station id, in the station file's order (ties in time go by it). */
+  constructor(settings: MatchSettings, stations: readonly string[]) {
+    this.s = cachedDirections(settings);
+    this.ids = [...stations];
+    const n = this.ids.length;
+    this.windows = new Float64Array(n * n);
+    this.ids.forEach((id, i) => {
+      this.waiting.set(id, []);
+      this.index.set(id, i);
+    });
+    this.ids.forEach((a, i) =>
+      this.ids.forEach((b, j) => {
+        if (i === j) return;
+        const w = matchWindowS(settings, a, b);
+        this.windows[i * n + j] = w;
+        this.widest = Math.max(this.widest, w);
+      }),
+    );
+  }
+
+  /** Events waiting for a decision. */
+  get pending(): number {
+    return this.count;
+  }
+
+  window(a: string, b: string): number {
+    const i = this.index.get(a);
+    const j = this.index.get(b);
+    return i === undefined || j === undefined ? matchWindowS(this.s, a, b) : this.windows[i * this.ids.length + j]!;
+  }
+
+  /** The widest window from a station to any of `others` (all stations when not given). */
+  reach(station: string, others: readonly string[] = this.ids): number {
+    let r = 0;
+    for (const o of others) if (o !== station) r = Math.max(r, this.window(station, o));
+    return r;
+  }
+
+  add(e: StationEvent): void {
+    const list = this.waiting.get(e.station);
+    if (list === undefined) throw new Error(`station '${e.station}' is not one of the matcher's stations`);
+    let k = list.length;
+    while (k > 0 && list[k - 1]!.timeS > e.timeS) k--;
+    list.splice(k, 0, e);
+    this.count++;
+  }
+
+  /** The earliest waiting event (ties: station order), or null. */
+  private earliest(): StationEvent | null {
+    let best: StationEvent | null = null;
+    for (const id of this.ids) {
+      const head = this.waiting.get(id)![0];
+      if (head !== undefined && (best === null || head.timeS < best.timeS)) best = head;
+    }
+    return best;
+  }
+
+  /**
+   * Decide every seed whose deadline (seed time + reach(seed, online) + waitS) is at or before
+   * nowS, and the earliest seeds beyond `maxPending` waiting events whatever their deadline.
+   * `online`: the stations to wait for (default all). Returns the groups and unmatched events.
+   */
+  decide(nowS: number, waitS: number, options: { online?: readonly string[]; maxPending?: number } = {}): MatchResult & { forced: number } {
+    const out: MatchResult & { forced: number } = { groups: [], unmatched: [], forced: 0 };
+    const online = options.online ?? this.ids;
+    const maxPending = options.maxPending ?? Infinity;
+    for (;;) {
+      const seed = this.earliest();
+      if (seed === null) break;
+      const due = seed.timeS + this.reach(seed.station, online) + waitS <= nowS;
+      if (!due && this.count <= maxPending) break;
+      if (!due) out.forced++;
+      this.decideSeed(seed, out);
+    }
+    return out;
+  }
+
+  /** Decide everything waiting (the file mode; a clean stop). */
+  flush(): MatchResult {
+    const { groups, unmatched } = this.decide(Infinity, 0);
+    return { groups, unmatched };
+  }
+
+  private remove(e: StationEvent): void {
+    const list = this.waiting.get(e.station)!;
+    const k = list.indexOf(e);
+    if (k >= 0) {
+      list.splice(k, 1);
+      this.count--;
+    }
+  }
+
+  private decideSeed(seed: StationEvent, out: MatchResult): void {
+    this.lastSeedS = Math.max(this.lastSeedS, seed.timeS);
     const group: StationEvent[] = [seed];
     const fitsGroup = (g: readonly StationEvent[], e: StationEvent): boolean =>
-      !used.has(e) && g.every((m) => Math.abs(e.timeS - m.timeS) <= windowS(m.station, e.station) && bandsOverlap(m, e));
+      g.every((m) => Math.abs(e.timeS - m.timeS) <= this.window(m.station, e.station) && bandsOverlap(m, e));
     const candidates = (g: readonly StationEvent[]): StationEvent[] => {
-      const out: StationEvent[] = [];
-      for (const id of ids) {
+      const found: StationEvent[] = [];
+      for (const id of this.ids) {
         if (g.some((m) => m.station === id)) continue;
-        const list = byStation.get(id)!;
-        for (let k = lowerBound(list, seed.timeS - widest); k < list.length && list[k]!.timeS <= seed.timeS + widest; k++) {
-          if (fitsGroup(g, list[k]!)) out.push(list[k]!);
+        const list = this.waiting.get(id)!;
+        // Every member must fit the seed's window, so the seed's window bounds the search.
+        const w = this.window(seed.station, id);
+        for (let k = lowerBound(list, seed.timeS - w); k < list.length && list[k]!.timeS <= seed.timeS + w; k++) {
+          if (list[k] !== seed && fitsGroup(g, list[k]!)) found.push(list[k]!);
         }
       }
-      return out;
+      return found;
     };
-    const score = (g: readonly StationEvent[], e: StationEvent): number | null => disagreement(g, e, settings, windowS(seed.station, e.station));
+    // A group's meeting point does not depend on the candidate: work it out once per group.
+    const points = new Map<readonly StationEvent[], [number, number] | null>();
+    const pointOf = (g: readonly StationEvent[]): [number, number] | null => {
+      let p = points.get(g);
+      if (p === undefined) {
+        p = meetingPoint(g, this.s);
+        points.set(g, p);
+      }
+      return p;
+    };
+    const score = (g: readonly StationEvent[], e: StationEvent): number | null =>
+      disagreement(g, e, this.s, this.window(seed.station, e.station), g.length >= 2 ? pointOf(g) : undefined);
     for (;;) {
       let best: StationEvent | null = null;
       let bestScore = Infinity;
@@ -170,15 +311,19 @@ export function matchEvents(events: readonly StationEvent[], s: MatchSettings): 
         }
       }
       if (best === null) break;
+      points.delete(group);
       group.push(best);
     }
-    if (group.length >= 2) {
-      for (const g of group) used.add(g);
-      groups.push(group);
-    } else {
-      used.add(seed);
-      unmatched.push(seed);
-    }
+    for (const g of group) this.remove(g);
+    if (group.length >= 2) out.groups.push(group);
+    else out.unmatched.push(seed);
   }
-  return { groups, unmatched };
+}
+
+/** Match a whole set of events at once (the file mode): the incremental matcher with everything in. */
+export function matchEvents(events: readonly StationEvent[], s: MatchSettings, stations?: readonly string[]): MatchResult {
+  const ids = stations ?? [...new Set(events.map((e) => e.station))];
+  const m = new CallMatcher(s, ids);
+  for (const e of events) m.add(e);
+  return m.flush();
 }

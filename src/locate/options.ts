@@ -59,7 +59,7 @@ export const locateOptionSpecs: readonly OptionSpec<keyof LocateOptions>[] = [
   numberOption('syncedClockUncertaintyS', 'synced-clock-uncertainty', 's', D.syncedClockUncertaintyS, { min: 0, max: 10, unit: 's' }, 'clock uncertainty of stations with clock_synced'),
   numberOption('matchSlackS', 'match-slack', 's', D.matchSlackS, { min: 0, max: 3600, unit: 's' }, 'extra time allowed when matching events across stations'),
   numberOption('minCrossingDeg', 'min-crossing', 'deg', D.minCrossingDeg, { min: 0, max: 89, unit: 'deg' }, 'smallest crossing angle of bearing lines for a fix (poorer geometry is flagged)'),
-  numberOption('outlierSigma', 'outlier-sigma', 'n', D.outlierSigma, { min: 1, max: 100, unit: 'sigmas' }, 'a bearing missing the fix by more sigmas than this is an outlier'),
+  numberOption('outlierSigma', 'outlier-sigma', 'n', D.outlierSigma, { min: 1, max: 100, unit: 'sigmas' }, 'a bearing missing the fix by more sigmas than this is an outlier (and an event missing a call by more does not join it)'),
   numberOption('ellipseLevel', 'ellipse-level', 'p', D.ellipseLevel, { min: 0.01, max: 0.9999 }, 'probability inside the reported error ellipse'),
   flagOption('useTimeDifferences', 'no-time-differences', D.useTimeDifferences, 'do not use arrival-time differences between synchronised stations'),
   flagOption('includeUnfixed', 'include-unfixed', D.includeUnfixed, 'also report matched calls that gave no fix (GeoJSON geometry null)'),

@@ -5,6 +5,7 @@
  */
 import { UsageError } from '../util/errors.js';
 import type { LocateResult, LocatedCall } from './locate.js';
+import type { PlacedStations } from './stations.js';
 
 export type LocateFormat = 'geojson' | 'csv' | 'scene';
 export const LOCATE_FORMATS: readonly LocateFormat[] = ['geojson', 'csv', 'scene'];
@@ -73,6 +74,22 @@ export interface GeoJsonCollection {
   features: GeoJsonFeature[];
 }
 
+/** One located call as a GeoJSON Feature (geometry null without a fix or without a WGS 84 origin). */
+export function featureOf(call: LocatedCall): GeoJsonFeature {
+  return {
+    type: 'Feature',
+    geometry:
+      call.position === null
+        ? null
+        : {
+            type: 'Point',
+            // RFC 7946 section 3.1.1: longitude, latitude, then height; about 1 cm precision.
+            coordinates: [round(call.position.lon_deg, 7)!, round(call.position.lat_deg, 7)!, round(call.position.alt_m, 2)!],
+          },
+    properties: fixProperties(call),
+  };
+}
+
 /** GeoJSON needs WGS 84: stations in local metres need an origin in the station file. */
 export function toGeoJson(result: LocateResult, includeUnfixed: boolean): GeoJsonCollection {
   if (result.stations.frame === null) {
@@ -82,18 +99,7 @@ export function toGeoJson(result: LocateResult, includeUnfixed: boolean): GeoJso
   }
   return {
     type: 'FeatureCollection',
-    features: selected(result, includeUnfixed).map((call) => ({
-      type: 'Feature',
-      geometry:
-        call.position === null
-          ? null
-          : {
-              type: 'Point',
-              // RFC 7946 section 3.1.1: longitude, latitude, then height; about 1 cm precision.
-              coordinates: [round(call.position.lon_deg, 7)!, round(call.position.lat_deg, 7)!, round(call.position.alt_m, 2)!],
-            },
-      properties: fixProperties(call),
-    })),
+    features: selected(result, includeUnfixed).map(featureOf),
   };
 }
 
@@ -165,32 +171,44 @@ export interface PlotScene {
   }[];
 }
 
+/** One fix of a plot scene (the call must have a fix and an ellipse). */
+export type PlotFix = PlotScene['fixes'][number];
+
+/** A fixed call in local metres with its rays, for a map-less viewer; null without a fix. */
+export function plotFixOf(c: LocatedCall, placed: PlacedStations): PlotFix | null {
+  if (!c.fix.ok || c.ellipse === null) return null;
+  const at = new Map(placed.stations.map((s) => [s.id, s.enu]));
+  return {
+    time_s: round(c.timeS, 4),
+    east_m: round(c.fix.east, 2)!,
+    north_m: round(c.fix.north, 2)!,
+    ellipse: {
+      major_m: round(c.ellipse.majorM, 2)!,
+      minor_m: round(c.ellipse.minorM, 2)!,
+      orientation_deg: round(c.ellipse.orientationDeg, 1)!,
+      level: c.ellipse.level,
+    },
+    stations: c.fix.used,
+    dropped: c.fix.dropped,
+    flags: c.fix.flags,
+    rays: c.fix.residuals.map((r) => {
+      const s = at.get(r.station)!;
+      const to: [number, number] = [round(s[0] + r.dir[0] * r.alongM, 2)!, round(s[1] + r.dir[1] * r.alongM, 2)!];
+      return { station: r.station, from: [round(s[0], 2)!, round(s[1], 2)!] as [number, number], to };
+    }),
+  };
+}
+
+/** The stations of a plot scene, in local metres. */
+export function plotStationsOf(placed: PlacedStations): PlotScene['stations'] {
+  return placed.stations.map((s) => ({ id: s.id, east_m: round(s.enu[0], 2)!, north_m: round(s.enu[1], 2)!, heading_deg: s.headingDeg }));
+}
+
 export function toPlotScene(result: LocateResult): PlotScene {
-  const { frame, stations } = result.stations;
-  const at = new Map(stations.map((s) => [s.id, s.enu]));
+  const { frame } = result.stations;
   return {
     origin: frame === null ? null : { ...frame.origin },
-    stations: stations.map((s) => ({ id: s.id, east_m: round(s.enu[0], 2)!, north_m: round(s.enu[1], 2)!, heading_deg: s.headingDeg })),
-    fixes: result.calls
-      .filter((c) => c.fix.ok && c.ellipse !== null)
-      .map((c) => ({
-        time_s: round(c.timeS, 4),
-        east_m: round(c.fix.east, 2)!,
-        north_m: round(c.fix.north, 2)!,
-        ellipse: {
-          major_m: round(c.ellipse!.majorM, 2)!,
-          minor_m: round(c.ellipse!.minorM, 2)!,
-          orientation_deg: round(c.ellipse!.orientationDeg, 1)!,
-          level: c.ellipse!.level,
-        },
-        stations: c.fix.used,
-        dropped: c.fix.dropped,
-        flags: c.fix.flags,
-        rays: c.fix.residuals.map((r) => {
-          const s = at.get(r.station)!;
-          const to: [number, number] = [round(s[0] + r.dir[0] * r.alongM, 2)!, round(s[1] + r.dir[1] * r.alongM, 2)!];
-          return { station: r.station, from: [round(s[0], 2)!, round(s[1], 2)!] as [number, number], to };
-        }),
-      })),
+    stations: plotStationsOf(result.stations),
+    fixes: result.calls.map((c) => plotFixOf(c, result.stations)).filter((f): f is PlotFix => f !== null),
   };
 }

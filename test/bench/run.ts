@@ -10,6 +10,7 @@ import { accuracyMatrixCli } from './accuracy-matrix.js';
 import { motionMatrixCli } from './motion-matrix.js';
 import { benchCase, benchMemory, coreCases, printCore } from './core.js';
 import { runFeedLatencyBench } from './feed-latency.js';
+import { formatFleetBench, runFleetLocateBench } from './fleet-locate.js';
 import { benchIoRead } from './io-read.js';
 import { formatSoak, runStationSoak } from './station-soak.js';
 import { runLiveBench } from './live.js';
@@ -48,6 +49,9 @@ async function main(): Promise<void> {
   if (want('feed')) {
     const r = await runFeedLatencyBench();
     console.log('\n' + r.lines.join('\n'));
+  }
+  if (want('fleet')) {
+    console.log('\n' + formatFleetBench(runFleetLocateBench()));
   }
   if (want('station')) {
     console.log('\n' + formatSoak(runStationSoak()));

@@ -8,6 +8,9 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { analysisOptionSpecs } from '../../src/analysis/analysis-options.js';
 import { feedOptionSpecs } from '../../src/feed/feed-options.js';
+import { fleetOptionSpecs } from '../../src/fleet/fleet-options.js';
+import { liveLocateOptionSpecs } from '../../src/locate/live-options.js';
+import { locateOptionSpecs } from '../../src/locate/options.js';
 import { defaultText, usageOf, type OptionSpec } from '../../src/options/option-spec.js';
 import { mqttOptionSpecs } from '../../src/sinks/mqtt-options.js';
 import { recordLogOptionSpecs } from '../../src/sinks/record-log-options.js';
@@ -27,6 +30,8 @@ const GROUPS: Record<string, readonly OptionSpec[]> = {
   mqtt: mqttOptionSpecs,
   recorder: RECORDER_OPTION_SPECS,
   report: reportOptionSpecs,
+  locate: locateOptionSpecs,
+  'locate live': [...fleetOptionSpecs, ...liveLocateOptionSpecs],
 };
 
 interface Row {

@@ -1,0 +1,134 @@
+/**
+ * The HTTP server of the live fix view (`locate --serve`): the page from web-viewer/fixes/ at
+ * `/` and its WebSocket at `/feed`. Built from the live view's parts (src/feed/): the static
+ * file list and lookup (nothing outside the folder can be served), the per-viewer queues
+ * (ViewerHub: a slow page never slows locating) and the --feed-* options with their checks.
+ * The page and the feed need the --feed-token when one is set.
+ */
+import { createHash, timingSafeEqual } from 'node:crypto';
+import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
+import type { AddressInfo, Socket } from 'node:net';
+import { fileURLToPath } from 'node:url';
+import { WebSocketServer } from 'ws';
+import { feedFlagName, isLoopbackHost, type FeedOptions } from '../feed/feed-options.js';
+import { contentTypeOf, listStaticFiles, lookUpStaticPath, readStaticFile } from '../feed/static-files.js';
+import { ViewerHub } from '../feed/viewer-hub.js';
+import { RuntimeFailure, UsageError } from '../util/errors.js';
+
+/** web-viewer/fixes/ of the checkout or package (two levels up from src/fleet/ and dist/fleet/). */
+export const FIX_VIEW_ROOT = fileURLToPath(new URL('../../web-viewer/fixes/', import.meta.url));
+const FEED_PATH = '/feed';
+const MAX_CLIENT_MESSAGE_BYTES = 4096;
+
+export interface FixViewServer {
+  readonly url: string;
+  readonly port: number;
+  /** A message for every page; `keep` messages are never dropped for a slow page. */
+  broadcast(text: string): void;
+  /** Called when a page connects (to send it what it missed). */
+  onViewer(fn: () => void): void;
+  readonly viewers: number;
+  close(): Promise<void>;
+}
+
+function digest(text: string): Buffer {
+  return createHash('sha256').update(text, 'utf8').digest();
+}
+
+const HEADERS = {
+  'Cache-Control': 'no-cache',
+  'X-Content-Type-Options': 'nosniff',
+  'Referrer-Policy': 'no-referrer',
+  'Content-Security-Policy': "default-src 'self'; connect-src 'self'; img-src 'self' data:; style-src 'self'; script-src 'self'; frame-ancestors 'none'",
+};
+
+export async function startFixViewServer(opts: FeedOptions, hello: string, log: (line: string) => void, warn: (line: string) => void): Promise<FixViewServer> {
+  const files = await listStaticFiles(FIX_VIEW_ROOT).catch(() => {
+    throw new RuntimeFailure(`the fix view's files are missing (${FIX_VIEW_ROOT}): reinstall bearline`);
+  });
+  const expected = opts.token === null ? null : digest(opts.token);
+  const allowed = (url: URL): boolean => {
+    if (expected === null) return true;
+    const given = url.searchParams.get('token');
+    return timingSafeEqual(digest(given ?? ''), expected) && given !== null;
+  };
+  const hub = new ViewerHub(opts, hello, log);
+  const joined: (() => void)[] = [];
+  const wss = new WebSocketServer({ noServer: true, maxPayload: MAX_CLIENT_MESSAGE_BYTES, perMessageDeflate: false });
+  const serve = async (req: IncomingMessage, res: ServerResponse): Promise<void> => {
+    const url = new URL(req.url ?? '/', 'http://view.invalid');
+    const name = lookUpStaticPath(url.pathname, files);
+    const text = (status: number, body: string): void => {
+      res.writeHead(status, { 'Content-Type': 'text/plain; charset=utf-8' });
+      res.end(body);
+    };
+    if (req.method !== 'GET' && req.method !== 'HEAD') return text(405, 'only GET and HEAD\n');
+    if (name === null) return text(404, 'not found\n');
+    if (name === 'index.html' && !allowed(url)) return text(401, 'this view needs its access token: open the page with ?token=...\n');
+    const body = await readStaticFile(FIX_VIEW_ROOT, name).catch(() => null);
+    if (body === null) return text(404, 'not found\n');
+    res.writeHead(200, { 'Content-Type': contentTypeOf(name), 'Content-Length': body.length, ...HEADERS });
+    res.end(req.method === 'HEAD' ? undefined : body);
+  };
+  const server = createServer((req, res) => {
+    serve(req, res).catch(() => {
+      if (!res.headersSent) res.writeHead(500);
+      res.end();
+    });
+  });
+  server.on('upgrade', (req: IncomingMessage, socket: Socket, head: Buffer) => {
+    socket.on('error', () => undefined);
+    const url = new URL(req.url ?? '/', 'http://view.invalid');
+    const refuse = (status: number, reason: string): void => {
+      socket.end(`HTTP/1.1 ${status} ${reason}\r\nConnection: close\r\nContent-Type: text/plain\r\n\r\n${reason}\n`);
+    };
+    if (url.pathname !== FEED_PATH) return refuse(404, 'Not Found');
+    if (!allowed(url)) {
+      hub.refused++;
+      return refuse(401, 'Unauthorized');
+    }
+    wss.handleUpgrade(req, socket, head, (ws) => {
+      hub.accept(ws, req);
+      for (const fn of joined) fn();
+    });
+  });
+  server.on('close', () => wss.close());
+  const port = await new Promise<number>((resolve, reject) => {
+    server.once('error', (err: NodeJS.ErrnoException) => {
+      const where = `${opts.host}:${opts.port}`;
+      if (err.code === 'EADDRINUSE') reject(new RuntimeFailure(`${where} is already in use: stop the other program or pick another port with ${feedFlagName('port')} (0 = any free port)`));
+      else if (err.code === 'EADDRNOTAVAIL' || err.code === 'ENOTFOUND') reject(new UsageError(`${feedFlagName('host')} ${opts.host} is not an address of this machine: use 127.0.0.1 or one of this machine's addresses`));
+      else reject(new RuntimeFailure(`cannot listen on ${where}: ${err.message}`));
+    });
+    server.listen(opts.port, opts.host, () => resolve((server.address() as AddressInfo).port));
+  });
+  if (!isLoopbackHost(opts.host)) {
+    warn(`the fix view listens on ${opts.host}:${port}, so other machines can watch it` + (opts.token === null ? `; set ${feedFlagName('token')} to keep strangers out` : ' (token required)'));
+  }
+  const ping = setInterval(() => hub.pingSweep(), opts.pingIntervalS * 1000);
+  ping.unref();
+  const host = opts.host === '0.0.0.0' ? '127.0.0.1' : opts.host.includes(':') ? `[${opts.host}]` : opts.host;
+  const query = opts.token === null ? '' : `?token=${encodeURIComponent(opts.token)}`;
+  let closed = false;
+  return {
+    url: `http://${host}:${port}/${query}`,
+    port,
+    broadcast: (text) => {
+      if (hub.count > 0) hub.broadcast('keep', text);
+    },
+    onViewer: (fn) => joined.push(fn),
+    get viewers() {
+      return hub.count;
+    },
+    async close() {
+      if (closed) return;
+      closed = true;
+      clearInterval(ping);
+      await hub.closeAll();
+      await new Promise<void>((resolve) => {
+        server.close(() => resolve());
+        server.closeAllConnections();
+      });
+    },
+  };
+}
