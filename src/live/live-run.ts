@@ -15,7 +15,7 @@ import { MqttSink } from '../sinks/mqtt-sink.js';
 import type { OutputTarget } from '../sinks/output-target.js';
 import type { RecordLogOptions } from '../sinks/record-log-options.js';
 import { RecordLog } from '../sinks/record-log.js';
-import { fanOut, type RecordSink } from '../sinks/record-sink.js';
+import { countingSink, describeCounts, fanOut, type RecordSink } from '../sinks/record-sink.js';
 import { RecordWriter } from '../sinks/record-writer.js';
 import type { AudioSource, StreamGap } from '../sources/audio-source.js';
 import { openPcmStreamSource } from '../sources/pcm-stream-source.js';
@@ -119,6 +119,14 @@ async function closeLiveWriter(writer: RecordWriter, failed: boolean): Promise<v
   if (kept) process.stderr.write(`bearline: the run failed, so ${writer.name} was not replaced; this run's records are in ${kept}\n`);
 }
 
+/** The last line's account: the records and where they went, with what MQTT still holds for the broker. */
+function writtenLine(counts: string, sinks: LiveSinks): string {
+  const where = sinks.all.map((s) => s.name).join(', ') || 'no sink';
+  const mq = sinks.mqtt?.stats();
+  const left = mq ? `; MQTT: ${mq.delivered} acknowledged by the broker in this run, ${mq.queued} left in the queue ${sinks.mqtt!.queueDir} for the next start` : '';
+  return `${counts} to ${where}${left}`;
+}
+
 /** Run until the input ends, fails or a stop signal arrives; exits through plan.exit with the stop sequence's code. */
 export async function runLive(plan: LivePlan): Promise<void> {
   const { setup, station } = plan;
@@ -126,7 +134,7 @@ export async function runLive(plan: LivePlan): Promise<void> {
   const channels = plan.input.kind === 'stdin' ? plan.input.channels : plan.input.recorder.channels;
   warmUp(setup, sampleRate);
   const sinks = await openSinks(plan, sampleRate, channels);
-  const records = fanOut(sinks.all);
+  const { sink: records, counts } = countingSink(fanOut(sinks.all));
   let session: TrackingSession | null = null;
   let lostS = 0;
   const monitor = new StatusMonitor({
@@ -185,6 +193,7 @@ export async function runLive(plan: LivePlan): Promise<void> {
       await loopDone;
     },
     closeTimeout: station.closeTimeout,
+    written: () => writtenLine(describeCounts(counts), sinks),
     exit: (code) => exit(failure ? 1 : code, failure),
   });
   const err = await loopDone;

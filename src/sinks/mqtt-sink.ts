@@ -181,6 +181,11 @@ export class MqttSink implements RecordSink {
     });
   }
 
+  /** The folder of the disk queue, for messages. */
+  get queueDir(): string {
+    return this.queue.dir;
+  }
+
   stats(): MqttSinkStats {
     return { connected: this.client.connected, queued: this.queue.length, dropped: this.queue.droppedCount, delivered: this.delivered };
   }
