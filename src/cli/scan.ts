@@ -28,6 +28,7 @@ import { addOptions, readOptions } from './options.js';
 import { addFeedOptions, resolveServe } from './serve-flags.js';
 import { createProgress } from './progress.js';
 import { action } from './run-command.js';
+import { maskToken } from '../util/mask-token.js';
 
 interface ScanValues {
   frames: boolean;
@@ -190,7 +191,7 @@ function openWriter(target: OutputTarget | null, v: ScanValues, setup: AnalysisS
 /** Start the viewer's feed and wait for the first viewer, so that it sees the replay from its start. */
 async function startViewerFeed(options: FeedOptions, geometry: ArrayGeometry, sampleRate: number, hop: number): Promise<FeedServer> {
   const feed = await startFeedServer({ ...options, geometry, settings: { source: 'replay', sample_rate_hz: sampleRate, hop_s: hop / sampleRate } });
-  process.stderr.write(`bearline: live view at ${feed.url} (feed ${feed.feedUrl}); the replay starts when a viewer connects\n`);
+  process.stderr.write(`bearline: live view at ${maskToken(feed.url)} (feed ${maskToken(feed.feedUrl)}); the replay starts when a viewer connects${options.token ? ' (the token is masked: put in the one you gave)' : ''}\n`);
   while (feed.stats().clients === 0) await new Promise((r) => setTimeout(r, 50));
   return feed;
 }

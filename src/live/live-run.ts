@@ -29,6 +29,7 @@ import type { TrackerOptions } from '../track/options.js';
 import { TrackingSession } from '../track/tracking-session.js';
 import { RuntimeFailure } from '../util/errors.js';
 import { stderrWarning } from '../util/stderr-warning.js';
+import { maskToken } from '../util/mask-token.js';
 
 /** Where the live audio comes from. */
 export type LiveInput = { readonly kind: 'stdin'; readonly sampleRate: number; readonly channels: number } | { readonly kind: 'recorder'; readonly recorder: RecorderOptions };
@@ -82,7 +83,7 @@ async function openSinks(plan: LivePlan, sampleRate: number, channels: number): 
       speed_of_sound_m_s: setup.speedOfSound,
     };
     const feed = plan.feed ? await startFeedServer({ ...plan.feed, geometry: setup.geometry, settings }) : null;
-    if (feed) process.stderr.write(`bearline: live view at ${feed.url} (feed ${feed.feedUrl})\n`);
+    if (feed) process.stderr.write(`bearline: live view at ${maskToken(feed.url)} (feed ${maskToken(feed.feedUrl)})${plan.feed?.token ? ' (the token is masked: put in the one you gave)' : ''}\n`);
     const all = [writer, log, mqtt, feed].filter((s): s is NonNullable<typeof s> => s !== null);
     return { writer, log, mqtt, feed, all };
   } catch (err) {
@@ -149,7 +150,7 @@ export async function runLive(plan: LivePlan): Promise<void> {
   let health: Awaited<ReturnType<typeof startHealthServer>> | null = null;
   let source: AudioSource;
   try {
-    health = station.health === null ? null : await startHealthServer(station.health, station.healthHost, () => monitor.snapshot());
+    health = station.health === null ? null : await startHealthServer({ port: station.health, host: station.healthHost, allowHosts: station.healthAllowHosts }, () => monitor.snapshot());
     if (health) process.stderr.write(`bearline: status as JSON at http://${station.healthHost}:${health.port}/health\n`);
     source = await openSource(plan);
   } catch (err) {
