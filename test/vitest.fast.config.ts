@@ -7,6 +7,6 @@ import full from './vitest.config.js';
  * brokers (test/live, the MQTT sink against mosquitto), and the browser viewer in Chromium.
  * `npm test` runs them all.
  */
-export const HEAVY = ['test/sim/**', 'test/accuracy/**', 'test/live/**', 'test/io/mqtt-sink.test.ts', 'test/io/mqtt-queue.test.ts', 'test/feed/viewer.test.ts'];
+export const HEAVY = ['test/sim/**', 'test/accuracy/**', 'test/live/**', 'test/io/mqtt-sink.test.ts', 'test/io/mqtt-queue.test.ts', 'test/cli/readme-commands.test.ts', 'test/feed/viewer.test.ts'];
 
 export default mergeConfig(full, defineConfig({ test: { exclude: HEAVY } }));
