@@ -4,9 +4,10 @@ import full from './vitest.config.js';
 /**
  * `npm run test:fast`: every test but the heavy ones, for the edit-test loop. Left out: the
  * simulator's scenes (test/sim, test/accuracy), the live runs with stand-in recorders and
- * brokers (test/live, the MQTT sink against mosquitto), and the browser viewer in Chromium.
+ * brokers (test/live, the MQTT sink and queues against mosquitto), the README's command lines,
+ * and the browser viewer in Chromium.
  * `npm test` runs them all.
  */
-export const HEAVY = ['test/sim/**', 'test/accuracy/**', 'test/live/**', 'test/io/mqtt-sink.test.ts', 'test/io/mqtt-queue.test.ts', 'test/cli/readme-commands.test.ts', 'test/feed/viewer.test.ts'];
+export const HEAVY = ['test/sim/**', 'test/accuracy/**', 'test/live/**', 'test/io/mqtt-sink.test.ts', 'test/io/mqtt-queue.test.ts', 'test/cli/readme-commands.test.ts', 'test/station/install.test.ts', 'test/feed/viewer.test.ts'];
 
 export default mergeConfig(full, defineConfig({ test: { exclude: HEAVY } }));
