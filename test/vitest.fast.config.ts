@@ -4,8 +4,9 @@ import full from './vitest.config.js';
 /**
  * `npm run test:fast`: every test but the heavy ones, for the edit-test loop. Left out: the
  * simulator's scenes (test/sim, test/accuracy), the live runs with stand-in recorders and
- * brokers (test/live, the MQTT sink and live locating against mosquitto), the browser viewers in
- * Chromium, and the report's simulated night and week of logs.
+ * brokers (test/live, the MQTT sink and queues and live locating against mosquitto), the README's
+ * command lines, the install test, the browser viewers in Chromium, and the report's simulated
+ * night and week of logs.
  * `npm test` runs them all.
  */
 export const HEAVY = [
@@ -13,6 +14,9 @@ export const HEAVY = [
   'test/accuracy/**',
   'test/live/**',
   'test/io/mqtt-sink.test.ts',
+  'test/io/mqtt-queue.test.ts',
+  'test/cli/readme-commands.test.ts',
+  'test/station/install.test.ts',
   'test/fleet/**',
   'test/feed/viewer.test.ts',
   'test/feed/viewer-history.test.ts',

@@ -57,6 +57,8 @@ export interface StreamHandlers {
   /** A hole in a live stream (marked on the block after it), told before the hops after it. */
   onGap?(gap: StreamGap, epochMs: number): void | Promise<void>;
   onProgress?(framesDone: number): void;
+  /** Checked after each block: true ends the run there (a stop signal), as if the stream had ended. */
+  shouldStop?(): boolean;
 }
 
 /**
@@ -93,6 +95,7 @@ export async function runAnalysis(source: AudioSource, analyzer: HopAnalyzer, ha
     }
     done += block.length;
     handlers.onProgress?.(done);
+    if (handlers.shouldStop?.()) break;
   }
   return hops;
 }

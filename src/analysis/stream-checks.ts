@@ -48,6 +48,7 @@ export class StreamChecks {
   private offGeometry = 0;
   private saidEdge = false;
   private saidGeometry = false;
+  private readonly geometryName: string;
 
   constructor(
     geometry: ArrayGeometry,
@@ -57,6 +58,7 @@ export class StreamChecks {
     speedOfSound: number,
     private readonly where: string = 'the stream',
   ) {
+    this.geometryName = geometry.name;
     const baselines = pairs.map(([a, b]) => sub(geometry.mics[a]!.position, geometry.mics[b]!.position));
     this.physical = Float64Array.from(baselines, (b) => (Math.sqrt(dot(b, b)) / speedOfSound) * sampleRate);
     this.largestLag = Math.max(1, ...Array.from(maxLag));
@@ -136,8 +138,10 @@ export class StreamChecks {
     return (
       `${pct} % of the confident hops in ${this.where} put a delay at or beyond the largest delay the ` +
       `geometry allows (spacing / speed of sound): unless the sources sit on the line through the mics, ` +
-      `the true delay is larger, so the spacing given is too small or the channels are not the mics the ` +
-      `geometry names; check the array with 'bearline check-array'`
+      `the true delay is larger, so the array is probably larger than "${this.geometryName}" says ` +
+      `(e.g. a 20 cm array scanned with a 10 cm preset or --spacing: give the array's own preset, ` +
+      `--spacing or geometry file), or the channels are not the mics the geometry names; ` +
+      `check the array with 'bearline check-array'`
     );
   }
 
@@ -145,8 +149,9 @@ export class StreamChecks {
     const pct = Math.round((100 * this.offGeometry) / Math.max(1, this.confident));
     return (
       `${pct} % of the confident hops in ${this.where} have pair delays that fit no single direction of this ` +
-      `geometry: the geometry file probably does not describe the array (positions, units or channel order); ` +
-      `check it with 'bearline check-array'`
+      `geometry: "${this.geometryName}" probably does not describe the array (its size, positions, units or ` +
+      `channel order; e.g. a 20 cm array scanned with a 10 cm preset: give the array's own preset, --spacing or ` +
+      `geometry file); check it with 'bearline check-array'`
     );
   }
 }

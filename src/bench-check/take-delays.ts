@@ -12,7 +12,7 @@
  * also the most exact estimate.
  */
 import { makeBands, type BandLayout } from '../dsp/bands.js';
-import { RealFft } from '../dsp/fft.js';
+import { RealFft, type FftBuffer } from '../dsp/fft.js';
 import { inverseMagnitudes, PairCorrelator, refineLag } from '../dsp/gcc.js';
 import { hannWindow } from '../dsp/window.js';
 
@@ -64,82 +64,151 @@ export function chooseFrame(sampleRate: number, largestLagSamples: number, segme
 }
 
 /**
- * Measure a take: samples [start, end) of each channel, cut into segments of about
- * `segmentSamples`. `largestLag` (samples) sizes the frame for the lags the take may reach.
+ * Measure a take as it streams: push() its samples in order (any block sizes), then finish().
+ * The take of `total` samples is cut into segments of about `segmentSamples`; each segment's
+ * frames (hop = frame / 2, none crossing a segment's end) are summed as they complete, so the
+ * memory is one frame per channel, whatever the take's length. `largestLag` (samples) sizes the
+ * frame for the lags the take may reach.
  */
-export function measureTake(
-  channels: readonly Float32Array[],
-  start: number,
-  end: number,
-  search: DelaySearch,
-  largestLag: number,
-): TakeDelays {
-  const M = channels.length;
-  const P = search.pairs.length;
-  const fs = search.sampleRate;
-  const n = chooseFrame(fs, largestLag, Math.min(search.segmentSamples, end - start));
-  const hop = n / 2;
-  const fft = new RealFft(n);
-  const bins = n / 2 + 1;
-  const win = hannWindow(n);
-  const buf = fft.createInput();
-  const spectra = Array.from({ length: M }, () => fft.createSpectrum());
-  const invMag = Array.from({ length: M }, () => new Float64Array(bins));
-  const bands: BandLayout = makeBands(n, fs, search.minFreqHz, Math.min(search.maxFreqHz, 0.45 * fs), 1);
-  const useBand = new Uint8Array([1]);
-  const ones = new Float64Array(bins).fill(1);
-  const corr = search.pairs.map(() => new PairCorrelator(n, n / 2 - 1));
-  const binCount = bands.endBin - bands.firstBin;
+export class TakeMeasurer {
+  private readonly M: number;
+  private readonly P: number;
+  private readonly n: number;
+  private readonly hop: number;
+  private readonly fft: RealFft;
+  private readonly bins: number;
+  private readonly win: Float64Array;
+  private readonly buf: FftBuffer;
+  private readonly spectra: FftBuffer[];
+  private readonly invMag: Float64Array[];
+  private readonly bands: BandLayout;
+  private readonly useBand = new Uint8Array([1]);
+  private readonly ones: Float64Array;
+  private readonly corr: PairCorrelator[];
+  private readonly binCount: number;
+  private readonly segCount: number;
+  private readonly segLen: number;
+  private readonly centre: Float64Array;
+  private readonly haveCentre: Uint8Array;
+  private readonly segments: SegmentDelays[] = [];
+  private readonly ms: Float64Array;
+  /** The current frame's samples per channel (filled to `held`). */
+  private readonly frame: Float32Array[];
+  private held = 0;
+  private frames = 0;
+  /** Samples taken so far, and the current segment's index and [s0, s1) (relative to the take). */
+  private taken = 0;
+  private seg = 0;
+  private s0 = 0;
+  private s1 = 0;
 
-  const total = end - start;
-  const segCount = Math.max(1, Math.round(total / search.segmentSamples));
-  const segLen = Math.floor(total / segCount);
-  const centre = new Float64Array(P);
-  const haveCentre = new Uint8Array(P);
-  const segments: SegmentDelays[] = [];
-  const ms = new Float64Array(M);
+  constructor(
+    channels: number,
+    private readonly total: number,
+    private readonly search: DelaySearch,
+    largestLag: number,
+  ) {
+    this.M = channels;
+    this.P = search.pairs.length;
+    const fs = search.sampleRate;
+    const n = chooseFrame(fs, largestLag, Math.min(search.segmentSamples, total));
+    this.n = n;
+    this.hop = n / 2;
+    this.fft = new RealFft(n);
+    this.bins = n / 2 + 1;
+    this.win = hannWindow(n);
+    this.buf = this.fft.createInput();
+    this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
+    this.invMag = Array.from({ length: channels }, () => new Float64Array(this.bins));
+    this.bands = makeBands(n, fs, search.minFreqHz, Math.min(search.maxFreqHz, 0.45 * fs), 1);
+    this.ones = new Float64Array(this.bins).fill(1);
+    this.corr = search.pairs.map(() => new PairCorrelator(n, n / 2 - 1));
+    this.binCount = this.bands.endBin - this.bands.firstBin;
+    this.segCount = Math.max(1, Math.round(total / search.segmentSamples));
+    this.segLen = Math.floor(total / this.segCount);
+    this.centre = new Float64Array(this.P);
+    this.haveCentre = new Uint8Array(this.P);
+    this.ms = new Float64Array(channels);
+    this.frame = Array.from({ length: channels }, () => new Float32Array(n));
+    this.startSegment(0);
+  }
 
-  for (let s = 0; s < segCount; s++) {
-    const s0 = start + s * segLen;
-    const s1 = s === segCount - 1 ? end : s0 + segLen;
-    for (const pc of corr) {
+  private startSegment(s: number): void {
+    this.seg = s;
+    this.s0 = s * this.segLen;
+    this.s1 = s === this.segCount - 1 ? this.total : this.s0 + this.segLen;
+    this.held = 0;
+    this.frames = 0;
+    for (const pc of this.corr) {
       pc.accRe.fill(0);
       pc.accIm.fill(0);
     }
-    let frames = 0;
-    for (let f = s0; f + n <= s1; f += hop) {
-      for (let c = 0; c < M; c++) {
+  }
+
+  /** Samples [offset, offset + length) of each channel array, next in the take. Samples past the take's end are ignored. */
+  push(channels: readonly Float32Array[], offset: number, length: number): void {
+    let i = offset;
+    const stop = offset + Math.min(length, this.total - this.taken);
+    while (i < stop) {
+      const room = Math.min(stop - i, this.s1 - this.taken, this.n - this.held);
+      for (let c = 0; c < this.M; c++) {
         const x = channels[c]!;
-        for (let i = 0; i < n; i++) buf[i] = x[f + i]! * win[i]!;
-        fft.forwardInterleaved(buf, spectra[c]!);
-        inverseMagnitudes(spectra[c]!, bands.firstBin, bands.endBin, invMag[c]!);
+        const f = this.frame[c]!;
+        let acc = 0;
+        for (let k = 0; k < room; k++) {
+          const v = x[i + k]!;
+          f[this.held + k] = v;
+          acc += v * v;
+        }
+        this.ms[c] += acc;
       }
-      for (let p = 0; p < P; p++) {
-        const [a, b] = search.pairs[p]!;
-        corr[p]!.accumulate(spectra[a]!, spectra[b]!, invMag[a]!, invMag[b]!, ones, bands.firstBin, bands.endBin, 1);
+      this.held += room;
+      this.taken += room;
+      i += room;
+      if (this.held === this.n) {
+        this.addFrame();
+        for (const f of this.frame) f.copyWithin(0, this.hop, this.n);
+        this.held = this.n - this.hop;
       }
-      frames++;
+      if (this.taken === this.s1) {
+        this.endSegment();
+        if (this.seg + 1 < this.segCount) this.startSegment(this.seg + 1);
+      }
     }
-    for (let c = 0; c < M; c++) {
-      const x = channels[c]!;
-      let acc = 0;
-      for (let i = s0; i < s1; i++) acc += x[i]! * x[i]!;
-      ms[c] += acc;
+  }
+
+  private addFrame(): void {
+    const { fft, bands, buf, win, n } = this;
+    for (let c = 0; c < this.M; c++) {
+      const x = this.frame[c]!;
+      for (let i = 0; i < n; i++) buf[i] = x[i]! * win[i]!;
+      fft.forwardInterleaved(buf, this.spectra[c]!);
+      inverseMagnitudes(this.spectra[c]!, bands.firstBin, bands.endBin, this.invMag[c]!);
     }
+    for (let p = 0; p < this.P; p++) {
+      const [a, b] = this.search.pairs[p]!;
+      this.corr[p]!.accumulate(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, this.ones, bands.firstBin, bands.endBin, 1);
+    }
+    this.frames++;
+  }
+
+  private endSegment(): void {
+    const { P, search, fft, bands, n, frames } = this;
+    const fs = search.sampleRate;
     const seg: SegmentDelays = {
-      timeS: (s0 + s1) / 2 / fs,
+      timeS: (this.s0 + this.s1) / 2 / fs,
       tdoaS: new Float64Array(P).fill(NaN),
       sign: new Int8Array(P),
       peak: new Float64Array(P),
     };
     if (frames > 0) {
       // A perfectly coherent pair peaks at 2 * bins * frames / n after the inverse FFT.
-      const full = (2 * binCount * frames) / n;
+      const full = (2 * this.binCount * frames) / n;
       for (let p = 0; p < P; p++) {
-        const pc = corr[p]!;
+        const pc = this.corr[p]!;
         pc.correlate(fft, bands.firstBin, bands.endBin);
-        const c0 = haveCentre[p] ? centre[p]! : 0;
-        const w = haveCentre[p] ? search.trackWindow : search.firstWindow[p]!;
+        const c0 = this.haveCentre[p] ? this.centre[p]! : 0;
+        const w = this.haveCentre[p] ? search.trackWindow : search.firstWindow[p]!;
         const lo = Math.ceil(c0 - w);
         const hi = Math.floor(c0 + w);
         let best = lo;
@@ -157,24 +226,50 @@ export function measureTake(
         const sign = pc.at(best) < 0 ? -1 : 1;
         if (sign < 0) {
           // Refine the inverted peak as a maximum of the negated correlation.
-          for (let k = 0; k < bins; k++) {
+          for (let k = 0; k < this.bins; k++) {
             pc.accRe[k] = -pc.accRe[k]!;
             pc.accIm[k] = -pc.accIm[k]!;
           }
         }
-        const lag = refineLag(pc, bands, useBand, best, 6);
+        const lag = refineLag(pc, bands, this.useBand, best, 6);
         seg.tdoaS[p] = lag / fs;
         seg.sign[p] = sign;
-        centre[p] = lag;
-        haveCentre[p] = 1;
+        this.centre[p] = lag;
+        this.haveCentre[p] = 1;
       }
     }
-    segments.push(seg);
+    this.segments.push(seg);
   }
-  const levelDbfs = new Float64Array(M);
-  for (let c = 0; c < M; c++) {
-    const m = ms[c]! / Math.max(1, total);
-    levelDbfs[c] = m > 0 ? 10 * Math.log10(m) : -Infinity;
+
+  /** Samples taken so far. */
+  get samplesTaken(): number {
+    return this.taken;
   }
-  return { segments, levelDbfs, frame: n };
+
+  /**
+   * The take's delays and levels. A take that ended early (a truncated file) keeps the segments
+   * it completed plus the one it was in, levels over what was read.
+   */
+  finish(): TakeDelays {
+    if (this.taken < this.total && this.taken > this.s0) this.endSegment();
+    const levelDbfs = new Float64Array(this.M);
+    for (let c = 0; c < this.M; c++) {
+      const m = this.ms[c]! / Math.max(1, this.taken);
+      levelDbfs[c] = m > 0 ? 10 * Math.log10(m) : -Infinity;
+    }
+    return { segments: this.segments, levelDbfs, frame: this.n };
+  }
+}
+
+/** Measure a take held in memory: samples [start, end) of each channel (TakeMeasurer in one push). */
+export function measureTake(
+  channels: readonly Float32Array[],
+  start: number,
+  end: number,
+  search: DelaySearch,
+  largestLag: number,
+): TakeDelays {
+  const m = new TakeMeasurer(channels.length, end - start, search, largestLag);
+  m.push(channels, start, end - start);
+  return m.finish();
 }

@@ -16,6 +16,7 @@ import { resolveArray, resolveSpeed } from './geometry-option.js';
 import { addOptions, readOptions } from './options.js';
 import { analyseRecording } from './recording-analysis.js';
 import { action } from './run-command.js';
+import { accuracyReportJson } from '../accuracy/report-json.js';
 
 interface AccuracyValues {
   truth: string | null;
@@ -120,7 +121,7 @@ export function registerAccuracy(program: Command): void {
       const flags = readOptions<AccuracyValues>(cmd, accuracyOptionSpecs);
       const out = await measureAccuracy(file, cmd);
       if (flags.json) {
-        process.stdout.write(JSON.stringify({ recording: file, truth: out.truthPath, observation_s: out.observationS, ...out.report }) + '\n');
+        process.stdout.write(JSON.stringify({ recording: file, truth: out.truthPath, observation_s: out.observationS, ...accuracyReportJson(out.report) }) + '\n');
       } else {
         process.stdout.write(formatAccuracyReport(out.report, { recording: file, truth: out.truthPath, observationS: out.observationS, coherenceFrom: 'measured in the recording' }));
       }

@@ -1,6 +1,6 @@
-import { readFileSync } from 'node:fs';
 import type { Command } from 'commander';
-import { runBenchCheck, type TakeAudio } from '../bench-check/bench-check.js';
+import { runStreamedBenchCheck, type StreamedTake } from '../bench-check/bench-check.js';
+import type { BenchFit } from '../bench-check/array-fit.js';
 import { benchCheckOptionSpecs, resolveBenchCheckOptions, type BenchCheckOptions } from '../bench-check/options.js';
 import { correctedGeometry, resultJson, textReport } from '../bench-check/report.js';
 import { parseSpanList, parseTakeArgument } from '../bench-check/take-list.js';
@@ -9,7 +9,9 @@ import { checkItems } from '../bench-check/verdict.js';
 import { UsageError } from '../util/errors.js';
 import { checkGeometryForStream } from '../geometry/geometry-file.js';
 import { planOutputs, writeOutputFiles, type OutputFile } from '../sinks/output-target.js';
-import { readWavFile, type WavData } from '../sources/wav-reader.js';
+import { openWavSource, type WavSource } from '../sources/wav-source.js';
+import { stderrWarning } from '../util/stderr-warning.js';
+import { readSettingsText } from '../util/read-json-file.js';
 import { textOption, type OptionSpec } from '../options/option-spec.js';
 import { arrayOptionSpecs, resolveArray, resolveSpeed, type ArrayOptionValues } from './geometry-option.js';
 import { addOptions, givenOptions, readOptions } from './options.js';
@@ -30,70 +32,79 @@ const checkOptionSpecs: readonly OptionSpec<keyof CheckValues>[] = [
 ];
 
 interface LoadedTakes {
-  takes: TakeAudio[];
+  takes: StreamedTake[];
   sampleRate: number;
   channels: number;
   inputs: string[];
+  /** Close the opened recordings. */
+  close(): Promise<void>;
 }
 
-function loadWav(path: string, cache: Map<string, WavData>): WavData {
-  let w = cache.get(path);
-  if (!w) {
-    w = readWavFile(path);
-    cache.set(path, w);
-  }
-  return w;
-}
+/** Blocks of 64 Ki frames: at 8 channels of float samples, 2 MiB per read. */
+const TAKE_BLOCK_FRAMES = 65536;
 
-function loadTakes(args: readonly string[], spansPath: string | null): LoadedTakes {
-  const cache = new Map<string, WavData>();
-  const takes: TakeAudio[] = [];
-  const inputs: string[] = [];
-  if (spansPath !== null) {
-    if (args.length !== 1 || /^[-+.\d]/.test(args[0]!) && args[0]!.includes('=')) {
-      throw new UsageError('with --spans give exactly one recording (a plain REC.wav, the directions come from the span list)');
+/**
+ * Open every recording once (the scan's WAV source: any length, RF64, a truncated file read to
+ * where it ends with a warning; no device, FIFO or directory) and plan the takes; nothing is
+ * read beyond the headers yet.
+ */
+async function loadTakes(args: readonly string[], spansPath: string | null): Promise<LoadedTakes> {
+  const opened = new Map<string, WavSource>();
+  const open = async (path: string): Promise<WavSource> => {
+    let w = opened.get(path);
+    if (!w) {
+      w = await openWavSource(path, { blockFrames: TAKE_BLOCK_FRAMES, onWarning: stderrWarning });
+      opened.set(path, w);
     }
-    const rec = args[0]!;
-    let text: string;
-    try {
-      text = readFileSync(spansPath, 'utf8');
-    } catch (err) {
-      throw new UsageError(`cannot read the span list ${spansPath}: ${(err as NodeJS.ErrnoException).code === 'ENOENT' ? 'no such file; check the path' : (err as Error).message}`);
-    }
-    const spans = parseSpanList(text, `span list ${spansPath}`);
-    const w = loadWav(rec, cache);
-    const length = w.channels[0]?.length ?? 0;
-    const lengthS = length / w.sampleRate;
-    for (const s of spans) {
-      if (s.toS > lengthS + 1e-9) {
-        throw new UsageError(`span list ${spansPath} line ${s.line}: the span ends at ${s.toS} s but ${rec} lasts ${lengthS.toFixed(3)} s; fix the span`);
+    return w;
+  };
+  const close = async (): Promise<void> => {
+    for (const w of opened.values()) await w.close();
+  };
+  try {
+    const takes: StreamedTake[] = [];
+    const inputs: string[] = [];
+    if (spansPath !== null) {
+      if (args.length !== 1 || /^[-+.\d]/.test(args[0]!) && args[0]!.includes('=')) {
+        throw new UsageError('with --spans give exactly one recording (a plain REC.wav, the directions come from the span list)');
       }
-      takes.push({
-        label: `${s.fromS}-${s.toS}s`,
-        azimuthDeg: s.azimuthDeg,
-        elevationDeg: s.elevationDeg,
-        recording: rec,
-        channels: w.channels,
-        start: Math.round(s.fromS * w.sampleRate),
-        end: Math.min(length, Math.round(s.toS * w.sampleRate)),
-      });
+      const rec = args[0]!;
+      const spans = parseSpanList(readSpanList(spansPath), `span list ${spansPath}`);
+      const w = await open(rec);
+      const length = w.format.totalFrames ?? 0;
+      const rate = w.format.sampleRate;
+      for (const s of spans) {
+        if (s.toS > length / rate + 1e-9) {
+          throw new UsageError(`span list ${spansPath} line ${s.line}: the span ends at ${s.toS} s but ${rec} lasts ${(length / rate).toFixed(3)} s; fix the span`);
+        }
+        const start = Math.round(s.fromS * rate);
+        const end = Math.min(length, Math.round(s.toS * rate));
+        takes.push({ label: `${s.fromS}-${s.toS}s`, azimuthDeg: s.azimuthDeg, elevationDeg: s.elevationDeg, recording: rec, frames: end - start, blocks: () => w.span(start, end) });
+      }
+      inputs.push(rec, spansPath);
+    } else {
+      if (args.length === 0) throw new UsageError('give the takes: AZ=REC.wav for each source direction (or one REC.wav with --spans LIST)');
+      for (const arg of args) {
+        const t = parseTakeArgument(arg);
+        const w = await open(t.path);
+        takes.push({ label: arg, azimuthDeg: t.azimuthDeg, elevationDeg: t.elevationDeg, recording: t.path, frames: w.format.totalFrames ?? 0, blocks: () => w.blocks() });
+        inputs.push(t.path);
+      }
     }
-    inputs.push(rec, spansPath);
-  } else {
-    if (args.length === 0) throw new UsageError('give the takes: AZ=REC.wav for each source direction (or one REC.wav with --spans LIST)');
-    for (const arg of args) {
-      const t = parseTakeArgument(arg);
-      const w = loadWav(t.path, cache);
-      takes.push({ label: arg, azimuthDeg: t.azimuthDeg, elevationDeg: t.elevationDeg, recording: t.path, channels: w.channels, start: 0, end: w.channels[0]?.length ?? 0 });
-      inputs.push(t.path);
+    const first = opened.values().next().value as WavSource;
+    for (const [path, w] of opened) {
+      if (w.format.sampleRate !== first.format.sampleRate) throw new UsageError(`${path} is at ${w.format.sampleRate} Hz but the other takes at ${first.format.sampleRate} Hz: record every take at one rate`);
+      if (w.format.channels !== first.format.channels) throw new UsageError(`${path} has ${w.format.channels} channels but the other takes ${first.format.channels}: record every take with the whole array`);
     }
+    return { takes, sampleRate: first.format.sampleRate, channels: first.format.channels, inputs, close };
+  } catch (err) {
+    await close();
+    throw err;
   }
-  const first = cache.values().next().value as WavData;
-  for (const [path, w] of cache) {
-    if (w.sampleRate !== first.sampleRate) throw new UsageError(`${path} is at ${w.sampleRate} Hz but the other takes at ${first.sampleRate} Hz: record every take at one rate`);
-    if (w.channels.length !== first.channels.length) throw new UsageError(`${path} has ${w.channels.length} channels but the other takes ${first.channels.length}: record every take with the whole array`);
-  }
-  return { takes, sampleRate: first.sampleRate, channels: first.channels.length, inputs };
+}
+
+function readSpanList(path: string): string {
+  return readSettingsText(path, 'the span list', '--spans');
 }
 
 async function checkArray(args: string[], cmd: Command): Promise<void> {
@@ -114,13 +125,20 @@ async function checkArray(args: string[], cmd: Command): Promise<void> {
   const inputPaths = [...args.map((a) => (a.includes('=') ? a.slice(a.indexOf('=') + 1) : a)), ...(flags.spans ? [flags.spans] : []), ...(array.array ? [array.array] : [])];
   const planned = new Map(planOutputs(outputs, inputPaths).map((t) => [t.option, t]));
 
-  const loaded = loadTakes(args, flags.spans);
-  if (loaded.channels < 2) throw new UsageError('the takes have one channel: an array check needs one channel per mic');
-  checkGeometryForStream(geometry, loaded.channels, loaded.sampleRate, c, 'the takes');
-  for (const t of loaded.takes) {
-    if (t.end - t.start < 0.05 * loaded.sampleRate) throw new UsageError(`take ${t.label} is shorter than 50 ms: give takes of a second or more`);
+  const loaded = await loadTakes(args, flags.spans);
+  let fit: BenchFit;
+  try {
+    if (loaded.channels < 2) throw new UsageError('the takes have one channel: an array check needs one channel per mic');
+    checkGeometryForStream(geometry, loaded.channels, loaded.sampleRate, c, 'the takes');
+    for (const t of loaded.takes) {
+      if (t.frames < 0.05 * loaded.sampleRate) throw new UsageError(`take ${t.label} is shorter than 50 ms: give takes of a second or more`);
+    }
+    fit = await runStreamedBenchCheck(geometry, c, loaded.sampleRate, loaded.channels, loaded.takes, opts, (t, got) =>
+      stderrWarning(`take ${t.label} ended after ${(got / loaded.sampleRate).toFixed(1)} s of ${(t.frames / loaded.sampleRate).toFixed(1)} s (its file is shorter than it says); measured over what it holds`),
+    );
+  } finally {
+    await loaded.close();
   }
-  const fit = runBenchCheck(geometry, c, loaded.sampleRate, loaded.takes, opts);
   const items = checkItems(fit, opts);
   const ctx = { geometry, sampleRate: loaded.sampleRate, speedOfSound: c };
   const text = textReport(fit, items, ctx);

@@ -21,6 +21,7 @@ import { addFeedOptions, feedOptionsOf } from './serve-flags.js';
 import { analyseRecording } from './recording-analysis.js';
 import { action } from './run-command.js';
 import { runSimulate } from './simulate.js';
+import { maskToken } from '../util/mask-token.js';
 
 interface DemoValues {
   fast: boolean;
@@ -155,7 +156,7 @@ async function runDemo(cmd: Command): Promise<void> {
     }
     const pace = flags.fast ? 'as fast as it goes' : 'at real-time pace';
     process.stdout.write(`bearline demo: ${scene.durationS} s of ${scenePath}, ${geometry.mics.length} mics, analysed ${pace}\n`);
-    if (feed) process.stdout.write(`viewer: ${feed.url}   (Ctrl-C to stop)\n`);
+    if (feed) process.stdout.write(`viewer: ${maskToken(feed.url)}   (Ctrl-C to stop)\n`);
     process.stdout.write('   time  direction            track    band                 length  spread\n');
     const result = await analyseRecording({
       wav: files.wav,

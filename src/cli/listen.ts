@@ -4,7 +4,7 @@ import { feedOptionSpecs } from '../feed/feed-options.js';
 import { checkGeometryForStream } from '../geometry/geometry-file.js';
 import { runLive, type LiveInput } from '../live/live-run.js';
 import { flagOption, textOption, type OptionSpec } from '../options/option-spec.js';
-import { DEFAULT_MQTT_QUEUE_DIR, mqttOptionSpecs, resolveMqttOptions, type MqttOptions } from '../sinks/mqtt-options.js';
+import { mqttOptionSpecs, mqttQueueRoot, resolveMqttOptions, type MqttOptions } from '../sinks/mqtt-options.js';
 import { checkFolderOption, planOutput } from '../sinks/output-target.js';
 import { recordLogOptionSpecs, resolveRecordLogOptions, type RecordLogOptions } from '../sinks/record-log-options.js';
 import { RECORDER_OPTION_SPECS, resolveRecorderOptions, type RecorderOptions } from '../sources/recorder-options.js';
@@ -98,7 +98,10 @@ async function listen(cmd: Command): Promise<void> {
   const mqtt = resolveMqttOptions(sectionSettings<MqttOptions>(cmd, mqttOptionSpecs, stages.profile, 'mqtt'));
   const feed = resolveServe(cmd, flags.serve, feedOptionSpecs);
   if (log.logDir !== null) checkFolderOption('--log-dir', log.logDir);
-  if (mqtt.mqtt !== null) checkFolderOption('--mqtt-queue-dir', mqtt.mqttQueueDir ?? DEFAULT_MQTT_QUEUE_DIR);
+  if (mqtt.mqtt !== null) {
+    const given = mqtt.mqttQueueDir !== null;
+    checkFolderOption(given ? '--mqtt-queue-dir' : 'the MQTT queue folder (the default; give --mqtt-queue-dir to move it)', mqttQueueRoot(mqtt));
+  }
   if (flags.quiet && flags.out !== null) throw new UsageError('--quiet and --out both say where records go; give one of them');
   if (flags.quiet && flags.frames) throw new UsageError('--frames writes frame records to stdout, which --quiet turns off; use --log-frames to log them');
   const target = flags.out === null || flags.out === '-' ? null : planOutput('--out', flags.out);

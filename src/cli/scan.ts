@@ -10,7 +10,8 @@ import type { AudioSource } from '../sources/audio-source.js';
 import { pacedSource, paceOptionSpecs } from '../sources/paced-source.js';
 import { openPcmStreamSource } from '../sources/pcm-stream-source.js';
 import { abandonOnSignal, planOutput, type OutputTarget } from '../sinks/output-target.js';
-import { fanOut } from '../sinks/record-sink.js';
+import { countingSink, describeCounts, fanOut } from '../sinks/record-sink.js';
+import { stopOnSignal } from '../station/stop-signal.js';
 import { RecordWriter, type RecordFormat } from '../sinks/record-writer.js';
 import { replacedSamplesLine } from '../sources/replaced-samples-report.js';
 import { stderrWarning } from '../util/stderr-warning.js';
@@ -28,6 +29,7 @@ import { addOptions, readOptions } from './options.js';
 import { addFeedOptions, resolveServe } from './serve-flags.js';
 import { createProgress } from './progress.js';
 import { action } from './run-command.js';
+import { maskToken } from '../util/mask-token.js';
 
 interface ScanValues {
   frames: boolean;
@@ -113,6 +115,7 @@ async function scan(file: string | undefined, cmd: Command): Promise<void> {
   const opened = await openSource(file, v, feedOptions ? SERVE_BLOCK_FRAMES : undefined);
   const source = feedOptions ? pacedSource(opened, v.speed) : opened;
   let feed: FeedServer | null = null;
+  let stopAt: { signal: NodeJS.Signals; s: number } | null = null;
   try {
     const { sampleRate, channels, totalFrames } = source.format;
     const where = file ?? 'the stdin stream';
@@ -123,28 +126,43 @@ async function scan(file: string | undefined, cmd: Command): Promise<void> {
     if (feedOptions) feed = await startViewerFeed(feedOptions, setup.geometry, sampleRate, setup.options.hop);
     const writer = openWriter(target, v, setup);
     // From here on, any failure (or Ctrl-C) abandons the partial file: the old file at --out stays as it was.
-    const undoSignals = target ? abandonOnSignal(target) : () => undefined;
+    // Records that go straight out (stdout, a FIFO, a device) are final as they are written: there a
+    // stop signal ends the scan like the end of the input, so the call in progress and every record
+    // before it are written (stop-signal.ts).
+    const stop = target && !target.through ? null : stopOnSignal(() => (v.stdin ? opened.close() : undefined));
+    const undoSignals = target && !target.through ? abandonOnSignal(target) : () => stop?.dispose();
     try {
-      const sink = feed ? fanOut([writer, feed]) : writer;
+      const { sink: counted, counts } = countingSink(writer);
+      const sink = feed ? fanOut([counted, feed]) : counted;
       const session = TrackingSession.of(setup, stages.tracker, sink, { diagnostics: v.diagnostics, viewerFields: v.viewerFields || feed !== null, onWarning: stderrWarning });
       const progress = createProgress(`scanning ${file ?? 'stdin'}`, totalFrames, sampleRate);
       let hops: number;
       try {
         const tap = feed ? evidenceTap(feed, setup) : null;
+        let doneFrames = 0;
         hops = await runAnalysis(source, setup.analyzer, {
           onHop: (r, time) => {
             const out = session.hop(r, time);
             tap?.(time.timeS);
             return out;
           },
-          onProgress: (done) => progress.update(done),
+          onProgress: (done) => {
+            doneFrames = done;
+            progress.update(done);
+          },
+          shouldStop: () => stop?.signal !== null && stop?.signal !== undefined,
         });
         await session.finish();
+        if (stop?.signal) stopAt = { signal: stop.signal, s: doneFrames / sampleRate };
       } finally {
         progress.finish();
       }
-      if (hops === 0) stderrWarning(`${where} is shorter than one analysis frame (${setup.options.frame} samples): no records`);
+      if (hops === 0 && !stopAt) stderrWarning(`${where} is shorter than one analysis frame (${setup.options.frame} samples): no records`);
       await writer.close();
+      if (stopAt) {
+        const of = totalFrames === null ? '' : ` of ${(totalFrames / sampleRate).toFixed(1)} s`;
+        process.stderr.write(`bearline: ${stopAt.signal}: stopped at ${stopAt.s.toFixed(1)} s${of}; wrote ${describeCounts(counts)} to ${writer.name} (the call in progress was cut there)\n`);
+      }
       if (v.summary) {
         process.stderr.write(formatSummaryTable(session.summary()) + '\n');
         const replaced = opened.replacedSamples?.();
@@ -163,6 +181,8 @@ async function scan(file: string | undefined, cmd: Command): Promise<void> {
     await feed?.close();
     await source.close();
   }
+  // A stopped scan is not a complete one: exit 128 + the signal's number (the shell's convention).
+  if (stopAt) process.exitCode = stopAt.signal === 'SIGINT' ? 130 : 143;
 }
 
 const SERVE_BLOCK_FRAMES = 1024;
@@ -177,7 +197,7 @@ function openWriter(target: OutputTarget | null, v: ScanValues, setup: AnalysisS
 /** Start the viewer's feed and wait for the first viewer, so that it sees the replay from its start. */
 async function startViewerFeed(options: FeedOptions, geometry: ArrayGeometry, sampleRate: number, hop: number): Promise<FeedServer> {
   const feed = await startFeedServer({ ...options, geometry, settings: { source: 'replay', sample_rate_hz: sampleRate, hop_s: hop / sampleRate } });
-  process.stderr.write(`bearline: live view at ${feed.url} (feed ${feed.feedUrl}); the replay starts when a viewer connects\n`);
+  process.stderr.write(`bearline: live view at ${maskToken(feed.url)} (feed ${maskToken(feed.feedUrl)}); the replay starts when a viewer connects${options.token ? ' (the token is masked: put in the one you gave)' : ''}\n`);
   while (feed.stats().clients === 0) await new Promise((r) => setTimeout(r, 50));
   return feed;
 }

@@ -5,6 +5,7 @@
  */
 import { isIP } from 'node:net';
 import { numberOption, resolveWithSpecs, textOption, type OptionSpec } from '../options/option-spec.js';
+import { hostListProblem } from '../util/host-check.js';
 
 export interface FeedOptions {
   /** TCP port of the page and the feed; 0 takes any free port. */
@@ -19,6 +20,8 @@ export interface FeedOptions {
   readonly queueBound: number;
   /** Seconds between pings; a viewer that has not answered the previous ping is cut off. */
   readonly pingIntervalS: number;
+  /** More names the page and feed answer to (comma-separated), besides loopback and this machine's addresses (util/host-check.ts); null for none. */
+  readonly allowHosts: string | null;
 }
 
 const TOKEN_MIN = 8;
@@ -40,6 +43,10 @@ export const feedOptionSpecs: readonly OptionSpec<keyof FeedOptions>[] = [
   numberOption('maxClients', 'feed-max-clients', 'n', 8, { min: 1, max: 256, integer: true }, 'most viewers at once; more are turned away'),
   numberOption('queueBound', 'feed-queue', 'n', 64, { min: 1, max: 100_000, integer: true }, 'most frames held for one slow viewer; the oldest are dropped beyond it (events never are)'),
   numberOption('pingIntervalS', 'feed-ping-interval', 's', 10, { min: 0.1, max: 3600, unit: 's' }, 'seconds between pings; a viewer that misses one is disconnected'),
+  textOption('allowHosts', 'feed-allow-hosts', 'names', null, "more host names the page and feed may be opened by (comma-separated), besides loopback and this machine's addresses; other Host and Origin headers are refused", {
+    defaultText: 'none',
+    check: hostListProblem,
+  }),
 ];
 
 /** The defaults (a frozen copy). */

@@ -12,6 +12,7 @@ import type { Duplex } from 'node:stream';
 import { WebSocketServer } from 'ws';
 import { RuntimeFailure, UsageError } from '../util/errors.js';
 import type { EvidenceMaps } from '../direction/evidence-map.js';
+import { hostRule, refusedBecause, type HostRule } from '../util/host-check.js';
 import type { ArrayGeometry } from '../geometry/array-geometry.js';
 import type { GapRecord } from '../records/gap-record.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
@@ -154,9 +155,16 @@ async function serveFile(req: IncomingMessage, res: ServerResponse, url: URL, fi
 }
 
 /** The HTTP server: GET and HEAD of the viewer's files; WebSocket upgrades at FEED_PATH with the token go to `accept`. */
-function feedHttpServer(files: ReadonlySet<string>, webRoot: string, allowed: (url: URL) => boolean, hub: ViewerHub, log: (line: string) => void): ReturnType<typeof createServer> {
+function feedHttpServer(files: ReadonlySet<string>, webRoot: string, allowed: (url: URL) => boolean, hub: ViewerHub, log: (line: string) => void, hosts: HostRule): ReturnType<typeof createServer> {
   const wss = new WebSocketServer({ noServer: true, maxPayload: MAX_CLIENT_MESSAGE_BYTES, perMessageDeflate: false });
   const server = createServer((req, res) => {
+    const wrongHost = refusedBecause(hosts, req.headers.host, req.headers.origin);
+    if (wrongHost !== null) {
+      log(`request from ${req.socket.remoteAddress ?? '?'} refused: ${wrongHost}`);
+      res.writeHead(403, { 'Content-Type': 'text/plain; charset=utf-8' });
+      res.end(`refused: ${wrongHost}; open the page by this machine's address, or list the name with --feed-allow-hosts\n`);
+      return;
+    }
     if (req.method !== 'GET' && req.method !== 'HEAD') {
       res.writeHead(405, { Allow: 'GET, HEAD', 'Content-Type': 'text/plain; charset=utf-8' });
       res.end('only GET and HEAD\n');
@@ -172,6 +180,12 @@ function feedHttpServer(files: ReadonlySet<string>, webRoot: string, allowed: (u
     socket.on('error', () => undefined);
     const url = new URL(req.url ?? '/', 'http://feed.invalid');
     if (url.pathname !== FEED_PATH) return refuseUpgrade(socket, 404, 'Not Found');
+    const wrongHost = refusedBecause(hosts, req.headers.host, req.headers.origin);
+    if (wrongHost !== null) {
+      hub.refused++;
+      log(`viewer from ${req.socket.remoteAddress ?? '?'} refused: ${wrongHost}`);
+      return refuseUpgrade(socket, 403, 'Forbidden');
+    }
     if (!allowed(url)) {
       hub.refused++;
       log(`viewer from ${req.socket.remoteAddress ?? '?'} refused: missing or wrong token`);
@@ -191,6 +205,7 @@ export async function startFeedServer(setup: FeedServerSetup): Promise<FeedServe
     maxClients: setup.maxClients,
     queueBound: setup.queueBound,
     pingIntervalS: setup.pingIntervalS,
+    allowHosts: setup.allowHosts,
   });
   const webRoot = setup.webRoot ?? DEFAULT_WEB_ROOT;
   const warn = setup.onWarning ?? ((m: string) => process.stderr.write(`bearline: warning: ${m}\n`));
@@ -205,8 +220,10 @@ export async function startFeedServer(setup: FeedServerSetup): Promise<FeedServe
     const recent = history.catchUp();
     return recent === null ? null : JSON.stringify(recent);
   });
-  const server = feedHttpServer(files, webRoot, allowed, hub, log);
+  const hosts = hostRule(opts.host, opts.port, opts.allowHosts);
+  const server = feedHttpServer(files, webRoot, allowed, hub, log, hosts);
   const port = await listen(server, opts);
+  hosts.port = port;
   if (!isLoopbackHost(opts.host)) {
     warn(
       `the live feed listens on ${opts.host}:${port}, so other machines can watch it` +

@@ -16,7 +16,7 @@ import { MqttSink } from '../sinks/mqtt-sink.js';
 import type { OutputTarget } from '../sinks/output-target.js';
 import type { RecordLogOptions } from '../sinks/record-log-options.js';
 import { RecordLog } from '../sinks/record-log.js';
-import { fanOut, type RecordSink } from '../sinks/record-sink.js';
+import { countingSink, describeCounts, fanOut, type RecordSink } from '../sinks/record-sink.js';
 import { RecordWriter } from '../sinks/record-writer.js';
 import type { AudioSource, StreamGap } from '../sources/audio-source.js';
 import { openPcmStreamSource } from '../sources/pcm-stream-source.js';
@@ -30,6 +30,7 @@ import type { TrackerOptions } from '../track/options.js';
 import { TrackingSession } from '../track/tracking-session.js';
 import { RuntimeFailure } from '../util/errors.js';
 import { stderrWarning } from '../util/stderr-warning.js';
+import { maskToken } from '../util/mask-token.js';
 
 /** Where the live audio comes from. */
 export type LiveInput = { readonly kind: 'stdin'; readonly sampleRate: number; readonly channels: number } | { readonly kind: 'recorder'; readonly recorder: RecorderOptions };
@@ -83,7 +84,7 @@ async function openSinks(plan: LivePlan, sampleRate: number, channels: number): 
       speed_of_sound_m_s: setup.speedOfSound,
     };
     const feed = plan.feed ? await startFeedServer({ ...plan.feed, geometry: setup.geometry, settings }) : null;
-    if (feed) process.stderr.write(`bearline: live view at ${feed.url} (feed ${feed.feedUrl})\n`);
+    if (feed) process.stderr.write(`bearline: live view at ${maskToken(feed.url)} (feed ${maskToken(feed.feedUrl)})${plan.feed?.token ? ' (the token is masked: put in the one you gave)' : ''}\n`);
     const all = [writer, log, mqtt, feed].filter((s): s is NonNullable<typeof s> => s !== null);
     return { writer, log, mqtt, feed, all };
   } catch (err) {
@@ -120,6 +121,14 @@ async function closeLiveWriter(writer: RecordWriter, failed: boolean): Promise<v
   if (kept) process.stderr.write(`bearline: the run failed, so ${writer.name} was not replaced; this run's records are in ${kept}\n`);
 }
 
+/** The last line's account: the records and where they went, with what MQTT still holds for the broker. */
+function writtenLine(counts: string, sinks: LiveSinks): string {
+  const where = sinks.all.map((s) => s.name).join(', ') || 'no sink';
+  const mq = sinks.mqtt?.stats();
+  const left = mq ? `; MQTT: ${mq.delivered} acknowledged by the broker in this run, ${mq.queued} left in the queue ${sinks.mqtt!.queueDir} for the next start` : '';
+  return `${counts} to ${where}${left}`;
+}
+
 /** Run until the input ends, fails or a stop signal arrives; exits through plan.exit with the stop sequence's code. */
 export async function runLive(plan: LivePlan): Promise<void> {
   const { setup, station } = plan;
@@ -127,7 +136,7 @@ export async function runLive(plan: LivePlan): Promise<void> {
   const channels = plan.input.kind === 'stdin' ? plan.input.channels : plan.input.recorder.channels;
   warmUp(setup, sampleRate);
   const sinks = await openSinks(plan, sampleRate, channels);
-  const records = fanOut(sinks.all);
+  const { sink: records, counts } = countingSink(fanOut(sinks.all));
   let session: TrackingSession | null = null;
   let lostS = 0;
   const monitor = new StatusMonitor({
@@ -142,7 +151,7 @@ export async function runLive(plan: LivePlan): Promise<void> {
   let health: Awaited<ReturnType<typeof startHealthServer>> | null = null;
   let source: AudioSource;
   try {
-    health = station.health === null ? null : await startHealthServer(station.health, station.healthHost, () => monitor.snapshot());
+    health = station.health === null ? null : await startHealthServer({ port: station.health, host: station.healthHost, allowHosts: station.healthAllowHosts }, () => monitor.snapshot());
     if (health) process.stderr.write(`bearline: status as JSON at http://${station.healthHost}:${health.port}/health\n`);
     source = await openSource(plan);
   } catch (err) {
@@ -194,6 +203,7 @@ export async function runLive(plan: LivePlan): Promise<void> {
       await loopDone;
     },
     closeTimeout: station.closeTimeout,
+    written: () => writtenLine(describeCounts(counts), sinks),
     exit: (code) => exit(failure ? 1 : code, failure),
   });
   const err = await loopDone;

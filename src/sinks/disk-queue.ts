@@ -1,7 +1,9 @@
 import * as nodeFs from 'node:fs';
 import { join } from 'node:path';
-import { RuntimeFailure } from '../util/errors.js';
+import { UsageError } from '../util/errors.js';
 import { formatByteSize } from '../util/byte-size.js';
+import { makeFolder } from '../util/folders.js';
+import { LockHeld, takePidLock, type PidLock } from '../util/pid-lock.js';
 import { jsonObjectLine, LineFile, repairTail } from './line-file.js';
 
 /**
@@ -14,6 +16,11 @@ import { jsonObjectLine, LineFile, repairTail } from './line-file.js';
  *
  * The queue is bounded: when the undelivered messages pass maxBytes, the oldest ones that are
  * not being sent are dropped, with a warning.
+ *
+ * One process at a time: a lock file with the owner's pid (util/pid-lock.ts) guards the folder;
+ * a lock left by a dead process is taken over with a warning. A damaged segment line (not a JSON
+ * object, or without a whole-number seq) is moved aside to damaged-<segment> with a warning and
+ * the rest is sent; seq continues after the highest good one.
  */
 
 export interface QueueItem {
@@ -31,6 +38,19 @@ export interface DiskQueueOptions {
 
 const SEGMENT = /^seg-(\d{12})\.jsonl$/;
 const STATE_FILE = 'delivered.json';
+export const QUEUE_LOCK_FILE = 'lock';
+
+/** The seq of a queued line, or null when the line is damaged (not a JSON object, or no whole-number seq >= 1). */
+function seqOf(text: string): number | null {
+  try {
+    const v: unknown = JSON.parse(text);
+    if (typeof v !== 'object' || v === null || Array.isArray(v)) return null;
+    const seq = (v as { seq?: unknown }).seq;
+    return typeof seq === 'number' && Number.isSafeInteger(seq) && seq >= 1 ? seq : null;
+  } catch {
+    return null;
+  }
+}
 
 interface Segment {
   path: string;
@@ -53,6 +73,7 @@ export class DiskQueue {
   private droppedSinceWarning = 0;
   private lastDropWarning = -Infinity;
   private saveTimer: NodeJS.Timeout;
+  private readonly lock: PidLock;
 
   constructor(
     readonly dir: string,
@@ -61,11 +82,26 @@ export class DiskQueue {
     this.clock = options.clock ?? Date.now;
     this.segmentBytes = Math.min(4 * 1024 ** 2, Math.max(64 * 1024, Math.floor(options.maxBytes / 8)));
     try {
-      nodeFs.mkdirSync(dir, { recursive: true });
+      makeFolder(dir);
+      this.lock = takePidLock(join(dir, QUEUE_LOCK_FILE));
     } catch (err) {
-      throw new RuntimeFailure(`cannot create the MQTT queue directory ${dir}: ${(err as Error).message}; pick another --mqtt-queue-dir`);
+      if (err instanceof LockHeld) {
+        throw new UsageError(
+          `the MQTT queue ${dir} is in use by process ${err.pid} (another bearline for the same station?); stop that one, or give this one another --station`,
+        );
+      }
+      throw new UsageError(`cannot use the MQTT queue folder ${dir}: ${(err as Error).message}; pick another --mqtt-queue-dir`);
     }
-    this.load();
+    if (this.lock.tookOverFrom !== null) {
+      const who = this.lock.tookOverFrom > 0 ? `process ${this.lock.tookOverFrom}, which is gone` : 'a process that left it unreadable';
+      options.onWarning(`the MQTT queue ${dir} was locked by ${who}; taking it over`);
+    }
+    try {
+      this.load();
+    } catch (err) {
+      this.lock.release();
+      throw err;
+    }
     this.saveTimer = setInterval(() => this.saveDelivered(), 1000);
     this.saveTimer.unref();
   }
@@ -87,9 +123,12 @@ export class DiskQueue {
         if (r) this.options.onWarning(`MQTT queue segment ${path} ended in a torn line; cut ${r.cutBytes} bytes${r.keptAt ? `, kept in ${r.keptAt}` : ''}`);
       }
       const seg: Segment = { path, firstSeq: Number(SEGMENT.exec(name)![1]), lastSeq: 0 };
-      for (const text of nodeFs.readFileSync(path, 'utf8').split('\n')) {
-        if (text === '') continue;
-        const seq = (JSON.parse(text) as { seq: number }).seq;
+      const lines = nodeFs.readFileSync(path, 'utf8').split('\n').filter((t) => t !== '');
+      const damaged = lines.filter((t) => seqOf(t) === null);
+      if (damaged.length > 0) this.moveAside(path, name, lines, damaged);
+      for (const text of lines) {
+        const seq = seqOf(text);
+        if (seq === null) continue;
         seg.lastSeq = Math.max(seg.lastSeq, seq);
         maxSeq = Math.max(maxSeq, seq);
         if (seq > this.delivered) {
@@ -101,6 +140,27 @@ export class DiskQueue {
     });
     this.nextSeq = maxSeq + 1;
     this.removeDeliveredSegments();
+  }
+
+  /**
+   * Move the damaged lines of a segment to damaged-<segment> in the same folder (appended, so
+   * nothing is lost over several starts) and rewrite the segment with the good ones.
+   */
+  private moveAside(path: string, name: string, lines: readonly string[], damaged: readonly string[]): void {
+    const aside = join(this.dir, `damaged-${name}`);
+    nodeFs.appendFileSync(aside, damaged.map((t) => t + '\n').join(''));
+    const tmp = `${path}.tmp`;
+    const fd = nodeFs.openSync(tmp, 'w');
+    try {
+      nodeFs.writeSync(fd, lines.filter((t) => seqOf(t) !== null).map((t) => t + '\n').join(''));
+      nodeFs.fsyncSync(fd);
+    } finally {
+      nodeFs.closeSync(fd);
+    }
+    nodeFs.renameSync(tmp, path);
+    this.options.onWarning(
+      `MQTT queue segment ${path}: ${damaged.length} damaged line(s) (not JSON, or no seq) moved to ${aside}; the rest will be sent`,
+    );
   }
 
   /** Number of undelivered messages. */
@@ -220,5 +280,6 @@ export class DiskQueue {
     this.saveDelivered();
     this.current?.close();
     this.current = null;
+    this.lock.release();
   }
 }

@@ -1,4 +1,3 @@
-import { join } from 'node:path';
 import mqtt, { type IClientOptions, type MqttClient } from 'mqtt';
 import { UsageError } from '../util/errors.js';
 import { stderrWarning } from '../util/stderr-warning.js';
@@ -7,7 +6,7 @@ import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import type { RecordSink } from './record-sink.js';
 import { validateStationId } from '../station/station-id.js';
 import { DiskQueue, type QueueItem } from './disk-queue.js';
-import { DEFAULT_MQTT_QUEUE_DIR, resolveMqttOptions, type MqttOptions } from './mqtt-options.js';
+import { mqttQueueFolder, resolveMqttOptions, type MqttOptions } from './mqtt-options.js';
 
 /**
  * MQTT sink for fleets of stations. Topics (STATION = the station id):
@@ -19,7 +18,9 @@ import { DEFAULT_MQTT_QUEUE_DIR, resolveMqttOptions, type MqttOptions } from './
  *                            station vanishes without saying goodbye.
  * `seq` grows by one per message and survives restarts, so subscribers can spot losses and drop
  * repeats. While the broker is unreachable, events wait in a disk-backed queue and go out in
- * order when it is back; each leaves the queue only after the broker's PUBACK.
+ * order when it is back; each leaves the queue only after the broker's PUBACK. Each station has
+ * its own queue folder (ROOT/STATION, mqtt-options.ts), locked to one process, so stations that
+ * share a folder never send each other's events or share a seq.
  */
 
 export function stationTopics(station: string): { events: string; frames: string; status: string } {
@@ -78,7 +79,7 @@ export class MqttSink implements RecordSink {
     this.warn = deps.onWarning ?? stderrWarning;
     this.clock = deps.clock ?? Date.now;
     this.drainMs = deps.drainMs ?? 2000;
-    this.queue = new DiskQueue(this.options.mqttQueueDir ?? join(process.cwd(), DEFAULT_MQTT_QUEUE_DIR), {
+    this.queue = new DiskQueue(mqttQueueFolder(this.options, station), {
       maxBytes: this.options.mqttQueueMax,
       onWarning: this.warn,
       clock: this.clock,
@@ -179,6 +180,11 @@ export class MqttSink implements RecordSink {
       if (this.sending === 0) for (const w of this.idleWaiters.splice(0)) w();
       this.pump();
     });
+  }
+
+  /** The folder of the disk queue, for messages. */
+  get queueDir(): string {
+    return this.queue.dir;
   }
 
   stats(): MqttSinkStats {

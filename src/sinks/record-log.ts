@@ -8,6 +8,7 @@ import type { GapRecord } from '../records/gap-record.js';
 import { frameColumns } from '../records/frame-columns.js';
 import type { EventRecord, FrameRecord } from '../records/record-types.js';
 import { formatByteSize } from '../util/byte-size.js';
+import { makeFolder } from '../util/folders.js';
 import { validateStationId } from '../station/station-id.js';
 import type { RecordSink } from './record-sink.js';
 import { resolveRecordLogOptions, type LogFormat, type RecordLogOptions } from './record-log-options.js';
@@ -205,10 +206,11 @@ export class RecordLog implements RecordSink {
     this.freeBytes = deps.freeBytes ?? statfsFree;
     this.frameCols = deps.frameColumns ?? null;
     try {
-      nodeFs.mkdirSync(this.dir, { recursive: true });
+      makeFolder(this.dir);
       nodeFs.accessSync(this.dir, nodeFs.constants.W_OK);
     } catch (err) {
-      throw new RuntimeFailure(`cannot use log directory ${this.dir}: ${(err as Error).message}; create it or pick another --log-dir`);
+      // A folder that cannot be made or written at the start is a setting to fix (exit 2), not a failure that a restart cures.
+      throw new UsageError(`cannot use log directory ${this.dir}: ${(err as Error).message}; create it or pick another --log-dir`);
     }
     this.repairNewest();
     this.closedFiles = listLogFiles(this.dir, station);

@@ -71,3 +71,42 @@ export function callbackSink(name: string, on: { frame?: (rec: FrameRecord) => S
     close: () => undefined,
   };
 }
+
+/** How many records of each kind went into a sink. */
+export interface RecordCounts {
+  frames: number;
+  events: number;
+  gaps: number;
+}
+
+/** A sink that counts the records it hands on to `sink`, for the final message of a run. */
+export function countingSink(sink: RecordSink): { sink: RecordSink; counts: RecordCounts } {
+  const counts: RecordCounts = { frames: 0, events: 0, gaps: 0 };
+  return {
+    counts,
+    sink: {
+      name: sink.name,
+      wantsFrames: sink.wantsFrames,
+      frame: (rec) => {
+        counts.frames++;
+        return sink.frame(rec);
+      },
+      event: (rec) => {
+        counts.events++;
+        return sink.event(rec);
+      },
+      gap: (rec) => {
+        counts.gaps++;
+        return sink.gap(rec);
+      },
+      close: () => sink.close(),
+      reopen: sink.reopen ? () => sink.reopen!() : undefined,
+    },
+  };
+}
+
+/** '12 events, 1 gap, 800 frames' (gaps and frames only when there were any): what a run wrote, for its last line. */
+export function describeCounts(c: RecordCounts): string {
+  const n = (k: number, one: string): string => `${k} ${one}${k === 1 ? '' : 's'}`;
+  return [n(c.events, 'event'), ...(c.gaps > 0 ? [n(c.gaps, 'gap')] : []), ...(c.frames > 0 ? [n(c.frames, 'frame')] : [])].join(', ');
+}

@@ -4,22 +4,42 @@ export type WavSampleFormat = 's16' | 's24' | 's32' | 'f32';
 
 const BYTES: Record<WavSampleFormat, number> = { s16: 2, s24: 3, s32: 4, f32: 4 };
 
+/**
+ * The WAV header. Integer PCM: the 16-byte fmt chunk (WAVE_FORMAT_PCM). Float: the 18-byte fmt
+ * chunk with cbSize 0 (WAVE_FORMAT_IEEE_FLOAT) and a fact chunk with the frame count, as the
+ * Microsoft WAVE specification asks of every format that is not PCM (multimedia programming
+ * interface and data specifications 1.0, 1991; common practice since): with the 16-byte fmt
+ * chunk, sox warns "wave header missing extended part of fmt chunk".
+ */
 function header(rate: number, channels: number, fmt: WavSampleFormat, dataBytes: number): Buffer {
   const bps = BYTES[fmt];
-  const h = Buffer.alloc(44);
+  const float = fmt === 'f32';
+  const fmtSize = float ? 18 : 16;
+  const factSize = float ? 12 : 0;
+  const size = 12 + 8 + fmtSize + factSize + 8;
+  const h = Buffer.alloc(size);
   h.write('RIFF', 0, 'ascii');
-  h.writeUInt32LE(Math.min(0xffffffff, 36 + dataBytes), 4);
+  h.writeUInt32LE(Math.min(0xffffffff, size - 8 + dataBytes), 4);
   h.write('WAVE', 8, 'ascii');
   h.write('fmt ', 12, 'ascii');
-  h.writeUInt32LE(16, 16);
-  h.writeUInt16LE(fmt === 'f32' ? 3 : 1, 20);
+  h.writeUInt32LE(fmtSize, 16);
+  h.writeUInt16LE(float ? 3 : 1, 20);
   h.writeUInt16LE(channels, 22);
   h.writeUInt32LE(rate, 24);
   h.writeUInt32LE(rate * channels * bps, 28);
   h.writeUInt16LE(channels * bps, 32);
   h.writeUInt16LE(bps * 8, 34);
-  h.write('data', 36, 'ascii');
-  h.writeUInt32LE(Math.min(0xffffffff, dataBytes), 40);
+  let at = 36;
+  if (float) {
+    h.writeUInt16LE(0, at); // cbSize: no extension
+    at += 2;
+    h.write('fact', at, 'ascii');
+    h.writeUInt32LE(4, at + 4);
+    h.writeUInt32LE(Math.min(0xffffffff, Math.floor(dataBytes / (channels * bps))), at + 8);
+    at += 12;
+  }
+  h.write('data', at, 'ascii');
+  h.writeUInt32LE(Math.min(0xffffffff, dataBytes), at + 4);
   return h;
 }
 

@@ -59,7 +59,7 @@ export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): A
     started = true;
     try {
       for await (const chunk of stream) {
-        if (closed) return;
+        if (closed) break;
         if (!(chunk instanceof Uint8Array)) throw new Error(`openPcmStreamSource: ${name} gives text, not bytes; do not set an encoding on it`);
         let at = 0;
         while (at < chunk.length) {
@@ -69,7 +69,9 @@ export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): A
       }
     } catch (err) {
       if (err instanceof Error && err.message.startsWith('openPcmStreamSource:')) throw err;
-      throw new RuntimeFailure(`reading ${name} failed: ${(err as Error).message}`);
+      // close() destroys the stream, which ends a pending read with a premature-close error:
+      // that is a stop, not a failure, and the frames already read still go out below.
+      if (!closed) throw new RuntimeFailure(`reading ${name} failed: ${(err as Error).message}`);
     }
     const partial = assembler.discardPartialFrame();
     if (partial > 0) warn(`${name} ended inside a frame (${partial} of ${assembler.frameBytes} bytes); the partial frame is dropped`);
@@ -79,6 +81,7 @@ export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): A
   return {
     format: { sampleRate, channels, totalFrames: null },
     blocks,
+    /** Stop reading: blocks() ends after the frames already read (a stop signal's path, not an error). */
     async close() {
       if (closed) return;
       closed = true;

@@ -138,8 +138,13 @@ class BlockStamper {
     this.clock = new StreamClock(rate);
   }
 
-  /** The recorder stopped after `frame` frames were delivered. */
-  runEnded(frame: number, reason: string): void {
+  /**
+   * The recorder stopped after `frame` frames were delivered. A run that ends before any audio
+   * ever arrived starts the clock at `spawnedAtMs` (the wall clock when it was started), so the
+   * hole is timed from then and its record carries a real utc (never the epoch).
+   */
+  runEnded(frame: number, reason: string, spawnedAtMs: number): void {
+    if (!this.clock.started) this.clock.beginRun(0, spawnedAtMs);
     this.pending = { reason, fromS: this.clock.streamTime(frame / this.rate) };
   }
 
@@ -310,7 +315,9 @@ export async function openRecorderSource(options: RecorderOptions, hooks: Record
     wake = null;
     w?.();
   };
+  let runSpawnedAtMs = 0;
   const startRun = (): RecorderRun => {
+    runSpawnedAtMs = now();
     queue.newRun();
     return new RecorderRun(
       options,
@@ -401,7 +408,7 @@ export async function openRecorderSource(options: RecorderOptions, hooks: Record
           throw new RuntimeFailure(`the recorder ${name} failed ${decision.failures} times in a row (last: ${reason}); giving up, check the device and its cable`);
         }
         warn(`${reason}; restarting ${name} in ${decision.retryInS} s`);
-        stamper.runEnded(framesOut, reason);
+        stamper.runEnded(framesOut, reason, runSpawnedAtMs);
         await sleep(decision.retryInS);
         if (closed) break;
         restarts += 1;

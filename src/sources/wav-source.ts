@@ -1,4 +1,4 @@
-import { open, type FileHandle } from 'node:fs/promises';
+import { open, stat, type FileHandle } from 'node:fs/promises';
 import { RuntimeFailure, UsageError } from '../util/errors.js';
 import type { AudioBlock, AudioFormat, AudioSource, WarningSink } from './audio-source.js';
 import { deinterleave, type SampleEncoding } from './pcm-decode.js';
@@ -17,6 +17,8 @@ export interface WavSourceOptions {
 export interface WavSource extends AudioSource {
   readonly path: string;
   readonly encoding: SampleEncoding;
+  /** Blocks of frames [from, to) only (a take cut from a long recording), with the same warnings as blocks(). */
+  span(from: number, to: number): AsyncIterable<AudioBlock>;
 }
 
 /** The fmt chunk is 16, 18 or 40 bytes in practice; anything longer is read only this far. */
@@ -28,6 +30,10 @@ function openError(path: string, err: unknown): UsageError {
   if (code === 'EACCES' || code === 'EPERM') return new UsageError(`cannot read ${path}: permission denied; check the file's permissions`);
   if (code === 'EISDIR') return new UsageError(`${path} is a directory, not a WAV file; give the path of a .wav recording`);
   return new UsageError(`cannot read ${path}: ${(err as Error).message}`);
+}
+
+function notRegular(path: string): UsageError {
+  return new UsageError(`${path} is not a regular file (a device, FIFO or socket), so it is not read as a WAV file; give a .wav recording, or pipe raw PCM to the --stdin input`);
 }
 
 async function readAt(fh: FileHandle, path: string, buf: Uint8Array, length: number, position: number): Promise<number> {
@@ -100,6 +106,14 @@ async function readLayout(fh: FileHandle, path: string, fileSize: number): Promi
 export async function openWavSource(path: string, opts: WavSourceOptions = {}): Promise<WavSource> {
   const blockFrames = checkBlockFrames(opts.blockFrames);
   const warn = opts.onWarning ?? stderrWarning;
+  // Looked at before opening: opening a FIFO for reading waits for a writer, maybe for ever.
+  try {
+    const st = await stat(path);
+    if (!st.isFile() && !st.isDirectory()) throw notRegular(path);
+  } catch (err) {
+    if (err instanceof UsageError) throw err;
+    throw openError(path, err);
+  }
   let fh: FileHandle;
   try {
     fh = await open(path, 'r');
@@ -111,7 +125,7 @@ export async function openWavSource(path: string, opts: WavSourceOptions = {}): 
   try {
     const st = await fh.stat();
     if (st.isDirectory()) throw openError(path, Object.assign(new Error('is a directory'), { code: 'EISDIR' }));
-    if (!st.isFile()) throw new UsageError(`${path} is not a regular file; to analyse a stream, pipe raw PCM to bearline's stdin input instead`);
+    if (!st.isFile()) throw notRegular(path);
     layout = await readLayout(fh, path, st.size);
     const range = planDataRange(path, layout.format, layout.dataOffset, layout.dataSize, st.size);
     frames = range.frames;
@@ -130,11 +144,12 @@ export async function openWavSource(path: string, opts: WavSourceOptions = {}): 
   // Per reading of the file (blocks() may start again from the beginning).
   let replaced = new ReplacedSamplesReport(path, wav.sampleRate, warn);
 
-  async function* blocks(): AsyncGenerator<AudioBlock> {
+  async function* span(from: number, to: number): AsyncGenerator<AudioBlock> {
     replaced = new ReplacedSamplesReport(path, wav.sampleRate, warn);
-    let done = 0;
-    while (done < frames && !closed) {
-      const want = Math.min(blockFrames, frames - done);
+    let done = Math.max(0, Math.min(from, frames));
+    const end = Math.min(to, frames);
+    while (done < end && !closed) {
+      const want = Math.min(blockFrames, end - done);
       const got = await readAt(fh, path, bytes, want * wav.blockAlign, dataOffset + done * wav.blockAlign);
       const n = Math.floor(got / wav.blockAlign);
       if (n > 0) {
@@ -152,12 +167,14 @@ export async function openWavSource(path: string, opts: WavSourceOptions = {}): 
     }
     replaced.finish();
   }
+  const blocks = (): AsyncGenerator<AudioBlock> => span(0, frames);
 
   return {
     path,
     encoding: wav.encoding,
     format,
     blocks,
+    span,
     replacedSamples: () => replaced.counted,
     async close() {
       if (closed) return;

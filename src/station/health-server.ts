@@ -1,5 +1,7 @@
 import { createServer, type Server } from 'node:http';
 import { RuntimeFailure } from '../util/errors.js';
+import { hostRule, isLoopbackName, refusedBecause } from '../util/host-check.js';
+import { stderrWarning } from '../util/stderr-warning.js';
 import type { StationStatus } from './status.js';
 
 /**
@@ -13,12 +15,27 @@ export interface HealthServer {
   close(): Promise<void>;
 }
 
-export async function startHealthServer(port: number, host: string, snapshot: () => StationStatus): Promise<HealthServer> {
+export interface HealthServerSetup {
+  readonly port: number;
+  readonly host: string;
+  /** --health-allow-hosts (util/host-check.ts); null for none. */
+  readonly allowHosts: string | null;
+  /** Told when the endpoint is reachable from other machines (default: a line on stderr). */
+  readonly onWarning?: (message: string) => void;
+}
+
+export async function startHealthServer(setup: HealthServerSetup, snapshot: () => StationStatus): Promise<HealthServer> {
+  const { port, host } = setup;
+  const hosts = hostRule(host, port, setup.allowHosts);
   const server: Server = createServer((req, res) => {
     const path = (req.url ?? '/').split('?')[0];
     let code = 200;
     let body: unknown;
-    if (req.method !== 'GET' && req.method !== 'HEAD') {
+    const wrongHost = refusedBecause(hosts, req.headers.host, req.headers.origin);
+    if (wrongHost !== null) {
+      code = 403;
+      body = { error: `refused: ${wrongHost}; ask by this machine's address, or list the name with --health-allow-hosts` };
+    } else if (req.method !== 'GET' && req.method !== 'HEAD') {
       code = 405;
       body = { error: 'only GET is served here' };
     } else if (path !== '/health' && path !== '/') {
@@ -45,6 +62,10 @@ export async function startHealthServer(port: number, host: string, snapshot: ()
   });
   const addr = server.address();
   const bound = typeof addr === 'object' && addr ? addr.port : port;
+  hosts.port = bound;
+  if (!isLoopbackName(host)) {
+    (setup.onWarning ?? stderrWarning)(`the health endpoint listens on ${host}:${bound}, so other machines can read it; it has no password: keep it on a trusted network, or use --health-host 127.0.0.1`);
+  }
   return {
     name: `health endpoint on ${host}:${bound}`,
     port: bound,

@@ -5,6 +5,7 @@
  */
 import { numberOption, resolveWithSpecs, textOption, type OptionSpec } from '../options/option-spec.js';
 import { defaultStationId, stationIdProblem } from './station-id.js';
+import { hostListProblem } from '../util/host-check.js';
 
 export interface StationOptions {
   /** Names the log files and MQTT topics. */
@@ -15,6 +16,8 @@ export interface StationOptions {
   health: number | null;
   /** Address the health endpoint listens on. */
   healthHost: string;
+  /** More names the health endpoint answers to (comma-separated), besides loopback and this machine's addresses; null for none. */
+  healthAllowHosts: string | null;
   /** Seconds to wait for the sinks to close on SIGINT/SIGTERM before giving up. */
   closeTimeout: number;
 }
@@ -24,6 +27,10 @@ export const stationOptionSpecs: readonly OptionSpec<keyof StationOptions>[] = [
   numberOption('statusEvery', 'status-every', 'min', 10, { min: 0, max: 1440, unit: 'minutes' }, 'print a status line on stderr this often (0 = never)'),
   numberOption('health', 'health', 'port', null, { min: 0, max: 65535, integer: true }, 'serve the status as JSON over HTTP on this port', { defaultText: 'off' }),
   textOption('healthHost', 'health-host', 'address', '127.0.0.1', 'address for --health (keep 127.0.0.1 unless the network is trusted)'),
+  textOption('healthAllowHosts', 'health-allow-hosts', 'names', null, "more host names --health may be asked by (comma-separated), besides loopback and this machine's addresses; other Host and Origin headers are refused", {
+    defaultText: 'none',
+    check: hostListProblem,
+  }),
   numberOption('closeTimeout', 'close-timeout', 's', 10, { min: 0, max: 600, minExclusive: true, unit: 's' }, 'on SIGINT/SIGTERM, wait this long for files and the broker to close'),
 ];
 

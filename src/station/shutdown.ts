@@ -20,6 +20,8 @@ export interface ShutdownDeps {
   signals?: NodeJS.EventEmitter;
   /** Seconds to wait for the sinks (from StationOptions.closeTimeout). */
   closeTimeout?: number;
+  /** What was written, for the last line (e.g. '12 events, 1 gap to stdout, log files in DIR'). */
+  written?: () => string;
 }
 
 export interface ShutdownHandle {
@@ -82,7 +84,8 @@ export function installShutdown(sinks: readonly StationSink[], deps: ShutdownDep
     }
     log(`${reason}: closing ${sinks.map((s) => s.name).join(', ') || 'nothing'}`);
     stopping = closeAll().then((code) => {
-      log(code === 0 ? 'all records written; stopped' : 'stopped with errors (see above)');
+      const written = deps.written?.();
+      log(code === 0 ? `all records written${written ? ` (${written})` : ''}; stopped` : `stopped with errors (see above)${written ? `; records handed on: ${written}` : ''}`);
       exit(code);
       return code;
     });

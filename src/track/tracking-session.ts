@@ -76,7 +76,8 @@ export class TrackingSession {
     if (time) this.epochMs = time.epochMs;
     if (this.checks) {
       const warning = this.checks.observe(r);
-      if (warning !== null) this.hooks.onWarning?.(warning);
+      // one warning line each (two checks may trip on the same hop)
+      if (warning !== null) for (const line of warning.split('\n')) this.hooks.onWarning?.(line);
     }
     const cands = this.candidates;
     cands.length = 0;
@@ -109,7 +110,7 @@ export class TrackingSession {
   /** End of stream: emit the events still open. */
   finish(): SinkResult {
     const warning = this.checks?.finish() ?? null;
-    if (warning !== null) this.hooks.onWarning?.(warning);
+    if (warning !== null) for (const line of warning.split('\n')) this.hooks.onWarning?.(line);
     for (const e of this.tracker.finish()) this.emit(e);
     return this.drain();
   }

@@ -23,11 +23,24 @@ export const MAX_JSON_FILE_BYTES = 4 * 1024 * 1024;
  * a device (/dev/zero) would grow without bound and a FIFO would wait forever.
  */
 export function readJsonFile(path: string, what: string, option: string): unknown {
+  const text = readSettingsText(path, what, option, 'JSON file');
+  try {
+    return JSON.parse(text) as unknown;
+  } catch (err) {
+    throw new UsageError(`${what} ${path} is not valid JSON (${(err as Error).message}): fix the file`);
+  }
+}
+
+/**
+ * Read a small text file of settings (JSON, a span list): only a regular file of at most
+ * MAX_JSON_FILE_BYTES, else a UsageError naming it and the option it came from.
+ */
+export function readSettingsText(path: string, what: string, option: string, kind = 'text file'): string {
   let size: number | null = null;
   try {
     const st = statSync(path);
     if (st.isDirectory()) throw new UsageError(`cannot read ${what} ${path}: it is a directory; give a file to ${option}`);
-    if (!st.isFile()) throw new UsageError(`cannot read ${what} ${path}: it is not a regular file (a device, FIFO or socket); give a JSON file to ${option}`);
+    if (!st.isFile()) throw new UsageError(`cannot read ${what} ${path}: it is not a regular file (a device, FIFO or socket); give a ${kind} to ${option}`);
     size = st.size;
   } catch (err) {
     if (err instanceof UsageError) throw err;
@@ -36,10 +49,5 @@ export function readJsonFile(path: string, what: string, option: string): unknow
   if (size !== null && size > MAX_JSON_FILE_BYTES) {
     throw new UsageError(`cannot read ${what} ${path}: it is ${(size / 1048576).toFixed(1)} MB, far larger than a ${what} can be (at most ${MAX_JSON_FILE_BYTES / 1048576} MB); check the path given to ${option}`);
   }
-  const text = readTextFile(path, what, option);
-  try {
-    return JSON.parse(text) as unknown;
-  } catch (err) {
-    throw new UsageError(`${what} ${path} is not valid JSON (${(err as Error).message}): fix the file`);
-  }
+  return readTextFile(path, what, option);
 }

@@ -3,6 +3,7 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { expect } from 'vitest';
 import type { AccuracyReport } from '../../src/accuracy/score.js';
+import { accuracyReportFromJson, type AccuracyReportJson } from '../../src/accuracy/report-json.js';
 import type { TruthRecord } from '../../src/accuracy/truth.js';
 import type { EventRecord, FrameRecord } from '../../src/records/record-types.js';
 import { runCli } from '../helpers/cli.js';
@@ -22,8 +23,9 @@ export function render(dir: string, name: string, scene: unknown): string {
   return wav;
 }
 
+/** `bearline accuracy --json` (snake_case keys, checked in test/cli/accuracy-input.test.ts), read back into the scorer's type. */
 export function accuracyJson(wav: string, ...args: string[]): AccuracyReport {
-  return JSON.parse(ok(['accuracy', wav, '--json', ...args])) as AccuracyReport;
+  return accuracyReportFromJson(JSON.parse(ok(['accuracy', wav, '--json', ...args])) as AccuracyReportJson);
 }
 
 function lines<T>(text: string): T[] {

@@ -30,7 +30,7 @@ describe('check-array and stimulus on bad input', () => {
     expectUsageFailure(runCli(['check-array', '--spacing', '0.2', takes[0]!.path]), /must be AZ=REC\.wav or AZ,EL=REC\.wav/);
   });
   it('rejects a missing recording', () => {
-    expectUsageFailure(runCli(['check-array', '--spacing', '0.2', `10=${join(tmp.dir, 'nope.wav')}`]), /does not exist/);
+    expectUsageFailure(runCli(['check-array', '--spacing', '0.2', `10=${join(tmp.dir, 'nope.wav')}`]), /cannot read .*nope\.wav: no such file; check the path/);
   });
   it('rejects an azimuth out of range and an unknown option', () => {
     expectUsageFailure(runCli(['check-array', '--spacing', '0.2', `400=${takes[0]!.path}`]), /azimuth 400/);
@@ -54,7 +54,7 @@ describe('check-array and stimulus on bad input', () => {
     expect(readFileSync(geo, 'utf8')).toBe(GEO_TEXT);
     const json = join(tmp.dir, 'keep.json');
     writeFileSync(json, '{"earlier": true}\n');
-    expectUsageFailure(runCli(['check-array', '--spacing', '0.2', `5=${join(tmp.dir, 'missing.wav')}`, '--json', json]), /does not exist/);
+    expectUsageFailure(runCli(['check-array', '--spacing', '0.2', `5=${join(tmp.dir, 'missing.wav')}`, '--json', json]), /missing\.wav: no such file/);
     expect(readFileSync(json, 'utf8')).toBe('{"earlier": true}\n');
   });
   it('refuses --write-geometry when the takes cannot fix the positions (one direction)', () => {

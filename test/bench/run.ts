@@ -12,6 +12,7 @@ import { benchCase, benchMemory, coreCases, printCore } from './core.js';
 import { runFeedLatencyBench } from './feed-latency.js';
 import { formatFleetBench, runFleetLocateBench } from './fleet-locate.js';
 import { benchIoRead } from './io-read.js';
+import { benchCheckArrayRss } from './check-array-rss.js';
 import { formatSoak, runStationSoak } from './station-soak.js';
 import { runLiveBench } from './live.js';
 import { formatTrackerBench, runTrackerBench } from './tracker.js';
@@ -34,6 +35,9 @@ async function main(): Promise<void> {
   if (want('memory')) {
     const m = benchMemory();
     console.log(`\npeak RSS of bearline scan: 1-minute stereo ${m.oneMinMb.toFixed(0)} MB, 10-minute stereo ${m.tenMinMb.toFixed(0)} MB (ratio ${(m.tenMinMb / m.oneMinMb).toFixed(2)}; target: flat)`);
+  }
+  if (want('check-array')) {
+    console.log('\n' + benchCheckArrayRss(30).lines.join('\n'));
   }
   if (want('tracker')) {
     const t = await runTrackerBench(300_000);

@@ -74,7 +74,7 @@ describe('MQTT sink against Mosquitto on 127.0.0.1', () => {
     await waitFor('the sink to see the broker gone', () => !sink.stats().connected);
     for (let n = 20; n < 50; n++) sink.event(ev(n));
     expect(sink.stats().queued).toBe(30);
-    expect(readdirSync(join(work, 'q1')).some((f) => f.startsWith('seg-'))).toBe(true);
+    expect(readdirSync(join(work, 'q1', 'reedbed-north')).some((f) => f.startsWith('seg-'))).toBe(true);
     await broker.start();
 
     await waitFor('all 50 events', () => sub.got.length >= 50);
@@ -132,7 +132,7 @@ describe('MQTT sink against Mosquitto on 127.0.0.1', () => {
     const sink = new MqttSink('creek-mouth', { mqtt: `mqtt://127.0.0.1:${port}`, mqttQueueDir: join(work, 'q4') }, { retryMs: 200, onWarning: (m) => warnings.push(m) });
     for (let n = 0; n < 5; n++) sink.event(ev(n));
     await waitFor('a failed connection attempt', () => warnings.length > 0);
-    expect(warnings[0]).toMatch(/MQTT broker mqtt:\/\/127\.0\.0\.1:\d+ .*keeping events on disk in .*q4 and retrying/);
+    expect(warnings[0]).toMatch(/MQTT broker mqtt:\/\/127\.0\.0\.1:\d+ .*keeping events on disk in .*q4\/creek-mouth and retrying/);
     expect(sink.stats()).toMatchObject({ connected: false, queued: 5, delivered: 0 });
     const late = new Broker(join(work, 'broker-late'), port);
     await late.start();

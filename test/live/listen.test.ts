@@ -92,7 +92,7 @@ describe('bearline listen --stdin', () => {
       expect(Date.parse(e.utc as string)).not.toBeNaN();
     }
     expect(run.lines.every((l) => isEvent(l))).toBe(true); // events only without --frames
-    expect(run.stderr()).toMatch(/stdin ended: closing .*\n.*all records written; stopped/);
+    expect(run.stderr()).toMatch(/stdin ended: closing .*\n.*all records written \(\d+ events?(, \d+ gaps?)?(, \d+ frames?)? to stdout\); stopped/);
   });
 
   it('--profile station-low-cpu: its analysis hop (1024 samples) and its log section apply; flags win', () => {

@@ -58,7 +58,7 @@ describe('listen --log-dir', () => {
     const stopAt = inCall!.time_s as number;
     run.child.kill('SIGTERM');
     expect(await run.exited).toBe(0);
-    expect(run.stderr()).toMatch(/SIGTERM: closing .*log files in .*\n(.*\n)*bearline: all records written; stopped/);
+    expect(run.stderr()).toMatch(/SIGTERM: closing .*log files in .*\n(.*\n)*bearline: all records written \(\d+ events?, .* to .*log files in .*\); stopped/);
 
     const frames = names().filter((n) => n.includes('.frames.')).flatMap((n) => jsonLines(join(logs, n)));
     const events = names().filter((n) => n.includes('.events.')).flatMap((n) => jsonLines(join(logs, n)));

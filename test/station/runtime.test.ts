@@ -66,7 +66,7 @@ describe('status snapshot', () => {
     expect(lines.length).toBe(2);
     vi.useRealTimers();
 
-    const health = await startHealthServer(0, '127.0.0.1', () => mon.snapshot());
+    const health = await startHealthServer({ port: 0, host: '127.0.0.1', allowHosts: null }, () => mon.snapshot());
     try {
       const res = await fetch(`http://127.0.0.1:${health.port}/health`);
       expect(res.status).toBe(200);
@@ -75,7 +75,7 @@ describe('status snapshot', () => {
       expect(body).toMatchObject({ station: 'pond-test', hops: 5625, events: 3, disk_used_bytes: 1024, disk_free_bytes: null });
       expect((await fetch(`http://127.0.0.1:${health.port}/frogs`)).status).toBe(404);
       expect((await fetch(`http://127.0.0.1:${health.port}/health`, { method: 'POST' })).status).toBe(405);
-      await expect(startHealthServer(health.port, '127.0.0.1', () => mon.snapshot())).rejects.toThrow(
+      await expect(startHealthServer({ port: health.port, host: '127.0.0.1', allowHosts: null }, () => mon.snapshot())).rejects.toThrow(
         new RuntimeFailure(`cannot serve --health on 127.0.0.1:${health.port}: the port is in use; pick another port`),
       );
     } finally {
