@@ -1,3 +1,4 @@
+import { maskToken } from '../util/mask-token.js';
 import { existsSync } from 'node:fs';
 import type { Command } from 'commander';
 import { UsageError } from '../util/errors.js';
@@ -162,7 +163,7 @@ async function runLive(
     feed,
     out: (line) => void process.stdout.write(line + '\n'),
     say,
-    onServing: (url) => say(`fix view at ${url}`),
+    onServing: (url) => say(`fix view at ${maskToken(url)}${url.includes('token=') ? ' (the token is masked: put in the one you gave)' : ''}`),
   });
   say(`locating live from ${fleet.mqtt} (${placed.stations.length} stations under ${fleet.topicRoot}/); fixes to ${fleet.topicRoot}/fixes and stdout; stop with Ctrl-C`);
   const onSignal = (sig: string) => (): void => {

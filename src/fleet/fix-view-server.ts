@@ -11,6 +11,7 @@ import type { AddressInfo, Socket } from 'node:net';
 import { fileURLToPath } from 'node:url';
 import { WebSocketServer } from 'ws';
 import { feedFlagName, isLoopbackHost, type FeedOptions } from '../feed/feed-options.js';
+import { hostRule, refusedBecause } from '../util/host-check.js';
 import { contentTypeOf, listStaticFiles, lookUpStaticPath, readStaticFile } from '../feed/static-files.js';
 import { ViewerHub } from '../feed/viewer-hub.js';
 import { RuntimeFailure, UsageError } from '../util/errors.js';
@@ -53,6 +54,9 @@ export async function startFixViewServer(opts: FeedOptions, hello: string, log: 
     return timingSafeEqual(digest(given ?? ''), expected) && given !== null;
   };
   const hub = new ViewerHub(opts, hello, log);
+  // The same Host and Origin rule as the live view's feed (src/util/host-check.ts): a page of
+  // another site, or a rebound DNS name, cannot read the fixes.
+  const hosts = hostRule(opts.host, opts.port, opts.allowHosts);
   const joined: (() => void)[] = [];
   const wss = new WebSocketServer({ noServer: true, maxPayload: MAX_CLIENT_MESSAGE_BYTES, perMessageDeflate: false });
   const serve = async (req: IncomingMessage, res: ServerResponse): Promise<void> => {
@@ -62,6 +66,11 @@ export async function startFixViewServer(opts: FeedOptions, hello: string, log: 
       res.writeHead(status, { 'Content-Type': 'text/plain; charset=utf-8' });
       res.end(body);
     };
+    const wrongHost = refusedBecause(hosts, req.headers.host, req.headers.origin);
+    if (wrongHost !== null) {
+      log(`request from ${req.socket.remoteAddress ?? '?'} refused: ${wrongHost}`);
+      return text(403, `refused: ${wrongHost}; open the page by this machine's address, or list the name with ${feedFlagName('allowHosts')}\n`);
+    }
     if (req.method !== 'GET' && req.method !== 'HEAD') return text(405, 'only GET and HEAD\n');
     if (name === null) return text(404, 'not found\n');
     if (name === 'index.html' && !allowed(url)) return text(401, 'this view needs its access token: open the page with ?token=...\n');
@@ -83,6 +92,12 @@ export async function startFixViewServer(opts: FeedOptions, hello: string, log: 
       socket.end(`HTTP/1.1 ${status} ${reason}\r\nConnection: close\r\nContent-Type: text/plain\r\n\r\n${reason}\n`);
     };
     if (url.pathname !== FEED_PATH) return refuse(404, 'Not Found');
+    const wrongHost = refusedBecause(hosts, req.headers.host, req.headers.origin);
+    if (wrongHost !== null) {
+      hub.refused++;
+      log(`viewer from ${req.socket.remoteAddress ?? '?'} refused: ${wrongHost}`);
+      return refuse(403, 'Forbidden');
+    }
     if (!allowed(url)) {
       hub.refused++;
       return refuse(401, 'Unauthorized');
@@ -102,6 +117,7 @@ export async function startFixViewServer(opts: FeedOptions, hello: string, log: 
     });
     server.listen(opts.port, opts.host, () => resolve((server.address() as AddressInfo).port));
   });
+  hosts.port = port;
   if (!isLoopbackHost(opts.host)) {
     warn(`the fix view listens on ${opts.host}:${port}, so other machines can watch it` + (opts.token === null ? `; set ${feedFlagName('token')} to keep strangers out` : ' (token required)'));
   }

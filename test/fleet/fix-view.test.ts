@@ -5,6 +5,7 @@
  * them where the numbers say: pixels are read back from its canvas at the stations' and the
  * fix's places (north up, metres around the origin). A page that joins late gets a snapshot.
  */
+import { request } from 'node:http';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { resolveFeedOptions } from '../../src/feed/feed-options.js';
 import { fixViewOf, helloOf, snapshotMessage, stationMessage } from '../../src/fleet/fix-view-messages.js';
@@ -97,5 +98,23 @@ describe('the fix view in Chromium', () => {
     await page.waitForFunction(() => document.getElementById('stations')?.textContent?.includes('willow: offline') ?? false);
     expect(await page.locator('#counts').textContent()).toContain('1 fixes');
     await page.close();
+  });
+
+  // The same Host and Origin rule as the live view's feed (src/util/host-check.ts; RFC 9110
+  // section 7.2 for Host, RFC 6454 for Origin; 403 per RFC 9110 section 15.5.4).
+  it('refuses a foreign Host (DNS rebinding) and the Origin of another site with 403; its own names pass', async () => {
+    const get = (headers: Record<string, string>): Promise<number> =>
+      new Promise((resolve, reject) => {
+        const req = request({ host: '127.0.0.1', port: server.port, path: '/', headers }, (res) => {
+          res.resume();
+          res.on('end', () => resolve(res.statusCode ?? 0));
+        });
+        req.on('error', reject);
+        req.end();
+      });
+    expect(await get({ Host: `127.0.0.1:${server.port}` })).toBe(200);
+    expect(await get({ Host: `localhost:${server.port}` })).toBe(200);
+    expect(await get({ Host: `marsh.attacker.example:${server.port}` })).toBe(403);
+    expect(await get({ Host: `127.0.0.1:${server.port}`, Origin: 'http://marsh.attacker.example' })).toBe(403);
   });
 });
