@@ -56,6 +56,10 @@ const SKIPPED: Record<string, string> = {
   "mosquitto_sub -h 192.0.2.10 -t 'bearline/+/events' -q 1 -c -i pond-watcher": 'a broker on the network (192.0.2.10 is a documentation address)',
   'curl -s http://127.0.0.1:8418/health': 'needs a running station (test/live/station.test.ts fetches /health)',
   'npm install -g .': 'installs into the global prefix; test/station/install.test.ts runs it into a temporary prefix',
+  'bearline locate --stations marsh.json --mqtt mqtt://192.0.2.10:1883 --serve > fixes.jsonl':
+    'a broker on the network (192.0.2.10 is a documentation address); test/fleet/locate-live.test.ts runs live locating against a local Mosquitto',
+  'mosquitto_sub -h 192.0.2.10 -t bearline/fixes -q 1': 'a broker on the network (192.0.2.10 is a documentation address)',
+  'bearline report /var/lib/bearline/logs --out week.html': "a station's log folder at its installed path; the logs/ line below runs report on a folder of station logs made here",
 };
 
 const C = 343;
@@ -109,11 +113,18 @@ describe('README command lines', () => {
     execFileSync(process.execPath, [BIN, 'simulate', '--scene', at('my-scene.json'), '--out', at('room.wav')], { stdio: 'ignore' });
     // locate: the marsh example's stations; a caller at the origin, due south of reed-north (heading 180) and due west of dyke (heading 270): azimuth 0 from both
     copyFileSync(join(ROOT, 'configs/stations-marsh-example.json'), at('marsh.json'));
-    const ev = (track: number, station?: string): string => JSON.stringify({ ...(station ? { station } : {}), start_s: 10, end_s: 10.3, azimuth_deg: 0, spread_deg: 1, confidence: 0.9, track }) + '\n';
-    writeFileSync(at('north.jsonl'), ev(1));
-    writeFileSync(at('dyke.jsonl'), ev(3));
-    writeFileSync(at('all-stations.jsonl'), ev(1, 'reed-north') + ev(3, 'dyke'));
-    // check-array takes: the pair at five directions, the square at eight, a long take of the 3-D array cut by a span list
+    // The call leaves the origin at 8.834 s: it reaches reed-north (400 m, clock synced) at 10.000 s
+    // and dyke (500 m) at 10.292 s true time, which dyke's clock (0.8 s fast) stamps 11.092 s.
+    const ev = (track: number, startS: number, station?: string): string => JSON.stringify({ ...(station ? { station } : {}), start_s: startS, end_s: startS + 0.3, azimuth_deg: 0, spread_deg: 1, confidence: 0.9, track }) + '\n';
+    writeFileSync(at('north.jsonl'), ev(1, 10));
+    writeFileSync(at('dyke.jsonl'), ev(3, 11.092));
+    writeFileSync(at('all-stations.jsonl'), ev(1, 10, 'reed-north') + ev(3, 11.092, 'dyke'));
+    // report logs/: a station's rotated log folder (NAME.events.STAMP.jsonl) with calls of tracks 1 to 3 that night
+    mkdirSync(at('logs'));
+    const call = (utc: string, track: number, bearing: number): string =>
+      JSON.stringify({ start_s: 0, end_s: 0.2, utc, azimuth_deg: bearing, bearing_deg: bearing, spread_deg: 1, confidence: 0.9, track }) + '\n';
+    writeFileSync(at('logs/marsh-east.events.20260501T200000Z.jsonl'), call('2026-05-01T21:00:00.000Z', 1, 40) + call('2026-05-01T23:30:00.000Z', 2, 200) + call('2026-05-02T01:00:00.000Z', 3, 300));
+        // check-array takes: the pair at five directions, the square at eight, a long take of the 3-D array cut by a span list
     for (const [az, name] of [[-60, 'm60'], [-30, 'm30'], [0, 'z'], [30, 'p30'], [60, 'p60']] as const) soxTake(at(`${name}.wav`), delaysFor(pair, az), 2);
     for (const [az, name] of [[0, 'a'], [45, 'b'], [90, 'c'], [135, 'd'], [180, 'e'], [-135, 'f'], [-90, 'g'], [-45, 'h']] as const) soxTake(at(`${name}.wav`), delaysFor(square, az), 2);
     const cube = positionsOf(at('cube.json'));
@@ -166,6 +177,10 @@ describe('README command lines', () => {
       expect(r.status, f).toBe(0);
       expect(r.stderr, f).not.toMatch(/sox WARN|sox FAIL/);
     }
+    // report: the last report line (the logs/ folder, tracks 1 and 2) wrote dusk.html, one page with its plots inline
+    const page = readFileSync(at('dusk.html'), 'utf8');
+    expect(page).toMatch(/<svg/);
+    expect(page).not.toMatch(/https?:\/\//);
     const square = JSON.parse(readFileSync(at('square.json'), 'utf8')) as { verdict: string };
     expect(['pass', 'warn', 'fail']).toContain(square.verdict);
   });
