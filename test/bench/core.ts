@@ -13,10 +13,10 @@ import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geome
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { createAnalysis } from '../../src/analysis/analysis.js';
 
-const RATE = 48000;
+export const RATE = 48000;
 const here = fileURLToPath(new URL('.', import.meta.url));
 
-function noiseFrames(channels: number, samples: number, seed = 1): Float32Array[] {
+export function noiseFrames(channels: number, samples: number, seed = 1): Float32Array[] {
   let s = seed;
   const rand = () => ((s = (s * 1664525 + 1013904223) >>> 0) / 2 ** 32) - 0.5;
   const common = new Float32Array(samples + 64).map(() => rand());
