@@ -25,6 +25,7 @@ import { startHealthServer } from '../station/health-server.js';
 import type { StationOptions } from '../station/runtime-options.js';
 import { installShutdown, type StationSink } from '../station/shutdown.js';
 import { StatusMonitor } from '../station/status.js';
+import { AnalysisMeter } from '../analysis/analysis-meter.js';
 import type { TrackerOptions } from '../track/options.js';
 import { TrackingSession } from '../track/tracking-session.js';
 import { RuntimeFailure } from '../util/errors.js';
@@ -129,9 +130,10 @@ export async function runLive(plan: LivePlan): Promise<void> {
   const records = fanOut(sinks.all);
   let session: TrackingSession | null = null;
   let lostS = 0;
+  const meter = new AnalysisMeter(setup.options.hop / sampleRate);
   const monitor = new StatusMonitor({
     station: station.station,
-    counters: () => ({ hops: session?.hops ?? 0, droppedAudioS: Math.round(lostS * 100) / 100, events: session?.events ?? 0 }),
+    counters: () => ({ hops: session?.hops ?? 0, droppedAudioS: Math.round(lostS * 100) / 100, events: session?.events ?? 0, analysisRealTime: meter.realTimeFactor() }),
     disk: () => {
       const s = sinks.log?.stats();
       return { usedBytes: s ? s.diskUsed : null, freeBytes: s ? s.diskFree : null };
@@ -164,7 +166,7 @@ export async function runLive(plan: LivePlan): Promise<void> {
   const running = session;
   let stopping = false;
   const loopDone = (async () => {
-    await runAnalysis(source, setup.analyzer, { onHop: (r, time) => running.hop(r, time), onGap });
+    await runAnalysis(source, setup.analyzer, { onHop: (r, time) => running.hop(r, time), onGap, meter });
     await running.finish();
   })().then(
     () => null,

@@ -52,7 +52,7 @@ export interface CoreFigures {
   ratioToNumpy: number | null;
 }
 
-export function benchCase(name: string, geometry: ArrayGeometry, seconds = 10): CoreFigures {
+export function benchCase(name: string, geometry: ArrayGeometry, seconds = 10, numpy = true): CoreFigures {
   const setup = createAnalysis(geometry, RATE, 343, {});
   const { analyzer, model } = setup;
   const n = analyzer.frame;
@@ -104,8 +104,8 @@ export function benchCase(name: string, geometry: ArrayGeometry, seconds = 10): 
   const floorUsPerHop = (floorMs * 1000) / hops;
 
   let numpyUsPerHop: number | null = null;
-  const dir = mkdtempSync(join(tmpdir(), 'bearline-bench-'));
-  try {
+  const dir = numpy ? mkdtempSync(join(tmpdir(), 'bearline-bench-')) : null;
+  if (dir !== null) try {
     const inter = new Float32Array(signal[0]!.length * C);
     for (let i = 0; i < signal[0]!.length; i++) for (let c = 0; c < C; c++) inter[i * C + c] = signal[c]![i]!;
     const raw = join(dir, 'x.f32');
@@ -159,8 +159,8 @@ export function coreCases(): [string, ArrayGeometry][] {
   ];
 }
 
-export function printCore(rows: CoreFigures[]): void {
-  console.log('core analysis at 48 kHz, frame 1024, hop 512, one core:');
+export function printCore(rows: CoreFigures[], fft = 'PFFFT (WebAssembly SIMD)'): void {
+  console.log(`core analysis at 48 kHz, frame 1024, hop 512, one core, FFT ${fft}:`);
   console.log('  case                      ch pairs  us/hop  floor us  x floor  x real time  numpy us  numpy/bearline');
   for (const r of rows) {
     console.log(
@@ -169,8 +169,36 @@ export function printCore(rows: CoreFigures[]): void {
   }
 }
 
+/**
+ * The same cases on the fft.js fallback (BEARLINE_FFT=fftjs, in a child process: the FFT is
+ * chosen when the program loads), against the numpy figures of this run's PFFFT rows.
+ */
+export function fallbackRows(pffftRows: readonly CoreFigures[]): CoreFigures[] {
+  const r = spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(import.meta.url), '--fallback-json'], {
+    encoding: 'utf8',
+    env: { ...process.env, BEARLINE_FFT: 'fftjs' },
+    maxBuffer: 1 << 20,
+  });
+  if (r.status !== 0) throw new Error(`fft.js fallback bench failed: ${r.stderr}`);
+  const rows = JSON.parse(r.stdout) as CoreFigures[];
+  return rows.map((row, i) => {
+    const np = pffftRows[i]?.numpyUsPerHop ?? null;
+    return { ...row, numpyUsPerHop: np, ratioToNumpy: np === null ? null : np / row.usPerHop };
+  });
+}
+
+export const CORE_TARGETS =
+  '  targets (issue 14): pair within 1.5x of the floor, 2x numpy; 4-mic square and tetrahedron 2x numpy, within 1.6x of the floor, 150x real time; 8-mic circle 3x numpy';
+
 if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
-  printCore(coreCases().map(([n, g]) => benchCase(n, g)));
-  const m = benchMemory();
-  console.log(`peak RSS of scan: 1-minute stereo ${m.oneMinMb.toFixed(0)} MB, 10-minute stereo ${m.tenMinMb.toFixed(0)} MB`);
+  if (process.argv.includes('--fallback-json')) {
+    process.stdout.write(JSON.stringify(coreCases().map(([n, g]) => benchCase(n, g, 10, false))));
+  } else {
+    const rows = coreCases().map(([n, g]) => benchCase(n, g));
+    printCore(rows);
+    console.log(CORE_TARGETS);
+    printCore(fallbackRows(rows), 'fft.js (fallback, BEARLINE_FFT=fftjs)');
+    const m = benchMemory();
+    console.log(`peak RSS of scan: 1-minute stereo ${m.oneMinMb.toFixed(0)} MB, 10-minute stereo ${m.tenMinMb.toFixed(0)} MB`);
+  }
 }

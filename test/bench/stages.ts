@@ -27,6 +27,8 @@ export interface StageFigures {
   us: number[];
   total: number;
   hops: number;
+  /** The analysis hop, samples. */
+  hopSamples: number;
 }
 
 /** Per-stage cost of the analysis (with `analysis` and `tracker` settings) on the bench's noise stream. */
@@ -35,6 +37,7 @@ export function benchStages(name: string, geometry: ArrayGeometry, analysis: Ana
   const signal = noiseFrames(C, seconds * RATE);
   const best = new Array<number>(STAGES.length).fill(Infinity);
   let hops = 0;
+  let hopSamples = 0;
   for (let pass = 0; pass < passes; pass++) {
     const setup = createAnalysis(geometry, RATE, 343, analysis);
     const a = setup.analyzer;
@@ -43,6 +46,7 @@ export function benchStages(name: string, geometry: ArrayGeometry, analysis: Ana
     const n = a.frame;
     const frames = Array.from({ length: C }, () => new Float64Array(n));
     hops = Math.floor((signal[0]!.length - n) / a.hop) + 1;
+    hopSamples = a.hop;
     const sum = new Float64Array(STAGES.length);
     let chars = 0;
     for (let h = 0; h < hops; h++) {
@@ -86,7 +90,7 @@ export function benchStages(name: string, geometry: ArrayGeometry, analysis: Ana
     if (chars === 0) throw new Error('no records written');
     for (let s = 0; s < STAGES.length; s++) best[s] = Math.min(best[s]!, (sum[s]! * 1000) / hops);
   }
-  return { name, us: best, total: best.reduce((s, x) => s + x, 0), hops };
+  return { name, us: best, total: best.reduce((s, x) => s + x, 0), hops, hopSamples };
 }
 
 export function formatStages(rows: StageFigures[], title: string): string {
