@@ -80,11 +80,19 @@ export class PairCorrelator {
    */
   peaks(count: number, lagsOut: Float64Array, heightsOut: Float64Array): number {
     const L = this.maxLag;
+    const g = this.gcc;
+    const n = this.n;
     let found = 0;
+    // lag l sits at index l mod N (l + N for l < 0; the window is far inside the frame)
+    let yl = g[n - L - 1]!;
+    let y = g[n - L]!;
     for (let lag = -L; lag <= L; lag++) {
-      const y = this.at(lag);
-      const yl = this.at(lag - 1);
-      const yr = this.at(lag + 1);
+      if (lag > -L) {
+        yl = y;
+        y = g[lag < 0 ? n + lag : lag]!;
+      }
+      const next = lag + 1;
+      const yr = g[next < 0 ? n + next : next]!;
       if (!(y > yl && y >= yr)) continue;
       if (found === count && y <= heightsOut[found - 1]!) continue;
       // insertion into the sorted top list
