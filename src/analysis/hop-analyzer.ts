@@ -482,7 +482,8 @@ export class HopAnalyzer {
     const s = this.bandScores;
     s.fill(0);
     // Per pair, all candidates in one pass (the same sums, in the same order over pairs, as one candidate at a time).
-    for (let p = 0; p < P; p++) addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0);
+    // Bands without evidence take no part in the fusion: their scores are not needed.
+    for (let p = 0; p < P; p++) addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0, this.evidence);
     for (let b = 0; b < this.bands.count; b++) {
       const norm = 1 / (P * Math.max(1e-12, this.bandWeight[b]!));
       for (let c = 0; c < K; c++) s[b * S + c]! *= norm;

@@ -11,7 +11,9 @@ import { addBandScores, type PairCorrelator } from './gcc.js';
 
 /**
  * addBandScores (./gcc.ts) of one pair at `count` lags lags[lagOffset + i * lagStride],
- * added into scoresOut[b * stride + offset + i] for i < count.
+ * added into scoresOut[b * stride + offset + i] for i < count. Bands whose `needed[b]` is not
+ * above 0 are left as they are (their phasors still step through them, so the other bands'
+ * sums are the same to the last bit); give null to score every band.
  */
 export function addBandScoresLanes(
   pc: PairCorrelator,
@@ -23,20 +25,24 @@ export function addBandScoresLanes(
   scoresOut: Float64Array,
   stride: number,
   offset: number,
+  needed: Float64Array | null = null,
 ): void {
   let i = 0;
   for (; i + 4 <= count; i += 4) {
     const o = lagOffset + i * lagStride;
-    bandScores4(pc, bands, lags[o]!, lags[o + lagStride]!, lags[o + 2 * lagStride]!, lags[o + 3 * lagStride]!, scoresOut, stride, offset + i);
+    bandScores4(pc, bands, lags[o]!, lags[o + lagStride]!, lags[o + 2 * lagStride]!, lags[o + 3 * lagStride]!, scoresOut, stride, offset + i, needed);
   }
   for (; i + 2 <= count; i += 2) {
     const o = lagOffset + i * lagStride;
-    bandScores2(pc, bands, lags[o]!, lags[o + lagStride]!, scoresOut, stride, offset + i);
+    bandScores2(pc, bands, lags[o]!, lags[o + lagStride]!, scoresOut, stride, offset + i, needed);
   }
-  if (i < count) addBandScores(pc, bands, lags[lagOffset + i * lagStride]!, scoresOut, stride, offset + i);
+  if (i < count) {
+    if (needed === null) addBandScores(pc, bands, lags[lagOffset + i * lagStride]!, scoresOut, stride, offset + i);
+    else bandScores2(pc, bands, lags[lagOffset + i * lagStride]!, lags[lagOffset + i * lagStride]!, scoresOut, stride, offset + i, needed, true);
+  }
 }
 
-function bandScores4(pc: PairCorrelator, bands: BandLayout, l0: number, l1: number, l2: number, l3: number, out: Float64Array, stride: number, offset: number): void {
+function bandScores4(pc: PairCorrelator, bands: BandLayout, l0: number, l1: number, l2: number, l3: number, out: Float64Array, stride: number, offset: number, needed: Float64Array | null): void {
   const n = pc.n;
   const k0 = bands.firstBin;
   const s0 = (2 * Math.PI * l0) / n;
@@ -65,6 +71,23 @@ function bandScores4(pc: PairCorrelator, bands: BandLayout, l0: number, l1: numb
   let k = k0;
   for (let b = 0; b < bands.count; b++) {
     const e = end[b]!;
+    if (needed !== null && !(needed[b]! > 0)) {
+      for (; k < e; k++) {
+        const t0 = pr0 * sr0 - pi0 * si0;
+        pi0 = pr0 * si0 + pi0 * sr0;
+        pr0 = t0;
+        const t1 = pr1 * sr1 - pi1 * si1;
+        pi1 = pr1 * si1 + pi1 * sr1;
+        pr1 = t1;
+        const t2 = pr2 * sr2 - pi2 * si2;
+        pi2 = pr2 * si2 + pi2 * sr2;
+        pr2 = t2;
+        const t3 = pr3 * sr3 - pi3 * si3;
+        pi3 = pr3 * si3 + pi3 * sr3;
+        pr3 = t3;
+      }
+      continue;
+    }
     let a0 = 0;
     let a1 = 0;
     let a2 = 0;
@@ -97,7 +120,8 @@ function bandScores4(pc: PairCorrelator, bands: BandLayout, l0: number, l1: numb
   }
 }
 
-function bandScores2(pc: PairCorrelator, bands: BandLayout, l0: number, l1: number, out: Float64Array, stride: number, offset: number): void {
+/** Two lanes; `single` writes only the first (the second lane then repeats it). */
+function bandScores2(pc: PairCorrelator, bands: BandLayout, l0: number, l1: number, out: Float64Array, stride: number, offset: number, needed: Float64Array | null, single = false): void {
   const n = pc.n;
   const k0 = bands.firstBin;
   const s0 = (2 * Math.PI * l0) / n;
@@ -116,6 +140,17 @@ function bandScores2(pc: PairCorrelator, bands: BandLayout, l0: number, l1: numb
   let k = k0;
   for (let b = 0; b < bands.count; b++) {
     const e = end[b]!;
+    if (needed !== null && !(needed[b]! > 0)) {
+      for (; k < e; k++) {
+        const t0 = pr0 * sr0 - pi0 * si0;
+        pi0 = pr0 * si0 + pi0 * sr0;
+        pr0 = t0;
+        const t1 = pr1 * sr1 - pi1 * si1;
+        pi1 = pr1 * si1 + pi1 * sr1;
+        pr1 = t1;
+      }
+      continue;
+    }
     let a0 = 0;
     let a1 = 0;
     for (; k < e; k++) {
@@ -132,7 +167,7 @@ function bandScores2(pc: PairCorrelator, bands: BandLayout, l0: number, l1: numb
     }
     const o = b * stride + offset;
     out[o] = out[o]! + a0;
-    out[o + 1] = out[o + 1]! + a1;
+    if (!single) out[o + 1] = out[o + 1]! + a1;
   }
 }
 
