@@ -104,7 +104,8 @@ export class HopAnalyzer {
   readonly bands: BandLayout;
   private readonly fft: RealFft;
   private readonly window: Float64Array;
-  private readonly windowed: FftBuffer;
+  /** Two windowed frames (FFT inputs): channels are windowed two at a time. */
+  private readonly windowed: FftBuffer[];
   /** Interleaved half spectrum (re, im) per channel, in the FFT's own buffers. */
   private readonly spectra: FftBuffer[];
   /** 1 / |X_c,k| per channel (0 for an empty bin): PHAT divides by |X_a X_b| = |X_a| |X_b|. */
@@ -162,7 +163,7 @@ export class HopAnalyzer {
     this.fft = new RealFft(n);
     const bins = n / 2 + 1;
     this.window = hannWindow(n);
-    this.windowed = this.fft.createInput();
+    this.windowed = [this.fft.createInput(), this.fft.createInput()];
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
     this.invMag = Array.from({ length: channels }, () => new Float64Array(bins));
     this.power = new Float64Array(bins);
@@ -257,27 +258,53 @@ export class HopAnalyzer {
     this.hopIndex++;
 
     let totalMs = 0;
-    this.power.fill(0, k0, k1);
-    for (let c = 0; c < this.channels; c++) {
-      const x = frames[c]!;
-      let ms = 0;
-      for (let i = 0; i < n; i++) {
-        const v = x[i]!;
-        ms += v * v;
-        this.windowed[i] = v * this.window[i]!;
+    const power = this.power;
+    const window = this.window;
+    const C = this.channels;
+    power.fill(0, k0, k1);
+    for (let c = 0; c < C; c += 2) {
+      // Two channels per pass over the frame when there are two left: each channel's sum of
+      // squares runs in its own order, as one at a time (the same figures), and the two sums
+      // overlap in the processor.
+      const two = c + 1 < C;
+      const x0 = frames[c]!;
+      const w0 = this.windowed[0]!;
+      let ms0 = 0;
+      let ms1 = 0;
+      if (two) {
+        const x1 = frames[c + 1]!;
+        const w1 = this.windowed[1]!;
+        for (let i = 0; i < n; i++) {
+          const v0 = x0[i]!;
+          const v1 = x1[i]!;
+          const h = window[i]!;
+          ms0 += v0 * v0;
+          ms1 += v1 * v1;
+          w0[i] = v0 * h;
+          w1[i] = v1 * h;
+        }
+      } else {
+        for (let i = 0; i < n; i++) {
+          const v0 = x0[i]!;
+          ms0 += v0 * v0;
+          w0[i] = v0 * window[i]!;
+        }
       }
-      ms /= n;
-      totalMs += ms;
-      res.channelLevelsDbfs[c] = toDb(ms);
-      const spec = this.spectra[c]!;
-      this.fft.forwardInterleaved(this.windowed, spec);
-      const inv = this.invMag[c]!;
-      for (let k = k0; k < k1; k++) {
-        const r = spec[2 * k]!;
-        const i = spec[2 * k + 1]!;
-        const p2 = r * r + i * i;
-        this.power[k] += p2;
-        inv[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
+      for (let j = 0; j < (two ? 2 : 1); j++) {
+        const ch = c + j;
+        const ms = (j === 0 ? ms0 : ms1) / n;
+        totalMs += ms;
+        res.channelLevelsDbfs[ch] = toDb(ms);
+        const spec = this.spectra[ch]!;
+        this.fft.forwardInterleaved(this.windowed[j]!, spec);
+        const inv = this.invMag[ch]!;
+        for (let k = k0; k < k1; k++) {
+          const r = spec[2 * k]!;
+          const i = spec[2 * k + 1]!;
+          const p2 = r * r + i * i;
+          power[k] += p2;
+          inv[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
+        }
       }
     }
     res.levelDbfs = toDb(totalMs / this.channels);
