@@ -110,6 +110,9 @@ export class HopAnalyzer {
   private readonly spectra: FftBuffer[];
   /** 1 / |X_c,k| per channel (0 for an empty bin): PHAT divides by |X_a X_b| = |X_a| |X_b|. */
   private readonly invMag: Float64Array[];
+  /** weights[k] / |X_c,k| for each channel that is the first of a pair (leadsPair). */
+  private readonly weightedInv: Float64Array[];
+  private readonly leadsPair: Uint8Array;
   private readonly power: Float64Array;
   private readonly weights: Float64Array;
   private readonly weightAcc: Float64Array;
@@ -166,6 +169,9 @@ export class HopAnalyzer {
     this.windowed = [this.fft.createInput(), this.fft.createInput()];
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
     this.invMag = Array.from({ length: channels }, () => new Float64Array(bins));
+    this.leadsPair = new Uint8Array(channels);
+    for (const [a] of model.pairs) this.leadsPair[a] = 1;
+    this.weightedInv = Array.from({ length: channels }, (_, c) => new Float64Array(this.leadsPair[c] ? bins : 0));
     this.power = new Float64Array(bins);
     this.weights = new Float64Array(bins);
     this.weightAcc = new Float64Array(bins);
@@ -358,9 +364,17 @@ export class HopAnalyzer {
     const { firstBin: k0, endBin: k1 } = this.bands;
     const pairs = this.model.pairs;
     const mem = this.memory;
+    // weights x 1/|X_a| once per channel, shared by the pairs that channel leads
+    const weights = this.weights;
+    for (let c = 0; c < this.channels; c++) {
+      if (!this.leadsPair[c]) continue;
+      const inv = this.invMag[c]!;
+      const out = this.weightedInv[c]!;
+      for (let k = k0; k < k1; k++) out[k] = weights[k]! * inv[k]!;
+    }
     for (let p = 0; p < pairs.length; p++) {
       const [a, b] = pairs[p]!;
-      this.correlators[p]!.accumulate(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, this.weights, k0, k1, mem);
+      this.correlators[p]!.accumulateWeighted(this.spectra[a]!, this.spectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
     }
     const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs;
     if (silent) {

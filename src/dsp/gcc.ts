@@ -54,6 +54,25 @@ export class PairCorrelator {
     }
   }
 
+  /**
+   * accumulate() with the weights already folded into mic a's side: `weightedInvA[k]` =
+   * weights[k] * invA[k] (that product first, as accumulate forms it), so that an array's
+   * pairs share it per channel; the same memory to the last bit.
+   */
+  accumulateWeighted(a: ArrayLike<number>, b: ArrayLike<number>, weightedInvA: Float64Array, invB: Float64Array, first: number, end: number, memory: number): void {
+    const ar = this.accRe;
+    const ai = this.accIm;
+    for (let k = first; k < end; k++) {
+      const xr = a[2 * k]!;
+      const xi = a[2 * k + 1]!;
+      const yr = b[2 * k]!;
+      const yi = b[2 * k + 1]!;
+      const g = weightedInvA[k]! * invB[k]!;
+      ar[k] = memory * ar[k]! + (xr * yr + xi * yi) * g;
+      ai[k] = memory * ai[k]! + (xr * yi - xi * yr) * g;
+    }
+  }
+
   /** Inverse FFT of the accumulated cross-spectrum (bins [first, end)) into `gcc`, lags within maxLag. */
   correlate(fft: RealFft, first: number, end: number): void {
     fft.inverseLags(this.accRe, this.accIm, null, first, end, this.gcc, this.maxLag + 1);
