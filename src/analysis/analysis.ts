@@ -1,3 +1,4 @@
+import type { AnalysisMeter } from './analysis-meter.js';
 import type { DirectionModel } from '../direction/direction-model.js';
 import { PairDirectionModel } from '../direction/pair-direction.js';
 import { SrpDirectionModel } from '../direction/srp-search.js';
@@ -59,6 +60,8 @@ export interface StreamHandlers {
   onProgress?(framesDone: number): void;
   /** Checked after each block: true ends the run there (a stop signal), as if the stream had ended. */
   shouldStop?(): boolean;
+  /** Times each hop (analysis and onHop's synchronous part) for the real-time factor on this machine. */
+  meter?: AnalysisMeter;
 }
 
 /**
@@ -69,6 +72,7 @@ export interface StreamHandlers {
 export async function runAnalysis(source: AudioSource, analyzer: HopAnalyzer, handlers: StreamHandlers): Promise<number> {
   const framer = new Framer(analyzer.channels, analyzer.frame, analyzer.hop);
   const rate = analyzer.sampleRate;
+  const meter = handlers.meter ?? null;
   const time: HopTime = { timeS: 0, epochMs: null };
   let offsetS = 0;
   let hops = 0;
@@ -84,9 +88,11 @@ export async function runAnalysis(source: AudioSource, analyzer: HopAnalyzer, ha
       if (block.time.gapBefore) keep(handlers.onGap?.(block.time.gapBefore, block.time.epochMs));
     }
     framer.push(block.channels, block.length, (frames) => {
+      const t0 = meter ? meter.start() : 0;
       const r = analyzer.process(frames);
       time.timeS = r.timeS + offsetS;
       keep(handlers.onHop(r, time));
+      if (meter) meter.stop(t0);
       hops++;
     });
     if (pending.length) {

@@ -1,6 +1,7 @@
 import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft, type FftBuffer } from '../dsp/fft.js';
 import { addBandScores, hopCoherence, PairCorrelator, refineLag } from '../dsp/gcc.js';
+import { addBandScoresLanes, hopCoherence2, refineLagLanes } from '../dsp/gcc-lanes.js';
 import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow } from '../dsp/window.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
@@ -103,11 +104,15 @@ export class HopAnalyzer {
   readonly bands: BandLayout;
   private readonly fft: RealFft;
   private readonly window: Float64Array;
-  private readonly windowed: FftBuffer;
+  /** Two windowed frames (FFT inputs): channels are windowed two at a time. */
+  private readonly windowed: FftBuffer[];
   /** Interleaved half spectrum (re, im) per channel, in the FFT's own buffers. */
   private readonly spectra: FftBuffer[];
   /** 1 / |X_c,k| per channel (0 for an empty bin): PHAT divides by |X_a X_b| = |X_a| |X_b|. */
   private readonly invMag: Float64Array[];
+  /** weights[k] / |X_c,k| for each channel that is the first of a pair (leadsPair). */
+  private readonly weightedInv: Float64Array[];
+  private readonly leadsPair: Uint8Array;
   private readonly power: Float64Array;
   private readonly weights: Float64Array;
   private readonly weightAcc: Float64Array;
@@ -134,11 +139,16 @@ export class HopAnalyzer {
   private prevValid = false;
   private readonly useBand: Uint8Array;
   private readonly refined: Float64Array;
+  /** Scratch of the pairs' joint refinement (derivatives, which pairs still step). */
+  private readonly refineScratch: Float64Array;
+  private readonly refineActive: Uint8Array;
+  private readonly fresh2 = new Float64Array(2);
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
   private readonly order: Int32Array;
   /** The bands supporting the candidate being refined (reused). */
   private readonly support: BandSupport = { first: -1, last: -1, dominant: -1, freqSum: 0, weightSum: 0 };
-  private readonly result: HopResult;
+  /** The hop result the stages fill and process() returns (one object, reused every hop). */
+  readonly result: HopResult;
   private readonly pairBandScores: Float64Array;
   /** Compute per-pair diagnostics (costs one pass over the bins per pair per hop). */
   diagnostics = false;
@@ -158,9 +168,12 @@ export class HopAnalyzer {
     this.fft = new RealFft(n);
     const bins = n / 2 + 1;
     this.window = hannWindow(n);
-    this.windowed = this.fft.createInput();
+    this.windowed = [this.fft.createInput(), this.fft.createInput()];
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
     this.invMag = Array.from({ length: channels }, () => new Float64Array(bins));
+    this.leadsPair = new Uint8Array(channels);
+    for (const [a] of model.pairs) this.leadsPair[a] = 1;
+    this.weightedInv = Array.from({ length: channels }, (_, c) => new Float64Array(this.leadsPair[c] ? bins : 0));
     this.power = new Float64Array(bins);
     this.weights = new Float64Array(bins);
     this.weightAcc = new Float64Array(bins);
@@ -194,6 +207,8 @@ export class HopAnalyzer {
     this.useBand = new Uint8Array(options.bands);
     this.pairBandScores = new Float64Array(options.bands);
     this.refined = new Float64Array(P);
+    this.refineScratch = new Float64Array(2 * P);
+    this.refineActive = new Uint8Array(P);
     this.order = new Int32Array(candidates);
     this.result = {
       index: 0,
@@ -236,8 +251,22 @@ export class HopAnalyzer {
     return this.lastHopCorrelated ? this.correlators : null;
   }
 
-  /** Analyse one hop. `frames[c]` holds the frame's raw samples of channel c (length = frame). */
+  /**
+   * Analyse one hop. `frames[c]` holds the frame's raw samples of channel c (length = frame).
+   * The stages below, in order (public so that the benchmark can time each one: test/bench/stages.ts).
+   */
   process(frames: readonly Float64Array[]): HopResult {
+    this.spectraStage(frames);
+    this.weightStage();
+    if (this.crossSpectraStage()) {
+      this.correlationStage();
+      this.fusionStage(this.candidateStage());
+    }
+    return this.result;
+  }
+
+  /** Stage 1: levels, window, one real FFT per channel, per-bin power and 1 / |X|. */
+  spectraStage(frames: readonly Float64Array[]): void {
     const n = this.frame;
     const res = this.result;
     const { firstBin: k0, endBin: k1 } = this.bands;
@@ -245,78 +274,151 @@ export class HopAnalyzer {
     res.timeS = (this.hopIndex * this.hop + n / 2) / this.sampleRate;
     this.hopIndex++;
 
-    // Levels, window, spectra, per-bin power.
     let totalMs = 0;
-    this.power.fill(0, k0, k1);
-    for (let c = 0; c < this.channels; c++) {
-      const x = frames[c]!;
-      let ms = 0;
-      for (let i = 0; i < n; i++) {
-        const v = x[i]!;
-        ms += v * v;
-        this.windowed[i] = v * this.window[i]!;
+    const power = this.power;
+    const window = this.window;
+    const C = this.channels;
+    power.fill(0, k0, k1);
+    for (let c = 0; c < C; c += 2) {
+      // Two channels per pass over the frame when there are two left: each channel's sum of
+      // squares runs in its own order, as one at a time (the same figures), and the two sums
+      // overlap in the processor.
+      const two = c + 1 < C;
+      const x0 = frames[c]!;
+      const w0 = this.windowed[0]!;
+      let ms0 = 0;
+      let ms1 = 0;
+      if (two) {
+        const x1 = frames[c + 1]!;
+        const w1 = this.windowed[1]!;
+        for (let i = 0; i < n; i++) {
+          const v0 = x0[i]!;
+          const v1 = x1[i]!;
+          const h = window[i]!;
+          ms0 += v0 * v0;
+          ms1 += v1 * v1;
+          w0[i] = v0 * h;
+          w1[i] = v1 * h;
+        }
+      } else {
+        for (let i = 0; i < n; i++) {
+          const v0 = x0[i]!;
+          ms0 += v0 * v0;
+          w0[i] = v0 * window[i]!;
+        }
       }
-      ms /= n;
-      totalMs += ms;
-      res.channelLevelsDbfs[c] = toDb(ms);
-      const spec = this.spectra[c]!;
-      this.fft.forwardInterleaved(this.windowed, spec);
-      const inv = this.invMag[c]!;
-      for (let k = k0; k < k1; k++) {
-        const r = spec[2 * k]!;
-        const i = spec[2 * k + 1]!;
-        const p2 = r * r + i * i;
-        this.power[k] += p2;
-        inv[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
+      for (let j = 0; j < (two ? 2 : 1); j++) {
+        const ch = c + j;
+        const ms = (j === 0 ? ms0 : ms1) / n;
+        totalMs += ms;
+        res.channelLevelsDbfs[ch] = toDb(ms);
+        const spec = this.spectra[ch]!;
+        this.fft.forwardInterleaved(this.windowed[j]!, spec);
+        const inv = this.invMag[ch]!;
+        for (let k = k0; k < k1; k++) {
+          const r = spec[2 * k]!;
+          const i = spec[2 * k + 1]!;
+          const p2 = r * r + i * i;
+          power[k] += p2;
+          inv[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
+        }
       }
     }
     res.levelDbfs = toDb(totalMs / this.channels);
+  }
 
-    // Onset weights, the weight memory, each band's SNR over its noise floor and its evidence
-    // (from its SNR, smoothed over the memory, times log2(1 + its width in bins)).
-    // Within a band the bins count by their onset and presence weights; between bands, by
-    // evidence: the correlation for the candidates gives each band the say of its evidence.
-    res.onset = this.onset.update(this.power, k0, k1, this.weights);
-    this.onset.bandSnrDb(this.bands, this.power, res.bandSnrDb);
+  /**
+   * Stage 2: onset weights, the weight memory, each band's SNR over its noise floor and its
+   * evidence (from its SNR, smoothed over the memory, times log2(1 + its width in bins)).
+   * Within a band the bins count by their onset and presence weights; between bands, by
+   * evidence: the correlation for the candidates gives each band the say of its evidence.
+   */
+  weightStage(): void {
+    const res = this.result;
+    const bands = this.bands;
+    const { firstBin: k0, endBin: k1 } = bands;
+    const power = this.power;
+    res.onset = this.onset.update(power, k0, k1, this.weights);
+    const bandSnrDb = res.bandSnrDb;
+    this.onset.bandSnrDb(bands, power, bandSnrDb);
     const mem = this.memory;
-    for (let k = k0; k < k1; k++) this.weightAcc[k] = mem * this.weightAcc[k]! + this.weights[k]!;
+    const acc = this.weightAcc;
+    const weights = this.weights;
+    const binScale = this.binScale;
+    const snrMem = this.snrMem;
+    for (let k = k0; k < k1; k++) acc[k] = mem * acc[k]! + weights[k]!;
     let snr = 0;
-    for (let b = 0; b < this.bands.count; b++) {
+    for (let b = 0; b < bands.count; b++) {
+      const start = bands.start[b]!;
+      const end = bands.end[b]!;
       let s = 0;
-      for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) s += this.weightAcc[k]!;
+      for (let k = start; k < end; k++) s += acc[k]!;
       this.bandWeight[b] = s;
-      const bandSnr = res.bandSnrDb[b]!;
+      const bandSnr = bandSnrDb[b]!;
       if (bandSnr > snr) snr = bandSnr;
-      const smoothed = (this.snrMem[b] = mem * this.snrMem[b]! + (1 - mem) * bandSnr);
+      const smoothed = (snrMem[b] = mem * snrMem[b]! + (1 - mem) * bandSnr);
       const e = s > 1e-9 ? evidenceGain(smoothed) * this.bandWidthWeight[b]! : 0;
       this.evidence[b] = e;
       const g = e / Math.max(1e-12, s);
-      for (let k = this.bands.start[b]!; k < this.bands.end[b]!; k++) this.binScale[k] = g;
+      binScale.fill(g, start, end);
     }
     res.snrDb = snr;
+  }
 
-    // Pair cross-spectra into the memory; in a silent hop (digital silence, or nothing above the
-    // noise floor) that is all (nights are mostly quiet).
+  /**
+   * Stage 3: the pair cross-spectra into the memory. Returns false for a silent hop (digital
+   * silence, or the first hops that only learn the noise floor): its estimate is cleared and
+   * the later stages are skipped (nights are mostly quiet).
+   */
+  crossSpectraStage(): boolean {
+    const res = this.result;
+    const { firstBin: k0, endBin: k1 } = this.bands;
     const pairs = this.model.pairs;
-    const P = pairs.length;
+    const mem = this.memory;
+    // weights x 1/|X_a| once per channel, shared by the pairs that channel leads
+    const weights = this.weights;
+    for (let c = 0; c < this.channels; c++) {
+      if (!this.leadsPair[c]) continue;
+      const inv = this.invMag[c]!;
+      const out = this.weightedInv[c]!;
+      for (let k = k0; k < k1; k++) out[k] = weights[k]! * inv[k]!;
+    }
+    for (let p = 0; p < pairs.length; p++) {
+      const [a, b] = pairs[p]!;
+      this.correlators[p]!.accumulateWeighted(this.spectra[a]!, this.spectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
+    }
     const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs;
     this.lastHopCorrelated = !silent;
-    for (let p = 0; p < P; p++) {
-      const [a, b] = pairs[p]!;
-      const pc = this.correlators[p]!;
-      pc.accumulate(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, this.weights, k0, k1, mem);
-      if (silent) continue;
-      // With fusion, every band has the say of its evidence; without, the plain weighted
-      // GCC-PHAT over all bins.
-      if (this.options.voting) pc.correlateScaled(this.fft, this.binScale, k0, k1);
-      else pc.correlate(this.fft, k0, k1);
-    }
-
     if (silent) {
       this.clearEstimate(res);
       this.prevValid = false;
-    } else this.fuseBands(res, P);
-    return res;
+    }
+    return !silent;
+  }
+
+  /**
+   * Stage 4: each pair's correlation over the lags it can take (one inverse FFT per pair). With
+   * fusion, every band has the say of its evidence; without, the plain weighted GCC-PHAT over all bins.
+   */
+  correlationStage(): void {
+    const { firstBin: k0, endBin: k1 } = this.bands;
+    const P = this.model.pairs.length;
+    for (let p = 0; p < P; p++) {
+      const pc = this.correlators[p]!;
+      if (this.options.voting) pc.correlateScaled(this.fft, this.binScale, k0, k1);
+      else pc.correlate(this.fft, k0, k1);
+    }
+  }
+
+  /** Stage 5: the direction model's candidates (peaks of a pair, or the SRP search), one per peak; returns their count. */
+  candidateStage(): number {
+    const P = this.model.pairs.length;
+    return this.dedupe(this.model.findCandidates(this.correlators, this.options.maxCandidates, this.candLags, this.candScores), P);
+  }
+
+  /** Stage 6: band fusion over the K candidates, ranking, refinement, directions and confidence. */
+  fusionStage(K: number): void {
+    this.fuseBands(this.result, K, this.model.pairs.length);
   }
 
   /**
@@ -377,9 +479,8 @@ export class HopAnalyzer {
    * candidate's lags refined on the bands that support it and turned into a direction. The
    * first is the hop's answer, with its confidence.
    */
-  private fuseBands(res: HopResult, P: number): void {
+  private fuseBands(res: HopResult, K: number, P: number): void {
     const opts = this.options;
-    const K = this.dedupe(this.model.findCandidates(this.correlators, opts.maxCandidates, this.candLags, this.candScores), P);
     this.clearEstimate(res);
     if (K === 0) return;
     const fusion = this.fusion.fuse(K, this.bandCoherence(K, P), this.evidence);
@@ -403,9 +504,8 @@ export class HopAnalyzer {
         if (opts.voting || i > 0) continue;
         for (let b = 0; b < this.bands.count; b++) this.useBand[b] = this.evidence[b]! > 0 ? 1 : 0;
       }
-      for (let p = 0; p < P; p++) {
-        this.refined[p] = refineLag(this.correlators[p]!, this.bands, this.useBand, this.candLags[c * P + p]!);
-      }
+      if (P === 1) this.refined[0] = refineLag(this.correlators[0]!, this.bands, this.useBand, this.candLags[c]!);
+      else refineLagLanes(this.correlators, this.bands, this.useBand, this.candLags, c * P, this.refined, this.refineScratch, this.refineActive);
       if (!this.model.solve(this.refined, 0, this.dir)) continue;
       const src = res.sources[res.sourceCount]!;
       src.azimuthDeg = this.dir.azimuthDeg;
@@ -434,9 +534,9 @@ export class HopAnalyzer {
     const S = this.options.maxCandidates;
     const s = this.bandScores;
     s.fill(0);
-    for (let c = 0; c < K; c++) {
-      for (let p = 0; p < P; p++) addBandScores(this.correlators[p]!, this.bands, this.candLags[c * P + p]!, s, S, c);
-    }
+    // Per pair, all candidates in one pass (the same sums, in the same order over pairs, as one candidate at a time).
+    // Bands without evidence take no part in the fusion: their scores are not needed.
+    for (let p = 0; p < P; p++) addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0, this.evidence);
     for (let b = 0; b < this.bands.count; b++) {
       const norm = 1 / (P * Math.max(1e-12, this.bandWeight[b]!));
       for (let c = 0; c < K; c++) s[b * S + c]! *= norm;
@@ -544,10 +644,23 @@ export class HopAnalyzer {
     if (first < 0) return 0;
     const k0 = this.bands.start[first]!;
     const k1 = this.bands.end[last]!;
+    const pairs = this.model.pairs;
+    const sp = this.spectra;
+    const inv = this.invMag;
+    const two = this.fresh2;
     let sum = 0;
-    for (let p = 0; p < P; p++) {
-      const [a, b] = this.model.pairs[p]!;
-      sum += hopCoherence(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, this.frame, this.refined[p]!, k0, k1);
+    let p = 0;
+    // Two pairs per pass (the same sums as one at a time, added in the same order).
+    for (; p + 2 <= P; p += 2) {
+      const [a0, b0] = pairs[p]!;
+      const [a1, b1] = pairs[p + 1]!;
+      hopCoherence2(sp[a0]!, sp[b0]!, inv[a0]!, inv[b0]!, this.refined[p]!, sp[a1]!, sp[b1]!, inv[a1]!, inv[b1]!, this.refined[p + 1]!, this.frame, k0, k1, two);
+      sum += two[0]!;
+      sum += two[1]!;
+    }
+    if (p < P) {
+      const [a, b] = pairs[p]!;
+      sum += hopCoherence(sp[a]!, sp[b]!, inv[a]!, inv[b]!, this.frame, this.refined[p]!, k0, k1);
     }
     return Math.max(0, sum / P);
   }

@@ -21,6 +21,7 @@ import { eventColumns } from '../records/event-columns.js';
 import { frameColumns } from '../records/frame-columns.js';
 import { TrackingSession } from '../track/tracking-session.js';
 import { formatSummaryTable } from '../track/summary-table.js';
+import { AnalysisMeter, formatRealTimeFactor } from '../analysis/analysis-meter.js';
 import { choiceOption, flagOption, textOption, withDefault, type OptionSpec } from '../options/option-spec.js';
 import { CHANNELS_SPEC, RATE_SPEC } from '../sources/stream-options.js';
 import { resolveArray, resolveSpeed } from './geometry-option.js';
@@ -137,6 +138,7 @@ async function scan(file: string | undefined, cmd: Command): Promise<void> {
       const session = TrackingSession.of(setup, stages.tracker, sink, { diagnostics: v.diagnostics, viewerFields: v.viewerFields || feed !== null, onWarning: stderrWarning });
       const progress = createProgress(`scanning ${file ?? 'stdin'}`, totalFrames, sampleRate);
       let hops: number;
+      const meter = new AnalysisMeter(setup.options.hop / sampleRate);
       try {
         const tap = feed ? evidenceTap(feed, setup) : null;
         let doneFrames = 0;
@@ -151,6 +153,7 @@ async function scan(file: string | undefined, cmd: Command): Promise<void> {
             progress.update(done);
           },
           shouldStop: () => stop?.signal !== null && stop?.signal !== undefined,
+          meter,
         });
         await session.finish();
         if (stop?.signal) stopAt = { signal: stop.signal, s: doneFrames / sampleRate };
@@ -165,6 +168,8 @@ async function scan(file: string | undefined, cmd: Command): Promise<void> {
       }
       if (v.summary) {
         process.stderr.write(formatSummaryTable(session.summary()) + '\n');
+        const rt = formatRealTimeFactor(meter.realTimeFactor());
+        if (rt !== null) process.stderr.write(`analysis: ${meter.audioS.toFixed(1)} s of audio in ${(meter.busyMs / 1000).toFixed(2)} s, ${rt} on this machine (analysis and tracking per hop)\n`);
         const replaced = opened.replacedSamples?.();
         const line = replaced ? replacedSamplesLine(where, replaced) : null;
         if (line) process.stderr.write(line + '\n');

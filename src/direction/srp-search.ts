@@ -31,11 +31,17 @@ export class SrpDirectionModel implements DirectionModel {
   /** Pair baselines p_a - p_b (m). */
   private readonly baselines: Vec3[];
   private readonly gridDirs: Vec3[];
-  /** Per pair and grid point (index p * G + g): the lag, and the two gcc indices (mod N) around it. */
+  /** Per pair and grid point (index p * G + g): the lag. */
   private readonly gridLag: Float64Array;
-  private readonly gridIdx0: Int32Array;
-  private readonly gridIdx1: Int32Array;
+  /**
+   * Per grid point and pair (index g * P + p, a point's pairs side by side): the index in
+   * `lagTable` of the whole lag below the point's lag, and the fraction above it.
+   */
+  private readonly gridIdx: Int32Array;
   private readonly gridFrac: Float64Array;
+  /** This hop's correlations of all pairs over their lag windows, pair p's lag l at lagBase[p] + l. */
+  private readonly lagTable: Float64Array;
+  private readonly lagBase: Int32Array;
   /** Neighbours of grid point g: nbList[nbStart[g] .. nbStart[g + 1]). */
   private readonly nbStart: Int32Array;
   private readonly nbList: Int32Array;
@@ -82,19 +88,24 @@ export class SrpDirectionModel implements DirectionModel {
     this.gridDirs = makeGrid(shape, this.mirror, step);
     const G = this.gridDirs.length;
     this.gridLag = new Float64Array(G * P);
-    this.gridIdx0 = new Int32Array(G * P);
-    this.gridIdx1 = new Int32Array(G * P);
+    this.gridIdx = new Int32Array(G * P);
     this.gridFrac = new Float64Array(G * P);
+    // Each pair's window holds lags -maxLag .. maxLag + 1 (a grid lag lies within the physical limit).
+    this.lagBase = new Int32Array(P);
+    let tableSize = 0;
+    for (let p = 0; p < P; p++) {
+      this.lagBase[p] = tableSize + this.maxLag[p]!;
+      tableSize += 2 * this.maxLag[p]! + 2;
+    }
+    this.lagTable = new Float64Array(tableSize);
     for (let g = 0; g < G; g++) {
       for (let p = 0; p < P; p++) {
         const lag = this.lagFor(this.gridDirs[g]!, p);
         const i = Math.floor(lag);
-        // pair-major layout: the search reads each pair's tables front to back
-        const o = p * G + g;
-        this.gridLag[o] = lag;
-        this.gridIdx0[o] = (i + frame) % frame;
-        this.gridIdx1[o] = (i + 1 + frame) % frame;
-        this.gridFrac[o] = lag - i;
+        if (i < -this.maxLag[p]! || i + 1 > this.maxLag[p]! + 1) throw new Error(`grid lag ${lag} outside pair ${p}'s window`);
+        this.gridLag[p * G + g] = lag;
+        this.gridIdx[g * P + p] = this.lagBase[p]! + i;
+        this.gridFrac[g * P + p] = lag - i;
       }
     }
     const nb = neighbourLists(this.gridDirs, step);
@@ -149,23 +160,38 @@ export class SrpDirectionModel implements DirectionModel {
     return this.gridDirs.length;
   }
 
-  /** Steered response at grid point g (sum over pairs of the interpolated correlation). */
-  private powerAt(correlators: readonly PairCorrelator[], g: number): number {
-    const P = this.pairs.length;
-    const G = this.gridDirs.length;
-    let s = 0;
-    for (let p = 0, o = g; p < P; p++, o += G) {
+  /** Copy this hop's correlations over each pair's lag window into lagTable. */
+  private fillLagTable(correlators: readonly PairCorrelator[]): void {
+    const t = this.lagTable;
+    for (let p = 0; p < correlators.length; p++) {
       const gcc = correlators[p]!.gcc;
-      const y0 = gcc[this.gridIdx0[o]!]!;
-      s += y0 + this.gridFrac[o]! * (gcc[this.gridIdx1[o]!]! - y0);
+      const n = gcc.length;
+      const base = this.lagBase[p]!;
+      const L = this.maxLag[p]!;
+      for (let lag = 0; lag <= L + 1; lag++) t[base + lag] = gcc[lag]!;
+      for (let lag = -L; lag < 0; lag++) t[base + lag] = gcc[n + lag]!;
+    }
+  }
+
+  /** Steered response at grid point g (sum over pairs of the linearly interpolated correlation). */
+  private powerAt(g: number): number {
+    const P = this.pairs.length;
+    const t = this.lagTable;
+    const idx = this.gridIdx;
+    const frac = this.gridFrac;
+    let s = 0;
+    for (let o = g * P, e = o + P; o < e; o++) {
+      const j = idx[o]!;
+      const y0 = t[j]!;
+      s += y0 + frac[o]! * (t[j + 1]! - y0);
     }
     return s;
   }
 
-  private powerCached(correlators: readonly PairCorrelator[], g: number): number {
+  private powerCached(g: number): number {
     if (this.stamp[g] !== this.hop) {
       this.stamp[g] = this.hop;
-      this.power[g] = this.powerAt(correlators, g);
+      this.power[g] = this.powerAt(g);
     }
     return this.power[g]!;
   }
@@ -179,8 +205,9 @@ export class SrpDirectionModel implements DirectionModel {
     const P = this.pairs.length;
     const G = this.gridDirs.length;
     this.hop++;
+    this.fillLagTable(correlators);
     const coarse = this.coarse;
-    for (let i = 0; i < coarse.length; i++) this.powerCached(correlators, coarse[i]!);
+    for (let i = 0; i < coarse.length; i++) this.powerCached(coarse[i]!);
     // Coarse local maxima, best first.
     const starts = this.starts;
     const startPw = this.startPower;
@@ -220,7 +247,7 @@ export class SrpDirectionModel implements DirectionModel {
         let bestV = v;
         for (let j = this.nbStart[g]!, e = this.nbStart[g + 1]!; j < e; j++) {
           const k = this.nbList[j]!;
-          const w = this.powerCached(correlators, k);
+          const w = this.powerCached(k);
           if (w > bestV) {
             bestV = w;
             best = k;

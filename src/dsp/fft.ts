@@ -25,7 +25,7 @@ export class RealFft {
   private readonly pfOut: { view: Float32Array; ptr: number } | null = null;
   /** Inverse input in PFFFT's layout; bins outside the bands written stay zero. */
   private readonly pfInv: { view: Float32Array; ptr: number } | null = null;
-  /** Spectrum views and their pointers, by view. */
+  /** Input and spectrum views and their pointers, by view. */
   private readonly pfPtr = new Map<Float32Array, number>();
   readonly size: number;
   readonly bins: number;
@@ -79,9 +79,13 @@ export class RealFft {
     return this.full.createComplexArray() as number[];
   }
 
-  /** A buffer of N samples for forwardInterleaved. */
+  /** A buffer of N samples for forwardInterleaved (a new one each call). */
   createInput(): FftBuffer {
-    if (this.backend === 'pffft') return this.pfIn!.view;
+    if (this.backend === 'pffft' && pffft) {
+      const b = pffft.alloc(this.size);
+      this.pfPtr.set(b.view, b.ptr);
+      return b.view;
+    }
     return new Array<number>(this.size).fill(0);
   }
 
@@ -89,10 +93,11 @@ export class RealFft {
   forwardInterleaved(input: FftBuffer, spectrum: FftBuffer): void {
     if (this.backend === 'pffft') {
       const ptr = this.pfPtr.get(spectrum as Float32Array);
-      if (ptr === undefined || input !== this.pfIn!.view || !pffft!.alive(input)) {
+      const inPtr = this.pfPtr.get(input as Float32Array);
+      if (ptr === undefined || inPtr === undefined || !pffft!.alive(input as Float32Array)) {
         throw new Error('RealFft: buffers must come from this FFT (createInput, createSpectrum)');
       }
-      pffft!.module._pffft_transform_ordered(this.pfSetup, this.pfIn!.ptr, ptr, this.pfWork!.ptr, PFFFT_FORWARD);
+      pffft!.module._pffft_transform_ordered(this.pfSetup, inPtr, ptr, this.pfWork!.ptr, PFFFT_FORWARD);
       return;
     }
     this.full.realTransform(spectrum as number[], input as number[]);

@@ -54,6 +54,25 @@ export class PairCorrelator {
     }
   }
 
+  /**
+   * accumulate() with the weights already folded into mic a's side: `weightedInvA[k]` =
+   * weights[k] * invA[k] (that product first, as accumulate forms it), so that an array's
+   * pairs share it per channel; the same memory to the last bit.
+   */
+  accumulateWeighted(a: ArrayLike<number>, b: ArrayLike<number>, weightedInvA: Float64Array, invB: Float64Array, first: number, end: number, memory: number): void {
+    const ar = this.accRe;
+    const ai = this.accIm;
+    for (let k = first; k < end; k++) {
+      const xr = a[2 * k]!;
+      const xi = a[2 * k + 1]!;
+      const yr = b[2 * k]!;
+      const yi = b[2 * k + 1]!;
+      const g = weightedInvA[k]! * invB[k]!;
+      ar[k] = memory * ar[k]! + (xr * yr + xi * yi) * g;
+      ai[k] = memory * ai[k]! + (xr * yi - xi * yr) * g;
+    }
+  }
+
   /** Inverse FFT of the accumulated cross-spectrum (bins [first, end)) into `gcc`, lags within maxLag. */
   correlate(fft: RealFft, first: number, end: number): void {
     fft.inverseLags(this.accRe, this.accIm, null, first, end, this.gcc, this.maxLag + 1);
@@ -80,11 +99,19 @@ export class PairCorrelator {
    */
   peaks(count: number, lagsOut: Float64Array, heightsOut: Float64Array): number {
     const L = this.maxLag;
+    const g = this.gcc;
+    const n = this.n;
     let found = 0;
+    // lag l sits at index l mod N (l + N for l < 0; the window is far inside the frame)
+    let yl = g[n - L - 1]!;
+    let y = g[n - L]!;
     for (let lag = -L; lag <= L; lag++) {
-      const y = this.at(lag);
-      const yl = this.at(lag - 1);
-      const yr = this.at(lag + 1);
+      if (lag > -L) {
+        yl = y;
+        y = g[lag < 0 ? n + lag : lag]!;
+      }
+      const next = lag + 1;
+      const yr = g[next < 0 ? n + next : next]!;
       if (!(y > yl && y >= yr)) continue;
       if (found === count && y <= heightsOut[found - 1]!) continue;
       // insertion into the sorted top list

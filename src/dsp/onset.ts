@@ -58,6 +58,8 @@ export class OnsetWeigher {
     const nf = this.noise;
     const sm = this.smooth;
     const { floor, backgroundDecay: d, floorRise } = this.settings;
+    const invRise = this.invRise;
+    const invPresence = this.invPresence;
     if (!this.primed) {
       for (let k = first; k < end; k++) {
         bg[k] = power[k]!;
@@ -76,13 +78,17 @@ export class OnsetWeigher {
     for (let k = first; k < end; k++) {
       const p = power[k]!;
       const ratio = p / (bg[k]! + tiny);
-      // Linear in the power ratio between no rise (1) and full rise (fullRise).
-      let rise = ratio > 1 ? (ratio - 1) * this.invRise : 0;
+      // Linear in the power ratio between no rise (1) and full rise (fullRise). The floor at 0
+      // is (y + |y|) / 2, the same value as y > 0 ? y : 0 without a branch: in noise that test
+      // goes either way at random, and its mispredictions cost more than the rest of the loop.
+      const y = (ratio - 1) * invRise;
+      let rise = (y + Math.abs(y)) * 0.5;
       if (rise > 1) rise = 1;
       const s = (sm[k] = SMOOTH * sm[k]! + (1 - SMOOTH) * p);
       const n = nf[k]!;
       const snr = s / (NOISE_BIAS * n + tiny);
-      let presence = snr > 1 ? (snr - 1) * this.invPresence : 0;
+      const z = (snr - 1) * invPresence;
+      let presence = (z + Math.abs(z)) * 0.5;
       if (presence > 1) presence = 1;
       nf[k] = s < n ? s : n * floorRise;
       weights[k] = (floor + (1 - floor) * rise) * presence;

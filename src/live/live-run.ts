@@ -26,6 +26,7 @@ import { startHealthServer } from '../station/health-server.js';
 import type { StationOptions } from '../station/runtime-options.js';
 import { installShutdown, type StationSink } from '../station/shutdown.js';
 import { StatusMonitor } from '../station/status.js';
+import { AnalysisMeter } from '../analysis/analysis-meter.js';
 import type { TrackerOptions } from '../track/options.js';
 import { TrackingSession } from '../track/tracking-session.js';
 import { RuntimeFailure } from '../util/errors.js';
@@ -139,9 +140,10 @@ export async function runLive(plan: LivePlan): Promise<void> {
   const { sink: records, counts } = countingSink(fanOut(sinks.all));
   let session: TrackingSession | null = null;
   let lostS = 0;
+  const meter = new AnalysisMeter(setup.options.hop / sampleRate);
   const monitor = new StatusMonitor({
     station: station.station,
-    counters: () => ({ hops: session?.hops ?? 0, droppedAudioS: Math.round(lostS * 100) / 100, events: session?.events ?? 0 }),
+    counters: () => ({ hops: session?.hops ?? 0, droppedAudioS: Math.round(lostS * 100) / 100, events: session?.events ?? 0, analysisRealTime: meter.realTimeFactor() }),
     disk: () => {
       const s = sinks.log?.stats();
       return { usedBytes: s ? s.diskUsed : null, freeBytes: s ? s.diskFree : null };
@@ -182,6 +184,7 @@ export async function runLive(plan: LivePlan): Promise<void> {
         return out;
       },
       onGap,
+      meter,
     });
     await running.finish();
   })().then(

@@ -1,3 +1,4 @@
+import { formatRealTimeFactor } from '../analysis/analysis-meter.js';
 import { formatByteSize } from '../util/byte-size.js';
 
 /** What the live command counts as it runs. */
@@ -7,6 +8,8 @@ export interface StationCounters {
   /** Seconds of audio lost (overruns, device gaps). */
   droppedAudioS: number;
   events: number;
+  /** Real-time factor of the per-hop path on this machine (src/analysis/analysis-meter.ts); null or absent before any hop. */
+  analysisRealTime?: number | null;
 }
 
 export interface DiskFigures {
@@ -53,6 +56,8 @@ export interface StationStatus {
   hops: number;
   dropped_audio_s: number;
   events: number;
+  /** Seconds of audio the analysis (with tracking) gets through per second of its own work on this machine; null before any hop. */
+  analysis_real_time: number | null;
   disk_used_bytes: number | null;
   disk_free_bytes: number | null;
   mqtt?: { connected: boolean; queued: number; dropped: number };
@@ -74,6 +79,7 @@ export function buildStatus(input: StatusInput): StationStatus {
     hops: input.counters.hops,
     dropped_audio_s: input.counters.droppedAudioS,
     events: input.counters.events,
+    analysis_real_time: input.counters.analysisRealTime ?? null,
     disk_used_bytes: input.disk.usedBytes,
     disk_free_bytes: input.disk.freeBytes,
   };
@@ -100,6 +106,8 @@ export function formatStatusLine(s: StationStatus): string {
     `${s.events} events`,
     `dropped ${s.dropped_audio_s.toFixed(2)} s audio`,
   ];
+  const rt = formatRealTimeFactor(s.analysis_real_time);
+  if (rt !== null) parts.push(`analysis ${rt}`);
   if (s.disk_used_bytes !== null) parts.push(`logs ${formatByteSize(s.disk_used_bytes)}`);
   if (s.disk_free_bytes !== null) parts.push(`${formatByteSize(s.disk_free_bytes)} free`);
   if (s.mqtt) parts.push(`mqtt ${s.mqtt.connected ? 'up' : 'down'}, ${s.mqtt.queued} queued${s.mqtt.dropped ? `, ${s.mqtt.dropped} dropped` : ''}`);

@@ -1,5 +1,5 @@
 /**
- * Core benchmark (issue: streaming pair analysis; arrays): real-time factor on one core, time
+ * Core benchmark (issue: streaming pair analysis; arrays): real-time factor on one core, CPU time
  * per hop against the FFT floor measured in the same run with the same FFT, the same pairs
  * through a vectorised numpy GCC-PHAT, and peak RSS for a 10-minute stream against a 1-minute one.
  */
@@ -13,10 +13,10 @@ import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geome
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { createAnalysis } from '../../src/analysis/analysis.js';
 
-const RATE = 48000;
+export const RATE = 48000;
 const here = fileURLToPath(new URL('.', import.meta.url));
 
-function noiseFrames(channels: number, samples: number, seed = 1): Float32Array[] {
+export function noiseFrames(channels: number, samples: number, seed = 1): Float32Array[] {
   let s = seed;
   const rand = () => ((s = (s * 1664525 + 1013904223) >>> 0) / 2 ** 32) - 0.5;
   const common = new Float32Array(samples + 64).map(() => rand());
@@ -28,13 +28,19 @@ function noiseFrames(channels: number, samples: number, seed = 1): Float32Array[
   });
 }
 
+/**
+ * Milliseconds per call of fn, in CPU time of this process (process.cpuUsage: user + system):
+ * on a shared machine, time spent descheduled while other work runs is not counted (wall time
+ * there grew by 2x from one minute to the next; CPU time stayed within a few per cent).
+ */
 function timeIt(fn: () => void, minMs = 400): number {
   fn();
   let reps = 1;
   for (;;) {
-    const t = performance.now();
+    const t = process.cpuUsage();
     for (let i = 0; i < reps; i++) fn();
-    const dt = performance.now() - t;
+    const c = process.cpuUsage(t);
+    const dt = (c.user + c.system) / 1000;
     if (dt >= minMs) return dt / reps;
     reps *= 2;
   }
@@ -52,7 +58,7 @@ export interface CoreFigures {
   ratioToNumpy: number | null;
 }
 
-export function benchCase(name: string, geometry: ArrayGeometry, seconds = 10): CoreFigures {
+export function benchCase(name: string, geometry: ArrayGeometry, seconds = 10, numpy = true): CoreFigures {
   const setup = createAnalysis(geometry, RATE, 343, {});
   const { analyzer, model } = setup;
   const n = analyzer.frame;
@@ -104,8 +110,8 @@ export function benchCase(name: string, geometry: ArrayGeometry, seconds = 10): 
   const floorUsPerHop = (floorMs * 1000) / hops;
 
   let numpyUsPerHop: number | null = null;
-  const dir = mkdtempSync(join(tmpdir(), 'bearline-bench-'));
-  try {
+  const dir = numpy ? mkdtempSync(join(tmpdir(), 'bearline-bench-')) : null;
+  if (dir !== null) try {
     const inter = new Float32Array(signal[0]!.length * C);
     for (let i = 0; i < signal[0]!.length; i++) for (let c = 0; c < C; c++) inter[i * C + c] = signal[c]![i]!;
     const raw = join(dir, 'x.f32');
@@ -159,8 +165,8 @@ export function coreCases(): [string, ArrayGeometry][] {
   ];
 }
 
-export function printCore(rows: CoreFigures[]): void {
-  console.log('core analysis at 48 kHz, frame 1024, hop 512, one core:');
+export function printCore(rows: CoreFigures[], fft = 'PFFFT (WebAssembly SIMD)'): void {
+  console.log(`core analysis at 48 kHz, frame 1024, hop 512, one core, FFT ${fft}:`);
   console.log('  case                      ch pairs  us/hop  floor us  x floor  x real time  numpy us  numpy/bearline');
   for (const r of rows) {
     console.log(
@@ -169,8 +175,36 @@ export function printCore(rows: CoreFigures[]): void {
   }
 }
 
+/**
+ * The same cases on the fft.js fallback (BEARLINE_FFT=fftjs, in a child process: the FFT is
+ * chosen when the program loads), against the numpy figures of this run's PFFFT rows.
+ */
+export function fallbackRows(pffftRows: readonly CoreFigures[]): CoreFigures[] {
+  const r = spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(import.meta.url), '--fallback-json'], {
+    encoding: 'utf8',
+    env: { ...process.env, BEARLINE_FFT: 'fftjs' },
+    maxBuffer: 1 << 20,
+  });
+  if (r.status !== 0) throw new Error(`fft.js fallback bench failed: ${r.stderr}`);
+  const rows = JSON.parse(r.stdout) as CoreFigures[];
+  return rows.map((row, i) => {
+    const np = pffftRows[i]?.numpyUsPerHop ?? null;
+    return { ...row, numpyUsPerHop: np, ratioToNumpy: np === null ? null : np / row.usPerHop };
+  });
+}
+
+export const CORE_TARGETS =
+  '  targets (issue 14): pair within 1.5x of the floor, 2x numpy; 4-mic square and tetrahedron 2x numpy, within 1.6x of the floor, 150x real time; 8-mic circle 3x numpy';
+
 if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
-  printCore(coreCases().map(([n, g]) => benchCase(n, g)));
-  const m = benchMemory();
-  console.log(`peak RSS of scan: 1-minute stereo ${m.oneMinMb.toFixed(0)} MB, 10-minute stereo ${m.tenMinMb.toFixed(0)} MB`);
+  if (process.argv.includes('--fallback-json')) {
+    process.stdout.write(JSON.stringify(coreCases().map(([n, g]) => benchCase(n, g, 10, false))));
+  } else {
+    const rows = coreCases().map(([n, g]) => benchCase(n, g));
+    printCore(rows);
+    console.log(CORE_TARGETS);
+    printCore(fallbackRows(rows), 'fft.js (fallback, BEARLINE_FFT=fftjs)');
+    const m = benchMemory();
+    console.log(`peak RSS of scan: 1-minute stereo ${m.oneMinMb.toFixed(0)} MB, 10-minute stereo ${m.tenMinMb.toFixed(0)} MB`);
+  }
 }

@@ -2,13 +2,15 @@
  * `npm run bench`: every benchmark of the project, one after the other, printing figures
  * and ratios measured in this run (never a pass/fail on a bare time). Not part of `npm test`.
  * Run one part alone with `npx tsx test/bench/<part>.ts`, or name parts:
- * `npm run bench core tracker`. Options after the part names go to the accuracy matrix:
+ * `npm run bench core tracker` (parts: core, stages, memory, tracker, io, feed, station, station-cpu, live, accuracy). Options after the part names go to the accuracy matrix:
  * `npm run bench accuracy -- --quick --set memoryS=0.1` (see test/bench/accuracy-matrix.ts;
  * the full matrix renders its corpus once, several minutes, then analyses in about a minute).
  */
 import { accuracyMatrixCli } from './accuracy-matrix.js';
 import { motionMatrixCli } from './motion-matrix.js';
-import { benchCase, benchMemory, coreCases, printCore } from './core.js';
+import { benchCase, benchMemory, CORE_TARGETS, coreCases, fallbackRows, printCore } from './core.js';
+import { benchStages, formatStages } from './stages.js';
+import { runStationCpuBench } from './station-cpu.js';
 import { runFeedLatencyBench } from './feed-latency.js';
 import { formatFleetBench, runFleetLocateBench } from './fleet-locate.js';
 import { benchIoRead } from './io-read.js';
@@ -30,7 +32,15 @@ async function main(): Promise<void> {
     const rows = coreCases().map(([name, g]) => benchCase(name, g));
     printCore(rows);
     stereoUsPerHop = rows[0]!.usPerHop;
-    console.log('  targets: stereo within 1.5x of the FFT floor, faster than numpy, at least 200x real time; 4-mic at least 100x real time');
+    console.log(CORE_TARGETS);
+    console.log('');
+    printCore(fallbackRows(rows), 'fft.js (fallback, BEARLINE_FFT=fftjs)');
+  }
+  if (want('stages')) {
+    console.log('\n' + formatStages(coreCases().map(([n, g]) => benchStages(n, g)), 'cost per stage, us per hop (defaults; best of 5 passes over 10 s of noise):'));
+  }
+  if (want('station-cpu')) {
+    console.log('\n' + (await runStationCpuBench()).join('\n'));
   }
   if (want('memory')) {
     const m = benchMemory();

@@ -42,6 +42,19 @@ describe('status snapshot', () => {
     );
   });
 
+  it('the status line and snapshot carry the analysis real-time factor when the run has one', () => {
+    const s = buildStatus({
+      station: 'marsh-east',
+      startedMs: 0,
+      nowMs: 60_000,
+      cpuSinceStart: { user: 600_000, system: 0 },
+      counters: { hops: 5625, droppedAudioS: 0, events: 2, analysisRealTime: 412.3 },
+      disk: { usedBytes: null, freeBytes: null },
+    });
+    expect(s.analysis_real_time).toBe(412.3);
+    expect(formatStatusLine(s)).toBe('status: marsh-east up 1m00s, cpu 1.0% of a core, 5625 hops, 2 events, dropped 0.00 s audio, analysis 412x real time');
+  });
+
   it('the monitor prints a line every N minutes (fake timers) and serves the same snapshot over HTTP', async () => {
     vi.useFakeTimers({ toFake: ['setInterval', 'clearInterval', 'Date'] });
     let cpu = 0;

@@ -1,0 +1,146 @@
+/**
+ * The station view of speed (issue 14, item 4):
+ * (1) per array preset, the CPU share of one core that the per-hop path (analysis, tracking,
+ *     records; test/bench/stages.ts) needs at real time, with the defaults and with the
+ *     `station-low-cpu` profile's analysis and tracker settings, measured in this run;
+ * (2) a live station: the built `bearline listen --stdin` with a 4-mic square, its record log
+ *     on (--log-dir, --quiet), fed raw PCM at real-time pace (20 ms blocks on a fixed
+ *     schedule); the CPU time of the listen process (/proc/PID/stat, user + system) over the
+ *     wall time after the first WARM_S seconds (start-up and JIT warm-up left out), with the
+ *     defaults and with --profile station-low-cpu.
+ * Report only: nothing here passes or fails on a time. The machine may be shared: the share of
+ * a busy machine is higher than that of a quiet one (CPU time grows when caches are shared).
+ *
+ * Alone: `npx tsx test/bench/station-cpu.ts [liveSeconds]` (builds nothing: run `npm run build` first).
+ */
+import { spawn } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { PROFILE_SECTIONS } from '../../src/cli/analysis-flags.js';
+import type { AnalysisOptions } from '../../src/analysis/analysis-options.js';
+import { loadProfile, profileValues } from '../../src/options/profile.js';
+import type { TrackerOptions } from '../../src/track/options.js';
+import { configsDir } from '../../src/util/configs.js';
+import { BIN } from '../helpers/cli.js';
+import { coreCases, RATE } from './core.js';
+import { benchStages } from './stages.js';
+
+const LOW_CPU = 'station-low-cpu';
+
+export function lowCpuSettings(): { analysis: AnalysisOptions; tracker: Partial<TrackerOptions> } {
+  const profile = loadProfile(LOW_CPU, `${configsDir()}profiles/`, PROFILE_SECTIONS);
+  return { analysis: profileValues<AnalysisOptions>(profile, 'analysis'), tracker: profileValues<TrackerOptions>(profile, 'tracker') };
+}
+
+export interface PresetShare {
+  name: string;
+  defaultsPct: number;
+  lowCpuPct: number;
+}
+
+/** Per preset: per-hop cost x hops per second, as a share of one core, with the defaults and the profile. */
+export function presetShares(seconds = 5): PresetShare[] {
+  const low = lowCpuSettings();
+  return coreCases().map(([name, g]) => {
+    const d = benchStages(name, g, {}, {}, seconds, 3);
+    const l = benchStages(name, g, low.analysis, low.tracker, seconds, 3);
+    const hopD = d.hopSamples;
+    const hopL = l.hopSamples;
+    return { name, defaultsPct: (100 * d.total * 1e-6 * RATE) / hopD, lowCpuPct: (100 * l.total * 1e-6 * RATE) / hopL };
+  });
+}
+
+const WARM_S = 4;
+const CHANNELS = 4;
+const BLOCK = 960; // 20 ms at 48 kHz
+
+/** Four channels of noise calls (0.4 s on, 0.6 s off) from one direction, with mic self-noise, s16le interleaved. */
+function pcm(seconds: number): Buffer {
+  const frames = seconds * RATE;
+  const out = Buffer.alloc(frames * CHANNELS * 2);
+  let s = 7;
+  const rand = () => ((s = (s * 1664525 + 1013904223) >>> 0) / 2 ** 32) - 0.5;
+  const src = new Float32Array(frames + 16).map(() => rand());
+  for (let i = 0; i < frames; i++) {
+    const on = (i / RATE) % 1 < 0.4 ? 0.5 : 0;
+    for (let c = 0; c < CHANNELS; c++) {
+      const v = on * src[i + 16 - 2 * c]! + 0.01 * rand();
+      out.writeInt16LE(Math.max(-32768, Math.min(32767, Math.round(v * 20000))), 2 * (i * CHANNELS + c));
+    }
+  }
+  return out;
+}
+
+function cpuTicks(pid: number): number {
+  const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
+  const f = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
+  return Number(f[11]) + Number(f[12]); // utime, stime (fields 14 and 15)
+}
+
+/** Clock ticks per second of /proc/PID/stat (USER_HZ, 100 on Linux). */
+const HZ = 100;
+
+export interface LiveShare {
+  profile: string;
+  cpuPct: number;
+  seconds: number;
+}
+
+export async function liveStationShare(profile: string | null, seconds = 30, nodeFlags: string[] = []): Promise<LiveShare> {
+  const data = pcm(seconds);
+  const dir = mkdtempSync(join(tmpdir(), 'bearline-station-cpu-'));
+  const array = fileURLToPath(new URL('../../configs/arrays/square-10cm.json', import.meta.url));
+  const args = [...nodeFlags, BIN, 'listen', '--stdin', '--rate', String(RATE), '--channels', String(CHANNELS), '--array', array, '--log-dir', dir, '--quiet', '--status-every', '0'];
+  if (profile) args.push('--profile', profile);
+  const child = spawn(process.execPath, args, { stdio: ['pipe', 'ignore', 'pipe'] });
+  let err = '';
+  child.stderr.setEncoding('utf8').on('data', (d: string) => (err += d));
+  const exited = new Promise<number | null>((r) => child.once('exit', r));
+  try {
+    const bytesPerBlock = BLOCK * CHANNELS * 2;
+    const blocks = Math.floor(data.length / bytesPerBlock);
+    const blockMs = (BLOCK / RATE) * 1000;
+    const t0 = performance.now();
+    let mark: { ticks: number; ms: number } | null = null;
+    let last = { ticks: 0, ms: 0 };
+    for (let k = 0; k < blocks; k++) {
+      const due = t0 + k * blockMs;
+      const wait = due - performance.now();
+      if (wait > 0) await new Promise((r) => setTimeout(r, wait));
+      child.stdin.write(data.subarray(k * bytesPerBlock, (k + 1) * bytesPerBlock));
+      if (mark === null && k * blockMs >= WARM_S * 1000) mark = { ticks: cpuTicks(child.pid!), ms: performance.now() };
+      last = { ticks: cpuTicks(child.pid!), ms: performance.now() };
+    }
+    if (mark === null) throw new Error(`run longer than ${WARM_S} s`);
+    child.stdin.end();
+    const code = await exited;
+    if (code !== 0) throw new Error(`listen ended with ${code}: ${err}`);
+    return { profile: profile ?? 'defaults', cpuPct: (100 * ((last.ticks - mark.ticks) / HZ)) / ((last.ms - mark.ms) / 1000), seconds: (last.ms - mark.ms) / 1000 };
+  } finally {
+    if (child.exitCode === null) child.kill();
+    rmSync(dir, { recursive: true, force: true });
+  }
+}
+
+export async function runStationCpuBench(liveSeconds = 30): Promise<string[]> {
+  const lines = [`CPU share of one core at real time, 48 kHz, per array preset (per-hop path: analysis, tracking, records), defaults and --profile ${LOW_CPU}:`];
+  lines.push(`  ${'case'.padEnd(25)} ${'defaults'.padStart(9)} ${LOW_CPU.padStart(16)}  low/defaults`);
+  for (const r of presetShares()) {
+    lines.push(`  ${r.name.padEnd(25)} ${`${r.defaultsPct.toFixed(2)}%`.padStart(9)} ${`${r.lowCpuPct.toFixed(2)}%`.padStart(16)}  ${(r.lowCpuPct / r.defaultsPct).toFixed(2).padStart(12)}`);
+  }
+  const d = await liveStationShare(null, liveSeconds);
+  const l = await liveStationShare(LOW_CPU, liveSeconds);
+  lines.push(
+    `live station (listen --stdin, 4-mic square 10 cm, record log on, paced at real time, CPU over the ${d.seconds.toFixed(0)} s after the first ${WARM_S} s): ` +
+      `defaults ${d.cpuPct.toFixed(1)}% of one core, ${LOW_CPU} ${l.cpuPct.toFixed(1)}% (ratio ${(l.cpuPct / d.cpuPct).toFixed(2)})`,
+  );
+  lines.push('  targets (issue 14): defaults at most 3% of one core, station-low-cpu at most half of the defaults');
+  return lines;
+}
+
+if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
+  const s = Number(process.argv[2]) || 30;
+  for (const line of await runStationCpuBench(s)) console.log(line);
+}
