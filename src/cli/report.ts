@@ -14,9 +14,9 @@ export function registerReport(program: Command): void {
     .command('report')
     .summary('one HTML page of a night (or a week) of calls: bearing against time, directions per track, calls per hour')
     .description(
-      'Draw event logs (JSON Lines or CSV as scan and the station write them, a station\'s rotated files, or a folder of them)\n' +
-        'as one self-contained HTML file: bearing against time for the whole span with capture gaps shaded, a polar\n' +
-        'histogram of directions per track, calls per hour, a table per track and the station\'s details. The logs are\n' +
+      'Draw event logs (JSON Lines or CSV as scan and the station write them, a station\'s rotated files, or a folder of them) ' +
+        'as one self-contained HTML file: bearing against time for the whole span with capture gaps shaded, a polar ' +
+        'histogram of directions per track, calls per hour, a table per track and the station\'s details. The logs are ' +
         'read as streams (twice), so a week of logs takes seconds and little memory.',
     )
     .argument('<logs...>', 'event logs (JSON Lines or CSV; gap logs too), or folders holding a station\'s logs');
