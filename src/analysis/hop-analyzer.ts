@@ -385,7 +385,7 @@ export class HopAnalyzer {
     }
     for (let p = 0; p < pairs.length; p++) {
       const [a, b] = pairs[p]!;
-      this.correlators[p]!.accumulateWeighted(this.spectra[a]!, this.spectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
+      this.correlators[p]!.accumulate(this.spectra[a]!, this.spectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
     }
     const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs;
     this.lastHopCorrelated = !silent;

@@ -83,7 +83,6 @@ export class TakeMeasurer {
   private readonly invMag: Float64Array[];
   private readonly bands: BandLayout;
   private readonly useBand = new Uint8Array([1]);
-  private readonly ones: Float64Array;
   private readonly corr: PairCorrelator[];
   private readonly binCount: number;
   private readonly segCount: number;
@@ -121,7 +120,6 @@ export class TakeMeasurer {
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
     this.invMag = Array.from({ length: channels }, () => new Float64Array(this.bins));
     this.bands = makeBands(n, fs, search.minFreqHz, Math.min(search.maxFreqHz, 0.45 * fs), 1);
-    this.ones = new Float64Array(this.bins).fill(1);
     this.corr = search.pairs.map(() => new PairCorrelator(n, n / 2 - 1));
     this.binCount = this.bands.endBin - this.bands.firstBin;
     this.segCount = Math.max(1, Math.round(total / search.segmentSamples));
@@ -187,7 +185,7 @@ export class TakeMeasurer {
     }
     for (let p = 0; p < this.P; p++) {
       const [a, b] = this.search.pairs[p]!;
-      this.corr[p]!.accumulate(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, this.ones, bands.firstBin, bands.endBin, 1);
+      this.corr[p]!.accumulate(this.spectra[a]!, this.spectra[b]!, this.invMag[a]!, this.invMag[b]!, bands.firstBin, bands.endBin, 1);
     }
     this.frames++;
   }

@@ -14,31 +14,26 @@ function clock(s: number): string {
   return m >= 60 ? `${Math.floor(m / 60)}h${String(m % 60).padStart(2, '0')}m` : `${m}:${String(sec).padStart(2, '0')}`;
 }
 
-/** `total` and `done` count sample frames; `rate` turns them into stream time. */
-export function createProgress(label: string, total: number | null, rate: number, stream: NodeJS.WriteStream = process.stderr): Progress {
-  if (!stream.isTTY) return NONE;
-  const started = Date.now();
+/** "[#####-----]  50%": the share f in [0, 1] as a bar `width` wide and a percentage. */
+function bar(f: number, width: number): string {
+  const filled = Math.round(f * width);
+  return `[${'#'.repeat(filled)}${'-'.repeat(width - filled)}] ${(f * 100).toFixed(0).padStart(3)}%`;
+}
+
+/**
+ * The bar's common part: at most ten redraws a second (the final one always), each line written
+ * over the last, a newline after the final one. `text` makes the line for `done`.
+ */
+function redrawing(stream: NodeJS.WriteStream, text: (done: number, now: number) => string): Progress {
   let last = 0;
-  const draw = (done: number, final: boolean) => {
+  let lastDone = 0;
+  const draw = (done: number, final: boolean): void => {
     const now = Date.now();
     if (!final && now - last < 100) return;
     last = now;
-    const streamS = done / rate;
-    const wall = Math.max(1e-3, (now - started) / 1000);
-    const speed = `${(streamS / wall).toFixed(0)}x real time`;
-    const width = Math.max(10, Math.min(40, (stream.columns ?? 80) - 60));
-    let text: string;
-    if (total && total > 0) {
-      const f = Math.min(1, done / total);
-      const filled = Math.round(f * width);
-      text = `${label} [${'#'.repeat(filled)}${'-'.repeat(width - filled)}] ${(f * 100).toFixed(0).padStart(3)}% ${clock(streamS)} of ${clock(total / rate)}, ${speed}`;
-    } else {
-      text = `${label} ${clock(streamS)} analysed, ${speed}`;
-    }
-    stream.write(`\r${text}\x1b[K`);
+    stream.write(`\r${text(done, now)}\x1b[K`);
     if (final) stream.write('\n');
   };
-  let lastDone = 0;
   return {
     update(done) {
       lastDone = done;
@@ -50,28 +45,25 @@ export function createProgress(label: string, total: number | null, rate: number
   };
 }
 
+/** `total` and `done` count sample frames; `rate` turns them into stream time. */
+export function createProgress(label: string, total: number | null, rate: number, stream: NodeJS.WriteStream = process.stderr): Progress {
+  if (!stream.isTTY) return NONE;
+  const started = Date.now();
+  return redrawing(stream, (done, now) => {
+    const streamS = done / rate;
+    const wall = Math.max(1e-3, (now - started) / 1000);
+    const speed = `${(streamS / wall).toFixed(0)}x real time`;
+    const width = Math.max(10, Math.min(40, (stream.columns ?? 80) - 60));
+    if (!(total && total > 0)) return `${label} ${clock(streamS)} analysed, ${speed}`;
+    return `${label} ${bar(Math.min(1, done / total), width)} ${clock(streamS)} of ${clock(total / rate)}, ${speed}`;
+  });
+}
+
 /** A progress bar over bytes read (files whose length is known), on stderr when it is a terminal. */
 export function createByteProgress(label: string, totalBytes: number, stream: NodeJS.WriteStream = process.stderr): Progress {
   if (!stream.isTTY || totalBytes <= 0) return NONE;
-  let last = 0;
-  let lastDone = 0;
-  const draw = (done: number, final: boolean): void => {
-    const now = Date.now();
-    if (!final && now - last < 100) return;
-    last = now;
-    const f = Math.min(1, done / totalBytes);
+  return redrawing(stream, (done) => {
     const width = Math.max(10, Math.min(40, (stream.columns ?? 80) - 40));
-    const filled = Math.round(f * width);
-    stream.write(`\r${label} [${'#'.repeat(filled)}${'-'.repeat(width - filled)}] ${(f * 100).toFixed(0).padStart(3)}%\x1b[K`);
-    if (final) stream.write('\n');
-  };
-  return {
-    update(done) {
-      lastDone = done;
-      draw(done, false);
-    },
-    finish() {
-      draw(lastDone, true);
-    },
-  };
+    return `${label} ${bar(Math.min(1, done / totalBytes), width)}`;
+  });
 }

@@ -27,39 +27,13 @@ export class PairCorrelator {
   }
 
   /**
-   * Add this hop's PHAT-weighted cross-spectrum into the memory (spectra interleaved re, im;
-   * invA, invB = 1 / |X| per bin, 0 for an empty bin).
+   * Add this hop's PHAT-weighted cross-spectrum into the memory (spectra interleaved re, im):
+   *   A_k <- memory * A_k + conj(X_a,k) X_b,k * weightedInvA[k] * invB[k]
+   * with invB = 1 / |X_b| per bin (0 for an empty bin) and weightedInvA = the bin's weight times
+   * 1 / |X_a| (formed once per channel by the caller, so that an array's pairs share it; plain
+   * 1 / |X_a| for unweighted GCC-PHAT).
    */
-  accumulate(
-    a: ArrayLike<number>,
-    b: ArrayLike<number>,
-    invA: Float64Array,
-    invB: Float64Array,
-    weights: Float64Array,
-    first: number,
-    end: number,
-    memory: number,
-  ): void {
-    const ar = this.accRe;
-    const ai = this.accIm;
-    for (let k = first; k < end; k++) {
-      // conj(Xa) * Xb / (|Xa| |Xb|), weighted
-      const xr = a[2 * k]!;
-      const xi = a[2 * k + 1]!;
-      const yr = b[2 * k]!;
-      const yi = b[2 * k + 1]!;
-      const g = weights[k]! * invA[k]! * invB[k]!;
-      ar[k] = memory * ar[k]! + (xr * yr + xi * yi) * g;
-      ai[k] = memory * ai[k]! + (xr * yi - xi * yr) * g;
-    }
-  }
-
-  /**
-   * accumulate() with the weights already folded into mic a's side: `weightedInvA[k]` =
-   * weights[k] * invA[k] (that product first, as accumulate forms it), so that an array's
-   * pairs share it per channel; the same memory to the last bit.
-   */
-  accumulateWeighted(a: ArrayLike<number>, b: ArrayLike<number>, weightedInvA: Float64Array, invB: Float64Array, first: number, end: number, memory: number): void {
+  accumulate(a: ArrayLike<number>, b: ArrayLike<number>, weightedInvA: Float64Array, invB: Float64Array, first: number, end: number, memory: number): void {
     const ar = this.accRe;
     const ai = this.accIm;
     for (let k = first; k < end; k++) {

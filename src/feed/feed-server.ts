@@ -85,22 +85,40 @@ function digest(text: string): Buffer {
   return createHash('sha256').update(text, 'utf8').digest();
 }
 
-/** Constant-time token check (hashing first makes the lengths equal). */
-function tokenMatches(given: string | null, expected: Buffer): boolean {
-  return timingSafeEqual(digest(given ?? ''), expected) && given !== null;
+/**
+ * Whether a request's URL carries the access token (`?token=`); always true without one.
+ * Constant-time (hashing first makes the lengths equal). Shared by the fix view of locate.
+ */
+export function tokenGate(token: string | null): (url: URL) => boolean {
+  if (token === null) return () => true;
+  const expected = digest(token);
+  return (url) => {
+    const given = url.searchParams.get('token');
+    return timingSafeEqual(digest(given ?? ''), expected) && given !== null;
+  };
 }
 
-function urlHost(host: string): string {
+/** The headers of a served page's files: no caching, no sniffing, no referrer, only our own scripts and styles. */
+export const PAGE_HEADERS = {
+  'Cache-Control': 'no-cache',
+  'X-Content-Type-Options': 'nosniff',
+  'Referrer-Policy': 'no-referrer',
+  'Content-Security-Policy': "default-src 'self'; connect-src 'self'; img-src 'self' data:; style-src 'self'; script-src 'self'; frame-ancestors 'none'",
+} as const;
+
+/** The host part of a URL for a bound address (0.0.0.0 -> 127.0.0.1, IPv6 in brackets). */
+export function urlHost(host: string): string {
   if (host === '0.0.0.0') return '127.0.0.1';
   if (host === '::') return '[::1]';
   return host.includes(':') ? `[${host}]` : host;
 }
 
-function refuseUpgrade(socket: Duplex, status: number, reason: string): void {
+export function refuseUpgrade(socket: Duplex, status: number, reason: string): void {
   socket.end(`HTTP/1.1 ${status} ${reason}\r\nConnection: close\r\nContent-Type: text/plain\r\n\r\n${reason}\n`);
 }
 
-async function listen(server: ReturnType<typeof createServer>, opts: FeedOptions): Promise<number> {
+/** Listen on --feed-host and --feed-port; bad addresses and ports in use become clear errors. Returns the port. */
+export async function listen(server: ReturnType<typeof createServer>, opts: FeedOptions): Promise<number> {
   return new Promise((resolve, reject) => {
     const onError = (err: NodeJS.ErrnoException): void => {
       const where = `${opts.host}:${opts.port}`;
@@ -142,15 +160,7 @@ async function serveFile(req: IncomingMessage, res: ServerResponse, url: URL, fi
     res.end('not found\n');
     return;
   }
-  res.writeHead(200, {
-    'Content-Type': contentTypeOf(name),
-    'Content-Length': body.length,
-    'Cache-Control': 'no-cache',
-    'X-Content-Type-Options': 'nosniff',
-    'Referrer-Policy': 'no-referrer',
-    'Content-Security-Policy':
-      "default-src 'self'; connect-src 'self'; img-src 'self' data:; style-src 'self'; script-src 'self'; frame-ancestors 'none'",
-  });
+  res.writeHead(200, { 'Content-Type': contentTypeOf(name), 'Content-Length': body.length, ...PAGE_HEADERS });
   res.end(req.method === 'HEAD' ? undefined : body);
 }
 
@@ -213,8 +223,7 @@ export async function startFeedServer(setup: FeedServerSetup): Promise<FeedServe
   const files = await listStaticFiles(webRoot).catch(() => {
     throw new RuntimeFailure(`the viewer's files are missing (${webRoot}): reinstall bearline`);
   });
-  const expectedToken = opts.token === null ? null : digest(opts.token);
-  const allowed = (url: URL): boolean => expectedToken === null || tokenMatches(url.searchParams.get('token'), expectedToken);
+  const allowed = tokenGate(opts.token);
   const history = new RecentHistory(setup.geometry.headingDeg);
   const hub = new ViewerHub(opts, JSON.stringify(helloFromGeometry(setup.geometry, setup.settings ?? {})), log, () => {
     const recent = history.catchUp();

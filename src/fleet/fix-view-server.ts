@@ -5,16 +5,16 @@
  * (ViewerHub: a slow page never slows locating) and the --feed-* options with their checks.
  * The page and the feed need the --feed-token when one is set.
  */
-import { createHash, timingSafeEqual } from 'node:crypto';
 import { createServer, type IncomingMessage, type ServerResponse } from 'node:http';
-import type { AddressInfo, Socket } from 'node:net';
+import type { Socket } from 'node:net';
 import { fileURLToPath } from 'node:url';
 import { WebSocketServer } from 'ws';
 import { feedFlagName, isLoopbackHost, type FeedOptions } from '../feed/feed-options.js';
+import { listen, PAGE_HEADERS, refuseUpgrade, tokenGate, urlHost } from '../feed/feed-server.js';
 import { hostRule, refusedBecause } from '../util/host-check.js';
 import { contentTypeOf, listStaticFiles, lookUpStaticPath, readStaticFile } from '../feed/static-files.js';
 import { ViewerHub } from '../feed/viewer-hub.js';
-import { RuntimeFailure, UsageError } from '../util/errors.js';
+import { RuntimeFailure } from '../util/errors.js';
 
 /** web-viewer/fixes/ of the checkout or package (two levels up from src/fleet/ and dist/fleet/). */
 export const FIX_VIEW_ROOT = fileURLToPath(new URL('../../web-viewer/fixes/', import.meta.url));
@@ -32,27 +32,11 @@ export interface FixViewServer {
   close(): Promise<void>;
 }
 
-function digest(text: string): Buffer {
-  return createHash('sha256').update(text, 'utf8').digest();
-}
-
-const HEADERS = {
-  'Cache-Control': 'no-cache',
-  'X-Content-Type-Options': 'nosniff',
-  'Referrer-Policy': 'no-referrer',
-  'Content-Security-Policy': "default-src 'self'; connect-src 'self'; img-src 'self' data:; style-src 'self'; script-src 'self'; frame-ancestors 'none'",
-};
-
 export async function startFixViewServer(opts: FeedOptions, hello: string, log: (line: string) => void, warn: (line: string) => void): Promise<FixViewServer> {
   const files = await listStaticFiles(FIX_VIEW_ROOT).catch(() => {
     throw new RuntimeFailure(`the fix view's files are missing (${FIX_VIEW_ROOT}): reinstall bearline`);
   });
-  const expected = opts.token === null ? null : digest(opts.token);
-  const allowed = (url: URL): boolean => {
-    if (expected === null) return true;
-    const given = url.searchParams.get('token');
-    return timingSafeEqual(digest(given ?? ''), expected) && given !== null;
-  };
+  const allowed = tokenGate(opts.token);
   const hub = new ViewerHub(opts, hello, log);
   // The same Host and Origin rule as the live view's feed (src/util/host-check.ts): a page of
   // another site, or a rebound DNS name, cannot read the fixes.
@@ -76,7 +60,7 @@ export async function startFixViewServer(opts: FeedOptions, hello: string, log: 
     if (name === 'index.html' && !allowed(url)) return text(401, 'this view needs its access token: open the page with ?token=...\n');
     const body = await readStaticFile(FIX_VIEW_ROOT, name).catch(() => null);
     if (body === null) return text(404, 'not found\n');
-    res.writeHead(200, { 'Content-Type': contentTypeOf(name), 'Content-Length': body.length, ...HEADERS });
+    res.writeHead(200, { 'Content-Type': contentTypeOf(name), 'Content-Length': body.length, ...PAGE_HEADERS });
     res.end(req.method === 'HEAD' ? undefined : body);
   };
   const server = createServer((req, res) => {
@@ -88,9 +72,7 @@ export async function startFixViewServer(opts: FeedOptions, hello: string, log: 
   server.on('upgrade', (req: IncomingMessage, socket: Socket, head: Buffer) => {
     socket.on('error', () => undefined);
     const url = new URL(req.url ?? '/', 'http://view.invalid');
-    const refuse = (status: number, reason: string): void => {
-      socket.end(`HTTP/1.1 ${status} ${reason}\r\nConnection: close\r\nContent-Type: text/plain\r\n\r\n${reason}\n`);
-    };
+    const refuse = (status: number, reason: string): void => refuseUpgrade(socket, status, reason);
     if (url.pathname !== FEED_PATH) return refuse(404, 'Not Found');
     const wrongHost = refusedBecause(hosts, req.headers.host, req.headers.origin);
     if (wrongHost !== null) {
@@ -108,26 +90,17 @@ export async function startFixViewServer(opts: FeedOptions, hello: string, log: 
     });
   });
   server.on('close', () => wss.close());
-  const port = await new Promise<number>((resolve, reject) => {
-    server.once('error', (err: NodeJS.ErrnoException) => {
-      const where = `${opts.host}:${opts.port}`;
-      if (err.code === 'EADDRINUSE') reject(new RuntimeFailure(`${where} is already in use: stop the other program or pick another port with ${feedFlagName('port')} (0 = any free port)`));
-      else if (err.code === 'EADDRNOTAVAIL' || err.code === 'ENOTFOUND') reject(new UsageError(`${feedFlagName('host')} ${opts.host} is not an address of this machine: use 127.0.0.1 or one of this machine's addresses`));
-      else reject(new RuntimeFailure(`cannot listen on ${where}: ${err.message}`));
-    });
-    server.listen(opts.port, opts.host, () => resolve((server.address() as AddressInfo).port));
-  });
+  const port = await listen(server, opts);
   hosts.port = port;
   if (!isLoopbackHost(opts.host)) {
     warn(`the fix view listens on ${opts.host}:${port}, so other machines can watch it` + (opts.token === null ? `; set ${feedFlagName('token')} to keep strangers out` : ' (token required)'));
   }
   const ping = setInterval(() => hub.pingSweep(), opts.pingIntervalS * 1000);
   ping.unref();
-  const host = opts.host === '0.0.0.0' ? '127.0.0.1' : opts.host.includes(':') ? `[${opts.host}]` : opts.host;
   const query = opts.token === null ? '' : `?token=${encodeURIComponent(opts.token)}`;
   let closed = false;
   return {
-    url: `http://${host}:${port}/${query}`,
+    url: `http://${urlHost(opts.host)}:${port}/${query}`,
     port,
     broadcast: (text) => {
       if (hub.count > 0) hub.broadcast('keep', text);

@@ -10,6 +10,7 @@
  * - per track: calls, first and last, circular sums (mean and spread), confidence, elevation.
  * A series is one of the MAX_SERIES tracks with the most calls, or all other tracks together.
  */
+import { seededUniform } from '../util/seeded-uniform.js';
 import { wrap360, wrapDeg } from '../geometry/vec3.js';
 import { CircularAccumulator } from '../track/circular.js';
 import type { CallItem } from './log-records.js';
@@ -52,18 +53,6 @@ export function rateBinsFor(startS: number, endS: number, absolute: boolean): Ra
   return { widthS, startS: first, count: Math.max(1, Math.ceil((endS - first) / widthS)) };
 }
 
-/** A small fixed-seed generator (mulberry32): the same sample on every run. */
-function seededRandom(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
-
 export class NightBins {
   readonly binS: number;
   /** Series index of a track id (tracks beyond MAX_SERIES: the last series, "other"). */
@@ -85,7 +74,7 @@ export class NightBins {
   readonly gapReasons = new Map<string, number>();
   readonly tracks = new Map<number, TrackStats>();
   calls = 0;
-  private readonly random = seededRandom(0x6a7e);
+  private readonly random = seededUniform(0x6a7e);
 
   constructor(
     readonly startS: number,

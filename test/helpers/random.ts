@@ -1,11 +1,2 @@
-/** mulberry32: a small seeded uniform generator, so randomised checks repeat (common practice, no source). */
-export function seededUniform(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+/** The seeded generator of src/util/seeded-uniform.ts, for randomised checks that repeat. */
+export { seededUniform } from '../../src/util/seeded-uniform.js';
