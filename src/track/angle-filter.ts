@@ -130,6 +130,26 @@ export class AngleFilterBank {
     this.settle(slot);
   }
 
+  /**
+   * Hold a slot static: its angle variance at most maxVar and its rate variance at most
+   * maxRateVar (a settled chorus does not drift while it coasts, so a passer's call beside it
+   * is not nearer to it than to the passer's own track).
+   */
+  holdStatic(slot: number, maxVar: number, maxRateVar: number): void {
+    const p00 = this.p00[slot]!;
+    const p11 = this.p11[slot]!;
+    let p01 = this.p01[slot]!;
+    if (p00 > maxVar) {
+      p01 *= Math.sqrt(maxVar / p00);
+      this.p00[slot] = maxVar;
+    }
+    if (p11 > maxRateVar) {
+      p01 *= Math.sqrt(maxRateVar / p11);
+      this.p11[slot] = maxRateVar;
+    }
+    this.p01[slot] = p01;
+  }
+
   /** The angle variance of a slot (degrees squared). */
   variance(slot: number): number {
     return this.p00[slot]!;

@@ -25,7 +25,10 @@
  *    track's home starts no new track, and feeds an unsettled track only if that track was
  *    supported outside every home (in azimuth) within the last PASSING_S seconds (a caller
  *    passing through); so a chorus calling again after a pause is re-acquired, and a track whose
- *    caller went quiet on, or stopped at, a chorus' bearing does not carry the chorus off;
+ *    caller went quiet on, or stopped at, a chorus' bearing does not carry the chorus off.
+ *    A settled track is held static: while it coasts its angle uncertainty stays within its
+ *    home's and its rate within --rate-wander, so a passer's call a few gates away is nearer to
+ *    the passer's own track than to a chorus that has been quiet for seconds;
  * 6. the event cutter (event-cutter.ts) sees every live track every hop.
  *
  * Two sources closer than about gateSigma x bearingNoiseDeg look like one and share a track.
@@ -200,6 +203,12 @@ export class Tracker {
       this.az.predict(s);
       if (this.hasEl[s] === 1) this.el.predict(s);
       if (this.state[s] === CONFIRMED) this.settle(s);
+      if (this.settled[s] === 1) {
+        // A settled track is static: it coasts without drifting or growing a rate (angle-filter.ts holdStatic).
+        const r = this.options.rateWanderDegS;
+        this.az.holdStatic(s, this.homeVar[s]!, r * r);
+        if (this.hasEl[s] === 1) this.el.holdStatic(s, this.homeElVar[s]!, r * r);
+      }
     }
 
     const nC = this.loadCandidates(obs);
