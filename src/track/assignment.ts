@@ -5,8 +5,9 @@
  * programming over the tracks and the subsets of candidates used so far: tracks x 2^candidates
  * states (16 x 256 at most), buffers sized once.
  *
- * Cost of a pair = d^2 - gate^2 (negative inside the gate), so the solution prefers matching
- * as many gated pairs as possible and, among those, the nearest (common practice, no source).
+ * Costs are negative inside the gate (the tracker's: d^2 - gate^2 plus a log-variance term,
+ * tracker.ts gate()), so the solution prefers matching as many gated pairs as possible and,
+ * among those, the likeliest (common practice, no source).
  */
 export class NearestNeighbourAssigner {
   private readonly best: Float64Array;

@@ -120,6 +120,8 @@ export class Tracker {
   /** Squared Mahalanobis distance of the last gate() call. */
   private readonly d2 = new Float64Array(1);
   private readonly gate2: number;
+  /** ln of the largest innovation variance (max uncertainty plus the noisiest measurement): keeps the cost negative inside the gate. */
+  private readonly logSMax: number;
   /** Centre of the reported half circle when the array's mirror flips azimuth, else null. */
   private readonly sideDeg: number | null;
   private nextId = 1;
@@ -176,6 +178,7 @@ export class Tracker {
     this.candHome = new Uint8Array(c);
     this.candHomeAz = new Uint8Array(c);
     this.gate2 = o.gateSigma * o.gateSigma;
+    this.logSMax = Math.log(o.maxUncertaintyDeg * o.maxUncertaintyDeg + (o.bearingNoiseDeg * o.bearingNoiseDeg) / (MIN_SCORE * MIN_COS_ELEVATION * MIN_COS_ELEVATION));
   }
 
   /** Feed one hop; see TrackUpdate (the returned object is reused by the next call). */
@@ -345,18 +348,27 @@ export class Tracker {
     return false;
   }
 
-  /** Is candidate j inside the gate of slot s? Leaves d^2 - gate^2 in d2[0]. */
+  /**
+   * Is candidate j inside the gate of slot s? Leaves the assignment cost in d2[0]:
+   * d^2 - gate^2 + ln S - ln S_max per angle (S the innovation variance), i.e. the negative
+   * log-likelihood of the candidate under the track, shifted to stay negative inside the gate
+   * (common practice in nearest-neighbour association, no source). Without the ln S term a
+   * vague track (coasting for seconds) is the cheaper home for a candidate that a sharp
+   * track predicts well, and a chorus or a crossing partner took the other caller's calls.
+   */
   private gate(s: number, j: number): boolean {
     const both = this.loadMeasurement(s, j);
     this.az.distance2(s);
     let d2 = this.az.io[IO_D2]!;
     let g = this.gate2;
+    let logS = Math.log(this.az.variance(s) + this.az.io[IO_R]!);
     if (both) {
       this.el.distance2(s);
       d2 += this.el.io[IO_D2]!;
       g *= 2;
+      logS += Math.log(this.el.variance(s) + this.el.io[IO_R]!);
     }
-    this.d2[0] = d2 - g;
+    this.d2[0] = d2 - g + logS - (both ? 2 : 1) * this.logSMax;
     return d2 <= g;
   }
 
