@@ -14,7 +14,8 @@
  *    coherent wind between calls, neither moves nor starts a track);
  * 3. assign candidates to confirmed tracks by global nearest neighbour (assignment.ts), then
  *    the leftovers to tentative tracks, and update the assigned tracks;
- * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate, starts a
+ * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate
+ *    and not near the zenith (ZENITH_DEG), starts a
  *    tentative track; it is confirmed (and gets the next track id) after confirmHits supported
  *    hops within confirmWindow hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
@@ -67,6 +68,14 @@ const HOME_MIN_SD_DEG = 1.5;
 /** The same for the home's elevation, which a planar array measures far more loosely than azimuth. */
 const HOME_MIN_EL_SD_DEG = 6;
 
+/**
+ * A candidate this close to the zenith (or nadir), |elevation| in degrees, starts no track: the
+ * azimuth a track follows is undefined there (a flat array reads zero delays on every pair as
+ * straight overhead, which is also what sound arriving at all mics at once gives: the coherent
+ * part of wind buffeting, which read as confident callers overhead). It may still support a
+ * live track, with its azimuth noise widened by 1 / cos^2 elevation.
+ */
+const ZENITH_DEG = 78;
 const NO_EVENTS: readonly EventRecord[] = Object.freeze([]);
 
 interface MutableUpdate {
@@ -476,6 +485,7 @@ export class Tracker {
     for (let j = 0; j < nC; j++) {
       if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
       if (sc.hop[CONFIDENCE]! * sc.candScore[j]! < o.birthConfidence) continue;
+      if (Math.abs(sc.candEl[j]!) > ZENITH_DEG) continue;
       if (this.candGated[j] === 1 || this.candHome[j] === 1 || this.withinAnyGate(j)) continue;
       let s = 0;
       while (s < this.size && this.state[s] !== FREE) s++;

@@ -569,3 +569,55 @@ describe('where a moving call starts and ends on a pair (folded azimuths)', () =
     }
   });
 });
+
+describe('a passer beside a chorus that has gone quiet (issue 13, items 3 and 4)', () => {
+  // A chorus at 0 degrees calls for 3.4 s and falls quiet; a bird crosses its bearing from 40 to
+  // -40 degrees at 16 deg/s (0.12 s calls every 0.6 s), reaching 0 degrees 2.5 s after the
+  // chorus' last call. The quiet chorus' track must not take the bird's calls near its bearing: its
+  // caller sits still, and the bird's own track predicts those calls well.
+  const sources: TruthSource[] = [
+    { azimuthAt: () => 0, calls: bursts(0.3, 0.3, 0.4, 3.4), levelDbfs: -30 },
+    { azimuthAt: (t) => 40 - 16 * (t - 3), calls: bursts(3.1, 0.12, 0.48, 8), levelDbfs: -28 },
+  ];
+  const runs = [11, 12, 13, 14, 15, 16].map((seed) => {
+    const synth = generateHops(sources, { durationS: 9, hopS: 0.01, seed, noiseDeg: 1.5, clutter: 0.05, dropout: 0.1 });
+    return { synth, r: run(synth) };
+  });
+
+  it('the bird keeps its own track through the chorus bearing (>= 95 % of its hops there, at most 1 on the chorus track) in 6 noisy runs', () => {
+    for (const { synth, r } of runs) {
+      const chorus = idsOfSource(synth, r, 0).filter((x) => x.id !== null);
+      const bird = idsOfSource(synth, r, 1).filter((x) => x.id !== null);
+      const chorusId = majority(chorus.map((x) => x.id));
+      const birdId = majority(bird.map((x) => x.id));
+      expect(chorusId).not.toBeNull();
+      expect(birdId).not.toBe(chorusId);
+      // the bird's hops within 12 degrees of the chorus (t 4.75 - 6.25 s), less its call on the
+      // chorus' very bearing (5.5 - 5.62 s: there the two are one direction, either track may take it)
+      const near = bird.filter((x) => x.t > 4.75 && x.t < 6.25 && !(x.t > 5.45 && x.t < 5.7));
+      console.log(`seed run: bird track ${birdId}, chorus track ${chorusId}; near hops ${near.length}, on chorus ${near.filter((x) => x.id === chorusId).length}, ids after 6 s ${[...new Set(bird.filter((x) => x.t > 6).map((x) => x.id))].join(',')}`);
+      expect(near.length).toBeGreaterThan(15);
+      expect(near.filter((x) => x.id === chorusId).length).toBeLessThanOrEqual(1);
+      expect(near.filter((x) => x.id === birdId).length / near.length).toBeGreaterThanOrEqual(0.95);
+      expect(bird.filter((x) => x.t > 5.7 && x.id !== birdId).length).toBeLessThanOrEqual(2);
+    }
+  });
+});
+
+describe('candidates at the zenith start no track', () => {
+  // Sound reaching every mic at once (the coherent part of wind buffeting on a flat array)
+  // reads as straight overhead, with an azimuth that means nothing: it must not become a caller.
+  const overhead: TruthSource = { azimuthAt: (t) => 137 * t, elevationAt: () => 86, calls: [[0.2, 6]], levelDbfs: -30 };
+  const high: TruthSource = { azimuthAt: () => 40, elevationAt: () => 65, calls: bursts(0.5, 0.3, 0.4, 6), levelDbfs: -30 };
+
+  it('a steady stream of confident candidates at 86 deg elevation gives no track and no event; a caller at 65 deg does', () => {
+    const synth = generateHops([overhead, high], { durationS: 6, hopS: 0.01, seed: 3, noiseDeg: 2, clutter: 0, dropout: 0.05 });
+    const r = run(synth);
+    const callerId = majority(idsOfSource(synth, r, 1).map((x) => x.id));
+    expect(callerId).not.toBeNull();
+    // they may feed the caller's live track (with their azimuth noise widened), never one of their own
+    expect(idsOfSource(synth, r, 0).filter((x) => x.id !== null && x.id !== callerId)).toEqual([]);
+    expect(r.events.length).toBeGreaterThan(5);
+    for (const e of r.events) expect(Math.abs(angleDiffDeg(e.azimuth_deg, 40))).toBeLessThan(5);
+  });
+});
