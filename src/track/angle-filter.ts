@@ -150,6 +150,12 @@ export class AngleFilterBank {
     this.p01[slot] = p01;
   }
 
+  /** Put a slot at a fixed angle with no rate (a settled source's home). */
+  pin(slot: number, angle: number): void {
+    this.angle[slot] = angle;
+    this.rate[slot] = 0;
+  }
+
   /** The angle variance of a slot (degrees squared). */
   variance(slot: number): number {
     return this.p00[slot]!;

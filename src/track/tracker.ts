@@ -27,9 +27,11 @@
  *    supported outside every home (in azimuth) within the last PASSING_S seconds (a caller
  *    passing through); so a chorus calling again after a pause is re-acquired, and a track whose
  *    caller went quiet on, or stopped at, a chorus' bearing does not carry the chorus off.
- *    A settled track is held static: while it coasts its angle uncertainty stays within its
- *    home's and its rate within --rate-wander, so a passer's call a few gates away is nearer to
- *    the passer's own track than to a chorus that has been quiet for seconds;
+ *    A settled track (also: rate at most SETTLED_MAX_RATE_DEG_S) is held static: each hop it is
+ *    predicted at its home with no rate, its angle uncertainty within its home's and its rate's
+ *    within --rate-wander, so a passer's call a few gates away is nearer to the passer's own track
+ *    than to a chorus that has been quiet for seconds, and a chorus track that takes a passer's
+ *    call near its bearing does not follow the passer away;
  * 6. the event cutter (event-cutter.ts) sees every live track every hop.
  *
  * Two sources closer than about gateSigma x bearingNoiseDeg look like one and share a track.
@@ -57,6 +59,11 @@ const MIN_COS_ELEVATION = 0.2;
 const DEG = Math.PI / 180;
 /** A confirmed track followed this long (first to last support) with a small lifetime spread is settled. */
 const SETTLED_SPAN_S = 3;
+/**
+ * ... and whose rate is at most this (deg/s): a slow mover whose bearings still fall within the
+ * spread (2.5 deg/s over 3 s) keeps following its caller.
+ */
+const SETTLED_MAX_RATE_DEG_S = 1;
 /** An unsettled track may take a candidate in a settled home this long after its last support outside every home, seconds. */
 const PASSING_S = 1;
 /**
@@ -216,9 +223,11 @@ export class Tracker {
       if (this.hasEl[s] === 1) this.el.predict(s);
       if (this.state[s] === CONFIRMED) this.settle(s);
       if (this.settled[s] === 1) {
-        // A settled track is static: it coasts without drifting or growing a rate (angle-filter.ts holdStatic).
+        // A settled track is static: it is predicted at its home, and coasts without drifting or
+        // growing a rate (angle-filter.ts holdStatic), so it cannot walk off with a passer.
         const r = this.options.rateWanderDegS;
         this.az.holdStatic(s, this.homeVar[s]!, r * r);
+        this.az.pin(s, this.homeAz[s]!);
         if (this.hasEl[s] === 1) this.el.holdStatic(s, this.homeElVar[s]!, r * r);
       }
     }
@@ -386,6 +395,7 @@ export class Tracker {
     if (this.lastSupportT[s]! - this.firstSeenT[s]! < SETTLED_SPAN_S) return;
     const spread = this.lifetime.spreadDeg(s);
     if (!(spread <= this.options.bearingNoiseDeg)) return;
+    if (!(Math.abs(this.az.rate[s]!) <= SETTLED_MAX_RATE_DEG_S)) return;
     this.settled[s] = 1;
     this.homeAz[s] = this.lifetime.meanWorkingDeg(s);
     const sd = Math.max(spread, HOME_MIN_SD_DEG);
