@@ -121,6 +121,8 @@ export class Tracker {
   private readonly candGated: Uint8Array;
   /** Per slot: 1 when the track is settled (see above); its home (working angle) and home variance. */
   private readonly settled: Uint8Array;
+  /** Per slot: 1 once the track has settled with a still rate (kept while its spread stays within the noise). */
+  private readonly still: Uint8Array;
   private readonly homeAz: Float64Array;
   private readonly homeVar: Float64Array;
   /** Home elevation and its variance (NaN when the track carries no elevations). */
@@ -187,6 +189,7 @@ export class Tracker {
     this.candTaken = new Uint8Array(c);
     this.candGated = new Uint8Array(c);
     this.settled = new Uint8Array(n);
+    this.still = new Uint8Array(n);
     this.homeAz = new Float64Array(n);
     this.homeVar = new Float64Array(n);
     this.homeEl = new Float64Array(n);
@@ -394,8 +397,14 @@ export class Tracker {
   private settle(s: number): void {
     if (this.lastSupportT[s]! - this.firstSeenT[s]! < SETTLED_SPAN_S) return;
     const spread = this.lifetime.spreadDeg(s);
-    if (!(spread <= this.options.bearingNoiseDeg)) return;
-    if (!(Math.abs(this.az.rate[s]!) <= SETTLED_MAX_RATE_DEG_S)) return;
+    if (!(spread <= this.options.bearingNoiseDeg)) {
+      this.still[s] = 0;
+      return;
+    }
+    // Becoming settled needs a still rate; once settled, a passer's call taken near the home
+    // (which gives the filter a rate) does not unsettle it: only a spread beyond the noise does.
+    if (this.still[s] === 0 && !(Math.abs(this.az.rate[s]!) <= SETTLED_MAX_RATE_DEG_S)) return;
+    this.still[s] = 1;
     this.settled[s] = 1;
     this.homeAz[s] = this.lifetime.meanWorkingDeg(s);
     const sd = Math.max(spread, HOME_MIN_SD_DEG);
@@ -508,6 +517,7 @@ export class Tracker {
       this.eventCount[s] = 0;
       this.activeS[s] = 0;
       this.firstSeenT[s] = sc.hop[TIME]!;
+      this.still[s] = 0;
       this.lifetime.reset(s);
       this.cutter.reset(s);
       this.az.io[IO_Z] = sc.candAz[j]!;

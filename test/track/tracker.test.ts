@@ -621,3 +621,29 @@ describe('candidates at the zenith start no track', () => {
     for (const e of r.events) expect(Math.abs(angleDiffDeg(e.azimuth_deg, 40))).toBeLessThan(5);
   });
 });
+
+describe('a chorus track does not follow a caller that starts beside it (issue 13, item 3)', () => {
+  // A chorus at 0 degrees calls for 4 s; then a bird starts calling 8 degrees from it and flies
+  // off at 15 deg/s. Its first call may go to the chorus' track (they are within the gate), but
+  // the chorus' track must stay home: the chorus sits still.
+  const sources: TruthSource[] = [
+    { azimuthAt: () => 0, calls: bursts(0.3, 0.3, 0.4, 4.4), levelDbfs: -30 },
+    { azimuthAt: (t) => -8 - 15 * (t - 4.5), calls: bursts(4.5, 0.15, 0.35, 9), levelDbfs: -28 },
+  ];
+  const runs = [21, 22, 23, 24, 25, 26].map((seed) => {
+    const synth = generateHops(sources, { durationS: 9.5, hopS: 0.01, seed, noiseDeg: 1.5, clutter: 0.05, dropout: 0.1 });
+    return { synth, r: run(synth) };
+  });
+
+  it('at most 2 of the bird hops more than 15 deg from the chorus land on the chorus track (old tracker: all of them), in 6 noisy runs', () => {
+    for (const { synth, r } of runs) {
+      const chorusId = majority(idsOfSource(synth, r, 0).map((x) => x.id));
+      expect(chorusId).not.toBeNull();
+      const far = idsOfSource(synth, r, 1).filter((x) => x.t > 5 && Math.abs(sources[1]!.azimuthAt(x.t)) > 15);
+      expect(far.length).toBeGreaterThan(50);
+      const taken = far.filter((x) => x.id === chorusId).length;
+      console.log(`chorus track ${chorusId}: ${taken} of the bird's ${far.length} far hops`);
+      expect(taken).toBeLessThanOrEqual(2);
+    }
+  });
+});
