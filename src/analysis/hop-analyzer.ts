@@ -2,6 +2,7 @@ import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft, type FftBuffer } from '../dsp/fft.js';
 import { addBandScores, hopCoherence, PairCorrelator, refineLag } from '../dsp/gcc.js';
 import { addBandScoresLanes, hopCoherence2, refineLagLanes } from '../dsp/gcc-lanes.js';
+import { GccKernels } from '../dsp/gcc-kernels.js';
 import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow } from '../dsp/window.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
@@ -103,6 +104,14 @@ export class HopAnalyzer {
   readonly hop: number;
   readonly bands: BandLayout;
   private readonly fft: RealFft;
+  /**
+   * The per-bin kernels in WebAssembly SIMD (bit-identical to the JavaScript ones: ../dsp/gcc-kernels.ts),
+   * null on the JavaScript path (no WebAssembly SIMD, the fft.js FFT, or BEARLINE_KERNELS=js).
+   * With them, the arrays they read live in their memory, and `kSpectra` holds float32 copies of
+   * the spectra's analysis bins there.
+   */
+  private readonly kernels: GccKernels | null;
+  private readonly kSpectra: Float32Array[];
   private readonly window: Float64Array;
   /** Two windowed frames (FFT inputs): channels are windowed two at a time. */
   private readonly windowed: FftBuffer[];
@@ -161,21 +170,43 @@ export class HopAnalyzer {
     readonly sampleRate: number,
     readonly model: DirectionModel,
     readonly options: ResolvedAnalysis,
+    /** 'js' keeps the JavaScript kernels even where the WebAssembly ones load (tests, benchmarks). */
+    kernelPath: 'auto' | 'js' = 'auto',
   ) {
     const n = options.frame;
     this.frame = n;
     this.hop = options.hop;
     this.fft = new RealFft(n);
     const bins = n / 2 + 1;
+    const P = model.pairs.length;
+    const candidates = options.maxCandidates;
+    this.leadsPair = new Uint8Array(channels);
+    for (const [a] of model.pairs) this.leadsPair[a] = 1;
+    let leaders = 0;
+    for (let c = 0; c < channels; c++) leaders += this.leadsPair[c]!;
+    // The arrays the kernels read: spectra copies, 1/|X|, weights x 1/|X|, power, weights, the pairs'
+    // accumulators, band scores, evidence, band flags.
+    this.kernels =
+      this.fft.backend === 'pffft' && kernelPath === 'auto'
+        ? GccKernels.create(
+            GccKernels.bytesFor(
+              [...new Array<number>(channels + leaders + 2 + 2 * P).fill(bins), options.bands * candidates, options.bands],
+              new Array<number>(channels).fill(n),
+              [options.bands],
+            ) + 8 * options.bands,
+          )
+        : null;
+    const k = this.kernels;
+    const f64 = (len: number) => (k ? k.f64(len) : new Float64Array(len));
+    if (k) k.setBands(makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands));
+    this.kSpectra = k ? Array.from({ length: channels }, () => k.f32(n)) : [];
     this.window = hannWindow(n);
     this.windowed = [this.fft.createInput(), this.fft.createInput()];
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
-    this.invMag = Array.from({ length: channels }, () => new Float64Array(bins));
-    this.leadsPair = new Uint8Array(channels);
-    for (const [a] of model.pairs) this.leadsPair[a] = 1;
-    this.weightedInv = Array.from({ length: channels }, (_, c) => new Float64Array(this.leadsPair[c] ? bins : 0));
-    this.power = new Float64Array(bins);
-    this.weights = new Float64Array(bins);
+    this.invMag = Array.from({ length: channels }, () => f64(bins));
+    this.weightedInv = Array.from({ length: channels }, (_, c) => (this.leadsPair[c] ? f64(bins) : new Float64Array(0)));
+    this.power = f64(bins);
+    this.weights = f64(bins);
     this.weightAcc = new Float64Array(bins);
     this.bands = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
     this.bandWeight = new Float64Array(options.bands);
@@ -189,13 +220,11 @@ export class HopAnalyzer {
       floorRise: 10 ** ((options.floorRiseDbS * hopS) / 10),
       fullPresence: 4,
     });
-    const P = model.pairs.length;
-    const candidates = options.maxCandidates;
-    this.correlators = model.pairs.map((_, p) => new PairCorrelator(n, model.maxLag[p]!));
+    this.correlators = model.pairs.map((_, p) => new PairCorrelator(n, model.maxLag[p]!, k ? { accRe: k.f64(bins), accIm: k.f64(bins) } : undefined));
     this.candLags = new Float64Array(candidates * P);
     this.candScores = new Float64Array(candidates);
-    this.bandScores = new Float64Array(options.bands * candidates);
-    this.evidence = new Float64Array(options.bands);
+    this.bandScores = f64(options.bands * candidates);
+    this.evidence = f64(options.bands);
     this.snrMem = new Float64Array(options.bands);
     this.bandWidthWeight = Float64Array.from({ length: options.bands }, (_, b) => Math.log2(1 + this.bands.end[b]! - this.bands.start[b]!));
     this.fusion = new BandFusion(options.bands, candidates);
@@ -204,7 +233,7 @@ export class HopAnalyzer {
     let widest = 0;
     for (let p = 0; p < P; p++) widest = Math.max(widest, model.maxLag[p]!);
     this.apertureS = Math.max(1, widest - 1) / (1 + options.lagMargin) / sampleRate;
-    this.useBand = new Uint8Array(options.bands);
+    this.useBand = k ? k.u8(options.bands) : new Uint8Array(options.bands);
     this.pairBandScores = new Float64Array(options.bands);
     this.refined = new Float64Array(P);
     this.refineScratch = new Float64Array(2 * P);
@@ -315,6 +344,12 @@ export class HopAnalyzer {
         const spec = this.spectra[ch]!;
         this.fft.forwardInterleaved(this.windowed[j]!, spec);
         const inv = this.invMag[ch]!;
+        if (this.kernels) {
+          const copy = this.kSpectra[ch]!;
+          copy.set((spec as Float32Array).subarray(2 * k0, 2 * k1), 2 * k0);
+          this.kernels.magnitudes(copy, power, inv, k0, k1);
+          continue;
+        }
         for (let k = k0; k < k1; k++) {
           const r = spec[2 * k]!;
           const i = spec[2 * k + 1]!;
@@ -377,15 +412,18 @@ export class HopAnalyzer {
     const mem = this.memory;
     // weights x 1/|X_a| once per channel, shared by the pairs that channel leads
     const weights = this.weights;
+    const kern = this.kernels;
     for (let c = 0; c < this.channels; c++) {
       if (!this.leadsPair[c]) continue;
       const inv = this.invMag[c]!;
       const out = this.weightedInv[c]!;
-      for (let k = k0; k < k1; k++) out[k] = weights[k]! * inv[k]!;
+      if (kern) kern.times(weights, inv, out, k0, k1);
+      else for (let k = k0; k < k1; k++) out[k] = weights[k]! * inv[k]!;
     }
     for (let p = 0; p < pairs.length; p++) {
       const [a, b] = pairs[p]!;
-      this.correlators[p]!.accumulate(this.spectra[a]!, this.spectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
+      if (kern) kern.accumulate(this.correlators[p]!, this.kSpectra[a]!, this.kSpectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
+      else this.correlators[p]!.accumulate(this.spectra[a]!, this.spectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
     }
     const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs;
     this.lastHopCorrelated = !silent;
@@ -504,7 +542,8 @@ export class HopAnalyzer {
         if (opts.voting || i > 0) continue;
         for (let b = 0; b < this.bands.count; b++) this.useBand[b] = this.evidence[b]! > 0 ? 1 : 0;
       }
-      if (P === 1) this.refined[0] = refineLag(this.correlators[0]!, this.bands, this.useBand, this.candLags[c]!);
+      if (this.kernels) this.kernels.refineLags(this.correlators, this.frame, this.useBand, this.candLags, c * P, this.refined, this.refineScratch, this.refineActive);
+      else if (P === 1) this.refined[0] = refineLag(this.correlators[0]!, this.bands, this.useBand, this.candLags[c]!);
       else refineLagLanes(this.correlators, this.bands, this.useBand, this.candLags, c * P, this.refined, this.refineScratch, this.refineActive);
       if (!this.model.solve(this.refined, 0, this.dir)) continue;
       const src = res.sources[res.sourceCount]!;
@@ -536,7 +575,11 @@ export class HopAnalyzer {
     s.fill(0);
     // Per pair, all candidates in one pass (the same sums, in the same order over pairs, as one candidate at a time).
     // Bands without evidence take no part in the fusion: their scores are not needed.
-    for (let p = 0; p < P; p++) addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0, this.evidence);
+    const kern = this.kernels;
+    for (let p = 0; p < P; p++) {
+      if (kern) kern.addBandScores(this.correlators[p]!, this.frame, this.candLags, p, P, K, s, S, 0, this.evidence);
+      else addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0, this.evidence);
+    }
     for (let b = 0; b < this.bands.count; b++) {
       const norm = 1 / (P * Math.max(1e-12, this.bandWeight[b]!));
       for (let c = 0; c < K; c++) s[b * S + c]! *= norm;
@@ -650,6 +693,19 @@ export class HopAnalyzer {
     const two = this.fresh2;
     let sum = 0;
     let p = 0;
+    const kern = this.kernels;
+    if (kern) {
+      const ks = this.kSpectra;
+      for (; p < P; p += 2) {
+        const [a0, b0] = pairs[p]!;
+        const q = p + 1 < P ? p + 1 : p;
+        const [a1, b1] = pairs[q]!;
+        kern.hopCoherence2(ks[a0]!, ks[b0]!, inv[a0]!, inv[b0]!, this.refined[p]!, ks[a1]!, ks[b1]!, inv[a1]!, inv[b1]!, this.refined[q]!, this.frame, k0, k1, two);
+        sum += two[0]!;
+        if (q !== p) sum += two[1]!;
+      }
+      return Math.max(0, sum / P);
+    }
     // Two pairs per pass (the same sums as one at a time, added in the same order).
     for (; p + 2 <= P; p += 2) {
       const [a0, b0] = pairs[p]!;

@@ -1,0 +1,317 @@
+;; The per-bin kernels of the GCC analysis in WebAssembly with 128-bit SIMD (f64x2), assembled
+;; at build time (npm run build: src/dsp/gcc-kernels-assemble.ts, wabt) into
+;; dist/dsp/gcc-kernels.wasm and driven from src/dsp/gcc-kernels.ts.
+;;
+;; Each f64x2 lane does exactly the double-precision arithmetic of the JavaScript kernel it
+;; stands for (src/dsp/gcc.ts, src/dsp/gcc-lanes.ts, src/analysis/hop-analyzer.ts), operation
+;; for operation and in the same order; WebAssembly has no fused multiply-add and its f64
+;; arithmetic is IEEE 754 binary64 with round-to-nearest, as JavaScript's. So the results are
+;; bit-identical to the JavaScript kernels'. Cosines and sines are computed by the caller
+;; (Math.cos, Math.sin) and passed in through the scratch area `ph`.
+;;
+;; Arguments are byte offsets into the module's memory. Spectra are interleaved float32
+;; (re, im per bin, PFFFT's layout), everything else float64; band ends are int32.
+(module
+  (memory (export "memory") 1)
+
+  ;; power[k] += r*r + i*i; inv[k] = p2 > 1e-30 ? 1 / sqrt(p2) : 0, for bins [k0, k1): two bins per step.
+  (func (export "magnitudes") (param $spec i32) (param $power i32) (param $inv i32) (param $k0 i32) (param $k1 i32)
+    (local $k i32) (local $v v128) (local $r v128) (local $i v128) (local $p2 v128) (local $a i32) (local $sr f64) (local $si f64) (local $s2 f64)
+    (local.set $k (local.get $k0))
+    (block $done
+      (loop $two
+        (br_if $done (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $k1)))
+        (local.set $v (v128.load (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3)))))
+        (local.set $r (f64x2.promote_low_f32x4 (i8x16.shuffle 0 1 2 3 8 9 10 11 0 1 2 3 8 9 10 11 (local.get $v) (local.get $v))))
+        (local.set $i (f64x2.promote_low_f32x4 (i8x16.shuffle 4 5 6 7 12 13 14 15 4 5 6 7 12 13 14 15 (local.get $v) (local.get $v))))
+        (local.set $p2 (f64x2.add (f64x2.mul (local.get $r) (local.get $r)) (f64x2.mul (local.get $i) (local.get $i))))
+        (local.set $a (i32.add (local.get $power) (i32.shl (local.get $k) (i32.const 3))))
+        (v128.store (local.get $a) (f64x2.add (v128.load (local.get $a)) (local.get $p2)))
+        (v128.store (i32.add (local.get $inv) (i32.shl (local.get $k) (i32.const 3)))
+          (v128.bitselect
+            (f64x2.div (f64x2.splat (f64.const 1)) (f64x2.sqrt (local.get $p2)))
+            (v128.const i64x2 0 0)
+            (f64x2.gt (local.get $p2) (f64x2.splat (f64.const 1e-30)))))
+        (local.set $k (i32.add (local.get $k) (i32.const 2)))
+        (br $two)))
+    (if (i32.lt_s (local.get $k) (local.get $k1))
+      (then
+        (local.set $sr (f64.promote_f32 (f32.load (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3))))))
+        (local.set $si (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3))))))
+        (local.set $s2 (f64.add (f64.mul (local.get $sr) (local.get $sr)) (f64.mul (local.get $si) (local.get $si))))
+        (local.set $a (i32.add (local.get $power) (i32.shl (local.get $k) (i32.const 3))))
+        (f64.store (local.get $a) (f64.add (f64.load (local.get $a)) (local.get $s2)))
+        (f64.store (i32.add (local.get $inv) (i32.shl (local.get $k) (i32.const 3)))
+          (select (f64.div (f64.const 1) (f64.sqrt (local.get $s2))) (f64.const 0) (f64.gt (local.get $s2) (f64.const 1e-30)))))))
+
+  ;; out[k] = w[k] * inv[k] for bins [k0, k1).
+  (func (export "times") (param $w i32) (param $inv i32) (param $out i32) (param $k0 i32) (param $k1 i32)
+    (local $k i32) (local $o i32)
+    (local.set $k (local.get $k0))
+    (block $done
+      (loop $two
+        (br_if $done (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $k1)))
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (v128.store (i32.add (local.get $out) (local.get $o))
+          (f64x2.mul (v128.load (i32.add (local.get $w) (local.get $o))) (v128.load (i32.add (local.get $inv) (local.get $o)))))
+        (local.set $k (i32.add (local.get $k) (i32.const 2)))
+        (br $two)))
+    (if (i32.lt_s (local.get $k) (local.get $k1))
+      (then
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (f64.store (i32.add (local.get $out) (local.get $o))
+          (f64.mul (f64.load (i32.add (local.get $w) (local.get $o))) (f64.load (i32.add (local.get $inv) (local.get $o))))))))
+
+  ;; PairCorrelator.accumulate (src/dsp/gcc.ts), two bins per step:
+  ;;   g = wA[k] * invB[k]; ar[k] = m * ar[k] + (xr*yr + xi*yi) * g; ai[k] = m * ai[k] + (xr*yi - xi*yr) * g
+  (func (export "accumulate") (param $a i32) (param $b i32) (param $wa i32) (param $ib i32) (param $ar i32) (param $ai i32)
+    (param $k0 i32) (param $k1 i32) (param $m f64)
+    (local $k i32) (local $o i32) (local $va v128) (local $vb v128) (local $xr v128) (local $xi v128) (local $yr v128) (local $yi v128)
+    (local $g v128) (local $mv v128) (local $pr i32) (local $pi i32)
+    (local $sxr f64) (local $sxi f64) (local $syr f64) (local $syi f64) (local $sg f64)
+    (local.set $mv (f64x2.splat (local.get $m)))
+    (local.set $k (local.get $k0))
+    (block $done
+      (loop $two
+        (br_if $done (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $k1)))
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (local.set $va (v128.load (i32.add (local.get $a) (local.get $o))))
+        (local.set $vb (v128.load (i32.add (local.get $b) (local.get $o))))
+        (local.set $xr (f64x2.promote_low_f32x4 (i8x16.shuffle 0 1 2 3 8 9 10 11 0 1 2 3 8 9 10 11 (local.get $va) (local.get $va))))
+        (local.set $xi (f64x2.promote_low_f32x4 (i8x16.shuffle 4 5 6 7 12 13 14 15 4 5 6 7 12 13 14 15 (local.get $va) (local.get $va))))
+        (local.set $yr (f64x2.promote_low_f32x4 (i8x16.shuffle 0 1 2 3 8 9 10 11 0 1 2 3 8 9 10 11 (local.get $vb) (local.get $vb))))
+        (local.set $yi (f64x2.promote_low_f32x4 (i8x16.shuffle 4 5 6 7 12 13 14 15 4 5 6 7 12 13 14 15 (local.get $vb) (local.get $vb))))
+        (local.set $g (f64x2.mul (v128.load (i32.add (local.get $wa) (local.get $o))) (v128.load (i32.add (local.get $ib) (local.get $o)))))
+        (local.set $pr (i32.add (local.get $ar) (local.get $o)))
+        (local.set $pi (i32.add (local.get $ai) (local.get $o)))
+        (v128.store (local.get $pr)
+          (f64x2.add (f64x2.mul (local.get $mv) (v128.load (local.get $pr)))
+            (f64x2.mul (f64x2.add (f64x2.mul (local.get $xr) (local.get $yr)) (f64x2.mul (local.get $xi) (local.get $yi))) (local.get $g))))
+        (v128.store (local.get $pi)
+          (f64x2.add (f64x2.mul (local.get $mv) (v128.load (local.get $pi)))
+            (f64x2.mul (f64x2.sub (f64x2.mul (local.get $xr) (local.get $yi)) (f64x2.mul (local.get $xi) (local.get $yr))) (local.get $g))))
+        (local.set $k (i32.add (local.get $k) (i32.const 2)))
+        (br $two)))
+    (if (i32.lt_s (local.get $k) (local.get $k1))
+      (then
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (local.set $sxr (f64.promote_f32 (f32.load (i32.add (local.get $a) (local.get $o)))))
+        (local.set $sxi (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $a) (local.get $o)))))
+        (local.set $syr (f64.promote_f32 (f32.load (i32.add (local.get $b) (local.get $o)))))
+        (local.set $syi (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $b) (local.get $o)))))
+        (local.set $sg (f64.mul (f64.load (i32.add (local.get $wa) (local.get $o))) (f64.load (i32.add (local.get $ib) (local.get $o)))))
+        (local.set $pr (i32.add (local.get $ar) (local.get $o)))
+        (local.set $pi (i32.add (local.get $ai) (local.get $o)))
+        (f64.store (local.get $pr)
+          (f64.add (f64.mul (local.get $m) (f64.load (local.get $pr)))
+            (f64.mul (f64.add (f64.mul (local.get $sxr) (local.get $syr)) (f64.mul (local.get $sxi) (local.get $syi))) (local.get $sg))))
+        (f64.store (local.get $pi)
+          (f64.add (f64.mul (local.get $m) (f64.load (local.get $pi)))
+            (f64.mul (f64.sub (f64.mul (local.get $sxr) (local.get $syi)) (f64.mul (local.get $sxi) (local.get $syr))) (local.get $sg)))))))
+
+  ;; addBandScores (src/dsp/gcc.ts) at four lags, lanes 0-1 in vector A and 2-3 in vector B.
+  ;; ph holds [sr0 sr1 si0 si1 pr0 pr1 pi0 pi1 sr2 sr3 si2 si3 pr2 pr3 pi2 pi3] (the phasor step
+  ;; and the phasor at bin k0 per lag). Band b's four sums are added into out[b * stride + 0..3]
+  ;; (stride in numbers). `write` is 4, 2 or 1: the lanes written (the others repeat a lag).
+  ;; Bands whose needed[b] is not above 0 are skipped (their phasors still step); needed = 0: all bands.
+  (func (export "band_scores4") (param $ar i32) (param $ai i32) (param $ends i32) (param $nb i32) (param $k0 i32)
+    (param $ph i32) (param $out i32) (param $stride i32) (param $needed i32) (param $write i32)
+    (local $k i32) (local $b i32) (local $e i32) (local $o i32) (local $skip i32)
+    (local $srA v128) (local $siA v128) (local $prA v128) (local $piA v128)
+    (local $srB v128) (local $siB v128) (local $prB v128) (local $piB v128)
+    (local $re v128) (local $im v128) (local $accA v128) (local $accB v128) (local $t v128)
+    (local.set $srA (v128.load (local.get $ph)))
+    (local.set $siA (v128.load offset=16 (local.get $ph)))
+    (local.set $prA (v128.load offset=32 (local.get $ph)))
+    (local.set $piA (v128.load offset=48 (local.get $ph)))
+    (local.set $srB (v128.load offset=64 (local.get $ph)))
+    (local.set $siB (v128.load offset=80 (local.get $ph)))
+    (local.set $prB (v128.load offset=96 (local.get $ph)))
+    (local.set $piB (v128.load offset=112 (local.get $ph)))
+    (local.set $k (local.get $k0))
+    (local.set $b (i32.const 0))
+    (block $bandsDone
+      (loop $bands
+        (br_if $bandsDone (i32.ge_s (local.get $b) (local.get $nb)))
+        (local.set $e (i32.load (i32.add (local.get $ends) (i32.shl (local.get $b) (i32.const 2)))))
+        (local.set $skip (i32.const 0))
+        (if (local.get $needed)
+          (then (local.set $skip (i32.eqz (f64.gt (f64.load (i32.add (local.get $needed) (i32.shl (local.get $b) (i32.const 3)))) (f64.const 0))))))
+        (if (local.get $skip)
+          (then
+            (block $sd
+              (loop $sl
+                (br_if $sd (i32.ge_s (local.get $k) (local.get $e)))
+                (local.set $t (f64x2.sub (f64x2.mul (local.get $prA) (local.get $srA)) (f64x2.mul (local.get $piA) (local.get $siA))))
+                (local.set $piA (f64x2.add (f64x2.mul (local.get $prA) (local.get $siA)) (f64x2.mul (local.get $piA) (local.get $srA))))
+                (local.set $prA (local.get $t))
+                (local.set $t (f64x2.sub (f64x2.mul (local.get $prB) (local.get $srB)) (f64x2.mul (local.get $piB) (local.get $siB))))
+                (local.set $piB (f64x2.add (f64x2.mul (local.get $prB) (local.get $siB)) (f64x2.mul (local.get $piB) (local.get $srB))))
+                (local.set $prB (local.get $t))
+                (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                (br $sl))))
+          (else
+            (local.set $accA (v128.const i64x2 0 0))
+            (local.set $accB (v128.const i64x2 0 0))
+            (block $d
+              (loop $l
+                (br_if $d (i32.ge_s (local.get $k) (local.get $e)))
+                (local.set $re (v128.load64_splat (i32.add (local.get $ar) (i32.shl (local.get $k) (i32.const 3)))))
+                (local.set $im (v128.load64_splat (i32.add (local.get $ai) (i32.shl (local.get $k) (i32.const 3)))))
+                (local.set $accA (f64x2.add (local.get $accA) (f64x2.sub (f64x2.mul (local.get $re) (local.get $prA)) (f64x2.mul (local.get $im) (local.get $piA)))))
+                (local.set $accB (f64x2.add (local.get $accB) (f64x2.sub (f64x2.mul (local.get $re) (local.get $prB)) (f64x2.mul (local.get $im) (local.get $piB)))))
+                (local.set $t (f64x2.sub (f64x2.mul (local.get $prA) (local.get $srA)) (f64x2.mul (local.get $piA) (local.get $siA))))
+                (local.set $piA (f64x2.add (f64x2.mul (local.get $prA) (local.get $siA)) (f64x2.mul (local.get $piA) (local.get $srA))))
+                (local.set $prA (local.get $t))
+                (local.set $t (f64x2.sub (f64x2.mul (local.get $prB) (local.get $srB)) (f64x2.mul (local.get $piB) (local.get $siB))))
+                (local.set $piB (f64x2.add (f64x2.mul (local.get $prB) (local.get $siB)) (f64x2.mul (local.get $piB) (local.get $srB))))
+                (local.set $prB (local.get $t))
+                (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                (br $l)))
+            (local.set $o (i32.add (local.get $out) (i32.shl (i32.mul (local.get $b) (local.get $stride)) (i32.const 3))))
+            (if (i32.ge_s (local.get $write) (i32.const 2))
+              (then (v128.store (local.get $o) (f64x2.add (v128.load (local.get $o)) (local.get $accA))))
+              (else (f64.store (local.get $o) (f64.add (f64.load (local.get $o)) (f64x2.extract_lane 0 (local.get $accA))))))
+            (if (i32.eq (local.get $write) (i32.const 4))
+              (then (v128.store offset=16 (local.get $o) (f64x2.add (v128.load offset=16 (local.get $o)) (local.get $accB)))))))
+        (local.set $b (i32.add (local.get $b) (i32.const 1)))
+        (br $bands))))
+
+  ;; addBandScores at two lags (vector A only): ph as for band_scores4 (first 64 bytes); write 2 or 1.
+  (func (export "band_scores2") (param $ar i32) (param $ai i32) (param $ends i32) (param $nb i32) (param $k0 i32)
+    (param $ph i32) (param $out i32) (param $stride i32) (param $needed i32) (param $write i32)
+    (local $k i32) (local $b i32) (local $e i32) (local $o i32) (local $skip i32)
+    (local $srA v128) (local $siA v128) (local $prA v128) (local $piA v128)
+    (local $re v128) (local $im v128) (local $accA v128) (local $t v128)
+    (local.set $srA (v128.load (local.get $ph)))
+    (local.set $siA (v128.load offset=16 (local.get $ph)))
+    (local.set $prA (v128.load offset=32 (local.get $ph)))
+    (local.set $piA (v128.load offset=48 (local.get $ph)))
+    (local.set $k (local.get $k0))
+    (local.set $b (i32.const 0))
+    (block $bandsDone
+      (loop $bands
+        (br_if $bandsDone (i32.ge_s (local.get $b) (local.get $nb)))
+        (local.set $e (i32.load (i32.add (local.get $ends) (i32.shl (local.get $b) (i32.const 2)))))
+        (local.set $skip (i32.const 0))
+        (if (local.get $needed)
+          (then (local.set $skip (i32.eqz (f64.gt (f64.load (i32.add (local.get $needed) (i32.shl (local.get $b) (i32.const 3)))) (f64.const 0))))))
+        (if (local.get $skip)
+          (then
+            (block $sd
+              (loop $sl
+                (br_if $sd (i32.ge_s (local.get $k) (local.get $e)))
+                (local.set $t (f64x2.sub (f64x2.mul (local.get $prA) (local.get $srA)) (f64x2.mul (local.get $piA) (local.get $siA))))
+                (local.set $piA (f64x2.add (f64x2.mul (local.get $prA) (local.get $siA)) (f64x2.mul (local.get $piA) (local.get $srA))))
+                (local.set $prA (local.get $t))
+                (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                (br $sl))))
+          (else
+            (local.set $accA (v128.const i64x2 0 0))
+            (block $d
+              (loop $l
+                (br_if $d (i32.ge_s (local.get $k) (local.get $e)))
+                (local.set $re (v128.load64_splat (i32.add (local.get $ar) (i32.shl (local.get $k) (i32.const 3)))))
+                (local.set $im (v128.load64_splat (i32.add (local.get $ai) (i32.shl (local.get $k) (i32.const 3)))))
+                (local.set $accA (f64x2.add (local.get $accA) (f64x2.sub (f64x2.mul (local.get $re) (local.get $prA)) (f64x2.mul (local.get $im) (local.get $piA)))))
+                (local.set $t (f64x2.sub (f64x2.mul (local.get $prA) (local.get $srA)) (f64x2.mul (local.get $piA) (local.get $siA))))
+                (local.set $piA (f64x2.add (f64x2.mul (local.get $prA) (local.get $siA)) (f64x2.mul (local.get $piA) (local.get $srA))))
+                (local.set $prA (local.get $t))
+                (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                (br $l)))
+            (local.set $o (i32.add (local.get $out) (i32.shl (i32.mul (local.get $b) (local.get $stride)) (i32.const 3))))
+            (if (i32.ge_s (local.get $write) (i32.const 2))
+              (then (v128.store (local.get $o) (f64x2.add (v128.load (local.get $o)) (local.get $accA))))
+              (else (f64.store (local.get $o) (f64.add (f64.load (local.get $o)) (f64x2.extract_lane 0 (local.get $accA))))))))
+        (local.set $b (i32.add (local.get $b) (i32.const 1)))
+        (br $bands))))
+
+  ;; derivatives2 (src/dsp/gcc-lanes.ts): first and second derivative of two correlations (pair A
+  ;; in lane 0, pair B in lane 1) over the bands flagged in use[b] (uint8). ph holds
+  ;; [srA srB siA siB] and, per band b at ph + 32 + 32 b, [prA prB piA piB] (the phasor at the
+  ;; band's first bin). Writes [d1A d1B d2A d2B] at out.
+  (func (export "derivatives2") (param $arA i32) (param $aiA i32) (param $arB i32) (param $aiB i32)
+    (param $use i32) (param $starts i32) (param $ends i32) (param $nb i32) (param $w0 f64) (param $ph i32) (param $out i32)
+    (local $k i32) (local $b i32) (local $e i32) (local $o i32) (local $p i32)
+    (local $sr v128) (local $si v128) (local $pr v128) (local $pi v128) (local $x v128) (local $y v128)
+    (local $w v128) (local $ww v128) (local $d1 v128) (local $d2 v128) (local $t v128) (local $ws f64)
+    (local.set $sr (v128.load (local.get $ph)))
+    (local.set $si (v128.load offset=16 (local.get $ph)))
+    (local.set $d1 (v128.const i64x2 0 0))
+    (local.set $d2 (v128.const i64x2 0 0))
+    (local.set $b (i32.const 0))
+    (block $bandsDone
+      (loop $bands
+        (br_if $bandsDone (i32.ge_s (local.get $b) (local.get $nb)))
+        (if (i32.load8_u (i32.add (local.get $use) (local.get $b)))
+          (then
+            (local.set $k (i32.load (i32.add (local.get $starts) (i32.shl (local.get $b) (i32.const 2)))))
+            (local.set $e (i32.load (i32.add (local.get $ends) (i32.shl (local.get $b) (i32.const 2)))))
+            (local.set $p (i32.add (local.get $ph) (i32.add (i32.const 32) (i32.shl (local.get $b) (i32.const 5)))))
+            (local.set $pr (v128.load (local.get $p)))
+            (local.set $pi (v128.load offset=16 (local.get $p)))
+            (block $d
+              (loop $l
+                (br_if $d (i32.ge_s (local.get $k) (local.get $e)))
+                (local.set $ws (f64.mul (local.get $w0) (f64.convert_i32_s (local.get $k))))
+                (local.set $w (f64x2.splat (local.get $ws)))
+                (local.set $ww (f64x2.splat (f64.mul (local.get $ws) (local.get $ws))))
+                (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+                (local.set $x (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $arA) (local.get $o))) (f64.load (i32.add (local.get $arB) (local.get $o)))))
+                (local.set $y (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $aiA) (local.get $o))) (f64.load (i32.add (local.get $aiB) (local.get $o)))))
+                (local.set $d1 (f64x2.sub (local.get $d1)
+                  (f64x2.mul (local.get $w) (f64x2.add (f64x2.mul (local.get $x) (local.get $pi)) (f64x2.mul (local.get $y) (local.get $pr))))))
+                (local.set $d2 (f64x2.sub (local.get $d2)
+                  (f64x2.mul (local.get $ww) (f64x2.sub (f64x2.mul (local.get $x) (local.get $pr)) (f64x2.mul (local.get $y) (local.get $pi))))))
+                (local.set $t (f64x2.sub (f64x2.mul (local.get $pr) (local.get $sr)) (f64x2.mul (local.get $pi) (local.get $si))))
+                (local.set $pi (f64x2.add (f64x2.mul (local.get $pr) (local.get $si)) (f64x2.mul (local.get $pi) (local.get $sr))))
+                (local.set $pr (local.get $t))
+                (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                (br $l)))))
+        (local.set $b (i32.add (local.get $b) (i32.const 1)))
+        (br $bands)))
+    (v128.store (local.get $out) (local.get $d1))
+    (v128.store offset=16 (local.get $out) (local.get $d2)))
+
+  ;; hopCoherence2 (src/dsp/gcc-lanes.ts): the sums of two pairs (lane 0: spectra a0, b0; lane 1:
+  ;; a1, b1) over bins [k0, k1), before the division by the bin count. ph holds
+  ;; [sr0 sr1 si0 si1 pr0 pr1 pi0 pi1]. Writes [acc0 acc1] at out.
+  (func (export "hop_coherence2") (param $a0 i32) (param $b0 i32) (param $a1 i32) (param $b1 i32)
+    (param $ia0 i32) (param $ib0 i32) (param $ia1 i32) (param $ib1 i32) (param $k0 i32) (param $k1 i32) (param $ph i32) (param $out i32)
+    (local $k i32) (local $o4 i32) (local $o8 i32)
+    (local $sr v128) (local $si v128) (local $pr v128) (local $pi v128) (local $acc v128) (local $t v128)
+    (local $xr v128) (local $xi v128) (local $yr v128) (local $yi v128) (local $g v128)
+    (local.set $sr (v128.load (local.get $ph)))
+    (local.set $si (v128.load offset=16 (local.get $ph)))
+    (local.set $pr (v128.load offset=32 (local.get $ph)))
+    (local.set $pi (v128.load offset=48 (local.get $ph)))
+    (local.set $acc (v128.const i64x2 0 0))
+    (local.set $k (local.get $k0))
+    (block $d
+      (loop $l
+        (br_if $d (i32.ge_s (local.get $k) (local.get $k1)))
+        (local.set $o8 (i32.shl (local.get $k) (i32.const 3)))
+        (local.set $xr (f64x2.replace_lane 1 (f64x2.splat (f64.promote_f32 (f32.load (i32.add (local.get $a0) (local.get $o8)))))
+          (f64.promote_f32 (f32.load (i32.add (local.get $a1) (local.get $o8))))))
+        (local.set $xi (f64x2.replace_lane 1 (f64x2.splat (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $a0) (local.get $o8)))))
+          (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $a1) (local.get $o8))))))
+        (local.set $yr (f64x2.replace_lane 1 (f64x2.splat (f64.promote_f32 (f32.load (i32.add (local.get $b0) (local.get $o8)))))
+          (f64.promote_f32 (f32.load (i32.add (local.get $b1) (local.get $o8))))))
+        (local.set $yi (f64x2.replace_lane 1 (f64x2.splat (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $b0) (local.get $o8)))))
+          (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $b1) (local.get $o8))))))
+        (local.set $g (f64x2.mul
+          (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $ia0) (local.get $o8))) (f64.load (i32.add (local.get $ia1) (local.get $o8))))
+          (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $ib0) (local.get $o8))) (f64.load (i32.add (local.get $ib1) (local.get $o8))))))
+        (local.set $acc (f64x2.add (local.get $acc)
+          (f64x2.mul
+            (f64x2.sub
+              (f64x2.mul (f64x2.add (f64x2.mul (local.get $xr) (local.get $yr)) (f64x2.mul (local.get $xi) (local.get $yi))) (local.get $pr))
+              (f64x2.mul (f64x2.sub (f64x2.mul (local.get $xr) (local.get $yi)) (f64x2.mul (local.get $xi) (local.get $yr))) (local.get $pi)))
+            (local.get $g))))
+        (local.set $t (f64x2.sub (f64x2.mul (local.get $pr) (local.get $sr)) (f64x2.mul (local.get $pi) (local.get $si))))
+        (local.set $pi (f64x2.add (f64x2.mul (local.get $pr) (local.get $si)) (f64x2.mul (local.get $pi) (local.get $sr))))
+        (local.set $pr (local.get $t))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $l)))
+    (v128.store (local.get $out) (local.get $acc)))
+)
