@@ -112,6 +112,8 @@ export class HopAnalyzer {
    */
   private readonly kernels: GccKernels | null;
   private readonly kSpectra: Float32Array[];
+  /** The inverse FFT's input, scaled and packed by the kernels (null on the JavaScript path). */
+  private readonly kPacked: Float32Array | null;
   private readonly window: Float64Array;
   /** Two windowed frames (FFT inputs): channels are windowed two at a time. */
   private readonly windowed: FftBuffer[];
@@ -190,8 +192,8 @@ export class HopAnalyzer {
       this.fft.backend === 'pffft' && kernelPath === 'auto'
         ? GccKernels.create(
             GccKernels.bytesFor(
-              [...new Array<number>(channels + leaders + 2 + 2 * P).fill(bins), options.bands * candidates, options.bands],
-              new Array<number>(channels).fill(n),
+              [...new Array<number>(channels + leaders + 3 + 2 * P).fill(bins), options.bands * candidates, options.bands],
+              new Array<number>(channels + 1).fill(n),
               [options.bands],
             ) + 8 * options.bands,
           )
@@ -200,6 +202,7 @@ export class HopAnalyzer {
     const f64 = (len: number) => (k ? k.f64(len) : new Float64Array(len));
     if (k) k.setBands(makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands));
     this.kSpectra = k ? Array.from({ length: channels }, () => k.f32(n)) : [];
+    this.kPacked = k ? k.f32(n) : null;
     this.window = hannWindow(n);
     this.windowed = [this.fft.createInput(), this.fft.createInput()];
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
@@ -210,7 +213,7 @@ export class HopAnalyzer {
     this.weightAcc = new Float64Array(bins);
     this.bands = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
     this.bandWeight = new Float64Array(options.bands);
-    this.binScale = new Float64Array(bins);
+    this.binScale = f64(bins);
     const hopS = options.hop / sampleRate;
     this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
     this.onset = new OnsetWeigher(bins, {
@@ -239,6 +242,11 @@ export class HopAnalyzer {
     this.refineScratch = new Float64Array(2 * P);
     this.refineActive = new Uint8Array(P);
     this.order = new Int32Array(candidates);
+    if (k) {
+      const theirs = [...this.kSpectra, this.kPacked!, ...this.invMag, ...this.weightedInv.filter((w) => w.length > 0), this.power, this.weights, this.binScale, this.bandScores, this.evidence, this.useBand];
+      for (const pc of this.correlators) theirs.push(pc.accRe, pc.accIm);
+      if (!theirs.every((view) => k.owns(view))) throw new Error('HopAnalyzer: a kernel array is outside the kernels memory');
+    }
     this.result = {
       index: 0,
       timeS: 0,
@@ -441,9 +449,13 @@ export class HopAnalyzer {
   correlationStage(): void {
     const { firstBin: k0, endBin: k1 } = this.bands;
     const P = this.model.pairs.length;
+    const kern = this.kernels;
     for (let p = 0; p < P; p++) {
       const pc = this.correlators[p]!;
-      if (this.options.voting) pc.correlateScaled(this.fft, this.binScale, k0, k1);
+      if (kern) {
+        kern.scalePack(pc, this.options.voting ? this.binScale : null, this.kPacked!, k0, k1);
+        this.fft.inversePackedLags(this.kPacked!, k0, k1, pc.gcc, pc.maxLag + 1);
+      } else if (this.options.voting) pc.correlateScaled(this.fft, this.binScale, k0, k1);
       else pc.correlate(this.fft, k0, k1);
     }
   }

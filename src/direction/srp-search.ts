@@ -1,4 +1,5 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
+import { GccKernels } from '../dsp/gcc-kernels.js';
 import { micPairs, type ArrayGeometry, type MicPair } from '../geometry/array-geometry.js';
 import { arrayMirror, type ArrayMirror } from '../geometry/array-mirror.js';
 import { arrayShape, type ArrayShape } from '../geometry/array-shape.js';
@@ -46,6 +47,8 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly nbStart: Int32Array;
   private readonly nbList: Int32Array;
   private readonly power: Float64Array;
+  /** The coarse pass in WebAssembly (../dsp/gcc-kernels.ts, bit-identical), null on the JavaScript path; its arrays live in its memory. */
+  private readonly kernels: GccKernels | null;
   /** Hop counter and the hop at which each grid point's power was last computed. */
   private hop = 0;
   private readonly stamp: Int32Array;
@@ -69,6 +72,8 @@ export class SrpDirectionModel implements DirectionModel {
     lagMargin: number,
     frame: number,
     grid: SearchGrid = {},
+    /** 'js' keeps the coarse pass in JavaScript where the WebAssembly kernels load (tests). */
+    kernelPath: 'auto' | 'js' = 'auto',
   ) {
     this.pairs = micPairs(geometry);
     const P = this.pairs.length;
@@ -87,9 +92,6 @@ export class SrpDirectionModel implements DirectionModel {
     const step = grid.stepDeg ?? Math.max(MIN_AUTO_STEP_DEG, Math.min(shape === 'line' ? 3 : 8, ((1.4 / largestLag) * 180) / Math.PI));
     this.gridDirs = makeGrid(shape, this.mirror, step);
     const G = this.gridDirs.length;
-    this.gridLag = new Float64Array(G * P);
-    this.gridIdx = new Int32Array(G * P);
-    this.gridFrac = new Float64Array(G * P);
     // Each pair's window holds lags -maxLag .. maxLag + 1 (a grid lag lies within the physical limit).
     this.lagBase = new Int32Array(P);
     let tableSize = 0;
@@ -97,7 +99,13 @@ export class SrpDirectionModel implements DirectionModel {
       this.lagBase[p] = tableSize + this.maxLag[p]!;
       tableSize += 2 * this.maxLag[p]! + 2;
     }
-    this.lagTable = new Float64Array(tableSize);
+    // The coarse subset (below) has fewer than G points.
+    const k = kernelPath === 'auto' ? GccKernels.create(GccKernels.bytesFor([G * P, tableSize, G], [G * P, G, G])) : null;
+    this.kernels = k;
+    this.gridLag = new Float64Array(G * P);
+    this.gridIdx = k ? k.i32(G * P) : new Int32Array(G * P);
+    this.gridFrac = k ? k.f64(G * P) : new Float64Array(G * P);
+    this.lagTable = k ? k.f64(tableSize) : new Float64Array(tableSize);
     for (let g = 0; g < G; g++) {
       for (let p = 0; p < P; p++) {
         const lag = this.lagFor(this.gridDirs[g]!, p);
@@ -113,8 +121,8 @@ export class SrpDirectionModel implements DirectionModel {
     for (let g = 0; g < G; g++) this.nbStart[g + 1] = this.nbStart[g]! + nb[g]!.length;
     this.nbList = new Int32Array(this.nbStart[G]!);
     for (let g = 0; g < G; g++) this.nbList.set(nb[g]!, this.nbStart[g]!);
-    this.power = new Float64Array(G);
-    this.stamp = new Int32Array(G).fill(-1);
+    this.power = k ? k.f64(G) : new Float64Array(G);
+    this.stamp = (k ? k.i32(G) : new Int32Array(G)).fill(-1);
     // Coarse subset: the fine point nearest each point of a grid twice as coarse.
     const coarseDirs = makeGrid(shape, this.mirror, 2 * step);
     const picked = new Set<number>();
@@ -130,7 +138,9 @@ export class SrpDirectionModel implements DirectionModel {
       }
       picked.add(best);
     }
-    this.coarse = Int32Array.from([...picked].sort((a, b) => a - b));
+    const coarse = [...picked].sort((a, b) => a - b);
+    this.coarse = k ? k.i32(coarse.length) : new Int32Array(coarse.length);
+    this.coarse.set(coarse);
     const cnb = neighbourLists(Array.from(this.coarse, (g) => this.gridDirs[g]!), 2 * step);
     this.cnbStart = new Int32Array(this.coarse.length + 1);
     for (let i = 0; i < this.coarse.length; i++) this.cnbStart[i + 1] = this.cnbStart[i]! + cnb[i]!.length;
@@ -207,7 +217,8 @@ export class SrpDirectionModel implements DirectionModel {
     this.hop++;
     this.fillLagTable(correlators);
     const coarse = this.coarse;
-    for (let i = 0; i < coarse.length; i++) this.powerCached(coarse[i]!);
+    if (this.kernels) this.kernels.srpPower(this.lagTable, this.gridIdx, this.gridFrac, P, coarse, coarse.length, this.power, this.stamp, this.hop);
+    else for (let i = 0; i < coarse.length; i++) this.powerCached(coarse[i]!);
     // Coarse local maxima, best first.
     const starts = this.starts;
     const startPw = this.startPower;

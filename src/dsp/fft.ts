@@ -174,6 +174,24 @@ export class RealFft {
     for (let i = n - L; i < n; i++) out[i] = w[i]! * scale;
   }
 
+  /**
+   * inverseLags from an input already scaled and packed as float32 (re, im) per bin k at [2k],
+   * [2k + 1] for bins [first, end) (GccKernels.scalePack, ./gcc-kernels.ts): the same transform
+   * and output, on PFFFT only (and 1 <= first, end <= n/2).
+   */
+  inversePackedLags(packed: Float32Array, first: number, end: number, out: Float64Array, maxLag: number): void {
+    const n = this.size;
+    if (this.backend !== 'pffft' || first < 1 || end > n / 2) throw new Error('RealFft.inversePackedLags needs PFFFT and bins within 1 .. n/2');
+    this.pfInv!.view.set(packed.subarray(2 * first, 2 * end), 2 * first);
+    const o = this.pfOut!;
+    pffft!.module._pffft_transform_ordered(this.pfSetup, this.pfInv!.ptr, o.ptr, this.pfWork!.ptr, PFFFT_BACKWARD);
+    const w = o.view;
+    const scale = 1 / n;
+    const L = Math.min(maxLag + 1, n / 2 - 1);
+    for (let i = 0; i <= L; i++) out[i] = w[i]! * scale;
+    for (let i = n - L; i < n; i++) out[i] = w[i]! * scale;
+  }
+
   private scratchRe: Float64Array | null = null;
   private scratchIm: Float64Array | null = null;
 

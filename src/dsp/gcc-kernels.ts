@@ -10,8 +10,8 @@ import { assembleWat, kernelTextPath } from './gcc-kernels-assemble.js';
  * kernel's arithmetic in the same order (./gcc.ts, ./gcc-lanes.ts), so the results are bit for
  * bit those of the JavaScript path (checked by test/dsp/gcc-kernels.test.ts and, hop by hop
  * over the matrix, by test/bench/hop-diff.ts). The JavaScript kernels stay as the fallback:
- * without WebAssembly SIMD, on the fft.js FFT (double-precision spectra) or with
- * BEARLINE_KERNELS=js.
+ * without WebAssembly SIMD, with BEARLINE_KERNELS=js, or with BEARLINE_FFT=fftjs (the whole
+ * JavaScript path: the fft.js FFT's spectra are double precision, which the float32 kernels do not take).
  *
  * Each analyzer gets its own instance and memory (sized once: views never go stale); the arrays
  * the kernels touch are views into that memory, handed out by f64() and friends.
@@ -31,6 +31,8 @@ interface KernelExports {
   memory: WasmMemory;
   magnitudes(spec: number, power: number, inv: number, k0: number, k1: number): void;
   times(w: number, inv: number, out: number, k0: number, k1: number): void;
+  srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
+  scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
   accumulate(a: number, b: number, wa: number, ib: number, ar: number, ai: number, k0: number, k1: number, m: number): void;
   band_scores4(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
   band_scores2(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
@@ -46,7 +48,8 @@ export interface CrossSpectrum {
 }
 
 async function loadModule(): Promise<WasmModule | null> {
-  if (process.env.BEARLINE_KERNELS === 'js') return null;
+  // The JavaScript path whole: kernels off, or the fft.js FFT asked for.
+  if (process.env.BEARLINE_KERNELS === 'js' || process.env.BEARLINE_FFT === 'fftjs') return null;
   try {
     const binary = fileURLToPath(new URL('./gcc-kernels.wasm', import.meta.url));
     if (existsSync(binary)) return new WebAssembly.Module(readFileSync(binary));
@@ -61,7 +64,7 @@ async function loadModule(): Promise<WasmModule | null> {
 
 const compiled: WasmModule | null = await loadModule();
 
-/** Are the WebAssembly kernels available (compiled and not switched off by BEARLINE_KERNELS=js)? */
+/** Are the WebAssembly kernels available (compiled, and not switched off by BEARLINE_KERNELS=js or BEARLINE_FFT=fftjs)? */
 export function wasmKernelsAvailable(): boolean {
   return compiled !== null;
 }
@@ -116,6 +119,10 @@ export class GccKernels {
     return new Float32Array(this.buffer, this.take(4 * n), n);
   }
 
+  i32(n: number): Int32Array {
+    return new Int32Array(this.buffer, this.take(4 * n), n);
+  }
+
   u8(n: number): Uint8Array {
     return new Uint8Array(this.buffer, this.take(n), n);
   }
@@ -124,7 +131,7 @@ export class GccKernels {
   static bytesFor(f64s: number[], f32s: number[] = [], u8s: number[] = []): number {
     let total = 0;
     for (const n of f64s) total += Math.ceil((8 * n) / ALIGN) * ALIGN;
-    for (const n of f32s) total += Math.ceil((4 * n) / ALIGN) * ALIGN;
+    for (const n of f32s) total += Math.ceil((4 * n) / ALIGN) * ALIGN; // int32 arrays count here too
     for (const n of u8s) total += Math.ceil(n / ALIGN) * ALIGN;
     return total;
   }
@@ -140,9 +147,18 @@ export class GccKernels {
     this.bandStarts.set(bands.start);
   }
 
-  private ptr(view: Float64Array | Float32Array | Uint8Array): number {
-    if (view.buffer !== this.buffer) throw new Error('GccKernels: array is not in the kernels memory');
+  /**
+   * An array's address in the kernels' memory. Every array passed to a kernel must come from this
+   * instance (f64(), f32(), u8()); owns() checks that, once, where the arrays are set up (the
+   * check on every call cost 3 % of the analysis).
+   */
+  private ptr(view: Float64Array | Float32Array | Int32Array | Uint8Array): number {
     return view.byteOffset;
+  }
+
+  /** Is this array a view into this instance's memory? */
+  owns(view: Float64Array | Float32Array | Int32Array | Uint8Array): boolean {
+    return view.buffer === this.buffer;
   }
 
   /** Per bin of [k0, k1): power[k] += |X_k|^2 and inv[k] = 1 / |X_k| (0 for an empty bin); spectrum interleaved float32. */
@@ -150,9 +166,27 @@ export class GccKernels {
     this.x.magnitudes(this.ptr(spec), this.ptr(power), this.ptr(inv), k0, k1);
   }
 
+  /**
+   * The steered response at the grid points pts[0 .. count) (SrpDirectionModel.powerAt,
+   * ../direction/srp-search.ts): power[g] = sum over pairs p of the correlation table t
+   * interpolated at idx[g P + p] + frac[g P + p]; stamp[g] = hop.
+   */
+  srpPower(t: Float64Array, idx: Int32Array, frac: Float64Array, P: number, pts: Int32Array, count: number, power: Float64Array, stamp: Int32Array, hop: number): void {
+    this.x.srp_power(this.ptr(t), this.ptr(idx), this.ptr(frac), P, this.ptr(pts), count, this.ptr(power), this.ptr(stamp), hop);
+  }
+
   /** out[k] = w[k] * inv[k] over [k0, k1). */
   times(w: Float64Array, inv: Float64Array, out: Float64Array, k0: number, k1: number): void {
     this.x.times(this.ptr(w), this.ptr(inv), this.ptr(out), k0, k1);
+  }
+
+  /**
+   * The input of an inverse FFT of bins [k0, k1) of a pair's cross-spectrum, each bin scaled by
+   * binScale[k] (null: unscaled), as float32 interleaved (re, im) into `packed` (n floats): what
+   * RealFft.inverseLags writes into PFFFT's buffer (./fft.ts, RealFft.inversePackedLags takes it).
+   */
+  scalePack(pc: CrossSpectrum, binScale: Float64Array | null, packed: Float32Array, k0: number, k1: number): void {
+    this.x.scale_pack(this.ptr(pc.accRe), this.ptr(pc.accIm), binScale === null ? 0 : this.ptr(binScale), this.ptr(packed), k0, k1);
   }
 
   /** PairCorrelator.accumulate (./gcc.ts) on float32 spectra in this memory. */

@@ -62,6 +62,94 @@
         (f64.store (i32.add (local.get $out) (local.get $o))
           (f64.mul (f64.load (i32.add (local.get $w) (local.get $o))) (f64.load (i32.add (local.get $inv) (local.get $o))))))))
 
+  ;; The inverse FFT's input (RealFft.inverseLags, src/dsp/fft.ts): dst[2k] = re[k] * g[k] and
+  ;; dst[2k + 1] = im[k] * g[k] rounded to float32 (g = 0: no scaling), for bins [k0, k1).
+  (func (export "scale_pack") (param $re i32) (param $im i32) (param $g i32) (param $dst i32) (param $k0 i32) (param $k1 i32)
+    (local $k i32) (local $o i32) (local $r v128) (local $i v128) (local $sr f64) (local $si f64)
+    (local.set $k (local.get $k0))
+    (block $done
+      (loop $two
+        (br_if $done (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $k1)))
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (local.set $r (v128.load (i32.add (local.get $re) (local.get $o))))
+        (local.set $i (v128.load (i32.add (local.get $im) (local.get $o))))
+        (if (local.get $g)
+          (then
+            (local.set $r (f64x2.mul (local.get $r) (v128.load (i32.add (local.get $g) (local.get $o)))))
+            (local.set $i (f64x2.mul (local.get $i) (v128.load (i32.add (local.get $g) (local.get $o)))))))
+        (v128.store (i32.add (local.get $dst) (local.get $o))
+          (i8x16.shuffle 0 1 2 3 16 17 18 19 4 5 6 7 20 21 22 23
+            (f32x4.demote_f64x2_zero (local.get $r)) (f32x4.demote_f64x2_zero (local.get $i))))
+        (local.set $k (i32.add (local.get $k) (i32.const 2)))
+        (br $two)))
+    (if (i32.lt_s (local.get $k) (local.get $k1))
+      (then
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (local.set $sr (f64.load (i32.add (local.get $re) (local.get $o))))
+        (local.set $si (f64.load (i32.add (local.get $im) (local.get $o))))
+        (if (local.get $g)
+          (then
+            (local.set $sr (f64.mul (local.get $sr) (f64.load (i32.add (local.get $g) (local.get $o)))))
+            (local.set $si (f64.mul (local.get $si) (f64.load (i32.add (local.get $g) (local.get $o)))))))
+        (f32.store (i32.add (local.get $dst) (local.get $o)) (f32.demote_f64 (local.get $sr)))
+        (f32.store offset=4 (i32.add (local.get $dst) (local.get $o)) (f32.demote_f64 (local.get $si))))))
+
+  ;; Steered response (SrpDirectionModel.powerAt, src/direction/srp-search.ts) at `count` grid
+  ;; points listed in pts (int32), two points per step: power[g] = sum over the P pairs, in order, of
+  ;; y0 + frac * (t[j + 1] - y0) with j = idx[g P + p], y0 = t[j], frac = frac[g P + p]; and
+  ;; stamp[g] = hop (int32).
+  (func (export "srp_power") (param $t i32) (param $idx i32) (param $frac i32) (param $P i32) (param $pts i32) (param $count i32)
+    (param $power i32) (param $stamp i32) (param $hop i32)
+    (local $i i32) (local $g0 i32) (local $g1 i32) (local $o0 i32) (local $o1 i32) (local $p i32) (local $j0 i32) (local $j1 i32)
+    (local $s v128) (local $y0 v128) (local $y1 v128) (local $f v128) (local $ss f64) (local $sy f64)
+    (local.set $i (i32.const 0))
+    (block $done
+      (loop $two
+        (br_if $done (i32.gt_s (i32.add (local.get $i) (i32.const 2)) (local.get $count)))
+        (local.set $g0 (i32.load (i32.add (local.get $pts) (i32.shl (local.get $i) (i32.const 2)))))
+        (local.set $g1 (i32.load offset=4 (i32.add (local.get $pts) (i32.shl (local.get $i) (i32.const 2)))))
+        (local.set $o0 (i32.mul (local.get $g0) (local.get $P)))
+        (local.set $o1 (i32.mul (local.get $g1) (local.get $P)))
+        (local.set $s (v128.const i64x2 0 0))
+        (local.set $p (i32.const 0))
+        (block $pd
+          (loop $pl
+            (br_if $pd (i32.ge_s (local.get $p) (local.get $P)))
+            (local.set $j0 (i32.add (local.get $t) (i32.shl (i32.load (i32.add (local.get $idx) (i32.shl (i32.add (local.get $o0) (local.get $p)) (i32.const 2)))) (i32.const 3))))
+            (local.set $j1 (i32.add (local.get $t) (i32.shl (i32.load (i32.add (local.get $idx) (i32.shl (i32.add (local.get $o1) (local.get $p)) (i32.const 2)))) (i32.const 3))))
+            (local.set $y0 (f64x2.replace_lane 1 (v128.load64_splat (local.get $j0)) (f64.load (local.get $j1))))
+            (local.set $y1 (f64x2.replace_lane 1 (v128.load64_splat offset=8 (local.get $j0)) (f64.load offset=8 (local.get $j1))))
+            (local.set $f (f64x2.replace_lane 1
+              (v128.load64_splat (i32.add (local.get $frac) (i32.shl (i32.add (local.get $o0) (local.get $p)) (i32.const 3))))
+              (f64.load (i32.add (local.get $frac) (i32.shl (i32.add (local.get $o1) (local.get $p)) (i32.const 3))))))
+            (local.set $s (f64x2.add (local.get $s) (f64x2.add (local.get $y0) (f64x2.mul (local.get $f) (f64x2.sub (local.get $y1) (local.get $y0))))))
+            (local.set $p (i32.add (local.get $p) (i32.const 1)))
+            (br $pl)))
+        (f64.store (i32.add (local.get $power) (i32.shl (local.get $g0) (i32.const 3))) (f64x2.extract_lane 0 (local.get $s)))
+        (f64.store (i32.add (local.get $power) (i32.shl (local.get $g1) (i32.const 3))) (f64x2.extract_lane 1 (local.get $s)))
+        (i32.store (i32.add (local.get $stamp) (i32.shl (local.get $g0) (i32.const 2))) (local.get $hop))
+        (i32.store (i32.add (local.get $stamp) (i32.shl (local.get $g1) (i32.const 2))) (local.get $hop))
+        (local.set $i (i32.add (local.get $i) (i32.const 2)))
+        (br $two)))
+    (if (i32.lt_s (local.get $i) (local.get $count))
+      (then
+        (local.set $g0 (i32.load (i32.add (local.get $pts) (i32.shl (local.get $i) (i32.const 2)))))
+        (local.set $o0 (i32.mul (local.get $g0) (local.get $P)))
+        (local.set $ss (f64.const 0))
+        (local.set $p (i32.const 0))
+        (block $pd
+          (loop $pl
+            (br_if $pd (i32.ge_s (local.get $p) (local.get $P)))
+            (local.set $j0 (i32.add (local.get $t) (i32.shl (i32.load (i32.add (local.get $idx) (i32.shl (i32.add (local.get $o0) (local.get $p)) (i32.const 2)))) (i32.const 3))))
+            (local.set $sy (f64.load (local.get $j0)))
+            (local.set $ss (f64.add (local.get $ss) (f64.add (local.get $sy)
+              (f64.mul (f64.load (i32.add (local.get $frac) (i32.shl (i32.add (local.get $o0) (local.get $p)) (i32.const 3))))
+                (f64.sub (f64.load offset=8 (local.get $j0)) (local.get $sy))))))
+            (local.set $p (i32.add (local.get $p) (i32.const 1)))
+            (br $pl)))
+        (f64.store (i32.add (local.get $power) (i32.shl (local.get $g0) (i32.const 3))) (local.get $ss))
+        (i32.store (i32.add (local.get $stamp) (i32.shl (local.get $g0) (i32.const 2))) (local.get $hop)))))
+
   ;; PairCorrelator.accumulate (src/dsp/gcc.ts), two bins per step:
   ;;   g = wA[k] * invB[k]; ar[k] = m * ar[k] + (xr*yr + xi*yi) * g; ai[k] = m * ai[k] + (xr*yi - xi*yr) * g
   (func (export "accumulate") (param $a i32) (param $b i32) (param $wa i32) (param $ib i32) (param $ar i32) (param $ai i32)

@@ -6,6 +6,7 @@ import { makeBands } from '../../src/dsp/bands.js';
 import { pffft } from '../../src/dsp/pffft-backend.js';
 import { addBandScores, hopCoherence, PairCorrelator, refineLag } from '../../src/dsp/gcc.js';
 import { GccKernels, wasmKernelsAvailable } from '../../src/dsp/gcc-kernels.js';
+import { SrpDirectionModel } from '../../src/direction/srp-search.js';
 import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 
@@ -36,8 +37,8 @@ function filled(k: GccKernels, lag: number, rand: () => number): PairCorrelator 
 }
 
 describe('WebAssembly GCC kernels give the JavaScript kernels results bit for bit', () => {
-  it('load wherever PFFFT (WebAssembly SIMD) loads, unless BEARLINE_KERNELS=js', () => {
-    expect(wasmKernelsAvailable()).toBe(pffft !== null && process.env.BEARLINE_KERNELS !== 'js');
+  it('load wherever PFFFT (WebAssembly SIMD) loads, unless BEARLINE_KERNELS=js or BEARLINE_FFT=fftjs', () => {
+    expect(wasmKernelsAvailable()).toBe(pffft !== null && process.env.BEARLINE_KERNELS !== 'js' && process.env.BEARLINE_FFT !== 'fftjs');
   });
   const k = GccKernels.create(1 << 20);
   const run = k ? it : it.skip;
@@ -165,5 +166,32 @@ describe('the hop analyzer gives the same outputs, bit for bit, on the WebAssemb
       expect(a).toBe(snapshot(js.process(frames)));
     }
     expect(valid).toBeGreaterThan(50);
+  });
+});
+
+describe('the steered response search gives the same candidates on the WebAssembly and the JavaScript coarse pass', () => {
+  const preset = (p: string) => loadGeometryFile(fileURLToPath(new URL(`../../configs/arrays/${p}.json`, import.meta.url)));
+  const run = wasmKernelsAvailable() ? it : it.skip;
+  run.each(['square-10cm', 'tetrahedron-10cm', 'circle8-r5cm'])('%s', (name) => {
+    const geometry = preset(name);
+    const wasm = new SrpDirectionModel(geometry, 48000, 343, 0.1, 1024);
+    const js = new SrpDirectionModel(geometry, 48000, 343, 0.1, 1024, {}, 'js');
+    const rand = seeded(3);
+    const pcs = wasm.pairs.map((_, p) => new PairCorrelator(1024, wasm.maxLag[p]!));
+    const [lw, lj] = [new Float64Array(8 * pcs.length), new Float64Array(8 * pcs.length)];
+    const [sw, sj] = [new Float64Array(8), new Float64Array(8)];
+    let total = 0;
+    for (let hop = 0; hop < 40; hop++) {
+      // a peak at a random direction's lags plus noise, for every pair
+      const shift = 6 * rand();
+      for (const pc of pcs) for (let i = 0; i < 1024; i++) pc.gcc[i] = rand() + Math.exp(-(((i > 512 ? i - 1024 : i) - shift) ** 2) / 8);
+      const cw = wasm.findCandidates(pcs, 6, lw, sw);
+      const cj = js.findCandidates(pcs, 6, lj, sj);
+      expect(cw).toBe(cj);
+      expect(Array.from(lw)).toEqual(Array.from(lj));
+      expect(Array.from(sw)).toEqual(Array.from(sj));
+      total += cw;
+    }
+    expect(total).toBeGreaterThan(40);
   });
 });
