@@ -115,7 +115,7 @@ export class HopAnalyzer {
   /** The inverse FFT's input, scaled and packed by the kernels (null on the JavaScript path). */
   private readonly kPacked: Float32Array | null;
   private readonly window: Float64Array;
-  /** Two windowed frames (FFT inputs): channels are windowed two at a time. */
+  /** Four windowed frames (FFT inputs): channels are windowed up to four at a time. */
   private readonly windowed: FftBuffer[];
   /** Interleaved half spectrum (re, im) per channel, in the FFT's own buffers. */
   private readonly spectra: FftBuffer[];
@@ -154,6 +154,8 @@ export class HopAnalyzer {
   private readonly refineScratch: Float64Array;
   private readonly refineActive: Uint8Array;
   private readonly fresh2 = new Float64Array(2);
+  /** The sums of squares of the channels windowed together (spectra stage). */
+  private readonly meanSquares = new Float64Array(4);
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
   private readonly order: Int32Array;
   /** The bands supporting the candidate being refined (reused). */
@@ -204,7 +206,7 @@ export class HopAnalyzer {
     this.kSpectra = k ? Array.from({ length: channels }, () => k.f32(n)) : [];
     this.kPacked = k ? k.f32(n) : null;
     this.window = hannWindow(n);
-    this.windowed = [this.fft.createInput(), this.fft.createInput()];
+    this.windowed = Array.from({ length: Math.min(4, channels) }, () => this.fft.createInput());
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
     this.invMag = Array.from({ length: channels }, () => f64(bins));
     this.weightedInv = Array.from({ length: channels }, (_, c) => (this.leadsPair[c] ? f64(bins) : new Float64Array(0)));
@@ -316,16 +318,40 @@ export class HopAnalyzer {
     const window = this.window;
     const C = this.channels;
     power.fill(0, k0, k1);
-    for (let c = 0; c < C; c += 2) {
-      // Two channels per pass over the frame when there are two left: each channel's sum of
-      // squares runs in its own order, as one at a time (the same figures), and the two sums
-      // overlap in the processor.
-      const two = c + 1 < C;
+    const ms = this.meanSquares;
+    for (let c = 0; c < C; ) {
+      // Up to four channels per pass over the frame: each channel's sum of squares runs in its
+      // own order, as one at a time (the same figures), and the sums overlap in the processor.
+      const m = C - c >= 4 ? 4 : C - c >= 2 ? 2 : 1;
       const x0 = frames[c]!;
       const w0 = this.windowed[0]!;
       let ms0 = 0;
       let ms1 = 0;
-      if (two) {
+      let ms2 = 0;
+      let ms3 = 0;
+      if (m === 4) {
+        const x1 = frames[c + 1]!;
+        const x2 = frames[c + 2]!;
+        const x3 = frames[c + 3]!;
+        const w1 = this.windowed[1]!;
+        const w2 = this.windowed[2]!;
+        const w3 = this.windowed[3]!;
+        for (let i = 0; i < n; i++) {
+          const v0 = x0[i]!;
+          const v1 = x1[i]!;
+          const v2 = x2[i]!;
+          const v3 = x3[i]!;
+          const h = window[i]!;
+          ms0 += v0 * v0;
+          ms1 += v1 * v1;
+          ms2 += v2 * v2;
+          ms3 += v3 * v3;
+          w0[i] = v0 * h;
+          w1[i] = v1 * h;
+          w2[i] = v2 * h;
+          w3[i] = v3 * h;
+        }
+      } else if (m === 2) {
         const x1 = frames[c + 1]!;
         const w1 = this.windowed[1]!;
         for (let i = 0; i < n; i++) {
@@ -344,11 +370,15 @@ export class HopAnalyzer {
           w0[i] = v0 * window[i]!;
         }
       }
-      for (let j = 0; j < (two ? 2 : 1); j++) {
+      ms[0] = ms0;
+      ms[1] = ms1;
+      ms[2] = ms2;
+      ms[3] = ms3;
+      for (let j = 0; j < m; j++) {
         const ch = c + j;
-        const ms = (j === 0 ? ms0 : ms1) / n;
-        totalMs += ms;
-        res.channelLevelsDbfs[ch] = toDb(ms);
+        const meanSquare = ms[j]! / n;
+        totalMs += meanSquare;
+        res.channelLevelsDbfs[ch] = toDb(meanSquare);
         const spec = this.spectra[ch]!;
         this.fft.forwardInterleaved(this.windowed[j]!, spec);
         const inv = this.invMag[ch]!;
@@ -366,6 +396,7 @@ export class HopAnalyzer {
           inv[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
         }
       }
+      c += m;
     }
     res.levelDbfs = toDb(totalMs / this.channels);
   }

@@ -1,5 +1,5 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
-import { GccKernels } from '../dsp/gcc-kernels.js';
+import { GccKernels, SRP_SEARCH_ARGS } from '../dsp/gcc-kernels.js';
 import { micPairs, type ArrayGeometry, type MicPair } from '../geometry/array-geometry.js';
 import { arrayMirror, type ArrayMirror } from '../geometry/array-mirror.js';
 import { arrayShape, type ArrayShape } from '../geometry/array-shape.js';
@@ -49,6 +49,9 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly power: Float64Array;
   /** The coarse pass in WebAssembly (../dsp/gcc-kernels.ts, bit-identical), null on the JavaScript path; its arrays live in its memory. */
   private readonly kernels: GccKernels | null;
+  /** srp_search's argument block and outputs (kernels only). */
+  private readonly searchArgs: Int32Array | null;
+  private readonly foundScores: Float64Array | null;
   /** Hop counter and the hop at which each grid point's power was last computed. */
   private hop = 0;
   private readonly stamp: Int32Array;
@@ -56,9 +59,9 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly coarse: Int32Array;
   private readonly cnbStart: Int32Array;
   private readonly cnbList: Int32Array;
-  private readonly starts = new Int32Array(12);
-  private readonly startPower = new Float64Array(12);
-  private readonly found = new Int32Array(16);
+  private readonly starts: Int32Array;
+  private readonly startPower: Float64Array;
+  private readonly found: Int32Array;
   private readonly lsInverseFlat: Float64Array;
   private readonly lsRhs: Float64Array;
   /** Pair baselines projected on the subspace basis, [p * d + i]. */
@@ -100,8 +103,14 @@ export class SrpDirectionModel implements DirectionModel {
       tableSize += 2 * this.maxLag[p]! + 2;
     }
     // The coarse subset (below) has fewer than G points.
-    const k = kernelPath === 'auto' ? GccKernels.create(GccKernels.bytesFor([G * P, tableSize, G], [G * P, G, G])) : null;
+    const nb = neighbourLists(this.gridDirs, step);
+    const nbTotal = nb.reduce((sum, list) => sum + list.length, 0);
+    const k = kernelPath === 'auto' ? GccKernels.create(GccKernels.bytesFor([G * P, tableSize, G, 12, 16], [G * P, G, G, G + 1, nbTotal, 2 * G + 1, 12 * G, 12, 16, SRP_SEARCH_ARGS])) : null;
     this.kernels = k;
+    this.starts = k ? k.i32(12) : new Int32Array(12);
+    this.startPower = k ? k.f64(12) : new Float64Array(12);
+    this.found = k ? k.i32(16) : new Int32Array(16);
+    this.foundScores = k ? k.f64(16) : null;
     this.gridLag = new Float64Array(G * P);
     this.gridIdx = k ? k.i32(G * P) : new Int32Array(G * P);
     this.gridFrac = k ? k.f64(G * P) : new Float64Array(G * P);
@@ -116,10 +125,9 @@ export class SrpDirectionModel implements DirectionModel {
         this.gridFrac[g * P + p] = lag - i;
       }
     }
-    const nb = neighbourLists(this.gridDirs, step);
-    this.nbStart = new Int32Array(G + 1);
+    this.nbStart = k ? k.i32(G + 1) : new Int32Array(G + 1);
     for (let g = 0; g < G; g++) this.nbStart[g + 1] = this.nbStart[g]! + nb[g]!.length;
-    this.nbList = new Int32Array(this.nbStart[G]!);
+    this.nbList = k ? k.i32(this.nbStart[G]!) : new Int32Array(this.nbStart[G]!);
     for (let g = 0; g < G; g++) this.nbList.set(nb[g]!, this.nbStart[g]!);
     this.power = k ? k.f64(G) : new Float64Array(G);
     this.stamp = (k ? k.i32(G) : new Int32Array(G)).fill(-1);
@@ -142,10 +150,20 @@ export class SrpDirectionModel implements DirectionModel {
     this.coarse = k ? k.i32(coarse.length) : new Int32Array(coarse.length);
     this.coarse.set(coarse);
     const cnb = neighbourLists(Array.from(this.coarse, (g) => this.gridDirs[g]!), 2 * step);
-    this.cnbStart = new Int32Array(this.coarse.length + 1);
+    const cnbTotal = cnb.reduce((sum, list) => sum + list.length, 0);
+    this.cnbStart = k ? k.i32(this.coarse.length + 1) : new Int32Array(this.coarse.length + 1);
     for (let i = 0; i < this.coarse.length; i++) this.cnbStart[i + 1] = this.cnbStart[i]! + cnb[i]!.length;
-    this.cnbList = new Int32Array(this.cnbStart[this.coarse.length]!);
+    if (k && cnbTotal > 12 * G) throw new Error('coarse neighbour lists larger than reserved');
+    this.cnbList = k ? k.i32(cnbTotal) : new Int32Array(cnbTotal);
     for (let i = 0; i < this.coarse.length; i++) this.cnbList.set(cnb[i]!, this.cnbStart[i]!);
+    if (k) {
+      const args = (this.searchArgs = k.i32(SRP_SEARCH_ARGS));
+      const at = (v: Float64Array | Int32Array) => k.address(v);
+      args.set([at(this.lagTable), at(this.gridIdx), at(this.gridFrac), P, at(this.power), at(this.stamp), 0, at(this.coarse), this.coarse.length,
+        at(this.cnbStart), at(this.cnbList), at(this.nbStart), at(this.nbList), this.starts.length, at(this.starts), at(this.startPower), at(this.found), at(this.foundScores!), 0]);
+      const theirs = [this.lagTable, this.gridIdx, this.gridFrac, this.power, this.stamp, this.coarse, this.cnbStart, this.cnbList, this.nbStart, this.nbList, this.starts, this.startPower, this.found, this.foundScores!];
+      if (!theirs.every((v) => k.owns(v))) throw new Error('SrpDirectionModel: a kernel array is outside the kernels memory');
+    } else this.searchArgs = null;
     // Least squares for the direction from lags, in the subspace the array spans.
     this.basis = shape === 'solid' ? [[1, 0, 0], [0, 1, 0], [0, 0, 1]] : shape === 'plane' ? planeBasis(axis) : [axis];
     const d = this.basis.length;
@@ -217,8 +235,22 @@ export class SrpDirectionModel implements DirectionModel {
     this.hop++;
     this.fillLagTable(correlators);
     const coarse = this.coarse;
-    if (this.kernels) this.kernels.srpPower(this.lagTable, this.gridIdx, this.gridFrac, P, coarse, coarse.length, this.power, this.stamp, this.hop);
-    else for (let i = 0; i < coarse.length; i++) this.powerCached(coarse[i]!);
+    const kern = this.kernels;
+    if (kern) {
+      kern.srpPower(this.lagTable, this.gridIdx, this.gridFrac, P, coarse, 0, coarse.length, this.power, this.stamp, this.hop);
+      const args = this.searchArgs!;
+      args[6] = this.hop;
+      args[18] = Math.min(maxCount, this.found.length);
+      const found = kern.srpSearch(args);
+      const scores = this.foundScores!;
+      for (let pos = 0; pos < found; pos++) {
+        scoresOut[pos] = scores[pos]!;
+        const g = this.found[pos]!;
+        for (let p = 0; p < P; p++) lagsOut[pos * P + p] = this.gridLag[p * G + g]!;
+      }
+      return found;
+    }
+    for (let i = 0; i < coarse.length; i++) this.powerCached(coarse[i]!);
     // Coarse local maxima, best first.
     const starts = this.starts;
     const startPw = this.startPower;

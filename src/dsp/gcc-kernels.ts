@@ -32,6 +32,7 @@ interface KernelExports {
   magnitudes(spec: number, power: number, inv: number, k0: number, k1: number): void;
   times(w: number, inv: number, out: number, k0: number, k1: number): void;
   srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
+  srp_search(args: number): number;
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
   accumulate(a: number, b: number, wa: number, ib: number, ar: number, ai: number, k0: number, k1: number, m: number): void;
   band_scores4(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
@@ -70,6 +71,8 @@ export function wasmKernelsAvailable(): boolean {
 }
 
 const ALIGN = 16;
+/** Numbers in srp_search's argument block. */
+export const SRP_SEARCH_ARGS = 19;
 /** Scratch for phasors: 4 doubles of steps, then 4 per band (32 bands at most), and more. */
 const SCRATCH_DOUBLES = 4 + 4 * 64 + 16;
 
@@ -167,12 +170,29 @@ export class GccKernels {
   }
 
   /**
-   * The steered response at the grid points pts[0 .. count) (SrpDirectionModel.powerAt,
+   * The steered response at the grid points pts[from .. from + count) (SrpDirectionModel.powerAt,
    * ../direction/srp-search.ts): power[g] = sum over pairs p of the correlation table t
    * interpolated at idx[g P + p] + frac[g P + p]; stamp[g] = hop.
    */
-  srpPower(t: Float64Array, idx: Int32Array, frac: Float64Array, P: number, pts: Int32Array, count: number, power: Float64Array, stamp: Int32Array, hop: number): void {
-    this.x.srp_power(this.ptr(t), this.ptr(idx), this.ptr(frac), P, this.ptr(pts), count, this.ptr(power), this.ptr(stamp), hop);
+  srpPower(t: Float64Array, idx: Int32Array, frac: Float64Array, P: number, pts: Int32Array, from: number, count: number, power: Float64Array, stamp: Int32Array, hop: number): void {
+    this.x.srp_power(this.ptr(t), this.ptr(idx), this.ptr(frac), P, this.ptr(pts) + 4 * from, count, this.ptr(power), this.ptr(stamp), hop);
+  }
+
+  /**
+   * The rest of the steered-response search after the coarse pass (SrpDirectionModel.findCandidates,
+   * ../direction/srp-search.ts: coarse maxima, climbs, distinct end points best first). `args`
+   * (from i32(SRP_SEARCH_ARGS)) holds, in order, the addresses of the lag table, grid indices and
+   * fractions, P, the powers, stamps, the hop, the coarse points and their count, the coarse and
+   * fine neighbour lists (start, list, start, list), the starts' capacity, starts and their powers,
+   * found points and scores (the outputs), and maxCount. Returns how many were found.
+   */
+  srpSearch(args: Int32Array): number {
+    return this.x.srp_search(this.ptr(args));
+  }
+
+  /** The address of an array in this memory (for argument blocks). */
+  address(view: Float64Array | Float32Array | Int32Array | Uint8Array): number {
+    return view.byteOffset;
   }
 
   /** out[k] = w[k] * inv[k] over [k0, k1). */

@@ -150,6 +150,160 @@
         (f64.store (i32.add (local.get $power) (i32.shl (local.get $g0) (i32.const 3))) (local.get $ss))
         (i32.store (i32.add (local.get $stamp) (i32.shl (local.get $g0) (i32.const 2))) (local.get $hop)))))
 
+  ;; The steered response at one grid point g, as srp_power (scalar), stored with its stamp;
+  ;; returns it. A point already stamped with this hop is read, not recomputed.
+  (func $srp_at (param $t i32) (param $idx i32) (param $frac i32) (param $P i32) (param $g i32)
+    (param $power i32) (param $stamp i32) (param $hop i32) (result f64)
+    (local $o i32) (local $p i32) (local $j i32) (local $s f64) (local $y f64)
+    (if (i32.eq (i32.load (i32.add (local.get $stamp) (i32.shl (local.get $g) (i32.const 2)))) (local.get $hop))
+      (then (return (f64.load (i32.add (local.get $power) (i32.shl (local.get $g) (i32.const 3)))))))
+    (local.set $o (i32.mul (local.get $g) (local.get $P)))
+    (local.set $s (f64.const 0))
+    (local.set $p (i32.const 0))
+    (block $pd
+      (loop $pl
+        (br_if $pd (i32.ge_s (local.get $p) (local.get $P)))
+        (local.set $j (i32.add (local.get $t) (i32.shl (i32.load (i32.add (local.get $idx) (i32.shl (i32.add (local.get $o) (local.get $p)) (i32.const 2)))) (i32.const 3))))
+        (local.set $y (f64.load (local.get $j)))
+        (local.set $s (f64.add (local.get $s) (f64.add (local.get $y)
+          (f64.mul (f64.load (i32.add (local.get $frac) (i32.shl (i32.add (local.get $o) (local.get $p)) (i32.const 3))))
+            (f64.sub (f64.load offset=8 (local.get $j)) (local.get $y))))))
+        (local.set $p (i32.add (local.get $p) (i32.const 1)))
+        (br $pl)))
+    (f64.store (i32.add (local.get $power) (i32.shl (local.get $g) (i32.const 3))) (local.get $s))
+    (i32.store (i32.add (local.get $stamp) (i32.shl (local.get $g) (i32.const 2))) (local.get $hop))
+    (local.get $s))
+
+  ;; The rest of SrpDirectionModel.findCandidates after the coarse pass (srp_power over the coarse
+  ;; points), as its JavaScript: the coarse local maxima (neighbour lists cnbStart/cnbList over
+  ;; the coarse points; ties go to the lower index), best first, at most `want` of them (starts,
+  ;; startPw: scratch); from each a climb on the fine grid (nbStart/nbList) to the fine local
+  ;; maximum, 64 steps at most; distinct end points, best first, at most maxCount, into
+  ;; found (int32) and scores (f64). Returns how many were found. `a` points to the int32 argument
+  ;; block [t idx frac P power stamp hop coarse C cnbStart cnbList nbStart nbList want starts startPw found scores maxCount].
+  (func (export "srp_search") (param $a i32) (result i32)
+    (local $t i32) (local $idx i32) (local $frac i32) (local $P i32) (local $power i32) (local $stamp i32) (local $hop i32)
+    (local $coarse i32) (local $C i32) (local $cnbStart i32) (local $cnbList i32) (local $nbStart i32) (local $nbList i32)
+    (local $want i32) (local $starts i32) (local $startPw i32) (local $found i32) (local $scores i32) (local $maxCount i32)
+    (local $i i32) (local $g i32) (local $k i32) (local $j i32) (local $e i32) (local $pos i32) (local $n i32) (local $nf i32)
+    (local $isMax i32) (local $step i32) (local $best i32) (local $dup i32) (local $f i32)
+    (local $v f64) (local $w f64) (local $bestV f64)
+    (local.set $t (i32.load (local.get $a)))
+    (local.set $idx (i32.load offset=4 (local.get $a)))
+    (local.set $frac (i32.load offset=8 (local.get $a)))
+    (local.set $P (i32.load offset=12 (local.get $a)))
+    (local.set $power (i32.load offset=16 (local.get $a)))
+    (local.set $stamp (i32.load offset=20 (local.get $a)))
+    (local.set $hop (i32.load offset=24 (local.get $a)))
+    (local.set $coarse (i32.load offset=28 (local.get $a)))
+    (local.set $C (i32.load offset=32 (local.get $a)))
+    (local.set $cnbStart (i32.load offset=36 (local.get $a)))
+    (local.set $cnbList (i32.load offset=40 (local.get $a)))
+    (local.set $nbStart (i32.load offset=44 (local.get $a)))
+    (local.set $nbList (i32.load offset=48 (local.get $a)))
+    (local.set $want (i32.load offset=52 (local.get $a)))
+    (local.set $starts (i32.load offset=56 (local.get $a)))
+    (local.set $startPw (i32.load offset=60 (local.get $a)))
+    (local.set $found (i32.load offset=64 (local.get $a)))
+    (local.set $scores (i32.load offset=68 (local.get $a)))
+    (local.set $maxCount (i32.load offset=72 (local.get $a)))
+    ;; coarse local maxima
+    (local.set $n (i32.const 0))
+    (local.set $i (i32.const 0))
+    (block $cd
+      (loop $cl
+        (br_if $cd (i32.ge_s (local.get $i) (local.get $C)))
+        (block $next
+          (local.set $g (i32.load (i32.add (local.get $coarse) (i32.shl (local.get $i) (i32.const 2)))))
+          (local.set $v (f64.load (i32.add (local.get $power) (i32.shl (local.get $g) (i32.const 3)))))
+          (br_if $next (i32.and (i32.eq (local.get $n) (local.get $want))
+            (f64.le (local.get $v) (f64.load (i32.add (local.get $startPw) (i32.shl (i32.sub (local.get $n) (i32.const 1)) (i32.const 3)))))))
+          (local.set $j (i32.load (i32.add (local.get $cnbStart) (i32.shl (local.get $i) (i32.const 2)))))
+          (local.set $e (i32.load offset=4 (i32.add (local.get $cnbStart) (i32.shl (local.get $i) (i32.const 2)))))
+          (block $nd
+            (loop $nl
+              (br_if $nd (i32.ge_s (local.get $j) (local.get $e)))
+              (local.set $k (i32.load (i32.add (local.get $coarse) (i32.shl (i32.load (i32.add (local.get $cnbList) (i32.shl (local.get $j) (i32.const 2)))) (i32.const 2)))))
+              (local.set $w (f64.load (i32.add (local.get $power) (i32.shl (local.get $k) (i32.const 3)))))
+              (br_if $next (f64.gt (local.get $w) (local.get $v)))
+              (br_if $next (i32.and (f64.eq (local.get $w) (local.get $v)) (i32.lt_s (local.get $k) (local.get $g))))
+              (local.set $j (i32.add (local.get $j) (i32.const 1)))
+              (br $nl)))
+          (local.set $pos (select (local.get $n) (i32.sub (local.get $want) (i32.const 1)) (i32.lt_s (local.get $n) (local.get $want))))
+          (block $sd
+            (loop $sl
+              (br_if $sd (i32.le_s (local.get $pos) (i32.const 0)))
+              (br_if $sd (i32.eqz (f64.lt (f64.load (i32.add (local.get $startPw) (i32.shl (i32.sub (local.get $pos) (i32.const 1)) (i32.const 3)))) (local.get $v))))
+              (f64.store (i32.add (local.get $startPw) (i32.shl (local.get $pos) (i32.const 3)))
+                (f64.load (i32.add (local.get $startPw) (i32.shl (i32.sub (local.get $pos) (i32.const 1)) (i32.const 3)))))
+              (i32.store (i32.add (local.get $starts) (i32.shl (local.get $pos) (i32.const 2)))
+                (i32.load (i32.add (local.get $starts) (i32.shl (i32.sub (local.get $pos) (i32.const 1)) (i32.const 2)))))
+              (local.set $pos (i32.sub (local.get $pos) (i32.const 1)))
+              (br $sl)))
+          (f64.store (i32.add (local.get $startPw) (i32.shl (local.get $pos) (i32.const 3))) (local.get $v))
+          (i32.store (i32.add (local.get $starts) (i32.shl (local.get $pos) (i32.const 2))) (local.get $g))
+          (if (i32.lt_s (local.get $n) (local.get $want)) (then (local.set $n (i32.add (local.get $n) (i32.const 1))))))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $cl)))
+    ;; climbs
+    (local.set $nf (i32.const 0))
+    (local.set $i (i32.const 0))
+    (block $xd
+      (loop $xl
+        (br_if $xd (i32.ge_s (local.get $i) (local.get $n)))
+        (block $xnext
+          (local.set $g (i32.load (i32.add (local.get $starts) (i32.shl (local.get $i) (i32.const 2)))))
+          (local.set $v (f64.load (i32.add (local.get $power) (i32.shl (local.get $g) (i32.const 3)))))
+          (local.set $step (i32.const 0))
+          (block $climbed
+            (loop $climb
+              (br_if $climbed (i32.ge_s (local.get $step) (i32.const 64)))
+              (local.set $best (local.get $g))
+              (local.set $bestV (local.get $v))
+              (local.set $j (i32.load (i32.add (local.get $nbStart) (i32.shl (local.get $g) (i32.const 2)))))
+              (local.set $e (i32.load offset=4 (i32.add (local.get $nbStart) (i32.shl (local.get $g) (i32.const 2)))))
+              (block $nd2
+                (loop $nl2
+                  (br_if $nd2 (i32.ge_s (local.get $j) (local.get $e)))
+                  (local.set $k (i32.load (i32.add (local.get $nbList) (i32.shl (local.get $j) (i32.const 2)))))
+                  (local.set $w (call $srp_at (local.get $t) (local.get $idx) (local.get $frac) (local.get $P) (local.get $k) (local.get $power) (local.get $stamp) (local.get $hop)))
+                  (if (f64.gt (local.get $w) (local.get $bestV))
+                    (then (local.set $bestV (local.get $w)) (local.set $best (local.get $k))))
+                  (local.set $j (i32.add (local.get $j) (i32.const 1)))
+                  (br $nl2)))
+              (br_if $climbed (i32.eq (local.get $best) (local.get $g)))
+              (local.set $g (local.get $best))
+              (local.set $v (local.get $bestV))
+              (local.set $step (i32.add (local.get $step) (i32.const 1)))
+              (br $climb)))
+          ;; a distinct end point?
+          (local.set $f (i32.const 0))
+          (block $fd
+            (loop $fl
+              (br_if $fd (i32.ge_s (local.get $f) (local.get $nf)))
+              (br_if $xnext (i32.eq (i32.load (i32.add (local.get $found) (i32.shl (local.get $f) (i32.const 2)))) (local.get $g)))
+              (local.set $f (i32.add (local.get $f) (i32.const 1)))
+              (br $fl)))
+          (br_if $xnext (i32.and (i32.eq (local.get $nf) (local.get $maxCount))
+            (f64.le (local.get $v) (f64.load (i32.add (local.get $scores) (i32.shl (i32.sub (local.get $nf) (i32.const 1)) (i32.const 3)))))))
+          (local.set $pos (select (local.get $nf) (i32.sub (local.get $maxCount) (i32.const 1)) (i32.lt_s (local.get $nf) (local.get $maxCount))))
+          (block $sd2
+            (loop $sl2
+              (br_if $sd2 (i32.le_s (local.get $pos) (i32.const 0)))
+              (br_if $sd2 (i32.eqz (f64.lt (f64.load (i32.add (local.get $scores) (i32.shl (i32.sub (local.get $pos) (i32.const 1)) (i32.const 3)))) (local.get $v))))
+              (f64.store (i32.add (local.get $scores) (i32.shl (local.get $pos) (i32.const 3)))
+                (f64.load (i32.add (local.get $scores) (i32.shl (i32.sub (local.get $pos) (i32.const 1)) (i32.const 3)))))
+              (i32.store (i32.add (local.get $found) (i32.shl (local.get $pos) (i32.const 2)))
+                (i32.load (i32.add (local.get $found) (i32.shl (i32.sub (local.get $pos) (i32.const 1)) (i32.const 2)))))
+              (local.set $pos (i32.sub (local.get $pos) (i32.const 1)))
+              (br $sl2)))
+          (f64.store (i32.add (local.get $scores) (i32.shl (local.get $pos) (i32.const 3))) (local.get $v))
+          (i32.store (i32.add (local.get $found) (i32.shl (local.get $pos) (i32.const 2))) (local.get $g))
+          (if (i32.lt_s (local.get $nf) (local.get $maxCount)) (then (local.set $nf (i32.add (local.get $nf) (i32.const 1))))))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $xl)))
+    (local.get $nf))
+
   ;; PairCorrelator.accumulate (src/dsp/gcc.ts), two bins per step:
   ;;   g = wA[k] * invB[k]; ar[k] = m * ar[k] + (xr*yr + xi*yi) * g; ai[k] = m * ai[k] + (xr*yi - xi*yr) * g
   (func (export "accumulate") (param $a i32) (param $b i32) (param $wa i32) (param $ib i32) (param $ar i32) (param $ai i32)
