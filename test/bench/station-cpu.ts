@@ -7,7 +7,7 @@
  *     on (--log-dir, --quiet), fed raw PCM at real-time pace (20 ms blocks on a fixed
  *     schedule); the CPU time of the listen process (/proc/PID/stat, user + system) over the
  *     wall time after the first WARM_S seconds (start-up and JIT warm-up left out), with the
- *     defaults (stdin collected every 0.05 s), with --profile station-low-cpu (every 0.25 s, at
+ *     defaults (stdin collected every 0.1 s), with --profile station-low-cpu (every 0.25 s, at
  *     most what fills three quarters of a 64 KiB pipe: 0.128 s here) and with the defaults
  *     reading every write as it arrives (--read-every 0).
  * Report only: nothing here passes or fails on a time. The machine may be shared: the share of
