@@ -194,10 +194,12 @@ export class HopAnalyzer {
       this.fft.backend === 'pffft' && kernelPath === 'auto'
         ? GccKernels.create(
             GccKernels.bytesFor(
-              [...new Array<number>(channels + leaders + 3 + 2 * P).fill(bins), options.bands * candidates, options.bands],
+              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands],
               new Array<number>(channels + 1).fill(n),
               [options.bands],
-            ) + 8 * options.bands,
+            ) +
+              8 * options.bands +
+              OnsetWeigher.kernelBytes(bins),
           )
         : null;
     const k = this.kernels;
@@ -212,7 +214,7 @@ export class HopAnalyzer {
     this.weightedInv = Array.from({ length: channels }, (_, c) => (this.leadsPair[c] ? f64(bins) : new Float64Array(0)));
     this.power = f64(bins);
     this.weights = f64(bins);
-    this.weightAcc = new Float64Array(bins);
+    this.weightAcc = f64(bins);
     this.bands = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
     this.bandWeight = new Float64Array(options.bands);
     this.binScale = f64(bins);
@@ -224,7 +226,7 @@ export class HopAnalyzer {
       backgroundDecay: Math.exp(-hopS / options.backgroundS),
       floorRise: 10 ** ((options.floorRiseDbS * hopS) / 10),
       fullPresence: 4,
-    });
+    }, k);
     this.correlators = model.pairs.map((_, p) => new PairCorrelator(n, model.maxLag[p]!, k ? { accRe: k.f64(bins), accIm: k.f64(bins) } : undefined));
     this.candLags = new Float64Array(candidates * P);
     this.candScores = new Float64Array(candidates);

@@ -33,6 +33,7 @@ interface KernelExports {
   times(w: number, inv: number, out: number, k0: number, k1: number): void;
   srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
   srp_search(args: number): number;
+  onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number): number;
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
   accumulate(a: number, b: number, wa: number, ib: number, ar: number, ai: number, k0: number, k1: number, m: number): void;
   band_scores4(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
@@ -193,6 +194,15 @@ export class GccKernels {
   /** The address of an array in this memory (for argument blocks). */
   address(view: Float64Array | Float32Array | Int32Array | Uint8Array): number {
     return view.byteOffset;
+  }
+
+  /**
+   * OnsetWeigher.update (./onset.ts) after its first hop: the background, noise floor and
+   * smoothed power per bin updated, the weights written; returns the onset strength. `q` holds
+   * [invRise, invPresence, floor, 1 - floor, backgroundDecay, 1 - backgroundDecay, floorRise].
+   */
+  onsetUpdate(power: Float64Array, bg: Float64Array, nf: Float64Array, sm: Float64Array, weights: Float64Array, k0: number, k1: number, q: Float64Array): number {
+    return this.x.onset_update(this.ptr(power), this.ptr(bg), this.ptr(nf), this.ptr(sm), this.ptr(weights), k0, k1, this.ptr(q));
   }
 
   /** out[k] = w[k] * inv[k] over [k0, k1). */

@@ -5,6 +5,7 @@ import { HopAnalyzer, type HopResult } from '../../src/analysis/hop-analyzer.js'
 import { makeBands } from '../../src/dsp/bands.js';
 import { pffft } from '../../src/dsp/pffft-backend.js';
 import { addBandScores, hopCoherence, PairCorrelator, refineLag } from '../../src/dsp/gcc.js';
+import { OnsetWeigher } from '../../src/dsp/onset.js';
 import { GccKernels, wasmKernelsAvailable } from '../../src/dsp/gcc-kernels.js';
 import { SrpDirectionModel } from '../../src/direction/srp-search.js';
 import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geometry.js';
@@ -77,6 +78,25 @@ describe('WebAssembly GCC kernels give the JavaScript kernels results bit for bi
     }
     k!.refineLags([pcs[2]!], n, use, start, 2, out, new Float64Array(2), new Uint8Array(1));
     expect(out[0]).toBe(refineLag(pcs[2]!, bands, use, start[2]!));
+  });
+
+  run.each([[3, 257], [4, 257], [3, 256]] as const)('onset and presence weights over bins %i to %i, 40 hops of rising and falling power', (k0, k1) => {
+    const settings = { floor: 0.3, fullRise: 4, backgroundDecay: 0.8, floorRise: 1.002, fullPresence: 4 };
+    const js = new OnsetWeigher(bins, settings);
+    const wasm = new OnsetWeigher(bins, settings, k!);
+    const power = k!.f64(bins);
+    const [wj, ww] = [new Float64Array(bins), k!.f64(bins)];
+    let rising = 0;
+    for (let hop = 0; hop < 40; hop++) {
+      const level = hop % 10 < 3 ? 30 : 1; // a call every 10 hops over a steady floor
+      for (let i = 0; i < bins; i++) power[i] = level * (1 + rand()) ** 2 * (i % 7 === 0 ? 0 : 1);
+      const a = js.update(power, k0, k1, wj);
+      const b = wasm.update(power, k0, k1, ww);
+      expect(b).toBe(a);
+      if (a > 0.5) rising++;
+      for (let i = k0; i < k1; i++) expect(ww[i]).toBe(wj[i]);
+    }
+    expect(rising).toBeGreaterThan(2);
   });
 
   run('magnitudes, weights x 1/|X|, the cross-spectrum memory and the hop coherence on float32 spectra', () => {
