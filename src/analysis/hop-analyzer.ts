@@ -114,6 +114,8 @@ export class HopAnalyzer {
   private readonly kSpectra: Float32Array[];
   /** The inverse FFT's input, scaled and packed by the kernels (null on the JavaScript path). */
   private readonly kPacked: Float32Array | null;
+  /** The bands' sums of power and of the noise floor (the kernels' weight stage). */
+  private readonly kBandSums: Float64Array[];
   private readonly window: Float64Array;
   /** Four windowed frames (FFT inputs): channels are windowed up to four at a time. */
   private readonly windowed: FftBuffer[];
@@ -194,7 +196,7 @@ export class HopAnalyzer {
       this.fft.backend === 'pffft' && kernelPath === 'auto'
         ? GccKernels.create(
             GccKernels.bytesFor(
-              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands],
+              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands],
               new Array<number>(channels + 1).fill(n),
               [options.bands],
             ) +
@@ -207,6 +209,7 @@ export class HopAnalyzer {
     if (k) k.setBands(makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands));
     this.kSpectra = k ? Array.from({ length: channels }, () => k.f32(n)) : [];
     this.kPacked = k ? k.f32(n) : null;
+    this.kBandSums = k ? [k.f64(options.bands), k.f64(options.bands)] : [];
     this.window = hannWindow(n);
     this.windowed = Array.from({ length: Math.min(4, channels) }, () => this.fft.createInput());
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
@@ -216,7 +219,7 @@ export class HopAnalyzer {
     this.weights = f64(bins);
     this.weightAcc = f64(bins);
     this.bands = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
-    this.bandWeight = new Float64Array(options.bands);
+    this.bandWeight = f64(options.bands);
     this.binScale = f64(bins);
     const hopS = options.hop / sampleRate;
     this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
@@ -416,19 +419,27 @@ export class HopAnalyzer {
     const power = this.power;
     res.onset = this.onset.update(power, k0, k1, this.weights);
     const bandSnrDb = res.bandSnrDb;
-    this.onset.bandSnrDb(bands, power, bandSnrDb);
     const mem = this.memory;
     const acc = this.weightAcc;
     const weights = this.weights;
     const binScale = this.binScale;
     const snrMem = this.snrMem;
-    for (let k = k0; k < k1; k++) acc[k] = mem * acc[k]! + weights[k]!;
+    const kern = this.kernels;
+    const sums = this.kBandSums;
+    if (kern) {
+      kern.bandSums(power, this.onset.noiseFloor, acc, weights, mem, sums[0]!, sums[1]!, this.bandWeight, k0, k1);
+      this.onset.bandSnrDbOfSums(bands.count, sums[0]!, sums[1]!, bandSnrDb);
+    } else {
+      this.onset.bandSnrDb(bands, power, bandSnrDb);
+      for (let k = k0; k < k1; k++) acc[k] = mem * acc[k]! + weights[k]!;
+    }
     let snr = 0;
     for (let b = 0; b < bands.count; b++) {
       const start = bands.start[b]!;
       const end = bands.end[b]!;
       let s = 0;
-      for (let k = start; k < end; k++) s += acc[k]!;
+      if (kern) s = this.bandWeight[b]!;
+      else for (let k = start; k < end; k++) s += acc[k]!;
       this.bandWeight[b] = s;
       const bandSnr = bandSnrDb[b]!;
       if (bandSnr > snr) snr = bandSnr;

@@ -33,6 +33,7 @@ interface KernelExports {
   times(w: number, inv: number, out: number, k0: number, k1: number): void;
   srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
   srp_search(args: number): number;
+  band_sums(power: number, nf: number, acc: number, w: number, m: number, starts: number, ends: number, nb: number, sp: number, sn: number, sa: number, k0: number, k1: number): void;
   onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number): number;
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
   accumulate(a: number, b: number, wa: number, ib: number, ar: number, ai: number, k0: number, k1: number, m: number): void;
@@ -203,6 +204,16 @@ export class GccKernels {
    */
   onsetUpdate(power: Float64Array, bg: Float64Array, nf: Float64Array, sm: Float64Array, weights: Float64Array, k0: number, k1: number, q: Float64Array): number {
     return this.x.onset_update(this.ptr(power), this.ptr(bg), this.ptr(nf), this.ptr(sm), this.ptr(weights), k0, k1, this.ptr(q));
+  }
+
+  /**
+   * The weight stage's sums over the bands of setBands(): acc[k] = memory * acc[k] + w[k] over
+   * [k0, k1), then per band the sums of power, of the noise floor and of acc (bin by bin, in order)
+   * into sumPower[b], sumNoise[b], sumAcc[b].
+   */
+  bandSums(power: Float64Array, noise: Float64Array, acc: Float64Array, w: Float64Array, memory: number, sumPower: Float64Array, sumNoise: Float64Array, sumAcc: Float64Array, k0: number, k1: number): void {
+    const bands = this.bands!;
+    this.x.band_sums(this.ptr(power), this.ptr(noise), this.ptr(acc), this.ptr(w), memory, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, this.ptr(sumPower), this.ptr(sumNoise), this.ptr(sumAcc), k0, k1);
   }
 
   /** out[k] = w[k] * inv[k] over [k0, k1). */

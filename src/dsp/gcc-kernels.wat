@@ -395,6 +395,52 @@
       (then (f64.div (local.get $rising) (local.get $total)))
       (else (f64.const 0))))
 
+  ;; The weight stage's sums (HopAnalyzer.weightStage and OnsetWeigher.bandSnrDb): the weight
+  ;; memory acc[k] = m * acc[k] + w[k] over [k0, k1) (two bins per step), then per band b (bins
+  ;; starts[b] .. ends[b]) the sums of power, of the noise floor nf and of acc, each added bin by bin
+  ;; in order, into sp[b], sn[b], sa[b].
+  (func (export "band_sums") (param $power i32) (param $nf i32) (param $acc i32) (param $w i32) (param $m f64)
+    (param $starts i32) (param $ends i32) (param $nb i32) (param $sp i32) (param $sn i32) (param $sa i32) (param $k0 i32) (param $k1 i32)
+    (local $k i32) (local $o i32) (local $b i32) (local $e i32) (local $mv v128) (local $xp f64) (local $xn f64) (local $xa f64)
+    (local.set $mv (f64x2.splat (local.get $m)))
+    (local.set $k (local.get $k0))
+    (block $done
+      (loop $two
+        (br_if $done (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $k1)))
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (v128.store (i32.add (local.get $acc) (local.get $o))
+          (f64x2.add (f64x2.mul (local.get $mv) (v128.load (i32.add (local.get $acc) (local.get $o)))) (v128.load (i32.add (local.get $w) (local.get $o)))))
+        (local.set $k (i32.add (local.get $k) (i32.const 2)))
+        (br $two)))
+    (if (i32.lt_s (local.get $k) (local.get $k1))
+      (then
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (f64.store (i32.add (local.get $acc) (local.get $o))
+          (f64.add (f64.mul (local.get $m) (f64.load (i32.add (local.get $acc) (local.get $o)))) (f64.load (i32.add (local.get $w) (local.get $o)))))))
+    (local.set $b (i32.const 0))
+    (block $bd
+      (loop $bl
+        (br_if $bd (i32.ge_s (local.get $b) (local.get $nb)))
+        (local.set $k (i32.load (i32.add (local.get $starts) (i32.shl (local.get $b) (i32.const 2)))))
+        (local.set $e (i32.load (i32.add (local.get $ends) (i32.shl (local.get $b) (i32.const 2)))))
+        (local.set $xp (f64.const 0))
+        (local.set $xn (f64.const 0))
+        (local.set $xa (f64.const 0))
+        (block $kd
+          (loop $kl
+            (br_if $kd (i32.ge_s (local.get $k) (local.get $e)))
+            (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+            (local.set $xp (f64.add (local.get $xp) (f64.load (i32.add (local.get $power) (local.get $o)))))
+            (local.set $xn (f64.add (local.get $xn) (f64.load (i32.add (local.get $nf) (local.get $o)))))
+            (local.set $xa (f64.add (local.get $xa) (f64.load (i32.add (local.get $acc) (local.get $o)))))
+            (local.set $k (i32.add (local.get $k) (i32.const 1)))
+            (br $kl)))
+        (f64.store (i32.add (local.get $sp) (i32.shl (local.get $b) (i32.const 3))) (local.get $xp))
+        (f64.store (i32.add (local.get $sn) (i32.shl (local.get $b) (i32.const 3))) (local.get $xn))
+        (f64.store (i32.add (local.get $sa) (i32.shl (local.get $b) (i32.const 3))) (local.get $xa))
+        (local.set $b (i32.add (local.get $b) (i32.const 1)))
+        (br $bl))))
+
   ;; PairCorrelator.accumulate (src/dsp/gcc.ts), two bins per step:
   ;;   g = wA[k] * invB[k]; ar[k] = m * ar[k] + (xr*yr + xi*yi) * g; ai[k] = m * ai[k] + (xr*yi - xi*yr) * g
   (func (export "accumulate") (param $a i32) (param $b i32) (param $wa i32) (param $ib i32) (param $ar i32) (param $ai i32)

@@ -132,8 +132,23 @@ export class OnsetWeigher {
         s += power[k]!;
         n += nf[k]!;
       }
-      const ratio = s / (NOISE_BIAS * n + 1e-30);
-      out[b] = ratio > 1 ? 10 * Math.log10(ratio) : 0;
+      out[b] = snrDbOfSums(s, n);
     }
   }
+
+  /** bandSnrDb from the bands' sums of power and of the noise floor (the kernels' bandSums). */
+  bandSnrDbOfSums(count: number, sumPower: Float64Array, sumNoise: Float64Array, out: Float64Array): void {
+    for (let b = 0; b < count; b++) out[b] = snrDbOfSums(sumPower[b]!, sumNoise[b]!);
+  }
+
+  /** The noise floor per bin (the kernels read it; read-only). */
+  get noiseFloor(): Float64Array {
+    return this.noise;
+  }
+}
+
+/** A band's SNR in dB from its sums of power and of the noise floor (0 when not above the floor's mean). */
+function snrDbOfSums(s: number, n: number): number {
+  const ratio = s / (NOISE_BIAS * n + 1e-30);
+  return ratio > 1 ? 10 * Math.log10(ratio) : 0;
 }
