@@ -116,6 +116,9 @@ export class HopAnalyzer {
   private readonly kPacked: Float32Array | null;
   /** The bands' sums of power and of the noise floor (the kernels' weight stage). */
   private readonly kBandSums: Float64Array[];
+  /** The analysis bins of each PFFFT spectrum and of kPacked, as views made once (no view made per hop). */
+  private readonly kSpectraBins: Float32Array[];
+  private readonly kPackedBins: Float32Array | null;
   private readonly window: Float64Array;
   /** Four windowed frames (FFT inputs): channels are windowed up to four at a time. */
   private readonly windowed: FftBuffer[];
@@ -206,19 +209,23 @@ export class HopAnalyzer {
         : null;
     const k = this.kernels;
     const f64 = (len: number) => (k ? k.f64(len) : new Float64Array(len));
-    if (k) k.setBands(makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands));
+    const layout = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
+    if (k) k.setBands(layout);
     this.kSpectra = k ? Array.from({ length: channels }, () => k.f32(n)) : [];
     this.kPacked = k ? k.f32(n) : null;
     this.kBandSums = k ? [k.f64(options.bands), k.f64(options.bands)] : [];
+    const { firstBin, endBin } = layout;
     this.window = hannWindow(n);
     this.windowed = Array.from({ length: Math.min(4, channels) }, () => this.fft.createInput());
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
+    this.kSpectraBins = k ? this.spectra.map((sp) => (sp as Float32Array).subarray(2 * firstBin, 2 * endBin)) : [];
+    this.kPackedBins = this.kPacked ? this.kPacked.subarray(2 * firstBin, 2 * endBin) : null;
     this.invMag = Array.from({ length: channels }, () => f64(bins));
     this.weightedInv = Array.from({ length: channels }, (_, c) => (this.leadsPair[c] ? f64(bins) : new Float64Array(0)));
     this.power = f64(bins);
     this.weights = f64(bins);
     this.weightAcc = f64(bins);
-    this.bands = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
+    this.bands = layout;
     this.bandWeight = f64(options.bands);
     this.binScale = f64(bins);
     const hopS = options.hop / sampleRate;
@@ -389,7 +396,7 @@ export class HopAnalyzer {
         const inv = this.invMag[ch]!;
         if (this.kernels) {
           const copy = this.kSpectra[ch]!;
-          copy.set((spec as Float32Array).subarray(2 * k0, 2 * k1), 2 * k0);
+          copy.set(this.kSpectraBins[ch]!, 2 * k0);
           this.kernels.magnitudes(copy, power, inv, k0, k1);
           continue;
         }
@@ -498,7 +505,7 @@ export class HopAnalyzer {
       const pc = this.correlators[p]!;
       if (kern) {
         kern.scalePack(pc, this.options.voting ? this.binScale : null, this.kPacked!, k0, k1);
-        this.fft.inversePackedLags(this.kPacked!, k0, k1, pc.gcc, pc.maxLag + 1);
+        this.fft.inversePackedLags(this.kPackedBins!, k0, k1, pc.gcc, pc.maxLag + 1);
       } else if (this.options.voting) pc.correlateScaled(this.fft, this.binScale, k0, k1);
       else pc.correlate(this.fft, k0, k1);
     }
