@@ -119,6 +119,11 @@ export class HopAnalyzer {
   /** The analysis bins of each PFFFT spectrum and of kPacked, as views made once (no view made per hop). */
   private readonly kSpectraBins: Float32Array[];
   private readonly kPackedBins: Float32Array | null;
+  /** The spectra stage on the kernels: frames, the window, windowed frames, sums of squares, and the frames given to window4 for 1, 2 and 4 channels. */
+  private readonly kFrames: Float64Array[];
+  private readonly kWindow: Float64Array | null;
+  private readonly kWindowed: Float32Array[];
+  private readonly kFrameLanes: Float64Array[][];
   private readonly window: Float64Array;
   /** Four windowed frames (FFT inputs): channels are windowed up to four at a time. */
   private readonly windowed: FftBuffer[];
@@ -160,7 +165,7 @@ export class HopAnalyzer {
   private readonly refineActive: Uint8Array;
   private readonly fresh2 = new Float64Array(2);
   /** The sums of squares of the channels windowed together (spectra stage). */
-  private readonly meanSquares = new Float64Array(4);
+  private readonly meanSquares: Float64Array;
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
   private readonly order: Int32Array;
   /** The bands supporting the candidate being refined (reused). */
@@ -199,8 +204,8 @@ export class HopAnalyzer {
       this.fft.backend === 'pffft' && kernelPath === 'auto'
         ? GccKernels.create(
             GccKernels.bytesFor(
-              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands],
-              new Array<number>(channels + 1).fill(n),
+              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, n, n, n, n, n, 4],
+              new Array<number>(channels + 5).fill(n),
               [options.bands],
             ) +
               8 * options.bands +
@@ -216,6 +221,13 @@ export class HopAnalyzer {
     this.kBandSums = k ? [k.f64(options.bands), k.f64(options.bands)] : [];
     const { firstBin, endBin } = layout;
     this.window = hannWindow(n);
+    this.kFrames = k ? Array.from({ length: 4 }, () => k.f64(n)) : [];
+    this.kWindow = k ? k.f64(n) : null;
+    this.kWindow?.set(this.window);
+    this.kWindowed = k ? Array.from({ length: 4 }, () => k.f32(n)) : [];
+    const kf = this.kFrames;
+    this.kFrameLanes = k ? [[], [kf[0]!, kf[0]!, kf[0]!, kf[0]!], [kf[0]!, kf[1]!, kf[0]!, kf[1]!], [], [kf[0]!, kf[1]!, kf[2]!, kf[3]!]] : [];
+    this.meanSquares = k ? k.f64(4) : new Float64Array(4);
     this.windowed = Array.from({ length: Math.min(4, channels) }, () => this.fft.createInput());
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
     this.kSpectraBins = k ? this.spectra.map((sp) => (sp as Float32Array).subarray(2 * firstBin, 2 * endBin)) : [];
@@ -341,7 +353,18 @@ export class HopAnalyzer {
       let ms1 = 0;
       let ms2 = 0;
       let ms3 = 0;
-      if (m === 4) {
+      const kern = this.kernels;
+      if (kern) {
+        // The frames into the kernels' memory, windowed there (float32), then into PFFFT's inputs.
+        const kf = this.kFrames;
+        for (let j = 0; j < m; j++) kf[j]!.set(frames[c + j]!);
+        kern.window4(this.kFrameLanes[m]!, this.kWindow!, this.kWindowed, ms);
+        for (let j = 0; j < m; j++) (this.windowed[j] as Float32Array).set(this.kWindowed[j]!);
+        ms0 = ms[0]!;
+        ms1 = ms[1]!;
+        ms2 = ms[2]!;
+        ms3 = ms[3]!;
+      } else if (m === 4) {
         const x1 = frames[c + 1]!;
         const x2 = frames[c + 2]!;
         const x3 = frames[c + 3]!;

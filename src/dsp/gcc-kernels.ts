@@ -33,6 +33,7 @@ interface KernelExports {
   times(w: number, inv: number, out: number, k0: number, k1: number): void;
   srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
   srp_search(args: number): number;
+  window4(x0: number, x1: number, x2: number, x3: number, win: number, w0: number, w1: number, w2: number, w3: number, n: number, ms: number): void;
   band_sums(power: number, nf: number, acc: number, w: number, m: number, starts: number, ends: number, nb: number, sp: number, sn: number, sa: number, k0: number, k1: number): void;
   onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number): number;
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
@@ -214,6 +215,15 @@ export class GccKernels {
   bandSums(power: Float64Array, noise: Float64Array, acc: Float64Array, w: Float64Array, memory: number, sumPower: Float64Array, sumNoise: Float64Array, sumAcc: Float64Array, k0: number, k1: number): void {
     const bands = this.bands!;
     this.x.band_sums(this.ptr(power), this.ptr(noise), this.ptr(acc), this.ptr(w), memory, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, this.ptr(sumPower), this.ptr(sumNoise), this.ptr(sumAcc), k0, k1);
+  }
+
+  /**
+   * Four frames x[0..3] (float64, in this memory) times the window into w[0..3] (float32), each
+   * frame's sum of squares (sample by sample, in order) into ms[0..3]. For fewer channels, repeat
+   * a frame and give spare outputs.
+   */
+  window4(x: readonly Float64Array[], win: Float64Array, w: readonly Float32Array[], ms: Float64Array): void {
+    this.x.window4(this.ptr(x[0]!), this.ptr(x[1]!), this.ptr(x[2]!), this.ptr(x[3]!), this.ptr(win), this.ptr(w[0]!), this.ptr(w[1]!), this.ptr(w[2]!), this.ptr(w[3]!), win.length, this.ptr(ms));
   }
 
   /** out[k] = w[k] * inv[k] over [k0, k1). */

@@ -441,6 +441,39 @@
         (local.set $b (i32.add (local.get $b) (i32.const 1)))
         (br $bl))))
 
+  ;; The spectra stage's window (HopAnalyzer.spectraStage): four channels x0..x3 (float64 frames of
+  ;; n samples) times the window into w0..w3 (float32), and each channel's sum of squares added
+  ;; sample by sample in order (four independent sums) into ms[0..3].
+  (func (export "window4") (param $x0 i32) (param $x1 i32) (param $x2 i32) (param $x3 i32) (param $win i32)
+    (param $w0 i32) (param $w1 i32) (param $w2 i32) (param $w3 i32) (param $n i32) (param $ms i32)
+    (local $i i32) (local $o i32) (local $o4 i32) (local $h f64) (local $v0 f64) (local $v1 f64) (local $v2 f64) (local $v3 f64)
+    (local $m0 f64) (local $m1 f64) (local $m2 f64) (local $m3 f64)
+    (local.set $i (i32.const 0))
+    (block $d
+      (loop $l
+        (br_if $d (i32.ge_s (local.get $i) (local.get $n)))
+        (local.set $o (i32.shl (local.get $i) (i32.const 3)))
+        (local.set $o4 (i32.shl (local.get $i) (i32.const 2)))
+        (local.set $h (f64.load (i32.add (local.get $win) (local.get $o))))
+        (local.set $v0 (f64.load (i32.add (local.get $x0) (local.get $o))))
+        (local.set $v1 (f64.load (i32.add (local.get $x1) (local.get $o))))
+        (local.set $v2 (f64.load (i32.add (local.get $x2) (local.get $o))))
+        (local.set $v3 (f64.load (i32.add (local.get $x3) (local.get $o))))
+        (local.set $m0 (f64.add (local.get $m0) (f64.mul (local.get $v0) (local.get $v0))))
+        (local.set $m1 (f64.add (local.get $m1) (f64.mul (local.get $v1) (local.get $v1))))
+        (local.set $m2 (f64.add (local.get $m2) (f64.mul (local.get $v2) (local.get $v2))))
+        (local.set $m3 (f64.add (local.get $m3) (f64.mul (local.get $v3) (local.get $v3))))
+        (f32.store (i32.add (local.get $w0) (local.get $o4)) (f32.demote_f64 (f64.mul (local.get $v0) (local.get $h))))
+        (f32.store (i32.add (local.get $w1) (local.get $o4)) (f32.demote_f64 (f64.mul (local.get $v1) (local.get $h))))
+        (f32.store (i32.add (local.get $w2) (local.get $o4)) (f32.demote_f64 (f64.mul (local.get $v2) (local.get $h))))
+        (f32.store (i32.add (local.get $w3) (local.get $o4)) (f32.demote_f64 (f64.mul (local.get $v3) (local.get $h))))
+        (local.set $i (i32.add (local.get $i) (i32.const 1)))
+        (br $l)))
+    (f64.store (local.get $ms) (local.get $m0))
+    (f64.store offset=8 (local.get $ms) (local.get $m1))
+    (f64.store offset=16 (local.get $ms) (local.get $m2))
+    (f64.store offset=24 (local.get $ms) (local.get $m3)))
+
   ;; PairCorrelator.accumulate (src/dsp/gcc.ts), two bins per step:
   ;;   g = wA[k] * invB[k]; ar[k] = m * ar[k] + (xr*yr + xi*yi) * g; ai[k] = m * ai[k] + (xr*yi - xi*yr) * g
   (func (export "accumulate") (param $a i32) (param $b i32) (param $wa i32) (param $ib i32) (param $ar i32) (param $ai i32)

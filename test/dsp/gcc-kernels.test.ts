@@ -158,7 +158,7 @@ function scene(channels: number, seconds: number, rand: () => number): Float64Ar
 }
 
 function snapshot(r: HopResult): string {
-  return JSON.stringify([r.confidence, r.valid, Array.from(r.tdoaS), Array.from(r.pairOwnTdoaS), r.sources.slice(0, r.sourceCount), r.agree, r.share, r.evidence, r.fresh, r.freshZ, r.snrDb, r.onset, r.apertureWaves, Array.from(r.bandVoteWeight), Array.from(r.bandSnrDb), Array.from(r.pairPeak), Array.from(r.pairAgreement)]);
+  return JSON.stringify([r.levelDbfs, Array.from(r.channelLevelsDbfs), r.confidence, r.valid, Array.from(r.tdoaS), Array.from(r.pairOwnTdoaS), r.sources.slice(0, r.sourceCount), r.agree, r.share, r.evidence, r.fresh, r.freshZ, r.snrDb, r.onset, r.apertureWaves, Array.from(r.bandVoteWeight), Array.from(r.bandSnrDb), Array.from(r.pairPeak), Array.from(r.pairAgreement)]);
 }
 
 describe('the hop analyzer gives the same outputs, bit for bit, on the WebAssembly and the JavaScript kernels', () => {
@@ -167,6 +167,7 @@ describe('the hop analyzer gives the same outputs, bit for bit, on the WebAssemb
     ['pair', pairGeometry(0.2)],
     ['square', preset('square-10cm')],
     ['tetrahedron', preset('tetrahedron-10cm')],
+    ['circle of 6', preset('circle6-r5cm')],
     ['circle of 8', preset('circle8-r5cm')],
   ];
   const run = wasmKernelsAvailable() ? it : it.skip;
