@@ -266,6 +266,14 @@ export class GccKernels {
       setPhasors(ph, 8, lags[o + 2 * lagStride]!, lags[o + 3 * lagStride]!, n, k0);
       this.x.band_scores4(ar, ai, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, 4);
     }
+    if (count - i === 3) {
+      // three lags in one pass (the fourth lane repeats the third and is not written)
+      const o = lagOffset + i * lagStride;
+      setPhasors(ph, 0, lags[o]!, lags[o + lagStride]!, n, k0);
+      setPhasors(ph, 8, lags[o + 2 * lagStride]!, lags[o + 2 * lagStride]!, n, k0);
+      this.x.band_scores4(ar, ai, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, 3);
+      return;
+    }
     if (i < count) {
       const o = lagOffset + i * lagStride;
       const two = i + 2 <= count;

@@ -524,7 +524,7 @@
   ;; addBandScores (src/dsp/gcc.ts) at four lags, lanes 0-1 in vector A and 2-3 in vector B.
   ;; ph holds [sr0 sr1 si0 si1 pr0 pr1 pi0 pi1 sr2 sr3 si2 si3 pr2 pr3 pi2 pi3] (the phasor step
   ;; and the phasor at bin k0 per lag). Band b's four sums are added into out[b * stride + 0..3]
-  ;; (stride in numbers). `write` is 4, 2 or 1: the lanes written (the others repeat a lag).
+  ;; (stride in numbers). `write` is 4, 3, 2 or 1: the lanes written (the others repeat a lag).
   ;; Bands whose needed[b] is not above 0 are skipped (their phasors still step); needed = 0: all bands.
   (func (export "band_scores4") (param $ar i32) (param $ai i32) (param $ends i32) (param $nb i32) (param $k0 i32)
     (param $ph i32) (param $out i32) (param $stride i32) (param $needed i32) (param $write i32)
@@ -585,7 +585,9 @@
               (then (v128.store (local.get $o) (f64x2.add (v128.load (local.get $o)) (local.get $accA))))
               (else (f64.store (local.get $o) (f64.add (f64.load (local.get $o)) (f64x2.extract_lane 0 (local.get $accA))))))
             (if (i32.eq (local.get $write) (i32.const 4))
-              (then (v128.store offset=16 (local.get $o) (f64x2.add (v128.load offset=16 (local.get $o)) (local.get $accB)))))))
+              (then (v128.store offset=16 (local.get $o) (f64x2.add (v128.load offset=16 (local.get $o)) (local.get $accB)))))
+            (if (i32.eq (local.get $write) (i32.const 3))
+              (then (f64.store offset=16 (local.get $o) (f64.add (f64.load offset=16 (local.get $o)) (f64x2.extract_lane 0 (local.get $accB))))))))
         (local.set $b (i32.add (local.get $b) (i32.const 1)))
         (br $bands))))
 
