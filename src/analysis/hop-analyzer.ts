@@ -2,6 +2,7 @@ import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft, type FftBuffer } from '../dsp/fft.js';
 import { addBandScores, hopCoherence, PairCorrelator, refineLag } from '../dsp/gcc.js';
 import { addBandScoresLanes, hopCoherence2, refineLagLanes } from '../dsp/gcc-lanes.js';
+import { GccKernels } from '../dsp/gcc-kernels.js';
 import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow } from '../dsp/window.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
@@ -103,8 +104,28 @@ export class HopAnalyzer {
   readonly hop: number;
   readonly bands: BandLayout;
   private readonly fft: RealFft;
+  /**
+   * The per-bin kernels in WebAssembly SIMD (bit-identical to the JavaScript ones: ../dsp/gcc-kernels.ts),
+   * null on the JavaScript path (no WebAssembly SIMD, the fft.js FFT, or BEARLINE_KERNELS=js).
+   * With them, the arrays they read live in their memory, and `kSpectra` holds float32 copies of
+   * the spectra's analysis bins there.
+   */
+  private readonly kernels: GccKernels | null;
+  private readonly kSpectra: Float32Array[];
+  /** The inverse FFT's input, scaled and packed by the kernels (null on the JavaScript path). */
+  private readonly kPacked: Float32Array | null;
+  /** The bands' sums of power and of the noise floor (the kernels' weight stage). */
+  private readonly kBandSums: Float64Array[];
+  /** The analysis bins of each PFFFT spectrum and of kPacked, as views made once (no view made per hop). */
+  private readonly kSpectraBins: Float32Array[];
+  private readonly kPackedBins: Float32Array | null;
+  /** The spectra stage on the kernels: frames, the window, windowed frames, sums of squares, and the frames given to window4 for 1, 2 and 4 channels. */
+  private readonly kFrames: Float64Array[];
+  private readonly kWindow: Float64Array | null;
+  private readonly kWindowed: Float32Array[];
+  private readonly kFrameLanes: Float64Array[][];
   private readonly window: Float64Array;
-  /** Two windowed frames (FFT inputs): channels are windowed two at a time. */
+  /** Four windowed frames (FFT inputs): channels are windowed up to four at a time. */
   private readonly windowed: FftBuffer[];
   /** Interleaved half spectrum (re, im) per channel, in the FFT's own buffers. */
   private readonly spectra: FftBuffer[];
@@ -143,6 +164,8 @@ export class HopAnalyzer {
   private readonly refineScratch: Float64Array;
   private readonly refineActive: Uint8Array;
   private readonly fresh2 = new Float64Array(2);
+  /** The sums of squares of the channels windowed together (spectra stage). */
+  private readonly meanSquares: Float64Array;
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
   private readonly order: Int32Array;
   /** The bands supporting the candidate being refined (reused). */
@@ -161,25 +184,62 @@ export class HopAnalyzer {
     readonly sampleRate: number,
     readonly model: DirectionModel,
     readonly options: ResolvedAnalysis,
+    /** 'js' keeps the JavaScript kernels even where the WebAssembly ones load (tests, benchmarks). */
+    kernelPath: 'auto' | 'js' = 'auto',
   ) {
     const n = options.frame;
     this.frame = n;
     this.hop = options.hop;
     this.fft = new RealFft(n);
     const bins = n / 2 + 1;
-    this.window = hannWindow(n);
-    this.windowed = [this.fft.createInput(), this.fft.createInput()];
-    this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
-    this.invMag = Array.from({ length: channels }, () => new Float64Array(bins));
+    const P = model.pairs.length;
+    const candidates = options.maxCandidates;
     this.leadsPair = new Uint8Array(channels);
     for (const [a] of model.pairs) this.leadsPair[a] = 1;
-    this.weightedInv = Array.from({ length: channels }, (_, c) => new Float64Array(this.leadsPair[c] ? bins : 0));
-    this.power = new Float64Array(bins);
-    this.weights = new Float64Array(bins);
-    this.weightAcc = new Float64Array(bins);
-    this.bands = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
-    this.bandWeight = new Float64Array(options.bands);
-    this.binScale = new Float64Array(bins);
+    let leaders = 0;
+    for (let c = 0; c < channels; c++) leaders += this.leadsPair[c]!;
+    // The arrays the kernels read: spectra copies, 1/|X|, weights x 1/|X|, power, weights, the pairs'
+    // accumulators, band scores, evidence, band flags.
+    this.kernels =
+      this.fft.backend === 'pffft' && kernelPath === 'auto'
+        ? GccKernels.create(
+            GccKernels.bytesFor(
+              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, n, n, n, n, n, 4],
+              new Array<number>(channels + 5).fill(n),
+              [options.bands],
+            ) +
+              8 * options.bands +
+              OnsetWeigher.kernelBytes(bins),
+          )
+        : null;
+    const k = this.kernels;
+    const f64 = (len: number) => (k ? k.f64(len) : new Float64Array(len));
+    const layout = makeBands(n, sampleRate, options.minFreqHz, options.maxFreqHz, options.bands);
+    if (k) k.setBands(layout);
+    this.kSpectra = k ? Array.from({ length: channels }, () => k.f32(n)) : [];
+    this.kPacked = k ? k.f32(n) : null;
+    this.kBandSums = k ? [k.f64(options.bands), k.f64(options.bands)] : [];
+    const { firstBin, endBin } = layout;
+    this.window = hannWindow(n);
+    this.kFrames = k ? Array.from({ length: 4 }, () => k.f64(n)) : [];
+    this.kWindow = k ? k.f64(n) : null;
+    this.kWindow?.set(this.window);
+    this.kWindowed = k ? Array.from({ length: 4 }, () => k.f32(n)) : [];
+    const kf = this.kFrames;
+    this.kFrameLanes = k ? [[], [kf[0]!, kf[0]!, kf[0]!, kf[0]!], [kf[0]!, kf[1]!, kf[0]!, kf[1]!], [], [kf[0]!, kf[1]!, kf[2]!, kf[3]!]] : [];
+    this.meanSquares = k ? k.f64(4) : new Float64Array(4);
+    this.windowed = Array.from({ length: Math.min(4, channels) }, () => this.fft.createInput());
+    this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
+    this.kSpectraBins = k ? this.spectra.map((sp) => (sp as Float32Array).subarray(2 * firstBin, 2 * endBin)) : [];
+    this.kPackedBins = this.kPacked ? this.kPacked.subarray(2 * firstBin, 2 * endBin) : null;
+    this.invMag = Array.from({ length: channels }, () => f64(bins));
+    this.weightedInv = Array.from({ length: channels }, (_, c) => (this.leadsPair[c] ? f64(bins) : new Float64Array(0)));
+    this.power = f64(bins);
+    this.weights = f64(bins);
+    this.weightAcc = f64(bins);
+    this.bands = layout;
+    this.bandWeight = f64(options.bands);
+    this.binScale = f64(bins);
     const hopS = options.hop / sampleRate;
     this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
     this.onset = new OnsetWeigher(bins, {
@@ -188,14 +248,12 @@ export class HopAnalyzer {
       backgroundDecay: Math.exp(-hopS / options.backgroundS),
       floorRise: 10 ** ((options.floorRiseDbS * hopS) / 10),
       fullPresence: 4,
-    });
-    const P = model.pairs.length;
-    const candidates = options.maxCandidates;
-    this.correlators = model.pairs.map((_, p) => new PairCorrelator(n, model.maxLag[p]!));
+    }, k);
+    this.correlators = model.pairs.map((_, p) => new PairCorrelator(n, model.maxLag[p]!, k ? { accRe: k.f64(bins), accIm: k.f64(bins) } : undefined));
     this.candLags = new Float64Array(candidates * P);
     this.candScores = new Float64Array(candidates);
-    this.bandScores = new Float64Array(options.bands * candidates);
-    this.evidence = new Float64Array(options.bands);
+    this.bandScores = f64(options.bands * candidates);
+    this.evidence = f64(options.bands);
     this.snrMem = new Float64Array(options.bands);
     this.bandWidthWeight = Float64Array.from({ length: options.bands }, (_, b) => Math.log2(1 + this.bands.end[b]! - this.bands.start[b]!));
     this.fusion = new BandFusion(options.bands, candidates);
@@ -204,12 +262,17 @@ export class HopAnalyzer {
     let widest = 0;
     for (let p = 0; p < P; p++) widest = Math.max(widest, model.maxLag[p]!);
     this.apertureS = Math.max(1, widest - 1) / (1 + options.lagMargin) / sampleRate;
-    this.useBand = new Uint8Array(options.bands);
+    this.useBand = k ? k.u8(options.bands) : new Uint8Array(options.bands);
     this.pairBandScores = new Float64Array(options.bands);
     this.refined = new Float64Array(P);
     this.refineScratch = new Float64Array(2 * P);
     this.refineActive = new Uint8Array(P);
     this.order = new Int32Array(candidates);
+    if (k) {
+      const theirs = [...this.kSpectra, this.kPacked!, ...this.invMag, ...this.weightedInv.filter((w) => w.length > 0), this.power, this.weights, this.binScale, this.bandScores, this.evidence, this.useBand];
+      for (const pc of this.correlators) theirs.push(pc.accRe, pc.accIm);
+      if (!theirs.every((view) => k.owns(view))) throw new Error('HopAnalyzer: a kernel array is outside the kernels memory');
+    }
     this.result = {
       index: 0,
       timeS: 0,
@@ -279,16 +342,51 @@ export class HopAnalyzer {
     const window = this.window;
     const C = this.channels;
     power.fill(0, k0, k1);
-    for (let c = 0; c < C; c += 2) {
-      // Two channels per pass over the frame when there are two left: each channel's sum of
-      // squares runs in its own order, as one at a time (the same figures), and the two sums
-      // overlap in the processor.
-      const two = c + 1 < C;
+    const ms = this.meanSquares;
+    for (let c = 0; c < C; ) {
+      // Up to four channels per pass over the frame: each channel's sum of squares runs in its
+      // own order, as one at a time (the same figures), and the sums overlap in the processor.
+      const m = C - c >= 4 ? 4 : C - c >= 2 ? 2 : 1;
       const x0 = frames[c]!;
       const w0 = this.windowed[0]!;
       let ms0 = 0;
       let ms1 = 0;
-      if (two) {
+      let ms2 = 0;
+      let ms3 = 0;
+      const kern = this.kernels;
+      if (kern) {
+        // The frames into the kernels' memory, windowed there (float32), then into PFFFT's inputs.
+        const kf = this.kFrames;
+        for (let j = 0; j < m; j++) kf[j]!.set(frames[c + j]!);
+        kern.window4(this.kFrameLanes[m]!, this.kWindow!, this.kWindowed, ms);
+        for (let j = 0; j < m; j++) (this.windowed[j] as Float32Array).set(this.kWindowed[j]!);
+        ms0 = ms[0]!;
+        ms1 = ms[1]!;
+        ms2 = ms[2]!;
+        ms3 = ms[3]!;
+      } else if (m === 4) {
+        const x1 = frames[c + 1]!;
+        const x2 = frames[c + 2]!;
+        const x3 = frames[c + 3]!;
+        const w1 = this.windowed[1]!;
+        const w2 = this.windowed[2]!;
+        const w3 = this.windowed[3]!;
+        for (let i = 0; i < n; i++) {
+          const v0 = x0[i]!;
+          const v1 = x1[i]!;
+          const v2 = x2[i]!;
+          const v3 = x3[i]!;
+          const h = window[i]!;
+          ms0 += v0 * v0;
+          ms1 += v1 * v1;
+          ms2 += v2 * v2;
+          ms3 += v3 * v3;
+          w0[i] = v0 * h;
+          w1[i] = v1 * h;
+          w2[i] = v2 * h;
+          w3[i] = v3 * h;
+        }
+      } else if (m === 2) {
         const x1 = frames[c + 1]!;
         const w1 = this.windowed[1]!;
         for (let i = 0; i < n; i++) {
@@ -307,14 +405,24 @@ export class HopAnalyzer {
           w0[i] = v0 * window[i]!;
         }
       }
-      for (let j = 0; j < (two ? 2 : 1); j++) {
+      ms[0] = ms0;
+      ms[1] = ms1;
+      ms[2] = ms2;
+      ms[3] = ms3;
+      for (let j = 0; j < m; j++) {
         const ch = c + j;
-        const ms = (j === 0 ? ms0 : ms1) / n;
-        totalMs += ms;
-        res.channelLevelsDbfs[ch] = toDb(ms);
+        const meanSquare = ms[j]! / n;
+        totalMs += meanSquare;
+        res.channelLevelsDbfs[ch] = toDb(meanSquare);
         const spec = this.spectra[ch]!;
         this.fft.forwardInterleaved(this.windowed[j]!, spec);
         const inv = this.invMag[ch]!;
+        if (this.kernels) {
+          const copy = this.kSpectra[ch]!;
+          copy.set(this.kSpectraBins[ch]!, 2 * k0);
+          this.kernels.magnitudes(copy, power, inv, k0, k1);
+          continue;
+        }
         for (let k = k0; k < k1; k++) {
           const r = spec[2 * k]!;
           const i = spec[2 * k + 1]!;
@@ -323,6 +431,7 @@ export class HopAnalyzer {
           inv[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
         }
       }
+      c += m;
     }
     res.levelDbfs = toDb(totalMs / this.channels);
   }
@@ -340,19 +449,27 @@ export class HopAnalyzer {
     const power = this.power;
     res.onset = this.onset.update(power, k0, k1, this.weights);
     const bandSnrDb = res.bandSnrDb;
-    this.onset.bandSnrDb(bands, power, bandSnrDb);
     const mem = this.memory;
     const acc = this.weightAcc;
     const weights = this.weights;
     const binScale = this.binScale;
     const snrMem = this.snrMem;
-    for (let k = k0; k < k1; k++) acc[k] = mem * acc[k]! + weights[k]!;
+    const kern = this.kernels;
+    const sums = this.kBandSums;
+    if (kern) {
+      kern.bandSums(power, this.onset.noiseFloor, acc, weights, mem, sums[0]!, sums[1]!, this.bandWeight, k0, k1);
+      this.onset.bandSnrDbOfSums(bands.count, sums[0]!, sums[1]!, bandSnrDb);
+    } else {
+      this.onset.bandSnrDb(bands, power, bandSnrDb);
+      for (let k = k0; k < k1; k++) acc[k] = mem * acc[k]! + weights[k]!;
+    }
     let snr = 0;
     for (let b = 0; b < bands.count; b++) {
       const start = bands.start[b]!;
       const end = bands.end[b]!;
       let s = 0;
-      for (let k = start; k < end; k++) s += acc[k]!;
+      if (kern) s = this.bandWeight[b]!;
+      else for (let k = start; k < end; k++) s += acc[k]!;
       this.bandWeight[b] = s;
       const bandSnr = bandSnrDb[b]!;
       if (bandSnr > snr) snr = bandSnr;
@@ -377,15 +494,18 @@ export class HopAnalyzer {
     const mem = this.memory;
     // weights x 1/|X_a| once per channel, shared by the pairs that channel leads
     const weights = this.weights;
+    const kern = this.kernels;
     for (let c = 0; c < this.channels; c++) {
       if (!this.leadsPair[c]) continue;
       const inv = this.invMag[c]!;
       const out = this.weightedInv[c]!;
-      for (let k = k0; k < k1; k++) out[k] = weights[k]! * inv[k]!;
+      if (kern) kern.times(weights, inv, out, k0, k1);
+      else for (let k = k0; k < k1; k++) out[k] = weights[k]! * inv[k]!;
     }
     for (let p = 0; p < pairs.length; p++) {
       const [a, b] = pairs[p]!;
-      this.correlators[p]!.accumulate(this.spectra[a]!, this.spectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
+      if (kern) kern.accumulate(this.correlators[p]!, this.kSpectra[a]!, this.kSpectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
+      else this.correlators[p]!.accumulate(this.spectra[a]!, this.spectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
     }
     const silent = this.hopIndex <= FLOOR_WARMUP_HOPS || res.levelDbfs < this.options.silenceDbfs;
     this.lastHopCorrelated = !silent;
@@ -403,9 +523,13 @@ export class HopAnalyzer {
   correlationStage(): void {
     const { firstBin: k0, endBin: k1 } = this.bands;
     const P = this.model.pairs.length;
+    const kern = this.kernels;
     for (let p = 0; p < P; p++) {
       const pc = this.correlators[p]!;
-      if (this.options.voting) pc.correlateScaled(this.fft, this.binScale, k0, k1);
+      if (kern) {
+        kern.scalePack(pc, this.options.voting ? this.binScale : null, this.kPacked!, k0, k1);
+        this.fft.inversePackedLags(this.kPackedBins!, k0, k1, pc.gcc, pc.maxLag + 1);
+      } else if (this.options.voting) pc.correlateScaled(this.fft, this.binScale, k0, k1);
       else pc.correlate(this.fft, k0, k1);
     }
   }
@@ -504,7 +628,8 @@ export class HopAnalyzer {
         if (opts.voting || i > 0) continue;
         for (let b = 0; b < this.bands.count; b++) this.useBand[b] = this.evidence[b]! > 0 ? 1 : 0;
       }
-      if (P === 1) this.refined[0] = refineLag(this.correlators[0]!, this.bands, this.useBand, this.candLags[c]!);
+      if (this.kernels) this.kernels.refineLags(this.correlators, this.frame, this.useBand, this.candLags, c * P, this.refined, this.refineScratch, this.refineActive);
+      else if (P === 1) this.refined[0] = refineLag(this.correlators[0]!, this.bands, this.useBand, this.candLags[c]!);
       else refineLagLanes(this.correlators, this.bands, this.useBand, this.candLags, c * P, this.refined, this.refineScratch, this.refineActive);
       if (!this.model.solve(this.refined, 0, this.dir)) continue;
       const src = res.sources[res.sourceCount]!;
@@ -536,7 +661,11 @@ export class HopAnalyzer {
     s.fill(0);
     // Per pair, all candidates in one pass (the same sums, in the same order over pairs, as one candidate at a time).
     // Bands without evidence take no part in the fusion: their scores are not needed.
-    for (let p = 0; p < P; p++) addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0, this.evidence);
+    const kern = this.kernels;
+    for (let p = 0; p < P; p++) {
+      if (kern) kern.addBandScores(this.correlators[p]!, this.frame, this.candLags, p, P, K, s, S, 0, this.evidence);
+      else addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0, this.evidence);
+    }
     for (let b = 0; b < this.bands.count; b++) {
       const norm = 1 / (P * Math.max(1e-12, this.bandWeight[b]!));
       for (let c = 0; c < K; c++) s[b * S + c]! *= norm;
@@ -650,6 +779,19 @@ export class HopAnalyzer {
     const two = this.fresh2;
     let sum = 0;
     let p = 0;
+    const kern = this.kernels;
+    if (kern) {
+      const ks = this.kSpectra;
+      for (; p < P; p += 2) {
+        const [a0, b0] = pairs[p]!;
+        const q = p + 1 < P ? p + 1 : p;
+        const [a1, b1] = pairs[q]!;
+        kern.hopCoherence2(ks[a0]!, ks[b0]!, inv[a0]!, inv[b0]!, this.refined[p]!, ks[a1]!, ks[b1]!, inv[a1]!, inv[b1]!, this.refined[q]!, this.frame, k0, k1, two);
+        sum += two[0]!;
+        if (q !== p) sum += two[1]!;
+      }
+      return Math.max(0, sum / P);
+    }
     // Two pairs per pass (the same sums as one at a time, added in the same order).
     for (; p + 2 <= P; p += 2) {
       const [a0, b0] = pairs[p]!;

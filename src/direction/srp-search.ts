@@ -1,4 +1,5 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
+import { GccKernels, SRP_SEARCH_ARGS } from '../dsp/gcc-kernels.js';
 import { micPairs, type ArrayGeometry, type MicPair } from '../geometry/array-geometry.js';
 import { arrayMirror, type ArrayMirror } from '../geometry/array-mirror.js';
 import { arrayShape, type ArrayShape } from '../geometry/array-shape.js';
@@ -46,6 +47,11 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly nbStart: Int32Array;
   private readonly nbList: Int32Array;
   private readonly power: Float64Array;
+  /** The coarse pass in WebAssembly (../dsp/gcc-kernels.ts, bit-identical), null on the JavaScript path; its arrays live in its memory. */
+  private readonly kernels: GccKernels | null;
+  /** srp_search's argument block and outputs (kernels only). */
+  private readonly searchArgs: Int32Array | null;
+  private readonly foundScores: Float64Array | null;
   /** Hop counter and the hop at which each grid point's power was last computed. */
   private hop = 0;
   private readonly stamp: Int32Array;
@@ -53,9 +59,9 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly coarse: Int32Array;
   private readonly cnbStart: Int32Array;
   private readonly cnbList: Int32Array;
-  private readonly starts = new Int32Array(12);
-  private readonly startPower = new Float64Array(12);
-  private readonly found = new Int32Array(16);
+  private readonly starts: Int32Array;
+  private readonly startPower: Float64Array;
+  private readonly found: Int32Array;
   private readonly lsInverseFlat: Float64Array;
   private readonly lsRhs: Float64Array;
   /** Pair baselines projected on the subspace basis, [p * d + i]. */
@@ -69,6 +75,8 @@ export class SrpDirectionModel implements DirectionModel {
     lagMargin: number,
     frame: number,
     grid: SearchGrid = {},
+    /** 'js' keeps the coarse pass in JavaScript where the WebAssembly kernels load (tests). */
+    kernelPath: 'auto' | 'js' = 'auto',
   ) {
     this.pairs = micPairs(geometry);
     const P = this.pairs.length;
@@ -87,9 +95,6 @@ export class SrpDirectionModel implements DirectionModel {
     const step = grid.stepDeg ?? Math.max(MIN_AUTO_STEP_DEG, Math.min(shape === 'line' ? 3 : 8, ((1.4 / largestLag) * 180) / Math.PI));
     this.gridDirs = makeGrid(shape, this.mirror, step);
     const G = this.gridDirs.length;
-    this.gridLag = new Float64Array(G * P);
-    this.gridIdx = new Int32Array(G * P);
-    this.gridFrac = new Float64Array(G * P);
     // Each pair's window holds lags -maxLag .. maxLag + 1 (a grid lag lies within the physical limit).
     this.lagBase = new Int32Array(P);
     let tableSize = 0;
@@ -97,7 +102,19 @@ export class SrpDirectionModel implements DirectionModel {
       this.lagBase[p] = tableSize + this.maxLag[p]!;
       tableSize += 2 * this.maxLag[p]! + 2;
     }
-    this.lagTable = new Float64Array(tableSize);
+    // The coarse subset (below) has fewer than G points.
+    const nb = neighbourLists(this.gridDirs, step);
+    const nbTotal = nb.reduce((sum, list) => sum + list.length, 0);
+    const k = kernelPath === 'auto' ? GccKernels.create(GccKernels.bytesFor([G * P, tableSize, G, 12, 16], [G * P, G, G, G + 1, nbTotal, 2 * G + 1, 12 * G, 12, 16, SRP_SEARCH_ARGS])) : null;
+    this.kernels = k;
+    this.starts = k ? k.i32(12) : new Int32Array(12);
+    this.startPower = k ? k.f64(12) : new Float64Array(12);
+    this.found = k ? k.i32(16) : new Int32Array(16);
+    this.foundScores = k ? k.f64(16) : null;
+    this.gridLag = new Float64Array(G * P);
+    this.gridIdx = k ? k.i32(G * P) : new Int32Array(G * P);
+    this.gridFrac = k ? k.f64(G * P) : new Float64Array(G * P);
+    this.lagTable = k ? k.f64(tableSize) : new Float64Array(tableSize);
     for (let g = 0; g < G; g++) {
       for (let p = 0; p < P; p++) {
         const lag = this.lagFor(this.gridDirs[g]!, p);
@@ -108,13 +125,12 @@ export class SrpDirectionModel implements DirectionModel {
         this.gridFrac[g * P + p] = lag - i;
       }
     }
-    const nb = neighbourLists(this.gridDirs, step);
-    this.nbStart = new Int32Array(G + 1);
+    this.nbStart = k ? k.i32(G + 1) : new Int32Array(G + 1);
     for (let g = 0; g < G; g++) this.nbStart[g + 1] = this.nbStart[g]! + nb[g]!.length;
-    this.nbList = new Int32Array(this.nbStart[G]!);
+    this.nbList = k ? k.i32(this.nbStart[G]!) : new Int32Array(this.nbStart[G]!);
     for (let g = 0; g < G; g++) this.nbList.set(nb[g]!, this.nbStart[g]!);
-    this.power = new Float64Array(G);
-    this.stamp = new Int32Array(G).fill(-1);
+    this.power = k ? k.f64(G) : new Float64Array(G);
+    this.stamp = (k ? k.i32(G) : new Int32Array(G)).fill(-1);
     // Coarse subset: the fine point nearest each point of a grid twice as coarse.
     const coarseDirs = makeGrid(shape, this.mirror, 2 * step);
     const picked = new Set<number>();
@@ -130,12 +146,24 @@ export class SrpDirectionModel implements DirectionModel {
       }
       picked.add(best);
     }
-    this.coarse = Int32Array.from([...picked].sort((a, b) => a - b));
+    const coarse = [...picked].sort((a, b) => a - b);
+    this.coarse = k ? k.i32(coarse.length) : new Int32Array(coarse.length);
+    this.coarse.set(coarse);
     const cnb = neighbourLists(Array.from(this.coarse, (g) => this.gridDirs[g]!), 2 * step);
-    this.cnbStart = new Int32Array(this.coarse.length + 1);
+    const cnbTotal = cnb.reduce((sum, list) => sum + list.length, 0);
+    this.cnbStart = k ? k.i32(this.coarse.length + 1) : new Int32Array(this.coarse.length + 1);
     for (let i = 0; i < this.coarse.length; i++) this.cnbStart[i + 1] = this.cnbStart[i]! + cnb[i]!.length;
-    this.cnbList = new Int32Array(this.cnbStart[this.coarse.length]!);
+    if (k && cnbTotal > 12 * G) throw new Error('coarse neighbour lists larger than reserved');
+    this.cnbList = k ? k.i32(cnbTotal) : new Int32Array(cnbTotal);
     for (let i = 0; i < this.coarse.length; i++) this.cnbList.set(cnb[i]!, this.cnbStart[i]!);
+    if (k) {
+      const args = (this.searchArgs = k.i32(SRP_SEARCH_ARGS));
+      const at = (v: Float64Array | Int32Array) => k.address(v);
+      args.set([at(this.lagTable), at(this.gridIdx), at(this.gridFrac), P, at(this.power), at(this.stamp), 0, at(this.coarse), this.coarse.length,
+        at(this.cnbStart), at(this.cnbList), at(this.nbStart), at(this.nbList), this.starts.length, at(this.starts), at(this.startPower), at(this.found), at(this.foundScores!), 0]);
+      const theirs = [this.lagTable, this.gridIdx, this.gridFrac, this.power, this.stamp, this.coarse, this.cnbStart, this.cnbList, this.nbStart, this.nbList, this.starts, this.startPower, this.found, this.foundScores!];
+      if (!theirs.every((v) => k.owns(v))) throw new Error('SrpDirectionModel: a kernel array is outside the kernels memory');
+    } else this.searchArgs = null;
     // Least squares for the direction from lags, in the subspace the array spans.
     this.basis = shape === 'solid' ? [[1, 0, 0], [0, 1, 0], [0, 0, 1]] : shape === 'plane' ? planeBasis(axis) : [axis];
     const d = this.basis.length;
@@ -207,6 +235,21 @@ export class SrpDirectionModel implements DirectionModel {
     this.hop++;
     this.fillLagTable(correlators);
     const coarse = this.coarse;
+    const kern = this.kernels;
+    if (kern) {
+      kern.srpPower(this.lagTable, this.gridIdx, this.gridFrac, P, coarse, 0, coarse.length, this.power, this.stamp, this.hop);
+      const args = this.searchArgs!;
+      args[6] = this.hop;
+      args[18] = Math.min(maxCount, this.found.length);
+      const found = kern.srpSearch(args);
+      const scores = this.foundScores!;
+      for (let pos = 0; pos < found; pos++) {
+        scoresOut[pos] = scores[pos]!;
+        const g = this.found[pos]!;
+        for (let p = 0; p < P; p++) lagsOut[pos * P + p] = this.gridLag[p * G + g]!;
+      }
+      return found;
+    }
     for (let i = 0; i < coarse.length; i++) this.powerCached(coarse[i]!);
     // Coarse local maxima, best first.
     const starts = this.starts;

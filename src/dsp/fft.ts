@@ -174,6 +174,25 @@ export class RealFft {
     for (let i = n - L; i < n; i++) out[i] = w[i]! * scale;
   }
 
+  /**
+   * inverseLags from an input already scaled and packed as float32 (re, im) per bin, bins
+   * [first, end) only: `packedBins` holds bin k at [2 (k - first)], [2 (k - first) + 1]
+   * (GccKernels.scalePack, ./gcc-kernels.ts, then a view of those bins): the same transform and
+   * output, on PFFFT only (and 1 <= first, end <= n/2).
+   */
+  inversePackedLags(packedBins: Float32Array, first: number, end: number, out: Float64Array, maxLag: number): void {
+    const n = this.size;
+    if (this.backend !== 'pffft' || first < 1 || end > n / 2 || packedBins.length !== 2 * (end - first)) throw new Error('RealFft.inversePackedLags needs PFFFT, bins within 1 .. n/2 and 2 (end - first) numbers');
+    this.pfInv!.view.set(packedBins, 2 * first);
+    const o = this.pfOut!;
+    pffft!.module._pffft_transform_ordered(this.pfSetup, this.pfInv!.ptr, o.ptr, this.pfWork!.ptr, PFFFT_BACKWARD);
+    const w = o.view;
+    const scale = 1 / n;
+    const L = Math.min(maxLag + 1, n / 2 - 1);
+    for (let i = 0; i <= L; i++) out[i] = w[i]! * scale;
+    for (let i = n - L; i < n; i++) out[i] = w[i]! * scale;
+  }
+
   private scratchRe: Float64Array | null = null;
   private scratchIm: Float64Array | null = null;
 

@@ -16,13 +16,15 @@ export class PairCorrelator {
   /** Correlation over integer lags from the inverse FFT (index lag mod N). */
   readonly gcc: Float64Array;
 
+  /** `storage`: the accumulator arrays (n / 2 + 1 each) when they must live elsewhere (the WebAssembly kernels' memory, ./gcc-kernels.ts). */
   constructor(
     readonly n: number,
     readonly maxLag: number,
+    storage?: { accRe: Float64Array; accIm: Float64Array },
   ) {
     const bins = n / 2 + 1;
-    this.accRe = new Float64Array(bins);
-    this.accIm = new Float64Array(bins);
+    this.accRe = storage?.accRe ?? new Float64Array(bins);
+    this.accIm = storage?.accIm ?? new Float64Array(bins);
     this.gcc = new Float64Array(n);
   }
 

@@ -1,4 +1,5 @@
 import type { BandLayout } from './bands.js';
+import type { GccKernels } from './gcc-kernels.js';
 
 /**
  * Per-bin weights for the cross-spectrum memory, from each bin's power over time:
@@ -37,16 +38,32 @@ export class OnsetWeigher {
   private primed = false;
   private readonly invRise: number;
   private readonly invPresence: number;
+  /** The settings as the WebAssembly kernel reads them (null on the JavaScript path). */
+  private readonly kernelSettings: Float64Array | null;
 
+  /**
+   * `kernels`: update() after the first hop runs in WebAssembly (../dsp/gcc-kernels.ts, the same
+   * results bit for bit); then the power and weights arrays given to update() must be the
+   * kernels' too.
+   */
   constructor(
     bins: number,
     private readonly settings: OnsetSettings,
+    private readonly kernels: GccKernels | null = null,
   ) {
-    this.background = new Float64Array(bins);
-    this.noise = new Float64Array(bins);
-    this.smooth = new Float64Array(bins);
+    const f64 = (n: number) => (kernels ? kernels.f64(n) : new Float64Array(n));
+    this.background = f64(bins);
+    this.noise = f64(bins);
+    this.smooth = f64(bins);
     this.invRise = 1 / (Math.max(1.0001, settings.fullRise) - 1);
     this.invPresence = 1 / (Math.max(1.0001, settings.fullPresence) - 1);
+    this.kernelSettings = kernels ? kernels.f64(7) : null;
+    this.kernelSettings?.set([this.invRise, this.invPresence, settings.floor, 1 - settings.floor, settings.backgroundDecay, 1 - settings.backgroundDecay, settings.floorRise]);
+  }
+
+  /** The bytes the kernels' memory needs for a weigher of this many bins. */
+  static kernelBytes(bins: number): number {
+    return 3 * Math.ceil((8 * bins) / 16) * 16 + 64;
   }
 
   /**
@@ -70,6 +87,7 @@ export class OnsetWeigher {
       this.primed = true;
       return 0;
     }
+    if (this.kernels) return this.kernels.onsetUpdate(power, bg, nf, sm, weights, first, end, this.kernelSettings!);
     let tiny = 0;
     for (let k = first; k < end; k++) tiny += bg[k]!;
     tiny = (tiny / Math.max(1, end - first)) * 1e-6 + 1e-30;
@@ -114,8 +132,23 @@ export class OnsetWeigher {
         s += power[k]!;
         n += nf[k]!;
       }
-      const ratio = s / (NOISE_BIAS * n + 1e-30);
-      out[b] = ratio > 1 ? 10 * Math.log10(ratio) : 0;
+      out[b] = snrDbOfSums(s, n);
     }
   }
+
+  /** bandSnrDb from the bands' sums of power and of the noise floor (the kernels' bandSums). */
+  bandSnrDbOfSums(count: number, sumPower: Float64Array, sumNoise: Float64Array, out: Float64Array): void {
+    for (let b = 0; b < count; b++) out[b] = snrDbOfSums(sumPower[b]!, sumNoise[b]!);
+  }
+
+  /** The noise floor per bin (the kernels read it; read-only). */
+  get noiseFloor(): Float64Array {
+    return this.noise;
+  }
+}
+
+/** A band's SNR in dB from its sums of power and of the noise floor (0 when not above the floor's mean). */
+function snrDbOfSums(s: number, n: number): number {
+  const ratio = s / (NOISE_BIAS * n + 1e-30);
+  return ratio > 1 ? 10 * Math.log10(ratio) : 0;
 }

@@ -24,6 +24,7 @@ import type { RecorderOptions } from '../sources/recorder-options.js';
 import { openRecorderSource } from '../sources/recorder-source.js';
 import { startHealthServer } from '../station/health-server.js';
 import type { StationOptions } from '../station/runtime-options.js';
+import { polledStdin } from '../sources/polled-reader.js';
 import { installShutdown, type StationSink } from '../station/shutdown.js';
 import { StatusMonitor } from '../station/status.js';
 import { AnalysisMeter } from '../analysis/analysis-meter.js';
@@ -98,7 +99,8 @@ async function openSource(plan: LivePlan): Promise<AudioSource> {
   const blockFrames = plan.setup.options.hop;
   if (plan.input.kind === 'stdin') {
     const { sampleRate, channels } = plan.input;
-    return openPcmStreamSource(process.stdin, { sampleRate, channels, blockFrames, onWarning: stderrWarning, live: {} });
+    const everyMs = plan.station.readEvery * 1000;
+    return openPcmStreamSource(everyMs > 0 ? polledStdin(everyMs) : process.stdin, { sampleRate, channels, blockFrames, onWarning: stderrWarning, live: {} });
   }
   return openRecorderSource(plan.input.recorder, { blockFrames, onWarning: stderrWarning });
 }

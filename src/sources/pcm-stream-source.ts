@@ -6,6 +6,7 @@ import { checkOptionValue } from '../options/option-spec.js';
 import { StreamClock } from './stream-clock.js';
 import { CHANNELS_SPEC, checkBlockFrames, RATE_SPEC } from './stream-options.js';
 import { stderrWarning } from '../util/stderr-warning.js';
+import { pollFd, type PolledInput } from './polled-reader.js';
 
 export interface PcmStreamOptions {
   sampleRate: number;
@@ -26,13 +27,14 @@ export interface PcmStreamOptions {
 
 
 /**
- * Raw interleaved signed 16-bit little-endian PCM from a Readable (e.g. process.stdin).
+ * Raw interleaved signed 16-bit little-endian PCM from a Readable (e.g. process.stdin), or
+ * from a descriptor collected every so often (PolledInput: a live station's stdin).
  * Pull-based: the next chunk is read only when the consumer asks for the next block, so
  * a fast producer is held back by the stream's own back-pressure, and memory stays at
  * one block plus the stream's buffer. Chunks may split samples and frames anywhere.
  * blocks() may be called once.
  */
-export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): AudioSource {
+export function openPcmStreamSource(input: Readable | PolledInput, opts: PcmStreamOptions): AudioSource {
   const sampleRate = checkOptionValue(RATE_SPEC, opts.sampleRate) as number;
   const channels = checkOptionValue(CHANNELS_SPEC, opts.channels) as number;
   const blockFrames = checkBlockFrames(opts.blockFrames);
@@ -41,6 +43,11 @@ export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): A
   const assembler = new FrameAssembler('s16', channels, blockFrames);
   let started = false;
   let closed = false;
+  let stop: () => void = () => undefined;
+  const stopped = new Promise<void>((r) => (stop = r));
+  const polled = 'kind' in input && input.kind === 'polled' ? input : null;
+  const stream = polled ? null : (input as Readable);
+  const chunks: AsyncIterable<unknown> = polled ? pollFd(polled.fd, polled.everyMs, sampleRate * channels * 2, stopped) : stream!;
 
   const clock = opts.live ? new StreamClock(sampleRate) : null;
   let framesOut = 0;
@@ -58,7 +65,7 @@ export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): A
     if (started) throw new Error('openPcmStreamSource: blocks() may be called only once');
     started = true;
     try {
-      for await (const chunk of stream) {
+      for await (const chunk of chunks) {
         if (closed) break;
         if (!(chunk instanceof Uint8Array)) throw new Error(`openPcmStreamSource: ${name} gives text, not bytes; do not set an encoding on it`);
         let at = 0;
@@ -85,7 +92,8 @@ export function openPcmStreamSource(stream: Readable, opts: PcmStreamOptions): A
     async close() {
       if (closed) return;
       closed = true;
-      stream.destroy();
+      stop();
+      stream?.destroy();
     },
   };
 }

@@ -20,6 +20,8 @@ export interface StationOptions {
   healthAllowHosts: string | null;
   /** Seconds to wait for the sinks to close on SIGINT/SIGTERM before giving up. */
   closeTimeout: number;
+  /** Seconds between reads of live audio on stdin (all that has arrived); 0 = as it arrives. */
+  readEvery: number;
 }
 
 export const stationOptionSpecs: readonly OptionSpec<keyof StationOptions>[] = [
@@ -31,6 +33,7 @@ export const stationOptionSpecs: readonly OptionSpec<keyof StationOptions>[] = [
     defaultText: 'none',
     check: hostListProblem,
   }),
+  numberOption('readEvery', 'read-every', 's', 0.1, { min: 0, max: 1, unit: 's' }, 'with --stdin, collect the audio that has arrived this often: fewer wake-ups, less CPU, up to this much more latency (0 = as it arrives)'),
   numberOption('closeTimeout', 'close-timeout', 's', 10, { min: 0, max: 600, minExclusive: true, unit: 's' }, 'on SIGINT/SIGTERM, wait this long for files and the broker to close'),
 ];
 

@@ -165,7 +165,10 @@ export function coreCases(): [string, ArrayGeometry][] {
   ];
 }
 
-export function printCore(rows: CoreFigures[], fft = 'PFFFT (WebAssembly SIMD)'): void {
+export const KERNELS_JS_TITLE = 'PFFFT, per-bin kernels in JavaScript (BEARLINE_KERNELS=js)';
+export const FALLBACK_TITLE = 'fft.js and JavaScript kernels (the fallback, BEARLINE_FFT=fftjs)';
+
+export function printCore(rows: CoreFigures[], fft = 'PFFFT (WebAssembly SIMD), per-bin kernels in WebAssembly SIMD'): void {
   console.log(`core analysis at 48 kHz, frame 1024, hop 512, one core, FFT ${fft}:`);
   console.log('  case                      ch pairs  us/hop  floor us  x floor  x real time  numpy us  numpy/bearline');
   for (const r of rows) {
@@ -176,16 +179,18 @@ export function printCore(rows: CoreFigures[], fft = 'PFFFT (WebAssembly SIMD)')
 }
 
 /**
- * The same cases on the fft.js fallback (BEARLINE_FFT=fftjs, in a child process: the FFT is
- * chosen when the program loads), against the numpy figures of this run's PFFFT rows.
+ * The same cases on the pure-JavaScript fallback (BEARLINE_FFT=fftjs: fft.js and the JavaScript
+ * kernels), or with `env` given another path (BEARLINE_KERNELS=js: PFFFT with the JavaScript
+ * kernels), in a child process (both are chosen when the program loads), against the numpy
+ * figures of this run's rows.
  */
-export function fallbackRows(pffftRows: readonly CoreFigures[]): CoreFigures[] {
+export function fallbackRows(pffftRows: readonly CoreFigures[], env: Record<string, string> = { BEARLINE_FFT: 'fftjs' }): CoreFigures[] {
   const r = spawnSync(process.execPath, ['--import', 'tsx', fileURLToPath(import.meta.url), '--fallback-json'], {
     encoding: 'utf8',
-    env: { ...process.env, BEARLINE_FFT: 'fftjs' },
+    env: { ...process.env, ...env },
     maxBuffer: 1 << 20,
   });
-  if (r.status !== 0) throw new Error(`fft.js fallback bench failed: ${r.stderr}`);
+  if (r.status !== 0) throw new Error(`fallback bench (${JSON.stringify(env)}) failed: ${r.stderr}`);
   const rows = JSON.parse(r.stdout) as CoreFigures[];
   return rows.map((row, i) => {
     const np = pffftRows[i]?.numpyUsPerHop ?? null;
@@ -203,7 +208,8 @@ if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
     const rows = coreCases().map(([n, g]) => benchCase(n, g));
     printCore(rows);
     console.log(CORE_TARGETS);
-    printCore(fallbackRows(rows), 'fft.js (fallback, BEARLINE_FFT=fftjs)');
+    printCore(fallbackRows(rows, { BEARLINE_KERNELS: 'js' }), KERNELS_JS_TITLE);
+    printCore(fallbackRows(rows), FALLBACK_TITLE);
     const m = benchMemory();
     console.log(`peak RSS of scan: 1-minute stereo ${m.oneMinMb.toFixed(0)} MB, 10-minute stereo ${m.tenMinMb.toFixed(0)} MB`);
   }

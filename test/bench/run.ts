@@ -8,7 +8,7 @@
  */
 import { accuracyMatrixCli } from './accuracy-matrix.js';
 import { motionMatrixCli } from './motion-matrix.js';
-import { benchCase, benchMemory, CORE_TARGETS, coreCases, fallbackRows, printCore } from './core.js';
+import { benchCase, benchMemory, CORE_TARGETS, coreCases, FALLBACK_TITLE, fallbackRows, KERNELS_JS_TITLE, printCore } from './core.js';
 import { benchStages, formatStages } from './stages.js';
 import { runStationCpuBench } from './station-cpu.js';
 import { runFeedLatencyBench } from './feed-latency.js';
@@ -34,7 +34,9 @@ async function main(): Promise<void> {
     stereoUsPerHop = rows[0]!.usPerHop;
     console.log(CORE_TARGETS);
     console.log('');
-    printCore(fallbackRows(rows), 'fft.js (fallback, BEARLINE_FFT=fftjs)');
+    printCore(fallbackRows(rows, { BEARLINE_KERNELS: 'js' }), KERNELS_JS_TITLE);
+    console.log('');
+    printCore(fallbackRows(rows), FALLBACK_TITLE);
   }
   if (want('stages')) {
     console.log('\n' + formatStages(coreCases().map(([n, g]) => benchStages(n, g)), 'cost per stage, us per hop (defaults; best of 5 passes over 10 s of noise):'));

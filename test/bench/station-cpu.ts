@@ -3,11 +3,14 @@
  * (1) per array preset, the CPU share of one core that the per-hop path (analysis, tracking,
  *     records; test/bench/stages.ts) needs at real time, with the defaults and with the
  *     `station-low-cpu` profile's analysis and tracker settings, measured in this run;
- * (2) a live station: the built `bearline listen --stdin` with a 4-mic square, its record log
+ * (2) live stations: the built `bearline listen --stdin` with a 4-mic square, its record log
  *     on (--log-dir, --quiet), fed raw PCM at real-time pace (20 ms blocks on a fixed
- *     schedule); the CPU time of the listen process (/proc/PID/stat, user + system) over the
+ *     schedule), three at once on the same writes (liveStationShares: the same seconds of the
+ *     machine's load for each); the CPU time of each listen process (/proc/PID/stat, user + system) over the
  *     wall time after the first WARM_S seconds (start-up and JIT warm-up left out), with the
- *     defaults and with --profile station-low-cpu.
+ *     defaults (stdin collected every 0.1 s), with --profile station-low-cpu (every 0.25 s, at
+ *     most what fills three quarters of a 64 KiB pipe: 0.128 s here) and with the defaults
+ *     reading every write as it arrives (--read-every 0).
  * Report only: nothing here passes or fails on a time. The machine may be shared: the share of
  * a busy machine is higher than that of a quiet one (CPU time grows when caches are shared).
  *
@@ -88,39 +91,65 @@ export interface LiveShare {
   seconds: number;
 }
 
-export async function liveStationShare(profile: string | null, seconds = 30, nodeFlags: string[] = []): Promise<LiveShare> {
+export interface LiveCase {
+  profile: string | null;
+  /** More listen options. */
+  args?: string[];
+  nodeFlags?: string[];
+}
+
+export async function liveStationShare(profile: string | null, seconds = 30, nodeFlags: string[] = [], listenArgs: string[] = []): Promise<LiveShare> {
+  return (await liveStationShares([{ profile, args: listenArgs, nodeFlags }], seconds))[0]!;
+}
+
+/**
+ * Several live stations side by side, fed the same writes on the same schedule, so that each
+ * one's CPU is measured over the same seconds of a shared machine's load (their ratio is then
+ * fair; one after the other, the load moved between runs by more than the differences).
+ */
+export async function liveStationShares(cases: LiveCase[], seconds = 30): Promise<LiveShare[]> {
   const data = pcm(seconds);
-  const dir = mkdtempSync(join(tmpdir(), 'bearline-station-cpu-'));
   const array = fileURLToPath(new URL('../../configs/arrays/square-10cm.json', import.meta.url));
-  const args = [...nodeFlags, BIN, 'listen', '--stdin', '--rate', String(RATE), '--channels', String(CHANNELS), '--array', array, '--log-dir', dir, '--quiet', '--status-every', '0'];
-  if (profile) args.push('--profile', profile);
-  const child = spawn(process.execPath, args, { stdio: ['pipe', 'ignore', 'pipe'] });
-  let err = '';
-  child.stderr.setEncoding('utf8').on('data', (d: string) => (err += d));
-  const exited = new Promise<number | null>((r) => child.once('exit', r));
+  const runs = cases.map((c) => {
+    const dir = mkdtempSync(join(tmpdir(), 'bearline-station-cpu-'));
+    const args = [...(c.nodeFlags ?? []), BIN, 'listen', '--stdin', '--rate', String(RATE), '--channels', String(CHANNELS), '--array', array, '--log-dir', dir, '--quiet', '--status-every', '0'];
+    if (c.profile) args.push('--profile', c.profile);
+    args.push(...(c.args ?? []));
+    const child = spawn(process.execPath, args, { stdio: ['pipe', 'ignore', 'pipe'] });
+    let err = '';
+    child.stderr.setEncoding('utf8').on('data', (d: string) => (err += d));
+    const exited = new Promise<number | null>((r) => child.once('exit', r));
+    return { c, dir, child, exited, err: () => err, mark: null as { ticks: number; ms: number } | null, last: { ticks: 0, ms: 0 } };
+  });
   try {
     const bytesPerBlock = BLOCK * CHANNELS * 2;
     const blocks = Math.floor(data.length / bytesPerBlock);
     const blockMs = (BLOCK / RATE) * 1000;
     const t0 = performance.now();
-    let mark: { ticks: number; ms: number } | null = null;
-    let last = { ticks: 0, ms: 0 };
     for (let k = 0; k < blocks; k++) {
       const due = t0 + k * blockMs;
       const wait = due - performance.now();
       if (wait > 0) await new Promise((r) => setTimeout(r, wait));
-      child.stdin.write(data.subarray(k * bytesPerBlock, (k + 1) * bytesPerBlock));
-      if (mark === null && k * blockMs >= WARM_S * 1000) mark = { ticks: cpuTicks(child.pid!), ms: performance.now() };
-      last = { ticks: cpuTicks(child.pid!), ms: performance.now() };
+      for (const r of runs) r.child.stdin.write(data.subarray(k * bytesPerBlock, (k + 1) * bytesPerBlock));
+      for (const r of runs) {
+        if (r.mark === null && k * blockMs >= WARM_S * 1000) r.mark = { ticks: cpuTicks(r.child.pid!), ms: performance.now() };
+        r.last = { ticks: cpuTicks(r.child.pid!), ms: performance.now() };
+      }
     }
-    if (mark === null) throw new Error(`run longer than ${WARM_S} s`);
-    child.stdin.end();
-    const code = await exited;
-    if (code !== 0) throw new Error(`listen ended with ${code}: ${err}`);
-    return { profile: profile ?? 'defaults', cpuPct: (100 * ((last.ticks - mark.ticks) / HZ)) / ((last.ms - mark.ms) / 1000), seconds: (last.ms - mark.ms) / 1000 };
+    const out: LiveShare[] = [];
+    for (const r of runs) {
+      if (r.mark === null) throw new Error(`run longer than ${WARM_S} s`);
+      r.child.stdin.end();
+      const code = await r.exited;
+      if (code !== 0) throw new Error(`listen ended with ${code}: ${r.err()}`);
+      out.push({ profile: r.c.profile ?? 'defaults', cpuPct: (100 * ((r.last.ticks - r.mark.ticks) / HZ)) / ((r.last.ms - r.mark.ms) / 1000), seconds: (r.last.ms - r.mark.ms) / 1000 });
+    }
+    return out;
   } finally {
-    if (child.exitCode === null) child.kill();
-    rmSync(dir, { recursive: true, force: true });
+    for (const r of runs) {
+      if (r.child.exitCode === null) r.child.kill();
+      rmSync(r.dir, { recursive: true, force: true });
+    }
   }
 }
 
@@ -130,11 +159,11 @@ export async function runStationCpuBench(liveSeconds = 30): Promise<string[]> {
   for (const r of presetShares()) {
     lines.push(`  ${r.name.padEnd(25)} ${`${r.defaultsPct.toFixed(2)}%`.padStart(9)} ${`${r.lowCpuPct.toFixed(2)}%`.padStart(16)}  ${(r.lowCpuPct / r.defaultsPct).toFixed(2).padStart(12)}`);
   }
-  const d = await liveStationShare(null, liveSeconds);
-  const l = await liveStationShare(LOW_CPU, liveSeconds);
+  const [d, l, each] = (await liveStationShares([{ profile: null }, { profile: LOW_CPU }, { profile: null, args: ['--read-every', '0'] }], liveSeconds)) as [LiveShare, LiveShare, LiveShare];
   lines.push(
-    `live station (listen --stdin, 4-mic square 10 cm, record log on, paced at real time, CPU over the ${d.seconds.toFixed(0)} s after the first ${WARM_S} s): ` +
-      `defaults ${d.cpuPct.toFixed(1)}% of one core, ${LOW_CPU} ${l.cpuPct.toFixed(1)}% (ratio ${(l.cpuPct / d.cpuPct).toFixed(2)})`,
+    `live stations side by side (listen --stdin, 4-mic square 10 cm, record log on, the same 20 ms writes at real-time pace, CPU over the ${d.seconds.toFixed(0)} s after the first ${WARM_S} s): ` +
+      `defaults ${d.cpuPct.toFixed(1)}% of one core, ${LOW_CPU} ${l.cpuPct.toFixed(1)}% (ratio ${(l.cpuPct / d.cpuPct).toFixed(2)}); ` +
+      `defaults reading every write (--read-every 0) ${each.cpuPct.toFixed(1)}%`,
   );
   lines.push('  targets (issue 14): defaults at most 3% of one core, station-low-cpu at most half of the defaults');
   return lines;

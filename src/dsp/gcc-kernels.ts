@@ -1,0 +1,401 @@
+import { existsSync, readFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
+import type { BandLayout } from './bands.js';
+import { assembleWat, kernelTextPath } from './gcc-kernels-assemble.js';
+
+/**
+ * The per-bin kernels of the analysis in WebAssembly SIMD (./gcc-kernels.wat): PHAT magnitudes,
+ * the cross-spectrum memory, band scores, the Newton refinement's derivatives and the hop
+ * coherence, two double-precision lanes per instruction. Every lane repeats the JavaScript
+ * kernel's arithmetic in the same order (./gcc.ts, ./gcc-lanes.ts), so the results are bit for
+ * bit those of the JavaScript path (checked by test/dsp/gcc-kernels.test.ts and, hop by hop
+ * over the matrix, by test/bench/hop-diff.ts). The JavaScript kernels stay as the fallback:
+ * without WebAssembly SIMD, with BEARLINE_KERNELS=js, or with BEARLINE_FFT=fftjs (the whole
+ * JavaScript path: the fft.js FFT's spectra are double precision, which the float32 kernels do not take).
+ *
+ * Each analyzer gets its own instance and memory (sized once: views never go stale); the arrays
+ * the kernels touch are views into that memory, handed out by f64() and friends.
+ */
+/** The part of the WebAssembly API used here (the project's TypeScript lib has no DOM types). */
+interface WasmMemory {
+  readonly buffer: ArrayBuffer;
+  grow(pages: number): number;
+}
+type WasmModule = object;
+declare const WebAssembly: {
+  Module: new (bytes: Uint8Array) => WasmModule;
+  Instance: new (module: WasmModule, imports: object) => { readonly exports: object };
+};
+
+interface KernelExports {
+  memory: WasmMemory;
+  magnitudes(spec: number, power: number, inv: number, k0: number, k1: number): void;
+  times(w: number, inv: number, out: number, k0: number, k1: number): void;
+  srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
+  srp_search(args: number): number;
+  window4(x0: number, x1: number, x2: number, x3: number, win: number, w0: number, w1: number, w2: number, w3: number, n: number, ms: number): void;
+  band_sums(power: number, nf: number, acc: number, w: number, m: number, starts: number, ends: number, nb: number, sp: number, sn: number, sa: number, k0: number, k1: number): void;
+  onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number): number;
+  scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
+  accumulate(a: number, b: number, wa: number, ib: number, ar: number, ai: number, k0: number, k1: number, m: number): void;
+  band_scores4(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
+  band_scores2(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
+  derivatives2(arA: number, aiA: number, arB: number, aiB: number, use: number, starts: number, ends: number, nb: number, w0: number, ph: number, out: number): void;
+  hop_coherence2(a0: number, b0: number, a1: number, b1: number, ia0: number, ib0: number, ia1: number, ib1: number, k0: number, k1: number, ph: number, out: number): void;
+}
+
+/** The accumulated cross-spectrum of one pair (PairCorrelator's accRe, accIm), as the kernels read it. */
+export interface CrossSpectrum {
+  readonly accRe: Float64Array;
+  readonly accIm: Float64Array;
+  readonly maxLag: number;
+}
+
+async function loadModule(): Promise<WasmModule | null> {
+  // The JavaScript path whole: kernels off, or the fft.js FFT asked for.
+  if (process.env.BEARLINE_KERNELS === 'js' || process.env.BEARLINE_FFT === 'fftjs') return null;
+  try {
+    const binary = fileURLToPath(new URL('./gcc-kernels.wasm', import.meta.url));
+    if (existsSync(binary)) return new WebAssembly.Module(readFileSync(binary));
+    // Running from src/ (tsx, vitest): assemble the text now (wabt, a development dependency).
+    const text = kernelTextPath(import.meta.url);
+    if (!existsSync(text)) return null;
+    return new WebAssembly.Module(await assembleWat(readFileSync(text, 'utf8'), 'gcc-kernels.wat'));
+  } catch {
+    return null;
+  }
+}
+
+const compiled: WasmModule | null = await loadModule();
+
+/** Are the WebAssembly kernels available (compiled, and not switched off by BEARLINE_KERNELS=js or BEARLINE_FFT=fftjs)? */
+export function wasmKernelsAvailable(): boolean {
+  return compiled !== null;
+}
+
+const ALIGN = 16;
+/** Numbers in srp_search's argument block. */
+export const SRP_SEARCH_ARGS = 19;
+/** Scratch for phasors: 4 doubles of steps, then 4 per band (32 bands at most), and more. */
+const SCRATCH_DOUBLES = 4 + 4 * 64 + 16;
+
+export class GccKernels {
+  private readonly x: KernelExports;
+  private readonly buffer: ArrayBuffer;
+  private used = 0;
+  private readonly limit: number;
+  /** Phasor scratch (ph) and kernel output (4 doubles). */
+  private readonly ph: Float64Array;
+  private readonly out: Float64Array;
+  private bandEnds: Int32Array | null = null;
+  private bandStarts: Int32Array | null = null;
+  private bands: BandLayout | null = null;
+
+  private constructor(module: WasmModule, bytes: number) {
+    const instance = new WebAssembly.Instance(module, {});
+    this.x = instance.exports as unknown as KernelExports;
+    const mem = this.x.memory;
+    const need = bytes + SCRATCH_DOUBLES * 8 + 64 + 4 * ALIGN;
+    const pages = Math.ceil(need / 65536) - mem.buffer.byteLength / 65536;
+    if (pages > 0) mem.grow(pages);
+    this.buffer = mem.buffer;
+    this.limit = this.buffer.byteLength;
+    this.used = ALIGN; // offset 0 stays unused: a null pointer means "none"
+    this.ph = this.f64(SCRATCH_DOUBLES);
+    this.out = this.f64(4);
+  }
+
+  /** Kernels with room for `bytes` of arrays, or null when the WebAssembly kernels are not available. */
+  static create(bytes: number): GccKernels | null {
+    return compiled === null ? null : new GccKernels(compiled, bytes);
+  }
+
+  private take(bytes: number): number {
+    const at = this.used;
+    this.used = at + Math.ceil(bytes / ALIGN) * ALIGN;
+    if (this.used > this.limit) throw new Error('GccKernels: memory reserved for the arrays is too small');
+    return at;
+  }
+
+  f64(n: number): Float64Array {
+    return new Float64Array(this.buffer, this.take(8 * n), n);
+  }
+
+  f32(n: number): Float32Array {
+    return new Float32Array(this.buffer, this.take(4 * n), n);
+  }
+
+  i32(n: number): Int32Array {
+    return new Int32Array(this.buffer, this.take(4 * n), n);
+  }
+
+  u8(n: number): Uint8Array {
+    return new Uint8Array(this.buffer, this.take(n), n);
+  }
+
+  /** The bytes to reserve for arrays of these lengths (with alignment). */
+  static bytesFor(f64s: number[], f32s: number[] = [], u8s: number[] = []): number {
+    let total = 0;
+    for (const n of f64s) total += Math.ceil((8 * n) / ALIGN) * ALIGN;
+    for (const n of f32s) total += Math.ceil((4 * n) / ALIGN) * ALIGN; // int32 arrays count here too
+    for (const n of u8s) total += Math.ceil(n / ALIGN) * ALIGN;
+    return total;
+  }
+
+  /** The band layout the band kernels use (copied in once). */
+  setBands(bands: BandLayout): void {
+    if (bands.count > 64) throw new Error('GccKernels: at most 64 bands');
+    this.bands = bands;
+    const at = this.take(8 * bands.count);
+    this.bandEnds = new Int32Array(this.buffer, at, bands.count);
+    this.bandStarts = new Int32Array(this.buffer, at + 4 * bands.count, bands.count);
+    this.bandEnds.set(bands.end);
+    this.bandStarts.set(bands.start);
+  }
+
+  /**
+   * An array's address in the kernels' memory. Every array passed to a kernel must come from this
+   * instance (f64(), f32(), u8()); owns() checks that, once, where the arrays are set up (the
+   * check on every call cost 3 % of the analysis).
+   */
+  private ptr(view: Float64Array | Float32Array | Int32Array | Uint8Array): number {
+    return view.byteOffset;
+  }
+
+  /** Is this array a view into this instance's memory? */
+  owns(view: Float64Array | Float32Array | Int32Array | Uint8Array): boolean {
+    return view.buffer === this.buffer;
+  }
+
+  /** Per bin of [k0, k1): power[k] += |X_k|^2 and inv[k] = 1 / |X_k| (0 for an empty bin); spectrum interleaved float32. */
+  magnitudes(spec: Float32Array, power: Float64Array, inv: Float64Array, k0: number, k1: number): void {
+    this.x.magnitudes(this.ptr(spec), this.ptr(power), this.ptr(inv), k0, k1);
+  }
+
+  /**
+   * The steered response at the grid points pts[from .. from + count) (SrpDirectionModel.powerAt,
+   * ../direction/srp-search.ts): power[g] = sum over pairs p of the correlation table t
+   * interpolated at idx[g P + p] + frac[g P + p]; stamp[g] = hop.
+   */
+  srpPower(t: Float64Array, idx: Int32Array, frac: Float64Array, P: number, pts: Int32Array, from: number, count: number, power: Float64Array, stamp: Int32Array, hop: number): void {
+    this.x.srp_power(this.ptr(t), this.ptr(idx), this.ptr(frac), P, this.ptr(pts) + 4 * from, count, this.ptr(power), this.ptr(stamp), hop);
+  }
+
+  /**
+   * The rest of the steered-response search after the coarse pass (SrpDirectionModel.findCandidates,
+   * ../direction/srp-search.ts: coarse maxima, climbs, distinct end points best first). `args`
+   * (from i32(SRP_SEARCH_ARGS)) holds, in order, the addresses of the lag table, grid indices and
+   * fractions, P, the powers, stamps, the hop, the coarse points and their count, the coarse and
+   * fine neighbour lists (start, list, start, list), the starts' capacity, starts and their powers,
+   * found points and scores (the outputs), and maxCount. Returns how many were found.
+   */
+  srpSearch(args: Int32Array): number {
+    return this.x.srp_search(this.ptr(args));
+  }
+
+  /** The address of an array in this memory (for argument blocks). */
+  address(view: Float64Array | Float32Array | Int32Array | Uint8Array): number {
+    return view.byteOffset;
+  }
+
+  /**
+   * OnsetWeigher.update (./onset.ts) after its first hop: the background, noise floor and
+   * smoothed power per bin updated, the weights written; returns the onset strength. `q` holds
+   * [invRise, invPresence, floor, 1 - floor, backgroundDecay, 1 - backgroundDecay, floorRise].
+   */
+  onsetUpdate(power: Float64Array, bg: Float64Array, nf: Float64Array, sm: Float64Array, weights: Float64Array, k0: number, k1: number, q: Float64Array): number {
+    return this.x.onset_update(this.ptr(power), this.ptr(bg), this.ptr(nf), this.ptr(sm), this.ptr(weights), k0, k1, this.ptr(q));
+  }
+
+  /**
+   * The weight stage's sums over the bands of setBands(): acc[k] = memory * acc[k] + w[k] over
+   * [k0, k1), then per band the sums of power, of the noise floor and of acc (bin by bin, in order)
+   * into sumPower[b], sumNoise[b], sumAcc[b].
+   */
+  bandSums(power: Float64Array, noise: Float64Array, acc: Float64Array, w: Float64Array, memory: number, sumPower: Float64Array, sumNoise: Float64Array, sumAcc: Float64Array, k0: number, k1: number): void {
+    const bands = this.bands!;
+    this.x.band_sums(this.ptr(power), this.ptr(noise), this.ptr(acc), this.ptr(w), memory, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, this.ptr(sumPower), this.ptr(sumNoise), this.ptr(sumAcc), k0, k1);
+  }
+
+  /**
+   * Four frames x[0..3] (float64, in this memory) times the window into w[0..3] (float32), each
+   * frame's sum of squares (sample by sample, in order) into ms[0..3]. For fewer channels, repeat
+   * a frame and give spare outputs.
+   */
+  window4(x: readonly Float64Array[], win: Float64Array, w: readonly Float32Array[], ms: Float64Array): void {
+    this.x.window4(this.ptr(x[0]!), this.ptr(x[1]!), this.ptr(x[2]!), this.ptr(x[3]!), this.ptr(win), this.ptr(w[0]!), this.ptr(w[1]!), this.ptr(w[2]!), this.ptr(w[3]!), win.length, this.ptr(ms));
+  }
+
+  /** out[k] = w[k] * inv[k] over [k0, k1). */
+  times(w: Float64Array, inv: Float64Array, out: Float64Array, k0: number, k1: number): void {
+    this.x.times(this.ptr(w), this.ptr(inv), this.ptr(out), k0, k1);
+  }
+
+  /**
+   * The input of an inverse FFT of bins [k0, k1) of a pair's cross-spectrum, each bin scaled by
+   * binScale[k] (null: unscaled), as float32 interleaved (re, im) into `packed` (n floats): what
+   * RealFft.inverseLags writes into PFFFT's buffer (./fft.ts, RealFft.inversePackedLags takes it).
+   */
+  scalePack(pc: CrossSpectrum, binScale: Float64Array | null, packed: Float32Array, k0: number, k1: number): void {
+    this.x.scale_pack(this.ptr(pc.accRe), this.ptr(pc.accIm), binScale === null ? 0 : this.ptr(binScale), this.ptr(packed), k0, k1);
+  }
+
+  /** PairCorrelator.accumulate (./gcc.ts) on float32 spectra in this memory. */
+  accumulate(pc: CrossSpectrum, a: Float32Array, b: Float32Array, weightedInvA: Float64Array, invB: Float64Array, k0: number, k1: number, memory: number): void {
+    this.x.accumulate(this.ptr(a), this.ptr(b), this.ptr(weightedInvA), this.ptr(invB), this.ptr(pc.accRe), this.ptr(pc.accIm), k0, k1, memory);
+  }
+
+  /**
+   * addBandScoresLanes (./gcc-lanes.ts): pair `pc`'s band scores at `count` lags
+   * lags[lagOffset + i * lagStride] (frame n) added into scoresOut[b * stride + offset + i];
+   * bands whose needed[b] is not above 0 are skipped (null: none). Uses the bands of setBands().
+   */
+  addBandScores(pc: CrossSpectrum, n: number, lags: Float64Array, lagOffset: number, lagStride: number, count: number, scoresOut: Float64Array, stride: number, offset: number, needed: Float64Array | null): void {
+    const bands = this.bands!;
+    const k0 = bands.firstBin;
+    const ph = this.ph;
+    const ar = this.ptr(pc.accRe);
+    const ai = this.ptr(pc.accIm);
+    const ends = this.bandEnds!.byteOffset;
+    const need = needed === null ? 0 : this.ptr(needed);
+    const out = this.ptr(scoresOut);
+    let i = 0;
+    for (; i + 4 <= count; i += 4) {
+      const o = lagOffset + i * lagStride;
+      setPhasors(ph, 0, lags[o]!, lags[o + lagStride]!, n, k0);
+      setPhasors(ph, 8, lags[o + 2 * lagStride]!, lags[o + 3 * lagStride]!, n, k0);
+      this.x.band_scores4(ar, ai, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, 4);
+    }
+    if (count - i === 3) {
+      // three lags in one pass (the fourth lane repeats the third and is not written)
+      const o = lagOffset + i * lagStride;
+      setPhasors(ph, 0, lags[o]!, lags[o + lagStride]!, n, k0);
+      setPhasors(ph, 8, lags[o + 2 * lagStride]!, lags[o + 2 * lagStride]!, n, k0);
+      this.x.band_scores4(ar, ai, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, 3);
+      return;
+    }
+    if (i < count) {
+      const o = lagOffset + i * lagStride;
+      const two = i + 2 <= count;
+      setPhasors(ph, 0, lags[o]!, lags[two ? o + lagStride : o]!, n, k0);
+      this.x.band_scores2(ar, ai, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, two ? 2 : 1);
+      if (two && i + 2 < count) {
+        const o2 = lagOffset + (i + 2) * lagStride;
+        setPhasors(ph, 0, lags[o2]!, lags[o2]!, n, k0);
+        this.x.band_scores2(ar, ai, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i + 2), stride, need, 1);
+      }
+    }
+  }
+
+  /**
+   * refineLagLanes (./gcc-lanes.ts) with the derivatives in WebAssembly: pair p of `pcs` from
+   * lagsIn[lagOffset + p] into lagsOut[p], Newton steps on the bands flagged in `useBand` (an
+   * array from u8()). `d` is scratch of 2 * pcs.length numbers, `active` of pcs.length.
+   */
+  refineLags(pcs: readonly CrossSpectrum[], n: number, useBand: Uint8Array, lagsIn: Float64Array, lagOffset: number, lagsOut: Float64Array, d: Float64Array, active: Uint8Array, iterations = 2): void {
+    const P = pcs.length;
+    for (let p = 0; p < P; p++) {
+      lagsOut[p] = lagsIn[lagOffset + p]!;
+      active[p] = 1;
+    }
+    for (let it = 0; it < iterations; it++) {
+      let pending = -1;
+      for (let p = 0; p < P; p++) {
+        if (!active[p]) continue;
+        if (pending < 0) {
+          pending = p;
+          continue;
+        }
+        this.derivatives2(pcs[pending]!, pcs[p]!, n, useBand, lagsOut[pending]!, lagsOut[p]!, d, 2 * pending, 2 * p);
+        pending = -1;
+      }
+      if (pending >= 0) this.derivatives2(pcs[pending]!, pcs[pending]!, n, useBand, lagsOut[pending]!, lagsOut[pending]!, d, 2 * pending, 2 * pending);
+      let any = false;
+      for (let p = 0; p < P; p++) {
+        if (!active[p]) continue;
+        const d1 = d[2 * p]!;
+        const d2 = d[2 * p + 1]!;
+        if (!(d2 < 0)) {
+          active[p] = 0;
+          continue;
+        }
+        let delta = -d1 / d2;
+        if (delta > 0.5) delta = 0.5;
+        else if (delta < -0.5) delta = -0.5;
+        lagsOut[p] = lagsOut[p]! + delta;
+        if (Math.abs(delta) < 1e-5) active[p] = 0;
+        else any = true;
+      }
+      if (!any) break;
+    }
+    for (let p = 0; p < P; p++) {
+      const lag = lagsIn[lagOffset + p]!;
+      let tau = lagsOut[p]!;
+      if (tau > lag + 1) tau = lag + 1;
+      if (tau < lag - 1) tau = lag - 1;
+      const L = pcs[p]!.maxLag;
+      lagsOut[p] = Math.max(-L, Math.min(L, tau));
+    }
+  }
+
+  private derivatives2(pa: CrossSpectrum, pb: CrossSpectrum, n: number, useBand: Uint8Array, ta: number, tb: number, d: Float64Array, oa: number, ob: number): void {
+    const bands = this.bands!;
+    const w0 = (2 * Math.PI) / n;
+    const ph = this.ph;
+    const stepA = w0 * ta;
+    const stepB = w0 * tb;
+    ph[0] = Math.cos(stepA);
+    ph[1] = Math.cos(stepB);
+    ph[2] = Math.sin(stepA);
+    ph[3] = Math.sin(stepB);
+    for (let b = 0; b < bands.count; b++) {
+      if (!useBand[b]) continue;
+      const s = bands.start[b]!;
+      const o = 4 + 4 * b;
+      ph[o] = Math.cos(stepA * s);
+      ph[o + 1] = Math.cos(stepB * s);
+      ph[o + 2] = Math.sin(stepA * s);
+      ph[o + 3] = Math.sin(stepB * s);
+    }
+    this.x.derivatives2(this.ptr(pa.accRe), this.ptr(pa.accIm), this.ptr(pb.accRe), this.ptr(pb.accIm), this.ptr(useBand), this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, w0, ph.byteOffset, this.out.byteOffset);
+    const r = this.out;
+    d[oa] = r[0]!;
+    d[oa + 1] = r[2]!;
+    d[ob] = r[1]!;
+    d[ob + 1] = r[3]!;
+  }
+
+  /**
+   * hopCoherence2 (./gcc-lanes.ts) on float32 spectra in this memory: pair 0 (a0, b0 at lag0) into
+   * out[0], pair 1 into out[1]. For one pair alone, pass it twice.
+   */
+  hopCoherence2(
+    a0: Float32Array, b0: Float32Array, invA0: Float64Array, invB0: Float64Array, lag0: number,
+    a1: Float32Array, b1: Float32Array, invA1: Float64Array, invB1: Float64Array, lag1: number,
+    n: number, first: number, end: number, out: Float64Array,
+  ): void {
+    if (end <= first) {
+      out[0] = 0;
+      out[1] = 0;
+      return;
+    }
+    setPhasors(this.ph, 0, lag0, lag1, n, first);
+    this.x.hop_coherence2(this.ptr(a0), this.ptr(b0), this.ptr(a1), this.ptr(b1), this.ptr(invA0), this.ptr(invB0), this.ptr(invA1), this.ptr(invB1), first, end, this.ph.byteOffset, this.out.byteOffset);
+    out[0] = this.out[0]! / (end - first);
+    out[1] = this.out[1]! / (end - first);
+  }
+}
+
+/** ph[at ..] = [sr0 sr1 si0 si1 pr0 pr1 pi0 pi1] for the phasor recursions of lags l0 and l1 from bin k0 (as ./gcc.ts computes them). */
+function setPhasors(ph: Float64Array, at: number, l0: number, l1: number, n: number, k0: number): void {
+  const s0 = (2 * Math.PI * l0) / n;
+  const s1 = (2 * Math.PI * l1) / n;
+  ph[at] = Math.cos(s0);
+  ph[at + 1] = Math.cos(s1);
+  ph[at + 2] = Math.sin(s0);
+  ph[at + 3] = Math.sin(s1);
+  ph[at + 4] = Math.cos(s0 * k0);
+  ph[at + 5] = Math.cos(s1 * k0);
+  ph[at + 6] = Math.sin(s0 * k0);
+  ph[at + 7] = Math.sin(s1 * k0);
+}

@@ -1,0 +1,218 @@
+import { fileURLToPath } from 'node:url';
+import { describe, expect, it } from 'vitest';
+import { createAnalysis } from '../../src/analysis/analysis.js';
+import { HopAnalyzer, type HopResult } from '../../src/analysis/hop-analyzer.js';
+import { makeBands } from '../../src/dsp/bands.js';
+import { pffft } from '../../src/dsp/pffft-backend.js';
+import { addBandScores, hopCoherence, PairCorrelator, refineLag } from '../../src/dsp/gcc.js';
+import { OnsetWeigher } from '../../src/dsp/onset.js';
+import { GccKernels, wasmKernelsAvailable } from '../../src/dsp/gcc-kernels.js';
+import { SrpDirectionModel } from '../../src/direction/srp-search.js';
+import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geometry.js';
+import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
+
+/**
+ * The WebAssembly SIMD kernels (src/dsp/gcc-kernels.wat) must give the JavaScript kernels'
+ * results to the last bit: the JavaScript kernels (src/dsp/gcc.ts) are what the accuracy tests
+ * (numpy, sox, the Cramer-Rao bound) check, and the analysis promises the same outputs
+ * whichever path runs. Cross-spectra of a plane wave at a known lag plus noise (common
+ * practice, no source) exercise every lane; toBe compares with Object.is (bit for bit up to NaN).
+ */
+function seeded(seed: number): () => number {
+  let s = seed;
+  return () => ((s = (s * 1664525 + 1013904223) >>> 0) / 2 ** 32) - 0.5;
+}
+
+const n = 1024;
+const bins = n / 2 + 1;
+const bands = makeBands(n, 48000, 150, 12000, 8);
+
+function filled(k: GccKernels, lag: number, rand: () => number): PairCorrelator {
+  const pc = new PairCorrelator(n, 24, { accRe: k.f64(bins), accIm: k.f64(bins) });
+  for (let i = 0; i < bins; i++) {
+    const ph = (-2 * Math.PI * i * lag) / n;
+    pc.accRe[i] = Math.cos(ph) + 0.4 * rand();
+    pc.accIm[i] = Math.sin(ph) + 0.4 * rand();
+  }
+  return pc;
+}
+
+describe('WebAssembly GCC kernels give the JavaScript kernels results bit for bit', () => {
+  it('load wherever PFFFT (WebAssembly SIMD) loads, unless BEARLINE_KERNELS=js or BEARLINE_FFT=fftjs', () => {
+    expect(wasmKernelsAvailable()).toBe(pffft !== null && process.env.BEARLINE_KERNELS !== 'js' && process.env.BEARLINE_FFT !== 'fftjs');
+  });
+  const k = GccKernels.create(1 << 20);
+  const run = k ? it : it.skip;
+  const rand = seeded(5);
+  const pcs = k ? [-7.3, -2.1, 0.4, 3.8, 6.6].map((lag) => filled(k, lag, rand)) : [];
+
+  run.each([1, 2, 3, 4, 5, 7])('band scores of %i candidates, with and without bands left out', (count) => {
+    k!.setBands(bands);
+    const lags = Float64Array.from([-7, -2, 0.5, 4, 6.5, 1.25, -3.5]);
+    const needed = k!.f64(8);
+    needed.set([1, 0, 2, 0.5, 0, 1, 1, 3]);
+    for (const need of [null, needed]) {
+      const single = new Float64Array(8 * 8);
+      const lanes = k!.f64(8 * 8);
+      k!.addBandScores(pcs[1]!, n, lags, 0, 1, count, lanes, 8, 0, need);
+      for (let c = 0; c < count; c++) addBandScores(pcs[1]!, bands, lags[c]!, single, 8, c);
+      for (let b = 0; b < 8; b++) {
+        for (let c = 0; c < 8; c++) {
+          const want = c < count && (need === null || need[b]! > 0) ? single[b * 8 + c]! : 0;
+          expect(lanes[b * 8 + c]).toBe(want);
+        }
+      }
+    }
+  });
+
+  run('refinement of five pairs, and of one pair alone, on some bands', () => {
+    k!.setBands(bands);
+    const use = k!.u8(8);
+    use.set([0, 1, 1, 1, 0, 1, 1, 0]);
+    const start = Float64Array.from([-7, -2, 0, 4, 7]);
+    const out = new Float64Array(5);
+    k!.refineLags(pcs, n, use, start, 0, out, new Float64Array(10), new Uint8Array(5));
+    for (let p = 0; p < 5; p++) {
+      expect(out[p]).toBe(refineLag(pcs[p]!, bands, use, start[p]!));
+      expect(Math.abs(out[p]! - [-7.3, -2.1, 0.4, 3.8, 6.6][p]!)).toBeLessThan(0.2);
+    }
+    k!.refineLags([pcs[2]!], n, use, start, 2, out, new Float64Array(2), new Uint8Array(1));
+    expect(out[0]).toBe(refineLag(pcs[2]!, bands, use, start[2]!));
+  });
+
+  run.each([[3, 257], [4, 257], [3, 256]] as const)('onset and presence weights over bins %i to %i, 40 hops of rising and falling power', (k0, k1) => {
+    const settings = { floor: 0.3, fullRise: 4, backgroundDecay: 0.8, floorRise: 1.002, fullPresence: 4 };
+    const js = new OnsetWeigher(bins, settings);
+    const wasm = new OnsetWeigher(bins, settings, k!);
+    const power = k!.f64(bins);
+    const [wj, ww] = [new Float64Array(bins), k!.f64(bins)];
+    let rising = 0;
+    for (let hop = 0; hop < 40; hop++) {
+      const level = hop % 10 < 3 ? 30 : 1; // a call every 10 hops over a steady floor
+      for (let i = 0; i < bins; i++) power[i] = level * (1 + rand()) ** 2 * (i % 7 === 0 ? 0 : 1);
+      const a = js.update(power, k0, k1, wj);
+      const b = wasm.update(power, k0, k1, ww);
+      expect(b).toBe(a);
+      if (a > 0.5) rising++;
+      for (let i = k0; i < k1; i++) expect(ww[i]).toBe(wj[i]);
+    }
+    expect(rising).toBeGreaterThan(2);
+  });
+
+  run('magnitudes, weights x 1/|X|, the cross-spectrum memory and the hop coherence on float32 spectra', () => {
+    const spec = () => {
+      const s = k!.f32(n);
+      for (let i = 0; i < n; i++) s[i] = rand();
+      s[20] = 0; // an empty bin (10): 1/|X| is 0 there
+      s[21] = 0;
+      return s;
+    };
+    const [a, b] = [spec(), spec()];
+    for (const [k0, k1] of [[3, 257], [4, 257], [3, 256], [10, 11]] as const) {
+      const power = k!.f64(bins);
+      const invA = k!.f64(bins);
+      const invB = k!.f64(bins);
+      power.fill(0.25);
+      k!.magnitudes(a, power, invA, k0, k1);
+      k!.magnitudes(b, power, invB, k0, k1);
+      for (let i = k0; i < k1; i++) {
+        const pa = a[2 * i]! * a[2 * i]! + a[2 * i + 1]! * a[2 * i + 1]!;
+        const pb = b[2 * i]! * b[2 * i]! + b[2 * i + 1]! * b[2 * i + 1]!;
+        expect(power[i]).toBe(0.25 + pa + pb);
+        expect(invA[i]).toBe(pa > 1e-30 ? 1 / Math.sqrt(pa) : 0);
+        expect(invB[i]).toBe(pb > 1e-30 ? 1 / Math.sqrt(pb) : 0);
+      }
+      const w = k!.f64(bins);
+      for (let i = 0; i < bins; i++) w[i] = 0.5 + rand();
+      const wInv = k!.f64(bins);
+      k!.times(w, invA, wInv, k0, k1);
+      for (let i = k0; i < k1; i++) expect(wInv[i]).toBe(w[i]! * invA[i]!);
+      const js = new PairCorrelator(n, 24);
+      const wasm = new PairCorrelator(n, 24, { accRe: k!.f64(bins), accIm: k!.f64(bins) });
+      for (let hop = 0; hop < 3; hop++) {
+        js.accumulate(a, b, wInv, invB, k0, k1, 0.8);
+        k!.accumulate(wasm, a, b, wInv, invB, k0, k1, 0.8);
+      }
+      for (let i = 0; i < bins; i++) {
+        expect(wasm.accRe[i]).toBe(js.accRe[i]);
+        expect(wasm.accIm[i]).toBe(js.accIm[i]);
+      }
+      const two = new Float64Array(2);
+      k!.hopCoherence2(a, b, invA, invB, 2.7, b, a, invB, invA, -5.2, n, k0, k1, two);
+      expect(two[0]).toBe(hopCoherence(a, b, invA, invB, n, 2.7, k0, k1));
+      expect(two[1]).toBe(hopCoherence(b, a, invB, invA, n, -5.2, k0, k1));
+    }
+  });
+});
+
+/** Noise from one direction in calls (0.4 s on, quiet between) with independent noise per mic. */
+function scene(channels: number, seconds: number, rand: () => number): Float64Array[] {
+  const rate = 48000;
+  const len = seconds * rate;
+  const common = Float64Array.from({ length: len + 64 }, () => rand());
+  return Array.from({ length: channels }, (_, c) => {
+    const x = new Float64Array(len);
+    for (let i = 0; i < len; i++) x[i] = ((i / rate) % 1 < 0.4 ? 0.5 : 0.005) * common[i + 64 - 2 * c]! + 0.05 * rand();
+    return x;
+  });
+}
+
+function snapshot(r: HopResult): string {
+  return JSON.stringify([r.levelDbfs, Array.from(r.channelLevelsDbfs), r.confidence, r.valid, Array.from(r.tdoaS), Array.from(r.pairOwnTdoaS), r.sources.slice(0, r.sourceCount), r.agree, r.share, r.evidence, r.fresh, r.freshZ, r.snrDb, r.onset, r.apertureWaves, Array.from(r.bandVoteWeight), Array.from(r.bandSnrDb), Array.from(r.pairPeak), Array.from(r.pairAgreement)]);
+}
+
+describe('the hop analyzer gives the same outputs, bit for bit, on the WebAssembly and the JavaScript kernels', () => {
+  const preset = (p: string) => loadGeometryFile(fileURLToPath(new URL(`../../configs/arrays/${p}.json`, import.meta.url)));
+  const cases: [string, ArrayGeometry][] = [
+    ['pair', pairGeometry(0.2)],
+    ['square', preset('square-10cm')],
+    ['tetrahedron', preset('tetrahedron-10cm')],
+    ['circle of 6', preset('circle6-r5cm')],
+    ['circle of 8', preset('circle8-r5cm')],
+  ];
+  const run = wasmKernelsAvailable() ? it : it.skip;
+  run.each(cases)('%s', (_name, geometry) => {
+    const setup = createAnalysis(geometry, 48000, 343, { maxCandidates: 5 });
+    const wasm = setup.analyzer;
+    const js = new HopAnalyzer(geometry.mics.length, 48000, setup.model, setup.options, 'js');
+    wasm.diagnostics = true;
+    js.diagnostics = true;
+    const x = scene(geometry.mics.length, 2, seeded(9));
+    const frames = x.map(() => new Float64Array(wasm.frame));
+    let valid = 0;
+    for (let at = 0; at + wasm.frame <= x[0]!.length; at += wasm.hop) {
+      for (let c = 0; c < x.length; c++) frames[c]!.set(x[c]!.subarray(at, at + wasm.frame));
+      const a = snapshot(wasm.process(frames));
+      if (wasm.result.valid) valid++;
+      expect(a).toBe(snapshot(js.process(frames)));
+    }
+    expect(valid).toBeGreaterThan(50);
+  });
+});
+
+describe('the steered response search gives the same candidates on the WebAssembly and the JavaScript coarse pass', () => {
+  const preset = (p: string) => loadGeometryFile(fileURLToPath(new URL(`../../configs/arrays/${p}.json`, import.meta.url)));
+  const run = wasmKernelsAvailable() ? it : it.skip;
+  run.each(['square-10cm', 'tetrahedron-10cm', 'circle8-r5cm'])('%s', (name) => {
+    const geometry = preset(name);
+    const wasm = new SrpDirectionModel(geometry, 48000, 343, 0.1, 1024);
+    const js = new SrpDirectionModel(geometry, 48000, 343, 0.1, 1024, {}, 'js');
+    const rand = seeded(3);
+    const pcs = wasm.pairs.map((_, p) => new PairCorrelator(1024, wasm.maxLag[p]!));
+    const [lw, lj] = [new Float64Array(8 * pcs.length), new Float64Array(8 * pcs.length)];
+    const [sw, sj] = [new Float64Array(8), new Float64Array(8)];
+    let total = 0;
+    for (let hop = 0; hop < 40; hop++) {
+      // a peak at a random direction's lags plus noise, for every pair
+      const shift = 6 * rand();
+      for (const pc of pcs) for (let i = 0; i < 1024; i++) pc.gcc[i] = rand() + Math.exp(-(((i > 512 ? i - 1024 : i) - shift) ** 2) / 8);
+      const cw = wasm.findCandidates(pcs, 6, lw, sw);
+      const cj = js.findCandidates(pcs, 6, lj, sj);
+      expect(cw).toBe(cj);
+      expect(Array.from(lw)).toEqual(Array.from(lj));
+      expect(Array.from(sw)).toEqual(Array.from(sj));
+      total += cw;
+    }
+    expect(total).toBeGreaterThan(40);
+  });
+});
