@@ -167,11 +167,7 @@ export class RealFft {
     }
     const o = this.pfOut!;
     pffft!.module._pffft_transform_ordered(this.pfSetup, this.pfInv!.ptr, o.ptr, this.pfWork!.ptr, PFFFT_BACKWARD);
-    const w = o.view;
-    const scale = 1 / n;
-    const L = Math.min(maxLag + 1, n / 2 - 1);
-    for (let i = 0; i <= L; i++) out[i] = w[i]! * scale;
-    for (let i = n - L; i < n; i++) out[i] = w[i]! * scale;
+    this.readLags(o.view, out, maxLag);
   }
 
   /**
@@ -186,7 +182,12 @@ export class RealFft {
     this.pfInv!.view.set(packedBins, 2 * first);
     const o = this.pfOut!;
     pffft!.module._pffft_transform_ordered(this.pfSetup, this.pfInv!.ptr, o.ptr, this.pfWork!.ptr, PFFFT_BACKWARD);
-    const w = o.view;
+    this.readLags(o.view, out, maxLag);
+  }
+
+  /** The inverse transform's lags -L .. L (L = maxLag + 1, within the frame) from PFFFT's output, scaled by 1 / n. */
+  private readLags(w: Float32Array, out: Float64Array, maxLag: number): void {
+    const n = this.size;
     const scale = 1 / n;
     const L = Math.min(maxLag + 1, n / 2 - 1);
     for (let i = 0; i <= L; i++) out[i] = w[i]! * scale;

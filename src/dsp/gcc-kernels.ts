@@ -2,6 +2,7 @@ import { existsSync, readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import type { BandLayout } from './bands.js';
 import { assembleWat, kernelTextPath } from './gcc-kernels-assemble.js';
+import { clampToStart, newtonStep, startNewton } from './gcc-lanes.js';
 
 /**
  * The per-bin kernels of the analysis in WebAssembly SIMD (./gcc-kernels.wat): PHAT magnitudes,
@@ -294,10 +295,7 @@ export class GccKernels {
    */
   refineLags(pcs: readonly CrossSpectrum[], n: number, useBand: Uint8Array, lagsIn: Float64Array, lagOffset: number, lagsOut: Float64Array, d: Float64Array, active: Uint8Array, iterations = 2): void {
     const P = pcs.length;
-    for (let p = 0; p < P; p++) {
-      lagsOut[p] = lagsIn[lagOffset + p]!;
-      active[p] = 1;
-    }
+    startNewton(P, lagsIn, lagOffset, lagsOut, active);
     for (let it = 0; it < iterations; it++) {
       let pending = -1;
       for (let p = 0; p < P; p++) {
@@ -310,32 +308,9 @@ export class GccKernels {
         pending = -1;
       }
       if (pending >= 0) this.derivatives2(pcs[pending]!, pcs[pending]!, n, useBand, lagsOut[pending]!, lagsOut[pending]!, d, 2 * pending, 2 * pending);
-      let any = false;
-      for (let p = 0; p < P; p++) {
-        if (!active[p]) continue;
-        const d1 = d[2 * p]!;
-        const d2 = d[2 * p + 1]!;
-        if (!(d2 < 0)) {
-          active[p] = 0;
-          continue;
-        }
-        let delta = -d1 / d2;
-        if (delta > 0.5) delta = 0.5;
-        else if (delta < -0.5) delta = -0.5;
-        lagsOut[p] = lagsOut[p]! + delta;
-        if (Math.abs(delta) < 1e-5) active[p] = 0;
-        else any = true;
-      }
-      if (!any) break;
+      if (!newtonStep(P, d, active, lagsOut)) break;
     }
-    for (let p = 0; p < P; p++) {
-      const lag = lagsIn[lagOffset + p]!;
-      let tau = lagsOut[p]!;
-      if (tau > lag + 1) tau = lag + 1;
-      if (tau < lag - 1) tau = lag - 1;
-      const L = pcs[p]!.maxLag;
-      lagsOut[p] = Math.max(-L, Math.min(L, tau));
-    }
+    clampToStart(pcs, lagsIn, lagOffset, lagsOut);
   }
 
   private derivatives2(pa: CrossSpectrum, pb: CrossSpectrum, n: number, useBand: Uint8Array, ta: number, tb: number, d: Float64Array, oa: number, ob: number): void {

@@ -188,10 +188,7 @@ export function refineLagLanes(
   iterations = 2,
 ): void {
   const P = pcs.length;
-  for (let p = 0; p < P; p++) {
-    lagsOut[p] = lagsIn[lagOffset + p]!;
-    active[p] = 1;
-  }
+  startNewton(P, lagsIn, lagOffset, lagsOut, active);
   for (let it = 0; it < iterations; it++) {
     // The active pairs two at a time (an odd one alone).
     let pending = -1;
@@ -205,25 +202,47 @@ export function refineLagLanes(
       pending = -1;
     }
     if (pending >= 0) derivatives2(pcs[pending]!, pcs[pending]!, bands, useBand, lagsOut[pending]!, lagsOut[pending]!, d, 2 * pending, 2 * pending);
-    let any = false;
-    for (let p = 0; p < P; p++) {
-      if (!active[p]) continue;
-      const d1 = d[2 * p]!;
-      const d2 = d[2 * p + 1]!;
-      if (!(d2 < 0)) {
-        active[p] = 0;
-        continue;
-      }
-      let delta = -d1 / d2;
-      if (delta > 0.5) delta = 0.5;
-      else if (delta < -0.5) delta = -0.5;
-      lagsOut[p] = lagsOut[p]! + delta;
-      if (Math.abs(delta) < 1e-5) active[p] = 0;
-      else any = true;
-    }
-    if (!any) break;
+    if (!newtonStep(P, d, active, lagsOut)) break;
   }
+  clampToStart(pcs, lagsIn, lagOffset, lagsOut);
+}
+
+/** Newton refinement of several pairs' lags, shared by refineLagLanes and the WebAssembly kernels' refineLags: every pair starts active at its lag. */
+export function startNewton(P: number, lagsIn: Float64Array, lagOffset: number, lagsOut: Float64Array, active: Uint8Array): void {
   for (let p = 0; p < P; p++) {
+    lagsOut[p] = lagsIn[lagOffset + p]!;
+    active[p] = 1;
+  }
+}
+
+/**
+ * One Newton step per active pair from its derivatives d[2p] (first) and d[2p + 1] (second):
+ * a pair stops at a non-negative curvature or a step under 1e-5 sample; steps are capped at half
+ * a sample. Returns whether any pair is still active.
+ */
+export function newtonStep(P: number, d: Float64Array, active: Uint8Array, lagsOut: Float64Array): boolean {
+  let any = false;
+  for (let p = 0; p < P; p++) {
+    if (!active[p]) continue;
+    const d1 = d[2 * p]!;
+    const d2 = d[2 * p + 1]!;
+    if (!(d2 < 0)) {
+      active[p] = 0;
+      continue;
+    }
+    let delta = -d1 / d2;
+    if (delta > 0.5) delta = 0.5;
+    else if (delta < -0.5) delta = -0.5;
+    lagsOut[p] = lagsOut[p]! + delta;
+    if (Math.abs(delta) < 1e-5) active[p] = 0;
+    else any = true;
+  }
+  return any;
+}
+
+/** Each refined lag kept within a sample of where it started and within its pair's lag window. */
+export function clampToStart(pcs: readonly { readonly maxLag: number }[], lagsIn: Float64Array, lagOffset: number, lagsOut: Float64Array): void {
+  for (let p = 0; p < pcs.length; p++) {
     const lag = lagsIn[lagOffset + p]!;
     let tau = lagsOut[p]!;
     if (tau > lag + 1) tau = lag + 1;
