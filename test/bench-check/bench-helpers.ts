@@ -8,6 +8,17 @@ import { resolveBenchCheckOptions, type BenchCheckOptions } from '../../src/benc
 import type { ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { readWavFile } from '../../src/sources/wav-reader.js';
 
+/** A 10 cm square (mics at the corners, x right, y front), as positions and as a geometry. */
+export const SQUARE: number[][] = [
+  [-0.05, 0.05, 0],
+  [0.05, 0.05, 0],
+  [0.05, -0.05, 0],
+  [-0.05, -0.05, 0],
+];
+export const square: ArrayGeometry = { name: 'square-10cm', headingDeg: null, mics: SQUARE.map((p, i) => ({ channel: i, position: [p[0]!, p[1]!, p[2]!] as const })) };
+/** Takes from eight directions around the array. */
+export const AROUND = [0, 45, 90, 135, 180, -135, -90, -45].map((az) => ({ az }));
+
 const HERE = fileURLToPath(new URL('.', import.meta.url));
 
 export function python(script: string, args: string[]): string {

@@ -9,16 +9,8 @@ import { resolveBenchCheckOptions } from '../../src/bench-check/options.js';
 import { checkItems, overallStatus } from '../../src/bench-check/verdict.js';
 import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { tempDir } from '../helpers/temp-dir.js';
-import { fitTakes, numpyTakes } from './bench-helpers.js';
+import { AROUND, fitTakes, numpyTakes, SQUARE, square } from './bench-helpers.js';
 
-const SQUARE: number[][] = [
-  [-0.05, 0.05, 0],
-  [0.05, 0.05, 0],
-  [0.05, -0.05, 0],
-  [-0.05, -0.05, 0],
-];
-const square: ArrayGeometry = { name: 'square-10cm', headingDeg: null, mics: SQUARE.map((p, i) => ({ channel: i, position: [p[0]!, p[1]!, p[2]!] as const })) };
-const AROUND = [0, 45, 90, 135, 180, -135, -90, -45].map((az) => ({ az }));
 const PAIR_AZ = [-60, -30, 0, 30, 60].map((az) => ({ az }));
 const base = { rate: 48000, duration_s: 1, positions_m: SQUARE };
 

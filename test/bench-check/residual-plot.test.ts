@@ -14,19 +14,10 @@ import { resolveBenchCheckOptions } from '../../src/bench-check/options.js';
 import { resultJson } from '../../src/bench-check/report.js';
 import { tdoaPlotSvg } from '../../src/bench-check/tdoa-plot.js';
 import { checkItems } from '../../src/bench-check/verdict.js';
-import type { ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { tempDir } from '../helpers/temp-dir.js';
-import { fitTakes, numpyTakes } from './bench-helpers.js';
+import { AROUND, fitTakes, numpyTakes, SQUARE, square } from './bench-helpers.js';
 
 const ARTIFACTS = fileURLToPath(new URL('../.artifacts/', import.meta.url));
-const SQUARE = [
-  [-0.05, 0.05, 0],
-  [0.05, 0.05, 0],
-  [0.05, -0.05, 0],
-  [-0.05, -0.05, 0],
-];
-const square: ArrayGeometry = { name: 'square-10cm', headingDeg: null, mics: SQUARE.map((p, i) => ({ channel: i, position: [p[0]!, p[1]!, p[2]!] as const })) };
-const AROUND = [0, 45, 90, 135, 180, -135, -90, -45].map((az) => ({ az }));
 const base = { rate: 48000, duration_s: 1, positions_m: SQUARE };
 
 function result(spec: typeof base & { skew_s?: number[]; order?: number[] }, name: string, dir: string) {
