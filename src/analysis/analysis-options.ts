@@ -17,6 +17,8 @@ export interface AnalysisOptions {
   onsetWeight?: number;
   /** Time constant (s) of the cross-spectrum memory that keeps onsets' evidence. */
   memoryS?: number;
+  /** Time constant (s) with which a bin back at its noise floor forgets its cross-spectrum (at most memoryS). */
+  quietMemoryS?: number;
   /** Time constant (s) of the background power that onsets are measured against. */
   backgroundS?: number;
   /** How fast (dB/s) each bin's noise floor may rise; bins near their floor count little. 0 = off. */
@@ -45,6 +47,7 @@ export const ANALYSIS_DEFAULTS = {
   maxFreqHz: 12000,
   onsetWeight: 0.97,
   memoryS: 0.15,
+  quietMemoryS: 0.04,
   backgroundS: 0.02,
   floorRiseDbS: 1,
   silenceDbfs: -100,
@@ -99,6 +102,7 @@ export const analysisOptionSpecs: readonly OptionSpec<keyof AnalysisOptions>[] =
   numberOption('maxFreqHz', 'max-freq', 'hz', ANALYSIS_DEFAULTS.maxFreqHz, { min: 0, max: ANY_FREQ_HZ, minExclusive: true, unit: 'Hz' }, 'highest frequency analysed (capped below Nyquist)'),
   numberOption('onsetWeight', 'onset-weight', '0..1', ANALYSIS_DEFAULTS.onsetWeight, { min: 0, max: 1 }, 'how much more sharp onsets count than steady sound (0 = off)'),
   numberOption('memoryS', 'memory', 's', ANALYSIS_DEFAULTS.memoryS, { min: 0, max: 10, unit: 's' }, 'time constant of the evidence memory (0 = each hop alone)'),
+  numberOption('quietMemoryS', 'quiet-memory', 's', ANALYSIS_DEFAULTS.quietMemoryS, { min: 0, max: 10, unit: 's' }, 'how fast a frequency bin that has fallen back to its noise floor forgets the direction it held (time constant; --memory or more = never sooner)'),
   numberOption('backgroundS', 'background', 's', ANALYSIS_DEFAULTS.backgroundS, { min: 0, max: 60, minExclusive: true, unit: 's' }, 'time constant of the background level onsets are measured against'),
   numberOption('floorRiseDbS', 'floor-rise', 'dB/s', ANALYSIS_DEFAULTS.floorRiseDbS, { min: 0, max: 100, minExclusive: true, unit: 'dB/s' }, 'how fast the per-bin noise floor may rise (sound that stays longer becomes background); sound near its floor counts little'),
   numberOption('silenceDbfs', 'silence', 'dbfs', ANALYSIS_DEFAULTS.silenceDbfs, { min: -200, max: 0, unit: 'dBFS' }, 'hops quieter than this give no direction (digital silence; detection is by --detect-snr)'),

@@ -28,6 +28,12 @@ const FLOOR_WARMUP_HOPS = 4;
 const FRESH_Z = 5;
 /** A band's evidence grows with its SNR up to this many dB. */
 const EVIDENCE_SNR_CAP_DB = 30;
+/** A bin's weight memory above this still holds a direction worth forgetting (a full-weight hop adds 1). */
+const QUIET_HELD = 1e-4;
+/** A bin whose power this hop is below this many times its noise mean is quiet (3 dB; noise alone rarely reaches it) ... */
+const QUIET_RATIO = 2;
+/** ... and sound has left it if it stood this many times over its noise mean within about the memory's time constant (6 dB). */
+const LOUD_RATIO = 4;
 
 /** The bands that support one candidate: first and last (-1 when none), the strongest, and sums for the support-weighted frequency. */
 interface BandSupport {
@@ -137,6 +143,10 @@ export class HopAnalyzer {
   private readonly power: Float64Array;
   private readonly weights: Float64Array;
   private readonly weightAcc: Float64Array;
+  /** Scratch: the bins forgetQuietBins() scales this hop. */
+  private readonly quietBins: Int32Array;
+  /** Extra factor per hop on the cross-spectrum of a bin at its noise floor (1 = none). */
+  private readonly quietForget: number;
   private readonly bandWeight: Float64Array;
   private readonly binScale: Float64Array;
   private readonly onset: OnsetWeigher;
@@ -242,6 +252,9 @@ export class HopAnalyzer {
     this.binScale = f64(bins);
     const hopS = options.hop / sampleRate;
     this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
+    const quiet = options.quietMemoryS > 0 ? Math.exp(-hopS / options.quietMemoryS) : 0;
+    this.quietForget = this.memory > 0 ? Math.min(1, quiet / this.memory) : 1;
+    this.quietBins = new Int32Array(bins);
     this.onset = new OnsetWeigher(bins, {
       floor: 1 - options.onsetWeight,
       fullRise: 4,
@@ -456,6 +469,7 @@ export class HopAnalyzer {
     const snrMem = this.snrMem;
     const kern = this.kernels;
     const sums = this.kBandSums;
+    if (this.quietForget < 1) this.forgetQuietBins(k0, k1);
     if (kern) {
       kern.bandSums(power, this.onset.noiseFloor, acc, weights, mem, sums[0]!, sums[1]!, this.bandWeight, k0, k1);
       this.onset.bandSnrDbOfSums(bands.count, sums[0]!, sums[1]!, bandSnrDb);
@@ -480,6 +494,32 @@ export class HopAnalyzer {
       binScale.fill(g, start, end);
     }
     res.snrDb = snr;
+  }
+
+  /**
+   * Bins that sound has left (back within QUIET_RATIO of their noise mean after standing LOUD_RATIO over it) forget the cross-spectrum they hold
+   * faster than the memory does (--quiet-memory): a call that starts just after another
+   * caller's ended is not read in that caller's direction from the bins it left behind. Their
+   * weight memory keeps the usual decay, so a band's coherence falls as what filled it fades.
+   * Only bins that still hold something are touched.
+   */
+  private forgetQuietBins(k0: number, k1: number): void {
+    const acc = this.weightAcc;
+    const list = this.quietBins;
+    const quiet = this.onset.quietBins(this.power, k0, k1, QUIET_RATIO, LOUD_RATIO, this.memory, list);
+    let n = 0;
+    for (let i = 0; i < quiet; i++) if (acc[list[i]!]! > QUIET_HELD) list[n++] = list[i]!;
+    if (n === 0) return;
+    const r = this.quietForget;
+    for (const pc of this.correlators) {
+      const re = pc.accRe;
+      const im = pc.accIm;
+      for (let i = 0; i < n; i++) {
+        const k = list[i]!;
+        re[k]! *= r;
+        im[k]! *= r;
+      }
+    }
   }
 
   /**

@@ -35,6 +35,8 @@ export class OnsetWeigher {
   private readonly background: Float64Array;
   private readonly noise: Float64Array;
   private readonly smooth: Float64Array;
+  /** Per bin, the largest power over its noise mean lately (quietBins). */
+  private readonly held: Float64Array;
   private primed = false;
   private readonly invRise: number;
   private readonly invPresence: number;
@@ -55,6 +57,7 @@ export class OnsetWeigher {
     this.background = f64(bins);
     this.noise = f64(bins);
     this.smooth = f64(bins);
+    this.held = new Float64Array(bins);
     this.invRise = 1 / (Math.max(1.0001, settings.fullRise) - 1);
     this.invPresence = 1 / (Math.max(1.0001, settings.fullPresence) - 1);
     this.kernelSettings = kernels ? kernels.f64(7) : null;
@@ -139,6 +142,28 @@ export class OnsetWeigher {
   /** bandSnrDb from the bands' sums of power and of the noise floor (the kernels' bandSums). */
   bandSnrDbOfSums(count: number, sumPower: Float64Array, sumNoise: Float64Array, out: Float64Array): void {
     for (let b = 0; b < count; b++) out[b] = snrDbOfSums(sumPower[b]!, sumNoise[b]!);
+  }
+
+  /**
+   * The bins of [first, end) that sound has left: their power this hop is below `quietRatio`
+   * times their noise mean (the tracked minimum times its bias factor), and they stood at least
+   * `loudRatio` times over it lately (the largest ratio, held and decaying by `heldDecay` per
+   * hop). A bin that has sat at its floor all along (a steady sound that has become the floor)
+   * is not among them. Unlike presence, which looks at a smoothed power that takes a few hops
+   * to fall after a loud call, this hop alone decides. Writes their indices into `out` and
+   * returns how many.
+   */
+  quietBins(power: Float64Array, first: number, end: number, quietRatio: number, loudRatio: number, heldDecay: number, out: Int32Array): number {
+    const nf = this.noise;
+    const held = this.held;
+    let n = 0;
+    for (let k = first; k < end; k++) {
+      const x = power[k]! / (NOISE_BIAS * nf[k]! + 1e-30);
+      const h = held[k]! * heldDecay;
+      held[k] = x > h ? x : h;
+      if (x < quietRatio && h >= loudRatio) out[n++] = k;
+    }
+    return n;
   }
 
   /** The noise floor per bin (the kernels read it; read-only). */

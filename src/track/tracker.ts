@@ -8,7 +8,8 @@
  *
  * Per hop:
  * 1. predict every live track to the hop's time (angle-filter.ts);
- * 2. gate each candidate against each track by the Mahalanobis distance of its innovation;
+ * 2. gate each candidate against each track by the Mahalanobis distance of its innovation
+ *    (azimuth, and elevation unless the array is flat);
  *    a candidate whose hop confidence x score is below minConfidence is ignored, and so is
  *    every candidate of a hop below the event-leave SNR (sound at the noise floor, such as
  *    coherent wind between calls, neither moves nor starts a track);
@@ -19,7 +20,8 @@
  *    tentative track; it is confirmed (and gets the next track id) after confirmHits supported
  *    hops within confirmWindow hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
- *    unsupported and die after trackTimeoutS without support;
+ *    unsupported and die after trackTimeoutS without support (YOUNG_TIMEOUT_S while they have
+ *    fewer than YOUNG_HOPS supported hops);
  *    a *settled* confirmed track (followed for at least SETTLED_SPAN_S with a lifetime spread of
  *    at most bearingNoiseDeg: a static chorus) also keeps a home, its lifetime mean, and gates
  *    a candidate by its home as well as by its prediction. A candidate within a settled
@@ -80,9 +82,21 @@ const HOME_MIN_EL_SD_DEG = 6;
  * azimuth a track follows is undefined there (a flat array reads zero delays on every pair as
  * straight overhead, which is also what sound arriving at all mics at once gives: the coherent
  * part of wind buffeting, which read as confident callers overhead). It may still support a
- * live track, with its azimuth noise widened by 1 / cos^2 elevation.
+ * live track whose own elevation is above NEAR_ZENITH_TRACK_DEG, with its azimuth noise widened
+ * by 1 / cos^2 elevation (its azimuth would drag any other track off its caller).
  */
 const ZENITH_DEG = 78;
+const NEAR_ZENITH_TRACK_DEG = 58;
+/**
+ * A confirmed track supported on fewer hops than this ... (a caller's single call gives 10-40)
+ */
+const YOUNG_HOPS = 20;
+/**
+ * ... dies after this long without support (or --track-timeout when shorter): a short-lived
+ * track of stray directions (between two sources, or a reflection) does not coast for the
+ * whole timeout near a bearing where a real caller may come and be taken by it.
+ */
+const YOUNG_TIMEOUT_S = 2;
 const NO_EVENTS: readonly EventRecord[] = Object.freeze([]);
 
 interface MutableUpdate {
@@ -142,6 +156,13 @@ export class Tracker {
   private readonly logSMax: number;
   /** Centre of the reported half circle when the array's mirror flips azimuth, else null. */
   private readonly sideDeg: number | null;
+  /**
+   * A flat array (its mirror is up-down): its elevations are reported and followed but take no
+   * part in gating, the assignment cost or a home's distance. Its elevation error is large near
+   * the horizon (the delays change there as the cosine of elevation), so one chorus read at 7
+   * and at 30 degrees of elevation split into two tracks; its azimuth does not have that error.
+   */
+  private readonly flat: boolean;
   private nextId = 1;
   private started = false;
   private ended = false;
@@ -163,6 +184,7 @@ export class Tracker {
     // On an array whose mirror flips azimuth the filters run on the folded offset from the
     // reported half circle's centre ([-90, 90], reflecting at the mirror's axis).
     this.sideDeg = o.mirror?.sideDeg ?? null;
+    this.flat = o.mirror?.kind === 'up-down';
     this.az = new AngleFilterBank(n, this.sideDeg !== null ? 'half-circle' : 'circle', filter);
     this.el = new AngleFilterBank(n, 'elevation', filter);
     this.az.io[IO_RATE_SIGMA] = o.initialRateDegS;
@@ -248,7 +270,7 @@ export class Tracker {
       const track = this.state[s] === CONFIRMED ? this.id[s]! : -1;
       const ended = this.cutter.step(s, this.chosen[s]!, track);
       if (ended !== null) events = this.collect(events, s, ended);
-      if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastSupportT[s]! > this.options.trackTimeoutS) {
+      if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastSupportT[s]! > this.timeoutOf(s)) {
         const last = this.cutter.close(s, track);
         if (last !== null) events = this.collect(events, s, last);
         this.retire(s);
@@ -383,14 +405,21 @@ export class Tracker {
     let d2 = this.az.io[IO_D2]!;
     let g = this.gate2;
     let logS = Math.log(this.az.variance(s) + this.az.io[IO_R]!);
-    if (both) {
+    const withEl = both && !this.flat;
+    if (withEl) {
       this.el.distance2(s);
       d2 += this.el.io[IO_D2]!;
       g *= 2;
       logS += Math.log(this.el.variance(s) + this.el.io[IO_R]!);
     }
-    this.d2[0] = d2 - g + logS - (both ? 2 : 1) * this.logSMax;
+    this.d2[0] = d2 - g + logS - (withEl ? 2 : 1) * this.logSMax;
     return d2 <= g;
+  }
+
+  /** How long slot s may go without support before it dies (YOUNG_HOPS). */
+  private timeoutOf(s: number): number {
+    const t = this.options.trackTimeoutS;
+    return this.hopCount[s]! < YOUNG_HOPS ? Math.min(YOUNG_TIMEOUT_S, t) : t;
   }
 
   /** Is slot s a settled track? If so, note its home. */
@@ -422,6 +451,7 @@ export class Tracker {
   private homeDistance2(s: number, j: number): number {
     const d2 = this.homeAzimuthDistance2(s, j);
     const dEl = this.sc.candEl[j]! - this.homeEl[s]!;
+    if (this.flat) return d2;
     return dEl === dEl ? Math.max(d2, (dEl * dEl) / this.homeElVar[s]!) : d2;
   }
 
@@ -444,6 +474,7 @@ export class Tracker {
         this.cost[i * stride + j] = Infinity;
         if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
         if (this.candHome[j] === 1 && this.settled[s] === 0 && this.sc.hop[TIME]! - this.lastFreeT[s]! > PASSING_S) continue;
+        if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !(this.hasEl[s] === 1 && Math.abs(this.el.angle[s]!) > NEAR_ZENITH_TRACK_DEG)) continue;
         if (this.gate(s, j)) {
           this.cost[i * stride + j] = this.d2[0]!;
           this.candGated[j] = 1;

@@ -112,11 +112,12 @@ describe('tracks on simulated scenes', () => {
 
   // The analysis' evidence memory (--memory, 0.15 s by default) smooths the hop directions over
   // time: on 0.4 s calls of a caller sweeping ~20 deg/s the fitted line then lags (ends ~2-3
-  // degrees behind) and its slope reads ~20 % low (measured: rate error median 4.1, max 4.7
-  // deg/s; ends max 3.0 deg). With --memory 0 the line follows the truth (rate within ~1 deg/s).
+  // degrees behind) and its slope reads ~25 % low (measured: rate error median 5.3, max 5.9
+  // deg/s; ends max 3.2 deg; before the confidence refit of --quiet-memory median 4.1-5.3, max
+  // 4.7-5.5). With --memory 0 the line follows the truth (rate within ~1 deg/s).
   for (const [label, args, rateTol, endTol] of [
     ['--memory 0', ['--memory', '0'], 1.5, 1.5],
-    ['the defaults', [], 5.5, 3.5],
+    ['the defaults', [], 6.5, 3.5],
   ] as const) {
     it(`a caller sweeping about 20 deg/s (-40 -> 40 degrees in 4 s, 0.4 s calls), ${label}: events give where each call started and ended and its rate (JSON and CSV)`, () => {
       const wav = render(

@@ -13,6 +13,7 @@ import type { TrackerSettings } from '../../src/track/options.js';
 import { Tracker } from '../../src/track/tracker.js';
 import { pairGeometry, type ArrayGeometry } from '../../src/geometry/array-geometry.js';
 import { arrayMirror, type ArrayMirror } from '../../src/geometry/array-mirror.js';
+import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { bursts, fold, foldAbout, generateHops, type Synth, type TruthSource } from './synth.js';
 
 /** The tracker section of a shipped profile, read as bearline reads it. */
@@ -387,6 +388,16 @@ describe('3-D array: candidates with elevations', () => {
 });
 
 describe('births, coasting and deaths', () => {
+  it('a track with few supported hops (a stray direction: here one 0.12 s call) dies after 2 s without support; one with many coasts to --track-timeout', () => {
+    const calls: [number, number][] = [[0.1, 0.22], [2.8, 3.1], [5.5, 5.8]];
+    const sources: TruthSource[] = [{ azimuthAt: () => 10, calls, levelDbfs: -30 }];
+    const synth = generateHops(sources, { durationS: 6, hopS: 0.01, seed: 2, noiseDeg: 1, clutter: 0, dropout: 0 });
+    const r = run(synth, { trackTimeoutS: 10 });
+    // 12 hops, then 2.6 s of silence: a new id; then 30 hops and 2.4 s of silence: the same id.
+    expect(r.events.map((e) => e.track)).toEqual([1, 2, 2]);
+  });
+
+
   it('coasts through a silence shorter than the timeout and retires after a longer one', () => {
     const calls: [number, number][] = [[0.1, 0.4], [3.1, 3.4], [20.1, 20.4]];
     const sources: TruthSource[] = [{ azimuthAt: () => 10, calls, levelDbfs: -30 }];
@@ -644,6 +655,48 @@ describe('a chorus track does not follow a caller that starts beside it (issue 1
       const taken = far.filter((x) => x.id === chorusId).length;
       console.log(`chorus track ${chorusId}: ${taken} of the bird's ${far.length} far hops`);
       expect(taken).toBeLessThanOrEqual(2);
+    }
+  });
+});
+
+describe('a flat array: elevations are followed but do not split or steal (issue 13)', () => {
+  // A flat (planar, horizontal) array measures elevation through the cosine of the delays'
+  // angle, which changes slowly near the horizon: its elevation readings of one chorus scatter
+  // by tens of degrees while its azimuth holds (common practice, no source). The square's mirror
+  // is up-down, as the pipeline derives it.
+  const square = loadGeometryFile(fileURLToPath(new URL('../../configs/arrays/square-10cm.json', import.meta.url)));
+  const flat = mirrorOf(square);
+  // One chorus at 30 deg whose elevation reads near 7 deg for its first 5 s (its track settles
+  // there) and then near 30 deg in every other bout.
+  const chorus: TruthSource = { azimuthAt: () => 30, elevationAt: (t) => (t > 5 && Math.floor(t / 0.7) % 2 === 0 ? 30 : 7), calls: bursts(0.2, 0.3, 0.4, 12), levelDbfs: -30 };
+
+  it('the flat array has an up-down mirror', () => {
+    expect(flat.kind).toBe('up-down');
+  });
+
+  it('one chorus read at 7 and at 30 deg of elevation keeps one track on the flat array (6 noisy runs)', () => {
+    for (const seed of [31, 32, 33, 34, 35, 36]) {
+      const synth = generateHops([chorus], { durationS: 12, hopS: 0.01, seed, noiseDeg: 2, clutter: 0.05, dropout: 0.1 });
+      const r = run(synth, { mirror: flat });
+      const ids = idsOfSource(synth, r, 0).filter((x) => x.t > 1);
+      const id = majority(ids.map((x) => x.id));
+      expect(id).not.toBeNull();
+      expect(ids.filter((x) => x.id !== id).length / ids.length).toBeLessThan(0.05);
+      expect(new Set(r.events.map((e) => e.track)).size).toBe(1);
+    }
+  });
+
+  it('candidates near the zenith in the chorus pauses do not feed the chorus track: its events stay at its bearing', () => {
+    // Sound reaching every mic at once reads as straight overhead with an azimuth that means nothing.
+    const overhead: TruthSource = { azimuthAt: (t) => 30 + 40 * Math.sin(7 * t), elevationAt: () => 86, calls: bursts(0.55, 0.3, 0.4, 12), levelDbfs: -30 };
+    const low: TruthSource = { ...chorus, elevationAt: () => 7 };
+    for (const seed of [41, 42, 43]) {
+      const synth = generateHops([low, overhead], { durationS: 12, hopS: 0.01, seed, noiseDeg: 2, clutter: 0, dropout: 0.05 });
+      const r = run(synth, { mirror: flat });
+      expect(idsOfSource(synth, r, 1).filter((x) => x.id !== null)).toEqual([]);
+      const chorusEvents = r.events.filter((e) => e.track === majority(idsOfSource(synth, r, 0).map((x) => x.id)));
+      expect(chorusEvents.length).toBeGreaterThan(10);
+      for (const e of chorusEvents) expect(Math.abs(angleDiffDeg(e.azimuth_deg, 30))).toBeLessThan(4);
     }
   });
 });
