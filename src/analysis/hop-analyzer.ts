@@ -119,11 +119,13 @@ export class HopAnalyzer {
   /** The analysis bins of each PFFFT spectrum and of kPacked, as views made once (no view made per hop). */
   private readonly kSpectraBins: Float32Array[];
   private readonly kPackedBins: Float32Array | null;
-  /** The spectra stage on the kernels: frames, the window, windowed frames, sums of squares, and the frames given to window4 for 1, 2 and 4 channels. */
+  /**
+   * The spectra stage on the kernels: one frame per channel in their memory (the framer may fill
+   * them in place: inputFrames()), the window, and four windowed frames (float32).
+   */
   private readonly kFrames: Float64Array[];
   private readonly kWindow: Float64Array | null;
   private readonly kWindowed: Float32Array[];
-  private readonly kFrameLanes: Float64Array[][];
   private readonly window: Float64Array;
   /** Four windowed frames (FFT inputs): channels are windowed up to four at a time. */
   private readonly windowed: FftBuffer[];
@@ -204,7 +206,7 @@ export class HopAnalyzer {
       this.fft.backend === 'pffft' && kernelPath === 'auto'
         ? GccKernels.create(
             GccKernels.bytesFor(
-              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, n, n, n, n, n, 4],
+              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, ...new Array<number>(channels + 1).fill(n), 4],
               new Array<number>(channels + 5).fill(n),
               [options.bands],
             ) +
@@ -221,12 +223,10 @@ export class HopAnalyzer {
     this.kBandSums = k ? [k.f64(options.bands), k.f64(options.bands)] : [];
     const { firstBin, endBin } = layout;
     this.window = hannWindow(n);
-    this.kFrames = k ? Array.from({ length: 4 }, () => k.f64(n)) : [];
+    this.kFrames = k ? Array.from({ length: channels }, () => k.f64(n)) : [];
     this.kWindow = k ? k.f64(n) : null;
     this.kWindow?.set(this.window);
     this.kWindowed = k ? Array.from({ length: 4 }, () => k.f32(n)) : [];
-    const kf = this.kFrames;
-    this.kFrameLanes = k ? [[], [kf[0]!, kf[0]!, kf[0]!, kf[0]!], [kf[0]!, kf[1]!, kf[0]!, kf[1]!], [], [kf[0]!, kf[1]!, kf[2]!, kf[3]!]] : [];
     this.meanSquares = k ? k.f64(4) : new Float64Array(4);
     this.windowed = Array.from({ length: Math.min(4, channels) }, () => this.fft.createInput());
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
@@ -315,6 +315,15 @@ export class HopAnalyzer {
   }
 
   /**
+   * Buffers for the next frame, one per channel, in the kernels' memory: a framer that writes the
+   * frame there (Framer's `buffers`) and passes them to process() saves a copy per channel per
+   * hop. Null on the JavaScript path (any Float64Arrays do there).
+   */
+  inputFrames(): readonly Float64Array[] | null {
+    return this.kernels ? this.kFrames : null;
+  }
+
+  /**
    * Analyse one hop. `frames[c]` holds the frame's raw samples of channel c (length = frame).
    * The stages below, in order (public so that the benchmark can time each one: test/bench/stages.ts).
    */
@@ -355,10 +364,13 @@ export class HopAnalyzer {
       let ms3 = 0;
       const kern = this.kernels;
       if (kern) {
-        // The frames into the kernels' memory, windowed there (float32), then into PFFFT's inputs.
+        // The frames into the kernels' memory (unless the framer wrote them there), windowed
+        // there (float32), then into PFFFT's inputs.
         const kf = this.kFrames;
-        for (let j = 0; j < m; j++) kf[j]!.set(frames[c + j]!);
-        kern.window4(this.kFrameLanes[m]!, this.kWindow!, this.kWindowed, ms);
+        for (let j = 0; j < m; j++) if (frames[c + j] !== kf[c + j]) kf[c + j]!.set(frames[c + j]!);
+        const kw = this.kWindowed;
+        if (m === 4) kern.window4(kf[c]!, kf[c + 1]!, kf[c + 2]!, kf[c + 3]!, this.kWindow!, kw[0]!, kw[1]!, kw[2]!, kw[3]!, ms);
+        else kern.window2(kf[c]!, kf[c + m - 1]!, this.kWindow!, kw[0]!, kw[1]!, ms);
         for (let j = 0; j < m; j++) (this.windowed[j] as Float32Array).set(this.kWindowed[j]!);
         ms0 = ms[0]!;
         ms1 = ms[1]!;

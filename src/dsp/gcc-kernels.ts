@@ -35,6 +35,7 @@ interface KernelExports {
   srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
   srp_search(args: number): number;
   window4(x0: number, x1: number, x2: number, x3: number, win: number, w0: number, w1: number, w2: number, w3: number, n: number, ms: number): void;
+  window2(x0: number, x1: number, win: number, w0: number, w1: number, n: number, ms: number): void;
   band_sums(power: number, nf: number, acc: number, w: number, m: number, starts: number, ends: number, nb: number, sp: number, sn: number, sa: number, k0: number, k1: number): void;
   onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number): number;
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
@@ -219,12 +220,16 @@ export class GccKernels {
   }
 
   /**
-   * Four frames x[0..3] (float64, in this memory) times the window into w[0..3] (float32), each
-   * frame's sum of squares (sample by sample, in order) into ms[0..3]. For fewer channels, repeat
-   * a frame and give spare outputs.
+   * Four frames x0..x3 (float64, in this memory) times the window into w0..w3 (float32), each
+   * frame's sum of squares (sample by sample, in order) into ms[0..3].
    */
-  window4(x: readonly Float64Array[], win: Float64Array, w: readonly Float32Array[], ms: Float64Array): void {
-    this.x.window4(this.ptr(x[0]!), this.ptr(x[1]!), this.ptr(x[2]!), this.ptr(x[3]!), this.ptr(win), this.ptr(w[0]!), this.ptr(w[1]!), this.ptr(w[2]!), this.ptr(w[3]!), win.length, this.ptr(ms));
+  window4(x0: Float64Array, x1: Float64Array, x2: Float64Array, x3: Float64Array, win: Float64Array, w0: Float32Array, w1: Float32Array, w2: Float32Array, w3: Float32Array, ms: Float64Array): void {
+    this.x.window4(x0.byteOffset, x1.byteOffset, x2.byteOffset, x3.byteOffset, win.byteOffset, w0.byteOffset, w1.byteOffset, w2.byteOffset, w3.byteOffset, win.length, ms.byteOffset);
+  }
+
+  /** window4 for two frames (sums into ms[0..1]); for one frame, give it twice and a spare output. */
+  window2(x0: Float64Array, x1: Float64Array, win: Float64Array, w0: Float32Array, w1: Float32Array, ms: Float64Array): void {
+    this.x.window2(x0.byteOffset, x1.byteOffset, win.byteOffset, w0.byteOffset, w1.byteOffset, win.length, ms.byteOffset);
   }
 
   /** out[k] = w[k] * inv[k] over [k0, k1). */
