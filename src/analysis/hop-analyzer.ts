@@ -180,6 +180,8 @@ export class HopAnalyzer {
   private hopIndex = 0;
   /** Whether the last hop computed its pair correlations (a silent hop does not). */
   private lastHopCorrelated = false;
+  /** Whether the last hop computed every pair's correlation curve (else only the model's curvePairs). */
+  private allCurves = false;
 
   constructor(
     readonly channels: number,
@@ -311,7 +313,13 @@ export class HopAnalyzer {
    * after process(): the next hop overwrites them. Costs nothing unless called.
    */
   lastCorrelations(): readonly PairCorrelator[] | null {
-    return this.lastHopCorrelated ? this.correlators : null;
+    if (!this.lastHopCorrelated) return null;
+    // The pairs the direction search does not read had no curve computed this hop: now they do.
+    if (!this.allCurves) {
+      this.correlate(this.model.pairs.length, null);
+      this.allCurves = true;
+    }
+    return this.correlators;
   }
 
   /**
@@ -533,11 +541,17 @@ export class HopAnalyzer {
    * fusion, every band has the say of its evidence; without, the plain weighted GCC-PHAT over all bins.
    */
   correlationStage(): void {
+    const curves = this.model.curvePairs;
+    this.allCurves = curves.length === this.model.pairs.length;
+    this.correlate(curves.length, curves);
+  }
+
+  /** The correlations of pairs[0 .. count) (`which` null), or of the pairs which[0 .. count). */
+  private correlate(count: number, which: Int32Array | null): void {
     const { firstBin: k0, endBin: k1 } = this.bands;
-    const P = this.model.pairs.length;
     const kern = this.kernels;
-    for (let p = 0; p < P; p++) {
-      const pc = this.correlators[p]!;
+    for (let i = 0; i < count; i++) {
+      const pc = this.correlators[which ? which[i]! : i]!;
       if (kern) {
         kern.scalePack(pc, this.options.voting ? this.binScale : null, this.kPacked!, k0, k1);
         this.fft.inversePackedLags(this.kPackedBins!, k0, k1, pc.gcc, pc.maxLag + 1);
@@ -769,10 +783,13 @@ export class HopAnalyzer {
     res.dominantBand = support.dominant;
     res.supportFirstBand = first;
     res.supportLastBand = last;
-    for (let p = 0; p < P; p++) {
-      res.tdoaS[p] = this.refined[p]! / this.sampleRate;
-      // Each pair's own best peak, for the geometry check (src/analysis/stream-checks.ts).
-      res.pairOwnTdoaS[p] = P > 1 && this.correlators[p]!.peaks(1, this.ownLag, this.ownHeight) === 1 ? this.ownLag[0]! / this.sampleRate : NaN;
+    for (let p = 0; p < P; p++) res.tdoaS[p] = this.refined[p]! / this.sampleRate;
+    // Each pair's own best peak, for the geometry check (src/analysis/stream-checks.ts): the pairs
+    // whose curves the search read (the others stay NaN).
+    const curves = this.model.curvePairs;
+    for (let i = 0; P > 1 && i < curves.length; i++) {
+      const p = curves[i]!;
+      res.pairOwnTdoaS[p] = this.correlators[p]!.peaks(1, this.ownLag, this.ownHeight) === 1 ? this.ownLag[0]! / this.sampleRate : NaN;
     }
     if (this.diagnostics) this.pairDiagnostics(res, P);
   }
