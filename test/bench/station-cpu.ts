@@ -6,7 +6,8 @@
  * (2) live stations: the built `bearline listen --stdin` with a 4-mic square, its record log
  *     on (--log-dir, --quiet), fed raw PCM at real-time pace (20 ms blocks on a fixed
  *     schedule), three at once on the same writes (liveStationShares: the same seconds of the
- *     machine's load for each); the CPU time of each listen process (/proc/PID/stat, user + system) over the
+ *     machine's load for each); the CPU time of each listen process (its threads' run time in
+ *     /proc/PID/task/TID/schedstat, nanoseconds) over the
  *     wall time after the first WARM_S seconds (start-up and JIT warm-up left out: for about
  *     the first half minute V8 still compiles the hot paths on its background threads, which
  *     cost the process 0.4-0.7 % of a core then and about nothing after; a station runs all
@@ -20,7 +21,7 @@
  * Alone: `npx tsx test/bench/station-cpu.ts [liveSeconds] [warmSeconds]` (builds nothing: run `npm run build` first).
  */
 import { spawn } from 'node:child_process';
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -80,10 +81,23 @@ function pcm(seconds: number): Buffer {
   return out;
 }
 
-function cpuTicks(pid: number): number {
+/**
+ * CPU seconds the process has run so far: the sum over its threads of the scheduler's run time
+ * (/proc/PID/task/TID/schedstat, nanoseconds, exact), else utime + stime from /proc/PID/stat
+ * (10 ms clock ticks, charged to whoever runs when a tick lands: coarse for a process that
+ * runs 1 % of the time in short bursts).
+ */
+function cpuSeconds(pid: number): number {
+  try {
+    let ns = 0;
+    for (const tid of readdirSync(`/proc/${pid}/task`)) ns += Number(readFileSync(`/proc/${pid}/task/${tid}/schedstat`, 'utf8').split(' ')[0]);
+    if (Number.isFinite(ns) && ns > 0) return ns / 1e9;
+  } catch {
+    // no schedstat: the ticks below
+  }
   const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
   const f = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
-  return Number(f[11]) + Number(f[12]); // utime, stime (fields 14 and 15)
+  return (Number(f[11]) + Number(f[12])) / HZ; // utime, stime (fields 14 and 15)
 }
 
 /** Clock ticks per second of /proc/PID/stat (USER_HZ, 100 on Linux). */
@@ -123,7 +137,7 @@ export async function liveStationShares(cases: LiveCase[], seconds = 30, warmS =
     let err = '';
     child.stderr.setEncoding('utf8').on('data', (d: string) => (err += d));
     const exited = new Promise<number | null>((r) => child.once('exit', r));
-    return { c, dir, child, exited, err: () => err, mark: null as { ticks: number; ms: number } | null, last: { ticks: 0, ms: 0 } };
+    return { c, dir, child, exited, err: () => err, mark: null as { cpu: number; ms: number } | null, last: { cpu: 0, ms: 0 } };
   });
   try {
     const bytesPerBlock = BLOCK * CHANNELS * 2;
@@ -136,8 +150,8 @@ export async function liveStationShares(cases: LiveCase[], seconds = 30, warmS =
       if (wait > 0) await new Promise((r) => setTimeout(r, wait));
       for (const r of runs) r.child.stdin.write(data.subarray(k * bytesPerBlock, (k + 1) * bytesPerBlock));
       for (const r of runs) {
-        if (r.mark === null && k * blockMs >= warmS * 1000) r.mark = { ticks: cpuTicks(r.child.pid!), ms: performance.now() };
-        r.last = { ticks: cpuTicks(r.child.pid!), ms: performance.now() };
+        if (r.mark === null && k * blockMs >= warmS * 1000) r.mark = { cpu: cpuSeconds(r.child.pid!), ms: performance.now() };
+        r.last = { cpu: cpuSeconds(r.child.pid!), ms: performance.now() };
       }
     }
     const out: LiveShare[] = [];
@@ -146,7 +160,7 @@ export async function liveStationShares(cases: LiveCase[], seconds = 30, warmS =
       r.child.stdin.end();
       const code = await r.exited;
       if (code !== 0) throw new Error(`listen ended with ${code}: ${r.err()}`);
-      out.push({ profile: r.c.profile ?? 'defaults', cpuPct: (100 * ((r.last.ticks - r.mark.ticks) / HZ)) / ((r.last.ms - r.mark.ms) / 1000), seconds: (r.last.ms - r.mark.ms) / 1000 });
+      out.push({ profile: r.c.profile ?? 'defaults', cpuPct: (100 * (r.last.cpu - r.mark.cpu)) / ((r.last.ms - r.mark.ms) / 1000), seconds: (r.last.ms - r.mark.ms) / 1000 });
     }
     return out;
   } finally {
