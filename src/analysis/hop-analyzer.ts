@@ -310,7 +310,8 @@ export class HopAnalyzer {
   /**
    * The pair correlations of the last hop (in model.pairs order), for pictures of the evidence
    * (direction/evidence-map.ts); null when the hop was silent and computed none. Read right
-   * after process(): the next hop overwrites them. Costs nothing unless called.
+   * after process(): the next hop overwrites them. Costs nothing unless called (then the curves of
+   * the pairs the direction search does not read, --search-pairs, are computed for this hop).
    */
   lastCorrelations(): readonly PairCorrelator[] | null {
     if (!this.lastHopCorrelated) return null;
