@@ -437,8 +437,9 @@ function neighbourLists(dirs: Vec3[], stepDeg: number): Int32Array[] {
 /**
  * The pairs of the longest baselines, at most `count` of them (all when count is 0 or at least
  * their number), in ascending pair order. Pairs of equal baselines (within 0.1 mm: the chords of
- * a circle) are taken whole or not at all, so that the search treats the array's symmetric
- * directions alike; when even the longest group does not fit, its first `count` pairs.
+ * a circle, the edges of a triangle or a tetrahedron) are taken whole or not at all, so that the
+ * search treats the array's symmetric directions alike; the longest group is always taken whole,
+ * even when it alone holds more than `count` pairs.
  */
 export function longestPairs(baselines: readonly Vec3[], count: number): Int32Array {
   const P = baselines.length;
@@ -452,6 +453,6 @@ export function longestPairs(baselines: readonly Vec3[], count: number): Int32Ar
     if (end > count) break;
     take = end;
   }
-  if (take === 0) take = count;
+  if (take === 0) while (take < P && len[order[take]!] === len[order[0]!]) take++;
   return Int32Array.from(order.slice(0, take).sort((a, b) => a - b));
 }

@@ -37,6 +37,13 @@ describe('the pairs the direction search reads', () => {
     const six = loadGeometryFile('configs/arrays/circle6-r5cm.json');
     const sixBaselines = micPairs(six).map(([a, b]) => sub(six.mics[a]!.position, six.mics[b]!.position));
     expect(longestPairs(sixBaselines, 15).length).toBe(15);
+    // The longest group whole even when it alone holds more: a circle of 6's 3 diameters for 2; the
+    // 4 diameters of the circle of 8 for 3.
+    expect(Array.from(longestPairs(sixBaselines, 2)).map((p) => micPairs(six)[p]![1] - micPairs(six)[p]![0])).toEqual([3, 3, 3]);
+    expect(longestPairs(baselines, 3).length).toBe(4);
+    // A tetrahedron's 6 edges are equally long: all 6, whatever the count.
+    const tet = loadGeometryFile('configs/arrays/tetrahedron-10cm.json');
+    expect(longestPairs(micPairs(tet).map(([a, b]) => sub(tet.mics[a]!.position, tet.mics[b]!.position)), 2).length).toBe(6);
     expect(createAnalysis(g, 48000, C, {}).model.curvePairs.length).toBe(12);
   });
 
