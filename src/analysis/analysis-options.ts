@@ -37,6 +37,8 @@ export interface AnalysisOptions {
   voting?: boolean;
   /** Extra lag allowed beyond the physical limit D/c, as a fraction. */
   lagMargin?: number;
+  /** Arrays of 3+ mics: the direction search reads the correlation curves of at most this many pairs, the longest baselines, equal lengths taken whole (0 = all). */
+  searchPairs?: number;
 }
 
 export type ResolvedAnalysis = Required<AnalysisOptions>;
@@ -57,6 +59,7 @@ export const ANALYSIS_DEFAULTS = {
   maxSources: 3,
   voting: true,
   lagMargin: 0.1,
+  searchPairs: 15,
 } as const;
 
 /** Most candidates the band fusion can compare per hop (--max-candidates), and so sources per hop. */
@@ -112,6 +115,7 @@ export const analysisOptionSpecs: readonly OptionSpec<keyof AnalysisOptions>[] =
   numberOption('maxSources', 'max-sources', 'n', null, { min: 1, max: CANDIDATE_LIMIT, integer: true }, 'most simultaneous sources reported per hop, at most --max-candidates', { defaultText: `${DEFAULT_MAX_SOURCES}, at most --max-candidates` }),
   flagOption('voting', 'no-voting', true, 'turn band fusion off (plain weighted GCC-PHAT peak, for comparison)'),
   numberOption('lagMargin', 'lag-margin', 'fraction', ANALYSIS_DEFAULTS.lagMargin, { min: 0, max: 1 }, 'extra delay allowed beyond spacing / c'),
+  numberOption('searchPairs', 'search-pairs', 'n', ANALYSIS_DEFAULTS.searchPairs, { min: 0, max: 28, integer: true }, 'arrays of 3 or more mics: the direction search reads the correlation curves of at most this many pairs, those of the longest baselines, pairs of equal length taken whole and the longest group always (0 = all; 15 keeps every pair of up to 6 mics and 12 of an 8-mic circle); fewer: fewer inverse FFTs per hop; the band fusion and the refinement use every pair'),
 ];
 
 /**

@@ -37,7 +37,7 @@ export function createAnalysis(
   if (geometry.mics.length === 2) {
     model = new PairDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);
   } else {
-    model = new SrpDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);
+    model = new SrpDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame, { pairs: resolved.searchPairs });
   }
   const analyzer = new HopAnalyzer(geometry.mics.length, sampleRate, model, resolved);
   const checks = new StreamChecks(geometry, model.pairs, model.maxLag, sampleRate, speedOfSound, where);
@@ -70,7 +70,7 @@ export interface StreamHandlers {
  * completed its frame. Returns the number of hops.
  */
 export async function runAnalysis(source: AudioSource, analyzer: HopAnalyzer, handlers: StreamHandlers): Promise<number> {
-  const framer = new Framer(analyzer.channels, analyzer.frame, analyzer.hop);
+  const framer = new Framer(analyzer.channels, analyzer.frame, analyzer.hop, analyzer.inputFrames());
   const rate = analyzer.sampleRate;
   const meter = handlers.meter ?? null;
   const time: HopTime = { timeS: 0, epochMs: null };
@@ -108,7 +108,7 @@ export async function runAnalysis(source: AudioSource, analyzer: HopAnalyzer, ha
 
 /** Analyse planar arrays held in memory (tests, the simulator's checks). */
 export function analyzeArrays(setup: AnalysisSetup, channels: readonly Float32Array[], onHop: (r: HopResult) => void): void {
-  const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop);
+  const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop, setup.analyzer.inputFrames());
   framer.push(channels, channels[0]!.length, (frames) => onHop(setup.analyzer.process(frames)));
 }
 

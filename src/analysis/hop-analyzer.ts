@@ -125,11 +125,13 @@ export class HopAnalyzer {
   /** The analysis bins of each PFFFT spectrum and of kPacked, as views made once (no view made per hop). */
   private readonly kSpectraBins: Float32Array[];
   private readonly kPackedBins: Float32Array | null;
-  /** The spectra stage on the kernels: frames, the window, windowed frames, sums of squares, and the frames given to window4 for 1, 2 and 4 channels. */
+  /**
+   * The spectra stage on the kernels: one frame per channel in their memory (the framer may fill
+   * them in place: inputFrames()), the window, and four windowed frames (float32).
+   */
   private readonly kFrames: Float64Array[];
   private readonly kWindow: Float64Array | null;
   private readonly kWindowed: Float32Array[];
-  private readonly kFrameLanes: Float64Array[][];
   private readonly window: Float64Array;
   /** Four windowed frames (FFT inputs): channels are windowed up to four at a time. */
   private readonly windowed: FftBuffer[];
@@ -188,6 +190,8 @@ export class HopAnalyzer {
   private hopIndex = 0;
   /** Whether the last hop computed its pair correlations (a silent hop does not). */
   private lastHopCorrelated = false;
+  /** Whether the last hop computed every pair's correlation curve (else only the model's curvePairs). */
+  private allCurves = false;
 
   constructor(
     readonly channels: number,
@@ -214,7 +218,7 @@ export class HopAnalyzer {
       this.fft.backend === 'pffft' && kernelPath === 'auto'
         ? GccKernels.create(
             GccKernels.bytesFor(
-              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, n, n, n, n, n, 4],
+              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, ...new Array<number>(channels + 1).fill(n), 4],
               new Array<number>(channels + 5).fill(n),
               [options.bands],
             ) +
@@ -231,12 +235,10 @@ export class HopAnalyzer {
     this.kBandSums = k ? [k.f64(options.bands), k.f64(options.bands)] : [];
     const { firstBin, endBin } = layout;
     this.window = hannWindow(n);
-    this.kFrames = k ? Array.from({ length: 4 }, () => k.f64(n)) : [];
+    this.kFrames = k ? Array.from({ length: channels }, () => k.f64(n)) : [];
     this.kWindow = k ? k.f64(n) : null;
     this.kWindow?.set(this.window);
     this.kWindowed = k ? Array.from({ length: 4 }, () => k.f32(n)) : [];
-    const kf = this.kFrames;
-    this.kFrameLanes = k ? [[], [kf[0]!, kf[0]!, kf[0]!, kf[0]!], [kf[0]!, kf[1]!, kf[0]!, kf[1]!], [], [kf[0]!, kf[1]!, kf[2]!, kf[3]!]] : [];
     this.meanSquares = k ? k.f64(4) : new Float64Array(4);
     this.windowed = Array.from({ length: Math.min(4, channels) }, () => this.fft.createInput());
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
@@ -321,10 +323,26 @@ export class HopAnalyzer {
   /**
    * The pair correlations of the last hop (in model.pairs order), for pictures of the evidence
    * (direction/evidence-map.ts); null when the hop was silent and computed none. Read right
-   * after process(): the next hop overwrites them. Costs nothing unless called.
+   * after process(): the next hop overwrites them. Costs nothing unless called (then the curves of
+   * the pairs the direction search does not read, --search-pairs, are computed for this hop).
    */
   lastCorrelations(): readonly PairCorrelator[] | null {
-    return this.lastHopCorrelated ? this.correlators : null;
+    if (!this.lastHopCorrelated) return null;
+    // The pairs the direction search does not read had no curve computed this hop: now they do.
+    if (!this.allCurves) {
+      this.correlate(this.model.pairs.length, null);
+      this.allCurves = true;
+    }
+    return this.correlators;
+  }
+
+  /**
+   * Buffers for the next frame, one per channel, in the kernels' memory: a framer that writes the
+   * frame there (Framer's `buffers`) and passes them to process() saves a copy per channel per
+   * hop. Null on the JavaScript path (any Float64Arrays do there).
+   */
+  inputFrames(): readonly Float64Array[] | null {
+    return this.kernels ? this.kFrames : null;
   }
 
   /**
@@ -368,10 +386,13 @@ export class HopAnalyzer {
       let ms3 = 0;
       const kern = this.kernels;
       if (kern) {
-        // The frames into the kernels' memory, windowed there (float32), then into PFFFT's inputs.
+        // The frames into the kernels' memory (unless the framer wrote them there), windowed
+        // there (float32), then into PFFFT's inputs.
         const kf = this.kFrames;
-        for (let j = 0; j < m; j++) kf[j]!.set(frames[c + j]!);
-        kern.window4(this.kFrameLanes[m]!, this.kWindow!, this.kWindowed, ms);
+        for (let j = 0; j < m; j++) if (frames[c + j] !== kf[c + j]) kf[c + j]!.set(frames[c + j]!);
+        const kw = this.kWindowed;
+        if (m === 4) kern.window4(kf[c]!, kf[c + 1]!, kf[c + 2]!, kf[c + 3]!, this.kWindow!, kw[0]!, kw[1]!, kw[2]!, kw[3]!, ms);
+        else kern.window2(kf[c]!, kf[c + m - 1]!, this.kWindow!, kw[0]!, kw[1]!, ms);
         for (let j = 0; j < m; j++) (this.windowed[j] as Float32Array).set(this.kWindowed[j]!);
         ms0 = ms[0]!;
         ms1 = ms[1]!;
@@ -561,11 +582,17 @@ export class HopAnalyzer {
    * fusion, every band has the say of its evidence; without, the plain weighted GCC-PHAT over all bins.
    */
   correlationStage(): void {
+    const curves = this.model.curvePairs;
+    this.allCurves = curves.length === this.model.pairs.length;
+    this.correlate(curves.length, curves);
+  }
+
+  /** The correlations of pairs[0 .. count) (`which` null), or of the pairs which[0 .. count). */
+  private correlate(count: number, which: Int32Array | null): void {
     const { firstBin: k0, endBin: k1 } = this.bands;
-    const P = this.model.pairs.length;
     const kern = this.kernels;
-    for (let p = 0; p < P; p++) {
-      const pc = this.correlators[p]!;
+    for (let i = 0; i < count; i++) {
+      const pc = this.correlators[which ? which[i]! : i]!;
       if (kern) {
         kern.scalePack(pc, this.options.voting ? this.binScale : null, this.kPacked!, k0, k1);
         this.fft.inversePackedLags(this.kPackedBins!, k0, k1, pc.gcc, pc.maxLag + 1);
@@ -797,10 +824,13 @@ export class HopAnalyzer {
     res.dominantBand = support.dominant;
     res.supportFirstBand = first;
     res.supportLastBand = last;
-    for (let p = 0; p < P; p++) {
-      res.tdoaS[p] = this.refined[p]! / this.sampleRate;
-      // Each pair's own best peak, for the geometry check (src/analysis/stream-checks.ts).
-      res.pairOwnTdoaS[p] = P > 1 && this.correlators[p]!.peaks(1, this.ownLag, this.ownHeight) === 1 ? this.ownLag[0]! / this.sampleRate : NaN;
+    for (let p = 0; p < P; p++) res.tdoaS[p] = this.refined[p]! / this.sampleRate;
+    // Each pair's own best peak, for the geometry check (src/analysis/stream-checks.ts): the pairs
+    // whose curves the search read (the others stay NaN).
+    const curves = this.model.curvePairs;
+    for (let i = 0; P > 1 && i < curves.length; i++) {
+      const p = curves[i]!;
+      res.pairOwnTdoaS[p] = this.correlators[p]!.peaks(1, this.ownLag, this.ownHeight) === 1 ? this.ownLag[0]! / this.sampleRate : NaN;
     }
     if (this.diagnostics) this.pairDiagnostics(res, P);
   }

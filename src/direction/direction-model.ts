@@ -19,6 +19,8 @@ export interface DirectionModel {
   readonly maxLag: Int32Array;
   /** The mirror ambiguity the array carries (src/geometry/array-mirror.ts), null for a solid array. */
   readonly mirror: ArrayMirror | null;
+  /** The pairs whose correlation curves (PairCorrelator.gcc) findCandidates reads, ascending: the analysis computes only these each hop. */
+  readonly curvePairs: Int32Array;
   /**
    * Candidates from this hop's correlations, best first: writes candidate c's lag for pair p
    * to lagsOut[c * pairs + p] (samples) and its score to scoresOut[c]; returns the count.

@@ -28,6 +28,7 @@ export function pairTdoaS(azimuthDeg: number, spacingM: number, speedOfSound: nu
  */
 export class PairDirectionModel implements DirectionModel {
   readonly pairs: readonly MicPair[] = [[0, 1]];
+  readonly curvePairs = Int32Array.of(0);
   readonly maxLag: Int32Array;
   readonly mirror: ArrayMirror;
   private readonly spacing: number;

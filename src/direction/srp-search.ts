@@ -15,6 +15,8 @@ const MIN_AUTO_STEP_DEG = 2.5;
 export interface SearchGrid {
   /** Angular step of the grid, degrees (default: from the array's largest lag). */
   readonly stepDeg?: number;
+  /** The search reads the correlations of at most this many pairs, the longest baselines (0 or undefined: all). */
+  readonly pairs?: number;
 }
 
 /**
@@ -28,6 +30,8 @@ export class SrpDirectionModel implements DirectionModel {
   readonly maxLag: Int32Array;
   readonly mirror: ArrayMirror | null;
   readonly shape: ArrayShape;
+  /** The pairs whose correlations the search reads (ascending; all of them unless SearchGrid.pairs says fewer). */
+  readonly curvePairs: Int32Array;
   private readonly axis: Vec3;
   /** Pair baselines p_a - p_b (m). */
   private readonly baselines: Vec3[];
@@ -35,12 +39,12 @@ export class SrpDirectionModel implements DirectionModel {
   /** Per pair and grid point (index p * G + g): the lag. */
   private readonly gridLag: Float64Array;
   /**
-   * Per grid point and pair (index g * P + p, a point's pairs side by side): the index in
-   * `lagTable` of the whole lag below the point's lag, and the fraction above it.
+   * Per grid point and search pair (index g * S + s for curvePairs[s], a point's pairs side by
+   * side): the index in `lagTable` of the whole lag below the point's lag, and the fraction above it.
    */
   private readonly gridIdx: Int32Array;
   private readonly gridFrac: Float64Array;
-  /** This hop's correlations of all pairs over their lag windows, pair p's lag l at lagBase[p] + l. */
+  /** This hop's correlations of the search pairs over their lag windows, curvePairs[s]'s lag l at lagBase[s] + l. */
   private readonly lagTable: Float64Array;
   private readonly lagBase: Int32Array;
   /** Neighbours of grid point g: nbList[nbStart[g] .. nbStart[g + 1]). */
@@ -95,34 +99,40 @@ export class SrpDirectionModel implements DirectionModel {
     const step = grid.stepDeg ?? Math.max(MIN_AUTO_STEP_DEG, Math.min(shape === 'line' ? 3 : 8, ((1.4 / largestLag) * 180) / Math.PI));
     this.gridDirs = makeGrid(shape, this.mirror, step);
     const G = this.gridDirs.length;
-    // Each pair's window holds lags -maxLag .. maxLag + 1 (a grid lag lies within the physical limit).
-    this.lagBase = new Int32Array(P);
+    this.curvePairs = longestPairs(this.baselines, grid.pairs ?? 0);
+    const S = this.curvePairs.length;
+    // Each search pair's window holds lags -maxLag .. maxLag + 1 (a grid lag lies within the physical limit).
+    this.lagBase = new Int32Array(S);
     let tableSize = 0;
-    for (let p = 0; p < P; p++) {
-      this.lagBase[p] = tableSize + this.maxLag[p]!;
-      tableSize += 2 * this.maxLag[p]! + 2;
+    for (let s = 0; s < S; s++) {
+      const L = this.maxLag[this.curvePairs[s]!]!;
+      this.lagBase[s] = tableSize + L;
+      tableSize += 2 * L + 2;
     }
     // The coarse subset (below) has fewer than G points.
     const nb = neighbourLists(this.gridDirs, step);
     const nbTotal = nb.reduce((sum, list) => sum + list.length, 0);
-    const k = kernelPath === 'auto' ? GccKernels.create(GccKernels.bytesFor([G * P, tableSize, G, 12, 16], [G * P, G, G, G + 1, nbTotal, 2 * G + 1, 12 * G, 12, 16, SRP_SEARCH_ARGS])) : null;
+    const k = kernelPath === 'auto' ? GccKernels.create(GccKernels.bytesFor([G * S, tableSize, G, 12, 16], [G * S, G, G, G + 1, nbTotal, 2 * G + 1, 12 * G, 12, 16, SRP_SEARCH_ARGS])) : null;
     this.kernels = k;
     this.starts = k ? k.i32(12) : new Int32Array(12);
     this.startPower = k ? k.f64(12) : new Float64Array(12);
     this.found = k ? k.i32(16) : new Int32Array(16);
     this.foundScores = k ? k.f64(16) : null;
     this.gridLag = new Float64Array(G * P);
-    this.gridIdx = k ? k.i32(G * P) : new Int32Array(G * P);
-    this.gridFrac = k ? k.f64(G * P) : new Float64Array(G * P);
+    this.gridIdx = k ? k.i32(G * S) : new Int32Array(G * S);
+    this.gridFrac = k ? k.f64(G * S) : new Float64Array(G * S);
     this.lagTable = k ? k.f64(tableSize) : new Float64Array(tableSize);
     for (let g = 0; g < G; g++) {
       for (let p = 0; p < P; p++) {
         const lag = this.lagFor(this.gridDirs[g]!, p);
-        const i = Math.floor(lag);
-        if (i < -this.maxLag[p]! || i + 1 > this.maxLag[p]! + 1) throw new Error(`grid lag ${lag} outside pair ${p}'s window`);
+        if (Math.floor(lag) < -this.maxLag[p]! || Math.floor(lag) + 1 > this.maxLag[p]! + 1) throw new Error(`grid lag ${lag} outside pair ${p}'s window`);
         this.gridLag[p * G + g] = lag;
-        this.gridIdx[g * P + p] = this.lagBase[p]! + i;
-        this.gridFrac[g * P + p] = lag - i;
+      }
+      for (let s = 0; s < S; s++) {
+        const lag = this.gridLag[this.curvePairs[s]! * G + g]!;
+        const i = Math.floor(lag);
+        this.gridIdx[g * S + s] = this.lagBase[s]! + i;
+        this.gridFrac[g * S + s] = lag - i;
       }
     }
     this.nbStart = k ? k.i32(G + 1) : new Int32Array(G + 1);
@@ -159,7 +169,7 @@ export class SrpDirectionModel implements DirectionModel {
     if (k) {
       const args = (this.searchArgs = k.i32(SRP_SEARCH_ARGS));
       const at = (v: Float64Array | Int32Array) => k.address(v);
-      args.set([at(this.lagTable), at(this.gridIdx), at(this.gridFrac), P, at(this.power), at(this.stamp), 0, at(this.coarse), this.coarse.length,
+      args.set([at(this.lagTable), at(this.gridIdx), at(this.gridFrac), S, at(this.power), at(this.stamp), 0, at(this.coarse), this.coarse.length,
         at(this.cnbStart), at(this.cnbList), at(this.nbStart), at(this.nbList), this.starts.length, at(this.starts), at(this.startPower), at(this.found), at(this.foundScores!), 0]);
       const theirs = [this.lagTable, this.gridIdx, this.gridFrac, this.power, this.stamp, this.coarse, this.cnbStart, this.cnbList, this.nbStart, this.nbList, this.starts, this.startPower, this.found, this.foundScores!];
       if (!theirs.every((v) => k.owns(v))) throw new Error('SrpDirectionModel: a kernel array is outside the kernels memory');
@@ -188,22 +198,23 @@ export class SrpDirectionModel implements DirectionModel {
     return this.gridDirs.length;
   }
 
-  /** Copy this hop's correlations over each pair's lag window into lagTable. */
+  /** Copy this hop's correlations over each search pair's lag window into lagTable. */
   private fillLagTable(correlators: readonly PairCorrelator[]): void {
     const t = this.lagTable;
-    for (let p = 0; p < correlators.length; p++) {
+    for (let s = 0; s < this.curvePairs.length; s++) {
+      const p = this.curvePairs[s]!;
       const gcc = correlators[p]!.gcc;
       const n = gcc.length;
-      const base = this.lagBase[p]!;
+      const base = this.lagBase[s]!;
       const L = this.maxLag[p]!;
       for (let lag = 0; lag <= L + 1; lag++) t[base + lag] = gcc[lag]!;
       for (let lag = -L; lag < 0; lag++) t[base + lag] = gcc[n + lag]!;
     }
   }
 
-  /** Steered response at grid point g (sum over pairs of the linearly interpolated correlation). */
+  /** Steered response at grid point g (sum over the search pairs of the linearly interpolated correlation). */
   private powerAt(g: number): number {
-    const P = this.pairs.length;
+    const P = this.curvePairs.length;
     const t = this.lagTable;
     const idx = this.gridIdx;
     const frac = this.gridFrac;
@@ -237,7 +248,7 @@ export class SrpDirectionModel implements DirectionModel {
     const coarse = this.coarse;
     const kern = this.kernels;
     if (kern) {
-      kern.srpPower(this.lagTable, this.gridIdx, this.gridFrac, P, coarse, 0, coarse.length, this.power, this.stamp, this.hop);
+      kern.srpPower(this.lagTable, this.gridIdx, this.gridFrac, this.curvePairs.length, coarse, 0, coarse.length, this.power, this.stamp, this.hop);
       const args = this.searchArgs!;
       args[6] = this.hop;
       args[18] = Math.min(maxCount, this.found.length);
@@ -421,4 +432,27 @@ function neighbourLists(dirs: Vec3[], stepDeg: number): Int32Array[] {
     for (let j = 0; j < dirs.length; j++) if (j !== i && dot(u, dirs[j]!) >= cosLimit) list.push(j);
     return Int32Array.from(list);
   });
+}
+
+/**
+ * The pairs of the longest baselines, at most `count` of them (all when count is 0 or at least
+ * their number), in ascending pair order. Pairs of equal baselines (within 0.1 mm: the chords of
+ * a circle, the edges of a triangle or a tetrahedron) are taken whole or not at all, so that the
+ * search treats the array's symmetric directions alike; the longest group is always taken whole,
+ * even when it alone holds more than `count` pairs.
+ */
+export function longestPairs(baselines: readonly Vec3[], count: number): Int32Array {
+  const P = baselines.length;
+  if (!(count > 0) || count >= P) return Int32Array.from({ length: P }, (_, p) => p);
+  const len = baselines.map((b) => Math.round(norm(b) * 1e4));
+  const order = Array.from({ length: P }, (_, p) => p).sort((a, b) => len[b]! - len[a]! || a - b);
+  let take = 0;
+  while (take < P) {
+    let end = take;
+    while (end < P && len[order[end]!] === len[order[take]!]) end++;
+    if (end > count) break;
+    take = end;
+  }
+  if (take === 0) while (take < P && len[order[take]!] === len[order[0]!]) take++;
+  return Int32Array.from(order.slice(0, take).sort((a, b) => a - b));
 }

@@ -13,8 +13,11 @@ export class Framer {
     readonly channels: number,
     readonly frame: number,
     readonly hop: number,
+    /** Where to build the frames (one array of `frame` samples per channel), e.g. the analyzer's own (HopAnalyzer.inputFrames); default: new arrays. */
+    buffers?: readonly Float64Array[] | null,
   ) {
-    this.buffers = Array.from({ length: channels }, () => new Float64Array(frame));
+    if (buffers && (buffers.length !== channels || buffers.some((b) => b.length !== frame))) throw new Error(`Framer: ${channels} buffers of ${frame} samples needed`);
+    this.buffers = buffers ? [...buffers] : Array.from({ length: channels }, () => new Float64Array(frame));
   }
 
   /** Feed `length` samples of each channel; `onFrame` gets the frame buffers (valid during the call). */

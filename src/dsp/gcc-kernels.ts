@@ -35,6 +35,7 @@ interface KernelExports {
   srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
   srp_search(args: number): number;
   window4(x0: number, x1: number, x2: number, x3: number, win: number, w0: number, w1: number, w2: number, w3: number, n: number, ms: number): void;
+  window2(x0: number, x1: number, win: number, w0: number, w1: number, n: number, ms: number): void;
   band_sums(power: number, nf: number, acc: number, w: number, m: number, starts: number, ends: number, nb: number, sp: number, sn: number, sa: number, k0: number, k1: number): void;
   onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number): number;
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
@@ -154,14 +155,10 @@ export class GccKernels {
     this.bandStarts.set(bands.start);
   }
 
-  /**
-   * An array's address in the kernels' memory. Every array passed to a kernel must come from this
-   * instance (f64(), f32(), u8()); owns() checks that, once, where the arrays are set up (the
-   * check on every call cost 3 % of the analysis).
-   */
-  private ptr(view: Float64Array | Float32Array | Int32Array | Uint8Array): number {
-    return view.byteOffset;
-  }
+  // Arrays are passed to the kernels by their byteOffset, read at each call site (one typed-array
+  // type per site: a shared helper saw them all and cost 1-3 % of the analysis). Every array passed
+  // must come from this instance (f64(), f32(), u8()); owns() checks that, once, where the arrays
+  // are set up (the check on every call cost 3 % of the analysis).
 
   /** Is this array a view into this instance's memory? */
   owns(view: Float64Array | Float32Array | Int32Array | Uint8Array): boolean {
@@ -170,7 +167,7 @@ export class GccKernels {
 
   /** Per bin of [k0, k1): power[k] += |X_k|^2 and inv[k] = 1 / |X_k| (0 for an empty bin); spectrum interleaved float32. */
   magnitudes(spec: Float32Array, power: Float64Array, inv: Float64Array, k0: number, k1: number): void {
-    this.x.magnitudes(this.ptr(spec), this.ptr(power), this.ptr(inv), k0, k1);
+    this.x.magnitudes(spec.byteOffset, power.byteOffset, inv.byteOffset, k0, k1);
   }
 
   /**
@@ -179,7 +176,7 @@ export class GccKernels {
    * interpolated at idx[g P + p] + frac[g P + p]; stamp[g] = hop.
    */
   srpPower(t: Float64Array, idx: Int32Array, frac: Float64Array, P: number, pts: Int32Array, from: number, count: number, power: Float64Array, stamp: Int32Array, hop: number): void {
-    this.x.srp_power(this.ptr(t), this.ptr(idx), this.ptr(frac), P, this.ptr(pts) + 4 * from, count, this.ptr(power), this.ptr(stamp), hop);
+    this.x.srp_power(t.byteOffset, idx.byteOffset, frac.byteOffset, P, pts.byteOffset + 4 * from, count, power.byteOffset, stamp.byteOffset, hop);
   }
 
   /**
@@ -191,7 +188,7 @@ export class GccKernels {
    * found points and scores (the outputs), and maxCount. Returns how many were found.
    */
   srpSearch(args: Int32Array): number {
-    return this.x.srp_search(this.ptr(args));
+    return this.x.srp_search(args.byteOffset);
   }
 
   /** The address of an array in this memory (for argument blocks). */
@@ -205,7 +202,7 @@ export class GccKernels {
    * [invRise, invPresence, floor, 1 - floor, backgroundDecay, 1 - backgroundDecay, floorRise].
    */
   onsetUpdate(power: Float64Array, bg: Float64Array, nf: Float64Array, sm: Float64Array, weights: Float64Array, k0: number, k1: number, q: Float64Array): number {
-    return this.x.onset_update(this.ptr(power), this.ptr(bg), this.ptr(nf), this.ptr(sm), this.ptr(weights), k0, k1, this.ptr(q));
+    return this.x.onset_update(power.byteOffset, bg.byteOffset, nf.byteOffset, sm.byteOffset, weights.byteOffset, k0, k1, q.byteOffset);
   }
 
   /**
@@ -215,21 +212,25 @@ export class GccKernels {
    */
   bandSums(power: Float64Array, noise: Float64Array, acc: Float64Array, w: Float64Array, memory: number, sumPower: Float64Array, sumNoise: Float64Array, sumAcc: Float64Array, k0: number, k1: number): void {
     const bands = this.bands!;
-    this.x.band_sums(this.ptr(power), this.ptr(noise), this.ptr(acc), this.ptr(w), memory, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, this.ptr(sumPower), this.ptr(sumNoise), this.ptr(sumAcc), k0, k1);
+    this.x.band_sums(power.byteOffset, noise.byteOffset, acc.byteOffset, w.byteOffset, memory, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, sumPower.byteOffset, sumNoise.byteOffset, sumAcc.byteOffset, k0, k1);
   }
 
   /**
-   * Four frames x[0..3] (float64, in this memory) times the window into w[0..3] (float32), each
-   * frame's sum of squares (sample by sample, in order) into ms[0..3]. For fewer channels, repeat
-   * a frame and give spare outputs.
+   * Four frames x0..x3 (float64, in this memory) times the window into w0..w3 (float32), each
+   * frame's sum of squares (sample by sample, in order) into ms[0..3].
    */
-  window4(x: readonly Float64Array[], win: Float64Array, w: readonly Float32Array[], ms: Float64Array): void {
-    this.x.window4(this.ptr(x[0]!), this.ptr(x[1]!), this.ptr(x[2]!), this.ptr(x[3]!), this.ptr(win), this.ptr(w[0]!), this.ptr(w[1]!), this.ptr(w[2]!), this.ptr(w[3]!), win.length, this.ptr(ms));
+  window4(x0: Float64Array, x1: Float64Array, x2: Float64Array, x3: Float64Array, win: Float64Array, w0: Float32Array, w1: Float32Array, w2: Float32Array, w3: Float32Array, ms: Float64Array): void {
+    this.x.window4(x0.byteOffset, x1.byteOffset, x2.byteOffset, x3.byteOffset, win.byteOffset, w0.byteOffset, w1.byteOffset, w2.byteOffset, w3.byteOffset, win.length, ms.byteOffset);
+  }
+
+  /** window4 for two frames (sums into ms[0..1]); for one frame, give it twice and a spare output. */
+  window2(x0: Float64Array, x1: Float64Array, win: Float64Array, w0: Float32Array, w1: Float32Array, ms: Float64Array): void {
+    this.x.window2(x0.byteOffset, x1.byteOffset, win.byteOffset, w0.byteOffset, w1.byteOffset, win.length, ms.byteOffset);
   }
 
   /** out[k] = w[k] * inv[k] over [k0, k1). */
   times(w: Float64Array, inv: Float64Array, out: Float64Array, k0: number, k1: number): void {
-    this.x.times(this.ptr(w), this.ptr(inv), this.ptr(out), k0, k1);
+    this.x.times(w.byteOffset, inv.byteOffset, out.byteOffset, k0, k1);
   }
 
   /**
@@ -238,12 +239,12 @@ export class GccKernels {
    * RealFft.inverseLags writes into PFFFT's buffer (./fft.ts, RealFft.inversePackedLags takes it).
    */
   scalePack(pc: CrossSpectrum, binScale: Float64Array | null, packed: Float32Array, k0: number, k1: number): void {
-    this.x.scale_pack(this.ptr(pc.accRe), this.ptr(pc.accIm), binScale === null ? 0 : this.ptr(binScale), this.ptr(packed), k0, k1);
+    this.x.scale_pack(pc.accRe.byteOffset, pc.accIm.byteOffset, binScale === null ? 0 : binScale.byteOffset, packed.byteOffset, k0, k1);
   }
 
   /** PairCorrelator.accumulate (./gcc.ts) on float32 spectra in this memory. */
   accumulate(pc: CrossSpectrum, a: Float32Array, b: Float32Array, weightedInvA: Float64Array, invB: Float64Array, k0: number, k1: number, memory: number): void {
-    this.x.accumulate(this.ptr(a), this.ptr(b), this.ptr(weightedInvA), this.ptr(invB), this.ptr(pc.accRe), this.ptr(pc.accIm), k0, k1, memory);
+    this.x.accumulate(a.byteOffset, b.byteOffset, weightedInvA.byteOffset, invB.byteOffset, pc.accRe.byteOffset, pc.accIm.byteOffset, k0, k1, memory);
   }
 
   /**
@@ -255,11 +256,11 @@ export class GccKernels {
     const bands = this.bands!;
     const k0 = bands.firstBin;
     const ph = this.ph;
-    const ar = this.ptr(pc.accRe);
-    const ai = this.ptr(pc.accIm);
+    const ar = pc.accRe.byteOffset;
+    const ai = pc.accIm.byteOffset;
     const ends = this.bandEnds!.byteOffset;
-    const need = needed === null ? 0 : this.ptr(needed);
-    const out = this.ptr(scoresOut);
+    const need = needed === null ? 0 : needed.byteOffset;
+    const out = scoresOut.byteOffset;
     let i = 0;
     for (; i + 4 <= count; i += 4) {
       const o = lagOffset + i * lagStride;
@@ -319,20 +320,22 @@ export class GccKernels {
     const ph = this.ph;
     const stepA = w0 * ta;
     const stepB = w0 * tb;
+    // One pair given twice (a pair alone, or the odd one out) at one lag: its cosines and sines once.
+    const same = Object.is(ta, tb); // (not ===: 0 and -0 have sines of opposite sign)
     ph[0] = Math.cos(stepA);
-    ph[1] = Math.cos(stepB);
+    ph[1] = same ? ph[0]! : Math.cos(stepB);
     ph[2] = Math.sin(stepA);
-    ph[3] = Math.sin(stepB);
+    ph[3] = same ? ph[2]! : Math.sin(stepB);
     for (let b = 0; b < bands.count; b++) {
       if (!useBand[b]) continue;
       const s = bands.start[b]!;
       const o = 4 + 4 * b;
       ph[o] = Math.cos(stepA * s);
-      ph[o + 1] = Math.cos(stepB * s);
+      ph[o + 1] = same ? ph[o]! : Math.cos(stepB * s);
       ph[o + 2] = Math.sin(stepA * s);
-      ph[o + 3] = Math.sin(stepB * s);
+      ph[o + 3] = same ? ph[o + 2]! : Math.sin(stepB * s);
     }
-    this.x.derivatives2(this.ptr(pa.accRe), this.ptr(pa.accIm), this.ptr(pb.accRe), this.ptr(pb.accIm), this.ptr(useBand), this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, w0, ph.byteOffset, this.out.byteOffset);
+    this.x.derivatives2(pa.accRe.byteOffset, pa.accIm.byteOffset, pb.accRe.byteOffset, pb.accIm.byteOffset, useBand.byteOffset, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, w0, ph.byteOffset, this.out.byteOffset);
     const r = this.out;
     d[oa] = r[0]!;
     d[oa + 1] = r[2]!;
@@ -355,7 +358,7 @@ export class GccKernels {
       return;
     }
     setPhasors(this.ph, 0, lag0, lag1, n, first);
-    this.x.hop_coherence2(this.ptr(a0), this.ptr(b0), this.ptr(a1), this.ptr(b1), this.ptr(invA0), this.ptr(invB0), this.ptr(invA1), this.ptr(invB1), first, end, this.ph.byteOffset, this.out.byteOffset);
+    this.x.hop_coherence2(a0.byteOffset, b0.byteOffset, a1.byteOffset, b1.byteOffset, invA0.byteOffset, invB0.byteOffset, invA1.byteOffset, invB1.byteOffset, first, end, this.ph.byteOffset, this.out.byteOffset);
     out[0] = this.out[0]! / (end - first);
     out[1] = this.out[1]! / (end - first);
   }
@@ -364,13 +367,21 @@ export class GccKernels {
 /** ph[at ..] = [sr0 sr1 si0 si1 pr0 pr1 pi0 pi1] for the phasor recursions of lags l0 and l1 from bin k0 (as ./gcc.ts computes them). */
 function setPhasors(ph: Float64Array, at: number, l0: number, l1: number, n: number, k0: number): void {
   const s0 = (2 * Math.PI * l0) / n;
-  const s1 = (2 * Math.PI * l1) / n;
   ph[at] = Math.cos(s0);
-  ph[at + 1] = Math.cos(s1);
   ph[at + 2] = Math.sin(s0);
-  ph[at + 3] = Math.sin(s1);
   ph[at + 4] = Math.cos(s0 * k0);
-  ph[at + 5] = Math.cos(s1 * k0);
   ph[at + 6] = Math.sin(s0 * k0);
+  if (Object.is(l1, l0)) {
+    // the same lag in both lanes (a pair given twice, a spare lane): the same numbers
+    ph[at + 1] = ph[at]!;
+    ph[at + 3] = ph[at + 2]!;
+    ph[at + 5] = ph[at + 4]!;
+    ph[at + 7] = ph[at + 6]!;
+    return;
+  }
+  const s1 = (2 * Math.PI * l1) / n;
+  ph[at + 1] = Math.cos(s1);
+  ph[at + 3] = Math.sin(s1);
+  ph[at + 5] = Math.cos(s1 * k0);
   ph[at + 7] = Math.sin(s1 * k0);
 }

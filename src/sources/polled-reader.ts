@@ -1,20 +1,47 @@
-import { readSync } from 'node:fs';
+import { fstatSync, readFileSync, readSync } from 'node:fs';
 
 /**
- * Raw bytes from a file descriptor (a pipe: stdin), collected every `everyMs` milliseconds:
- * each read takes all that has arrived since the last one. A live stream that arrives in small
- * writes (a sound card's 10-20 ms periods) then wakes the process a few times a second instead
- * of fifty: most of a quiet station's CPU was spent waking up (issue 14's live bench). The
- * latency grows by up to `everyMs`.
+ * Raw bytes from a file descriptor (a pipe or socket: stdin), collected every `everyMs`
+ * milliseconds: each read takes all that has arrived since the last one. A live stream that
+ * arrives in small writes (a sound card's 10-20 ms periods) then wakes the process a few times a
+ * second instead of fifty: most of a quiet station's CPU was spent waking up (issue 14's live
+ * bench). The latency grows by up to `everyMs`.
  *
- * A pipe holds 64 KiB in Linux: the interval is shortened so that one interval of the stream
- * (`bytesPerSecond`) fills at most three quarters of it, and a producer is never held up.
- * The descriptor must not block: a pipe made non-blocking (polledStdin), a file, or a
- * terminal (EAGAIN: nothing yet). Ends at end of file, or when `stopped` resolves (a
- * read still pending then is abandoned). Each chunk is a view into one buffer, valid until the
- * next is asked for.
+ * What the descriptor holds while it waits (inputCapacity): a pipe 64 KiB in Linux; a Unix
+ * socket (what a parent process such as a supervisor or Node's spawn gives its child as stdin)
+ * its sender's buffer, net.core.wmem_default (208 KiB usually), of which we count on half (each
+ * write costs the buffer some bytes of bookkeeping beyond its data). The interval is shortened
+ * so that one interval of the stream (`bytesPerSecond`) fills at most three quarters of that,
+ * and a producer is never held up. The descriptor must not block: a pipe or socket made
+ * non-blocking (polledStdin), a file, or a terminal (EAGAIN: nothing yet). Ends at end of file,
+ * or when `stopped` resolves (a read still pending then is abandoned). Each chunk is a view into
+ * one buffer, valid until the next is asked for.
  */
 const PIPE_BYTES = 65536;
+/** A Unix socket's send buffer when /proc does not say (Linux's usual net.core.wmem_default). */
+const SOCKET_BYTES_DEFAULT = 212992;
+
+/** Bytes the descriptor can hold before its writer must wait: see above (64 KiB for anything but a socket). */
+export function inputCapacity(fd: number, wmemDefaultFile = '/proc/sys/net/core/wmem_default'): number {
+  try {
+    if (!fstatSync(fd).isSocket()) return PIPE_BYTES;
+  } catch {
+    return PIPE_BYTES;
+  }
+  let sendBuffer = SOCKET_BYTES_DEFAULT;
+  try {
+    const v = Number(readFileSync(wmemDefaultFile, 'utf8').trim());
+    if (Number.isFinite(v) && v > 0) sendBuffer = v;
+  } catch {
+    // no /proc: the usual size
+  }
+  return Math.max(PIPE_BYTES, Math.floor(sendBuffer / 2));
+}
+
+/** The interval (ms) between reads: `everyMs`, but at most the time that fills three quarters of `capacity` bytes. */
+export function readInterval(everyMs: number, bytesPerSecond: number, capacity: number): number {
+  return Math.max(1, Math.min(everyMs, (1000 * 0.75 * capacity) / bytesPerSecond));
+}
 
 /** A file descriptor read every `everyMs` milliseconds (pollFd) instead of through a Readable. */
 export interface PolledInput {
@@ -36,8 +63,9 @@ export function polledStdin(everyMs: number): PolledInput {
 }
 
 export async function* pollFd(fd: number, everyMs: number, bytesPerSecond: number, stopped: Promise<void>): AsyncGenerator<Uint8Array> {
-  const intervalMs = Math.max(1, Math.min(everyMs, (1000 * 0.75 * PIPE_BYTES) / bytesPerSecond));
-  const buf = Buffer.alloc(Math.max(PIPE_BYTES, Math.ceil((bytesPerSecond * 2 * intervalMs) / 1000)));
+  const capacity = inputCapacity(fd);
+  const intervalMs = readInterval(everyMs, bytesPerSecond, capacity);
+  const buf = Buffer.alloc(Math.max(capacity, Math.ceil((bytesPerSecond * 2 * intervalMs) / 1000)));
   let stop = false;
   // The pending sleep, ended early by a stop (no race against a long-lived promise: its handlers
   // would pile up, one per read, all night).
@@ -60,7 +88,7 @@ export async function* pollFd(fd: number, everyMs: number, bytesPerSecond: numbe
     if (due < now) due = now;
     // A (nearly) full pipe: the producer is ahead (a backlog, or faster than real time): read
     // again soon, not an interval later.
-    const wait = got >= 0.9 * PIPE_BYTES ? 1 : due - now;
+    const wait = got >= 0.9 * capacity ? 1 : due - now;
     if (wait === 1) due = now;
     await new Promise<void>((r) => {
       wake = r;

@@ -40,7 +40,7 @@ function dumpCell(id: string, assignments: string[]): HopRow[] {
   const geometry: ArrayGeometry = { name: 'matrix', headingDeg: null, mics: r.mics.map((position, channel) => ({ channel, position })) };
   const setup = createAnalysis(geometry, r.sampleRate, r.speedOfSound, parseSettings(assignments).analysis);
   const rows: HopRow[] = [];
-  const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop);
+  const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop, setup.analyzer.inputFrames());
   framer.push(r.channels, r.channels[0]!.length, (frames) => {
     const h = setup.analyzer.process(frames);
     const has = h.sourceCount > 0;

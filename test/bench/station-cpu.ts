@@ -6,18 +6,22 @@
  * (2) live stations: the built `bearline listen --stdin` with a 4-mic square, its record log
  *     on (--log-dir, --quiet), fed raw PCM at real-time pace (20 ms blocks on a fixed
  *     schedule), three at once on the same writes (liveStationShares: the same seconds of the
- *     machine's load for each); the CPU time of each listen process (/proc/PID/stat, user + system) over the
- *     wall time after the first WARM_S seconds (start-up and JIT warm-up left out), with the
+ *     machine's load for each); the CPU time of each listen process (its threads' run time in
+ *     /proc/PID/task/TID/schedstat, nanoseconds) over the
+ *     wall time after the first WARM_S seconds (start-up and JIT warm-up left out: for about
+ *     the first half minute V8 still compiles the hot paths on its background threads, which
+ *     cost the process 0.4-0.7 % of a core then and about nothing after; a station runs all
+ *     night, so the share that counts is the one after), with the
  *     defaults (stdin collected every 0.1 s), with --profile station-low-cpu (every 0.25 s, at
  *     most what fills three quarters of a 64 KiB pipe: 0.128 s here) and with the defaults
  *     reading every write as it arrives (--read-every 0).
  * Report only: nothing here passes or fails on a time. The machine may be shared: the share of
  * a busy machine is higher than that of a quiet one (CPU time grows when caches are shared).
  *
- * Alone: `npx tsx test/bench/station-cpu.ts [liveSeconds]` (builds nothing: run `npm run build` first).
+ * Alone: `npx tsx test/bench/station-cpu.ts [liveSeconds] [warmSeconds]` (builds nothing: run `npm run build` first).
  */
 import { spawn } from 'node:child_process';
-import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -55,7 +59,8 @@ export function presetShares(seconds = 5): PresetShare[] {
   });
 }
 
-const WARM_S = 4;
+/** Seconds of each live run before its CPU is counted (start-up, the JIT's warm-up). */
+const WARM_S = 30;
 const CHANNELS = 4;
 const BLOCK = 960; // 20 ms at 48 kHz
 
@@ -76,10 +81,23 @@ function pcm(seconds: number): Buffer {
   return out;
 }
 
-function cpuTicks(pid: number): number {
+/**
+ * CPU seconds the process has run so far: the sum over its threads of the scheduler's run time
+ * (/proc/PID/task/TID/schedstat, nanoseconds, exact), else utime + stime from /proc/PID/stat
+ * (10 ms clock ticks, charged to whoever runs when a tick lands: coarse for a process that
+ * runs 1 % of the time in short bursts).
+ */
+function cpuSeconds(pid: number): number {
+  try {
+    let ns = 0;
+    for (const tid of readdirSync(`/proc/${pid}/task`)) ns += Number(readFileSync(`/proc/${pid}/task/${tid}/schedstat`, 'utf8').split(' ')[0]);
+    if (Number.isFinite(ns) && ns > 0) return ns / 1e9;
+  } catch {
+    // no schedstat: the ticks below
+  }
   const stat = readFileSync(`/proc/${pid}/stat`, 'utf8');
   const f = stat.slice(stat.lastIndexOf(')') + 2).split(' ');
-  return Number(f[11]) + Number(f[12]); // utime, stime (fields 14 and 15)
+  return (Number(f[11]) + Number(f[12])) / HZ; // utime, stime (fields 14 and 15)
 }
 
 /** Clock ticks per second of /proc/PID/stat (USER_HZ, 100 on Linux). */
@@ -98,8 +116,8 @@ export interface LiveCase {
   nodeFlags?: string[];
 }
 
-export async function liveStationShare(profile: string | null, seconds = 30, nodeFlags: string[] = [], listenArgs: string[] = []): Promise<LiveShare> {
-  return (await liveStationShares([{ profile, args: listenArgs, nodeFlags }], seconds))[0]!;
+export async function liveStationShare(profile: string | null, seconds = 30, nodeFlags: string[] = [], listenArgs: string[] = [], warmS = WARM_S): Promise<LiveShare> {
+  return (await liveStationShares([{ profile, args: listenArgs, nodeFlags }], seconds, warmS))[0]!;
 }
 
 /**
@@ -107,8 +125,8 @@ export async function liveStationShare(profile: string | null, seconds = 30, nod
  * one's CPU is measured over the same seconds of a shared machine's load (their ratio is then
  * fair; one after the other, the load moved between runs by more than the differences).
  */
-export async function liveStationShares(cases: LiveCase[], seconds = 30): Promise<LiveShare[]> {
-  const data = pcm(seconds);
+export async function liveStationShares(cases: LiveCase[], seconds = 30, warmS = WARM_S): Promise<LiveShare[]> {
+  const data = pcm(warmS + seconds);
   const array = fileURLToPath(new URL('../../configs/arrays/square-10cm.json', import.meta.url));
   const runs = cases.map((c) => {
     const dir = mkdtempSync(join(tmpdir(), 'bearline-station-cpu-'));
@@ -119,7 +137,7 @@ export async function liveStationShares(cases: LiveCase[], seconds = 30): Promis
     let err = '';
     child.stderr.setEncoding('utf8').on('data', (d: string) => (err += d));
     const exited = new Promise<number | null>((r) => child.once('exit', r));
-    return { c, dir, child, exited, err: () => err, mark: null as { ticks: number; ms: number } | null, last: { ticks: 0, ms: 0 } };
+    return { c, dir, child, exited, err: () => err, mark: null as { cpu: number; ms: number } | null, last: { cpu: 0, ms: 0 } };
   });
   try {
     const bytesPerBlock = BLOCK * CHANNELS * 2;
@@ -132,17 +150,17 @@ export async function liveStationShares(cases: LiveCase[], seconds = 30): Promis
       if (wait > 0) await new Promise((r) => setTimeout(r, wait));
       for (const r of runs) r.child.stdin.write(data.subarray(k * bytesPerBlock, (k + 1) * bytesPerBlock));
       for (const r of runs) {
-        if (r.mark === null && k * blockMs >= WARM_S * 1000) r.mark = { ticks: cpuTicks(r.child.pid!), ms: performance.now() };
-        r.last = { ticks: cpuTicks(r.child.pid!), ms: performance.now() };
+        if (r.mark === null && k * blockMs >= warmS * 1000) r.mark = { cpu: cpuSeconds(r.child.pid!), ms: performance.now() };
+        r.last = { cpu: cpuSeconds(r.child.pid!), ms: performance.now() };
       }
     }
     const out: LiveShare[] = [];
     for (const r of runs) {
-      if (r.mark === null) throw new Error(`run longer than ${WARM_S} s`);
+      if (r.mark === null) throw new Error(`run longer than ${warmS} s`);
       r.child.stdin.end();
       const code = await r.exited;
       if (code !== 0) throw new Error(`listen ended with ${code}: ${r.err()}`);
-      out.push({ profile: r.c.profile ?? 'defaults', cpuPct: (100 * ((r.last.ticks - r.mark.ticks) / HZ)) / ((r.last.ms - r.mark.ms) / 1000), seconds: (r.last.ms - r.mark.ms) / 1000 });
+      out.push({ profile: r.c.profile ?? 'defaults', cpuPct: (100 * (r.last.cpu - r.mark.cpu)) / ((r.last.ms - r.mark.ms) / 1000), seconds: (r.last.ms - r.mark.ms) / 1000 });
     }
     return out;
   } finally {
@@ -153,15 +171,15 @@ export async function liveStationShares(cases: LiveCase[], seconds = 30): Promis
   }
 }
 
-export async function runStationCpuBench(liveSeconds = 30): Promise<string[]> {
+export async function runStationCpuBench(liveSeconds = 30, warmS = WARM_S): Promise<string[]> {
   const lines = [`CPU share of one core at real time, 48 kHz, per array preset (per-hop path: analysis, tracking, records), defaults and --profile ${LOW_CPU}:`];
   lines.push(`  ${'case'.padEnd(25)} ${'defaults'.padStart(9)} ${LOW_CPU.padStart(16)}  low/defaults`);
   for (const r of presetShares()) {
     lines.push(`  ${r.name.padEnd(25)} ${`${r.defaultsPct.toFixed(2)}%`.padStart(9)} ${`${r.lowCpuPct.toFixed(2)}%`.padStart(16)}  ${(r.lowCpuPct / r.defaultsPct).toFixed(2).padStart(12)}`);
   }
-  const [d, l, each] = (await liveStationShares([{ profile: null }, { profile: LOW_CPU }, { profile: null, args: ['--read-every', '0'] }], liveSeconds)) as [LiveShare, LiveShare, LiveShare];
+  const [d, l, each] = (await liveStationShares([{ profile: null }, { profile: LOW_CPU }, { profile: null, args: ['--read-every', '0'] }], liveSeconds, warmS)) as [LiveShare, LiveShare, LiveShare];
   lines.push(
-    `live stations side by side (listen --stdin, 4-mic square 10 cm, record log on, the same 20 ms writes at real-time pace, CPU over the ${d.seconds.toFixed(0)} s after the first ${WARM_S} s): ` +
+    `live stations side by side (listen --stdin, 4-mic square 10 cm, record log on, the same 20 ms writes at real-time pace, CPU over the ${d.seconds.toFixed(0)} s after the first ${warmS} s): ` +
       `defaults ${d.cpuPct.toFixed(1)}% of one core, ${LOW_CPU} ${l.cpuPct.toFixed(1)}% (ratio ${(l.cpuPct / d.cpuPct).toFixed(2)}); ` +
       `defaults reading every write (--read-every 0) ${each.cpuPct.toFixed(1)}%`,
   );
@@ -171,5 +189,6 @@ export async function runStationCpuBench(liveSeconds = 30): Promise<string[]> {
 
 if (process.argv[1] && fileURLToPath(import.meta.url) === process.argv[1]) {
   const s = Number(process.argv[2]) || 30;
-  for (const line of await runStationCpuBench(s)) console.log(line);
+  const warm = process.argv[3] === undefined ? WARM_S : Number(process.argv[3]);
+  for (const line of await runStationCpuBench(s, warm)) console.log(line);
 }

@@ -163,30 +163,38 @@ function snapshot(r: HopResult): string {
 
 describe('the hop analyzer gives the same outputs, bit for bit, on the WebAssembly and the JavaScript kernels', () => {
   const preset = (p: string) => loadGeometryFile(fileURLToPath(new URL(`../../configs/arrays/${p}.json`, import.meta.url)));
-  const cases: [string, ArrayGeometry][] = [
-    ['pair', pairGeometry(0.2)],
-    ['square', preset('square-10cm')],
-    ['tetrahedron', preset('tetrahedron-10cm')],
-    ['circle of 6', preset('circle6-r5cm')],
-    ['circle of 8', preset('circle8-r5cm')],
+  // The scene's delays (2 samples per channel) fit no direction of the circles exactly: the
+  // 8-mic circle searching 12 of its pairs (the default) reports fewer of its hops.
+  const cases: [string, ArrayGeometry, number, number][] = [
+    ['pair', pairGeometry(0.2), 15, 50],
+    ['triangle (two channels windowed together, then one alone)', preset('triangle-10cm'), 15, 50],
+    ['square', preset('square-10cm'), 15, 50],
+    ['tetrahedron', preset('tetrahedron-10cm'), 15, 50],
+    ['circle of 6', preset('circle6-r5cm'), 15, 50],
+    ['circle of 8 (12 pairs searched)', preset('circle8-r5cm'), 15, 40],
+    ['circle of 8 (all 28 pairs searched)', preset('circle8-r5cm'), 0, 50],
   ];
   const run = wasmKernelsAvailable() ? it : it.skip;
-  run.each(cases)('%s', (_name, geometry) => {
-    const setup = createAnalysis(geometry, 48000, 343, { maxCandidates: 5 });
+  run.each(cases)('%s', (_name, geometry, searchPairs, minValid) => {
+    const setup = createAnalysis(geometry, 48000, 343, { maxCandidates: 5, searchPairs });
     const wasm = setup.analyzer;
     const js = new HopAnalyzer(geometry.mics.length, 48000, setup.model, setup.options, 'js');
     wasm.diagnostics = true;
     js.diagnostics = true;
     const x = scene(geometry.mics.length, 2, seeded(9));
     const frames = x.map(() => new Float64Array(wasm.frame));
+    // Every other hop the frames are written straight into the analyzer's own buffers (as the framer does).
+    const own = wasm.inputFrames();
+    expect(own?.length).toBe(geometry.mics.length);
     let valid = 0;
-    for (let at = 0; at + wasm.frame <= x[0]!.length; at += wasm.hop) {
+    for (let at = 0, h = 0; at + wasm.frame <= x[0]!.length; at += wasm.hop, h++) {
       for (let c = 0; c < x.length; c++) frames[c]!.set(x[c]!.subarray(at, at + wasm.frame));
-      const a = snapshot(wasm.process(frames));
+      if (h % 2 === 1) for (let c = 0; c < x.length; c++) own![c]!.set(frames[c]!);
+      const a = snapshot(wasm.process(h % 2 === 1 ? own! : frames));
       if (wasm.result.valid) valid++;
       expect(a).toBe(snapshot(js.process(frames)));
     }
-    expect(valid).toBeGreaterThan(50);
+    expect(valid).toBeGreaterThan(minValid);
   });
 });
 

@@ -148,7 +148,7 @@ export function runBearline(mics: readonly Vec3[], sampleRate: number, speedOfSo
     }),
   );
   const features: (HopFeatures | null)[] = [];
-  const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop);
+  const framer = new Framer(setup.analyzer.channels, setup.analyzer.frame, setup.analyzer.hop, setup.analyzer.inputFrames());
   framer.push(channels as Float32Array[], channels[0]!.length, (frames) => {
     const r = setup.analyzer.process(frames);
     features.push(r.sourceCount > 0 ? { agree: r.agree, share: r.share, snrDb: r.snrDb, evidence: r.evidence, apertureWaves: r.apertureWaves, onset: r.onset, fresh: r.fresh } : null);
