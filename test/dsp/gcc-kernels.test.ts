@@ -163,12 +163,14 @@ function snapshot(r: HopResult): string {
 
 describe('the hop analyzer gives the same outputs, bit for bit, on the WebAssembly and the JavaScript kernels', () => {
   const preset = (p: string) => loadGeometryFile(fileURLToPath(new URL(`../../configs/arrays/${p}.json`, import.meta.url)));
-  // The scene's delays (2 samples per channel) fit no direction of the circles exactly: the
-  // 8-mic circle searching 12 of its pairs (the default) reports fewer of its hops.
+  // The scene's delays (2 samples per channel) fit no direction of the circles or the square
+  // exactly: the 8-mic circle searching 12 of its pairs (the default) and the square (since the
+  // confidence refit of --quiet-memory: 46 of its hops) report fewer of their hops. The guard
+  // only makes sure the comparison covers hops with a direction.
   const cases: [string, ArrayGeometry, number, number][] = [
     ['pair', pairGeometry(0.2), 15, 50],
     ['triangle (two channels windowed together, then one alone)', preset('triangle-10cm'), 15, 50],
-    ['square', preset('square-10cm'), 15, 50],
+    ['square', preset('square-10cm'), 15, 40],
     ['tetrahedron', preset('tetrahedron-10cm'), 15, 50],
     ['circle of 6', preset('circle6-r5cm'), 15, 50],
     ['circle of 8 (12 pairs searched)', preset('circle8-r5cm'), 15, 40],
