@@ -223,7 +223,9 @@ export class HopAnalyzer {
               [options.bands],
             ) +
               8 * options.bands +
-              OnsetWeigher.kernelBytes(bins),
+              OnsetWeigher.kernelBytes(bins) +
+              4 * bins +
+              64,
           )
         : null;
     const k = this.kernels;
@@ -256,7 +258,7 @@ export class HopAnalyzer {
     this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
     const quiet = options.quietMemoryS > 0 ? Math.exp(-hopS / options.quietMemoryS) : 0;
     this.quietForget = this.memory > 0 ? Math.min(1, quiet / this.memory) : 1;
-    this.quietBins = new Int32Array(bins);
+    this.quietBins = k ? k.i32(bins) : new Int32Array(bins);
     this.onset = new OnsetWeigher(bins, {
       floor: 1 - options.onsetWeight,
       fullRise: 4,

@@ -38,6 +38,7 @@ interface KernelExports {
   window2(x0: number, x1: number, win: number, w0: number, w1: number, n: number, ms: number): void;
   band_sums(power: number, nf: number, acc: number, w: number, m: number, starts: number, ends: number, nb: number, sp: number, sn: number, sa: number, k0: number, k1: number): void;
   onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number): number;
+  quiet_bins(power: number, nf: number, held: number, out: number, k0: number, k1: number, quiet: number, loud: number, decay: number): number;
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
   accumulate(a: number, b: number, wa: number, ib: number, ar: number, ai: number, k0: number, k1: number, m: number): void;
   band_scores4(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
@@ -203,6 +204,11 @@ export class GccKernels {
    */
   onsetUpdate(power: Float64Array, bg: Float64Array, nf: Float64Array, sm: Float64Array, weights: Float64Array, k0: number, k1: number, q: Float64Array): number {
     return this.x.onset_update(power.byteOffset, bg.byteOffset, nf.byteOffset, sm.byteOffset, weights.byteOffset, k0, k1, q.byteOffset);
+  }
+
+  /** OnsetWeigher.quietBins (./onset.ts): the same bins, in the same order, and the same held powers. */
+  quietBins(power: Float64Array, nf: Float64Array, held: Float64Array, out: Int32Array, k0: number, k1: number, quiet: number, loud: number, decay: number): number {
+    return this.x.quiet_bins(power.byteOffset, nf.byteOffset, held.byteOffset, out.byteOffset, k0, k1, quiet, loud, decay);
   }
 
   /**

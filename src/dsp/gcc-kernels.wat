@@ -304,7 +304,31 @@
         (br $xl)))
     (local.get $nf))
 
-  ;; OnsetWeigher.update (src/dsp/onset.ts) after its first hop, two bins per step, the sums (the
+;; OnsetWeigher.quietBins (src/dsp/onset.ts) for bins [k0, k1): h = held[k] * decay,
+  ;; held[k] = max(power[k], h); out[n] = k and n += (power[k] < quiet * nf[k]) & (h >= loud * nf[k]).
+  ;; Returns n.
+  (func (export "quiet_bins") (param $power i32) (param $nf i32) (param $held i32) (param $out i32)
+    (param $k0 i32) (param $k1 i32) (param $quiet f64) (param $loud f64) (param $decay f64) (result i32)
+    (local $k i32) (local $n i32) (local $o i32) (local $a i32) (local $p f64) (local $h f64) (local $m f64)
+    (local.set $k (local.get $k0))
+    (block $done
+      (loop $next
+        (br_if $done (i32.ge_s (local.get $k) (local.get $k1)))
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (local.set $p (f64.load (i32.add (local.get $power) (local.get $o))))
+        (local.set $a (i32.add (local.get $held) (local.get $o)))
+        (local.set $h (f64.mul (f64.load (local.get $a)) (local.get $decay)))
+        (f64.store (local.get $a) (f64.max (local.get $p) (local.get $h)))
+        (local.set $m (f64.load (i32.add (local.get $nf) (local.get $o))))
+        (i32.store (i32.add (local.get $out) (i32.shl (local.get $n) (i32.const 2))) (local.get $k))
+        (local.set $n (i32.add (local.get $n)
+          (i32.and (f64.lt (local.get $p) (f64.mul (local.get $quiet) (local.get $m)))
+                   (f64.ge (local.get $h) (f64.mul (local.get $loud) (local.get $m))))))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $next)))
+    (local.get $n))
+
+    ;; OnsetWeigher.update (src/dsp/onset.ts) after its first hop, two bins per step, the sums (the
   ;; background's for `tiny`, rising and total) added bin by bin in order as the JavaScript does.
   ;; q holds [invRise invPresence floor 1-floor d 1-d floorRise]. Returns the onset strength.
   (func (export "onset_update") (param $power i32) (param $bg i32) (param $nf i32) (param $sm i32) (param $w i32)

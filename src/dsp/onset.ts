@@ -35,7 +35,7 @@ export class OnsetWeigher {
   private readonly background: Float64Array;
   private readonly noise: Float64Array;
   private readonly smooth: Float64Array;
-  /** Per bin, the largest power over its noise mean lately (quietBins). */
+  /** Per bin, its largest power lately, decaying (quietBins). */
   private readonly held: Float64Array;
   private primed = false;
   private readonly invRise: number;
@@ -57,7 +57,7 @@ export class OnsetWeigher {
     this.background = f64(bins);
     this.noise = f64(bins);
     this.smooth = f64(bins);
-    this.held = new Float64Array(bins);
+    this.held = f64(bins);
     this.invRise = 1 / (Math.max(1.0001, settings.fullRise) - 1);
     this.invPresence = 1 / (Math.max(1.0001, settings.fullPresence) - 1);
     this.kernelSettings = kernels ? kernels.f64(7) : null;
@@ -66,7 +66,7 @@ export class OnsetWeigher {
 
   /** The bytes the kernels' memory needs for a weigher of this many bins. */
   static kernelBytes(bins: number): number {
-    return 3 * Math.ceil((8 * bins) / 16) * 16 + 64;
+    return 4 * Math.ceil((8 * bins) / 16) * 16 + 64;
   }
 
   /**
@@ -147,21 +147,28 @@ export class OnsetWeigher {
   /**
    * The bins of [first, end) that sound has left: their power this hop is below `quietRatio`
    * times their noise mean (the tracked minimum times its bias factor), and they stood at least
-   * `loudRatio` times over it lately (the largest ratio, held and decaying by `heldDecay` per
-   * hop). A bin that has sat at its floor all along (a steady sound that has become the floor)
-   * is not among them. Unlike presence, which looks at a smoothed power that takes a few hops
-   * to fall after a loud call, this hop alone decides. Writes their indices into `out` and
-   * returns how many.
+   * `loudRatio` times over it lately (their largest power, held and decaying by `heldDecay` per
+   * hop, against today's noise mean). A bin that has sat at its floor all along (a steady sound
+   * that has become the floor) is not among them. Unlike presence, which looks at a smoothed
+   * power that takes a few hops to fall after a loud call, this hop alone decides. Writes their
+   * indices into `out` and returns how many. No division: it runs on every hop. With the
+   * kernels, `power` and `out` must be the kernels' arrays.
    */
   quietBins(power: Float64Array, first: number, end: number, quietRatio: number, loudRatio: number, heldDecay: number, out: Int32Array): number {
     const nf = this.noise;
     const held = this.held;
+    const quiet = quietRatio * NOISE_BIAS;
+    const loud = loudRatio * NOISE_BIAS;
+    if (this.kernels) return this.kernels.quietBins(power, nf, held, out, first, end, quiet, loud, heldDecay);
     let n = 0;
     for (let k = first; k < end; k++) {
-      const x = power[k]! / (NOISE_BIAS * nf[k]! + 1e-30);
+      const p = power[k]!;
       const h = held[k]! * heldDecay;
-      held[k] = x > h ? x : h;
-      if (x < quietRatio && h >= loudRatio) out[n++] = k;
+      held[k] = Math.max(p, h);
+      const m = nf[k]!;
+      // Branch-free: in noise the test goes either way at random (see update()).
+      out[n] = k;
+      n += ((p < quiet * m) as unknown as number) & ((h >= loud * m) as unknown as number);
     }
     return n;
   }
