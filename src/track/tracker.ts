@@ -446,12 +446,12 @@ export class Tracker {
 
   /**
    * Squared distance of candidate j from the home of settled slot s over the home's variance,
-   * per angle: the larger of azimuth and elevation (when both carry elevations).
+   * per angle: the larger of azimuth and elevation (when both carry elevations; azimuth alone on a flat array).
    */
   private homeDistance2(s: number, j: number): number {
     const d2 = this.homeAzimuthDistance2(s, j);
-    const dEl = this.sc.candEl[j]! - this.homeEl[s]!;
     if (this.flat) return d2;
+    const dEl = this.sc.candEl[j]! - this.homeEl[s]!;
     return dEl === dEl ? Math.max(d2, (dEl * dEl) / this.homeElVar[s]!) : d2;
   }
 
