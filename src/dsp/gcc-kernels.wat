@@ -304,13 +304,33 @@
         (br $xl)))
     (local.get $nf))
 
-;; OnsetWeigher.quietBins (src/dsp/onset.ts) for bins [k0, k1): h = held[k] * decay,
+;; OnsetWeigher.quietBins (src/dsp/onset.ts) for bins [k0, k1), two at a time: h = held[k] * decay,
   ;; held[k] = max(power[k], h); out[n] = k and n += (power[k] < quiet * nf[k]) & (h >= loud * nf[k]).
   ;; Returns n.
   (func (export "quiet_bins") (param $power i32) (param $nf i32) (param $held i32) (param $out i32)
     (param $k0 i32) (param $k1 i32) (param $quiet f64) (param $loud f64) (param $decay f64) (result i32)
     (local $k i32) (local $n i32) (local $o i32) (local $a i32) (local $p f64) (local $h f64) (local $m f64)
+    (local $vp v128) (local $vh v128) (local $vm v128) (local $bits i32)
     (local.set $k (local.get $k0))
+    ;; two bins per step; the lanes' tests as two bits, each bin's index written and kept in order
+    (block $two_done
+      (loop $two
+        (br_if $two_done (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $k1)))
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (local.set $vp (v128.load (i32.add (local.get $power) (local.get $o))))
+        (local.set $a (i32.add (local.get $held) (local.get $o)))
+        (local.set $vh (f64x2.mul (v128.load (local.get $a)) (f64x2.splat (local.get $decay))))
+        (v128.store (local.get $a) (f64x2.max (local.get $vp) (local.get $vh)))
+        (local.set $vm (v128.load (i32.add (local.get $nf) (local.get $o))))
+        (local.set $bits (i64x2.bitmask (v128.and
+          (f64x2.lt (local.get $vp) (f64x2.mul (f64x2.splat (local.get $quiet)) (local.get $vm)))
+          (f64x2.ge (local.get $vh) (f64x2.mul (f64x2.splat (local.get $loud)) (local.get $vm))))))
+        (i32.store (i32.add (local.get $out) (i32.shl (local.get $n) (i32.const 2))) (local.get $k))
+        (local.set $n (i32.add (local.get $n) (i32.and (local.get $bits) (i32.const 1))))
+        (i32.store (i32.add (local.get $out) (i32.shl (local.get $n) (i32.const 2))) (i32.add (local.get $k) (i32.const 1)))
+        (local.set $n (i32.add (local.get $n) (i32.shr_u (local.get $bits) (i32.const 1))))
+        (local.set $k (i32.add (local.get $k) (i32.const 2)))
+        (br $two)))
     (block $done
       (loop $next
         (br_if $done (i32.ge_s (local.get $k) (local.get $k1)))
@@ -328,7 +348,7 @@
         (br $next)))
     (local.get $n))
 
-    ;; OnsetWeigher.update (src/dsp/onset.ts) after its first hop, two bins per step, the sums (the
+  ;; OnsetWeigher.update (src/dsp/onset.ts) after its first hop, two bins per step, the sums (the
   ;; background's for `tiny`, rising and total) added bin by bin in order as the JavaScript does.
   ;; q holds [invRise invPresence floor 1-floor d 1-d floorRise]. Returns the onset strength.
   (func (export "onset_update") (param $power i32) (param $bg i32) (param $nf i32) (param $sm i32) (param $w i32)
