@@ -166,9 +166,9 @@ export class OnsetWeigher {
       const h = held[k]! * heldDecay;
       held[k] = Math.max(p, h);
       const m = nf[k]!;
-      // Branch-free: in noise the test goes either way at random (see update()).
+      // The index is always written and kept only when the bin qualifies (no branch on noise).
       out[n] = k;
-      n += ((p < quiet * m) as unknown as number) & ((h >= loud * m) as unknown as number);
+      n += p < quiet * m && h >= loud * m ? 1 : 0;
     }
     return n;
   }
