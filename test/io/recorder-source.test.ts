@@ -205,8 +205,12 @@ describe('recorder source with stand-in recorders on PATH', () => {
       if ([0, 1, 2, 3].every((j) => frameAt(k + j).every((v, c) => Math.abs(v - got[c]![at + j]!) <= HALF_STEP))) offset = k;
     }
     expect(offset).toBeGreaterThan(at);
+    // Contiguous up to the next drop: on a loaded machine the queue may overflow a second time
+    // before 4000 frames have been read (a later drop is marked as its own gap).
+    const span = Math.min(4000, (gaps[1]?.atFrame ?? Infinity) - at);
+    expect(span).toBeGreaterThanOrEqual(1000);
     let worst = 0;
-    for (let j = 0; j < 4000; j++) for (let c = 0; c < 3; c++) worst = Math.max(worst, Math.abs(got[c]![at + j]! - ref[(offset + j) * 3 + c]!));
+    for (let j = 0; j < span; j++) for (let c = 0; c < 3; c++) worst = Math.max(worst, Math.abs(got[c]![at + j]! - ref[(offset + j) * 3 + c]!));
     expect(worst).toBeLessThanOrEqual(HALF_STEP);
   });
 
