@@ -156,6 +156,18 @@ export class AngleFilterBank {
     this.rate[slot] = 0;
   }
 
+  /**
+   * Restart a slot at a resting angle with no rate and the given angle variance (the track's
+   * still model won the hop: its caller sat where it was last heard); the rate keeps its
+   * variance, so the filter can learn a rate again.
+   */
+  restart(slot: number, angle: number, variance: number): void {
+    this.angle[slot] = angle;
+    this.rate[slot] = 0;
+    this.p00[slot] = Math.min(variance, this.maxVar);
+    this.p01[slot] = 0;
+  }
+
   /** The angle variance of a slot (degrees squared). */
   variance(slot: number): number {
     return this.p00[slot]!;

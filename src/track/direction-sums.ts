@@ -4,11 +4,13 @@
  * 2000), or, on an array whose mirror flips azimuth (a pair, a line, an upright plane), the
  * weighted arithmetic mean and standard deviation of the folded offsets from the reported half
  * circle's centre, which live on [-90, 90] and do not wrap (the mean is turned back into an
- * azimuth on the reported side); plus the weighted mean elevation.
+ * azimuth on the reported side); plus the weighted mean elevation, and the drift: the weighted
+ * least-squares slope of the (unwrapped) working angle over time (a straight-line fit, common
+ * practice, no source).
  */
 import type { ArrayMirror } from '../geometry/array-mirror.js';
 import { meanFromSums, resultantFromSums, stdFromResultantDeg, wrapDeg } from './circular.js';
-import { CONFIDENCE, MIN_WEIGHT, type HopScratch } from './hop-scratch.js';
+import { CONFIDENCE, MIN_WEIGHT, TIME, type HopScratch } from './hop-scratch.js';
 
 const DEG = Math.PI / 180;
 
@@ -21,6 +23,14 @@ export class DirectionSums {
   private readonly sumEl: Float64Array;
   private readonly sumElW: Float64Array;
   private readonly sumEl2: Float64Array;
+  /** Drift sums: time from the first direction (t), unwrapped working angle (a). */
+  private readonly t0: Float64Array;
+  private readonly lastRaw: Float64Array;
+  private readonly lastUnwrapped: Float64Array;
+  private readonly sumT: Float64Array;
+  private readonly sumTT: Float64Array;
+  private readonly sumA: Float64Array;
+  private readonly sumTA: Float64Array;
   private readonly mirrored: boolean;
   /** Centre of the reported half circle, degrees (0 when not mirrored). */
   private readonly sideDeg: number;
@@ -40,6 +50,13 @@ export class DirectionSums {
     this.sumEl = new Float64Array(size);
     this.sumElW = new Float64Array(size);
     this.sumEl2 = new Float64Array(size);
+    this.t0 = new Float64Array(size);
+    this.lastRaw = new Float64Array(size);
+    this.lastUnwrapped = new Float64Array(size);
+    this.sumT = new Float64Array(size);
+    this.sumTT = new Float64Array(size);
+    this.sumA = new Float64Array(size);
+    this.sumTA = new Float64Array(size);
   }
 
   reset(slot: number): void {
@@ -51,6 +68,10 @@ export class DirectionSums {
     this.sumEl[slot] = 0;
     this.sumElW[slot] = 0;
     this.sumEl2[slot] = 0;
+    this.sumT[slot] = 0;
+    this.sumTT[slot] = 0;
+    this.sumA[slot] = 0;
+    this.sumTA[slot] = 0;
   }
 
   /** Add candidate j of the current hop, weighted by hop confidence x its score. */
@@ -59,6 +80,21 @@ export class DirectionSums {
     const azimuthDeg = sc.candAz[j]!;
     const elevationDeg = sc.candEl[j]!;
     const w = Math.max(sc.hop[CONFIDENCE]! * sc.candScore[j]!, MIN_WEIGHT);
+    // The drift's angle is unwrapped step by step (successive directions of one track are near).
+    if (this.sumW[slot] === 0) {
+      this.t0[slot] = sc.hop[TIME]!;
+      this.lastUnwrapped[slot] = azimuthDeg;
+    } else {
+      const step = azimuthDeg - this.lastRaw[slot]!;
+      this.lastUnwrapped[slot] = this.lastUnwrapped[slot]! + (this.mirrored ? step : wrapDeg(step));
+    }
+    this.lastRaw[slot] = azimuthDeg;
+    const t = sc.hop[TIME]! - this.t0[slot]!;
+    const a = this.lastUnwrapped[slot]!;
+    this.sumT[slot] = this.sumT[slot]! + w * t;
+    this.sumTT[slot] = this.sumTT[slot]! + w * t * t;
+    this.sumA[slot] = this.sumA[slot]! + w * a;
+    this.sumTA[slot] = this.sumTA[slot]! + w * t * a;
     this.sumCos[slot] = this.sumCos[slot]! + w * Math.cos(azimuthDeg * DEG);
     this.sumSin[slot] = this.sumSin[slot]! + w * Math.sin(azimuthDeg * DEG);
     this.sumW[slot] = this.sumW[slot]! + w;
@@ -93,6 +129,14 @@ export class DirectionSums {
       return Math.sqrt(Math.max(0, this.sumLin2[slot]! / w - mean * mean));
     }
     return stdFromResultantDeg(resultantFromSums(this.sumCos[slot]!, this.sumSin[slot]!, w));
+  }
+
+  /** The drift, deg/s: the fitted slope of the working angle over the slot's lifetime (NaN before two distinct times). */
+  driftDegS(slot: number): number {
+    const w = this.sumW[slot]!;
+    const st = this.sumT[slot]!;
+    const den = w * this.sumTT[slot]! - st * st;
+    return den > 0 ? (w * this.sumTA[slot]! - st * this.sumA[slot]!) / den : NaN;
   }
 
   /** Weighted standard deviation of the elevations, degrees, or NaN when none carried one. */

@@ -9,7 +9,11 @@
  * Per hop:
  * 1. predict every live track to the hop's time (angle-filter.ts);
  * 2. gate each candidate against each track by the Mahalanobis distance of its innovation
- *    (azimuth, and elevation unless the array is flat);
+ *    (azimuth, and elevation unless the array is flat, where a candidate far off in elevation,
+ *    FLAT_ELEVATION_GATE_DEG, is only kept out); a confirmed track that has gone REST_AFTER_S
+ *    without support is also gated at its resting place (where it was last supported, still;
+ *    REST_DRIFT_DEG_S), whichever is cheaper, and one whose lifetime drift is small coasts there
+ *    (STILL_DRIFT_DEG_S);
  *    a candidate whose hop confidence x score is below minConfidence is ignored, and so is
  *    every candidate of a hop below the event-leave SNR (sound at the noise floor, such as
  *    coherent wind between calls, neither moves nor starts a track);
@@ -82,7 +86,7 @@ const HOME_MIN_EL_SD_DEG = 6;
  * azimuth a track follows is undefined there (a flat array reads zero delays on every pair as
  * straight overhead, which is also what sound arriving at all mics at once gives: the coherent
  * part of wind buffeting, which read as confident callers overhead). It may still support a
- * live track whose own elevation is above NEAR_ZENITH_TRACK_DEG, with its azimuth noise widened
+ * live track whose lifetime mean elevation is above NEAR_ZENITH_TRACK_DEG, with its azimuth noise widened
  * by 1 / cos^2 elevation (its azimuth would drag any other track off its caller).
  */
 const ZENITH_DEG = 78;
@@ -97,6 +101,39 @@ const YOUNG_HOPS = 20;
  * whole timeout near a bearing where a real caller may come and be taken by it.
  */
 const YOUNG_TIMEOUT_S = 2;
+/**
+ * A confirmed track that is not settled is gated by two models of its caller (the two-model idea
+ * of interacting-multiple-model tracking, common practice in manoeuvring-target tracking, no
+ * single source): its filter's prediction (moving at its rate) and its resting place (the
+ * angle where it was last supported, still), whichever is the cheaper. A chorus whose rate was
+ * set by a few biased hops within one call (128 to 145 degrees in 0.15 s: 11 deg/s) otherwise
+ * coasts away at that rate through a pause of several seconds and is born again as a new track
+ * when it calls again. The resting place's uncertainty grows at this rate, deg/s (a caller
+ * that does not fly walks or creeps at most this fast between its calls), to the filter's cap.
+ */
+const REST_DRIFT_DEG_S = 1;
+/**
+ * The resting place is asked only after this long without support, seconds: within a call and
+ * across the short gaps between the calls of one caller the filter's prediction carries the
+ * rate a mover needs (asked every hop, the still model won on its smaller variance and kept
+ * resetting passing callers' rates to zero).
+ */
+const REST_AFTER_S = 1.5;
+/**
+ * A confirmed track followed for at least STILL_SPAN_S whose lifetime drift (the fitted slope of
+ * its bearing over time, direction-sums.ts) is at most STILL_DRIFT_DEG_S is a still caller:
+ * coasting longer than REST_AFTER_S it stays at its resting place, with no rate.
+ */
+const STILL_SPAN_S = 2;
+const STILL_DRIFT_DEG_S = 2;
+/**
+ * On a flat array, where elevation takes no part in the gate's distance, a candidate whose
+ * elevation lies more than this many degrees from the track's last supported elevation (or a
+ * settled track's home elevation) is still outside its gate: such an array's elevation errs by
+ * up to 30 degrees near the horizon, but wind read at 74-88 degrees of elevation, between a
+ * chorus' bouts, otherwise kept the chorus track alive at azimuths all round the circle.
+ */
+const FLAT_ELEVATION_GATE_DEG = 40;
 const NO_EVENTS: readonly EventRecord[] = Object.freeze([]);
 
 interface MutableUpdate {
@@ -142,6 +179,15 @@ export class Tracker {
   /** Home elevation and its variance (NaN when the track carries no elevations). */
   private readonly homeEl: Float64Array;
   private readonly homeElVar: Float64Array;
+  /** Per slot: the resting place (angle and variance at the last support; elevation NaN when none). */
+  private readonly restAz: Float64Array;
+  private readonly restAzVar: Float64Array;
+  private readonly restEl: Float64Array;
+  private readonly restElVar: Float64Array;
+  /** Per (listed track, candidate): 1 when the cost is that of the resting place. */
+  private readonly costAtRest: Uint8Array;
+  /** Per slot: 1 when this hop's chosen candidate joined it at its resting place. */
+  private readonly chosenAtRest: Uint8Array;
   /** Per candidate of the hop: 1 when it lies within the home gate of a settled track. */
   private readonly candHome: Uint8Array;
   /** The same in azimuth alone (elevation not asked): a support outside every such home is free. */
@@ -216,6 +262,12 @@ export class Tracker {
     this.homeVar = new Float64Array(n);
     this.homeEl = new Float64Array(n);
     this.homeElVar = new Float64Array(n);
+    this.restAz = new Float64Array(n);
+    this.restAzVar = new Float64Array(n);
+    this.restEl = new Float64Array(n);
+    this.restElVar = new Float64Array(n);
+    this.costAtRest = new Uint8Array(n * c);
+    this.chosenAtRest = new Uint8Array(n);
     this.candHome = new Uint8Array(c);
     this.candHomeAz = new Uint8Array(c);
     this.gate2 = o.gateSigma * o.gateSigma;
@@ -239,6 +291,7 @@ export class Tracker {
 
     for (let s = 0; s < this.size; s++) {
       this.chosen[s] = -1;
+      this.chosenAtRest[s] = 0;
       this.settled[s] = 0;
       if (this.state[s] === FREE) continue;
       const hold = this.hasNeighbour(s) ? 1 : 0;
@@ -247,6 +300,7 @@ export class Tracker {
       this.az.predict(s);
       if (this.hasEl[s] === 1) this.el.predict(s);
       if (this.state[s] === CONFIRMED) this.settle(s);
+      if (this.state[s] === CONFIRMED && this.settled[s] === 0 && this.stillCaller(s)) this.restartAtRest(s);
       if (this.settled[s] === 1) {
         // A settled track is static: it is predicted at its home, and coasts without drifting or
         // growing a rate (angle-filter.ts holdStatic), so it cannot walk off with a passer.
@@ -399,8 +453,9 @@ export class Tracker {
    * vague track (coasting for seconds) is the cheaper home for a candidate that a sharp
    * track predicts well, and a chorus or a crossing partner took the other caller's calls.
    */
-  private gate(s: number, j: number): boolean {
+  private gate(s: number, j: number, elevationRule = true): boolean {
     const both = this.loadMeasurement(s, j);
+    if (elevationRule && both && this.flat && this.farInElevation(j, this.restEl[s]!)) return false;
     this.az.distance2(s);
     let d2 = this.az.io[IO_D2]!;
     let g = this.gate2;
@@ -414,6 +469,67 @@ export class Tracker {
     }
     this.d2[0] = d2 - g + logS - (withEl ? 2 : 1) * this.logSMax;
     return d2 <= g;
+  }
+
+  /**
+   * Is slot s a track of a caller high overhead? Asked of its lifetime mean elevation, not its
+   * prediction: a coasting track's elevation runs on at its last rate (a chorus read at 8 to
+   * 15 degrees coasted to 60 in three quiet seconds, then took wind read at the zenith, which
+   * dragged its azimuth round the circle and its chorus got a second track on calling again).
+   */
+  private nearZenith(s: number): boolean {
+    const el = this.lifetime.meanElevationDeg(s);
+    return el !== null && Math.abs(el) > NEAR_ZENITH_TRACK_DEG;
+  }
+
+  /**
+   * Is candidate j inside the gate of slot s's resting place? Leaves the cost in d2[0], in the
+   * form of gate()'s. The caller asks it of confirmed, unsettled tracks only (a settled track
+   * has its home instead), and only after REST_AFTER_S without support.
+   */
+  private restGate(s: number, j: number): boolean {
+    const idle = this.sc.hop[TIME]! - this.lastSupportT[s]!;
+    if (!(idle >= REST_AFTER_S)) return false;
+    const both = this.loadMeasurement(s, j);
+    if (both && this.flat && this.farInElevation(j, this.restEl[s]!)) return false;
+    const grow = REST_DRIFT_DEG_S * idle;
+    const cap = this.options.maxUncertaintyDeg * this.options.maxUncertaintyDeg;
+    let nu = this.sc.candAz[j]! - this.restAz[s]!;
+    if (this.sideDeg === null) nu = wrapDeg(nu);
+    const sAz = Math.min(this.restAzVar[s]! + grow * grow, cap) + this.az.io[IO_R]!;
+    let d2 = (nu * nu) / sAz;
+    let g = this.gate2;
+    let logS = Math.log(sAz);
+    const withEl = both && !this.flat && this.restEl[s] === this.restEl[s];
+    if (withEl) {
+      const dEl = this.sc.candEl[j]! - this.restEl[s]!;
+      const sEl = Math.min(this.restElVar[s]! + grow * grow, cap) + this.el.io[IO_R]!;
+      d2 += (dEl * dEl) / sEl;
+      g *= 2;
+      logS += Math.log(sEl);
+    }
+    this.d2[0] = d2 - g + logS - (withEl ? 2 : 1) * this.logSMax;
+    return d2 <= g;
+  }
+
+  /** On a flat array: is candidate j's elevation beyond FLAT_ELEVATION_GATE_DEG of elevation ref (false when either is missing)? */
+  private farInElevation(j: number, ref: number): boolean {
+    return Math.abs(this.sc.candEl[j]! - ref) > FLAT_ELEVATION_GATE_DEG;
+  }
+
+  /** Is slot s a still caller (STILL_SPAN_S, STILL_DRIFT_DEG_S) that has gone REST_AFTER_S without support? */
+  private stillCaller(s: number): boolean {
+    const idle = this.sc.hop[TIME]! - this.lastSupportT[s]!;
+    if (!(idle >= REST_AFTER_S) || this.lastSupportT[s]! - this.firstSeenT[s]! < STILL_SPAN_S) return false;
+    return Math.abs(this.lifetime.driftDegS(s)) <= STILL_DRIFT_DEG_S;
+  }
+
+  /** Put slot s back at its resting place (its still model won the hop) before its update. */
+  private restartAtRest(s: number): void {
+    const idle = this.sc.hop[TIME]! - this.lastSupportT[s]!;
+    const grow = REST_DRIFT_DEG_S * idle;
+    this.az.restart(s, this.restAz[s]!, this.restAzVar[s]! + grow * grow);
+    if (this.hasEl[s] === 1 && this.restEl[s] === this.restEl[s]) this.el.restart(s, this.restEl[s]!, this.restElVar[s]! + grow * grow);
   }
 
   /** How long slot s may go without support before it dies (YOUNG_HOPS). */
@@ -450,7 +566,7 @@ export class Tracker {
    */
   private homeDistance2(s: number, j: number): number {
     const d2 = this.homeAzimuthDistance2(s, j);
-    if (this.flat) return d2;
+    if (this.flat) return this.farInElevation(j, this.homeEl[s]!) ? Infinity : d2;
     const dEl = this.sc.candEl[j]! - this.homeEl[s]!;
     return dEl === dEl ? Math.max(d2, (dEl * dEl) / this.homeElVar[s]!) : d2;
   }
@@ -472,11 +588,18 @@ export class Tracker {
       const s = this.listed[i]!;
       for (let j = 0; j < nC; j++) {
         this.cost[i * stride + j] = Infinity;
+        this.costAtRest[i * stride + j] = 0;
         if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
         if (this.candHome[j] === 1 && this.settled[s] === 0 && this.sc.hop[TIME]! - this.lastFreeT[s]! > PASSING_S) continue;
-        if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !(this.hasEl[s] === 1 && Math.abs(this.el.angle[s]!) > NEAR_ZENITH_TRACK_DEG)) continue;
+        if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !this.nearZenith(s)) continue;
         if (this.gate(s, j)) {
           this.cost[i * stride + j] = this.d2[0]!;
+          this.candGated[j] = 1;
+          any = true;
+        }
+        if (which === CONFIRMED && this.settled[s] === 0 && this.restGate(s, j) && this.d2[0]! < this.cost[i * stride + j]!) {
+          this.cost[i * stride + j] = this.d2[0]!;
+          this.costAtRest[i * stride + j] = 1;
           this.candGated[j] = 1;
           any = true;
         }
@@ -496,6 +619,7 @@ export class Tracker {
       const j = this.listedChoice[i]!;
       if (j < 0) continue;
       this.chosen[this.listed[i]!] = j;
+      this.chosenAtRest[this.listed[i]!] = this.costAtRest[i * stride + j]!;
       this.candTaken[j] = 1;
     }
   }
@@ -505,6 +629,7 @@ export class Tracker {
       const j = this.chosen[s]!;
       if (j < 0) continue;
       const sc = this.sc;
+      if (this.chosenAtRest[s] === 1) this.restartAtRest(s);
       if (sc.candEl[j] === sc.candEl[j] && this.hasEl[s] === 0) {
         // First elevation for this track: start its elevation filter.
         this.hasEl[s] = 1;
@@ -527,6 +652,10 @@ export class Tracker {
     if (this.candHomeAz[j] === 0) this.lastFreeT[s] = this.sc.hop[TIME]!;
     this.hopCount[s] = this.hopCount[s]! + 1;
     this.lifetime.add(s, j);
+    this.restAz[s] = this.az.angle[s]!;
+    this.restAzVar[s] = this.az.variance(s);
+    this.restEl[s] = this.hasEl[s] === 1 ? this.el.angle[s]! : NaN;
+    this.restElVar[s] = this.hasEl[s] === 1 ? this.el.variance(s) : NaN;
   }
 
   private births(nC: number): void {
@@ -567,11 +696,15 @@ export class Tracker {
     }
   }
 
-  /** A candidate inside the gate of a live track is that track's (a side peak), not a newcomer. */
+  /**
+   * A candidate inside the gate of a live track is that track's (a side peak), not a newcomer;
+   * so is one that only FLAT_ELEVATION_GATE_DEG kept out of it (on a flat array an aliased lobe of
+   * a call above the array's aliasing limit reads at the caller's azimuth and 35-60 degrees up).
+   */
   private withinAnyGate(j: number): boolean {
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] === FREE) continue;
-      if (this.gate(s, j)) return true;
+      if (this.gate(s, j, false)) return true;
     }
     return false;
   }

@@ -633,6 +633,32 @@ describe('candidates at the zenith start no track', () => {
   });
 });
 
+describe('a still caller whose readings sweep within each call coasts still through its pauses (issue 13, item 2)', () => {
+  // A chorus at 137 degrees whose readings run from 134 to 140 degrees within each call (an
+  // overlapping caller biases them): the filter learns a rate of about 20 deg/s from every call.
+  // It calls in bouts of 6 calls with 6 s pauses. Coasting at that rate, its track had left its
+  // bearing when it called again, and a second track was born there.
+  const calls = [0, 9, 18].flatMap((start) => bursts(start + 0.5, 0.3, 0.4, start + 4.6));
+  const offsets = [5, -1, 2, -5, -3, -1, -5, 0, 4];
+  const callIndex = (t: number): number => Math.max(0, calls.findLastIndex(([a]) => a <= t));
+  // each call sweeps 6 degrees up, the last of a bout (the sixth) 14
+  const sweep = (k: number): number => (k % 6 === 5 ? 14 : 6);
+  const chorus: TruthSource = { azimuthAt: (t) => 134 + offsets[callIndex(t) % offsets.length]! + (sweep(callIndex(t)) * (t - calls[callIndex(t)]![0])) / 0.3, calls, levelDbfs: -30 };
+
+  it('one id for the chorus across its pauses, and its events stay within its readings (6 noisy runs)', () => {
+    for (const seed of [61, 62, 63, 64, 65, 66]) {
+      const synth = generateHops([chorus], { durationS: 24, hopS: 0.01, seed, noiseDeg: 1.5, clutter: 0.05, dropout: 0.1 });
+      const r = run(synth);
+      const ids = idsOfSource(synth, r, 0).filter((x) => x.id !== null);
+      const id = majority(ids.map((x) => x.id));
+      console.log(`seed ${seed}: tracks on the chorus ${[...new Set(ids.map((x) => x.id))].join(', ')}; events on ${[...new Set(r.events.map((e) => e.track))].join(', ')}`);
+      expect(ids.filter((x) => x.id === id).length / ids.length).toBeGreaterThanOrEqual(0.99);
+      expect(new Set(r.events.map((e) => e.track))).toEqual(new Set([id]));
+      for (const e of r.events) expect(Math.abs(angleDiffDeg(e.azimuth_deg, 137))).toBeLessThan(9);
+    }
+  });
+});
+
 describe('a chorus track does not follow a caller that starts beside it (issue 13, item 3)', () => {
   // A chorus at 0 degrees calls for 4 s; then a bird starts calling 8 degrees from it and flies
   // off at 15 deg/s. Its first call may go to the chorus' track (they are within the gate), but
@@ -683,6 +709,41 @@ describe('a flat array: elevations are followed but do not split or steal (issue
       expect(id).not.toBeNull();
       expect(ids.filter((x) => x.id !== id).length / ids.length).toBeLessThan(0.05);
       expect(new Set(r.events.map((e) => e.track)).size).toBe(1);
+    }
+  });
+
+  it('wind read at 72-77 deg of elevation (below the zenith rule) in the chorus pauses does not feed the chorus track', () => {
+    // Wind still reads high with an azimuth that means nothing; without FLAT_ELEVATION_GATE_DEG
+    // it fed the chorus track and dragged it round the circle.
+    const wind: TruthSource = { azimuthAt: (t) => 30 + 60 * Math.sin(5 * t), elevationAt: (t) => 74.5 + 2.5 * Math.sin(11 * t), calls: bursts(0.55, 0.3, 0.4, 12), levelDbfs: -30 };
+    const low: TruthSource = { ...chorus, elevationAt: () => 7 };
+    for (const seed of [51, 52, 53]) {
+      const synth = generateHops([low, wind], { durationS: 12, hopS: 0.01, seed, noiseDeg: 1, clutter: 0, dropout: 0.05 });
+      const r = run(synth, { mirror: flat });
+      const chorusId = majority(idsOfSource(synth, r, 0).map((x) => x.id));
+      expect(chorusId).not.toBeNull();
+      const windOnChorus = idsOfSource(synth, r, 1).filter((x) => x.id === chorusId).length;
+      console.log(`seed ${seed}: ${windOnChorus} wind hops on the chorus track`);
+      expect(windOnChorus).toBe(0);
+      const chorusEvents = r.events.filter((e) => e.track === chorusId);
+      expect(chorusEvents.length).toBeGreaterThan(10);
+      for (const e of chorusEvents) expect(Math.abs(angleDiffDeg(e.azimuth_deg, 30))).toBeLessThan(4);
+    }
+  });
+
+  it("a lobe read 4 deg beside the chorus' calls and 55 deg up starts no track of its own", () => {
+    // A call above the array's aliasing limit also gives a lobe near its caller's azimuth, high
+    // up: kept out of the chorus track by its elevation, it is still no newcomer.
+    const lobe: TruthSource = { azimuthAt: () => 34, elevationAt: () => 55, calls: bursts(0.25, 0.2, 0.5, 12), levelDbfs: -40 };
+    const low: TruthSource = { ...chorus, elevationAt: () => 7 };
+    for (const seed of [54, 55, 56]) {
+      const synth = generateHops([low, lobe], { durationS: 12, hopS: 0.01, seed, noiseDeg: 1, clutter: 0, dropout: 0.05 });
+      const r = run(synth, { mirror: flat });
+      const chorusId = majority(idsOfSource(synth, r, 0).map((x) => x.id));
+      expect(chorusId).not.toBeNull();
+      const lobeIds = new Set(idsOfSource(synth, r, 1).map((x) => x.id).filter((id) => id !== null && id !== chorusId));
+      expect([...lobeIds]).toEqual([]);
+      expect(new Set(r.events.map((e) => e.track))).toEqual(new Set([chorusId]));
     }
   });
 
