@@ -14,6 +14,14 @@ import { confidenceOf, type ConfidenceFeatures } from './confidence.js';
 const SAME_PEAK_LAGS = 1.5;
 /** A further source must reach this share of the winner's fused score. */
 const SOURCE_RATIO = 0.25;
+/**
+ * The geometry check compares the answer's delays with each pair's own peaks: the strongest
+ * OWN_PEAKS, those at least OWN_PEAK_SHARE of the best one's height (a call above the array's
+ * aliasing limit, or a second caller, gives a pair several near-equal peaks, and its best one
+ * alone misled the check into calling a right geometry wrong on a quarter of the hops).
+ */
+const OWN_PEAKS = 3;
+const OWN_PEAK_SHARE = 0.7;
 /** The previous hop's answer is preferred by this factor (1 + STICKINESS) in the selection ... */
 const STICKINESS = 0.5;
 /** ... when a candidate's lags all lie within this many samples of it. */
@@ -73,7 +81,7 @@ export interface HopResult {
   valid: boolean;
   /** Refined delay per pair for the strongest source, seconds (NaN when none). */
   tdoaS: Float64Array;
-  /** Per pair (arrays of 3+ mics): the delay of the pair's own best correlation peak, seconds (NaN when none). */
+  /** Per pair (arrays of 3+ mics): the delay of the pair's own strong correlation peak nearest the answer's (OWN_PEAK_SHARE), seconds (NaN when none). */
   pairOwnTdoaS: Float64Array;
   /** Sources found, strongest first. */
   sourceCount: number;
@@ -167,8 +175,8 @@ export class HopAnalyzer {
   /** The array's largest delay, seconds (the widest pair's search limit without margin). */
   private readonly apertureS: number;
   private readonly prevLags: Float64Array;
-  private readonly ownLag = new Float64Array(1);
-  private readonly ownHeight = new Float64Array(1);
+  private readonly ownLag = new Float64Array(OWN_PEAKS);
+  private readonly ownHeight = new Float64Array(OWN_PEAKS);
   private prevValid = false;
   private readonly useBand: Uint8Array;
   private readonly refined: Float64Array;
@@ -827,12 +835,18 @@ export class HopAnalyzer {
     res.supportFirstBand = first;
     res.supportLastBand = last;
     for (let p = 0; p < P; p++) res.tdoaS[p] = this.refined[p]! / this.sampleRate;
-    // Each pair's own best peak, for the geometry check (src/analysis/stream-checks.ts): the pairs
-    // whose curves the search read (the others stay NaN).
+    // Each pair's own strong peak nearest the answer, for the geometry check
+    // (src/analysis/stream-checks.ts): the pairs whose curves the search read (the others stay NaN).
     const curves = this.model.curvePairs;
     for (let i = 0; P > 1 && i < curves.length; i++) {
       const p = curves[i]!;
-      res.pairOwnTdoaS[p] = this.correlators[p]!.peaks(1, this.ownLag, this.ownHeight) === 1 ? this.ownLag[0]! / this.sampleRate : NaN;
+      const found = this.correlators[p]!.peaks(OWN_PEAKS, this.ownLag, this.ownHeight);
+      let best = NaN;
+      for (let k = 0; k < found; k++) {
+        if (k > 0 && !(this.ownHeight[k]! >= OWN_PEAK_SHARE * this.ownHeight[0]!)) break;
+        if (!(Math.abs(this.ownLag[k]! - this.refined[p]!) >= Math.abs(best - this.refined[p]!))) best = this.ownLag[k]!;
+      }
+      res.pairOwnTdoaS[p] = best / this.sampleRate;
     }
     if (this.diagnostics) this.pairDiagnostics(res, P);
   }

@@ -7,8 +7,9 @@
  *   channels are not the mics the geometry names.
  * - Geometry: the per-pair delays of a confident hop should be those of one direction,
  *   (p_a - p_b) . u / c (interface.md). When many hops' best direction leaves the pairs' own
- *   correlation peaks far from its delays (the closure error), the geometry file does not
- *   describe the array (positions, units or channel order wrong).
+ *   correlation peaks far from its delays (the closure error, against each pair's strong peak
+ *   nearest the answer: an aliased call or two callers at once give a pair several), the
+ *   geometry file does not describe the array (positions, units or channel order wrong).
  * Both point to `bearline check-array`. Pure: hop results in, messages out; no I/O.
  */
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';

@@ -40,7 +40,15 @@ export function scanFrames(wav: string, ...args: string[]): FrameRecord[] {
 }
 
 export function scanEvents(wav: string, ...args: string[]): EventRecord[] {
-  return lines<EventRecord>(ok(['scan', wav, '--array', wav.replace(/\.wav$/, '.array.json'), ...args]));
+  return scanWithWarnings(wav, ...args).events;
+}
+
+/** The events of a scan and what it said on stderr (its warnings). */
+export function scanWithWarnings(wav: string, ...args: string[]): { events: EventRecord[]; stderr: string } {
+  const argv = ['scan', wav, '--array', wav.replace(/\.wav$/, '.array.json'), ...args];
+  const r = runCli(argv);
+  if (r.status !== 0) throw new Error(`bearline ${argv.join(' ')} failed (${r.status}): ${r.stderr}`);
+  return { events: lines<EventRecord>(r.stdout), stderr: r.stderr };
 }
 
 export function truthOf(wav: string): TruthRecord[] {
