@@ -108,7 +108,8 @@ export async function* pollFd(fd: number, everyMs: number, bytesPerSecond: numbe
     // done), and none later than the next chunk.
     due += intervalMs;
     if (due < now) due = now;
-    chunkRead = due >= chunkDue;
+    // (within a quarter interval: the sums of the read steps may fall a rounding short of the chunk's time)
+    chunkRead = due >= chunkDue - 0.25 * intervalMs;
     if (chunkRead) due = chunkDue;
     // A (nearly) full pipe: the producer is ahead (a backlog, or faster than real time): read
     // again soon, not an interval later.
