@@ -5,8 +5,9 @@ import { fstatSync, readFileSync, readSync } from 'node:fs';
  * milliseconds: each chunk holds all that has arrived since the last one. A live stream that
  * arrives in small writes (a sound card's 10-20 ms periods) then wakes the analysis a few times a
  * second instead of fifty: most of a quiet station's CPU was spent waking up (issue 14's live
- * bench), and a longer batch is analysed at a lower cost per second (its code and data are warm
- * in the processor's caches after the first hop of a batch). The latency grows by up to `everyMs`.
+ * bench), and a longer batch costs less per hop (measured with that bench; most likely because
+ * code and data stay warm in the processor's caches through a batch). The latency grows by up to
+ * `everyMs`.
  *
  * What the descriptor holds while it waits (inputCapacity): a pipe 64 KiB in Linux; a Unix
  * socket (what a parent process such as a supervisor or Node's spawn gives its child as stdin)
