@@ -232,7 +232,6 @@ export class HopAnalyzer {
             ) +
               8 * options.bands +
               OnsetWeigher.kernelBytes(bins) +
-              4 * bins +
               64,
           )
         : null;
@@ -266,14 +265,14 @@ export class HopAnalyzer {
     this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
     const quiet = options.quietMemoryS > 0 ? Math.exp(-hopS / options.quietMemoryS) : 0;
     this.quietForget = this.memory > 0 ? Math.min(1, quiet / this.memory) : 1;
-    this.quietBins = k ? k.i32(bins) : new Int32Array(bins);
+    this.quietBins = new Int32Array(this.quietForget < 1 ? bins : 0);
     this.onset = new OnsetWeigher(bins, {
       floor: 1 - options.onsetWeight,
       fullRise: 4,
       backgroundDecay: Math.exp(-hopS / options.backgroundS),
       floorRise: 10 ** ((options.floorRiseDbS * hopS) / 10),
       fullPresence: 4,
-    }, k);
+    }, k, this.quietForget < 1 ? { quietRatio: QUIET_RATIO, loudRatio: LOUD_RATIO, heldDecay: this.memory } : null);
     this.correlators = model.pairs.map((_, p) => new PairCorrelator(n, model.maxLag[p]!, k ? { accRe: k.f64(bins), accIm: k.f64(bins) } : undefined));
     this.candLags = new Float64Array(candidates * P);
     this.candScores = new Float64Array(candidates);
@@ -500,7 +499,7 @@ export class HopAnalyzer {
     const snrMem = this.snrMem;
     const kern = this.kernels;
     const sums = this.kBandSums;
-    if (this.quietForget < 1) this.forgetQuietBins(k0, k1);
+    if (this.quietForget < 1) this.forgetQuietBins();
     if (kern) {
       kern.bandSums(power, this.onset.noiseFloor, acc, weights, mem, sums[0]!, sums[1]!, this.bandWeight, k0, k1);
       this.onset.bandSnrDbOfSums(bands.count, sums[0]!, sums[1]!, bandSnrDb);
@@ -534,12 +533,14 @@ export class HopAnalyzer {
    * weight memory keeps the usual decay, so a band's coherence falls as what filled it fades.
    * Only bins that still hold something are touched.
    */
-  private forgetQuietBins(k0: number, k1: number): void {
+  private forgetQuietBins(): void {
     const acc = this.weightAcc;
     const list = this.quietBins;
-    const quiet = this.onset.quietBins(this.power, k0, k1, QUIET_RATIO, LOUD_RATIO, this.memory, list);
+    // The bins that sound has left, found by the onset weigher's pass over the bins this hop.
+    const found = this.onset.quietList;
+    const quiet = this.onset.quietCount;
     let n = 0;
-    for (let i = 0; i < quiet; i++) if (acc[list[i]!]! > QUIET_HELD) list[n++] = list[i]!;
+    for (let i = 0; i < quiet; i++) if (acc[found[i]!]! > QUIET_HELD) list[n++] = found[i]!;
     if (n === 0) return;
     const r = this.quietForget;
     for (const pc of this.correlators) {

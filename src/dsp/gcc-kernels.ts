@@ -37,8 +37,7 @@ interface KernelExports {
   window4(x0: number, x1: number, x2: number, x3: number, win: number, w0: number, w1: number, w2: number, w3: number, n: number, ms: number): void;
   window2(x0: number, x1: number, win: number, w0: number, w1: number, n: number, ms: number): void;
   band_sums(power: number, nf: number, acc: number, w: number, m: number, starts: number, ends: number, nb: number, sp: number, sn: number, sa: number, k0: number, k1: number): void;
-  onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number): number;
-  quiet_bins(power: number, nf: number, held: number, out: number, k0: number, k1: number, quiet: number, loud: number, decay: number): number;
+  onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number, held: number, out: number, count: number): number;
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
   accumulate(a: number, b: number, wa: number, ib: number, ar: number, ai: number, k0: number, k1: number, m: number): void;
   band_scores4(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
@@ -200,15 +199,13 @@ export class GccKernels {
   /**
    * OnsetWeigher.update (./onset.ts) after its first hop: the background, noise floor and
    * smoothed power per bin updated, the weights written; returns the onset strength. `q` holds
-   * [invRise, invPresence, floor, 1 - floor, backgroundDecay, 1 - backgroundDecay, floorRise].
+   * [invRise, invPresence, floor, 1 - floor, backgroundDecay, 1 - backgroundDecay, floorRise,
+   * quietAt, loudAt, heldDecay]. With `held` (null: no quiet search), the same pass also finds
+   * the bins that sound has left: the held powers updated, the bins written into `out` in order
+   * and their number into count[0].
    */
-  onsetUpdate(power: Float64Array, bg: Float64Array, nf: Float64Array, sm: Float64Array, weights: Float64Array, k0: number, k1: number, q: Float64Array): number {
-    return this.x.onset_update(power.byteOffset, bg.byteOffset, nf.byteOffset, sm.byteOffset, weights.byteOffset, k0, k1, q.byteOffset);
-  }
-
-  /** OnsetWeigher.quietBins (./onset.ts): the same bins, in the same order, and the same held powers. */
-  quietBins(power: Float64Array, nf: Float64Array, held: Float64Array, out: Int32Array, k0: number, k1: number, quiet: number, loud: number, decay: number): number {
-    return this.x.quiet_bins(power.byteOffset, nf.byteOffset, held.byteOffset, out.byteOffset, k0, k1, quiet, loud, decay);
+  onsetUpdate(power: Float64Array, bg: Float64Array, nf: Float64Array, sm: Float64Array, weights: Float64Array, k0: number, k1: number, q: Float64Array, held: Float64Array | null, out: Int32Array, count: Int32Array): number {
+    return this.x.onset_update(power.byteOffset, bg.byteOffset, nf.byteOffset, sm.byteOffset, weights.byteOffset, k0, k1, q.byteOffset, held === null ? 0 : held.byteOffset, out.byteOffset, count.byteOffset);
   }
 
   /**

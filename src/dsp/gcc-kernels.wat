@@ -304,55 +304,17 @@
         (br $xl)))
     (local.get $nf))
 
-;; OnsetWeigher.quietBins (src/dsp/onset.ts) for bins [k0, k1), two at a time: h = held[k] * decay,
-  ;; held[k] = max(power[k], h); out[n] = k and n += (power[k] < quiet * nf[k]) & (h >= loud * nf[k]).
-  ;; Returns n.
-  (func (export "quiet_bins") (param $power i32) (param $nf i32) (param $held i32) (param $out i32)
-    (param $k0 i32) (param $k1 i32) (param $quiet f64) (param $loud f64) (param $decay f64) (result i32)
-    (local $k i32) (local $n i32) (local $o i32) (local $a i32) (local $p f64) (local $h f64) (local $m f64)
-    (local $vp v128) (local $vh v128) (local $vm v128) (local $bits i32)
-    (local.set $k (local.get $k0))
-    ;; two bins per step; the lanes' tests as two bits, each bin's index written and kept in order
-    (block $two_done
-      (loop $two
-        (br_if $two_done (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $k1)))
-        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
-        (local.set $vp (v128.load (i32.add (local.get $power) (local.get $o))))
-        (local.set $a (i32.add (local.get $held) (local.get $o)))
-        (local.set $vh (f64x2.mul (v128.load (local.get $a)) (f64x2.splat (local.get $decay))))
-        (v128.store (local.get $a) (f64x2.max (local.get $vp) (local.get $vh)))
-        (local.set $vm (v128.load (i32.add (local.get $nf) (local.get $o))))
-        (local.set $bits (i64x2.bitmask (v128.and
-          (f64x2.lt (local.get $vp) (f64x2.mul (f64x2.splat (local.get $quiet)) (local.get $vm)))
-          (f64x2.ge (local.get $vh) (f64x2.mul (f64x2.splat (local.get $loud)) (local.get $vm))))))
-        (i32.store (i32.add (local.get $out) (i32.shl (local.get $n) (i32.const 2))) (local.get $k))
-        (local.set $n (i32.add (local.get $n) (i32.and (local.get $bits) (i32.const 1))))
-        (i32.store (i32.add (local.get $out) (i32.shl (local.get $n) (i32.const 2))) (i32.add (local.get $k) (i32.const 1)))
-        (local.set $n (i32.add (local.get $n) (i32.shr_u (local.get $bits) (i32.const 1))))
-        (local.set $k (i32.add (local.get $k) (i32.const 2)))
-        (br $two)))
-    (block $done
-      (loop $next
-        (br_if $done (i32.ge_s (local.get $k) (local.get $k1)))
-        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
-        (local.set $p (f64.load (i32.add (local.get $power) (local.get $o))))
-        (local.set $a (i32.add (local.get $held) (local.get $o)))
-        (local.set $h (f64.mul (f64.load (local.get $a)) (local.get $decay)))
-        (f64.store (local.get $a) (f64.max (local.get $p) (local.get $h)))
-        (local.set $m (f64.load (i32.add (local.get $nf) (local.get $o))))
-        (i32.store (i32.add (local.get $out) (i32.shl (local.get $n) (i32.const 2))) (local.get $k))
-        (local.set $n (i32.add (local.get $n)
-          (i32.and (f64.lt (local.get $p) (f64.mul (local.get $quiet) (local.get $m)))
-                   (f64.ge (local.get $h) (f64.mul (local.get $loud) (local.get $m))))))
-        (local.set $k (i32.add (local.get $k) (i32.const 1)))
-        (br $next)))
-    (local.get $n))
-
   ;; OnsetWeigher.update (src/dsp/onset.ts) after its first hop, two bins per step, the sums (the
   ;; background's for `tiny`, rising and total) added bin by bin in order as the JavaScript does.
-  ;; q holds [invRise invPresence floor 1-floor d 1-d floorRise]. Returns the onset strength.
+  ;; q holds [invRise invPresence floor 1-floor d 1-d floorRise quietAt loudAt heldDecay]. Returns
+  ;; the onset strength. With $held (0: none) the same pass finds the bins that sound has left, against
+  ;; the noise floor just written: h = held[k] * heldDecay, held[k] = max(power[k], h); out[n] = k and
+  ;; n += (power[k] < quietAt * nf[k]) & (h >= loudAt * nf[k]) (each bin's index written, kept in
+  ;; order); n is stored at $count.
   (func (export "onset_update") (param $power i32) (param $bg i32) (param $nf i32) (param $sm i32) (param $w i32)
-    (param $k0 i32) (param $k1 i32) (param $q i32) (result f64)
+    (param $k0 i32) (param $k1 i32) (param $q i32) (param $held i32) (param $out i32) (param $count i32) (result f64)
+    (local $a i32) (local $bits i32) (local $cnt i32) (local $nn v128) (local $vh v128) (local $qa v128) (local $la v128) (local $dec v128)
+    (local $snn f64) (local $sh f64)
     (local $k i32) (local $o i32) (local $tiny f64) (local $rising f64) (local $total f64) (local $x f64)
     (local $vt v128) (local $invRise v128) (local $invPres v128) (local $floor v128) (local $omf v128) (local $d v128) (local $omd v128) (local $fr v128)
     (local $p v128) (local $b v128) (local $y v128) (local $rise v128) (local $s v128) (local $n v128) (local $z v128) (local $pres v128) (local $rp v128)
@@ -378,6 +340,10 @@
     (local.set $d (v128.load64_splat offset=32 (local.get $q)))
     (local.set $omd (v128.load64_splat offset=40 (local.get $q)))
     (local.set $fr (v128.load64_splat offset=48 (local.get $q)))
+    (local.set $qa (v128.load64_splat offset=56 (local.get $q)))
+    (local.set $la (v128.load64_splat offset=64 (local.get $q)))
+    (local.set $dec (v128.load64_splat offset=72 (local.get $q)))
+    (local.set $cnt (i32.const 0))
     (local.set $one (f64x2.splat (f64.const 1)))
     (local.set $half (f64x2.splat (f64.const 0.5)))
     (local.set $rising (f64.const 0))
@@ -402,8 +368,21 @@
         (local.set $pres (f64x2.mul (f64x2.add (local.get $z) (f64x2.abs (local.get $z))) (local.get $half)))
         (local.set $pres (v128.bitselect (local.get $one) (local.get $pres) (f64x2.gt (local.get $pres) (local.get $one))))
         ;; nf = s < n ? s : n * floorRise
-        (v128.store (i32.add (local.get $nf) (local.get $o))
-          (v128.bitselect (local.get $s) (f64x2.mul (local.get $n) (local.get $fr)) (f64x2.lt (local.get $s) (local.get $n))))
+        (local.set $nn (v128.bitselect (local.get $s) (f64x2.mul (local.get $n) (local.get $fr)) (f64x2.lt (local.get $s) (local.get $n))))
+        (v128.store (i32.add (local.get $nf) (local.get $o)) (local.get $nn))
+        (if (local.get $held)
+          (then
+            ;; the quiet search: the lanes' tests as two bits
+            (local.set $a (i32.add (local.get $held) (local.get $o)))
+            (local.set $vh (f64x2.mul (v128.load (local.get $a)) (local.get $dec)))
+            (v128.store (local.get $a) (f64x2.max (local.get $p) (local.get $vh)))
+            (local.set $bits (i64x2.bitmask (v128.and
+              (f64x2.lt (local.get $p) (f64x2.mul (local.get $qa) (local.get $nn)))
+              (f64x2.ge (local.get $vh) (f64x2.mul (local.get $la) (local.get $nn))))))
+            (i32.store (i32.add (local.get $out) (i32.shl (local.get $cnt) (i32.const 2))) (local.get $k))
+            (local.set $cnt (i32.add (local.get $cnt) (i32.and (local.get $bits) (i32.const 1))))
+            (i32.store (i32.add (local.get $out) (i32.shl (local.get $cnt) (i32.const 2))) (i32.add (local.get $k) (i32.const 1)))
+            (local.set $cnt (i32.add (local.get $cnt) (i32.shr_u (local.get $bits) (i32.const 1))))))
         (v128.store (i32.add (local.get $w) (local.get $o))
           (f64x2.mul (f64x2.add (local.get $floor) (f64x2.mul (local.get $omf) (local.get $rise))) (local.get $pres)))
         (local.set $rp (f64x2.mul (local.get $rise) (local.get $p)))
@@ -427,14 +406,24 @@
         (local.set $sz (f64.mul (f64.sub (f64.div (local.get $ss) (f64.add (f64.mul (f64.const 2.5) (local.get $sn)) (local.get $tiny))) (f64.const 1)) (f64.load offset=8 (local.get $q))))
         (local.set $spres (f64.mul (f64.add (local.get $sz) (f64.abs (local.get $sz))) (f64.const 0.5)))
         (if (f64.gt (local.get $spres) (f64.const 1)) (then (local.set $spres (f64.const 1))))
-        (f64.store (i32.add (local.get $nf) (local.get $o))
-          (select (local.get $ss) (f64.mul (local.get $sn) (f64.load offset=48 (local.get $q))) (f64.lt (local.get $ss) (local.get $sn))))
+        (local.set $snn (select (local.get $ss) (f64.mul (local.get $sn) (f64.load offset=48 (local.get $q))) (f64.lt (local.get $ss) (local.get $sn))))
+        (f64.store (i32.add (local.get $nf) (local.get $o)) (local.get $snn))
+        (if (local.get $held)
+          (then
+            (local.set $a (i32.add (local.get $held) (local.get $o)))
+            (local.set $sh (f64.mul (f64.load (local.get $a)) (f64.load offset=72 (local.get $q))))
+            (f64.store (local.get $a) (f64.max (local.get $sp) (local.get $sh)))
+            (i32.store (i32.add (local.get $out) (i32.shl (local.get $cnt) (i32.const 2))) (local.get $k))
+            (local.set $cnt (i32.add (local.get $cnt)
+              (i32.and (f64.lt (local.get $sp) (f64.mul (f64.load offset=56 (local.get $q)) (local.get $snn)))
+                       (f64.ge (local.get $sh) (f64.mul (f64.load offset=64 (local.get $q)) (local.get $snn))))))))
         (f64.store (i32.add (local.get $w) (local.get $o))
           (f64.mul (f64.add (f64.load offset=16 (local.get $q)) (f64.mul (f64.load offset=24 (local.get $q)) (local.get $srise))) (local.get $spres)))
         (local.set $rising (f64.add (local.get $rising) (f64.mul (local.get $srise) (local.get $sp))))
         (local.set $total (f64.add (local.get $total) (local.get $sp)))
         (f64.store (i32.add (local.get $bg) (local.get $o))
           (f64.add (f64.mul (f64.load offset=32 (local.get $q)) (local.get $sb)) (f64.mul (f64.load offset=40 (local.get $q)) (local.get $sp))))))
+    (if (local.get $held) (then (i32.store (local.get $count) (local.get $cnt))))
     (if (result f64) (f64.gt (local.get $total) (f64.const 0))
       (then (f64.div (local.get $rising) (local.get $total)))
       (else (f64.const 0))))

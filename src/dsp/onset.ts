@@ -27,6 +27,20 @@ export interface OnsetSettings {
   readonly fullPresence: number;
 }
 
+/**
+ * The search for the bins that sound has left (OnsetWeigher.quietList), run in update()'s pass
+ * over the bins: a bin is listed when its power this hop is below `quietRatio` times its noise
+ * mean (the tracked minimum times its bias factor) and it stood at least `loudRatio` times over
+ * it lately (its largest power, held and decaying by `heldDecay` per hop, against today's noise
+ * mean).
+ */
+export interface QuietSearch {
+  readonly quietRatio: number;
+  readonly loudRatio: number;
+  /** Decay per hop of the held largest power, in [0, 1]. */
+  readonly heldDecay: number;
+}
+
 /** Smoothing of the power that presence looks at (per hop), and the minimum's bias factor. */
 const SMOOTH = 0.5;
 const NOISE_BIAS = 2.5;
@@ -35,43 +49,67 @@ export class OnsetWeigher {
   private readonly background: Float64Array;
   private readonly noise: Float64Array;
   private readonly smooth: Float64Array;
-  /** Per bin, its largest power lately, decaying (quietBins). */
+  /** Per bin, its largest power lately, decaying (the quiet search; empty without one). */
   private readonly held: Float64Array;
+  /** The quiet search's thresholds against the tracked minimum (ratios times the bias factor); 0 without one. */
+  private readonly quietAt: number;
+  private readonly loudAt: number;
+  private readonly heldDecay: number;
+  /**
+   * The bins that sound has left this hop (see QuietSearch), in increasing order: the first
+   * quietCount entries, written by update() when the weigher has a quiet search. Scratch for the
+   * caller until the next update().
+   */
+  readonly quietList: Int32Array;
+  /** How many entries of quietList update() wrote this hop (0 without a quiet search). */
+  quietCount = 0;
   private primed = false;
   private readonly invRise: number;
   private readonly invPresence: number;
   /** The settings as the WebAssembly kernel reads them (null on the JavaScript path). */
   private readonly kernelSettings: Float64Array | null;
+  /** Where the WebAssembly kernel writes quietCount (null on the JavaScript path). */
+  private readonly kernelCount: Int32Array | null;
 
   /**
    * `kernels`: update() after the first hop runs in WebAssembly (../dsp/gcc-kernels.ts, the same
    * results bit for bit); then the power and weights arrays given to update() must be the
-   * kernels' too.
+   * kernels' too. `quiet`: update() also finds the bins that sound has left (quietList).
    */
   constructor(
     bins: number,
     private readonly settings: OnsetSettings,
     private readonly kernels: GccKernels | null = null,
+    quiet: QuietSearch | null = null,
   ) {
     const f64 = (n: number) => (kernels ? kernels.f64(n) : new Float64Array(n));
     this.background = f64(bins);
     this.noise = f64(bins);
     this.smooth = f64(bins);
-    this.held = f64(bins);
+    this.held = quiet ? f64(bins) : new Float64Array(0);
+    this.quietList = quiet ? (kernels ? kernels.i32(bins) : new Int32Array(bins)) : new Int32Array(0);
+    this.quietAt = quiet ? quiet.quietRatio * NOISE_BIAS : 0;
+    this.loudAt = quiet ? quiet.loudRatio * NOISE_BIAS : 0;
+    this.heldDecay = quiet ? quiet.heldDecay : 0;
     this.invRise = 1 / (Math.max(1.0001, settings.fullRise) - 1);
     this.invPresence = 1 / (Math.max(1.0001, settings.fullPresence) - 1);
-    this.kernelSettings = kernels ? kernels.f64(7) : null;
-    this.kernelSettings?.set([this.invRise, this.invPresence, settings.floor, 1 - settings.floor, settings.backgroundDecay, 1 - settings.backgroundDecay, settings.floorRise]);
+    this.kernelSettings = kernels ? kernels.f64(10) : null;
+    this.kernelSettings?.set([this.invRise, this.invPresence, settings.floor, 1 - settings.floor, settings.backgroundDecay, 1 - settings.backgroundDecay, settings.floorRise, this.quietAt, this.loudAt, this.heldDecay]);
+    this.kernelCount = kernels ? kernels.i32(1) : null;
   }
 
-  /** The bytes the kernels' memory needs for a weigher of this many bins. */
+  /** The bytes the kernels' memory needs for a weigher of this many bins (with a quiet search). */
   static kernelBytes(bins: number): number {
-    return 4 * Math.ceil((8 * bins) / 16) * 16 + 64;
+    return 4 * Math.ceil((8 * bins) / 16) * 16 + Math.ceil((4 * bins) / 16) * 16 + 128;
   }
 
   /**
    * Fill `weights` for bins [first, end) from the hop's per-bin power and return the hop's
-   * onset strength in [0, 1] (power-weighted share of rising bins).
+   * onset strength in [0, 1] (power-weighted share of rising bins). With a quiet search, also
+   * list the bins of [first, end) that sound has left (quietList, quietCount), against the noise
+   * floor as this hop leaves it. A bin that has sat at its floor all along (a steady sound that
+   * has become the floor) is not among them. Unlike presence, which looks at a smoothed power
+   * that takes a few hops to fall after a loud call, this hop alone decides.
    */
   update(power: Float64Array, first: number, end: number, weights: Float64Array): number {
     const bg = this.background;
@@ -80,6 +118,8 @@ export class OnsetWeigher {
     const { floor, backgroundDecay: d, floorRise } = this.settings;
     const invRise = this.invRise;
     const invPresence = this.invPresence;
+    const held = this.held;
+    const searching = held.length > 0;
     if (!this.primed) {
       for (let k = first; k < end; k++) {
         bg[k] = power[k]!;
@@ -88,14 +128,24 @@ export class OnsetWeigher {
         weights[k] = 0;
       }
       this.primed = true;
+      this.quietCount = searching ? this.searchQuiet(power, first, end) : 0;
       return 0;
     }
-    if (this.kernels) return this.kernels.onsetUpdate(power, bg, nf, sm, weights, first, end, this.kernelSettings!);
+    if (this.kernels) {
+      const onset = this.kernels.onsetUpdate(power, bg, nf, sm, weights, first, end, this.kernelSettings!, searching ? held : null, this.quietList, this.kernelCount!);
+      this.quietCount = searching ? this.kernelCount![0]! : 0;
+      return onset;
+    }
+    const list = this.quietList;
+    const quietAt = this.quietAt;
+    const loudAt = this.loudAt;
+    const heldDecay = this.heldDecay;
     let tiny = 0;
     for (let k = first; k < end; k++) tiny += bg[k]!;
     tiny = (tiny / Math.max(1, end - first)) * 1e-6 + 1e-30;
     let rising = 0;
     let total = 0;
+    let quiet = 0;
     for (let k = first; k < end; k++) {
       const p = power[k]!;
       const ratio = p / (bg[k]! + tiny);
@@ -111,13 +161,39 @@ export class OnsetWeigher {
       const z = (snr - 1) * invPresence;
       let presence = (z + Math.abs(z)) * 0.5;
       if (presence > 1) presence = 1;
-      nf[k] = s < n ? s : n * floorRise;
+      const m = (nf[k] = s < n ? s : n * floorRise);
       weights[k] = (floor + (1 - floor) * rise) * presence;
       rising += rise * p;
       total += p;
       bg[k] = d * bg[k]! + (1 - d) * p;
+      if (searching) {
+        // No division: the floor's mean is compared through the products.
+        const h = held[k]! * heldDecay;
+        held[k] = Math.max(p, h);
+        // The index is always written and kept only when the bin qualifies (no branch on noise).
+        list[quiet] = k;
+        quiet += p < quietAt * m && h >= loudAt * m ? 1 : 0;
+      }
     }
+    this.quietCount = quiet;
     return total > 0 ? rising / total : 0;
+  }
+
+  /** The quiet search alone over [first, end) against the noise floor as it stands (the priming hop). */
+  private searchQuiet(power: Float64Array, first: number, end: number): number {
+    const held = this.held;
+    const nf = this.noise;
+    const list = this.quietList;
+    let quiet = 0;
+    for (let k = first; k < end; k++) {
+      const p = power[k]!;
+      const h = held[k]! * this.heldDecay;
+      held[k] = Math.max(p, h);
+      const m = nf[k]!;
+      list[quiet] = k;
+      quiet += p < this.quietAt * m && h >= this.loudAt * m ? 1 : 0;
+    }
+    return quiet;
   }
 
   /**
@@ -142,35 +218,6 @@ export class OnsetWeigher {
   /** bandSnrDb from the bands' sums of power and of the noise floor (the kernels' bandSums). */
   bandSnrDbOfSums(count: number, sumPower: Float64Array, sumNoise: Float64Array, out: Float64Array): void {
     for (let b = 0; b < count; b++) out[b] = snrDbOfSums(sumPower[b]!, sumNoise[b]!);
-  }
-
-  /**
-   * The bins of [first, end) that sound has left: their power this hop is below `quietRatio`
-   * times their noise mean (the tracked minimum times its bias factor), and they stood at least
-   * `loudRatio` times over it lately (their largest power, held and decaying by `heldDecay` per
-   * hop, against today's noise mean). A bin that has sat at its floor all along (a steady sound
-   * that has become the floor) is not among them. Unlike presence, which looks at a smoothed
-   * power that takes a few hops to fall after a loud call, this hop alone decides. Writes their
-   * indices into `out` and returns how many. No division: it runs on every hop. With the
-   * kernels, `power` and `out` must be the kernels' arrays.
-   */
-  quietBins(power: Float64Array, first: number, end: number, quietRatio: number, loudRatio: number, heldDecay: number, out: Int32Array): number {
-    const nf = this.noise;
-    const held = this.held;
-    const quiet = quietRatio * NOISE_BIAS;
-    const loud = loudRatio * NOISE_BIAS;
-    if (this.kernels) return this.kernels.quietBins(power, nf, held, out, first, end, quiet, loud, heldDecay);
-    let n = 0;
-    for (let k = first; k < end; k++) {
-      const p = power[k]!;
-      const h = held[k]! * heldDecay;
-      held[k] = Math.max(p, h);
-      const m = nf[k]!;
-      // The index is always written and kept only when the bin qualifies (no branch on noise).
-      out[n] = k;
-      n += p < quiet * m && h >= loud * m ? 1 : 0;
-    }
-    return n;
   }
 
   /** The noise floor per bin (the kernels read it; read-only). */

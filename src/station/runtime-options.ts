@@ -33,7 +33,7 @@ export const stationOptionSpecs: readonly OptionSpec<keyof StationOptions>[] = [
     defaultText: 'none',
     check: hostListProblem,
   }),
-  numberOption('readEvery', 'read-every', 's', 0.1, { min: 0, max: 1, unit: 's' }, 'with --stdin, collect the audio that has arrived this often: fewer wake-ups, less CPU, up to this much more latency (0 = as it arrives; at most what fills three quarters of what stdin holds: a 64 KiB pipe, or half the send buffer of a Unix socket)'),
+  numberOption('readEvery', 'read-every', 's', 0.1, { min: 0, max: 1, unit: 's' }, 'with --stdin, analyse the audio that has arrived this often: fewer wake-ups, less CPU, up to this much more latency (0 = as it arrives; stdin itself is read as often as keeps it under three quarters full: a 64 KiB pipe, or half the send buffer of a Unix socket)'),
   numberOption('closeTimeout', 'close-timeout', 's', 10, { min: 0, max: 600, minExclusive: true, unit: 's' }, 'on SIGINT/SIGTERM, wait this long for files and the broker to close'),
 ];
 

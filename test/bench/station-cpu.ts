@@ -12,9 +12,9 @@
  *     the first half minute V8 still compiles the hot paths on its background threads, which
  *     cost the process 0.4-0.7 % of a core then and about nothing after; a station runs all
  *     night, so the share that counts is the one after), with the
- *     defaults (stdin collected every 0.1 s), with --profile station-low-cpu (every 0.25 s, at
- *     most what fills three quarters of a 64 KiB pipe: 0.128 s here) and with the defaults
- *     reading every write as it arrives (--read-every 0).
+ *     defaults (stdin analysed every 0.1 s), with --profile station-low-cpu (analysed once a
+ *     second; stdin, a Unix socket here, read 5 times a second: three quarters of half its send
+ *     buffer hold 0.208 s) and with the defaults reading every write as it arrives (--read-every 0).
  * Report only: nothing here passes or fails on a time. The machine may be shared: the share of
  * a busy machine is higher than that of a quiet one (CPU time grows when caches are shared).
  *

@@ -99,6 +99,46 @@ describe('WebAssembly GCC kernels give the JavaScript kernels results bit for bi
     expect(rising).toBeGreaterThan(2);
   });
 
+  // Runs on the JavaScript path too (its check against the definition); the comparison with WebAssembly where it loads.
+  it.each([[3, 257], [4, 257], [3, 256]] as const)('the bins that sound has left, found in the onset pass, over bins %i to %i', (k0, k1) => {
+    // The same calls over a floor as above; after each call's 3 loud hops its bins fall back to
+    // the floor. The quiet search must not touch the weights, and both paths list the same bins
+    // in the same order, each of them meeting the definition (OnsetWeigher's QuietSearch) recomputed
+    // here from the noise floor the weigher leaves and the held powers kept by this test.
+    const settings = { floor: 0.3, fullRise: 4, backgroundDecay: 0.8, floorRise: 1.002, fullPresence: 4 };
+    const search = { quietRatio: 2, loudRatio: 4, heldDecay: 0.9 };
+    const plain = new OnsetWeigher(bins, settings);
+    const js = new OnsetWeigher(bins, settings, null, search);
+    const wasm = k ? new OnsetWeigher(bins, settings, k, search) : null;
+    const power = k ? k.f64(bins) : new Float64Array(bins);
+    const [wp, wj, ww] = [new Float64Array(bins), new Float64Array(bins), k ? k.f64(bins) : new Float64Array(bins)];
+    const held = new Float64Array(bins);
+    let listed = 0;
+    for (let hop = 0; hop < 40; hop++) {
+      const level = hop % 10 < 3 ? 30 : 1;
+      for (let i = 0; i < bins; i++) power[i] = level * (1 + rand()) ** 2 * (i % 7 === 0 ? 0 : 1);
+      const a = plain.update(power, k0, k1, wp);
+      expect(js.update(power, k0, k1, wj)).toBe(a);
+      for (let i = k0; i < k1; i++) expect(wj[i]).toBe(wp[i]);
+      if (wasm) {
+        expect(wasm.update(power, k0, k1, ww)).toBe(a);
+        for (let i = k0; i < k1; i++) expect(ww[i]).toBe(wp[i]);
+        expect(wasm.quietCount).toBe(js.quietCount);
+        expect(Array.from(wasm.quietList.subarray(0, wasm.quietCount))).toEqual(Array.from(js.quietList.subarray(0, js.quietCount)));
+      }
+      const want: number[] = [];
+      for (let i = k0; i < k1; i++) {
+        const h = held[i]! * search.heldDecay;
+        held[i] = Math.max(power[i]!, h);
+        const mean = 2.5 * js.noiseFloor[i]!; // the floor's mean: the tracked minimum times its bias factor
+        if (power[i]! < search.quietRatio * mean && h >= search.loudRatio * mean) want.push(i);
+      }
+      expect(Array.from(js.quietList.subarray(0, js.quietCount))).toEqual(want);
+      listed += want.length;
+    }
+    expect(listed).toBeGreaterThan(100);
+  });
+
   run('magnitudes, weights x 1/|X|, the cross-spectrum memory and the hop coherence on float32 spectra', () => {
     const spec = () => {
       const s = k!.f32(n);

@@ -51,4 +51,40 @@ describe('what stdin holds while bearline does not read it', () => {
     expect(readInterval(250, 192000, 106496)).toBe(250);
     expect(readInterval(0, 192000, 65536)).toBe(1);
   });
+
+  it('chunks every --read-every although a pipe must be read more often, every byte in order', () => {
+    // 4 channels of 16-bit samples at 48 kHz: 384,000 bytes a second in 20 ms writes for 2 s. A
+    // pipe holds 65,536 bytes (pipe(7)), so stdin is read at least every 0.128 s (8 reads a
+    // second); with --read-every 0.5 the reads' bytes are kept and handed on in chunks every
+    // 0.5 s: 4 or 5 chunks (a late timer only merges them), not 16 (a chunk per read) or 100 (per
+    // write). Byte p of the stream is p mod 251, so a lost, repeated or reordered byte shows.
+    const producer = join(tmp.dir, 'producer.mjs');
+    writeFileSync(producer, `
+      const block = 7680; let p = 0; const t0 = performance.now();
+      for (let k = 0; k < 100; k++) {
+        const wait = t0 + 20 * k - performance.now();
+        if (wait > 0) await new Promise((r) => setTimeout(r, wait));
+        const b = Buffer.alloc(block);
+        for (let i = 0; i < block; i++, p++) b[i] = p % 251;
+        process.stdout.write(b);
+      }`);
+    const consumer = join(tmp.dir, 'consumer.mts');
+    writeFileSync(consumer, `
+      import { pollFd, polledStdin } from ${JSON.stringify(module)};
+      const input = polledStdin(500);
+      let p = 0, wrong = 0;
+      const sizes = [];
+      for await (const chunk of pollFd(input.fd, input.everyMs, 384000, new Promise(() => undefined))) {
+        sizes.push(chunk.length);
+        for (let i = 0; i < chunk.length; i++, p++) if (chunk[i] !== p % 251) wrong++;
+      }
+      console.log(JSON.stringify({ bytes: p, wrong, sizes }));`);
+    const r = spawnSync('sh', ['-c', `"${process.execPath}" "${producer}" | "${process.execPath}" --import tsx "${consumer}"`], { encoding: 'utf8' });
+    expect(r.status, r.stderr).toBe(0);
+    const out = JSON.parse(r.stdout.trim()) as { bytes: number; wrong: number; sizes: number[] };
+    expect(out.bytes).toBe(768000);
+    expect(out.wrong).toBe(0);
+    expect(out.sizes.length).toBeGreaterThanOrEqual(3);
+    expect(out.sizes.length).toBeLessThanOrEqual(7);
+  });
 });
