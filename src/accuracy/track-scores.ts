@@ -3,7 +3,10 @@
  * multi-target tracking evaluation, no single source): per track its purity (the share of its
  * attributed events that come from its main source), per source its completeness (the share
  * of its calls that have an event on its main track) and its id switches (changes of track
- * id between consecutive attributed events of the source).
+ * id between consecutive attributed events of the source). Each call not on the main track is
+ * also told by what its time holds: an event of the source on another of its tracks, only
+ * events attributed to another source (heard together, that one's direction won), only events
+ * attributed to no source (a direction between or beside the callers), or no event at all.
  *
  * An event is attributed to a source when exactly one source that is active during it lies
  * within toleranceDeg of its azimuth and no other source (calling or between calls, within its
@@ -32,6 +35,15 @@ export interface SourceCompleteness {
   /** Calls with an attributed event on that track, over all its calls. */
   completeness: number;
   idSwitches: number;
+  /** The calls not on the main track, by what their time holds (see above). */
+  missed: MissedCalls;
+}
+
+export interface MissedCalls {
+  otherTrack: number;
+  otherSource: number;
+  unattributed: number;
+  none: number;
 }
 
 export interface TrackScores {
@@ -83,9 +95,17 @@ export function scoreTracks(events: readonly EventRecord[], truth: TruthIndex, s
     const main = majority(mine.map((x) => x.e.track)).value;
     let idSwitches = 0;
     for (let i = 1; i < mine.length; i++) if (mine[i]!.e.track !== mine[i - 1]!.e.track) idSwitches++;
-    const onMain = mine.filter((x) => x.e.track === main).map((x) => x.e);
-    const found = src.calls.filter((c) => onMain.some((e) => e.start_s < c.endS && e.end_s > c.startS)).length;
-    return { source: src.name, calls: src.calls.length, track: main, completeness: src.calls.length ? found / src.calls.length : 1, idSwitches };
+    const during = (e: EventRecord, c: { startS: number; endS: number }): boolean => e.start_s < c.endS && e.end_s > c.startS;
+    const missed: MissedCalls = { otherTrack: 0, otherSource: 0, unattributed: 0, none: 0 };
+    let found = 0;
+    for (const c of src.calls) {
+      if (mine.some((x) => x.e.track === main && during(x.e, c))) found++;
+      else if (mine.some((x) => during(x.e, c))) missed.otherTrack++;
+      else if (attributed.some((x) => during(x.e, c))) missed.otherSource++;
+      else if (sorted.some((e) => during(e, c))) missed.unattributed++;
+      else missed.none++;
+    }
+    return { source: src.name, calls: src.calls.length, track: main, completeness: src.calls.length ? found / src.calls.length : 1, idSwitches, missed };
   });
   return { tracks, sources, attributedShare: sorted.length ? attributed.length / sorted.length : 1 };
 }

@@ -28,7 +28,7 @@ import { existsSync, mkdirSync, readFileSync, renameSync, writeFileSync } from '
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { scoreTracks, type TrackScores } from '../../src/accuracy/track-scores.js';
+import { scoreTracks, type SourceCompleteness, type TrackScores } from '../../src/accuracy/track-scores.js';
 import { indexTruth, parseTruth, TRUTH_STEP_S } from '../../src/accuracy/truth.js';
 import type { EventRecord } from '../../src/records/record-types.js';
 import { makeRng, type Rng } from '../../src/sim/rng.js';
@@ -273,6 +273,15 @@ export function formatMotion(results: readonly CellResult[]): string[] {
     const switches = srcs.reduce((a, x) => a + x.s.idSwitches, 0);
     const mixed = rs.reduce((a, r) => a + r.mixedTracks, 0);
     lines.push(`  ${f.padEnd(7)} ${String(rs.length).padStart(3)} cells, ${String(srcs.length).padStart(3)} sources: pure ${pct(pure / Math.max(1, srcs.length))}, completeness >= 80 % ${pct(complete / Math.max(1, srcs.length))} (mean ${pct(meanC)}), id switches ${switches}, mixed tracks ${mixed}`);
+  }
+  lines.push('', 'calls by what their time holds (src/accuracy/track-scores.ts): on the main track / on another track of the source / only another source\'s events / only events of no source / no event:');
+  for (const f of fams) {
+    const srcs = results.filter((r) => f === 'all' || r.family === f).flatMap((r) => r.scores.sources);
+    if (srcs.length === 0) continue;
+    const calls = srcs.reduce((a, x) => a + x.calls, 0);
+    const sum = (k: keyof SourceCompleteness['missed']): number => srcs.reduce((a, x) => a + x.missed[k], 0);
+    const parts = [calls - sum('otherTrack') - sum('otherSource') - sum('unattributed') - sum('none'), sum('otherTrack'), sum('otherSource'), sum('unattributed'), sum('none')];
+    lines.push(`  ${f.padEnd(7)} ${String(calls).padStart(5)} calls: ${parts.map((n) => `${n} (${pct(n / Math.max(1, calls)).trim()})`).join(' / ')}`);
   }
   return lines;
 }

@@ -1,0 +1,57 @@
+/**
+ * The tracking measures of src/accuracy/track-scores.ts on a hand-made truth and scan: track
+ * purity, completeness and id switches as used in multi-target tracking evaluation (common
+ * practice, no single source), and the breakdown of the calls missed by a source's main track.
+ */
+import { describe, expect, it } from 'vitest';
+import { scoreTracks } from '../../src/accuracy/track-scores.js';
+import { indexTruth, TRUTH_STEP_S, type TruthRecord } from '../../src/accuracy/truth.js';
+import type { EventRecord } from '../../src/records/record-types.js';
+
+/** A source calling at a fixed azimuth over [a, b) seconds, one record per truth step. */
+function call(source: string, az: number, a: number, b: number): TruthRecord[] {
+  const out: TruthRecord[] = [];
+  for (let t = a; t < b - 1e-9; t += TRUTH_STEP_S) out.push({ time_s: Math.round(t * 100) / 100, source, azimuth_deg: az, elevation_deg: 0 });
+  return out;
+}
+const event = (start: number, end: number, az: number, track: number): EventRecord => ({ start_s: start, end_s: end, azimuth_deg: az, spread_deg: 1, confidence: 1, track });
+
+describe('track scores: completeness and where the missed calls went', () => {
+  // frog at 40 deg calls five times; heron at -60 deg calls once, over the frog's third call
+  const truth = indexTruth([
+    ...call('frog', 40, 0, 0.3),
+    ...call('frog', 40, 1, 1.3),
+    ...call('frog', 40, 2, 2.3),
+    ...call('frog', 40, 3, 3.3),
+    ...call('frog', 40, 4, 4.3),
+    ...call('heron', -60, 2, 2.4),
+  ]);
+  const events = [
+    event(0.02, 0.28, 40.5, 1), // frog, main track
+    event(1.02, 1.28, 39.5, 1), // frog, main track
+    event(2.02, 2.38, -59, 2), // only the heron heard during the frog's third call
+    event(3.02, 3.28, 41, 3), // frog on another track
+    event(4.02, 4.28, 55, 1), // 15 deg off: no source's
+  ];
+  const s = scoreTracks(events, truth, TRUTH_STEP_S);
+  const frog = s.sources.find((x) => x.source === 'frog')!;
+
+  it('completeness counts calls with an event on the main track (2 of 5); id switches count track changes between its events', () => {
+    expect(frog.calls).toBe(5);
+    expect(frog.track).toBe(1);
+    expect(frog.completeness).toBeCloseTo(2 / 5, 12);
+    expect(frog.idSwitches).toBe(1);
+  });
+
+  it('the three missed calls: one on another track, one with only the other source heard, one with an event of no source', () => {
+    expect(frog.missed).toEqual({ otherTrack: 1, otherSource: 1, unattributed: 1, none: 0 });
+    const heron = s.sources.find((x) => x.source === 'heron')!;
+    expect(heron.completeness).toBe(1);
+    expect(heron.missed).toEqual({ otherTrack: 0, otherSource: 0, unattributed: 0, none: 0 });
+  });
+
+  it('a call with no event at all is counted as such', () => {
+    const s2 = scoreTracks(events.slice(0, 2), truth, TRUTH_STEP_S);
+    expect(s2.sources.find((x) => x.source === 'frog')!.missed).toEqual({ otherTrack: 0, otherSource: 0, unattributed: 0, none: 3 });
+  });
+});
