@@ -231,8 +231,7 @@ export class HopAnalyzer {
               [options.bands],
             ) +
               8 * options.bands +
-              OnsetWeigher.kernelBytes(bins) +
-              64,
+              OnsetWeigher.kernelBytes(bins),
           )
         : null;
     const k = this.kernels;

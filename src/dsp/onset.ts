@@ -127,8 +127,10 @@ export class OnsetWeigher {
         sm[k] = power[k]!;
         weights[k] = 0;
       }
+      // The quiet search's held powers start at this hop's; no bin can have been left yet.
+      if (searching) held.set(power.subarray(first, end), first);
       this.primed = true;
-      this.quietCount = searching ? this.searchQuiet(power, first, end) : 0;
+      this.quietCount = 0;
       return 0;
     }
     if (this.kernels) {
@@ -177,23 +179,6 @@ export class OnsetWeigher {
     }
     this.quietCount = quiet;
     return total > 0 ? rising / total : 0;
-  }
-
-  /** The quiet search alone over [first, end) against the noise floor as it stands (the priming hop). */
-  private searchQuiet(power: Float64Array, first: number, end: number): number {
-    const held = this.held;
-    const nf = this.noise;
-    const list = this.quietList;
-    let quiet = 0;
-    for (let k = first; k < end; k++) {
-      const p = power[k]!;
-      const h = held[k]! * this.heldDecay;
-      held[k] = Math.max(p, h);
-      const m = nf[k]!;
-      list[quiet] = k;
-      quiet += p < this.quietAt * m && h >= this.loudAt * m ? 1 : 0;
-    }
-    return quiet;
   }
 
   /**

@@ -44,21 +44,19 @@ export interface AngleFilterParams {
 
 /** Slots of `io`. */
 export const IO_DT = 0;
-/** Measured angle (init, update, distance2). */
+/** Measured angle (init, update). */
 export const IO_Z = 1;
 /** Its variance; for init, the starting angle variance. */
 export const IO_R = 2;
-/** Output of distance2: squared innovation over its variance. */
-export const IO_D2 = 3;
 /** Starting rate standard deviation (init). */
-export const IO_RATE_SIGMA = 4;
+export const IO_RATE_SIGMA = 3;
 /** predict: 1 to leave out the fly-by allowance (another track is near: its rate is what tells them apart). */
-export const IO_HOLD_RATE = 5;
+export const IO_HOLD_RATE = 4;
 
 export class AngleFilterBank {
   readonly angle: Float64Array;
   readonly rate: Float64Array;
-  readonly io = new Float64Array(6);
+  readonly io = new Float64Array(5);
   private readonly p00: Float64Array;
   private readonly p01: Float64Array;
   private readonly p11: Float64Array;
@@ -171,14 +169,6 @@ export class AngleFilterBank {
   /** The angle variance of a slot (degrees squared). */
   variance(slot: number): number {
     return this.p00[slot]!;
-  }
-
-  /** io[IO_D2] = squared innovation of io[IO_Z] (variance io[IO_R]) over its variance. */
-  distance2(slot: number): void {
-    const io = this.io;
-    let nu = io[IO_Z]! - this.angle[slot]!;
-    if (this.circle) nu = wrapDeg(nu);
-    io[IO_D2] = (nu * nu) / (this.p00[slot]! + io[IO_R]!);
   }
 
   /** Fold in the measurement io[IO_Z] of variance io[IO_R]. */

@@ -45,7 +45,7 @@
 import { RuntimeFailure } from '../util/errors.js';
 import { foldedOffsetDeg } from '../geometry/array-mirror.js';
 import type { EventRecord } from '../records/record-types.js';
-import { AngleFilterBank, IO_D2, IO_DT, IO_HOLD_RATE, IO_R, IO_RATE_SIGMA, IO_Z } from './angle-filter.js';
+import { AngleFilterBank, IO_DT, IO_HOLD_RATE, IO_R, IO_RATE_SIGMA, IO_Z } from './angle-filter.js';
 import { NearestNeighbourAssigner } from './assignment.js';
 import { DirectionSums } from './direction-sums.js';
 import { EventCutter } from './event-cutter.js';
@@ -456,16 +456,27 @@ export class Tracker {
   private gate(s: number, j: number, elevationRule = true): boolean {
     const both = this.loadMeasurement(s, j);
     if (elevationRule && both && this.flat && this.farInElevation(j, this.restEl[s]!)) return false;
-    this.az.distance2(s);
-    let d2 = this.az.io[IO_D2]!;
+    return this.gateAt(j, this.az.angle[s]!, this.az.variance(s), this.el.angle[s]!, this.el.variance(s), both && !this.flat);
+  }
+
+  /**
+   * The gate and cost of gate() for candidate j (its measurement loaded by loadMeasurement)
+   * against a track state: azimuth and its variance, elevation and its variance (taking part when
+   * withEl).
+   */
+  private gateAt(j: number, az: number, azVar: number, el: number, elVar: number, withEl: boolean): boolean {
+    let nu = this.sc.candAz[j]! - az;
+    if (this.sideDeg === null) nu = wrapDeg(nu);
+    const sAz = azVar + this.az.io[IO_R]!;
+    let d2 = (nu * nu) / sAz;
     let g = this.gate2;
-    let logS = Math.log(this.az.variance(s) + this.az.io[IO_R]!);
-    const withEl = both && !this.flat;
+    let logS = Math.log(sAz);
     if (withEl) {
-      this.el.distance2(s);
-      d2 += this.el.io[IO_D2]!;
+      const dEl = this.sc.candEl[j]! - el;
+      const sEl = elVar + this.el.io[IO_R]!;
+      d2 += (dEl * dEl) / sEl;
       g *= 2;
-      logS += Math.log(this.el.variance(s) + this.el.io[IO_R]!);
+      logS += Math.log(sEl);
     }
     this.d2[0] = d2 - g + logS - (withEl ? 2 : 1) * this.logSMax;
     return d2 <= g;
@@ -494,22 +505,8 @@ export class Tracker {
     if (both && this.flat && this.farInElevation(j, this.restEl[s]!)) return false;
     const grow = REST_DRIFT_DEG_S * idle;
     const cap = this.options.maxUncertaintyDeg * this.options.maxUncertaintyDeg;
-    let nu = this.sc.candAz[j]! - this.restAz[s]!;
-    if (this.sideDeg === null) nu = wrapDeg(nu);
-    const sAz = Math.min(this.restAzVar[s]! + grow * grow, cap) + this.az.io[IO_R]!;
-    let d2 = (nu * nu) / sAz;
-    let g = this.gate2;
-    let logS = Math.log(sAz);
     const withEl = both && !this.flat && this.restEl[s] === this.restEl[s];
-    if (withEl) {
-      const dEl = this.sc.candEl[j]! - this.restEl[s]!;
-      const sEl = Math.min(this.restElVar[s]! + grow * grow, cap) + this.el.io[IO_R]!;
-      d2 += (dEl * dEl) / sEl;
-      g *= 2;
-      logS += Math.log(sEl);
-    }
-    this.d2[0] = d2 - g + logS - (withEl ? 2 : 1) * this.logSMax;
-    return d2 <= g;
+    return this.gateAt(j, this.restAz[s]!, Math.min(this.restAzVar[s]! + grow * grow, cap), this.restEl[s]!, Math.min(this.restElVar[s]! + grow * grow, cap), withEl);
   }
 
   /** On a flat array: is candidate j's elevation beyond FLAT_ELEVATION_GATE_DEG of elevation ref (false when either is missing)? */
