@@ -6,14 +6,28 @@ import { GccKernels } from '../dsp/gcc-kernels.js';
 import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow } from '../dsp/window.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
+import { wrapDeg } from '../geometry/vec3.js';
 import type { ResolvedAnalysis } from './analysis-options.js';
 import { BandFusion, MIN_SUPPORT, type FusionResult } from './band-fusion.js';
+import { BinDirections } from './bin-directions.js';
 import { confidenceOf, type ConfidenceFeatures } from './confidence.js';
 
 /** Candidates whose pair lags all differ by less than this (samples) are one peak. */
 const SAME_PEAK_LAGS = 1.5;
 /** A further source must reach this share of the winner's fused score. */
 const SOURCE_RATIO = 0.25;
+/**
+ * A peak of the bin directions (./bin-directions.ts) this many degrees of azimuth from every
+ * source the band fusion reported is a further source (a caller heard with a louder one) ...
+ */
+const BIN_SOURCE_APART_DEG = 15;
+/**
+ * ... and a further source of the fusion with a bin peak this near is read at the peak (its lags
+ * were bent by the louder caller's bands) when at least BIN_CORRECT_LOW_SHARE of its band support
+ * lies below the bins' aliasing limit (above it the bins hear only a blend of what sounds there).
+ */
+const BIN_CORRECT_DEG = 25;
+const BIN_CORRECT_LOW_SHARE = 0.5;
 /**
  * The geometry check compares the answer's delays with each pair's own peaks: the strongest
  * OWN_PEAKS, those at least OWN_PEAK_SHARE of the best one's height (a call above the array's
@@ -111,7 +125,8 @@ export interface HopResult {
  * onset-weighted memory and one inverse FFT weighted by band evidence; candidates from the
  * direction model; evidence-weighted band fusion over the candidates (./band-fusion.ts);
  * sub-sample refinement of the winners' lags on the bands that support them; direction from
- * the lags; calibrated confidence (./confidence.ts).
+ * the lags; further callers from the directions of single bins below the aliasing limit
+ * (./bin-directions.ts); calibrated confidence (./confidence.ts).
  */
 export class HopAnalyzer {
   readonly frame: number;
@@ -170,6 +185,12 @@ export class HopAnalyzer {
   /** Per band: log2(1 + its bin count): a wider band holds more independent evidence, but far less than in proportion (a wide-band interferer must not outweigh a call in several narrower bands). */
   private readonly bandWidthWeight: Float64Array;
   private readonly fusion: BandFusion;
+  /** Directions per bin below the pairs' aliasing limits (null when no bin qualifies). */
+  private readonly binDirections: BinDirections | null;
+  /** Per reported source: the share of its band support below the bin directions' top frequency. */
+  private readonly lowSupport: Float64Array;
+  /** The bin directions' top frequency, Hz. */
+  private readonly binTopHz: number;
   private readonly selection: Float64Array;
   private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0, evidence: 0, apertureWaves: 0, onset: 0, fresh: 0 };
   /** The array's largest delay, seconds (the widest pair's search limit without margin). */
@@ -280,6 +301,10 @@ export class HopAnalyzer {
     this.snrMem = new Float64Array(options.bands);
     this.bandWidthWeight = Float64Array.from({ length: options.bands }, (_, b) => Math.log2(1 + this.bands.end[b]! - this.bands.start[b]!));
     this.fusion = new BandFusion(options.bands, candidates);
+    const binDirections = new BinDirections(model, n, layout.firstBin, layout.endBin);
+    this.binDirections = binDirections.active ? binDirections : null;
+    this.binTopHz = (binDirections.endBin / n) * sampleRate;
+    this.lowSupport = new Float64Array(options.maxSources);
     this.selection = new Float64Array(candidates);
     this.prevLags = new Float64Array(P);
     let widest = 0;
@@ -709,6 +734,7 @@ export class HopAnalyzer {
       else if (P === 1) this.refined[0] = refineLag(this.correlators[0]!, this.bands, this.useBand, this.candLags[c]!);
       else refineLagLanes(this.correlators, this.bands, this.useBand, this.candLags, c * P, this.refined, this.refineScratch, this.refineActive);
       if (!this.model.solve(this.refined, 0, this.dir)) continue;
+      this.lowSupport[res.sourceCount] = this.lowShare(support);
       const src = res.sources[res.sourceCount]!;
       src.azimuthDeg = this.dir.azimuthDeg;
       src.elevationDeg = this.dir.elevationDeg;
@@ -725,10 +751,55 @@ export class HopAnalyzer {
     // source). Otherwise the memory would carry the last call's direction through silence; a
     // hop where nothing sounds has confidence 0.
     const sounding = res.snrDb >= opts.detectSnrDb || res.freshZ >= FRESH_Z;
+    if (sounding && res.sourceCount > 0 && this.binDirections !== null) this.addBinSources(res, this.binDirections, winFused);
     if (!sounding) res.confidence = 0;
     res.valid = res.sourceCount > 0 && sounding && res.confidence >= opts.minConfidence;
     this.prevValid = res.sourceCount > 0;
     if (this.prevValid) for (let p = 0; p < P; p++) this.prevLags[p] = res.tdoaS[p]! * this.sampleRate;
+  }
+
+  /**
+   * The callers the bins hear apart (./bin-directions.ts), from the peaks that hold at least
+   * SOURCE_RATIO of the winner's fused evidence: a further source of the fusion supported mostly
+   * below the bins' top frequency is read at the nearest peak within BIN_CORRECT_DEG (not the
+   * winner's); a peak BIN_SOURCE_APART_DEG from every source is a further source, scored like the
+   * fusion's (its evidence over the winner's). The winner keeps the fusion's answer.
+   */
+  private addBinSources(res: HopResult, bins: BinDirections, winFused: number): void {
+    const count = bins.analyse(this.correlators, this.weightAcc, this.binScale);
+    const winner = res.sources[0]!;
+    // Peaks count in the fusion's units (evidence): one must hold what a further source of the fusion needs.
+    let usable = 0;
+    while (usable < count && bins.peakMass[usable]! >= SOURCE_RATIO * winFused) usable++;
+    if (usable === 0) return;
+    for (let i = 1; i < res.sourceCount; i++) {
+      if (this.lowSupport[i]! < BIN_CORRECT_LOW_SHARE) continue;
+      const src = res.sources[i]!;
+      let best = -1;
+      let bestD = BIN_CORRECT_DEG;
+      for (let j = 0; j < usable; j++) {
+        const az = bins.peakAz[j]!;
+        if (Math.abs(wrapDeg(az - winner.azimuthDeg)) <= BIN_SOURCE_APART_DEG) continue;
+        const d = Math.abs(wrapDeg(az - src.azimuthDeg));
+        if (d < bestD) {
+          bestD = d;
+          best = j;
+        }
+      }
+      if (best < 0) continue;
+      src.azimuthDeg = bins.peakAz[best]!;
+      if (src.elevationDeg !== null && bins.peakEl[best] === bins.peakEl[best]) src.elevationDeg = bins.peakEl[best]!;
+    }
+    for (let j = 0; j < usable && res.sourceCount < this.options.maxSources; j++) {
+      const az = bins.peakAz[j]!;
+      let apart = true;
+      for (let i = 0; i < res.sourceCount && apart; i++) apart = Math.abs(wrapDeg(az - res.sources[i]!.azimuthDeg)) > BIN_SOURCE_APART_DEG;
+      if (!apart) continue;
+      const src = res.sources[res.sourceCount++]!;
+      src.azimuthDeg = az;
+      src.elevationDeg = winner.elevationDeg === null || bins.peakEl[j] !== bins.peakEl[j] ? null : bins.peakEl[j]!;
+      src.score = Math.min(1, bins.peakMass[j]! / winFused);
+    }
   }
 
   /** Normalised band coherence: s[b, c] = sum over pairs of Re(A e^{j w tau}) / (pairs * band weight). */
@@ -813,6 +884,16 @@ export class HopAnalyzer {
       }
     }
     return sup;
+  }
+
+  /** The share of a candidate's band support (supportOf, just computed) in bands centred below the bin directions' top frequency. */
+  private lowShare(support: BandSupport): number {
+    if (!(support.weightSum > 0)) return 0;
+    let low = 0;
+    for (let b = support.first; b <= support.last; b++) {
+      if (this.useBand[b] === 1 && Math.sqrt(this.bands.loHz[b]! * this.bands.hiHz[b]!) < this.binTopHz) low += this.fusion.result.supportWeight[b]!;
+    }
+    return low / support.weightSum;
   }
 
   /** The hop's answer (the first candidate with a direction): its confidence features, confidence, delays and band range. */

@@ -28,6 +28,16 @@ export interface DirectionModel {
   findCandidates(correlators: readonly PairCorrelator[], maxCount: number, lagsOut: Float64Array, scoresOut: Float64Array): number;
   /** Direction from per-pair lags (samples); returns false when the lags fit no direction. */
   solve(lags: Float64Array, offset: number, out: Direction): boolean;
+  /**
+   * Physical lag limit of each pair, samples (spacing / c x rate). A frequency bin k of an
+   * n-sample frame gives a pair's delay from its phase alone while the limit is below n / (2k).
+   */
+  readonly lagLimit: Float64Array;
+  /**
+   * Direction from the lags of the pairs marked 1 in `use` only (the others' lags are not read);
+   * false when those pairs do not span the array's directions or the lags fit none.
+   */
+  solvePartial(lags: Float64Array, use: Uint8Array, out: Direction): boolean;
 }
 
 /**

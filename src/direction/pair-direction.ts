@@ -30,6 +30,7 @@ export class PairDirectionModel implements DirectionModel {
   readonly pairs: readonly MicPair[] = [[0, 1]];
   readonly curvePairs = Int32Array.of(0);
   readonly maxLag: Int32Array;
+  readonly lagLimit: Float64Array;
   readonly mirror: ArrayMirror;
   private readonly spacing: number;
   /** Unit vector from mic 0 to mic 1. */
@@ -50,6 +51,7 @@ export class PairDirectionModel implements DirectionModel {
     this.axis = [axis[0] / this.spacing, axis[1] / this.spacing, axis[2] / this.spacing];
     this.mirror = mirrorOfLine(this.axis, geometry.name);
     this.maxLag = Int32Array.of(searchLagLimit(this.spacing, sampleRate, speedOfSound, lagMargin));
+    this.lagLimit = Float64Array.of((this.spacing / speedOfSound) * sampleRate);
     checkLagFitsFrame(this.maxLag, frame);
   }
 
@@ -70,5 +72,9 @@ export class PairDirectionModel implements DirectionModel {
     out.azimuthDeg = coneAzimuthDeg(cosAngle, this.axis, this.mirror);
     out.elevationDeg = null;
     return true;
+  }
+
+  solvePartial(lags: Float64Array, use: Uint8Array, out: Direction): boolean {
+    return use[0] === 1 && this.solve(lags, 0, out);
   }
 }

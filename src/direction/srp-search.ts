@@ -6,7 +6,7 @@ import { arrayShape, type ArrayShape } from '../geometry/array-shape.js';
 import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
 import { coneAzimuthDeg } from './cone.js';
 import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
-import { invertMatrix } from '../util/matrix.js';
+import { invertMatrix, solveSmallInPlace } from '../util/matrix.js';
 
 /** Smallest automatic grid step (degrees): finer grids cost time and the refinement recovers the rest. */
 const MIN_AUTO_STEP_DEG = 2.5;
@@ -28,6 +28,7 @@ export interface SearchGrid {
 export class SrpDirectionModel implements DirectionModel {
   readonly pairs: readonly MicPair[];
   readonly maxLag: Int32Array;
+  readonly lagLimit: Float64Array;
   readonly mirror: ArrayMirror | null;
   readonly shape: ArrayShape;
   /** The pairs whose correlations the search reads (ascending; all of them unless SearchGrid.pairs says fewer). */
@@ -68,6 +69,9 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly found: Int32Array;
   private readonly lsInverseFlat: Float64Array;
   private readonly lsRhs: Float64Array;
+  /** solvePartial's normal equations (d x d), and the fitted coefficients. */
+  private readonly lsGram: Float64Array;
+  private readonly lsCoef: Float64Array;
   /** Pair baselines projected on the subspace basis, [p * d + i]. */
   private readonly baselineProj: Float64Array;
   private readonly basis: Vec3[];
@@ -86,6 +90,7 @@ export class SrpDirectionModel implements DirectionModel {
     const P = this.pairs.length;
     this.baselines = this.pairs.map(([a, b]) => sub(geometry.mics[a]!.position, geometry.mics[b]!.position));
     this.maxLag = Int32Array.from(this.baselines, (bl) => searchLagLimit(norm(bl), sampleRate, speedOfSound, lagMargin));
+    this.lagLimit = Float64Array.from(this.baselines, (bl) => (norm(bl) / speedOfSound) * sampleRate);
     checkLagFitsFrame(this.maxLag, frame);
     const shaped = arrayShape(geometry);
     const { shape, axis } = shaped;
@@ -186,6 +191,8 @@ export class SrpDirectionModel implements DirectionModel {
     if (inverse === null) throw new Error('array geometry is degenerate for the direction fit');
     this.lsInverseFlat = Float64Array.from(inverse);
     this.lsRhs = new Float64Array(d);
+    this.lsGram = new Float64Array(d * d);
+    this.lsCoef = new Float64Array(d);
     this.baselineProj = Float64Array.from(this.baselines.flatMap((bl) => this.basis.map((e) => dot(bl, e))));
   }
 
@@ -340,12 +347,44 @@ export class SrpDirectionModel implements DirectionModel {
       const y = (lags[offset + p]! / this.sampleRate) * this.speedOfSound;
       for (let i = 0; i < d; i++) atb[i] += proj[p * d + i]! * y;
     }
+    const coef = this.lsCoef;
+    for (let i = 0; i < d; i++) {
+      let c = 0;
+      for (let j = 0; j < d; j++) c += this.lsInverseFlat[i * d + j]! * atb[j]!;
+      coef[i] = c;
+    }
+    return this.directionOf(coef, out);
+  }
+
+  solvePartial(lags: Float64Array, use: Uint8Array, out: Direction): boolean {
+    // The same least squares over the used pairs' rows only.
+    const d = this.basis.length;
+    const atb = this.lsRhs;
+    const ata = this.lsGram;
+    const proj = this.baselineProj;
+    atb.fill(0);
+    ata.fill(0);
+    for (let p = 0; p < this.baselines.length; p++) {
+      if (use[p] !== 1) continue;
+      const y = (lags[p]! / this.sampleRate) * this.speedOfSound;
+      for (let i = 0; i < d; i++) {
+        const r = proj[p * d + i]!;
+        atb[i] += r * y;
+        for (let j = 0; j < d; j++) ata[i * d + j] += r * proj[p * d + j]!;
+      }
+    }
+    if (!solveSmallInPlace(ata, atb, d)) return false;
+    return this.directionOf(atb, out);
+  }
+
+  /** The direction of the fitted vector sum_i coef[i] basis[i] (its length at most 1 off a solid array). */
+  private directionOf(coef: Float64Array, out: Direction): boolean {
+    const d = this.basis.length;
     let ux = 0;
     let uy = 0;
     let uz = 0;
     for (let i = 0; i < d; i++) {
-      let c = 0;
-      for (let j = 0; j < d; j++) c += this.lsInverseFlat[i * d + j]! * atb[j]!;
+      const c = coef[i]!;
       const e = this.basis[i]!;
       ux += c * e[0];
       uy += c * e[1];

@@ -307,7 +307,12 @@ export class Tracker {
         const r = this.options.rateWanderDegS;
         this.az.holdStatic(s, this.homeVar[s]!, r * r);
         this.az.pin(s, this.homeAz[s]!);
-        if (this.hasEl[s] === 1) this.el.holdStatic(s, this.homeElVar[s]!, r * r);
+        if (this.hasEl[s] === 1) {
+          this.el.holdStatic(s, this.homeElVar[s]!, r * r);
+          // Its elevation too: left to coast, it ran on at the rate a passer's call near the home
+          // gave it (a chorus at -6 degrees was predicted at 35 and missed its own next call).
+          if (this.homeEl[s] === this.homeEl[s]) this.el.pin(s, this.homeEl[s]!);
+        }
       }
     }
 

@@ -1,0 +1,195 @@
+/**
+ * Directions per frequency bin: callers that sound at once, heard apart where their spectra do.
+ *
+ * The band fusion (./band-fusion.ts) decides between the direction search's candidates band by
+ * band. A quieter caller whose call shares its bands with a louder one is then not heard: the
+ * louder caller wins every band (it also fills the few bins of a tonal call's band), and a
+ * caller that is a candidate at all has its lags refined on bands the louder one fills, which
+ * bends it towards the louder one (a chorus at -67 degrees read at -45 while a second chorus at
+ * 13 called). Bins are far narrower: two calls rarely fill the same bin at once (the
+ * time-frequency sparsity that source separation by bin masks relies on, common practice;
+ * e.g. Yilmaz and Rickard 2004, DUET). So every bin low enough that a pair's delay follows
+ * from its phase alone (no spatial aliasing: the pair's lag limit below n / 2k samples) gives a
+ * direction of its own, fitted by least squares over the pairs that qualify; the bins' evidence
+ * (the band's evidence shared by weight, times the squared coherence of the bin over the
+ * pairs: a bin two callers fill at once has a smeared phase) is summed into an azimuth
+ * histogram, whose peaks are directions the hop holds.
+ *
+ * Above every pair's aliasing limit (a 20 cm square: 770 Hz; a 10 cm one: 1.5 kHz) there is no
+ * bin direction and the band fusion alone speaks.
+ *
+ * Pure: arrays in, numbers out; no allocation per hop.
+ */
+import type { PairCorrelator } from '../dsp/gcc.js';
+import type { Direction, DirectionModel } from '../direction/direction-model.js';
+import { wrapDeg as wrap } from '../geometry/vec3.js';
+
+/** A pair's lag limit must be below this share of n / 2k for bin k to read its delay from the phase. */
+const UNALIASED_SHARE = 0.9;
+/** Azimuth histogram step, degrees. */
+const HIST_STEP_DEG = 4;
+const HIST_SIZE = 360 / HIST_STEP_DEG;
+/** A peak's direction is the evidence-weighted mean of the bins within this many degrees of it. */
+const PEAK_HALF_WIDTH_DEG = 8;
+/** Most peaks kept per hop. */
+export const MAX_BIN_PEAKS = 4;
+/** A peak holds at least this share of the hop's bin evidence (fewer: stray bins). */
+const PEAK_MIN_SHARE = 0.15;
+
+export class BinDirections {
+  /** Whether any bin qualifies (at least one set of unaliased pairs spans the array's directions). */
+  readonly active: boolean;
+  /** This hop's peaks, best first: azimuth, elevation (NaN when the array gives none), evidence. */
+  readonly peakAz = new Float64Array(MAX_BIN_PEAKS);
+  readonly peakEl = new Float64Array(MAX_BIN_PEAKS);
+  readonly peakMass = new Float64Array(MAX_BIN_PEAKS);
+  peakCount = 0;
+  /** Sum of the evidence of the bins that gave a direction this hop. */
+  totalMass = 0;
+  /** One past the highest bin that gives a direction. */
+  readonly endBin: number;
+  private readonly P: number;
+  private readonly k0: number;
+  private readonly k1: number;
+  /** Per bin (from k0): index into masks of the pairs it reads, -1 when none span. */
+  private readonly maskOf: Int32Array;
+  private readonly masks: Uint8Array[];
+  private readonly lags: Float64Array;
+  private readonly binAz: Float64Array;
+  private readonly binEl: Float64Array;
+  private readonly binMass: Float64Array;
+  private readonly hist = new Float64Array(HIST_SIZE);
+  private readonly smooth = new Float64Array(HIST_SIZE);
+  private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
+
+  constructor(
+    private readonly model: DirectionModel,
+    private readonly n: number,
+    firstBin: number,
+    endBin: number,
+  ) {
+    const P = (this.P = model.pairs.length);
+    this.k0 = Math.max(1, firstBin);
+    this.lags = new Float64Array(P);
+    const keys = new Map<string, number>();
+    this.masks = [];
+    const maskOf: number[] = [];
+    let last = this.k0;
+    for (let k = this.k0; k < endBin; k++) {
+      const use = Uint8Array.from({ length: P }, (_, p) => (model.lagLimit[p]! < (UNALIASED_SHARE * n) / (2 * k) ? 1 : 0));
+      const key = use.join('');
+      let m = keys.get(key);
+      if (m === undefined) {
+        // Does this set of pairs span the array's directions? (Any lags that are not all zero tell.)
+        for (let p = 0; p < P; p++) this.lags[p] = 0.01 * (p + 1);
+        m = model.solvePartial(this.lags, use, this.dir) ? this.masks.push(use) - 1 : -1;
+        keys.set(key, m);
+      }
+      maskOf.push(m);
+      if (m >= 0) last = k + 1;
+    }
+    this.k1 = this.endBin = last;
+    this.maskOf = Int32Array.from(maskOf.slice(0, last - this.k0));
+    this.active = this.masks.length > 0;
+    const bins = Math.max(0, this.k1 - this.k0);
+    this.binAz = new Float64Array(bins);
+    this.binEl = new Float64Array(bins);
+    this.binMass = new Float64Array(bins);
+  }
+
+  /**
+   * This hop's bin directions and peaks, from the pair memories (correlators), the bins' weight
+   * memory and each bin's share of its band's evidence (binScale: evidence / band weight).
+   * Returns the peak count.
+   */
+  analyse(correlators: readonly PairCorrelator[], weightAcc: Float64Array, binScale: Float64Array): number {
+    this.hist.fill(0);
+    this.peakCount = 0;
+    let total = 0;
+    const n = this.n;
+    for (let k = this.k0; k < this.k1; k++) {
+      const i = k - this.k0;
+      this.binMass[i] = 0;
+      const m = this.maskOf[i]!;
+      const w = weightAcc[k]!;
+      const base = binScale[k]! * w;
+      if (m < 0 || !(base > 0)) continue;
+      const use = this.masks[m]!;
+      let coh = 0;
+      let used = 0;
+      const toLag = -n / (2 * Math.PI * k);
+      for (let p = 0; p < this.P; p++) {
+        if (use[p] !== 1) continue;
+        const re = correlators[p]!.accRe[k]!;
+        const im = correlators[p]!.accIm[k]!;
+        coh += Math.sqrt(re * re + im * im);
+        used++;
+        this.lags[p] = Math.atan2(im, re) * toLag;
+      }
+      coh /= used * w;
+      if (!(coh > 0) || !this.model.solvePartial(this.lags, use, this.dir)) continue;
+      const mass = base * Math.min(1, coh * coh);
+      const az = this.dir.azimuthDeg;
+      this.binAz[i] = az;
+      this.binEl[i] = this.dir.elevationDeg ?? NaN;
+      this.binMass[i] = mass;
+      total += mass;
+      this.hist[histIndex(az)] += mass;
+    }
+    this.totalMass = total;
+    if (!(total > 0)) return 0;
+    this.findPeaks(total);
+    return this.peakCount;
+  }
+
+  /** Local maxima of the 3-bin smoothed histogram holding PEAK_MIN_SHARE, best first, each refined on its bins. */
+  private findPeaks(total: number): void {
+    const h = this.hist;
+    const s = this.smooth;
+    for (let i = 0; i < HIST_SIZE; i++) s[i] = h[(i + HIST_SIZE - 1) % HIST_SIZE]! + h[i]! + h[(i + 1) % HIST_SIZE]!;
+    for (let i = 0; i < HIST_SIZE; i++) {
+      const v = s[i]!;
+      if (!(v >= PEAK_MIN_SHARE * total) || !(v > s[(i + HIST_SIZE - 1) % HIST_SIZE]!) || !(v >= s[(i + 1) % HIST_SIZE]!)) continue;
+      this.addPeak(-180 + (i + 0.5) * HIST_STEP_DEG);
+    }
+  }
+
+  /** The evidence-weighted mean direction of the bins near centre (degrees), inserted in order of evidence. */
+  private addPeak(centre: number): void {
+    let mass = 0;
+    let off = 0;
+    let elSum = 0;
+    let elMass = 0;
+    for (let i = 0; i < this.binMass.length; i++) {
+      const m = this.binMass[i]!;
+      if (!(m > 0)) continue;
+      const d = wrap(this.binAz[i]! - centre);
+      if (Math.abs(d) > PEAK_HALF_WIDTH_DEG) continue;
+      mass += m;
+      off += m * d;
+      const el = this.binEl[i]!;
+      if (el === el) {
+        elSum += m * el;
+        elMass += m;
+      }
+    }
+    if (!(mass > 0)) return;
+    let pos = Math.min(this.peakCount, MAX_BIN_PEAKS - 1);
+    if (this.peakCount === MAX_BIN_PEAKS && !(mass > this.peakMass[pos]!)) return;
+    while (pos > 0 && this.peakMass[pos - 1]! < mass) {
+      this.peakAz[pos] = this.peakAz[pos - 1]!;
+      this.peakEl[pos] = this.peakEl[pos - 1]!;
+      this.peakMass[pos] = this.peakMass[pos - 1]!;
+      pos--;
+    }
+    this.peakAz[pos] = wrap(centre + off / mass);
+    this.peakEl[pos] = elMass > 0 ? elSum / elMass : NaN;
+    this.peakMass[pos] = mass;
+    if (this.peakCount < MAX_BIN_PEAKS) this.peakCount++;
+  }
+}
+
+function histIndex(az: number): number {
+  const i = Math.floor((wrap(az) + 180) / HIST_STEP_DEG);
+  return i >= HIST_SIZE ? HIST_SIZE - 1 : i < 0 ? 0 : i;
+}
