@@ -22,6 +22,13 @@ const SOURCE_RATIO = 0.25;
  */
 const BIN_SOURCE_APART_DEG = 15;
 /**
+ * ... when it holds this share of the winner's own bin peak (of its fused evidence when the bins
+ * do not hear the winner). Chosen on the motion matrix: a further source of the fusion needs
+ * only SOURCE_RATIO, but at that share of the fused evidence 2027's draw kept 10 tracks holding
+ * two sources; at 0.5 and 0.65 of the winner's peak 7 (0.65 lost more quiet callers).
+ */
+const BIN_SOURCE_RATIO = 0.5;
+/**
  * ... and a further source of the fusion with a bin peak this near is read at the peak (its lags
  * were bent by the louder caller's bands) when at least BIN_CORRECT_LOW_SHARE of its band support
  * lies below the bins' aliasing limit (above it the bins hear only a blend of what sounds there).
@@ -762,8 +769,8 @@ export class HopAnalyzer {
    * The callers the bins hear apart (./bin-directions.ts), from the peaks that hold at least
    * SOURCE_RATIO of the winner's fused evidence: a further source of the fusion supported mostly
    * below the bins' top frequency is read at the nearest peak within BIN_CORRECT_DEG (not the
-   * winner's); a peak BIN_SOURCE_APART_DEG from every source is a further source, scored like the
-   * fusion's (its evidence over the winner's). The winner keeps the fusion's answer.
+   * winner's); a peak BIN_SOURCE_APART_DEG from every source holding BIN_SOURCE_RATIO of the
+   * winner's is a further source, scored by that ratio. The winner keeps the fusion's answer.
    */
   private addBinSources(res: HopResult, bins: BinDirections, winFused: number): void {
     const count = bins.analyse(this.correlators, this.weightAcc, this.binScale);
@@ -790,15 +797,23 @@ export class HopAnalyzer {
       src.azimuthDeg = bins.peakAz[best]!;
       if (src.elevationDeg !== null && bins.peakEl[best] === bins.peakEl[best]) src.elevationDeg = bins.peakEl[best]!;
     }
+    // A caller the fusion did not report is weighed against the winner's own bin peak (the same
+    // measure), or its fused evidence when the bins do not hear the winner.
+    let ref = 0;
+    for (let j = 0; j < usable; j++) {
+      if (Math.abs(wrapDeg(bins.peakAz[j]! - winner.azimuthDeg)) <= BIN_SOURCE_APART_DEG) ref = Math.max(ref, bins.peakMass[j]!);
+    }
+    if (ref === 0) ref = winFused;
     for (let j = 0; j < usable && res.sourceCount < this.options.maxSources; j++) {
       const az = bins.peakAz[j]!;
+      if (bins.peakMass[j]! < BIN_SOURCE_RATIO * ref) continue;
       let apart = true;
       for (let i = 0; i < res.sourceCount && apart; i++) apart = Math.abs(wrapDeg(az - res.sources[i]!.azimuthDeg)) > BIN_SOURCE_APART_DEG;
       if (!apart) continue;
       const src = res.sources[res.sourceCount++]!;
       src.azimuthDeg = az;
       src.elevationDeg = winner.elevationDeg === null || bins.peakEl[j] !== bins.peakEl[j] ? null : bins.peakEl[j]!;
-      src.score = Math.min(1, bins.peakMass[j]! / winFused);
+      src.score = Math.min(1, bins.peakMass[j]! / ref);
     }
   }
 
