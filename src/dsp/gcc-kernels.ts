@@ -200,7 +200,9 @@ export class GccKernels {
    * OnsetWeigher.update (./onset.ts) after its first hop: the background, noise floor and
    * smoothed power per bin updated, the weights written; returns the onset strength. `q` holds
    * [invRise, invPresence, floor, 1 - floor, backgroundDecay, 1 - backgroundDecay, floorRise,
-   * quietAt, loudAt, heldDecay]. With `held` (null: no quiet search), the same pass also finds
+   * quietAt, loudAt, heldDecay, bgSum, bgSumKnown]: bgSum is the sum of `bg` over [k0, k1), added bin by
+   * bin in order, carried from the last call (which writes it, and bgSumKnown = 1) so that the
+   * call need not add up `bg` before its pass; with bgSumKnown = 0 it does. With `held` (null: no quiet search), the same pass also finds
    * the bins that sound has left: the held powers updated, the bins written into `out` in order
    * and their number into count[0].
    */

@@ -310,7 +310,10 @@
   ;; the onset strength. With $held (0: none) the same pass finds the bins that sound has left, against
   ;; the noise floor just written: h = held[k] * heldDecay, held[k] = max(power[k], h); out[n] = k and
   ;; n += (power[k] < quietAt * nf[k]) & (h >= loudAt * nf[k]) (each bin's index written, kept in
-  ;; order); n is stored at $count.
+  ;; order); n is stored at $count. q[10] carries the sum of bg over [k0, k1) as this pass leaves it,
+  ;; added bin by bin in order while bg is written (the next call's `tiny` sum: the same numbers in the
+  ;; same order as a pass over bg at its start, which it saves), used when q[11] is not 0 (set here, and by
+  ;; the caller's first hop, which sets bg itself; the caller clears it when the bins change).
   (func (export "onset_update") (param $power i32) (param $bg i32) (param $nf i32) (param $sm i32) (param $w i32)
     (param $k0 i32) (param $k1 i32) (param $q i32) (param $held i32) (param $out i32) (param $count i32) (result f64)
     (local $a i32) (local $bits i32) (local $cnt i32) (local $nn v128) (local $vh v128) (local $qa v128) (local $la v128) (local $dec v128)
@@ -318,17 +321,21 @@
     (local $k i32) (local $o i32) (local $tiny f64) (local $rising f64) (local $total f64) (local $x f64)
     (local $vt v128) (local $invRise v128) (local $invPres v128) (local $floor v128) (local $omf v128) (local $d v128) (local $omd v128) (local $fr v128)
     (local $p v128) (local $b v128) (local $y v128) (local $rise v128) (local $s v128) (local $n v128) (local $z v128) (local $pres v128) (local $rp v128)
-    (local $one v128) (local $half v128)
+    (local $one v128) (local $half v128) (local $nb v128) (local $next f64)
     (local $sp f64) (local $sb f64) (local $sy f64) (local $srise f64) (local $ss f64) (local $sn f64) (local $sz f64) (local $spres f64)
     ;; tiny = (sum of bg over the bins / max(1, count)) * 1e-6 + 1e-30
-    (local.set $tiny (f64.const 0))
-    (local.set $k (local.get $k0))
-    (block $td
-      (loop $tl
-        (br_if $td (i32.ge_s (local.get $k) (local.get $k1)))
-        (local.set $tiny (f64.add (local.get $tiny) (f64.load (i32.add (local.get $bg) (i32.shl (local.get $k) (i32.const 3))))))
-        (local.set $k (i32.add (local.get $k) (i32.const 1)))
-        (br $tl)))
+    (if (f64.ne (f64.load offset=88 (local.get $q)) (f64.const 0))
+      (then (local.set $tiny (f64.load offset=80 (local.get $q))))
+      (else
+        (local.set $tiny (f64.const 0))
+        (local.set $k (local.get $k0))
+        (block $td
+          (loop $tl
+            (br_if $td (i32.ge_s (local.get $k) (local.get $k1)))
+            (local.set $tiny (f64.add (local.get $tiny) (f64.load (i32.add (local.get $bg) (i32.shl (local.get $k) (i32.const 3))))))
+            (local.set $k (i32.add (local.get $k) (i32.const 1)))
+            (br $tl)))))
+    (local.set $next (f64.const 0))
     (local.set $tiny (f64.add (f64.mul (f64.div (local.get $tiny)
       (f64.convert_i32_s (select (i32.sub (local.get $k1) (local.get $k0)) (i32.const 1) (i32.gt_s (i32.sub (local.get $k1) (local.get $k0)) (i32.const 1)))))
       (f64.const 1e-6)) (f64.const 1e-30)))
@@ -388,8 +395,9 @@
         (local.set $rp (f64x2.mul (local.get $rise) (local.get $p)))
         (local.set $rising (f64.add (f64.add (local.get $rising) (f64x2.extract_lane 0 (local.get $rp))) (f64x2.extract_lane 1 (local.get $rp))))
         (local.set $total (f64.add (f64.add (local.get $total) (f64x2.extract_lane 0 (local.get $p))) (f64x2.extract_lane 1 (local.get $p))))
-        (v128.store (i32.add (local.get $bg) (local.get $o))
-          (f64x2.add (f64x2.mul (local.get $d) (local.get $b)) (f64x2.mul (local.get $omd) (local.get $p))))
+        (local.set $nb (f64x2.add (f64x2.mul (local.get $d) (local.get $b)) (f64x2.mul (local.get $omd) (local.get $p))))
+        (v128.store (i32.add (local.get $bg) (local.get $o)) (local.get $nb))
+        (local.set $next (f64.add (f64.add (local.get $next) (f64x2.extract_lane 0 (local.get $nb))) (f64x2.extract_lane 1 (local.get $nb))))
         (local.set $k (i32.add (local.get $k) (i32.const 2)))
         (br $two)))
     (if (i32.lt_s (local.get $k) (local.get $k1))
@@ -421,8 +429,11 @@
           (f64.mul (f64.add (f64.load offset=16 (local.get $q)) (f64.mul (f64.load offset=24 (local.get $q)) (local.get $srise))) (local.get $spres)))
         (local.set $rising (f64.add (local.get $rising) (f64.mul (local.get $srise) (local.get $sp))))
         (local.set $total (f64.add (local.get $total) (local.get $sp)))
-        (f64.store (i32.add (local.get $bg) (local.get $o))
-          (f64.add (f64.mul (f64.load offset=32 (local.get $q)) (local.get $sb)) (f64.mul (f64.load offset=40 (local.get $q)) (local.get $sp))))))
+        (local.set $sb (f64.add (f64.mul (f64.load offset=32 (local.get $q)) (local.get $sb)) (f64.mul (f64.load offset=40 (local.get $q)) (local.get $sp))))
+        (f64.store (i32.add (local.get $bg) (local.get $o)) (local.get $sb))
+        (local.set $next (f64.add (local.get $next) (local.get $sb)))))
+    (f64.store offset=80 (local.get $q) (local.get $next))
+    (f64.store offset=88 (local.get $q) (f64.const 1))
     (if (local.get $held) (then (i32.store (local.get $count) (local.get $cnt))))
     (if (result f64) (f64.gt (local.get $total) (f64.const 0))
       (then (f64.div (local.get $rising) (local.get $total)))

@@ -70,6 +70,8 @@ export class OnsetWeigher {
   private readonly kernelSettings: Float64Array | null;
   /** Where the WebAssembly kernel writes quietCount (null on the JavaScript path). */
   private readonly kernelCount: Int32Array | null;
+  /** The bins [first, end) of the kernel's carried background sum (kernelSettings[10]). */
+  private readonly carriedBins = new Int32Array(2);
 
   /**
    * `kernels`: update() after the first hop runs in WebAssembly (../dsp/gcc-kernels.ts, the same
@@ -93,8 +95,9 @@ export class OnsetWeigher {
     this.heldDecay = quiet ? quiet.heldDecay : 0;
     this.invRise = 1 / (Math.max(1.0001, settings.fullRise) - 1);
     this.invPresence = 1 / (Math.max(1.0001, settings.fullPresence) - 1);
-    this.kernelSettings = kernels ? kernels.f64(10) : null;
-    this.kernelSettings?.set([this.invRise, this.invPresence, settings.floor, 1 - settings.floor, settings.backgroundDecay, 1 - settings.backgroundDecay, settings.floorRise, this.quietAt, this.loudAt, this.heldDecay]);
+    // [10]: the sum of the background over the bins as the last hop left it, [11]: whether it is known.
+    this.kernelSettings = kernels ? kernels.f64(12) : null;
+    this.kernelSettings?.set([this.invRise, this.invPresence, settings.floor, 1 - settings.floor, settings.backgroundDecay, 1 - settings.backgroundDecay, settings.floorRise, this.quietAt, this.loudAt, this.heldDecay, 0, 0]);
     this.kernelCount = kernels ? kernels.i32(1) : null;
   }
 
@@ -129,11 +132,27 @@ export class OnsetWeigher {
       }
       // The quiet search's held powers start at this hop's; no bin can have been left yet.
       if (searching) held.set(power.subarray(first, end), first);
+      const ks = this.kernelSettings;
+      if (ks) {
+        // The kernel's carried sum of the background (bin by bin, in order, as its own pass would add it).
+        let sum = 0;
+        for (let k = first; k < end; k++) sum += bg[k]!;
+        ks[10] = sum;
+        ks[11] = 1;
+        this.carriedBins[0] = first;
+        this.carriedBins[1] = end;
+      }
       this.primed = true;
       this.quietCount = 0;
       return 0;
     }
     if (this.kernels) {
+      // The carried sum holds for the bins it was taken over only.
+      if (first !== this.carriedBins[0] || end !== this.carriedBins[1]) {
+        this.kernelSettings![11] = 0;
+        this.carriedBins[0] = first;
+        this.carriedBins[1] = end;
+      }
       const onset = this.kernels.onsetUpdate(power, bg, nf, sm, weights, first, end, this.kernelSettings!, searching ? held : null, this.quietList, this.kernelCount!);
       this.quietCount = searching ? this.kernelCount![0]! : 0;
       return onset;

@@ -99,6 +99,24 @@ describe('WebAssembly GCC kernels give the JavaScript kernels results bit for bi
     expect(rising).toBeGreaterThan(2);
   });
 
+  // The kernel carries the sum of the background from one hop to the next instead of adding it up
+  // again: with the bins changing between hops it must add it up afresh (the same weights as the
+  // JavaScript, which always does).
+  run('onset and presence weights when the bins change between hops', () => {
+    const settings = { floor: 0.3, fullRise: 4, backgroundDecay: 0.8, floorRise: 1.002, fullPresence: 4 };
+    const js = new OnsetWeigher(bins, settings);
+    const wasm = new OnsetWeigher(bins, settings, k!);
+    const power = k!.f64(bins);
+    const [wj, ww] = [new Float64Array(bins), k!.f64(bins)];
+    const ranges = [[3, 257], [3, 257], [5, 200], [5, 200], [3, 257], [4, 257], [4, 257]] as const;
+    for (let hop = 0; hop < 28; hop++) {
+      const [k0, k1] = ranges[hop % ranges.length]!;
+      for (let i = 0; i < bins; i++) power[i] = (hop % 5 === 0 ? 20 : 1) * (1 + rand()) ** 2;
+      expect(wasm.update(power, k0, k1, ww)).toBe(js.update(power, k0, k1, wj));
+      for (let i = k0; i < k1; i++) expect(ww[i]).toBe(wj[i]);
+    }
+  });
+
   // Runs on the JavaScript path too (its check against the definition); the comparison with WebAssembly where it loads.
   it.each([[3, 257], [4, 257], [3, 256]] as const)('the bins that sound has left, found in the onset pass, over bins %i to %i', (k0, k1) => {
     // The same calls over a floor as above; after each call's 3 loud hops its bins fall back to
