@@ -26,6 +26,8 @@ import { wrapDeg as wrap } from '../geometry/vec3.js';
 
 /** A pair's lag limit must be below this share of n / 2k for bin k to read its delay from the phase. */
 const UNALIASED_SHARE = 0.9;
+/** At most this many pairs read a bin (more cost time and add little to a direction from a few bins). */
+const MAX_BIN_PAIRS = 6;
 /** Azimuth histogram step, degrees. */
 const HIST_STEP_DEG = 4;
 const HIST_SIZE = 360 / HIST_STEP_DEG;
@@ -75,8 +77,18 @@ export class BinDirections {
     this.masks = [];
     const maskOf: number[] = [];
     let last = this.k0;
+    // Longest pairs first: of those unaliased at a bin, the MAX_BIN_PAIRS longest read it (the
+    // finest delays; an 8-mic circle has 28 pairs).
+    const byLength = Array.from({ length: P }, (_, p) => p).sort((a, b) => model.lagLimit[b]! - model.lagLimit[a]!);
     for (let k = this.k0; k < endBin; k++) {
-      const use = Uint8Array.from({ length: P }, (_, p) => (model.lagLimit[p]! < (UNALIASED_SHARE * n) / (2 * k) ? 1 : 0));
+      const use = new Uint8Array(P);
+      let taken = 0;
+      for (const p of byLength) {
+        if (taken < MAX_BIN_PAIRS && model.lagLimit[p]! < (UNALIASED_SHARE * n) / (2 * k)) {
+          use[p] = 1;
+          taken++;
+        }
+      }
       const key = use.join('');
       let m = keys.get(key);
       if (m === undefined) {
