@@ -28,6 +28,12 @@ import { wrapDeg as wrap } from '../geometry/vec3.js';
 const UNALIASED_SHARE = 0.9;
 /** At most this many pairs read a bin (more cost time and add little to a direction from a few bins). */
 const MAX_BIN_PAIRS = 6;
+/**
+ * No bin above this frequency, Hz: a 5 cm circle is free of aliasing up to 4 kHz, and its 85
+ * bins cost more than the rest of the 8-mic hop's fusion; the callers the bins are for (a
+ * quieter chorus or passer under a louder one) sit below it.
+ */
+export const BIN_MAX_HZ = 2000;
 /** Azimuth histogram step, degrees. */
 const HIST_STEP_DEG = 4;
 const HIST_SIZE = 360 / HIST_STEP_DEG;
@@ -67,9 +73,11 @@ export class BinDirections {
   constructor(
     private readonly model: DirectionModel,
     private readonly n: number,
+    sampleRate: number,
     firstBin: number,
     endBin: number,
   ) {
+    endBin = Math.min(endBin, Math.ceil((BIN_MAX_HZ / sampleRate) * n));
     const P = (this.P = model.pairs.length);
     this.k0 = Math.max(1, firstBin);
     this.lags = new Float64Array(P);

@@ -310,7 +310,7 @@ export class HopAnalyzer {
     this.snrMem = new Float64Array(options.bands);
     this.bandWidthWeight = Float64Array.from({ length: options.bands }, (_, b) => Math.log2(1 + this.bands.end[b]! - this.bands.start[b]!));
     this.fusion = new BandFusion(options.bands, candidates);
-    const binDirections = new BinDirections(model, n, layout.firstBin, layout.endBin);
+    const binDirections = new BinDirections(model, n, sampleRate, layout.firstBin, layout.endBin);
     this.binDirections = binDirections.active ? binDirections : null;
     this.binTopHz = (binDirections.endBin / n) * sampleRate;
     this.lowSupport = new Float64Array(options.maxSources);
