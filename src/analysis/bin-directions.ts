@@ -33,14 +33,14 @@ const MAX_BIN_PAIRS = 6;
  * bins cost more than the rest of the 8-mic hop's fusion; the callers the bins are for (a
  * quieter chorus or passer under a louder one) sit below it.
  */
-export const BIN_MAX_HZ = 2000;
+const BIN_MAX_HZ = 2000;
 /** Azimuth histogram step, degrees. */
 const HIST_STEP_DEG = 4;
 const HIST_SIZE = 360 / HIST_STEP_DEG;
 /** A peak's direction is the evidence-weighted mean of the bins within this many degrees of it. */
 const PEAK_HALF_WIDTH_DEG = 8;
 /** Most peaks kept per hop. */
-export const MAX_BIN_PEAKS = 4;
+const MAX_BIN_PEAKS = 4;
 /** A peak holds at least this share of the hop's bin evidence (fewer: stray bins). */
 const PEAK_MIN_SHARE = 0.15;
 
