@@ -62,6 +62,8 @@ export class BinDirections {
   /** Per bin (from k0): index into masks of the pairs it reads, -1 when none span. */
   private readonly maskOf: Int32Array;
   private readonly masks: Uint8Array[];
+  /** The direction model's handle of each mask's least squares (prepareSubset). */
+  private readonly handles: number[] = [];
   private readonly lags: Float64Array;
   private readonly binAz: Float64Array;
   private readonly binEl: Float64Array;
@@ -100,9 +102,9 @@ export class BinDirections {
       const key = use.join('');
       let m = keys.get(key);
       if (m === undefined) {
-        // Does this set of pairs span the array's directions? (Any lags that are not all zero tell.)
-        for (let p = 0; p < P; p++) this.lags[p] = 0.01 * (p + 1);
-        m = model.solvePartial(this.lags, use, this.dir) ? this.masks.push(use) - 1 : -1;
+        const handle = model.prepareSubset(use);
+        m = handle < 0 ? -1 : this.masks.push(use) - 1;
+        if (m >= 0) this.handles.push(handle);
         keys.set(key, m);
       }
       maskOf.push(m);
@@ -147,7 +149,7 @@ export class BinDirections {
         this.lags[p] = Math.atan2(im, re) * toLag;
       }
       coh /= used * w;
-      if (!(coh > 0) || !this.model.solvePartial(this.lags, use, this.dir)) continue;
+      if (!(coh > 0) || !this.model.solveSubset(this.handles[m]!, this.lags, this.dir)) continue;
       const mass = base * Math.min(1, coh * coh);
       const az = this.dir.azimuthDeg;
       this.binAz[i] = az;

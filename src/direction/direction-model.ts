@@ -34,10 +34,13 @@ export interface DirectionModel {
    */
   readonly lagLimit: Float64Array;
   /**
-   * Direction from the lags of the pairs marked 1 in `use` only (the others' lags are not read);
-   * false when those pairs do not span the array's directions or the lags fit none.
+   * Prepare the least squares for the direction from the lags of the pairs marked 1 in `use`
+   * only (set-up time); returns a handle for solveSubset, or -1 when those pairs do not span the
+   * array's directions.
    */
-  solvePartial(lags: Float64Array, use: Uint8Array, out: Direction): boolean;
+  prepareSubset(use: Uint8Array): number;
+  /** Direction from the lags of a prepared subset's pairs (the others' lags are not read); false when they fit none. */
+  solveSubset(handle: number, lags: Float64Array, out: Direction): boolean;
 }
 
 /**

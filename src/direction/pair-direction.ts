@@ -74,7 +74,11 @@ export class PairDirectionModel implements DirectionModel {
     return true;
   }
 
-  solvePartial(lags: Float64Array, use: Uint8Array, out: Direction): boolean {
-    return use[0] === 1 && this.solve(lags, 0, out);
+  prepareSubset(use: Uint8Array): number {
+    return use[0] === 1 ? 0 : -1;
+  }
+
+  solveSubset(_handle: number, lags: Float64Array, out: Direction): boolean {
+    return this.solve(lags, 0, out);
   }
 }

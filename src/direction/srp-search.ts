@@ -6,7 +6,7 @@ import { arrayShape, type ArrayShape } from '../geometry/array-shape.js';
 import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
 import { coneAzimuthDeg } from './cone.js';
 import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
-import { invertMatrix, solveSmallInPlace } from '../util/matrix.js';
+import { invertMatrix } from '../util/matrix.js';
 
 /** Smallest automatic grid step (degrees): finer grids cost time and the refinement recovers the rest. */
 const MIN_AUTO_STEP_DEG = 2.5;
@@ -69,9 +69,10 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly found: Int32Array;
   private readonly lsInverseFlat: Float64Array;
   private readonly lsRhs: Float64Array;
-  /** solvePartial's normal equations (d x d), and the fitted coefficients. */
-  private readonly lsGram: Float64Array;
+  /** The fitted coefficients (scratch). */
   private readonly lsCoef: Float64Array;
+  /** Prepared subsets of pairs (prepareSubset): per subset the d x P matrix from lags to coefficients. */
+  private readonly subsets: Float64Array[] = [];
   /** Pair baselines projected on the subspace basis, [p * d + i]. */
   private readonly baselineProj: Float64Array;
   private readonly basis: Vec3[];
@@ -191,7 +192,6 @@ export class SrpDirectionModel implements DirectionModel {
     if (inverse === null) throw new Error('array geometry is degenerate for the direction fit');
     this.lsInverseFlat = Float64Array.from(inverse);
     this.lsRhs = new Float64Array(d);
-    this.lsGram = new Float64Array(d * d);
     this.lsCoef = new Float64Array(d);
     this.baselineProj = Float64Array.from(this.baselines.flatMap((bl) => this.basis.map((e) => dot(bl, e))));
   }
@@ -356,29 +356,45 @@ export class SrpDirectionModel implements DirectionModel {
     return this.directionOf(coef, out);
   }
 
-  solvePartial(lags: Float64Array, use: Uint8Array, out: Direction): boolean {
-    // The same least squares over the used pairs' rows only.
+  prepareSubset(use: Uint8Array): number {
+    // The same least squares over the used pairs' rows only, inverted once: coef = W y.
     const d = this.basis.length;
-    const atb = this.lsRhs;
-    const ata = this.lsGram;
+    const P = this.baselines.length;
     const proj = this.baselineProj;
-    atb.fill(0);
-    ata.fill(0);
-    for (let p = 0; p < this.baselines.length; p++) {
+    const ata = new Array<number>(d * d).fill(0);
+    for (let p = 0; p < P; p++) {
       if (use[p] !== 1) continue;
-      const y = (lags[p]! / this.sampleRate) * this.speedOfSound;
+      for (let i = 0; i < d; i++) for (let j = 0; j < d; j++) ata[i * d + j]! += proj[p * d + i]! * proj[p * d + j]!;
+    }
+    const inverse = invertMatrix(ata, d);
+    if (inverse === null) return -1;
+    const w = new Float64Array(d * P);
+    for (let p = 0; p < P; p++) {
+      if (use[p] !== 1) continue;
       for (let i = 0; i < d; i++) {
-        const r = proj[p * d + i]!;
-        atb[i] += r * y;
-        for (let j = 0; j < d; j++) ata[i * d + j] += r * proj[p * d + j]!;
+        let v = 0;
+        for (let j = 0; j < d; j++) v += inverse[i * d + j]! * proj[p * d + j]!;
+        w[i * P + p] = (v / this.sampleRate) * this.speedOfSound;
       }
     }
-    if (!solveSmallInPlace(ata, atb, d)) return false;
-    return this.directionOf(atb, out);
+    return this.subsets.push(w) - 1;
+  }
+
+  solveSubset(handle: number, lags: Float64Array, out: Direction): boolean {
+    const w = this.subsets[handle]!;
+    const d = this.basis.length;
+    const P = this.baselines.length;
+    const coef = this.lsCoef;
+    for (let i = 0; i < d; i++) {
+      let c = 0;
+      for (let p = 0; p < P; p++) c += w[i * P + p]! * lags[p]!;
+      coef[i] = c;
+    }
+    return this.directionOf(coef, out, true);
   }
 
   /** The direction of the fitted vector sum_i coef[i] basis[i] (its length at most 1 off a solid array). */
-  private directionOf(coef: Float64Array, out: Direction): boolean {
+  private directionOf(coef: Float64Array, out: Direction, fast = false): boolean {
     const d = this.basis.length;
     let ux = 0;
     let uy = 0;
@@ -390,7 +406,9 @@ export class SrpDirectionModel implements DirectionModel {
       uy += c * e[1];
       uz += c * e[2];
     }
-    let len = Math.hypot(ux, uy, uz);
+    // sqrt of the sum for a subset (per bin, many a hop: hypot costs several times more); the
+    // full solve keeps hypot, so the hop's answer is the same to the last bit as before subsets.
+    let len = fast ? Math.sqrt(ux * ux + uy * uy + uz * uz) : Math.hypot(ux, uy, uz);
     if (!Number.isFinite(len)) return false;
     // A zero fit is a direction for a line (broadside: the cone is the plane across the axis) and
     // for a plane (along its normal); only a solid array needs a vector to normalise.
@@ -419,7 +437,7 @@ export class SrpDirectionModel implements DirectionModel {
     }
     let azDeg = (Math.atan2(ux, uy) * 180) / Math.PI;
     if (azDeg <= -180) azDeg += 360;
-    const r = Math.hypot(ux, uy, uz);
+    const r = fast ? Math.sqrt(ux * ux + uy * uy + uz * uz) : Math.hypot(ux, uy, uz);
     out.azimuthDeg = azDeg;
     out.elevationDeg = this.shape === 'line' ? null : (Math.asin(Math.max(-1, Math.min(1, uz / r))) * 180) / Math.PI;
     return true;
