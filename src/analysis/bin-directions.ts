@@ -40,7 +40,7 @@ const HIST_SIZE = 360 / HIST_STEP_DEG;
 /** A peak's direction is the evidence-weighted mean of the bins within this many degrees of it. */
 const PEAK_HALF_WIDTH_DEG = 8;
 /** Most peaks kept per hop. */
-const MAX_BIN_PEAKS = 4;
+export const MAX_BIN_PEAKS = 4;
 /** A peak holds at least this share of the hop's bin evidence (fewer: stray bins). */
 const PEAK_MIN_SHARE = 0.15;
 
@@ -52,13 +52,10 @@ export class BinDirections {
   readonly peakEl = new Float64Array(MAX_BIN_PEAKS);
   readonly peakMass = new Float64Array(MAX_BIN_PEAKS);
   peakCount = 0;
-  /** Sum of the evidence of the bins that gave a direction this hop. */
-  totalMass = 0;
   /** One past the highest bin that gives a direction. */
   readonly endBin: number;
   private readonly P: number;
   private readonly k0: number;
-  private readonly k1: number;
   /** Per bin (from k0): index into masks of the pairs it reads, -1 when none span. */
   private readonly maskOf: Int32Array;
   private readonly masks: Uint8Array[];
@@ -110,10 +107,10 @@ export class BinDirections {
       maskOf.push(m);
       if (m >= 0) last = k + 1;
     }
-    this.k1 = this.endBin = last;
+    this.endBin = last;
     this.maskOf = Int32Array.from(maskOf.slice(0, last - this.k0));
     this.active = this.masks.length > 0;
-    const bins = Math.max(0, this.k1 - this.k0);
+    const bins = Math.max(0, this.endBin - this.k0);
     this.binAz = new Float64Array(bins);
     this.binEl = new Float64Array(bins);
     this.binMass = new Float64Array(bins);
@@ -129,7 +126,7 @@ export class BinDirections {
     this.peakCount = 0;
     let total = 0;
     const n = this.n;
-    for (let k = this.k0; k < this.k1; k++) {
+    for (let k = this.k0; k < this.endBin; k++) {
       const i = k - this.k0;
       this.binMass[i] = 0;
       const m = this.maskOf[i]!;
@@ -158,7 +155,6 @@ export class BinDirections {
       total += mass;
       this.hist[histIndex(az)] += mass;
     }
-    this.totalMass = total;
     if (!(total > 0)) return 0;
     this.findPeaks(total);
     return this.peakCount;

@@ -9,7 +9,7 @@ import type { Direction, DirectionModel } from '../direction/direction-model.js'
 import { wrapDeg } from '../geometry/vec3.js';
 import type { ResolvedAnalysis } from './analysis-options.js';
 import { BandFusion, MIN_SUPPORT, type FusionResult } from './band-fusion.js';
-import { BinDirections } from './bin-directions.js';
+import { BinDirections, MAX_BIN_PEAKS } from './bin-directions.js';
 import { confidenceOf, type ConfidenceFeatures } from './confidence.js';
 
 /** Candidates whose pair lags all differ by less than this (samples) are one peak. */
@@ -198,6 +198,8 @@ export class HopAnalyzer {
   private readonly lowSupport: Float64Array;
   /** The bin directions' top frequency, Hz. */
   private readonly binTopHz: number;
+  /** Per bin peak of the hop: 1 when it lies within BIN_SOURCE_APART_DEG of the winner. */
+  private readonly peakOfWinner = new Uint8Array(MAX_BIN_PEAKS);
   private readonly selection: Float64Array;
   private readonly features: ConfidenceFeatures = { agree: 0, share: 0, snrDb: 0, evidence: 0, apertureWaves: 0, onset: 0, fresh: 0 };
   /** The array's largest delay, seconds (the widest pair's search limit without margin). */
@@ -743,7 +745,7 @@ export class HopAnalyzer {
       else if (P === 1) this.refined[0] = refineLag(this.correlators[0]!, this.bands, this.useBand, this.candLags[c]!);
       else refineLagLanes(this.correlators, this.bands, this.useBand, this.candLags, c * P, this.refined, this.refineScratch, this.refineActive);
       if (!this.model.solve(this.refined, 0, this.dir)) continue;
-      this.lowSupport[res.sourceCount] = this.lowShare(support);
+      if (this.binDirections !== null) this.lowSupport[res.sourceCount] = this.lowShare(support);
       const src = res.sources[res.sourceCount]!;
       src.azimuthDeg = this.dir.azimuthDeg;
       src.elevationDeg = this.dir.elevationDeg;
@@ -777,24 +779,31 @@ export class HopAnalyzer {
   private addBinSources(res: HopResult, bins: BinDirections, winFused: number): void {
     // Every other hop: the memory they read changes over about 14 hops (0.15 s), so the hop
     // between takes the last one's peaks (half the cost: a tenth of a square's hop).
-    const fresh = this.binsAt === this.hopIndex - 2;
-    const count = fresh ? bins.peakCount : bins.analyse(this.correlators, this.weightAcc, this.binScale);
-    this.binsAt = fresh ? -1 : this.hopIndex - 1;
+    const reuse = this.binsAt === this.hopIndex - 2;
+    const count = reuse ? bins.peakCount : bins.analyse(this.correlators, this.weightAcc, this.binScale);
+    this.binsAt = reuse ? -1 : this.hopIndex - 1;
     const winner = res.sources[0]!;
-    // Peaks count in the fusion's units (evidence): one must hold what a further source of the fusion needs.
+    // Peaks count in the fusion's units (evidence): one must hold what a further source of the
+    // fusion needs. Those within BIN_SOURCE_APART_DEG of the winner are its own; the largest of
+    // them is what a caller the fusion did not report is weighed against (the same measure), or
+    // the winner's fused evidence when the bins do not hear it.
     let usable = 0;
-    while (usable < count && bins.peakMass[usable]! >= SOURCE_RATIO * winFused) usable++;
+    let ref = 0;
+    for (; usable < count && bins.peakMass[usable]! >= SOURCE_RATIO * winFused; usable++) {
+      const own = Math.abs(wrapDeg(bins.peakAz[usable]! - winner.azimuthDeg)) <= BIN_SOURCE_APART_DEG;
+      this.peakOfWinner[usable] = own ? 1 : 0;
+      if (own) ref = Math.max(ref, bins.peakMass[usable]!);
+    }
     if (usable === 0) return;
+    if (ref === 0) ref = winFused;
     for (let i = 1; i < res.sourceCount; i++) {
       if (this.lowSupport[i]! < BIN_CORRECT_LOW_SHARE) continue;
       const src = res.sources[i]!;
       let best = -1;
       let bestD = BIN_CORRECT_DEG;
       for (let j = 0; j < usable; j++) {
-        const az = bins.peakAz[j]!;
-        if (Math.abs(wrapDeg(az - winner.azimuthDeg)) <= BIN_SOURCE_APART_DEG) continue;
-        const d = Math.abs(wrapDeg(az - src.azimuthDeg));
-        if (d < bestD) {
+        const d = Math.abs(wrapDeg(bins.peakAz[j]! - src.azimuthDeg));
+        if (this.peakOfWinner[j] === 0 && d < bestD) {
           bestD = d;
           best = j;
         }
@@ -803,13 +812,6 @@ export class HopAnalyzer {
       src.azimuthDeg = bins.peakAz[best]!;
       if (src.elevationDeg !== null && bins.peakEl[best] === bins.peakEl[best]) src.elevationDeg = bins.peakEl[best]!;
     }
-    // A caller the fusion did not report is weighed against the winner's own bin peak (the same
-    // measure), or its fused evidence when the bins do not hear the winner.
-    let ref = 0;
-    for (let j = 0; j < usable; j++) {
-      if (Math.abs(wrapDeg(bins.peakAz[j]! - winner.azimuthDeg)) <= BIN_SOURCE_APART_DEG) ref = Math.max(ref, bins.peakMass[j]!);
-    }
-    if (ref === 0) ref = winFused;
     for (let j = 0; j < usable && res.sourceCount < this.options.maxSources; j++) {
       const az = bins.peakAz[j]!;
       if (bins.peakMass[j]! < BIN_SOURCE_RATIO * ref) continue;

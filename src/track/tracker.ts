@@ -504,14 +504,19 @@ export class Tracker {
    * has its home instead), and only after REST_AFTER_S without support.
    */
   private restGate(s: number, j: number): boolean {
-    const idle = this.sc.hop[TIME]! - this.lastSupportT[s]!;
-    if (!(idle >= REST_AFTER_S)) return false;
+    if (!(this.sc.hop[TIME]! - this.lastSupportT[s]! >= REST_AFTER_S)) return false;
     const both = this.loadMeasurement(s, j);
     if (both && this.flat && this.farInElevation(j, this.restEl[s]!)) return false;
-    const grow = REST_DRIFT_DEG_S * idle;
+    const grow2 = this.restGrowth2(s);
     const cap = this.options.maxUncertaintyDeg * this.options.maxUncertaintyDeg;
     const withEl = both && !this.flat && this.restEl[s] === this.restEl[s];
-    return this.gateAt(j, this.restAz[s]!, Math.min(this.restAzVar[s]! + grow * grow, cap), this.restEl[s]!, Math.min(this.restElVar[s]! + grow * grow, cap), withEl);
+    return this.gateAt(j, this.restAz[s]!, Math.min(this.restAzVar[s]! + grow2, cap), this.restEl[s]!, Math.min(this.restElVar[s]! + grow2, cap), withEl);
+  }
+
+  /** How much the resting place's variance has grown since slot s's last support (REST_DRIFT_DEG_S), degrees squared. */
+  private restGrowth2(s: number): number {
+    const grow = REST_DRIFT_DEG_S * (this.sc.hop[TIME]! - this.lastSupportT[s]!);
+    return grow * grow;
   }
 
   /** On a flat array: is candidate j's elevation beyond FLAT_ELEVATION_GATE_DEG of elevation ref (false when either is missing)? */
@@ -528,10 +533,9 @@ export class Tracker {
 
   /** Put slot s back at its resting place (its still model won the hop) before its update. */
   private restartAtRest(s: number): void {
-    const idle = this.sc.hop[TIME]! - this.lastSupportT[s]!;
-    const grow = REST_DRIFT_DEG_S * idle;
-    this.az.restart(s, this.restAz[s]!, this.restAzVar[s]! + grow * grow);
-    if (this.hasEl[s] === 1 && this.restEl[s] === this.restEl[s]) this.el.restart(s, this.restEl[s]!, this.restElVar[s]! + grow * grow);
+    const grow2 = this.restGrowth2(s);
+    this.az.restart(s, this.restAz[s]!, this.restAzVar[s]! + grow2);
+    if (this.hasEl[s] === 1 && this.restEl[s] === this.restEl[s]) this.el.restart(s, this.restEl[s]!, this.restElVar[s]! + grow2);
   }
 
   /** How long slot s may go without support before it dies (YOUNG_HOPS). */

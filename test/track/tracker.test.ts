@@ -712,16 +712,22 @@ describe('a flat array: elevations are followed but do not split or steal (issue
     }
   });
 
+  /** The chorus read at 7 deg of elevation throughout, with another source, on the flat array: the run and the chorus' majority track id (not null). */
+  function lowChorusWith(other: TruthSource, seed: number) {
+    const low: TruthSource = { ...chorus, elevationAt: () => 7 };
+    const synth = generateHops([low, other], { durationS: 12, hopS: 0.01, seed, noiseDeg: 1, clutter: 0, dropout: 0.05 });
+    const r = run(synth, { mirror: flat });
+    const chorusId = majority(idsOfSource(synth, r, 0).map((x) => x.id));
+    expect(chorusId).not.toBeNull();
+    return { synth, r, chorusId };
+  }
+
   it('wind read at 72-77 deg of elevation (below the zenith rule) in the chorus pauses does not feed the chorus track', () => {
     // Wind still reads high with an azimuth that means nothing; without FLAT_ELEVATION_GATE_DEG
     // it fed the chorus track and dragged it round the circle.
     const wind: TruthSource = { azimuthAt: (t) => 30 + 60 * Math.sin(5 * t), elevationAt: (t) => 74.5 + 2.5 * Math.sin(11 * t), calls: bursts(0.55, 0.3, 0.4, 12), levelDbfs: -30 };
-    const low: TruthSource = { ...chorus, elevationAt: () => 7 };
     for (const seed of [51, 52, 53]) {
-      const synth = generateHops([low, wind], { durationS: 12, hopS: 0.01, seed, noiseDeg: 1, clutter: 0, dropout: 0.05 });
-      const r = run(synth, { mirror: flat });
-      const chorusId = majority(idsOfSource(synth, r, 0).map((x) => x.id));
-      expect(chorusId).not.toBeNull();
+      const { synth, r, chorusId } = lowChorusWith(wind, seed);
       const windOnChorus = idsOfSource(synth, r, 1).filter((x) => x.id === chorusId).length;
       console.log(`seed ${seed}: ${windOnChorus} wind hops on the chorus track`);
       expect(windOnChorus).toBe(0);
@@ -735,12 +741,8 @@ describe('a flat array: elevations are followed but do not split or steal (issue
     // A call above the array's aliasing limit also gives a lobe near its caller's azimuth, high
     // up: kept out of the chorus track by its elevation, it is still no newcomer.
     const lobe: TruthSource = { azimuthAt: () => 34, elevationAt: () => 55, calls: bursts(0.25, 0.2, 0.5, 12), levelDbfs: -40 };
-    const low: TruthSource = { ...chorus, elevationAt: () => 7 };
     for (const seed of [54, 55, 56]) {
-      const synth = generateHops([low, lobe], { durationS: 12, hopS: 0.01, seed, noiseDeg: 1, clutter: 0, dropout: 0.05 });
-      const r = run(synth, { mirror: flat });
-      const chorusId = majority(idsOfSource(synth, r, 0).map((x) => x.id));
-      expect(chorusId).not.toBeNull();
+      const { synth, r, chorusId } = lowChorusWith(lobe, seed);
       const lobeIds = new Set(idsOfSource(synth, r, 1).map((x) => x.id).filter((id) => id !== null && id !== chorusId));
       expect([...lobeIds]).toEqual([]);
       expect(new Set(r.events.map((e) => e.track))).toEqual(new Set([chorusId]));
