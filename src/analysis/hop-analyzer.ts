@@ -106,7 +106,8 @@ export interface HopResult {
   pairOwnTdoaS: Float64Array;
   /** Sources found, strongest first. */
   sourceCount: number;
-  sources: { azimuthDeg: number; elevationDeg: number | null; score: number }[];
+  /** centreHz: the centre frequency of the bands that support the source (support-weighted), Hz; NaN for a source of the bins. */
+  sources: { azimuthDeg: number; elevationDeg: number | null; score: number; centreHz: number }[];
   /** Band fusion: support given (relative to the strongest band, [0, 1]) and candidate supported (-1 none), per band. */
   bandVoteWeight: Float64Array;
   bandVoteCandidate: Int32Array;
@@ -351,7 +352,7 @@ export class HopAnalyzer {
       tdoaS: new Float64Array(P),
       pairOwnTdoaS: new Float64Array(P),
       sourceCount: 0,
-      sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0 })),
+      sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0, centreHz: NaN })),
       bandVoteWeight: new Float64Array(options.bands),
       bandVoteCandidate: new Int32Array(options.bands),
       bandVoteTdoaS: new Float64Array(options.bands),
@@ -749,6 +750,7 @@ export class HopAnalyzer {
       const src = res.sources[res.sourceCount]!;
       src.azimuthDeg = this.dir.azimuthDeg;
       src.elevationDeg = this.dir.elevationDeg;
+      src.centreHz = support.weightSum > 0 ? support.freqSum / support.weightSum : NaN;
       if (res.sourceCount === 0) {
         this.setWinner(res, f, fusion.totalEvidence, fusedTotal, support, P);
         src.score = 1;
@@ -822,6 +824,7 @@ export class HopAnalyzer {
       src.azimuthDeg = az;
       src.elevationDeg = winner.elevationDeg === null || bins.peakEl[j] !== bins.peakEl[j] ? null : bins.peakEl[j]!;
       src.score = Math.min(1, bins.peakMass[j]! / ref);
+      src.centreHz = NaN;
     }
   }
 

@@ -23,6 +23,8 @@ export class DirectionSums {
   private readonly sumEl: Float64Array;
   private readonly sumElW: Float64Array;
   private readonly sumEl2: Float64Array;
+  private readonly sumLogHz: Float64Array;
+  private readonly nLogHz: Float64Array;
   /** Drift sums: time from the first direction (t), unwrapped working angle (a). */
   private readonly t0: Float64Array;
   private readonly lastRaw: Float64Array;
@@ -50,6 +52,8 @@ export class DirectionSums {
     this.sumEl = new Float64Array(size);
     this.sumElW = new Float64Array(size);
     this.sumEl2 = new Float64Array(size);
+    this.sumLogHz = new Float64Array(size);
+    this.nLogHz = new Float64Array(size);
     this.t0 = new Float64Array(size);
     this.lastRaw = new Float64Array(size);
     this.lastUnwrapped = new Float64Array(size);
@@ -68,6 +72,8 @@ export class DirectionSums {
     this.sumEl[slot] = 0;
     this.sumElW[slot] = 0;
     this.sumEl2[slot] = 0;
+    this.sumLogHz[slot] = 0;
+    this.nLogHz[slot] = 0;
     this.sumT[slot] = 0;
     this.sumTT[slot] = 0;
     this.sumA[slot] = 0;
@@ -100,6 +106,11 @@ export class DirectionSums {
     this.sumW[slot] = this.sumW[slot]! + w;
     this.sumLin[slot] = this.sumLin[slot]! + w * azimuthDeg;
     this.sumLin2[slot] = this.sumLin2[slot]! + w * azimuthDeg * azimuthDeg;
+    const logHz = sc.candLogHz[j]!;
+    if (logHz === logHz) {
+      this.sumLogHz[slot] = this.sumLogHz[slot]! + logHz;
+      this.nLogHz[slot] = this.nLogHz[slot]! + 1;
+    }
     if (elevationDeg === elevationDeg) {
       this.sumEl[slot] = this.sumEl[slot]! + w * elevationDeg;
       this.sumElW[slot] = this.sumElW[slot]! + w;
@@ -145,6 +156,12 @@ export class DirectionSums {
     if (!(w > 0)) return NaN;
     const mean = this.sumEl[slot]! / w;
     return Math.sqrt(Math.max(0, this.sumEl2[slot]! / w - mean * mean));
+  }
+
+  /** Mean log2 centre frequency of the hops that carried one (NaN when fewer than minHops did). */
+  meanLogHz(slot: number, minHops: number): number {
+    const n = this.nLogHz[slot]!;
+    return n >= minHops && n > 0 ? this.sumLogHz[slot]! / n : NaN;
   }
 
   /** Weighted mean elevation, or null when no direction carried one. */

@@ -30,6 +30,8 @@ export class HopScratch {
   /** NaN where the candidate has no elevation. */
   readonly candEl: Float64Array;
   readonly candScore: Float64Array;
+  /** log2 of the candidate's centre frequency (Hz); NaN when unknown. */
+  readonly candLogHz: Float64Array;
   /** Measurement variance of the candidate's angles, deg^2. */
   readonly candR: Float64Array;
 
@@ -37,6 +39,7 @@ export class HopScratch {
     this.candAz = new Float64Array(maxCandidates);
     this.candEl = new Float64Array(maxCandidates);
     this.candScore = new Float64Array(maxCandidates);
+    this.candLogHz = new Float64Array(maxCandidates);
     this.candR = new Float64Array(maxCandidates);
   }
 }

@@ -13,7 +13,8 @@
  *    FLAT_ELEVATION_GATE_DEG, is only kept out); a confirmed track that has gone REST_AFTER_S
  *    without support is also gated at its resting place (where it was last supported, still;
  *    REST_DRIFT_DEG_S), whichever is cheaper, and one whose lifetime drift is small coasts there
- *    (STILL_DRIFT_DEG_S);
+ *    (STILL_DRIFT_DEG_S); a candidate in another band than the track's calls (BAND_APART_OCT) is
+ *    outside every gate of that track;
  *    a candidate whose hop confidence x score is below minConfidence is ignored, and so is
  *    every candidate of a hop below the event-leave SNR (sound at the noise floor, such as
  *    coherent wind between calls, neither moves nor starts a track);
@@ -134,6 +135,23 @@ const STILL_DRIFT_DEG_S = 2;
  * chorus' bouts, otherwise kept the chorus track alive at azimuths all round the circle.
  */
 const FLAT_ELEVATION_GATE_DEG = 40;
+/**
+ * A candidate heard alone in its hop whose centre frequency (the analysis' evidence-weighted
+ * centre of the bands or bins that support it) lies more than BAND_APART_OCT octaves from the
+ * mean of a track's (once SIGNATURE_HOPS of its lone hops gave one) is outside that track's gate,
+ * at its home and at its resting place: a caller in another band is another caller, however near
+ * its bearing (a low passer's first calls 5 degrees from a chorus an octave and a half up joined
+ * the chorus' track). Per hop a lone source's centre spreads by up to about 0.8 octave (a chorus'
+ * harmonics, a sweep). Chosen on the motion matrix (test/bench/motion-matrix.ts, draws 1313,
+ * 2027, 77, 4242, 9001): 0.9 and 1.0 octave split callers into many ids (33-48 switches a draw),
+ * 2.0 kept five tracks holding two sources on draw 2027, 1.5 two. Taking the centres of hops with
+ * several sources too gained wind-blown passes but split a chorus whose call a louder passer's
+ * bands left at its lowest partial (test/accuracy/motion-cells.test.ts): 51 switches and 9 tracks
+ * holding two sources over the five draws, against 45 and 8 with lone hops only (50 and 14
+ * before).
+ */
+const BAND_APART_OCT = 1.5;
+const SIGNATURE_HOPS = 10;
 const NO_EVENTS: readonly EventRecord[] = Object.freeze([]);
 
 interface MutableUpdate {
@@ -420,9 +438,12 @@ export class Tracker {
       sc.candAz[j] = this.sideDeg === null ? az : foldedOffsetDeg(az, this.sideDeg);
       sc.candEl[j] = el === null ? NaN : el;
       sc.candScore[j] = c.score;
+      // The centre of a source heard alone: in a hop with several, the louder caller's candidate
+      // wins the bands they share and each one's centre says more about the split than the call.
+      sc.candLogHz[j] = obs.candidates.length === 1 && c.centreHz !== undefined && c.centreHz > 0 ? Math.log2(c.centreHz) : NaN;
       sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, conf * c.score));
       for (let s = 0; s < this.size; s++) {
-        if (this.settled[s] === 0) continue;
+        if (this.settled[s] === 0 || this.otherBand(s, j)) continue;
         if (this.homeDistance2(s, j) <= this.gate2) this.candHome[j] = 1;
         if (this.homeAzimuthDistance2(s, j) <= this.gate2) this.candHomeAz[j] = 1;
       }
@@ -519,6 +540,15 @@ export class Tracker {
     return grow * grow;
   }
 
+  /**
+   * Does candidate j sound in another band than slot s's calls (its centre frequency more than
+   * BAND_APART_OCT from the mean of the slot's, once SIGNATURE_HOPS hops have given one)?
+   */
+  private otherBand(s: number, j: number): boolean {
+    const own = this.lifetime.meanLogHz(s, SIGNATURE_HOPS);
+    return Math.abs(this.sc.candLogHz[j]! - own) > BAND_APART_OCT;
+  }
+
   /** On a flat array: is candidate j's elevation beyond FLAT_ELEVATION_GATE_DEG of elevation ref (false when either is missing)? */
   private farInElevation(j: number, ref: number): boolean {
     return Math.abs(this.sc.candEl[j]! - ref) > FLAT_ELEVATION_GATE_DEG;
@@ -595,7 +625,7 @@ export class Tracker {
       for (let j = 0; j < nC; j++) {
         this.cost[i * stride + j] = Infinity;
         this.costAtRest[i * stride + j] = 0;
-        if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
+        if (this.candUsable[j] === 0 || this.candTaken[j] === 1 || this.otherBand(s, j)) continue;
         if (this.candHome[j] === 1 && this.settled[s] === 0 && this.sc.hop[TIME]! - this.lastFreeT[s]! > PASSING_S) continue;
         if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !this.nearZenith(s)) continue;
         if (this.gate(s, j)) {
@@ -709,7 +739,7 @@ export class Tracker {
    */
   private withinAnyGate(j: number): boolean {
     for (let s = 0; s < this.size; s++) {
-      if (this.state[s] === FREE) continue;
+      if (this.state[s] === FREE || this.otherBand(s, j)) continue;
       if (this.gate(s, j, false)) return true;
     }
     return false;

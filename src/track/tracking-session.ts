@@ -6,7 +6,7 @@ import type { EventRecord } from '../records/record-types.js';
 import type { RecordSink, SinkResult } from '../sinks/record-sink.js';
 import { Tracker } from './tracker.js';
 import type { TrackerOptions } from './options.js';
-import type { HopObservation, TrackSummary } from './types.js';
+import type { DirectionCandidate, HopObservation, TrackSummary } from './types.js';
 
 /** What the session needs to know about the analysis: the frame records' settings and the sources a hop can hold. */
 export interface SessionSettings extends FrameRecordSettings {
@@ -30,7 +30,7 @@ export interface SessionHooks {
 export class TrackingSession {
   readonly tracker: Tracker;
   private readonly obs: HopObservation;
-  private readonly candidates: { azimuthDeg: number; elevationDeg: number | null; score: number }[];
+  private readonly candidates: DirectionCandidate[];
   private readonly band: [number, number] = [0, 0];
   private readonly pending: Promise<void>[] = [];
   private readonly checks: StreamChecks | null;

@@ -7,6 +7,8 @@ export interface DirectionCandidate {
   azimuthDeg: number;
   elevationDeg: number | null;
   score: number;
+  /** Centre frequency of what the candidate heard, Hz (NaN or absent when unknown): keeps callers in different bands on different tracks. */
+  centreHz?: number;
 }
 
 /** What the analysis core hands the tracker once per hop. */
@@ -16,7 +18,7 @@ export interface HopObservation {
   snrDb: number;        // SNR over the noise floor, dB (the hop's best band)
   onset: number;        // onset strength in [0, 1]: high where energy rises sharply
   confidence: number;   // [0, 1]
-  candidates: readonly { azimuthDeg: number; elevationDeg: number | null; score: number }[]; // best first; may be empty
+  candidates: readonly DirectionCandidate[]; // best first; may be empty
   bandHz?: readonly [number, number] | null; // dominant frequency band of the hop
 }
 
