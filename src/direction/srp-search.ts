@@ -71,8 +71,11 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly lsRhs: Float64Array;
   /** The fitted coefficients (scratch). */
   private readonly lsCoef: Float64Array;
-  /** Prepared subsets of pairs (prepareSubset): per subset the d x P matrix from lags to coefficients. */
-  private readonly subsets: Float64Array[] = [];
+  /**
+   * Prepared subsets of pairs (prepareSubset): per subset the used pairs in order, and the
+   * d x m matrix from their lags to the coefficients ([i * m + j] for the j-th used pair).
+   */
+  private readonly subsets: { pairs: Int32Array; w: Float64Array }[] = [];
   /** Pair baselines projected on the subspace basis, [p * d + i]. */
   private readonly baselineProj: Float64Array;
   private readonly basis: Vec3[];
@@ -368,26 +371,29 @@ export class SrpDirectionModel implements DirectionModel {
     }
     const inverse = invertMatrix(ata, d);
     if (inverse === null) return -1;
-    const w = new Float64Array(d * P);
-    for (let p = 0; p < P; p++) {
-      if (use[p] !== 1) continue;
+    const pairs = Int32Array.from({ length: P }, (_, p) => p).filter((p) => use[p] === 1);
+    const m = pairs.length;
+    const w = new Float64Array(d * m);
+    for (let j = 0; j < m; j++) {
+      const p = pairs[j]!;
       for (let i = 0; i < d; i++) {
         let v = 0;
-        for (let j = 0; j < d; j++) v += inverse[i * d + j]! * proj[p * d + j]!;
-        w[i * P + p] = (v / this.sampleRate) * this.speedOfSound;
+        for (let l = 0; l < d; l++) v += inverse[i * d + l]! * proj[p * d + l]!;
+        w[i * m + j] = (v / this.sampleRate) * this.speedOfSound;
       }
     }
-    return this.subsets.push(w) - 1;
+    return this.subsets.push({ pairs, w }) - 1;
   }
 
   solveSubset(handle: number, lags: Float64Array, out: Direction): boolean {
-    const w = this.subsets[handle]!;
+    // Over the used pairs only (the unused ones' terms were zeros: the same sums).
+    const { pairs, w } = this.subsets[handle]!;
     const d = this.basis.length;
-    const P = this.baselines.length;
+    const m = pairs.length;
     const coef = this.lsCoef;
     for (let i = 0; i < d; i++) {
       let c = 0;
-      for (let p = 0; p < P; p++) c += w[i * P + p]! * lags[p]!;
+      for (let j = 0; j < m; j++) c += w[i * m + j]! * lags[pairs[j]!]!;
       coef[i] = c;
     }
     return this.directionOf(coef, out, true);
