@@ -23,6 +23,7 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
 import { wrapDeg as wrap } from '../geometry/vec3.js';
+import { fastAtan2 } from '../util/fast-atan2.js';
 
 /** A pair's lag limit must be below this share of n / 2k for bin k to read its delay from the phase. */
 const UNALIASED_SHARE = 0.9;
@@ -145,7 +146,7 @@ export class BinDirections {
         const re = pc.accRe[k]!;
         const im = pc.accIm[k]!;
         coh += Math.sqrt(re * re + im * im);
-        lags[pairs[j]!] = Math.atan2(im, re) * toLag;
+        lags[pairs[j]!] = fastAtan2(im, re) * toLag;
       }
       coh /= used * w;
       if (!(coh > 0) || !this.model.solveSubset(this.handles[m]!, this.lags, this.dir)) continue;
