@@ -167,10 +167,13 @@ export class BinDirections {
   private findPeaks(total: number): void {
     const h = this.hist;
     const s = this.smooth;
-    for (let i = 0; i < HIST_SIZE; i++) s[i] = h[(i + HIST_SIZE - 1) % HIST_SIZE]! + h[i]! + h[(i + 1) % HIST_SIZE]!;
+    // Neighbours round the circle by index tests, not remainders (the same sums, in the same order).
+    const last = HIST_SIZE - 1;
+    for (let i = 0; i < HIST_SIZE; i++) s[i] = h[i === 0 ? last : i - 1]! + h[i]! + h[i === last ? 0 : i + 1]!;
+    const least = PEAK_MIN_SHARE * total;
     for (let i = 0; i < HIST_SIZE; i++) {
       const v = s[i]!;
-      if (!(v >= PEAK_MIN_SHARE * total) || !(v > s[(i + HIST_SIZE - 1) % HIST_SIZE]!) || !(v >= s[(i + 1) % HIST_SIZE]!)) continue;
+      if (!(v >= least) || !(v > s[i === 0 ? last : i - 1]!) || !(v >= s[i === last ? 0 : i + 1]!)) continue;
       this.addPeak(-180 + (i + 0.5) * HIST_STEP_DEG);
     }
   }
