@@ -56,7 +56,7 @@ export class BinDirections {
   /** One past the highest bin that gives a direction. */
   readonly endBin: number;
   private readonly k0: number;
-  /** Per bin (from k0): index into masks of the pairs it reads, -1 when none span. */
+  /** Per bin (from k0): index into maskPairs and handles of the pairs it reads, -1 when none span. */
   private readonly maskOf: Int32Array;
   /** Per mask: the pairs it reads, in order. */
   private readonly maskPairs: Int32Array[];
@@ -149,7 +149,7 @@ export class BinDirections {
         lags[pairs[j]!] = fastAtan2(im, re) * toLag;
       }
       coh /= used * w;
-      if (!(coh > 0) || !this.model.solveSubset(this.handles[m]!, this.lags, this.dir)) continue;
+      if (!(coh > 0) || !this.model.solveSubset(this.handles[m]!, lags, this.dir)) continue;
       const mass = base * Math.min(1, coh * coh);
       const az = this.dir.azimuthDeg;
       this.binAz[i] = az;
