@@ -23,6 +23,7 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
 import { wrapDeg as wrap } from '../geometry/vec3.js';
+import { fastAtan2 } from '../util/fast-atan2.js';
 
 /** A pair's lag limit must be below this share of n / 2k for bin k to read its delay from the phase. */
 const UNALIASED_SHARE = 0.9;
@@ -54,11 +55,13 @@ export class BinDirections {
   peakCount = 0;
   /** One past the highest bin that gives a direction. */
   readonly endBin: number;
-  private readonly P: number;
   private readonly k0: number;
-  /** Per bin (from k0): index into masks of the pairs it reads, -1 when none span. */
+  /** Per bin (from k0): index into maskPairs and handles of the pairs it reads, -1 when none span. */
   private readonly maskOf: Int32Array;
-  private readonly masks: Uint8Array[];
+  /** Per mask: the pairs it reads, in order. */
+  private readonly maskPairs: Int32Array[];
+  /** Per bin (from k0): -n / (2 pi k), from a pair's phase at bin k (radians) to its lag (samples). */
+  private readonly toLag: Float64Array;
   /** The direction model's handle of each mask's least squares (prepareSubset). */
   private readonly handles: number[] = [];
   private readonly lags: Float64Array;
@@ -71,17 +74,17 @@ export class BinDirections {
 
   constructor(
     private readonly model: DirectionModel,
-    private readonly n: number,
+    n: number,
     sampleRate: number,
     firstBin: number,
     endBin: number,
   ) {
     endBin = Math.min(endBin, Math.ceil((BIN_MAX_HZ / sampleRate) * n));
-    const P = (this.P = model.pairs.length);
+    const P = model.pairs.length;
     this.k0 = Math.max(1, firstBin);
     this.lags = new Float64Array(P);
     const keys = new Map<string, number>();
-    this.masks = [];
+    this.maskPairs = [];
     const maskOf: number[] = [];
     let last = this.k0;
     // Longest pairs first: of those unaliased at a bin, the MAX_BIN_PAIRS longest read it (the
@@ -100,7 +103,7 @@ export class BinDirections {
       let m = keys.get(key);
       if (m === undefined) {
         const handle = model.prepareSubset(use);
-        m = handle < 0 ? -1 : this.masks.push(use) - 1;
+        m = handle < 0 ? -1 : this.maskPairs.push(Int32Array.from({ length: P }, (_, p) => p).filter((p) => use[p] === 1)) - 1;
         if (m >= 0) this.handles.push(handle);
         keys.set(key, m);
       }
@@ -109,8 +112,9 @@ export class BinDirections {
     }
     this.endBin = last;
     this.maskOf = Int32Array.from(maskOf.slice(0, last - this.k0));
-    this.active = this.masks.length > 0;
+    this.active = this.maskPairs.length > 0;
     const bins = Math.max(0, this.endBin - this.k0);
+    this.toLag = Float64Array.from({ length: bins }, (_, i) => -n / (2 * Math.PI * (this.k0 + i)));
     this.binAz = new Float64Array(bins);
     this.binEl = new Float64Array(bins);
     this.binMass = new Float64Array(bins);
@@ -125,7 +129,7 @@ export class BinDirections {
     this.hist.fill(0);
     this.peakCount = 0;
     let total = 0;
-    const n = this.n;
+    const lags = this.lags;
     for (let k = this.k0; k < this.endBin; k++) {
       const i = k - this.k0;
       this.binMass[i] = 0;
@@ -133,20 +137,19 @@ export class BinDirections {
       const w = weightAcc[k]!;
       const base = binScale[k]! * w;
       if (m < 0 || !(base > 0)) continue;
-      const use = this.masks[m]!;
+      const pairs = this.maskPairs[m]!;
+      const used = pairs.length;
       let coh = 0;
-      let used = 0;
-      const toLag = -n / (2 * Math.PI * k);
-      for (let p = 0; p < this.P; p++) {
-        if (use[p] !== 1) continue;
-        const re = correlators[p]!.accRe[k]!;
-        const im = correlators[p]!.accIm[k]!;
+      const toLag = this.toLag[i]!;
+      for (let j = 0; j < used; j++) {
+        const pc = correlators[pairs[j]!]!;
+        const re = pc.accRe[k]!;
+        const im = pc.accIm[k]!;
         coh += Math.sqrt(re * re + im * im);
-        used++;
-        this.lags[p] = Math.atan2(im, re) * toLag;
+        lags[pairs[j]!] = fastAtan2(im, re) * toLag;
       }
       coh /= used * w;
-      if (!(coh > 0) || !this.model.solveSubset(this.handles[m]!, this.lags, this.dir)) continue;
+      if (!(coh > 0) || !this.model.solveSubset(this.handles[m]!, lags, this.dir)) continue;
       const mass = base * Math.min(1, coh * coh);
       const az = this.dir.azimuthDeg;
       this.binAz[i] = az;
@@ -164,10 +167,13 @@ export class BinDirections {
   private findPeaks(total: number): void {
     const h = this.hist;
     const s = this.smooth;
-    for (let i = 0; i < HIST_SIZE; i++) s[i] = h[(i + HIST_SIZE - 1) % HIST_SIZE]! + h[i]! + h[(i + 1) % HIST_SIZE]!;
+    // Neighbours round the circle by index tests, not remainders (the same sums, in the same order).
+    const last = HIST_SIZE - 1;
+    for (let i = 0; i < HIST_SIZE; i++) s[i] = h[i === 0 ? last : i - 1]! + h[i]! + h[i === last ? 0 : i + 1]!;
+    const least = PEAK_MIN_SHARE * total;
     for (let i = 0; i < HIST_SIZE; i++) {
       const v = s[i]!;
-      if (!(v >= PEAK_MIN_SHARE * total) || !(v > s[(i + HIST_SIZE - 1) % HIST_SIZE]!) || !(v >= s[(i + 1) % HIST_SIZE]!)) continue;
+      if (!(v >= least) || !(v > s[i === 0 ? last : i - 1]!) || !(v >= s[i === last ? 0 : i + 1]!)) continue;
       this.addPeak(-180 + (i + 0.5) * HIST_STEP_DEG);
     }
   }

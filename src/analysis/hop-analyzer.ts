@@ -34,6 +34,8 @@ const BIN_SOURCE_RATIO = 0.5;
  * lies below the bins' aliasing limit (above it the bins hear only a blend of what sounds there).
  */
 const BIN_CORRECT_DEG = 25;
+/** The bin directions are worked out on one hop in this many; the hops between reuse their peaks. */
+const BIN_EVERY_HOPS = 2;
 const BIN_CORRECT_LOW_SHARE = 0.5;
 /**
  * The geometry check compares the answer's delays with each pair's own peaks: the strongest
@@ -227,7 +229,7 @@ export class HopAnalyzer {
   /** Compute per-pair diagnostics (costs one pass over the bins per pair per hop). */
   diagnostics = false;
   private hopIndex = 0;
-  /** The hop index (hopIndex - 1 during its stages) whose bin directions addBinSources computed last, -1 when the last one reused them. */
+  /** The hop index (hopIndex - 1 during its stages) whose bin directions addBinSources computed last, -1 before the first. */
   private binsAt = -1;
   /** Whether the last hop computed its pair correlations (a silent hop does not). */
   private lastHopCorrelated = false;
@@ -779,11 +781,11 @@ export class HopAnalyzer {
    * winner's is a further source, scored by that ratio. The winner keeps the fusion's answer.
    */
   private addBinSources(res: HopResult, bins: BinDirections, winFused: number): void {
-    // Every other hop: the memory they read changes over about 14 hops (0.15 s), so the hop
-    // between takes the last one's peaks (half the cost: a tenth of a square's hop).
-    const reuse = this.binsAt === this.hopIndex - 2;
+    // Every BIN_EVERY_HOPS hops: the memory they read changes over about 14 hops (0.15 s), so the
+    // hops between take the last one's peaks (hops that did not sound count too).
+    const reuse = this.binsAt >= 0 && this.hopIndex - 1 - this.binsAt < BIN_EVERY_HOPS;
     const count = reuse ? bins.peakCount : bins.analyse(this.correlators, this.weightAcc, this.binScale);
-    this.binsAt = reuse ? -1 : this.hopIndex - 1;
+    if (!reuse) this.binsAt = this.hopIndex - 1;
     const winner = res.sources[0]!;
     // Peaks count in the fusion's units (evidence): one must hold what a further source of the
     // fusion needs. Those within BIN_SOURCE_APART_DEG of the winner are its own; the largest of

@@ -2,7 +2,7 @@ import type { PairCorrelator } from '../dsp/gcc.js';
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
 import { mirrorOfLine, type ArrayMirror } from '../geometry/array-mirror.js';
 import { norm, sub, type Vec3 } from '../geometry/vec3.js';
-import { coneAzimuthDeg } from './cone.js';
+import { LineCone } from './cone.js';
 import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
 
 const DEG = 180 / Math.PI;
@@ -35,6 +35,8 @@ export class PairDirectionModel implements DirectionModel {
   private readonly spacing: number;
   /** Unit vector from mic 0 to mic 1. */
   private readonly axis: Vec3;
+  /** The cone of directions a delay stands for (the axis's parts worked out once). */
+  private readonly cone: LineCone;
   private readonly heights = new Float64Array(16);
   private readonly lags = new Float64Array(16);
 
@@ -50,6 +52,7 @@ export class PairDirectionModel implements DirectionModel {
     this.spacing = norm(axis);
     this.axis = [axis[0] / this.spacing, axis[1] / this.spacing, axis[2] / this.spacing];
     this.mirror = mirrorOfLine(this.axis, geometry.name);
+    this.cone = new LineCone(this.axis, this.mirror);
     this.maxLag = Int32Array.of(searchLagLimit(this.spacing, sampleRate, speedOfSound, lagMargin));
     this.lagLimit = Float64Array.of((this.spacing / speedOfSound) * sampleRate);
     checkLagFitsFrame(this.maxLag, frame);
@@ -69,7 +72,7 @@ export class PairDirectionModel implements DirectionModel {
     // angle between the source and the axis. For the pair of interface.md (axis along +x,
     // reported side the front) this is azimuth = 90 - acos(-c tdoa / D) = -asin(c tdoa / D).
     const cosAngle = -(this.speedOfSound * lags[offset]!) / this.sampleRate / this.spacing;
-    out.azimuthDeg = coneAzimuthDeg(cosAngle, this.axis, this.mirror);
+    out.azimuthDeg = this.cone.azimuthDeg(cosAngle);
     out.elevationDeg = null;
     return true;
   }
@@ -79,6 +82,9 @@ export class PairDirectionModel implements DirectionModel {
   }
 
   solveSubset(_handle: number, lags: Float64Array, out: Direction): boolean {
-    return this.solve(lags, 0, out);
+    // Per bin: solve() with the polynomial arc cosine.
+    out.azimuthDeg = this.cone.azimuthDegFast(-(this.speedOfSound * lags[0]!) / this.sampleRate / this.spacing);
+    out.elevationDeg = null;
+    return true;
   }
 }

@@ -4,8 +4,9 @@ import { micPairs, type ArrayGeometry, type MicPair } from '../geometry/array-ge
 import { arrayMirror, type ArrayMirror } from '../geometry/array-mirror.js';
 import { arrayShape, type ArrayShape } from '../geometry/array-shape.js';
 import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
-import { coneAzimuthDeg } from './cone.js';
+import { LineCone } from './cone.js';
 import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
+import { fastAtan2 } from '../util/fast-atan2.js';
 import { invertMatrix } from '../util/matrix.js';
 
 /** Smallest automatic grid step (degrees): finer grids cost time and the refinement recovers the rest. */
@@ -34,6 +35,8 @@ export class SrpDirectionModel implements DirectionModel {
   /** The pairs whose correlations the search reads (ascending; all of them unless SearchGrid.pairs says fewer). */
   readonly curvePairs: Int32Array;
   private readonly axis: Vec3;
+  /** A line's cone of directions (null for planes and solids). */
+  private readonly cone: LineCone | null;
   /** Pair baselines p_a - p_b (m). */
   private readonly baselines: Vec3[];
   private readonly gridDirs: Vec3[];
@@ -71,8 +74,11 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly lsRhs: Float64Array;
   /** The fitted coefficients (scratch). */
   private readonly lsCoef: Float64Array;
-  /** Prepared subsets of pairs (prepareSubset): per subset the d x P matrix from lags to coefficients. */
-  private readonly subsets: Float64Array[] = [];
+  /**
+   * Prepared subsets of pairs (prepareSubset): per subset the used pairs in order, and the
+   * d x m matrix from their lags to the coefficients ([i * m + j] for the j-th used pair).
+   */
+  private readonly subsets: { pairs: Int32Array; w: Float64Array }[] = [];
   /** Pair baselines projected on the subspace basis, [p * d + i]. */
   private readonly baselineProj: Float64Array;
   private readonly basis: Vec3[];
@@ -99,6 +105,7 @@ export class SrpDirectionModel implements DirectionModel {
     this.axis = axis;
     // One mirror for the grid, the solve and the records (src/geometry/array-mirror.ts).
     this.mirror = arrayMirror(geometry, shaped);
+    this.cone = shape === 'line' ? new LineCone(axis, this.mirror!) : null;
     // Default step: fine enough that no pair's lag is more than about 0.7 samples off at the
     // nearest grid point (the refinement then takes it the rest of the way).
     const largestLag = Math.max(...this.maxLag);
@@ -368,26 +375,29 @@ export class SrpDirectionModel implements DirectionModel {
     }
     const inverse = invertMatrix(ata, d);
     if (inverse === null) return -1;
-    const w = new Float64Array(d * P);
-    for (let p = 0; p < P; p++) {
-      if (use[p] !== 1) continue;
+    const pairs = Int32Array.from({ length: P }, (_, p) => p).filter((p) => use[p] === 1);
+    const m = pairs.length;
+    const w = new Float64Array(d * m);
+    for (let j = 0; j < m; j++) {
+      const p = pairs[j]!;
       for (let i = 0; i < d; i++) {
         let v = 0;
-        for (let j = 0; j < d; j++) v += inverse[i * d + j]! * proj[p * d + j]!;
-        w[i * P + p] = (v / this.sampleRate) * this.speedOfSound;
+        for (let l = 0; l < d; l++) v += inverse[i * d + l]! * proj[p * d + l]!;
+        w[i * m + j] = (v / this.sampleRate) * this.speedOfSound;
       }
     }
-    return this.subsets.push(w) - 1;
+    return this.subsets.push({ pairs, w }) - 1;
   }
 
   solveSubset(handle: number, lags: Float64Array, out: Direction): boolean {
-    const w = this.subsets[handle]!;
+    // Over the used pairs only (the unused ones' terms were zeros: the same sums).
+    const { pairs, w } = this.subsets[handle]!;
     const d = this.basis.length;
-    const P = this.baselines.length;
+    const m = pairs.length;
     const coef = this.lsCoef;
     for (let i = 0; i < d; i++) {
       let c = 0;
-      for (let p = 0; p < P; p++) c += w[i * P + p]! * lags[p]!;
+      for (let j = 0; j < m; j++) c += w[i * m + j]! * lags[pairs[j]!]!;
       coef[i] = c;
     }
     return this.directionOf(coef, out, true);
@@ -430,14 +440,24 @@ export class SrpDirectionModel implements DirectionModel {
     } else if (this.shape === 'line') {
       // Cone around the axis: the horizontal direction on it, on the reported side.
       const ax = this.axis;
-      const az = (coneAzimuthDeg(ux * ax[0] + uy * ax[1] + uz * ax[2], ax, this.mirror!) * Math.PI) / 180;
+      const cosAngle = ux * ax[0] + uy * ax[1] + uz * ax[2];
+      const az = ((fast ? this.cone!.azimuthDegFast(cosAngle) : this.cone!.azimuthDeg(cosAngle)) * Math.PI) / 180;
       ux = Math.sin(az);
       uy = Math.cos(az);
       uz = 0;
     }
+    if (fast) {
+      // A subset's (per bin) angles by the polynomial atan2 (within 2e-6 rad; elevation as the
+      // angle over the horizontal, the same as asin(uz / r)).
+      let az = (fastAtan2(ux, uy) * 180) / Math.PI;
+      if (az <= -180) az += 360;
+      out.azimuthDeg = az;
+      out.elevationDeg = this.shape === 'line' ? null : (fastAtan2(uz, Math.sqrt(ux * ux + uy * uy)) * 180) / Math.PI;
+      return true;
+    }
     let azDeg = (Math.atan2(ux, uy) * 180) / Math.PI;
     if (azDeg <= -180) azDeg += 360;
-    const r = fast ? Math.sqrt(ux * ux + uy * uy + uz * uz) : Math.hypot(ux, uy, uz);
+    const r = Math.hypot(ux, uy, uz);
     out.azimuthDeg = azDeg;
     out.elevationDeg = this.shape === 'line' ? null : (Math.asin(Math.max(-1, Math.min(1, uz / r))) * 180) / Math.PI;
     return true;

@@ -33,7 +33,19 @@ export function azElFromVector(v: Vec3): { azimuthDeg: number; elevationDeg: num
 
 /** Wrap an angle in degrees to (-180, 180]. */
 export function wrapDeg(a: number): number {
-  let x = ((a + 180) % 360 + 360) % 360 - 180;
+  const r = a + 180;
+  let x: number;
+  if (r > -360 && r < 360) {
+    // The same numbers as the general line below without its two remainders (a remainder of
+    // doubles is a call into the C library, several times a multiply; the analysis wraps every
+    // bin's azimuth a hop): r % 360 is r here, and (r + 360) % 360 is r + 360, less 360 when it
+    // reaches 360 (exact: both lie within a factor of 2 of 360).
+    let t = r + 360;
+    if (t >= 360) t -= 360;
+    x = t - 180;
+  } else {
+    x = ((r % 360) + 360) % 360 - 180;
+  }
   if (x === -180) x = 180;
   return x;
 }
