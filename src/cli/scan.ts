@@ -125,13 +125,20 @@ async function scan(file: string | undefined, cmd: Command): Promise<void> {
     const setup = createAnalysis(geometry, sampleRate, c, stages.analysis, where);
     setup.analyzer.diagnostics = v.diagnostics;
     if (feedOptions) feed = await startViewerFeed(feedOptions, setup.geometry, sampleRate, setup.options.hop);
-    const writer = openWriter(target, v, setup);
     // From here on, any failure (or Ctrl-C) abandons the partial file: the old file at --out stays as it was.
     // Records that go straight out (stdout, a FIFO, a device) are final as they are written: there a
     // stop signal ends the scan like the end of the input, so the call in progress and every record
-    // before it are written (stop-signal.ts).
+    // before it are written (stop-signal.ts). The signals are taken before the partial file is
+    // made, so that no Ctrl-C can find it made and not yet looked after.
     const stop = target && !target.through ? null : stopOnSignal(() => (v.stdin ? opened.close() : undefined));
     const undoSignals = target && !target.through ? abandonOnSignal(target) : () => stop?.dispose();
+    let writer: RecordWriter;
+    try {
+      writer = openWriter(target, v, setup);
+    } catch (err) {
+      undoSignals();
+      throw err;
+    }
     try {
       const { sink: counted, counts } = countingSink(writer);
       const sink = feed ? fanOut([counted, feed]) : counted;
