@@ -16,12 +16,14 @@ export const HOP_S = 6;
 export const DT = 7;
 /** SNR of the hop over the noise floor, dB. */
 export const SNR = 8;
+/** The hop's own coherence with its answer, in standard deviations of incoherent noise's (Infinity when unknown). */
+export const FRESH_Z = 9;
 
 /** Floor of hop confidence x candidate score when it serves as a weight. */
 export const MIN_WEIGHT = 1e-6;
 
 export class HopScratch {
-  readonly hop = new Float64Array(9);
+  readonly hop = new Float64Array(10);
   /**
    * The candidate's azimuth, degrees; on an array whose mirror flips azimuth, its offset from
    * the centre of the reported half circle, folded into [-90, 90] (foldedOffsetDeg).

@@ -19,7 +19,8 @@
  *    every candidate of a hop below the event-leave SNR (sound at the noise floor, such as
  *    coherent wind between calls, neither moves nor starts a track);
  * 3. assign candidates to confirmed tracks by global nearest neighbour (assignment.ts), then
- *    the leftovers to tentative tracks, and update the assigned tracks;
+ *    the leftovers to tentative tracks, and update the assigned tracks (a hop whose own spectra
+ *    do not support its answer, HELD_Z, supports its track without moving it);
  * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate
  *    and not near the zenith (ZENITH_DEG), starts a
  *    tentative track; it is confirmed (and gets the next track id) after confirmHits supported
@@ -51,7 +52,7 @@ import { NearestNeighbourAssigner } from './assignment.js';
 import { DirectionSums } from './direction-sums.js';
 import { EventCutter } from './event-cutter.js';
 import { wrapDeg } from './circular.js';
-import { BAND_HI, BAND_LO, CONFIDENCE, DT, HOP_S, HopScratch, LEVEL, ONSET, SNR, TIME } from './hop-scratch.js';
+import { BAND_HI, BAND_LO, CONFIDENCE, DT, FRESH_Z, HOP_S, HopScratch, LEVEL, ONSET, SNR, TIME } from './hop-scratch.js';
 import { resolveTrackerOptions, type TrackerOptions, type TrackerSettings } from './options.js';
 import type { HopObservation, TrackSummary, TrackUpdate } from './types.js';
 
@@ -152,6 +153,18 @@ const FLAT_ELEVATION_GATE_DEG = 40;
  */
 const BAND_APART_OCT = 1.5;
 const SIGNATURE_HOPS = 10;
+/**
+ * A hop whose own spectra agree with its answer by less than this many standard deviations of
+ * incoherent noise's (the analysis' freshZ) holds only the memory of a call that has ended: for
+ * about 0.1-0.2 s after each call the analysis still reports its direction, with confidence up to
+ * 0.98 when wind keeps the hop above the detection SNR, while the call itself had fresh
+ * coherence of 18-35 (a broadband passer at 50 deg/s, motion matrix draw 77). Fed to the filter,
+ * those hops held a mover's track still and took its rate from -16 to -8 deg/s, and its next
+ * call fell outside the gate. They support the track (it stays alive, its event open) without
+ * moving it. Chosen on five draws of the motion matrix: id switches 45 -> 40 and tracks holding
+ * two sources 8 -> 7 at 3; at 5, 45 and 7.
+ */
+const HELD_Z = 3;
 const NO_EVENTS: readonly EventRecord[] = Object.freeze([]);
 
 interface MutableUpdate {
@@ -391,6 +404,7 @@ export class Tracker {
     hop[TIME] = obs.timeS;
     hop[LEVEL] = Number.isFinite(obs.levelDbfs) ? obs.levelDbfs : -Infinity;
     hop[SNR] = Number.isFinite(obs.snrDb) ? obs.snrDb : 0;
+    hop[FRESH_Z] = obs.freshZ !== undefined && obs.freshZ === obs.freshZ ? obs.freshZ : Infinity;
     hop[ONSET] = Number.isFinite(obs.onset) ? obs.onset : 0;
     hop[CONFIDENCE] = Number.isFinite(obs.confidence) ? obs.confidence : 0;
     const band = obs.bandHz;
@@ -674,7 +688,9 @@ export class Tracker {
         this.el.init(s);
         this.loadMeasurement(s, j);
         this.az.update(s);
-      } else {
+      } else if (!(sc.hop[FRESH_Z]! < HELD_Z)) {
+        // A direction the hop's own spectra do not support (the analysis' memory of a call that
+        // has ended) keeps the track alive and its event open, but does not move it.
         if (this.loadMeasurement(s, j)) this.el.update(s);
         this.az.update(s);
       }

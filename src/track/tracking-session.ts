@@ -88,6 +88,7 @@ export class TrackingSession {
     o.snrDb = r.snrDb;
     o.onset = r.onset;
     o.confidence = r.confidence;
+    o.freshZ = r.freshZ;
     // The band range the delay stands for: from the lowest to the highest supporting band.
     if (r.supportFirstBand >= 0) {
       this.band[0] = Math.round(r.bands.loHz[r.supportFirstBand]!);

@@ -20,6 +20,7 @@ export interface HopObservation {
   confidence: number;   // [0, 1]
   candidates: readonly DirectionCandidate[]; // best first; may be empty
   bandHz?: readonly [number, number] | null; // dominant frequency band of the hop
+  freshZ?: number;      // the hop's own coherence with its answer, in standard deviations of noise's (absent: unknown)
 }
 
 /**

@@ -763,3 +763,45 @@ describe('a flat array: elevations are followed but do not split or steal (issue
     }
   });
 });
+
+describe("a call's memory after it ends (hops whose own spectra do not support their direction)", () => {
+  // A caller sweeping 60 deg/s, 0.15 s calls every 0.6 s; after each call the analysis keeps
+  // reporting the call's last direction for 0.17 s (its memory) with confidence 0.8 but a fresh
+  // coherence (freshZ) of 0.5, as measured after a broadband passer's calls in wind (motion matrix
+  // draw 77, pas09: 18-35 during the call, 0-2.6 after it). Bearing noise up to 1 deg.
+  function sweep(withFresh: boolean) {
+    const tracker = new Tracker({});
+    const ids = new Set<number>();
+    let seed = 7;
+    const noise = () => ((seed = (seed * 16807) % 2147483647) / 2147483647 - 0.5) * 2;
+    let callHops = 0;
+    for (let i = 0; i < 440; i++) {
+      const t = 0.005 + i * 0.01;
+      const phase = t % 0.6;
+      const az = (x: number) => -100 + 60 * x;
+      const inCall = phase < 0.15;
+      const tail = !inCall && phase < 0.32;
+      const candidates = inCall || tail ? [{ azimuthDeg: az(inCall ? t : t - phase + 0.15) + noise(), elevationDeg: null, score: 1 }] : [];
+      const u = tracker.update({ timeS: t, levelDbfs: -30, snrDb: inCall ? 30 : 14, onset: 0, confidence: inCall ? 1 : tail ? 0.8 : 0, candidates, ...(withFresh ? { freshZ: inCall ? 20 : 0.5 } : {}) });
+      if (inCall && i > 5) {
+        callHops++;
+        const id = u.trackIds[0];
+        if (id !== null && id !== undefined) ids.add(id);
+      }
+    }
+    return { ids: [...ids], callHops };
+  }
+
+  it('keeps the track alive without moving it: one track for all 8 calls', () => {
+    const r = sweep(true);
+    console.log(`held: call hops on tracks ${r.ids.join(', ')}`);
+    expect(r.callHops).toBeGreaterThan(100);
+    expect(r.ids).toHaveLength(1);
+  });
+
+  it('fed to the filter (no freshZ given), the held directions stop the track and the caller gets a new track per call or two', () => {
+    const r = sweep(false);
+    console.log(`fed: call hops on tracks ${r.ids.join(', ')}`);
+    expect(r.ids.length).toBeGreaterThan(3);
+  });
+});
