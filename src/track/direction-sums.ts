@@ -25,7 +25,6 @@ export class DirectionSums {
   private readonly sumEl2: Float64Array;
   private readonly sumLogHz: Float64Array;
   private readonly nLogHz: Float64Array;
-  private readonly sumLogHz2: Float64Array;
   /** Drift sums: time from the first direction (t), unwrapped working angle (a). */
   private readonly t0: Float64Array;
   private readonly lastRaw: Float64Array;
@@ -55,7 +54,6 @@ export class DirectionSums {
     this.sumEl2 = new Float64Array(size);
     this.sumLogHz = new Float64Array(size);
     this.nLogHz = new Float64Array(size);
-    this.sumLogHz2 = new Float64Array(size);
     this.t0 = new Float64Array(size);
     this.lastRaw = new Float64Array(size);
     this.lastUnwrapped = new Float64Array(size);
@@ -76,7 +74,6 @@ export class DirectionSums {
     this.sumEl2[slot] = 0;
     this.sumLogHz[slot] = 0;
     this.nLogHz[slot] = 0;
-    this.sumLogHz2[slot] = 0;
     this.sumT[slot] = 0;
     this.sumTT[slot] = 0;
     this.sumA[slot] = 0;
@@ -113,7 +110,6 @@ export class DirectionSums {
     if (logHz === logHz) {
       this.sumLogHz[slot] = this.sumLogHz[slot]! + logHz;
       this.nLogHz[slot] = this.nLogHz[slot]! + 1;
-      this.sumLogHz2[slot] = this.sumLogHz2[slot]! + logHz * logHz;
     }
     if (elevationDeg === elevationDeg) {
       this.sumEl[slot] = this.sumEl[slot]! + w * elevationDeg;
@@ -166,14 +162,6 @@ export class DirectionSums {
   meanLogHz(slot: number, minHops: number): number {
     const n = this.nLogHz[slot]!;
     return n >= minHops && n > 0 ? this.sumLogHz[slot]! / n : NaN;
-  }
-
-  /** Standard deviation of the log2 centre frequencies of the hops that carried one (NaN when none did). */
-  logHzSpread(slot: number): number {
-    const n = this.nLogHz[slot]!;
-    if (!(n > 0)) return NaN;
-    const m = this.sumLogHz[slot]! / n;
-    return Math.sqrt(Math.max(0, this.sumLogHz2[slot]! / n - m * m));
   }
 
   /** Weighted mean elevation, or null when no direction carried one. */

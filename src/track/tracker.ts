@@ -137,29 +137,22 @@ const STILL_DRIFT_DEG_S = 2;
  */
 const FLAT_ELEVATION_GATE_DEG = 40;
 /**
- * A candidate heard alone in its hop whose centre frequency (the analysis' support-weighted
- * centre of the bands that support it) lies more than BAND_APART_OCT octaves plus
- * BAND_APART_SPREADS standard deviations of a track's own centres from their mean is outside that
- * track's gate, at its home and at its resting place: a caller in another band is another
- * caller, however near its bearing (a low passer's first calls 5 degrees from a chorus an octave
- * and a half up joined the chorus' track). Only the centres of lone hops count (SIGNATURE_HOPS
- * of them at least), and only once the track has been followed SIGNATURE_SPAN_S: in a hop with
- * several sources the louder caller wins the shared bands, and a talker's syllables (a vowel, then
- * a hiss) move the centre by two octaves and more, so a track must have heard its caller's range
- * before the rule speaks.
- * Chosen on five draws of the motion matrix (test/bench/motion-matrix.ts: 1313, 2027, 77, 4242,
- * 9001; id switches and tracks holding two sources summed, 50 and 14 without the rule) and on
- * speech (espeak-ng, test/track/band-signature.test.ts; the accuracy matrix's speech cells):
- * a fixed 0.9-1.0 octave split callers into many ids (33-48 switches a draw); 2.0 kept five
- * tracks holding two sources on 2027; a fixed 1.5 from the first 10 hops: 40 and 7, but a talker
- * got 2-4 tracks at one bearing (speech cells 1.67 -> 2.11 events per call); 1.5 after 2 s: the
- * same talker at a lower SNR still 3 tracks; 1.0 + 2 spreads after 2 s: 43 and 8, the talker one
- * track; 1.2 + 2 spreads: 49 and 13.
+ * A candidate heard alone in its hop whose centre frequency (the analysis' evidence-weighted
+ * centre of the bands or bins that support it) lies more than BAND_APART_OCT octaves from the
+ * mean of a track's (once SIGNATURE_HOPS of its lone hops gave one) is outside that track's gate,
+ * at its home and at its resting place: a caller in another band is another caller, however near
+ * its bearing (a low passer's first calls 5 degrees from a chorus an octave and a half up joined
+ * the chorus' track). Per hop a lone source's centre spreads by up to about 0.8 octave (a chorus'
+ * harmonics, a sweep). Chosen on the motion matrix (test/bench/motion-matrix.ts, draws 1313,
+ * 2027, 77, 4242, 9001): 0.9 and 1.0 octave split callers into many ids (33-48 switches a draw),
+ * 2.0 kept five tracks holding two sources on draw 2027, 1.5 two. Taking the centres of hops with
+ * several sources too gained wind-blown passes but split a chorus whose call a louder passer's
+ * bands left at its lowest partial (test/accuracy/motion-cells.test.ts): 51 switches and 9 tracks
+ * holding two sources over the five draws, against 45 and 8 with lone hops only (50 and 14
+ * before).
  */
-const BAND_APART_OCT = 1.0;
-const BAND_APART_SPREADS = 2;
+const BAND_APART_OCT = 1.5;
 const SIGNATURE_HOPS = 10;
-const SIGNATURE_SPAN_S = 2;
 /**
  * A hop whose own spectra agree with its answer by less than this many standard deviations of
  * incoherent noise's (the analysis' freshZ) holds only the memory of a call that has ended: for
@@ -563,13 +556,11 @@ export class Tracker {
 
   /**
    * Does candidate j sound in another band than slot s's calls (its centre frequency more than
-   * BAND_APART_OCT plus BAND_APART_SPREADS of the slot's spread from the mean of the slot's, once
-   * SIGNATURE_HOPS hops have given one and the slot has been followed SIGNATURE_SPAN_S)?
+   * BAND_APART_OCT from the mean of the slot's, once SIGNATURE_HOPS hops have given one)?
    */
   private otherBand(s: number, j: number): boolean {
-    if (this.lastSupportT[s]! - this.firstSeenT[s]! < SIGNATURE_SPAN_S) return false;
     const own = this.lifetime.meanLogHz(s, SIGNATURE_HOPS);
-    return Math.abs(this.sc.candLogHz[j]! - own) > BAND_APART_OCT + BAND_APART_SPREADS * this.lifetime.logHzSpread(s);
+    return Math.abs(this.sc.candLogHz[j]! - own) > BAND_APART_OCT;
   }
 
   /** On a flat array: is candidate j's elevation beyond FLAT_ELEVATION_GATE_DEG of elevation ref (false when either is missing)? */

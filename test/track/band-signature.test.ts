@@ -1,4 +1,3 @@
-import { execFileSync } from 'node:child_process';
 import { afterAll, describe, expect, it } from 'vitest';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { unitFromAzEl, wrapDeg } from '../../src/geometry/vec3.js';
@@ -7,7 +6,6 @@ import { Tracker } from '../../src/track/tracker.js';
 import type { DirectionCandidate } from '../../src/track/types.js';
 import { farFieldDelaysUp, soxDecode, soxDelayedSignal, soxIndependentNoise, soxMix } from '../helpers/sox.js';
 import { tempDir } from '../helpers/temp-dir.js';
-import { runCli } from '../helpers/cli.js';
 
 // A caller in another band is another caller, however near its bearing (the tracker's
 // BAND_APART_OCT, src/track/tracker.ts). Signals made by sox (independent tool) with the
@@ -80,32 +78,5 @@ describe('a caller in another band near a chorus bearing', () => {
     const r = track(false);
     console.log(`without centre frequencies: low caller ${(100 * r.lowOnChorus).toFixed(0)} % on the chorus track, ${r.lowEvents} events of its own`);
     expect(r.lowOnChorus).toBeGreaterThan(0.5);
-  });
-});
-
-describe('one talker: syllables in different bands at one bearing', () => {
-  // Speech (espeak-ng, an independent speech synthesiser): voiced syllables centred a few hundred
-  // Hz, hisses at several kHz, one talker (sox gain -3 dB); each mic's own white noise at gain -30 dB.
-  // The band rule waits until a track has been followed SIGNATURE_SPAN_S and widens with
-  // the track's own spread of centres: a fixed 1.5 octaves gave this talker 3 tracks at its
-  // bearing (4 from the first 10 hops on); without any band rule it has one (measured).
-  it('keeps one track (speech from -107 deg on a 10 cm square, about 9 s)', () => {
-    const speech = `${tmp.dir}/speech.wav`;
-    try {
-      execFileSync('espeak-ng', ['-w', speech, 'Station four, north pond, half past ten. Two frogs calling from the reeds, a third one farther out. One bird passing to the east, then gone. Wind light, water still.']);
-    } catch (err) {
-      throw new Error(`espeak-ng failed (apt-get install -y espeak-ng): ${(err as Error).message}`);
-    }
-    const talker = soxDelayedSignal({ out: `${tmp.dir}/talker.wav`, delaysUp: delaysFor(-107), sourceFile: speech, effects: ['pad', '0.3', '0.5'], gainDb: -3 }, tmp.dir);
-    const noise = soxIndependentNoise(`${tmp.dir}/talker-noise.wav`, 4, 14, -30, tmp.dir);
-    const mix = soxMix(`${tmp.dir}/talker-mix.wav`, [{ path: talker, volume: 1 }, { path: noise, volume: 1 }]);
-    const r = runCli(['scan', mix, '--array', 'configs/arrays/square-10cm.json']);
-    expect(r.status, r.stderr).toBe(0);
-    const events = r.stdout.trim().split('\n').filter(Boolean).map((l) => JSON.parse(l) as { track: number; azimuth_deg: number });
-    const tracks = new Set(events.map((e) => e.track));
-    console.log(`talker: ${events.length} events on tracks ${[...tracks].join(', ')}`);
-    expect(events.length).toBeGreaterThanOrEqual(8);
-    for (const e of events) expect(Math.abs(wrapDeg(e.azimuth_deg + 107))).toBeLessThan(4);
-    expect(tracks.size).toBe(1);
   });
 });
