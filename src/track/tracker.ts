@@ -149,7 +149,12 @@ const FLAT_ELEVATION_GATE_DEG = 40;
  * several sources too gained wind-blown passes but split a chorus whose call a louder passer's
  * bands left at its lowest partial (test/accuracy/motion-cells.test.ts): 51 switches and 9 tracks
  * holding two sources over the five draws, against 45 and 8 with lone hops only (50 and 14
- * before).
+ * before). Known cost: a talker's vowels and hisses lie more than 1.5 octaves apart, and one
+ * talker can get two tracks at one bearing (the accuracy matrix's speech cells: 1.00 -> 1.11 and
+ * 1.67 -> 2.11 events per call). Waiting 2 s and widening the gate by 2 of the track's own
+ * spreads of centres kept an espeak-ng talker on one track, but let a reed-frog call join the
+ * passing bird's track in the demo scene with c 0.03 % off (test/accuracy/demo-scene.test.ts);
+ * 1 spread: the talker split again.
  */
 const BAND_APART_OCT = 1.5;
 const SIGNATURE_HOPS = 10;
