@@ -34,9 +34,9 @@ const BIN_SOURCE_RATIO = 0.5;
  * lies below the bins' aliasing limit (above it the bins hear only a blend of what sounds there).
  */
 const BIN_CORRECT_DEG = 25;
+const BIN_CORRECT_LOW_SHARE = 0.5;
 /** The bin directions are worked out on one hop in this many; the hops between reuse their peaks. */
 const BIN_EVERY_HOPS = 2;
-const BIN_CORRECT_LOW_SHARE = 0.5;
 /**
  * The geometry check compares the answer's delays with each pair's own peaks: the strongest
  * OWN_PEAKS, those at least OWN_PEAK_SHARE of the best one's height (a call above the array's
@@ -73,6 +73,8 @@ interface BandSupport {
   dominant: number;
   freqSum: number;
   weightSum: number;
+  /** The support-weighted mean of the bands' centres, Hz (NaN without support). */
+  centreHz: number;
 }
 
 /** One hop's result. The object and its arrays are reused by the next hop: copy what you keep. */
@@ -222,7 +224,7 @@ export class HopAnalyzer {
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
   private readonly order: Int32Array;
   /** The bands supporting the candidate being refined (reused). */
-  private readonly support: BandSupport = { first: -1, last: -1, dominant: -1, freqSum: 0, weightSum: 0 };
+  private readonly support: BandSupport = { first: -1, last: -1, dominant: -1, freqSum: 0, weightSum: 0, centreHz: NaN };
   /** The hop result the stages fill and process() returns (one object, reused every hop). */
   readonly result: HopResult;
   private readonly pairBandScores: Float64Array;
@@ -752,7 +754,7 @@ export class HopAnalyzer {
       const src = res.sources[res.sourceCount]!;
       src.azimuthDeg = this.dir.azimuthDeg;
       src.elevationDeg = this.dir.elevationDeg;
-      src.centreHz = support.weightSum > 0 ? support.freqSum / support.weightSum : NaN;
+      src.centreHz = support.centreHz;
       if (res.sourceCount === 0) {
         this.setWinner(res, f, fusion.totalEvidence, fusedTotal, support, P);
         src.score = 1;
@@ -904,13 +906,14 @@ export class HopAnalyzer {
       if (!use) continue;
       if (sup.first < 0) sup.first = b;
       sup.last = b;
-      sup.freqSum += fusion.supportWeight[b]! * Math.sqrt(this.bands.loHz[b]! * this.bands.hiHz[b]!);
+      sup.freqSum += fusion.supportWeight[b]! * this.bands.centreHz[b]!;
       sup.weightSum += fusion.supportWeight[b]!;
       if (fusion.supportWeight[b]! > domWeight) {
         domWeight = fusion.supportWeight[b]!;
         sup.dominant = b;
       }
     }
+    sup.centreHz = sup.weightSum > 0 ? sup.freqSum / sup.weightSum : NaN;
     return sup;
   }
 
@@ -919,7 +922,7 @@ export class HopAnalyzer {
     if (!(support.weightSum > 0)) return 0;
     let low = 0;
     for (let b = support.first; b <= support.last; b++) {
-      if (this.useBand[b] === 1 && Math.sqrt(this.bands.loHz[b]! * this.bands.hiHz[b]!) < this.binTopHz) low += this.fusion.result.supportWeight[b]!;
+      if (this.useBand[b] === 1 && this.bands.centreHz[b]! < this.binTopHz) low += this.fusion.result.supportWeight[b]!;
     }
     return low / support.weightSum;
   }
@@ -930,7 +933,7 @@ export class HopAnalyzer {
     this.features.agree = Math.min(1, fused / totalEvidence);
     this.features.share = fusedTotal > 0 ? fused / fusedTotal : 0;
     this.features.snrDb = res.snrDb;
-    res.apertureWaves = support.weightSum > 0 ? (support.freqSum / support.weightSum) * this.apertureS : 0;
+    res.apertureWaves = support.weightSum > 0 ? support.centreHz * this.apertureS : 0;
     this.features.apertureWaves = res.apertureWaves;
     this.features.evidence = totalEvidence;
     this.features.onset = res.onset;

@@ -10,6 +10,8 @@ export interface BandLayout {
   readonly end: Int32Array;
   readonly loHz: Float64Array;
   readonly hiHz: Float64Array;
+  /** Each band's centre, the geometric mean of loHz and hiHz. */
+  readonly centreHz: Float64Array;
   /** First and one-past-last bin of all bands together. */
   readonly firstBin: number;
   readonly endBin: number;
@@ -37,5 +39,6 @@ export function makeBands(n: number, sampleRate: number, minHz: number, maxHz: n
     hiHz[b] = e * binHz;
     prev = e;
   }
-  return { count, start, end, loHz, hiHz, firstBin: kLo, endBin: kHi };
+  const centreHz = Float64Array.from(loHz, (lo, b) => Math.sqrt(lo * hiHz[b]!));
+  return { count, start, end, loHz, hiHz, centreHz, firstBin: kLo, endBin: kHi };
 }

@@ -137,8 +137,8 @@ const STILL_DRIFT_DEG_S = 2;
  */
 const FLAT_ELEVATION_GATE_DEG = 40;
 /**
- * A candidate heard alone in its hop whose centre frequency (the analysis' evidence-weighted
- * centre of the bands or bins that support it) lies more than BAND_APART_OCT octaves from the
+ * A candidate heard alone in its hop whose centre frequency (the analysis' support-weighted
+ * centre of the bands that support it) lies more than BAND_APART_OCT octaves from the
  * mean of a track's (once SIGNATURE_HOPS of its lone hops gave one) is outside that track's gate,
  * at its home and at its resting place: a caller in another band is another caller, however near
  * its bearing (a low passer's first calls 5 degrees from a chorus an octave and a half up joined
