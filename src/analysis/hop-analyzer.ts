@@ -182,6 +182,8 @@ export class HopAnalyzer {
   private readonly weightAcc: Float64Array;
   /** Scratch: the bins forgetQuietBins() scales this hop. */
   private readonly quietBins: Int32Array;
+  /** The pairs' cross-spectrum addresses in the kernels' memory (forgetQuietBins; null on the JavaScript path). */
+  private readonly accAddresses: Int32Array | null;
   /** Extra factor per hop on the cross-spectrum of a bin at its noise floor (1 = none). */
   private readonly quietForget: number;
   private readonly bandWeight: Float64Array;
@@ -264,7 +266,7 @@ export class HopAnalyzer {
         ? GccKernels.create(
             GccKernels.bytesFor(
               [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, ...new Array<number>(channels + 1).fill(n), 4],
-              new Array<number>(channels + 5).fill(n),
+              [...new Array<number>(channels + 5).fill(n), bins, 2 * P],
               [options.bands],
             ) +
               8 * options.bands +
@@ -301,7 +303,7 @@ export class HopAnalyzer {
     this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
     const quiet = options.quietMemoryS > 0 ? Math.exp(-hopS / options.quietMemoryS) : 0;
     this.quietForget = this.memory > 0 ? Math.min(1, quiet / this.memory) : 1;
-    this.quietBins = new Int32Array(this.quietForget < 1 ? bins : 0);
+    this.quietBins = k && this.quietForget < 1 ? k.i32(bins) : new Int32Array(this.quietForget < 1 ? bins : 0);
     this.onset = new OnsetWeigher(bins, {
       floor: 1 - options.onsetWeight,
       fullRise: 4,
@@ -310,6 +312,7 @@ export class HopAnalyzer {
       fullPresence: 4,
     }, k, this.quietForget < 1 ? { quietRatio: QUIET_RATIO, loudRatio: LOUD_RATIO, heldDecay: this.memory } : null);
     this.correlators = model.pairs.map((_, p) => new PairCorrelator(n, model.maxLag[p]!, k ? { accRe: k.f64(bins), accIm: k.f64(bins) } : undefined));
+    this.accAddresses = k ? k.crossSpectrumAddresses(this.correlators) : null;
     this.candLags = new Float64Array(candidates * P);
     this.candScores = new Float64Array(candidates);
     this.bandScores = f64(options.bands * candidates);
@@ -583,6 +586,10 @@ export class HopAnalyzer {
     for (let i = 0; i < quiet; i++) if (acc[found[i]!]! > QUIET_HELD) list[n++] = found[i]!;
     if (n === 0) return;
     const r = this.quietForget;
+    if (this.accAddresses !== null) {
+      this.kernels!.scaleListed(this.accAddresses, list, n, r);
+      return;
+    }
     for (const pc of this.correlators) {
       const re = pc.accRe;
       const im = pc.accIm;

@@ -32,6 +32,7 @@ interface KernelExports {
   memory: WasmMemory;
   magnitudes(spec: number, power: number, inv: number, k0: number, k1: number): void;
   times(w: number, inv: number, out: number, k0: number, k1: number): void;
+  scale_listed(acc: number, P: number, list: number, n: number, r: number): void;
   srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
   srp_search(args: number): number;
   window4(x0: number, x1: number, x2: number, x3: number, win: number, w0: number, w1: number, w2: number, w3: number, n: number, ms: number): void;
@@ -231,6 +232,24 @@ export class GccKernels {
   /** window4 for two frames (sums into ms[0..1]); for one frame, give it twice and a spare output. */
   window2(x0: Float64Array, x1: Float64Array, win: Float64Array, w0: Float32Array, w1: Float32Array, ms: Float64Array): void {
     this.x.window2(x0.byteOffset, x1.byteOffset, win.byteOffset, w0.byteOffset, w1.byteOffset, win.length, ms.byteOffset);
+  }
+
+  /**
+   * Bins list[0 .. n) of every cross-spectrum whose accRe and accIm addresses stand in
+   * `addresses` (accRe, accIm of each, from crossSpectrumAddresses) times r.
+   */
+  scaleListed(addresses: Int32Array, list: Int32Array, n: number, r: number): void {
+    this.x.scale_listed(addresses.byteOffset, addresses.length / 2, list.byteOffset, n, r);
+  }
+
+  /** The addresses of the cross-spectra's accRe and accIm (in this memory), for scaleListed. */
+  crossSpectrumAddresses(pcs: readonly CrossSpectrum[]): Int32Array {
+    const at = this.i32(2 * pcs.length);
+    pcs.forEach((pc, p) => {
+      at[2 * p] = pc.accRe.byteOffset;
+      at[2 * p + 1] = pc.accIm.byteOffset;
+    });
+    return at;
   }
 
   /** out[k] = w[k] * inv[k] over [k0, k1). */

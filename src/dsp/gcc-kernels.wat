@@ -62,6 +62,28 @@
         (f64.store (i32.add (local.get $out) (local.get $o))
           (f64.mul (f64.load (i32.add (local.get $w) (local.get $o))) (f64.load (i32.add (local.get $inv) (local.get $o))))))))
 
+  ;; Each of the P cross-spectra whose (re, im) addresses stand in acc[2p], acc[2p + 1] (int32)
+  ;; has its bins list[0 .. n) (int32) scaled by r (HopAnalyzer.forgetQuietBins).
+  (func (export "scale_listed") (param $acc i32) (param $P i32) (param $list i32) (param $n i32) (param $r f64)
+    (local $p i32) (local $i i32) (local $re i32) (local $im i32) (local $o i32)
+    (local.set $p (i32.const 0))
+    (block $pd
+      (loop $pl
+        (br_if $pd (i32.ge_s (local.get $p) (local.get $P)))
+        (local.set $re (i32.load (i32.add (local.get $acc) (i32.shl (local.get $p) (i32.const 3)))))
+        (local.set $im (i32.load offset=4 (i32.add (local.get $acc) (i32.shl (local.get $p) (i32.const 3)))))
+        (local.set $i (i32.const 0))
+        (block $d
+          (loop $l
+            (br_if $d (i32.ge_s (local.get $i) (local.get $n)))
+            (local.set $o (i32.shl (i32.load (i32.add (local.get $list) (i32.shl (local.get $i) (i32.const 2)))) (i32.const 3)))
+            (f64.store (i32.add (local.get $re) (local.get $o)) (f64.mul (f64.load (i32.add (local.get $re) (local.get $o))) (local.get $r)))
+            (f64.store (i32.add (local.get $im) (local.get $o)) (f64.mul (f64.load (i32.add (local.get $im) (local.get $o))) (local.get $r)))
+            (local.set $i (i32.add (local.get $i) (i32.const 1)))
+            (br $l)))
+        (local.set $p (i32.add (local.get $p) (i32.const 1)))
+        (br $pl))))
+
   ;; The inverse FFT's input (RealFft.inverseLags, src/dsp/fft.ts): dst[2k] = re[k] * g[k] and
   ;; dst[2k + 1] = im[k] * g[k] rounded to float32 (g = 0: no scaling), for bins [k0, k1).
   (func (export "scale_pack") (param $re i32) (param $im i32) (param $g i32) (param $dst i32) (param $k0 i32) (param $k1 i32)

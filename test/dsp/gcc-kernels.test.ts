@@ -157,6 +157,21 @@ describe('WebAssembly GCC kernels give the JavaScript kernels results bit for bi
     expect(listed).toBeGreaterThan(100);
   });
 
+  run('listed bins of every cross-spectrum scaled (the forgetting of the bins sound has left)', () => {
+    const both = [filled(k!, 1.5, rand), filled(k!, -3.25, rand)];
+    const before = both.map((pc) => [Float64Array.from(pc.accRe), Float64Array.from(pc.accIm)] as const);
+    const list = k!.i32(bins);
+    list.set([3, 17, 18, 200, 256]);
+    k!.scaleListed(k!.crossSpectrumAddresses(both), list, 4, 0.3);
+    both.forEach((pc, p) => {
+      for (let i = 0; i < bins; i++) {
+        const f = i === 3 || i === 17 || i === 18 || i === 200 ? 0.3 : 1;
+        expect(pc.accRe[i]).toBe(f === 1 ? before[p]![0][i] : before[p]![0][i]! * f);
+        expect(pc.accIm[i]).toBe(f === 1 ? before[p]![1][i] : before[p]![1][i]! * f);
+      }
+    });
+  });
+
   run('magnitudes, weights x 1/|X|, the cross-spectrum memory and the hop coherence on float32 spectra', () => {
     const spec = () => {
       const s = k!.f32(n);
