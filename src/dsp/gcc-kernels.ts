@@ -351,7 +351,8 @@ export class GccKernels {
     ph[2] = Math.sin(stepA);
     ph[3] = same ? ph[2]! : Math.sin(stepB);
     for (let b = 0; b < bands.count; b++) {
-      if (!useBand[b]) continue;
+      // the phasor at the first bin of each run of used bands (within a run it steps on)
+      if (!useBand[b] || (b > 0 && useBand[b - 1])) continue;
       const s = bands.start[b]!;
       const o = 4 + 4 * b;
       ph[o] = Math.cos(stepA * s);

@@ -722,8 +722,9 @@
 
   ;; derivatives2 (src/dsp/gcc-lanes.ts): first and second derivative of two correlations (pair A
   ;; in lane 0, pair B in lane 1) over the bands flagged in use[b] (uint8). ph holds
-  ;; [srA srB siA siB] and, per band b at ph + 32 + 32 b, [prA prB piA piB] (the phasor at the
-  ;; band's first bin). Writes [d1A d1B d2A d2B] at out.
+  ;; [srA srB siA siB] and, per band b that starts a run of used bands (b = 0 or band b - 1 not
+  ;; used), at ph + 32 + 32 b, [prA prB piA piB] (the phasor at the band's first bin); within a
+  ;; run the phasor steps on from the band before. Writes [d1A d1B d2A d2B] at out.
   (func (export "derivatives2") (param $arA i32) (param $aiA i32) (param $arB i32) (param $aiB i32)
     (param $use i32) (param $starts i32) (param $ends i32) (param $nb i32) (param $w0 f64) (param $ph i32) (param $out i32)
     (local $k i32) (local $b i32) (local $e i32) (local $o i32) (local $p i32)
@@ -741,9 +742,11 @@
           (then
             (local.set $k (i32.load (i32.add (local.get $starts) (i32.shl (local.get $b) (i32.const 2)))))
             (local.set $e (i32.load (i32.add (local.get $ends) (i32.shl (local.get $b) (i32.const 2)))))
-            (local.set $p (i32.add (local.get $ph) (i32.add (i32.const 32) (i32.shl (local.get $b) (i32.const 5)))))
-            (local.set $pr (v128.load (local.get $p)))
-            (local.set $pi (v128.load offset=16 (local.get $p)))
+            (if (i32.or (i32.eqz (local.get $b)) (i32.eqz (i32.load8_u (i32.sub (i32.add (local.get $use) (local.get $b)) (i32.const 1)))))
+              (then
+                (local.set $p (i32.add (local.get $ph) (i32.add (i32.const 32) (i32.shl (local.get $b) (i32.const 5)))))
+                (local.set $pr (v128.load (local.get $p)))
+                (local.set $pi (v128.load offset=16 (local.get $p)))))
             (block $d
               (loop $l
                 (br_if $d (i32.ge_s (local.get $k) (local.get $e)))

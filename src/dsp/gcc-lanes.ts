@@ -269,14 +269,21 @@ function derivatives2(pa: PairCorrelator, pb: PairCorrelator, bands: BandLayout,
   const siA = Math.sin(stepA);
   const srB = Math.cos(stepB);
   const siB = Math.sin(stepB);
+  let prA = 0;
+  let piA = 0;
+  let prB = 0;
+  let piB = 0;
   for (let b = 0; b < bands.count; b++) {
     if (!useBand[b]) continue;
     const s = bands.start[b]!;
     const e = bands.end[b]!;
-    let prA = Math.cos(stepA * s);
-    let piA = Math.sin(stepA * s);
-    let prB = Math.cos(stepB * s);
-    let piB = Math.sin(stepB * s);
+    if (b === 0 || !useBand[b - 1]) {
+      // the first band of a run of used bands; within a run the phasor steps on
+      prA = Math.cos(stepA * s);
+      piA = Math.sin(stepA * s);
+      prB = Math.cos(stepB * s);
+      piB = Math.sin(stepB * s);
+    }
     for (let k = s; k < e; k++) {
       const w = w0 * k;
       const ww = w * w;

@@ -158,15 +158,20 @@ export function refineLag(pc: PairCorrelator, bands: BandLayout, useBand: Uint8A
   for (let it = 0; it < iterations; it++) {
     let d1 = 0;
     let d2 = 0;
+    const step = w0 * tau;
+    const sr = Math.cos(step);
+    const si = Math.sin(step);
+    let pr = 0;
+    let pi = 0;
     for (let b = 0; b < bands.count; b++) {
       if (!useBand[b]) continue;
       const s = bands.start[b]!;
       const e = bands.end[b]!;
-      const step = w0 * tau;
-      const sr = Math.cos(step);
-      const si = Math.sin(step);
-      let pr = Math.cos(step * s);
-      let pi = Math.sin(step * s);
+      if (b === 0 || !useBand[b - 1]) {
+        // the first band of a run of used bands; within a run the phasor steps on
+        pr = Math.cos(step * s);
+        pi = Math.sin(step * s);
+      }
       for (let k = s; k < e; k++) {
         const w = w0 * k;
         const re = ar[k]! * pr - ai[k]! * pi;
