@@ -4,7 +4,7 @@ import { addBandScores, hopCoherence, PairCorrelator, refineLag } from '../dsp/g
 import { addBandScoresLanes, hopCoherence2, refineLagLanes } from '../dsp/gcc-lanes.js';
 import { GccKernels } from '../dsp/gcc-kernels.js';
 import { OnsetWeigher } from '../dsp/onset.js';
-import { hannWindow } from '../dsp/window.js';
+import { hannWindow, windowFrame } from '../dsp/window.js';
 import type { Direction, DirectionModel } from '../direction/direction-model.js';
 import { wrapDeg } from '../geometry/vec3.js';
 import type { ResolvedAnalysis } from './analysis-options.js';
@@ -162,14 +162,14 @@ export class HopAnalyzer {
   private readonly kPackedBins: Float32Array | null;
   /**
    * The spectra stage on the kernels: one frame per channel in their memory (the framer may fill
-   * them in place: inputFrames()), the window, and four windowed frames (float32).
+   * them in place: inputFrames()), the window, and a windowed frame (float32).
    */
   private readonly kFrames: Float64Array[];
   private readonly kWindow: Float64Array | null;
-  private readonly kWindowed: Float32Array[];
+  private readonly kWindowed: Float32Array | null;
   private readonly window: Float64Array;
-  /** Four windowed frames (FFT inputs): channels are windowed up to four at a time. */
-  private readonly windowed: FftBuffer[];
+  /** The windowed frame (the FFT's input). */
+  private readonly windowed: FftBuffer;
   /** Interleaved half spectrum (re, im) per channel, in the FFT's own buffers. */
   private readonly spectra: FftBuffer[];
   /** 1 / |X_c,k| per channel (0 for an empty bin): PHAT divides by |X_a X_b| = |X_a| |X_b|. */
@@ -221,8 +221,6 @@ export class HopAnalyzer {
   private readonly refineScratch: Float64Array;
   private readonly refineActive: Uint8Array;
   private readonly fresh2 = new Float64Array(2);
-  /** The sums of squares of the channels windowed together (spectra stage). */
-  private readonly meanSquares: Float64Array;
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
   private readonly order: Int32Array;
   /** The bands supporting the candidate being refined (reused). */
@@ -265,8 +263,8 @@ export class HopAnalyzer {
       this.fft.backend === 'pffft' && kernelPath === 'auto'
         ? GccKernels.create(
             GccKernels.bytesFor(
-              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, ...new Array<number>(channels + 1).fill(n), 4],
-              [...new Array<number>(channels + 5).fill(n), bins, 2 * P],
+              [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, ...new Array<number>(channels + 1).fill(n)],
+              [...new Array<number>(channels + 2).fill(n), bins, 2 * P],
               [options.bands],
             ) +
               8 * options.bands +
@@ -285,9 +283,8 @@ export class HopAnalyzer {
     this.kFrames = k ? Array.from({ length: channels }, () => k.f64(n)) : [];
     this.kWindow = k ? k.f64(n) : null;
     this.kWindow?.set(this.window);
-    this.kWindowed = k ? Array.from({ length: 4 }, () => k.f32(n)) : [];
-    this.meanSquares = k ? k.f64(4) : new Float64Array(4);
-    this.windowed = Array.from({ length: Math.min(4, channels) }, () => this.fft.createInput());
+    this.kWindowed = k ? k.f32(n) : null;
+    this.windowed = this.fft.createInput();
     this.spectra = Array.from({ length: channels }, () => this.fft.createSpectrum());
     this.kSpectraBins = k ? this.spectra.map((sp) => (sp as Float32Array).subarray(2 * firstBin, 2 * endBin)) : [];
     this.kPackedBins = this.kPacked ? this.kPacked.subarray(2 * firstBin, 2 * endBin) : null;
@@ -422,102 +419,37 @@ export class HopAnalyzer {
 
     let totalMs = 0;
     const power = this.power;
-    const window = this.window;
-    const C = this.channels;
+    const kern = this.kernels;
     power.fill(0, k0, k1);
-    const ms = this.meanSquares;
-    for (let c = 0; c < C; ) {
-      // Up to four channels per pass over the frame: each channel's sum of squares runs in its
-      // own order, as one at a time (the same figures), and the sums overlap in the processor.
-      const m = C - c >= 4 ? 4 : C - c >= 2 ? 2 : 1;
-      const x0 = frames[c]!;
-      const w0 = this.windowed[0]!;
-      let ms0 = 0;
-      let ms1 = 0;
-      let ms2 = 0;
-      let ms3 = 0;
-      const kern = this.kernels;
+    for (let c = 0; c < this.channels; c++) {
+      let sumSquares: number;
       if (kern) {
-        // The frames into the kernels' memory (unless the framer wrote them there), windowed
-        // there (float32), then into PFFFT's inputs.
-        const kf = this.kFrames;
-        for (let j = 0; j < m; j++) if (frames[c + j] !== kf[c + j]) kf[c + j]!.set(frames[c + j]!);
-        const kw = this.kWindowed;
-        if (m === 4) kern.window4(kf[c]!, kf[c + 1]!, kf[c + 2]!, kf[c + 3]!, this.kWindow!, kw[0]!, kw[1]!, kw[2]!, kw[3]!, ms);
-        else kern.window2(kf[c]!, kf[c + m - 1]!, this.kWindow!, kw[0]!, kw[1]!, ms);
-        for (let j = 0; j < m; j++) (this.windowed[j] as Float32Array).set(this.kWindowed[j]!);
-        ms0 = ms[0]!;
-        ms1 = ms[1]!;
-        ms2 = ms[2]!;
-        ms3 = ms[3]!;
-      } else if (m === 4) {
-        const x1 = frames[c + 1]!;
-        const x2 = frames[c + 2]!;
-        const x3 = frames[c + 3]!;
-        const w1 = this.windowed[1]!;
-        const w2 = this.windowed[2]!;
-        const w3 = this.windowed[3]!;
-        for (let i = 0; i < n; i++) {
-          const v0 = x0[i]!;
-          const v1 = x1[i]!;
-          const v2 = x2[i]!;
-          const v3 = x3[i]!;
-          const h = window[i]!;
-          ms0 += v0 * v0;
-          ms1 += v1 * v1;
-          ms2 += v2 * v2;
-          ms3 += v3 * v3;
-          w0[i] = v0 * h;
-          w1[i] = v1 * h;
-          w2[i] = v2 * h;
-          w3[i] = v3 * h;
-        }
-      } else if (m === 2) {
-        const x1 = frames[c + 1]!;
-        const w1 = this.windowed[1]!;
-        for (let i = 0; i < n; i++) {
-          const v0 = x0[i]!;
-          const v1 = x1[i]!;
-          const h = window[i]!;
-          ms0 += v0 * v0;
-          ms1 += v1 * v1;
-          w0[i] = v0 * h;
-          w1[i] = v1 * h;
-        }
-      } else {
-        for (let i = 0; i < n; i++) {
-          const v0 = x0[i]!;
-          ms0 += v0 * v0;
-          w0[i] = v0 * window[i]!;
-        }
+        // The frame into the kernels' memory (unless the framer wrote it there), windowed there
+        // (float32), then into PFFFT's input.
+        const kf = this.kFrames[c]!;
+        if (frames[c] !== kf) kf.set(frames[c]!);
+        sumSquares = kern.window1(kf, this.kWindow!, this.kWindowed!);
+        (this.windowed as Float32Array).set(this.kWindowed!);
+      } else sumSquares = windowFrame(frames[c]!, this.window, this.windowed);
+      const meanSquare = sumSquares / n;
+      totalMs += meanSquare;
+      res.channelLevelsDbfs[c] = toDb(meanSquare);
+      const spec = this.spectra[c]!;
+      this.fft.forwardInterleaved(this.windowed, spec);
+      const inv = this.invMag[c]!;
+      if (kern) {
+        const copy = this.kSpectra[c]!;
+        copy.set(this.kSpectraBins[c]!, 2 * k0);
+        kern.magnitudes(copy, power, inv, k0, k1);
+        continue;
       }
-      ms[0] = ms0;
-      ms[1] = ms1;
-      ms[2] = ms2;
-      ms[3] = ms3;
-      for (let j = 0; j < m; j++) {
-        const ch = c + j;
-        const meanSquare = ms[j]! / n;
-        totalMs += meanSquare;
-        res.channelLevelsDbfs[ch] = toDb(meanSquare);
-        const spec = this.spectra[ch]!;
-        this.fft.forwardInterleaved(this.windowed[j]!, spec);
-        const inv = this.invMag[ch]!;
-        if (this.kernels) {
-          const copy = this.kSpectra[ch]!;
-          copy.set(this.kSpectraBins[ch]!, 2 * k0);
-          this.kernels.magnitudes(copy, power, inv, k0, k1);
-          continue;
-        }
-        for (let k = k0; k < k1; k++) {
-          const r = spec[2 * k]!;
-          const i = spec[2 * k + 1]!;
-          const p2 = r * r + i * i;
-          power[k] += p2;
-          inv[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
-        }
+      for (let k = k0; k < k1; k++) {
+        const r = spec[2 * k]!;
+        const i = spec[2 * k + 1]!;
+        const p2 = r * r + i * i;
+        power[k] += p2;
+        inv[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
       }
-      c += m;
     }
     res.levelDbfs = toDb(totalMs / this.channels);
   }

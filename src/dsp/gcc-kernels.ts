@@ -35,8 +35,7 @@ interface KernelExports {
   scale_listed(acc: number, P: number, list: number, n: number, r: number): void;
   srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
   srp_search(args: number): number;
-  window4(x0: number, x1: number, x2: number, x3: number, win: number, w0: number, w1: number, w2: number, w3: number, n: number, ms: number): void;
-  window2(x0: number, x1: number, win: number, w0: number, w1: number, n: number, ms: number): void;
+  window1(x: number, win: number, w: number, n: number): number;
   band_sums(power: number, nf: number, acc: number, w: number, m: number, starts: number, ends: number, nb: number, sp: number, sn: number, sa: number, k0: number, k1: number): void;
   onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number, held: number, out: number, count: number): number;
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
@@ -221,18 +220,11 @@ export class GccKernels {
     this.x.band_sums(power.byteOffset, noise.byteOffset, acc.byteOffset, w.byteOffset, memory, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, sumPower.byteOffset, sumNoise.byteOffset, sumAcc.byteOffset, k0, k1);
   }
 
-  /**
-   * Four frames x0..x3 (float64, in this memory) times the window into w0..w3 (float32), each
-   * frame's sum of squares (sample by sample, in order) into ms[0..3].
-   */
-  window4(x0: Float64Array, x1: Float64Array, x2: Float64Array, x3: Float64Array, win: Float64Array, w0: Float32Array, w1: Float32Array, w2: Float32Array, w3: Float32Array, ms: Float64Array): void {
-    this.x.window4(x0.byteOffset, x1.byteOffset, x2.byteOffset, x3.byteOffset, win.byteOffset, w0.byteOffset, w1.byteOffset, w2.byteOffset, w3.byteOffset, win.length, ms.byteOffset);
+  /** windowFrame (./window.ts): the frame x (float64, in this memory) times the window into w (float32); returns its sum of squares. */
+  window1(x: Float64Array, win: Float64Array, w: Float32Array): number {
+    return this.x.window1(x.byteOffset, win.byteOffset, w.byteOffset, win.length);
   }
 
-  /** window4 for two frames (sums into ms[0..1]); for one frame, give it twice and a spare output. */
-  window2(x0: Float64Array, x1: Float64Array, win: Float64Array, w0: Float32Array, w1: Float32Array, ms: Float64Array): void {
-    this.x.window2(x0.byteOffset, x1.byteOffset, win.byteOffset, w0.byteOffset, w1.byteOffset, win.length, ms.byteOffset);
-  }
 
   /**
    * Bins list[0 .. n) of every cross-spectrum whose accRe and accIm addresses stand in

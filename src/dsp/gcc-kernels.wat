@@ -507,54 +507,30 @@
         (local.set $b (i32.add (local.get $b) (i32.const 1)))
         (br $bl))))
 
-;; The spectra stage's window (HopAnalyzer.spectraStage): four channels x0..x3 (float64 frames of
-  ;; n samples) times the window into w0..w3 (float32), and each channel's sum of squares added
-  ;; sample by sample in order into ms[0..3]. Channels (x0, x1) and (x2, x3) are the two lanes of
-  ;; one f64x2 each: every lane does the scalar loop's operations (v * v added to its sum, v * h
-  ;; rounded to float32) in the same order, so the results are the same bits.
-  (func (export "window4") (param $x0 i32) (param $x1 i32) (param $x2 i32) (param $x3 i32) (param $win i32)
-    (param $w0 i32) (param $w1 i32) (param $w2 i32) (param $w3 i32) (param $n i32) (param $ms i32)
-    (local $o i32) (local $o4 i32) (local $end i32) (local $h v128) (local $v01 v128) (local $v23 v128)
-    (local $m01 v128) (local $m23 v128) (local $f01 v128) (local $f23 v128)
+  ;; windowFrame (src/dsp/window.ts): one frame x (float64, n samples, n a multiple of 4) times the
+  ;; window into w (float32); returns its sum of squares: four partial sums (samples i mod 4, lanes
+  ;; of two vectors) added as (s0 + s2) + (s1 + s3), the JavaScript's order.
+  (func (export "window1") (param $x i32) (param $win i32) (param $w i32) (param $n i32) (result f64)
+    (local $o i32) (local $o4 i32) (local $end i32) (local $v0 v128) (local $v1 v128) (local $a v128) (local $b v128)
     (local.set $end (i32.shl (local.get $n) (i32.const 3)))
     (block $d
       (loop $l
         (br_if $d (i32.ge_u (local.get $o) (local.get $end)))
-        (local.set $h (v128.load64_splat (i32.add (local.get $win) (local.get $o))))
-        (local.set $v01 (v128.load64_lane 1 (i32.add (local.get $x1) (local.get $o)) (v128.load64_zero (i32.add (local.get $x0) (local.get $o)))))
-        (local.set $v23 (v128.load64_lane 1 (i32.add (local.get $x3) (local.get $o)) (v128.load64_zero (i32.add (local.get $x2) (local.get $o)))))
-        (local.set $m01 (f64x2.add (local.get $m01) (f64x2.mul (local.get $v01) (local.get $v01))))
-        (local.set $m23 (f64x2.add (local.get $m23) (f64x2.mul (local.get $v23) (local.get $v23))))
-        (local.set $f01 (f32x4.demote_f64x2_zero (f64x2.mul (local.get $v01) (local.get $h))))
-        (local.set $f23 (f32x4.demote_f64x2_zero (f64x2.mul (local.get $v23) (local.get $h))))
-        (v128.store32_lane 0 (i32.add (local.get $w0) (local.get $o4)) (local.get $f01))
-        (v128.store32_lane 1 (i32.add (local.get $w1) (local.get $o4)) (local.get $f01))
-        (v128.store32_lane 0 (i32.add (local.get $w2) (local.get $o4)) (local.get $f23))
-        (v128.store32_lane 1 (i32.add (local.get $w3) (local.get $o4)) (local.get $f23))
-        (local.set $o (i32.add (local.get $o) (i32.const 8)))
-        (local.set $o4 (i32.add (local.get $o4) (i32.const 4)))
+        (local.set $v0 (v128.load (i32.add (local.get $x) (local.get $o))))
+        (local.set $v1 (v128.load offset=16 (i32.add (local.get $x) (local.get $o))))
+        (local.set $a (f64x2.add (local.get $a) (f64x2.mul (local.get $v0) (local.get $v0))))
+        (local.set $b (f64x2.add (local.get $b) (f64x2.mul (local.get $v1) (local.get $v1))))
+        (v128.store (i32.add (local.get $w) (local.get $o4))
+          (i8x16.shuffle 0 1 2 3 4 5 6 7 16 17 18 19 20 21 22 23
+            (f32x4.demote_f64x2_zero (f64x2.mul (local.get $v0) (v128.load (i32.add (local.get $win) (local.get $o)))))
+            (f32x4.demote_f64x2_zero (f64x2.mul (local.get $v1) (v128.load offset=16 (i32.add (local.get $win) (local.get $o)))))))
+        (local.set $o (i32.add (local.get $o) (i32.const 32)))
+        (local.set $o4 (i32.add (local.get $o4) (i32.const 16)))
         (br $l)))
-    (v128.store (local.get $ms) (local.get $m01))
-    (v128.store offset=16 (local.get $ms) (local.get $m23)))
+    (local.set $a (f64x2.add (local.get $a) (local.get $b)))
+    (f64.add (f64x2.extract_lane 0 (local.get $a)) (f64x2.extract_lane 1 (local.get $a))))
 
-  ;; window4 for two channels (x0, x1 into w0, w1; sums into ms[0..1]): one f64x2, the same lanes.
-  (func (export "window2") (param $x0 i32) (param $x1 i32) (param $win i32) (param $w0 i32) (param $w1 i32) (param $n i32) (param $ms i32)
-    (local $o i32) (local $o4 i32) (local $end i32) (local $v01 v128) (local $m01 v128) (local $f01 v128)
-    (local.set $end (i32.shl (local.get $n) (i32.const 3)))
-    (block $d
-      (loop $l
-        (br_if $d (i32.ge_u (local.get $o) (local.get $end)))
-        (local.set $v01 (v128.load64_lane 1 (i32.add (local.get $x1) (local.get $o)) (v128.load64_zero (i32.add (local.get $x0) (local.get $o)))))
-        (local.set $m01 (f64x2.add (local.get $m01) (f64x2.mul (local.get $v01) (local.get $v01))))
-        (local.set $f01 (f32x4.demote_f64x2_zero (f64x2.mul (local.get $v01) (v128.load64_splat (i32.add (local.get $win) (local.get $o))))))
-        (v128.store32_lane 0 (i32.add (local.get $w0) (local.get $o4)) (local.get $f01))
-        (v128.store32_lane 1 (i32.add (local.get $w1) (local.get $o4)) (local.get $f01))
-        (local.set $o (i32.add (local.get $o) (i32.const 8)))
-        (local.set $o4 (i32.add (local.get $o4) (i32.const 4)))
-        (br $l)))
-    (v128.store (local.get $ms) (local.get $m01)))
-
-    ;; PairCorrelator.accumulate (src/dsp/gcc.ts), two bins per step:
+  ;; PairCorrelator.accumulate (src/dsp/gcc.ts), two bins per step:
   ;;   g = wA[k] * invB[k]; ar[k] = m * ar[k] + (xr*yr + xi*yi) * g; ai[k] = m * ai[k] + (xr*yi - xi*yr) * g
   (func (export "accumulate") (param $a i32) (param $b i32) (param $wa i32) (param $ib i32) (param $ar i32) (param $ai i32)
     (param $k0 i32) (param $k1 i32) (param $m f64)
