@@ -917,29 +917,20 @@ export class HopAnalyzer {
     let sum = 0;
     let p = 0;
     const kern = this.kernels;
-    if (kern) {
-      const ks = this.kSpectra;
-      for (; p < P; p += 2) {
-        const [a0, b0] = pairs[p]!;
-        const q = p + 1 < P ? p + 1 : p;
-        const [a1, b1] = pairs[q]!;
-        kern.hopCoherence2(ks[a0]!, ks[b0]!, inv[a0]!, inv[b0]!, this.refined[p]!, ks[a1]!, ks[b1]!, inv[a1]!, inv[b1]!, this.refined[q]!, this.frame, k0, k1, two);
-        sum += two[0]!;
-        if (q !== p) sum += two[1]!;
-      }
-      return Math.max(0, sum / P);
-    }
-    // Two pairs per pass (the same sums as one at a time, added in the same order).
+    const ks = this.kSpectra;
+    // Two pairs per pass (the same sums as one at a time, added in the same order); an odd one
+    // alone (its bins' halves side by side on the kernels).
     for (; p + 2 <= P; p += 2) {
       const [a0, b0] = pairs[p]!;
       const [a1, b1] = pairs[p + 1]!;
-      hopCoherence2(sp[a0]!, sp[b0]!, inv[a0]!, inv[b0]!, this.refined[p]!, sp[a1]!, sp[b1]!, inv[a1]!, inv[b1]!, this.refined[p + 1]!, this.frame, k0, k1, two);
+      if (kern) kern.hopCoherence2(ks[a0]!, ks[b0]!, inv[a0]!, inv[b0]!, this.refined[p]!, ks[a1]!, ks[b1]!, inv[a1]!, inv[b1]!, this.refined[p + 1]!, this.frame, k0, k1, two);
+      else hopCoherence2(sp[a0]!, sp[b0]!, inv[a0]!, inv[b0]!, this.refined[p]!, sp[a1]!, sp[b1]!, inv[a1]!, inv[b1]!, this.refined[p + 1]!, this.frame, k0, k1, two);
       sum += two[0]!;
       sum += two[1]!;
     }
     if (p < P) {
       const [a, b] = pairs[p]!;
-      sum += hopCoherence(sp[a]!, sp[b]!, inv[a]!, inv[b]!, this.frame, this.refined[p]!, k0, k1);
+      sum += kern ? kern.hopCoherence1(ks[a]!, ks[b]!, inv[a]!, inv[b]!, this.refined[p]!, this.frame, k0, k1) : hopCoherence(sp[a]!, sp[b]!, inv[a]!, inv[b]!, this.frame, this.refined[p]!, k0, k1);
     }
     return Math.max(0, sum / P);
   }

@@ -2,6 +2,7 @@ import { existsSync, readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import type { BandLayout } from './bands.js';
 import { assembleWat, kernelTextPath } from './gcc-kernels-assemble.js';
+import { coherenceSum } from './gcc.js';
 import { clampToStart, newtonStep, startNewton } from './gcc-lanes.js';
 
 /**
@@ -362,7 +363,7 @@ export class GccKernels {
 
   /**
    * hopCoherence2 (./gcc-lanes.ts) on float32 spectra in this memory: pair 0 (a0, b0 at lag0) into
-   * out[0], pair 1 into out[1]. For one pair alone, pass it twice.
+   * out[0], pair 1 into out[1]. For one pair alone, hopCoherence1.
    */
   hopCoherence2(
     a0: Float32Array, b0: Float32Array, invA0: Float64Array, invB0: Float64Array, lag0: number,
@@ -378,6 +379,28 @@ export class GccKernels {
     this.x.hop_coherence2(a0.byteOffset, b0.byteOffset, a1.byteOffset, b1.byteOffset, invA0.byteOffset, invB0.byteOffset, invA1.byteOffset, invB1.byteOffset, first, end, this.ph.byteOffset, this.out.byteOffset);
     out[0] = this.out[0]! / (end - first);
     out[1] = this.out[1]! / (end - first);
+  }
+
+  /**
+   * hopCoherence (./gcc.ts) of one pair on float32 spectra in this memory: the two halves of its
+   * bins side by side in the lanes of hop_coherence2 (lane 1 reads the arrays from the second
+   * half's first bin on), the odd first bin alone.
+   */
+  hopCoherence1(a: Float32Array, b: Float32Array, invA: Float64Array, invB: Float64Array, lag: number, n: number, first: number, end: number): number {
+    if (end <= first) return 0;
+    const start = first + ((end - first) & 1);
+    const half = (end - start) >> 1;
+    const v = start > first ? coherenceSum(a, b, invA, invB, n, lag, first, start) : 0;
+    if (half === 0) return v / (end - first);
+    const ph = this.ph;
+    setPhasors(ph, 0, lag, lag, n, start);
+    // lane 1's recursion starts at the second half
+    const step = (2 * Math.PI * lag) / n;
+    ph[5] = Math.cos(step * (start + half));
+    ph[7] = Math.sin(step * (start + half));
+    const shift = 8 * half; // bytes: one bin of an interleaved float32 spectrum or of a float64 array
+    this.x.hop_coherence2(a.byteOffset, b.byteOffset, a.byteOffset + shift, b.byteOffset + shift, invA.byteOffset, invB.byteOffset, invA.byteOffset + shift, invB.byteOffset + shift, start, start + half, ph.byteOffset, this.out.byteOffset);
+    return (v + (this.out[0]! + this.out[1]!)) / (end - first);
   }
 }
 

@@ -310,8 +310,9 @@ function derivatives2(pa: PairCorrelator, pb: PairCorrelator, bands: BandLayout,
 }
 
 /**
- * hopCoherence (./gcc.ts) of two pairs (spectra a0, b0 at lag0 and a1, b1 at lag1) over the
- * same bins, into out[0] and out[1].
+ * coherenceSum (./gcc.ts) of two pairs (spectra a0, b0 at lag0 and a1, b1 at lag1) over the
+ * same bins, divided by their count, into out[0] and out[1] (hopCoherence's mean, each pair's
+ * bins in one recursion).
  */
 export function hopCoherence2(
   a0: ArrayLike<number>,
