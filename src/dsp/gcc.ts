@@ -235,16 +235,7 @@ export function hopCoherence(
 }
 
 /** The sum over bins [first, end) of hopCoherence's terms, one phasor recursion from `first` (0 for no bins). */
-export function coherenceSum(
-  a: ArrayLike<number>,
-  b: ArrayLike<number>,
-  invA: Float64Array,
-  invB: Float64Array,
-  n: number,
-  lag: number,
-  first: number,
-  end: number,
-): number {
+export function coherenceSum(a: ArrayLike<number>, b: ArrayLike<number>, invA: Float64Array, invB: Float64Array, n: number, lag: number, first: number, end: number): number {
   const step = (2 * Math.PI * lag) / n;
   const sr = Math.cos(step);
   const si = Math.sin(step);
