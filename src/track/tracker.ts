@@ -734,6 +734,7 @@ export class Tracker {
       this.eventCount[s] = 0;
       this.activeS[s] = 0;
       this.firstSeenT[s] = sc.hop[TIME]!;
+      this.lastFreeT[s] = -Infinity;
       this.still[s] = 0;
       this.lifetime.reset(s);
       this.cutter.reset(s);
