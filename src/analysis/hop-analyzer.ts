@@ -71,7 +71,7 @@ interface BandSupport {
   first: number;
   last: number;
   dominant: number;
-  freqSum: number;
+  /** The bands' summed support weight. */
   weightSum: number;
   /** The support-weighted mean of the bands' centres, Hz (NaN without support). */
   centreHz: number;
@@ -224,7 +224,7 @@ export class HopAnalyzer {
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
   private readonly order: Int32Array;
   /** The bands supporting the candidate being refined (reused). */
-  private readonly support: BandSupport = { first: -1, last: -1, dominant: -1, freqSum: 0, weightSum: 0, centreHz: NaN };
+  private readonly support: BandSupport = { first: -1, last: -1, dominant: -1, weightSum: 0, centreHz: NaN };
   /** The hop result the stages fill and process() returns (one object, reused every hop). */
   readonly result: HopResult;
   private readonly pairBandScores: Float64Array;
@@ -836,8 +836,8 @@ export class HopAnalyzer {
     sup.first = -1;
     sup.last = -1;
     sup.dominant = -1;
-    sup.freqSum = 0;
     sup.weightSum = 0;
+    let freqSum = 0;
     let domWeight = 0;
     for (let b = 0; b < this.bands.count; b++) {
       const use = fusion.supportOf[b] === c;
@@ -845,14 +845,14 @@ export class HopAnalyzer {
       if (!use) continue;
       if (sup.first < 0) sup.first = b;
       sup.last = b;
-      sup.freqSum += fusion.supportWeight[b]! * this.bands.centreHz[b]!;
+      freqSum += fusion.supportWeight[b]! * this.bands.centreHz[b]!;
       sup.weightSum += fusion.supportWeight[b]!;
       if (fusion.supportWeight[b]! > domWeight) {
         domWeight = fusion.supportWeight[b]!;
         sup.dominant = b;
       }
     }
-    sup.centreHz = sup.weightSum > 0 ? sup.freqSum / sup.weightSum : NaN;
+    sup.centreHz = sup.weightSum > 0 ? freqSum / sup.weightSum : NaN;
     return sup;
   }
 

@@ -564,8 +564,10 @@ export class Tracker {
    * BAND_APART_OCT from the mean of the slot's, once SIGNATURE_HOPS hops have given one)?
    */
   private otherBand(s: number, j: number): boolean {
-    const own = this.lifetime.meanLogHz(s, SIGNATURE_HOPS);
-    return Math.abs(this.sc.candLogHz[j]! - own) > BAND_APART_OCT;
+    const logHz = this.sc.candLogHz[j]!;
+    // (a candidate of a hop with several sources carries none)
+    if (logHz !== logHz) return false;
+    return Math.abs(logHz - this.lifetime.meanLogHz(s, SIGNATURE_HOPS)) > BAND_APART_OCT;
   }
 
   /** On a flat array: is candidate j's elevation beyond FLAT_ELEVATION_GATE_DEG of elevation ref (false when either is missing)? */
