@@ -39,6 +39,8 @@ export interface AnalysisOptions {
   lagMargin?: number;
   /** Arrays of 3+ mics: the direction search reads the correlation curves of at most this many pairs, the longest baselines, equal lengths taken whole (0 = all). */
   searchPairs?: number;
+  /** Quiet hops (best band below detectSnrDb) after a hop where nothing sounded get the direction search only every n-th hop (1 = every hop). */
+  quietSearchEvery?: number;
 }
 
 export type ResolvedAnalysis = Required<AnalysisOptions>;
@@ -60,6 +62,7 @@ export const ANALYSIS_DEFAULTS = {
   voting: true,
   lagMargin: 0.1,
   searchPairs: 15,
+  quietSearchEvery: 1,
 } as const;
 
 /** Most candidates the band fusion can compare per hop (--max-candidates), and so sources per hop. */
@@ -116,6 +119,7 @@ export const analysisOptionSpecs: readonly OptionSpec<keyof AnalysisOptions>[] =
   flagOption('voting', 'no-voting', true, 'turn band fusion off (plain weighted GCC-PHAT peak, for comparison)'),
   numberOption('lagMargin', 'lag-margin', 'fraction', ANALYSIS_DEFAULTS.lagMargin, { min: 0, max: 1 }, 'extra delay allowed beyond spacing / c'),
   numberOption('searchPairs', 'search-pairs', 'n', ANALYSIS_DEFAULTS.searchPairs, { min: 0, max: 28, integer: true }, 'arrays of 3 or more mics: the direction search reads the correlation curves of at most this many pairs, those of the longest baselines, pairs of equal length taken whole and the longest group always (0 = all; 15 keeps every pair of up to 6 mics and 12 of an 8-mic circle); fewer: fewer inverse FFTs per hop; the band fusion and the refinement use every pair'),
+  numberOption('quietSearchEvery', 'quiet-search-every', 'n', ANALYSIS_DEFAULTS.quietSearchEvery, { min: 1, max: 100, integer: true }, 'hops whose best band stays below --detect-snr, after a hop where nothing sounded, get the direction search only every n-th hop: less CPU on quiet nights, but a steady source that the noise floor has learned is found up to n hops later (1 = every hop)'),
 ];
 
 /**

@@ -235,6 +235,11 @@ export class HopAnalyzer {
   private binsAt = -1;
   /** Whether the last hop computed its pair correlations (a silent hop does not). */
   private lastHopCorrelated = false;
+  /** Whether the last hop had something sounding (its best band at --detect-snr, or its fresh coherence), and the quiet hops since (skipQuietHop). */
+  private lastSounding = false;
+  private quietRun = 0;
+  /** Hops that went through the direction stages (4-6) so far: all but the silent ones and those skipQuietHop skipped. */
+  searchedHops = 0;
   /** Whether the last hop computed every pair's correlation curve (else only the model's curvePairs). */
   private allCurves = false;
 
@@ -401,7 +406,10 @@ export class HopAnalyzer {
   process(frames: readonly Float64Array[]): HopResult {
     this.spectraStage(frames);
     this.weightStage();
-    if (this.crossSpectraStage()) {
+    const sounded = this.lastSounding;
+    this.lastSounding = false;
+    if (this.crossSpectraStage() && !this.skipQuietHop(sounded)) {
+      this.searchedHops++;
       this.correlationStage();
       this.fusionStage(this.candidateStage());
     }
@@ -568,6 +576,27 @@ export class HopAnalyzer {
   }
 
   /**
+   * Stage 3b (--quiet-search-every n > 1): a hop whose best band stays below --detect-snr,
+   * when the hop before had nothing sounding (`sounded`), skips the direction stages, except
+   * every n-th such hop in a row (a steady source that the noise floor has learned sounds only
+   * through its fresh coherence, which the direction stages measure). A skipped hop reports no
+   * estimate, as a hop where nothing sounds (the tracker takes no candidate from those); its
+   * correlations are computed only when asked for (lastCorrelations). Returns true to skip.
+   */
+  private skipQuietHop(sounded: boolean): boolean {
+    const every = this.options.quietSearchEvery;
+    if (every <= 1 || sounded || this.result.snrDb >= this.options.detectSnrDb) {
+      this.quietRun = 0;
+      return false;
+    }
+    if (++this.quietRun % every === 0) return false;
+    this.clearEstimate(this.result);
+    this.prevValid = false;
+    this.allCurves = false;
+    return true;
+  }
+
+  /**
    * Stage 4: each pair's correlation over the lags it can take (one inverse FFT per pair). With
    * fusion, every band has the say of its evidence; without, the plain weighted GCC-PHAT over all bins.
    */
@@ -709,6 +738,7 @@ export class HopAnalyzer {
     const sounding = res.snrDb >= opts.detectSnrDb || res.freshZ >= FRESH_Z;
     if (sounding && res.sourceCount > 0 && this.binDirections !== null) this.addBinSources(res, this.binDirections, winFused);
     if (!sounding) res.confidence = 0;
+    this.lastSounding = sounding;
     res.valid = res.sourceCount > 0 && sounding && res.confidence >= opts.minConfidence;
     this.prevValid = res.sourceCount > 0;
     if (this.prevValid) for (let p = 0; p < P; p++) this.prevLags[p] = res.tdoaS[p]! * this.sampleRate;

@@ -8,10 +8,12 @@
  *     schedule), three at once on the same writes (liveStationShares: the same seconds of the
  *     machine's load for each); the CPU time of each listen process (its threads' run time in
  *     /proc/PID/task/TID/schedstat, nanoseconds) over the
- *     wall time after the first WARM_S seconds (start-up and JIT warm-up left out: for about
- *     the first half minute V8 still compiles the hot paths on its background threads, which
- *     cost the process 0.4-0.7 % of a core then and about nothing after; a station runs all
- *     night, so the share that counts is the one after), with the
+ *     wall time after the first WARM_S seconds (start-up and JIT warm-up left out: V8 compiles
+ *     the hot paths on its background threads once they have run often enough, which the
+ *     low-CPU profile, with half the hops and most quiet ones not searched, reaches later: its
+ *     V8 threads still took about 0.3 % of a core between 30 and 45 s and about nothing after
+ *     (schedstat per thread); a station runs all night, so the share that counts is the one
+ *     after), with the
  *     defaults (stdin analysed every 0.1 s), with --profile station-low-cpu (analysed once a
  *     second; stdin, a Unix socket here, read 5 times a second: three quarters of half its send
  *     buffer hold 0.208 s) and with the defaults reading every write as it arrives (--read-every 0).
@@ -59,8 +61,8 @@ export function presetShares(seconds = 5): PresetShare[] {
   });
 }
 
-/** Seconds of each live run before its CPU is counted (start-up, the JIT's warm-up). */
-const WARM_S = 30;
+/** Seconds of each live run before its CPU is counted (start-up, the JIT's warm-up; see above). */
+const WARM_S = 60;
 const CHANNELS = 4;
 const BLOCK = 960; // 20 ms at 48 kHz
 
@@ -172,7 +174,7 @@ export async function liveStationShares(cases: LiveCase[], seconds = 30, warmS =
 }
 
 export async function runStationCpuBench(liveSeconds = 30, warmS = WARM_S): Promise<string[]> {
-  const lines = [`CPU share of one core at real time, 48 kHz, per array preset (per-hop path: analysis, tracking, records), defaults and --profile ${LOW_CPU}:`];
+  const lines = [`CPU share of one core at real time, 48 kHz, per array preset (per-hop path: analysis, tracking, records; every hop searched, as in a calling chorus), defaults and --profile ${LOW_CPU}:`];
   lines.push(`  ${'case'.padEnd(25)} ${'defaults'.padStart(9)} ${LOW_CPU.padStart(16)}  low/defaults`);
   for (const r of presetShares()) {
     lines.push(`  ${r.name.padEnd(25)} ${`${r.defaultsPct.toFixed(2)}%`.padStart(9)} ${`${r.lowCpuPct.toFixed(2)}%`.padStart(16)}  ${(r.lowCpuPct / r.defaultsPct).toFixed(2).padStart(12)}`);
