@@ -38,6 +38,15 @@ const BIN_CORRECT_LOW_SHARE = 0.5;
 /** The bin directions are worked out on one hop in this many; the hops between reuse their peaks. */
 const BIN_EVERY_HOPS = 2;
 /**
+ * A fusion winner more than this many degrees from each of two bin peaks on either side of it is
+ * two callers heard as one (splitMergedWinner). Chosen on the motion matrix (eight draws; sources
+ * >= 80 % complete summed over the draws / id switches / tracks holding two sources): without the
+ * rule 605 / 81 / 12; at 3 deg 609 / 86 / 12, at 5 deg 613 / 79 / 12, at 8 deg 613 / 84 / 14
+ * (the winner moved to the nearer peak; to the heavier one, at 5 deg: 613 / 80 / 12, but a rumble's
+ * peak could take a call's answer: more confident-and-wrong hops in the matrix's rumble cells).
+ */
+const MERGED_APART_DEG = 5;
+/**
  * The geometry check compares the answer's delays with each pair's own peaks: the strongest
  * OWN_PEAKS, those at least OWN_PEAK_SHARE of the best one's height (a call above the array's
  * aliasing limit, or a second caller, gives a pair several near-equal peaks, and its best one
@@ -238,6 +247,8 @@ export class HopAnalyzer {
   /** Whether the last hop had something sounding (its best band at --detect-snr, or its fresh coherence), and the quiet hops since (skipQuietHop). */
   private lastSounding = false;
   private quietRun = 0;
+  /** The bin peak splitMergedWinner read the winner at. */
+  private mergedNear = 0;
   /** Hops that went through the direction stages (4-6) so far: all but the silent ones and those skipQuietHop skipped. */
   searchedHops = 0;
   /** Whether the last hop computed every pair's correlation curve (else only the model's curvePairs). */
@@ -745,11 +756,43 @@ export class HopAnalyzer {
   }
 
   /**
+   * Two callers heard as one (addBinSources): the two heaviest bin peaks that are
+   * BIN_SOURCE_APART_DEG apart, the lighter holding BIN_SOURCE_RATIO of the heavier, with the
+   * winner between them and more than MERGED_APART_DEG from each. At low frequencies a small
+   * array's beam is wider than two callers' spacing and the search finds one peak between them;
+   * the bins, each heard from one caller, do not. The winner is read at the nearer peak (its own
+   * caller, bent towards the other), and a further source of the fusion near the other peak at
+   * that peak; the caller left out is then added as a further source by the bins. Returns whether
+   * the winner moved (mergedNear: its peak).
+   */
+  private splitMergedWinner(res: HopResult, bins: BinDirections, usable: number): boolean {
+    let b = -1;
+    for (let j = 1; j < usable && b < 0; j++) if (Math.abs(wrapDeg(bins.peakAz[j]! - bins.peakAz[0]!)) > BIN_SOURCE_APART_DEG) b = j;
+    if (b < 0 || bins.peakMass[b]! < BIN_SOURCE_RATIO * bins.peakMass[0]!) return false;
+    const winner = res.sources[0]!;
+    const d0 = wrapDeg(winner.azimuthDeg - bins.peakAz[0]!);
+    const dB = wrapDeg(winner.azimuthDeg - bins.peakAz[b]!);
+    if (Math.sign(d0) === Math.sign(dB) || Math.abs(d0) <= MERGED_APART_DEG || Math.abs(dB) <= MERGED_APART_DEG || Math.abs(d0) + Math.abs(dB) > 180) return false;
+    const near = Math.abs(dB) < Math.abs(d0) ? b : 0;
+    const other = near === 0 ? b : 0;
+    winner.azimuthDeg = bins.peakAz[near]!;
+    if (winner.elevationDeg !== null && bins.peakEl[near] === bins.peakEl[near]) winner.elevationDeg = bins.peakEl[near]!;
+    for (let j = 0; j < usable; j++) this.peakOfWinner[j] = Math.abs(wrapDeg(bins.peakAz[j]! - winner.azimuthDeg)) <= BIN_SOURCE_APART_DEG ? 1 : 0;
+    for (let i = 1; i < res.sourceCount; i++) {
+      const src = res.sources[i]!;
+      if (Math.abs(wrapDeg(src.azimuthDeg - bins.peakAz[other]!)) <= BIN_CORRECT_DEG) src.azimuthDeg = bins.peakAz[other]!;
+    }
+    this.mergedNear = near;
+    return true;
+  }
+
+  /**
    * The callers the bins hear apart (./bin-directions.ts), from the peaks that hold at least
    * SOURCE_RATIO of the winner's fused evidence: a further source of the fusion supported mostly
    * below the bins' top frequency is read at the nearest peak within BIN_CORRECT_DEG (not the
    * winner's); a peak BIN_SOURCE_APART_DEG from every source holding BIN_SOURCE_RATIO of the
-   * winner's is a further source, scored by that ratio. The winner keeps the fusion's answer.
+   * winner's is a further source, scored by that ratio. The winner keeps the fusion's answer,
+   * unless it lies between two bin peaks (two callers heard as one: splitMergedWinner).
    */
   private addBinSources(res: HopResult, bins: BinDirections, winFused: number): void {
     // Every BIN_EVERY_HOPS hops: the memory they read changes over about 14 hops (0.15 s), so the
@@ -771,6 +814,7 @@ export class HopAnalyzer {
     }
     if (usable === 0) return;
     if (ref === 0) ref = winFused;
+    if (this.lowSupport[0]! >= BIN_CORRECT_LOW_SHARE && usable >= 2 && this.splitMergedWinner(res, bins, usable)) ref = bins.peakMass[this.mergedNear]!;
     for (let i = 1; i < res.sourceCount; i++) {
       if (this.lowSupport[i]! < BIN_CORRECT_LOW_SHARE) continue;
       const src = res.sources[i]!;
