@@ -762,8 +762,8 @@ export class HopAnalyzer {
    * array's beam is wider than two callers' spacing and the search finds one peak between them;
    * the bins, each heard from one caller, do not. The winner is read at the nearer peak (its own
    * caller, bent towards the other), and a further source of the fusion near the other peak at
-   * that peak; the caller left out is then added as a further source by the bins. Returns whether
-   * the winner moved (mergedNear: its peak).
+   * that peak; the caller left out is then added as a further source by the bins. The hop's
+   * delays (tdoaS) stay the fusion's. Returns whether the winner moved (mergedNear: its peak).
    */
   private splitMergedWinner(res: HopResult, bins: BinDirections, usable: number): boolean {
     let b = -1;
