@@ -34,12 +34,13 @@ describe('bearline listen through a stand-in recorder on PATH', () => {
     const gap = gaps[0]!;
     expect(gap.gap).toMatch(/^sox exited with code 3 \(sox FAIL: capture device went away\)$/);
     // The gap sits where run 1's 4 s of audio ended (stream time), and covers the restart:
-    // 0.5 s of back-off plus the new process's start. Loose bounds, a sanity check only.
+    // 0.5 s of back-off plus the new process's start. Loose bounds, a sanity check only (on a
+    // loaded 2-core machine the restart once took 3.1 s).
     expect(gap.start_s as number).toBeGreaterThan(3.8);
     expect(gap.start_s as number).toBeLessThan(4.8);
     const lost = (gap.end_s as number) - (gap.start_s as number);
     expect(lost).toBeGreaterThan(0.3);
-    expect(lost).toBeLessThan(3);
+    expect(lost).toBeLessThan(6);
     expect(Date.parse(gap.utc as string)).not.toBeNaN();
     expect(run.stderr()).toMatch(/sox exited with code 3 .*; restarting sox in 0\.5 s/);
     // The same gap record, whole, in the station's gap log next to its events log.
