@@ -247,8 +247,6 @@ export class HopAnalyzer {
   /** Whether the last hop had something sounding (its best band at --detect-snr, or its fresh coherence), and the quiet hops since (skipQuietHop). */
   private lastSounding = false;
   private quietRun = 0;
-  /** The bin peak splitMergedWinner read the winner at. */
-  private mergedNear = 0;
   /** Hops that went through the direction stages (4-6) so far: all but the silent ones and those skipQuietHop skipped. */
   searchedHops = 0;
   /** Whether the last hop computed every pair's correlation curve (else only the model's curvePairs). */
@@ -761,29 +759,19 @@ export class HopAnalyzer {
    * winner between them and more than MERGED_APART_DEG from each. At low frequencies a small
    * array's beam is wider than two callers' spacing and the search finds one peak between them;
    * the bins, each heard from one caller, do not. The winner is read at the nearer peak (its own
-   * caller, bent towards the other), and a further source of the fusion near the other peak at
-   * that peak; the caller left out is then added as a further source by the bins. The hop's
-   * delays (tdoaS) stay the fusion's. Returns whether the winner moved (mergedNear: its peak).
+   * caller, bent towards the other); addBinSources then reads the other caller as any caller the
+   * bins hear apart. The hop's delays (tdoaS) stay the fusion's.
    */
-  private splitMergedWinner(res: HopResult, bins: BinDirections, usable: number): boolean {
+  private splitMergedWinner(winner: HopResult['sources'][number], bins: BinDirections, usable: number): void {
     let b = -1;
     for (let j = 1; j < usable && b < 0; j++) if (Math.abs(wrapDeg(bins.peakAz[j]! - bins.peakAz[0]!)) > BIN_SOURCE_APART_DEG) b = j;
-    if (b < 0 || bins.peakMass[b]! < BIN_SOURCE_RATIO * bins.peakMass[0]!) return false;
-    const winner = res.sources[0]!;
+    if (b < 0 || bins.peakMass[b]! < BIN_SOURCE_RATIO * bins.peakMass[0]!) return;
     const d0 = wrapDeg(winner.azimuthDeg - bins.peakAz[0]!);
     const dB = wrapDeg(winner.azimuthDeg - bins.peakAz[b]!);
-    if (Math.sign(d0) === Math.sign(dB) || Math.abs(d0) <= MERGED_APART_DEG || Math.abs(dB) <= MERGED_APART_DEG || Math.abs(d0) + Math.abs(dB) > 180) return false;
+    if (Math.sign(d0) === Math.sign(dB) || Math.abs(d0) <= MERGED_APART_DEG || Math.abs(dB) <= MERGED_APART_DEG || Math.abs(d0) + Math.abs(dB) > 180) return;
     const near = Math.abs(dB) < Math.abs(d0) ? b : 0;
-    const other = near === 0 ? b : 0;
     winner.azimuthDeg = bins.peakAz[near]!;
     if (winner.elevationDeg !== null && bins.peakEl[near] === bins.peakEl[near]) winner.elevationDeg = bins.peakEl[near]!;
-    for (let j = 0; j < usable; j++) this.peakOfWinner[j] = Math.abs(wrapDeg(bins.peakAz[j]! - winner.azimuthDeg)) <= BIN_SOURCE_APART_DEG ? 1 : 0;
-    for (let i = 1; i < res.sourceCount; i++) {
-      const src = res.sources[i]!;
-      if (Math.abs(wrapDeg(src.azimuthDeg - bins.peakAz[other]!)) <= BIN_CORRECT_DEG) src.azimuthDeg = bins.peakAz[other]!;
-    }
-    this.mergedNear = near;
-    return true;
   }
 
   /**
@@ -802,19 +790,21 @@ export class HopAnalyzer {
     if (!reuse) this.binsAt = this.hopIndex - 1;
     const winner = res.sources[0]!;
     // Peaks count in the fusion's units (evidence): one must hold what a further source of the
-    // fusion needs. Those within BIN_SOURCE_APART_DEG of the winner are its own; the largest of
-    // them is what a caller the fusion did not report is weighed against (the same measure), or
-    // the winner's fused evidence when the bins do not hear it.
+    // fusion needs.
     let usable = 0;
-    let ref = 0;
-    for (; usable < count && bins.peakMass[usable]! >= SOURCE_RATIO * winFused; usable++) {
-      const own = Math.abs(wrapDeg(bins.peakAz[usable]! - winner.azimuthDeg)) <= BIN_SOURCE_APART_DEG;
-      this.peakOfWinner[usable] = own ? 1 : 0;
-      if (own) ref = Math.max(ref, bins.peakMass[usable]!);
-    }
+    while (usable < count && bins.peakMass[usable]! >= SOURCE_RATIO * winFused) usable++;
     if (usable === 0) return;
+    if (this.lowSupport[0]! >= BIN_CORRECT_LOW_SHARE) this.splitMergedWinner(winner, bins, usable);
+    // Those within BIN_SOURCE_APART_DEG of the winner are its own; the largest of them is what a
+    // caller the fusion did not report is weighed against (the same measure), or the winner's
+    // fused evidence when the bins do not hear it.
+    let ref = 0;
+    for (let j = 0; j < usable; j++) {
+      const own = Math.abs(wrapDeg(bins.peakAz[j]! - winner.azimuthDeg)) <= BIN_SOURCE_APART_DEG;
+      this.peakOfWinner[j] = own ? 1 : 0;
+      if (own) ref = Math.max(ref, bins.peakMass[j]!);
+    }
     if (ref === 0) ref = winFused;
-    if (this.lowSupport[0]! >= BIN_CORRECT_LOW_SHARE && usable >= 2 && this.splitMergedWinner(res, bins, usable)) ref = bins.peakMass[this.mergedNear]!;
     for (let i = 1; i < res.sourceCount; i++) {
       if (this.lowSupport[i]! < BIN_CORRECT_LOW_SHARE) continue;
       const src = res.sources[i]!;

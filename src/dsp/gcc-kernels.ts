@@ -226,7 +226,6 @@ export class GccKernels {
     return this.x.window1(x.byteOffset, win.byteOffset, w.byteOffset, win.length);
   }
 
-
   /**
    * Bins list[0 .. n) of every cross-spectrum whose accRe and accIm addresses stand in
    * `addresses` (accRe, accIm of each, from crossSpectrumAddresses) times r.
