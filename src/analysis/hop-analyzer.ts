@@ -1,6 +1,6 @@
 import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft, type FftBuffer } from '../dsp/fft.js';
-import { addBandScores, hopCoherence, PairCorrelator, refineLag } from '../dsp/gcc.js';
+import { addBandScores, hopCoherence, PairCorrelator } from '../dsp/gcc.js';
 import { addBandScoresLanes, hopCoherence2, refineLagLanes } from '../dsp/gcc-lanes.js';
 import { GccKernels } from '../dsp/gcc-kernels.js';
 import { OnsetWeigher } from '../dsp/onset.js';
@@ -724,7 +724,6 @@ export class HopAnalyzer {
         for (let b = 0; b < this.bands.count; b++) this.useBand[b] = this.evidence[b]! > 0 ? 1 : 0;
       }
       if (this.kernels) this.kernels.refineLags(this.correlators, this.frame, this.useBand, this.candLags, c * P, this.refined, this.refineScratch, this.refineActive);
-      else if (P === 1) this.refined[0] = refineLag(this.correlators[0]!, this.bands, this.useBand, this.candLags[c]!);
       else refineLagLanes(this.correlators, this.bands, this.useBand, this.candLags, c * P, this.refined, this.refineScratch, this.refineActive);
       if (!this.model.solve(this.refined, 0, this.dir)) continue;
       if (this.binDirections !== null) this.lowSupport[res.sourceCount] = this.lowShare(support);

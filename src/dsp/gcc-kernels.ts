@@ -44,6 +44,7 @@ interface KernelExports {
   band_scores4(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
   band_scores2(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
   derivatives2(arA: number, aiA: number, arB: number, aiB: number, use: number, starts: number, ends: number, nb: number, w0: number, ph: number, out: number): void;
+  derivatives1(ar: number, ai: number, k0: number, k1: number, w0: number, ph: number, out: number): void;
   hop_coherence2(a0: number, b0: number, a1: number, b1: number, ia0: number, ib0: number, ia1: number, ib1: number, k0: number, k1: number, ph: number, out: number): void;
 }
 
@@ -324,10 +325,39 @@ export class GccKernels {
         this.derivatives2(pcs[pending]!, pcs[p]!, n, useBand, lagsOut[pending]!, lagsOut[p]!, d, 2 * pending, 2 * p);
         pending = -1;
       }
-      if (pending >= 0) this.derivatives2(pcs[pending]!, pcs[pending]!, n, useBand, lagsOut[pending]!, lagsOut[pending]!, d, 2 * pending, 2 * pending);
+      if (pending >= 0) this.derivatives1(pcs[pending]!, n, useBand, lagsOut[pending]!, d, 2 * pending);
       if (!newtonStep(P, d, active, lagsOut)) break;
     }
     clampToStart(pcs, lagsIn, lagOffset, lagsOut);
+  }
+
+  /**
+   * derivatives2 for one pair alone (a pair array, or the odd pair out): its bins two at a time
+   * in the two lanes, one call per run of used bands (the bands are contiguous).
+   */
+  private derivatives1(pa: CrossSpectrum, n: number, useBand: Uint8Array, ta: number, d: Float64Array, oa: number): void {
+    const bands = this.bands!;
+    const w0 = (2 * Math.PI) / n;
+    const step = w0 * ta;
+    const ph = this.ph;
+    const out = this.out;
+    out.fill(0);
+    ph[0] = ph[1] = Math.cos(2 * step);
+    ph[2] = ph[3] = Math.sin(2 * step);
+    for (let b = 0; b < bands.count; b++) {
+      if (!useBand[b]) continue;
+      let e = b;
+      while (e + 1 < bands.count && useBand[e + 1]) e++;
+      const k0 = bands.start[b]!;
+      ph[4] = Math.cos(step * k0);
+      ph[5] = Math.cos(step * (k0 + 1));
+      ph[6] = Math.sin(step * k0);
+      ph[7] = Math.sin(step * (k0 + 1));
+      this.x.derivatives1(pa.accRe.byteOffset, pa.accIm.byteOffset, k0, bands.end[e]!, w0, ph.byteOffset, out.byteOffset);
+      b = e;
+    }
+    d[oa] = out[0]! + out[1]!;
+    d[oa + 1] = out[2]! + out[3]!;
   }
 
   private derivatives2(pa: CrossSpectrum, pb: CrossSpectrum, n: number, useBand: Uint8Array, ta: number, tb: number, d: Float64Array, oa: number, ob: number): void {

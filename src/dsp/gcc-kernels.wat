@@ -746,6 +746,54 @@
     (v128.store (local.get $out) (local.get $d1))
     (v128.store offset=16 (local.get $out) (local.get $d2)))
 
+;; derivatives2 for one pair alone over bins [k0, k1) (a run of used bands): bin k in lane 0 and
+  ;; bin k + 1 in lane 1, the phasors stepping two bins at a time; an odd last bin in lane 0 alone.
+  ;; ph holds [s2r s2r s2i s2i] (the phasor of two bins' step) and [pr(k0) pr(k0+1) pi(k0)
+  ;; pi(k0+1)]. Adds the lanes' sums to [d1 d1 d2 d2] at out (the caller adds the lanes).
+  (func (export "derivatives1") (param $ar i32) (param $ai i32) (param $k0 i32) (param $k1 i32) (param $w0 f64) (param $ph i32) (param $out i32)
+    (local $k i32) (local $o i32)
+    (local $sr v128) (local $si v128) (local $pr v128) (local $pi v128) (local $x v128) (local $y v128)
+    (local $w v128) (local $ww v128) (local $d1 v128) (local $d2 v128) (local $t v128) (local $ws f64)
+    (local.set $sr (v128.load (local.get $ph)))
+    (local.set $si (v128.load offset=16 (local.get $ph)))
+    (local.set $pr (v128.load offset=32 (local.get $ph)))
+    (local.set $pi (v128.load offset=48 (local.get $ph)))
+    (local.set $d1 (v128.load (local.get $out)))
+    (local.set $d2 (v128.load offset=16 (local.get $out)))
+    (local.set $k (local.get $k0))
+    (block $d
+      (loop $l
+        (br_if $d (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $k1)))
+        (local.set $ws (f64.mul (local.get $w0) (f64.convert_i32_s (local.get $k))))
+        (local.set $w (f64x2.replace_lane 1 (f64x2.splat (local.get $ws)) (f64.add (local.get $ws) (local.get $w0))))
+        (local.set $ww (f64x2.mul (local.get $w) (local.get $w)))
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (local.set $x (v128.load (i32.add (local.get $ar) (local.get $o))))
+        (local.set $y (v128.load (i32.add (local.get $ai) (local.get $o))))
+        (local.set $d1 (f64x2.sub (local.get $d1)
+          (f64x2.mul (local.get $w) (f64x2.add (f64x2.mul (local.get $x) (local.get $pi)) (f64x2.mul (local.get $y) (local.get $pr))))))
+        (local.set $d2 (f64x2.sub (local.get $d2)
+          (f64x2.mul (local.get $ww) (f64x2.sub (f64x2.mul (local.get $x) (local.get $pr)) (f64x2.mul (local.get $y) (local.get $pi))))))
+        (local.set $t (f64x2.sub (f64x2.mul (local.get $pr) (local.get $sr)) (f64x2.mul (local.get $pi) (local.get $si))))
+        (local.set $pi (f64x2.add (f64x2.mul (local.get $pr) (local.get $si)) (f64x2.mul (local.get $pi) (local.get $sr))))
+        (local.set $pr (local.get $t))
+        (local.set $k (i32.add (local.get $k) (i32.const 2)))
+        (br $l)))
+    (if (i32.lt_s (local.get $k) (local.get $k1))
+      (then
+        (local.set $ws (f64.mul (local.get $w0) (f64.convert_i32_s (local.get $k))))
+        (local.set $w (f64x2.replace_lane 1 (f64x2.splat (local.get $ws)) (f64.const 0)))
+        (local.set $ww (f64x2.mul (local.get $w) (local.get $w)))
+        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
+        (local.set $x (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $ar) (local.get $o))) (f64.const 0)))
+        (local.set $y (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $ai) (local.get $o))) (f64.const 0)))
+        (local.set $d1 (f64x2.sub (local.get $d1)
+          (f64x2.mul (local.get $w) (f64x2.add (f64x2.mul (local.get $x) (local.get $pi)) (f64x2.mul (local.get $y) (local.get $pr))))))
+        (local.set $d2 (f64x2.sub (local.get $d2)
+          (f64x2.mul (local.get $ww) (f64x2.sub (f64x2.mul (local.get $x) (local.get $pr)) (f64x2.mul (local.get $y) (local.get $pi))))))))
+    (v128.store (local.get $out) (local.get $d1))
+    (v128.store offset=16 (local.get $out) (local.get $d2)))
+
   ;; hopCoherence2 (src/dsp/gcc-lanes.ts): the sums of two pairs (lane 0: spectra a0, b0; lane 1:
   ;; a1, b1) over bins [k0, k1), before the division by the bin count. ph holds
   ;; [sr0 sr1 si0 si1 pr0 pr1 pi0 pi1]. Writes [acc0 acc1] at out.

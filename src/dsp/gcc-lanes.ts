@@ -201,7 +201,7 @@ export function refineLagLanes(
       derivatives2(pcs[pending]!, pcs[p]!, bands, useBand, lagsOut[pending]!, lagsOut[p]!, d, 2 * pending, 2 * p);
       pending = -1;
     }
-    if (pending >= 0) derivatives2(pcs[pending]!, pcs[pending]!, bands, useBand, lagsOut[pending]!, lagsOut[pending]!, d, 2 * pending, 2 * pending);
+    if (pending >= 0) derivatives1(pcs[pending]!, bands, useBand, lagsOut[pending]!, d, 2 * pending);
     if (!newtonStep(P, d, active, lagsOut)) break;
   }
   clampToStart(pcs, lagsIn, lagOffset, lagsOut);
@@ -253,6 +253,65 @@ export function clampToStart(pcs: readonly { readonly maxLag: number }[], lagsIn
 }
 
 /** First and second derivative of two pairs' correlations at their lags over the used bands, into d[oa], d[oa + 1] and d[ob], d[ob + 1]. */
+/**
+ * derivatives2 for one pair alone (a pair array, or the odd pair out): per run of used bands
+ * (the bands are contiguous), bin k in lane 0 and bin k + 1 in lane 1, the phasors stepping two
+ * bins at a time, an odd last bin in lane 0 alone; the lanes added at the end. The WebAssembly
+ * kernel (gcc-kernels.wat, derivatives1) does the same sums in the same order.
+ */
+function derivatives1(pa: PairCorrelator, bands: BandLayout, useBand: Uint8Array, ta: number, d: Float64Array, oa: number): void {
+  const w0 = (2 * Math.PI) / pa.n;
+  const ar = pa.accRe;
+  const ai = pa.accIm;
+  const step = w0 * ta;
+  const sr = Math.cos(2 * step);
+  const si = Math.sin(2 * step);
+  let d1a = 0;
+  let d2a = 0;
+  let d1b = 0;
+  let d2b = 0;
+  for (let b = 0; b < bands.count; b++) {
+    if (!useBand[b]) continue;
+    let last = b;
+    while (last + 1 < bands.count && useBand[last + 1]) last++;
+    const k0 = bands.start[b]!;
+    const k1 = bands.end[last]!;
+    let prA = Math.cos(step * k0);
+    let prB = Math.cos(step * (k0 + 1));
+    let piA = Math.sin(step * k0);
+    let piB = Math.sin(step * (k0 + 1));
+    let k = k0;
+    for (; k + 2 <= k1; k += 2) {
+      const wa = w0 * k;
+      const wb = wa + w0;
+      const xa = ar[k]!;
+      const ya = ai[k]!;
+      const xb = ar[k + 1]!;
+      const yb = ai[k + 1]!;
+      d1a -= wa * (xa * piA + ya * prA);
+      d1b -= wb * (xb * piB + yb * prB);
+      d2a -= wa * wa * (xa * prA - ya * piA);
+      d2b -= wb * wb * (xb * prB - yb * piB);
+      const ta2 = prA * sr - piA * si;
+      piA = prA * si + piA * sr;
+      prA = ta2;
+      const tb2 = prB * sr - piB * si;
+      piB = prB * si + piB * sr;
+      prB = tb2;
+    }
+    if (k < k1) {
+      const wa = w0 * k;
+      const xa = ar[k]!;
+      const ya = ai[k]!;
+      d1a -= wa * (xa * piA + ya * prA);
+      d2a -= wa * wa * (xa * prA - ya * piA);
+    }
+    b = last;
+  }
+  d[oa] = d1a + d1b;
+  d[oa + 1] = d2a + d2b;
+}
+
 function derivatives2(pa: PairCorrelator, pb: PairCorrelator, bands: BandLayout, useBand: Uint8Array, ta: number, tb: number, d: Float64Array, oa: number, ob: number): void {
   const w0 = (2 * Math.PI) / pa.n;
   const arA = pa.accRe;
