@@ -805,3 +805,48 @@ describe("a call's memory after it ends (hops whose own spectra do not support t
     expect(r.ids.length).toBeGreaterThan(3);
   });
 });
+
+describe('weak hops between a passer\'s calls (too weak to start an event)', () => {
+  // A passer sweeping +30 deg/s, 0.1 s calls every 0.55 s (SNR 30 dB, confidence 1); between its
+  // calls, for 0.35 s, low and weakly coherent sound (SNR 8 dB, confidence 0.45, fresh coherence
+  // 6: above the held-memory limit) reads directions walking from the last call backwards at
+  // -40 deg/s, as measured between a passer's calls in wind on a 10 cm tetrahedron (motion
+  // matrix draw 8080, cho01: SNR 5-11 dB, confidence 0.25-0.65, freshZ 4-9.5). Bearing noise up
+  // to 1 deg.
+  function pass(options: ConstructorParameters<typeof Tracker>[0]) {
+    const tracker = new Tracker(options);
+    const ids = new Set<number>();
+    let seed = 11;
+    const noise = () => ((seed = (seed * 16807) % 2147483647) / 2147483647 - 0.5) * 2;
+    let callHops = 0;
+    for (let i = 0; i < 500; i++) {
+      const t = 0.005 + i * 0.01;
+      const phase = t % 0.55;
+      const callAz = -90 + 30 * t;
+      const inCall = phase < 0.1;
+      const weak = !inCall && phase < 0.45;
+      const az = inCall ? callAz : -90 + 30 * (t - phase + 0.1) - 40 * (phase - 0.1);
+      const candidates = inCall || weak ? [{ azimuthDeg: az + noise(), elevationDeg: null, score: 1 }] : [];
+      const u = tracker.update({ timeS: t, levelDbfs: -30, snrDb: inCall ? 30 : weak ? 8 : 0, onset: 0, confidence: inCall ? 1 : weak ? 0.45 : 0, candidates, freshZ: inCall ? 20 : 6 });
+      if (inCall && i > 5) {
+        callHops++;
+        const id = u.trackIds[0];
+        if (id !== null && id !== undefined) ids.add(id);
+      }
+    }
+    return { ids: [...ids], callHops };
+  }
+
+  it('support the track without moving it: one track for all 9 calls', () => {
+    const r = pass({});
+    console.log(`weak hops held: call hops on tracks ${r.ids.join(', ')}`);
+    expect(r.callHops).toBeGreaterThan(80);
+    expect(r.ids).toHaveLength(1);
+  });
+
+  it('with the event-enter SNR at 5 dB (so they could start an event) they move it, and the passer gets more than one track', () => {
+    const r = pass({ eventEnterSnrDb: 5, eventLeaveSnrDb: 5 });
+    console.log(`weak hops fed: call hops on tracks ${r.ids.join(', ')}`);
+    expect(r.ids.length).toBeGreaterThan(1);
+  });
+});
