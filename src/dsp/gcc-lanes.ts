@@ -252,7 +252,6 @@ export function clampToStart(pcs: readonly { readonly maxLag: number }[], lagsIn
   }
 }
 
-/** First and second derivative of two pairs' correlations at their lags over the used bands, into d[oa], d[oa + 1] and d[ob], d[ob + 1]. */
 /**
  * derivatives2 for one pair alone (a pair array, or the odd pair out): per run of used bands
  * (the bands are contiguous), bin k in lane 0 and bin k + 1 in lane 1, the phasors stepping two
@@ -312,6 +311,7 @@ function derivatives1(pa: PairCorrelator, bands: BandLayout, useBand: Uint8Array
   d[oa + 1] = d2a + d2b;
 }
 
+/** First and second derivative of two pairs' correlations at their lags over the used bands, into d[oa], d[oa + 1] and d[ob], d[ob + 1]. */
 function derivatives2(pa: PairCorrelator, pb: PairCorrelator, bands: BandLayout, useBand: Uint8Array, ta: number, tb: number, d: Float64Array, oa: number, ob: number): void {
   const w0 = (2 * Math.PI) / pa.n;
   const arA = pa.accRe;

@@ -20,8 +20,8 @@
  *    coherent wind between calls, neither moves nor starts a track);
  * 3. assign candidates to confirmed tracks by global nearest neighbour (assignment.ts), then
  *    the leftovers to tentative tracks, and update the assigned tracks (a hop whose own spectra
- *    do not support its answer, HELD_Z, or too weak to start an event, tooWeakToMove, supports
- *    its track without moving it);
+ *    do not support its answer, HELD_Z, or that is below both event-enter levels, tooWeakToMove,
+ *    supports its track without moving it);
  * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate
  *    and not near the zenith (ZENITH_DEG), starts a
  *    tentative track; it is confirmed (and gets the next track id) after confirmHits supported
@@ -698,7 +698,7 @@ export class Tracker {
         this.az.update(s);
       } else if (!(sc.hop[FRESH_Z]! < HELD_Z) && !this.tooWeakToMove(j)) {
         // A direction the hop's own spectra do not support (the analysis' memory of a call that
-        // has ended), or one too weak to start an event, keeps the track alive and its event
+        // has ended), or one below both event-enter levels, keeps the track alive and its event
         // open, but does not move it.
         if (this.loadMeasurement(s, j)) this.el.update(s);
         this.az.update(s);
@@ -708,15 +708,15 @@ export class Tracker {
   }
 
   /**
-   * Candidate j's hop could not start an event: below the event-enter SNR, and its confidence x
-   * score below the event-enter confidence. Such hops between a mover's calls (low, weakly
-   * coherent sound such as wind on a small array: 5-11 dB, confidence 0.25-0.65, motion matrix
-   * draw 8080, cho01) walked a passer's track 15 deg away and turned its rate from +20 to
-   * -30 deg/s, and its next call started a new track. Chosen on the motion matrix (sources >= 80 %
-   * complete, in per cent, summed over eight draws / id switches / tracks holding two sources): without the
-   * rule 613 / 79 / 12; with it 623 / 78 / 12; either condition alone 624 / 77 / 13 (confidence)
-   * and 620 / 74 / 12 (SNR), either of the two 621 / 77 / 12. Held out (draws 4711, 2468, 1001,
-   * 6060): 293 / 53 / 8 without, 301 / 34 / 4 with it (302 / 39 / 5 with the SNR alone).
+   * Candidate j's hop is below both event-enter levels (the SNR, and its confidence x score), so
+   * it could not start an event. Such hops between a mover's calls (low, weakly coherent sound
+   * such as wind on a small array: 5-11 dB, confidence 0.25-0.65, motion matrix draw 8080, cho01)
+   * walked a passer's track 15 deg away and turned its rate from +20 to -30 deg/s, and its next
+   * call started a new track. Chosen on the motion matrix (sources >= 80 % complete, in per cent,
+   * summed over eight draws / id switches / tracks holding two sources): without the rule 613 /
+   * 79 / 12; with it 623 / 78 / 12; either condition alone 624 / 77 / 13 (confidence) and 620 /
+   * 74 / 12 (SNR), either of the two 621 / 77 / 12. Held out (draws 4711, 2468, 1001, 6060): 293 /
+   * 53 / 8 without, 301 / 34 / 4 with it (302 / 39 / 5 with the SNR alone).
    */
   private tooWeakToMove(j: number): boolean {
     const sc = this.sc;

@@ -806,7 +806,7 @@ describe("a call's memory after it ends (hops whose own spectra do not support t
   });
 });
 
-describe('weak hops between a passer\'s calls (too weak to start an event)', () => {
+describe('weak hops between a passer\'s calls (below both event-enter levels)', () => {
   // A passer sweeping +30 deg/s, 0.1 s calls every 0.55 s (SNR 30 dB, confidence 1); between its
   // calls, for 0.35 s, low and weakly coherent sound (SNR 8 dB, confidence 0.45, fresh coherence
   // 6: above the held-memory limit) reads directions walking from the last call backwards at
