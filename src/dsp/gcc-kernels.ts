@@ -3,7 +3,7 @@ import { fileURLToPath } from 'node:url';
 import type { BandLayout } from './bands.js';
 import { assembleWat, kernelTextPath } from './gcc-kernels-assemble.js';
 import { coherenceSum } from './gcc.js';
-import { clampToStart, newtonStep, startNewton } from './gcc-lanes.js';
+import { clampToStart, lastOfUsedRun, newtonStep, startNewton } from './gcc-lanes.js';
 
 /**
  * The per-bin kernels of the analysis in WebAssembly SIMD (./gcc-kernels.wat): PHAT magnitudes,
@@ -346,8 +346,7 @@ export class GccKernels {
     ph[2] = ph[3] = Math.sin(2 * step);
     for (let b = 0; b < bands.count; b++) {
       if (!useBand[b]) continue;
-      let e = b;
-      while (e + 1 < bands.count && useBand[e + 1]) e++;
+      const e = lastOfUsedRun(useBand, bands.count, b);
       const k0 = bands.start[b]!;
       ph[4] = Math.cos(step * k0);
       ph[5] = Math.cos(step * (k0 + 1));

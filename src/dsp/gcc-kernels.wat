@@ -746,7 +746,7 @@
     (v128.store (local.get $out) (local.get $d1))
     (v128.store offset=16 (local.get $out) (local.get $d2)))
 
-;; derivatives2 for one pair alone over bins [k0, k1) (a run of used bands): bin k in lane 0 and
+  ;; derivatives2 for one pair alone over bins [k0, k1) (a run of used bands): bin k in lane 0 and
   ;; bin k + 1 in lane 1, the phasors stepping two bins at a time; an odd last bin in lane 0 alone.
   ;; ph holds [s2r s2r s2i s2i] (the phasor of two bins' step) and [pr(k0) pr(k0+1) pi(k0)
   ;; pi(k0+1)]. Adds the lanes' sums to [d1 d1 d2 d2] at out (the caller adds the lanes).

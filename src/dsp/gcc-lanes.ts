@@ -240,6 +240,13 @@ export function newtonStep(P: number, d: Float64Array, active: Uint8Array, lagsO
   return any;
 }
 
+/** The last band of the run of used bands that starts at band b (bands are contiguous, so a run is one range of bins). */
+export function lastOfUsedRun(useBand: Uint8Array, count: number, b: number): number {
+  let last = b;
+  while (last + 1 < count && useBand[last + 1]) last++;
+  return last;
+}
+
 /** Each refined lag kept within a sample of where it started and within its pair's lag window. */
 export function clampToStart(pcs: readonly { readonly maxLag: number }[], lagsIn: Float64Array, lagOffset: number, lagsOut: Float64Array): void {
   for (let p = 0; p < pcs.length; p++) {
@@ -271,8 +278,7 @@ function derivatives1(pa: PairCorrelator, bands: BandLayout, useBand: Uint8Array
   let d2b = 0;
   for (let b = 0; b < bands.count; b++) {
     if (!useBand[b]) continue;
-    let last = b;
-    while (last + 1 < bands.count && useBand[last + 1]) last++;
+    const last = lastOfUsedRun(useBand, bands.count, b);
     const k0 = bands.start[b]!;
     const k1 = bands.end[last]!;
     let prA = Math.cos(step * k0);

@@ -764,32 +764,42 @@ describe('a flat array: elevations are followed but do not split or steal (issue
   });
 });
 
+/**
+ * Feeds `hops` hops of 10 ms (centres at 0.005 s + i * 10 ms) from `hopAt` (given the hop's time
+ * and a seeded bearing noise in -1..1 deg) to a tracker; returns the track ids that the calling
+ * hops (inCall, after the first 6) were given, and how many such hops there were.
+ */
+function callTracks(tracker: Tracker, hops: number, seed: number, hopAt: (t: number, noise: () => number) => { obs: Parameters<Tracker['update']>[0]; inCall: boolean }) {
+  const ids = new Set<number>();
+  let s = seed;
+  const noise = () => ((s = (s * 16807) % 2147483647) / 2147483647 - 0.5) * 2;
+  let callHops = 0;
+  for (let i = 0; i < hops; i++) {
+    const { obs, inCall } = hopAt(0.005 + i * 0.01, noise);
+    const u = tracker.update(obs);
+    if (inCall && i > 5) {
+      callHops++;
+      const id = u.trackIds[0];
+      if (id !== null && id !== undefined) ids.add(id);
+    }
+  }
+  return { ids: [...ids], callHops };
+}
+
 describe("a call's memory after it ends (hops whose own spectra do not support their direction)", () => {
   // A caller sweeping 60 deg/s, 0.15 s calls every 0.6 s; after each call the analysis keeps
   // reporting the call's last direction for 0.17 s (its memory) with confidence 0.8 but a fresh
   // coherence (freshZ) of 0.5, as measured after a broadband passer's calls in wind (motion matrix
   // draw 77, pas09: 18-35 during the call, 0-2.6 after it). Bearing noise up to 1 deg.
   function sweep(withFresh: boolean) {
-    const tracker = new Tracker({});
-    const ids = new Set<number>();
-    let seed = 7;
-    const noise = () => ((seed = (seed * 16807) % 2147483647) / 2147483647 - 0.5) * 2;
-    let callHops = 0;
-    for (let i = 0; i < 440; i++) {
-      const t = 0.005 + i * 0.01;
+    return callTracks(new Tracker({}), 440, 7, (t, noise) => {
       const phase = t % 0.6;
       const az = (x: number) => -100 + 60 * x;
       const inCall = phase < 0.15;
       const tail = !inCall && phase < 0.32;
       const candidates = inCall || tail ? [{ azimuthDeg: az(inCall ? t : t - phase + 0.15) + noise(), elevationDeg: null, score: 1 }] : [];
-      const u = tracker.update({ timeS: t, levelDbfs: -30, snrDb: inCall ? 30 : 14, onset: 0, confidence: inCall ? 1 : tail ? 0.8 : 0, candidates, ...(withFresh ? { freshZ: inCall ? 20 : 0.5 } : {}) });
-      if (inCall && i > 5) {
-        callHops++;
-        const id = u.trackIds[0];
-        if (id !== null && id !== undefined) ids.add(id);
-      }
-    }
-    return { ids: [...ids], callHops };
+      return { inCall, obs: { timeS: t, levelDbfs: -30, snrDb: inCall ? 30 : 14, onset: 0, confidence: inCall ? 1 : tail ? 0.8 : 0, candidates, ...(withFresh ? { freshZ: inCall ? 20 : 0.5 } : {}) } };
+    });
   }
 
   it('keeps the track alive without moving it: one track for all 8 calls', () => {
@@ -814,27 +824,15 @@ describe('weak hops between a passer\'s calls (below both event-enter levels)', 
   // matrix draw 8080, cho01: SNR 5-11 dB, confidence 0.25-0.65, freshZ 4-9.5). Bearing noise up
   // to 1 deg.
   function pass(options: ConstructorParameters<typeof Tracker>[0]) {
-    const tracker = new Tracker(options);
-    const ids = new Set<number>();
-    let seed = 11;
-    const noise = () => ((seed = (seed * 16807) % 2147483647) / 2147483647 - 0.5) * 2;
-    let callHops = 0;
-    for (let i = 0; i < 500; i++) {
-      const t = 0.005 + i * 0.01;
+    return callTracks(new Tracker(options), 500, 11, (t, noise) => {
       const phase = t % 0.55;
       const callAz = -90 + 30 * t;
       const inCall = phase < 0.1;
       const weak = !inCall && phase < 0.45;
       const az = inCall ? callAz : -90 + 30 * (t - phase + 0.1) - 40 * (phase - 0.1);
       const candidates = inCall || weak ? [{ azimuthDeg: az + noise(), elevationDeg: null, score: 1 }] : [];
-      const u = tracker.update({ timeS: t, levelDbfs: -30, snrDb: inCall ? 30 : weak ? 8 : 0, onset: 0, confidence: inCall ? 1 : weak ? 0.45 : 0, candidates, freshZ: inCall ? 20 : 6 });
-      if (inCall && i > 5) {
-        callHops++;
-        const id = u.trackIds[0];
-        if (id !== null && id !== undefined) ids.add(id);
-      }
-    }
-    return { ids: [...ids], callHops };
+      return { inCall, obs: { timeS: t, levelDbfs: -30, snrDb: inCall ? 30 : weak ? 8 : 0, onset: 0, confidence: inCall ? 1 : weak ? 0.45 : 0, candidates, freshZ: inCall ? 20 : 6 } };
+    });
   }
 
   it('support the track without moving it: one track for all 9 calls', () => {
