@@ -842,10 +842,12 @@ export class HopAnalyzer {
     // Per pair, all candidates in one pass (the same sums, in the same order over pairs, as one candidate at a time).
     // Bands without evidence take no part in the fusion: their scores are not needed.
     const kern = this.kernels;
-    for (let p = 0; p < P; p++) {
-      if (kern) kern.addBandScores(this.correlators[p]!, this.frame, this.candLags, p, P, K, s, S, 0, this.evidence);
-      else addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0, this.evidence);
-    }
+    if (kern) {
+      // two pairs per pass (their sums added pair by pair, as one at a time)
+      for (let p = 0; p < P; p += 2) {
+        kern.addBandScores(this.correlators[p]!, p + 1 < P ? this.correlators[p + 1]! : null, this.frame, this.candLags, p, p + 1, P, K, s, S, 0, this.evidence);
+      }
+    } else for (let p = 0; p < P; p++) addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0, this.evidence);
     for (let b = 0; b < this.bands.count; b++) {
       const norm = 1 / (P * Math.max(1e-12, this.bandWeight[b]!));
       for (let c = 0; c < K; c++) s[b * S + c]! *= norm;

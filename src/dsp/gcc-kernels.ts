@@ -3,17 +3,18 @@ import { fileURLToPath } from 'node:url';
 import type { BandLayout } from './bands.js';
 import { assembleWat, kernelTextPath } from './gcc-kernels-assemble.js';
 import { coherenceSum } from './gcc.js';
-import { clampToStart, lastOfUsedRun, newtonStep, startNewton } from './gcc-lanes.js';
+import { clampToStart, lastOfUsedRun, newtonStep, setPhasorsF32, startNewton } from './gcc-lanes.js';
 
 /**
  * The per-bin kernels of the analysis in WebAssembly SIMD (./gcc-kernels.wat): PHAT magnitudes,
  * the cross-spectrum memory, band scores, the Newton refinement's derivatives and the hop
- * coherence, two double-precision lanes per instruction. Every lane repeats the JavaScript
- * kernel's arithmetic in the same order (./gcc.ts, ./gcc-lanes.ts), so the results are bit for
- * bit those of the JavaScript path (checked by test/dsp/gcc-kernels.test.ts and, hop by hop
- * over the matrix, by test/bench/hop-diff.ts). The JavaScript kernels stay as the fallback:
- * without WebAssembly SIMD, with BEARLINE_KERNELS=js, or with BEARLINE_FFT=fftjs (the whole
- * JavaScript path: the fft.js FFT's spectra are double precision, which the float32 kernels do not take).
+ * coherence, two double-precision lanes per instruction (the band scores: four float32 lanes).
+ * Every lane repeats the JavaScript kernel's arithmetic in the same order (./gcc.ts,
+ * ./gcc-lanes.ts), so the results are bit for bit those of the JavaScript path (checked by
+ * test/dsp/gcc-kernels.test.ts and, hop by hop over the matrix, by test/bench/hop-diff.ts). The
+ * JavaScript kernels stay as the fallback: without WebAssembly SIMD, with BEARLINE_KERNELS=js,
+ * or with BEARLINE_FFT=fftjs (the whole JavaScript path: the fft.js FFT's spectra are double
+ * precision, which the float32 kernels do not take).
  *
  * Each analyzer gets its own instance and memory (sized once: views never go stale); the arrays
  * the kernels touch are views into that memory, handed out by f64() and friends.
@@ -41,8 +42,7 @@ interface KernelExports {
   onset_update(power: number, bg: number, nf: number, sm: number, w: number, k0: number, k1: number, q: number, held: number, out: number, count: number): number;
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
   accumulate(a: number, b: number, wa: number, ib: number, ar: number, ai: number, k0: number, k1: number, m: number): void;
-  band_scores4(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
-  band_scores2(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
+  band_scores_f32(ar: number, ai: number, br: number, bi: number, two: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
   derivatives2(arA: number, aiA: number, arB: number, aiB: number, use: number, starts: number, ends: number, nb: number, w0: number, ph: number, out: number): void;
   derivatives1(ar: number, ai: number, k0: number, k1: number, w0: number, ph: number, out: number): void;
   hop_coherence2(a0: number, b0: number, a1: number, b1: number, ia0: number, ib0: number, ia1: number, ib1: number, k0: number, k1: number, ph: number, out: number): void;
@@ -90,6 +90,8 @@ export class GccKernels {
   private readonly limit: number;
   /** Phasor scratch (ph) and kernel output (4 doubles). */
   private readonly ph: Float64Array;
+  /** Float32 phasor scratch (band_scores_f4). */
+  private readonly phF: Float32Array;
   private readonly out: Float64Array;
   private bandEnds: Int32Array | null = null;
   private bandStarts: Int32Array | null = null;
@@ -99,13 +101,14 @@ export class GccKernels {
     const instance = new WebAssembly.Instance(module, {});
     this.x = instance.exports as unknown as KernelExports;
     const mem = this.x.memory;
-    const need = bytes + SCRATCH_DOUBLES * 8 + 64 + 4 * ALIGN;
+    const need = bytes + SCRATCH_DOUBLES * 8 + 64 + 128 + 4 * ALIGN;
     const pages = Math.ceil(need / 65536) - mem.buffer.byteLength / 65536;
     if (pages > 0) mem.grow(pages);
     this.buffer = mem.buffer;
     this.limit = this.buffer.byteLength;
     this.used = ALIGN; // offset 0 stays unused: a null pointer means "none"
     this.ph = this.f64(SCRATCH_DOUBLES);
+    this.phF = this.f32(32);
     this.out = this.f64(4);
   }
 
@@ -265,44 +268,25 @@ export class GccKernels {
   }
 
   /**
-   * addBandScoresLanes (./gcc-lanes.ts): pair `pc`'s band scores at `count` lags
-   * lags[lagOffset + i * lagStride] (frame n) added into scoresOut[b * stride + offset + i];
-   * bands whose needed[b] is not above 0 are skipped (null: none). Uses the bands of setBands().
+   * addBandScoresLanes (./gcc-lanes.ts, float32): pair `pc`'s band scores at `count` lags
+   * lags[lagOffset + i * lagStride] (frame n) added into scoresOut[b * stride + offset + i],
+   * then, when `pcB` is given, pcB's at lags[lagOffsetB + i * lagStride] (the two pairs' lanes
+   * side by side, added pair after pair as two calls would); bands whose needed[b] is not above
+   * 0 are skipped (null: none). Uses the bands of setBands().
    */
-  addBandScores(pc: CrossSpectrum, n: number, lags: Float64Array, lagOffset: number, lagStride: number, count: number, scoresOut: Float64Array, stride: number, offset: number, needed: Float64Array | null): void {
+  addBandScores(pc: CrossSpectrum, pcB: CrossSpectrum | null, n: number, lags: Float64Array, lagOffset: number, lagOffsetB: number, lagStride: number, count: number, scoresOut: Float64Array, stride: number, offset: number, needed: Float64Array | null): void {
     const bands = this.bands!;
     const k0 = bands.firstBin;
-    const ph = this.ph;
-    const ar = pc.accRe.byteOffset;
-    const ai = pc.accIm.byteOffset;
+    const ph = this.phF;
+    const b = pcB ?? pc;
     const ends = this.bandEnds!.byteOffset;
     const need = needed === null ? 0 : needed.byteOffset;
     const out = scoresOut.byteOffset;
-    let i = 0;
-    for (; i + 4 <= count; i += 4) {
-      const o = lagOffset + i * lagStride;
-      setPhasors(ph, 0, lags[o]!, lags[o + lagStride]!, n, k0);
-      setPhasors(ph, 8, lags[o + 2 * lagStride]!, lags[o + 3 * lagStride]!, n, k0);
-      this.x.band_scores4(ar, ai, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, 4);
-    }
-    if (count - i === 3) {
-      // three lags in one pass (the fourth lane repeats the third and is not written)
-      const o = lagOffset + i * lagStride;
-      setPhasors(ph, 0, lags[o]!, lags[o + lagStride]!, n, k0);
-      setPhasors(ph, 8, lags[o + 2 * lagStride]!, lags[o + 2 * lagStride]!, n, k0);
-      this.x.band_scores4(ar, ai, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, 3);
-      return;
-    }
-    if (i < count) {
-      const o = lagOffset + i * lagStride;
-      const two = i + 2 <= count;
-      setPhasors(ph, 0, lags[o]!, lags[two ? o + lagStride : o]!, n, k0);
-      this.x.band_scores2(ar, ai, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, two ? 2 : 1);
-      if (two && i + 2 < count) {
-        const o2 = lagOffset + (i + 2) * lagStride;
-        setPhasors(ph, 0, lags[o2]!, lags[o2]!, n, k0);
-        this.x.band_scores2(ar, ai, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i + 2), stride, need, 1);
-      }
+    for (let i = 0; i < count; i += 4) {
+      const w = Math.min(4, count - i);
+      setPhasorsF32(ph, 0, lags, lagOffset + i * lagStride, lagStride, w, n, k0);
+      if (pcB !== null) setPhasorsF32(ph, 16, lags, lagOffsetB + i * lagStride, lagStride, w, n, k0);
+      this.x.band_scores_f32(pc.accRe.byteOffset, pc.accIm.byteOffset, b.accRe.byteOffset, b.accIm.byteOffset, pcB === null ? 0 : 1, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, w);
     }
   }
 
@@ -453,3 +437,4 @@ function setPhasors(ph: Float64Array, at: number, l0: number, l1: number, n: num
   ph[at + 5] = Math.cos(s1 * k0);
   ph[at + 7] = Math.sin(s1 * k0);
 }
+

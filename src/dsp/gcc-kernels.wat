@@ -1,4 +1,4 @@
-;; The per-bin kernels of the GCC analysis in WebAssembly with 128-bit SIMD (f64x2), assembled
+;; The per-bin kernels of the GCC analysis in WebAssembly with 128-bit SIMD (f64x2, f32x4), assembled
 ;; at build time (npm run build: src/dsp/gcc-kernels-assemble.ts, wabt) into
 ;; dist/dsp/gcc-kernels.wasm and driven from src/dsp/gcc-kernels.ts.
 ;;
@@ -6,7 +6,10 @@
 ;; stands for (src/dsp/gcc.ts, src/dsp/gcc-lanes.ts, src/analysis/hop-analyzer.ts), operation
 ;; for operation and in the same order; WebAssembly has no fused multiply-add and its f64
 ;; arithmetic is IEEE 754 binary64 with round-to-nearest, as JavaScript's. So the results are
-;; bit-identical to the JavaScript kernels'. Cosines and sines are computed by the caller
+;; bit-identical to the JavaScript kernels'. The band scores run in float32 (f32x4, four lanes):
+;; their JavaScript twin rounds every operation with Math.fround, which gives IEEE binary32
+;; results exactly (a double holds a binary32 sum or product before its one rounding), so they
+;; too are bit-identical. Cosines and sines are computed by the caller
 ;; (Math.cos, Math.sin) and passed in through the scratch area `ph`.
 ;;
 ;; Arguments are byte offsets into the module's memory. Spectra are interleaved float32
@@ -577,14 +580,17 @@
           (f64.add (f64.mul (local.get $m) (f64.load (local.get $pi)))
             (f64.mul (f64.sub (f64.mul (local.get $sxr) (local.get $syi)) (f64.mul (local.get $sxi) (local.get $syr))) (local.get $sg)))))))
 
-  ;; addBandScores (src/dsp/gcc.ts) at four lags, lanes 0-1 in vector A and 2-3 in vector B.
-  ;; ph holds [sr0 sr1 si0 si1 pr0 pr1 pi0 pi1 sr2 sr3 si2 si3 pr2 pr3 pi2 pi3] (the phasor step
-  ;; and the phasor at bin k0 per lag). Band b's four sums are added into out[b * stride + 0..3]
-  ;; (stride in numbers). `write` is 4, 3, 2 or 1: the lanes written (the others repeat a lag).
+  ;; Band scores in float32 (addBandScoresLanes, src/dsp/gcc-lanes.ts) of two pairs, A (ar, ai) and
+  ;; B (br, bi), at up to four lags each, one lag per f32x4 lane: the two pairs' phasor
+  ;; recursions run side by side (each waits on itself, not on the other). ph (float32) holds A's
+  ;; [sr0..sr3 si0..si3 pr0..pr3 pi0..pi3] (the phasor step and the phasor at bin k0 per lag),
+  ;; then B's. Per bin and pair: re = f32(ar[k]), im = f32(ai[k]); acc += re * pr - im * pi; the
+  ;; phasor steps by a complex multiply; every operation rounded to float32. Band b's sums are
+  ;; added in double precision into out[b * stride + 0 .. write - 1], A's and then (with $two) B's.
   ;; Bands whose needed[b] is not above 0 are skipped (their phasors still step); needed = 0: all bands.
-  (func (export "band_scores4") (param $ar i32) (param $ai i32) (param $ends i32) (param $nb i32) (param $k0 i32)
-    (param $ph i32) (param $out i32) (param $stride i32) (param $needed i32) (param $write i32)
-    (local $k i32) (local $b i32) (local $e i32) (local $o i32) (local $skip i32)
+  (func (export "band_scores_f32") (param $ar i32) (param $ai i32) (param $br i32) (param $bi i32) (param $two i32)
+    (param $ends i32) (param $nb i32) (param $k0 i32) (param $ph i32) (param $out i32) (param $stride i32) (param $needed i32) (param $write i32)
+    (local $k i32) (local $b i32) (local $e i32) (local $o i32) (local $skip i32) (local $x i32)
     (local $srA v128) (local $siA v128) (local $prA v128) (local $piA v128)
     (local $srB v128) (local $siB v128) (local $prB v128) (local $piB v128)
     (local $re v128) (local $im v128) (local $accA v128) (local $accB v128) (local $t v128)
@@ -610,11 +616,11 @@
             (block $sd
               (loop $sl
                 (br_if $sd (i32.ge_s (local.get $k) (local.get $e)))
-                (local.set $t (f64x2.sub (f64x2.mul (local.get $prA) (local.get $srA)) (f64x2.mul (local.get $piA) (local.get $siA))))
-                (local.set $piA (f64x2.add (f64x2.mul (local.get $prA) (local.get $siA)) (f64x2.mul (local.get $piA) (local.get $srA))))
+                (local.set $t (f32x4.sub (f32x4.mul (local.get $prA) (local.get $srA)) (f32x4.mul (local.get $piA) (local.get $siA))))
+                (local.set $piA (f32x4.add (f32x4.mul (local.get $prA) (local.get $siA)) (f32x4.mul (local.get $piA) (local.get $srA))))
                 (local.set $prA (local.get $t))
-                (local.set $t (f64x2.sub (f64x2.mul (local.get $prB) (local.get $srB)) (f64x2.mul (local.get $piB) (local.get $siB))))
-                (local.set $piB (f64x2.add (f64x2.mul (local.get $prB) (local.get $siB)) (f64x2.mul (local.get $piB) (local.get $srB))))
+                (local.set $t (f32x4.sub (f32x4.mul (local.get $prB) (local.get $srB)) (f32x4.mul (local.get $piB) (local.get $siB))))
+                (local.set $piB (f32x4.add (f32x4.mul (local.get $prB) (local.get $siB)) (f32x4.mul (local.get $piB) (local.get $srB))))
                 (local.set $prB (local.get $t))
                 (local.set $k (i32.add (local.get $k) (i32.const 1)))
                 (br $sl))))
@@ -624,77 +630,36 @@
             (block $d
               (loop $l
                 (br_if $d (i32.ge_s (local.get $k) (local.get $e)))
-                (local.set $re (v128.load64_splat (i32.add (local.get $ar) (i32.shl (local.get $k) (i32.const 3)))))
-                (local.set $im (v128.load64_splat (i32.add (local.get $ai) (i32.shl (local.get $k) (i32.const 3)))))
-                (local.set $accA (f64x2.add (local.get $accA) (f64x2.sub (f64x2.mul (local.get $re) (local.get $prA)) (f64x2.mul (local.get $im) (local.get $piA)))))
-                (local.set $accB (f64x2.add (local.get $accB) (f64x2.sub (f64x2.mul (local.get $re) (local.get $prB)) (f64x2.mul (local.get $im) (local.get $piB)))))
-                (local.set $t (f64x2.sub (f64x2.mul (local.get $prA) (local.get $srA)) (f64x2.mul (local.get $piA) (local.get $siA))))
-                (local.set $piA (f64x2.add (f64x2.mul (local.get $prA) (local.get $siA)) (f64x2.mul (local.get $piA) (local.get $srA))))
+                (local.set $x (i32.shl (local.get $k) (i32.const 3)))
+                (local.set $re (f32x4.splat (f32.demote_f64 (f64.load (i32.add (local.get $ar) (local.get $x))))))
+                (local.set $im (f32x4.splat (f32.demote_f64 (f64.load (i32.add (local.get $ai) (local.get $x))))))
+                (local.set $accA (f32x4.add (local.get $accA) (f32x4.sub (f32x4.mul (local.get $re) (local.get $prA)) (f32x4.mul (local.get $im) (local.get $piA)))))
+                (local.set $re (f32x4.splat (f32.demote_f64 (f64.load (i32.add (local.get $br) (local.get $x))))))
+                (local.set $im (f32x4.splat (f32.demote_f64 (f64.load (i32.add (local.get $bi) (local.get $x))))))
+                (local.set $accB (f32x4.add (local.get $accB) (f32x4.sub (f32x4.mul (local.get $re) (local.get $prB)) (f32x4.mul (local.get $im) (local.get $piB)))))
+                (local.set $t (f32x4.sub (f32x4.mul (local.get $prA) (local.get $srA)) (f32x4.mul (local.get $piA) (local.get $siA))))
+                (local.set $piA (f32x4.add (f32x4.mul (local.get $prA) (local.get $siA)) (f32x4.mul (local.get $piA) (local.get $srA))))
                 (local.set $prA (local.get $t))
-                (local.set $t (f64x2.sub (f64x2.mul (local.get $prB) (local.get $srB)) (f64x2.mul (local.get $piB) (local.get $siB))))
-                (local.set $piB (f64x2.add (f64x2.mul (local.get $prB) (local.get $siB)) (f64x2.mul (local.get $piB) (local.get $srB))))
+                (local.set $t (f32x4.sub (f32x4.mul (local.get $prB) (local.get $srB)) (f32x4.mul (local.get $piB) (local.get $siB))))
+                (local.set $piB (f32x4.add (f32x4.mul (local.get $prB) (local.get $siB)) (f32x4.mul (local.get $piB) (local.get $srB))))
                 (local.set $prB (local.get $t))
                 (local.set $k (i32.add (local.get $k) (i32.const 1)))
                 (br $l)))
             (local.set $o (i32.add (local.get $out) (i32.shl (i32.mul (local.get $b) (local.get $stride)) (i32.const 3))))
-            (if (i32.ge_s (local.get $write) (i32.const 2))
-              (then (v128.store (local.get $o) (f64x2.add (v128.load (local.get $o)) (local.get $accA))))
-              (else (f64.store (local.get $o) (f64.add (f64.load (local.get $o)) (f64x2.extract_lane 0 (local.get $accA))))))
-            (if (i32.eq (local.get $write) (i32.const 4))
-              (then (v128.store offset=16 (local.get $o) (f64x2.add (v128.load offset=16 (local.get $o)) (local.get $accB)))))
-            (if (i32.eq (local.get $write) (i32.const 3))
-              (then (f64.store offset=16 (local.get $o) (f64.add (f64.load offset=16 (local.get $o)) (f64x2.extract_lane 0 (local.get $accB))))))))
+            (call $add_lanes (local.get $o) (local.get $accA) (local.get $write))
+            (if (local.get $two) (then (call $add_lanes (local.get $o) (local.get $accB) (local.get $write))))))
         (local.set $b (i32.add (local.get $b) (i32.const 1)))
         (br $bands))))
 
-  ;; addBandScores at two lags (vector A only): ph as for band_scores4 (first 64 bytes); write 2 or 1.
-  (func (export "band_scores2") (param $ar i32) (param $ai i32) (param $ends i32) (param $nb i32) (param $k0 i32)
-    (param $ph i32) (param $out i32) (param $stride i32) (param $needed i32) (param $write i32)
-    (local $k i32) (local $b i32) (local $e i32) (local $o i32) (local $skip i32)
-    (local $srA v128) (local $siA v128) (local $prA v128) (local $piA v128)
-    (local $re v128) (local $im v128) (local $accA v128) (local $t v128)
-    (local.set $srA (v128.load (local.get $ph)))
-    (local.set $siA (v128.load offset=16 (local.get $ph)))
-    (local.set $prA (v128.load offset=32 (local.get $ph)))
-    (local.set $piA (v128.load offset=48 (local.get $ph)))
-    (local.set $k (local.get $k0))
-    (local.set $b (i32.const 0))
-    (block $bandsDone
-      (loop $bands
-        (br_if $bandsDone (i32.ge_s (local.get $b) (local.get $nb)))
-        (local.set $e (i32.load (i32.add (local.get $ends) (i32.shl (local.get $b) (i32.const 2)))))
-        (local.set $skip (i32.const 0))
-        (if (local.get $needed)
-          (then (local.set $skip (i32.eqz (f64.gt (f64.load (i32.add (local.get $needed) (i32.shl (local.get $b) (i32.const 3)))) (f64.const 0))))))
-        (if (local.get $skip)
-          (then
-            (block $sd
-              (loop $sl
-                (br_if $sd (i32.ge_s (local.get $k) (local.get $e)))
-                (local.set $t (f64x2.sub (f64x2.mul (local.get $prA) (local.get $srA)) (f64x2.mul (local.get $piA) (local.get $siA))))
-                (local.set $piA (f64x2.add (f64x2.mul (local.get $prA) (local.get $siA)) (f64x2.mul (local.get $piA) (local.get $srA))))
-                (local.set $prA (local.get $t))
-                (local.set $k (i32.add (local.get $k) (i32.const 1)))
-                (br $sl))))
-          (else
-            (local.set $accA (v128.const i64x2 0 0))
-            (block $d
-              (loop $l
-                (br_if $d (i32.ge_s (local.get $k) (local.get $e)))
-                (local.set $re (v128.load64_splat (i32.add (local.get $ar) (i32.shl (local.get $k) (i32.const 3)))))
-                (local.set $im (v128.load64_splat (i32.add (local.get $ai) (i32.shl (local.get $k) (i32.const 3)))))
-                (local.set $accA (f64x2.add (local.get $accA) (f64x2.sub (f64x2.mul (local.get $re) (local.get $prA)) (f64x2.mul (local.get $im) (local.get $piA)))))
-                (local.set $t (f64x2.sub (f64x2.mul (local.get $prA) (local.get $srA)) (f64x2.mul (local.get $piA) (local.get $siA))))
-                (local.set $piA (f64x2.add (f64x2.mul (local.get $prA) (local.get $siA)) (f64x2.mul (local.get $piA) (local.get $srA))))
-                (local.set $prA (local.get $t))
-                (local.set $k (i32.add (local.get $k) (i32.const 1)))
-                (br $l)))
-            (local.set $o (i32.add (local.get $out) (i32.shl (i32.mul (local.get $b) (local.get $stride)) (i32.const 3))))
-            (if (i32.ge_s (local.get $write) (i32.const 2))
-              (then (v128.store (local.get $o) (f64x2.add (v128.load (local.get $o)) (local.get $accA))))
-              (else (f64.store (local.get $o) (f64.add (f64.load (local.get $o)) (f64x2.extract_lane 0 (local.get $accA))))))))
-        (local.set $b (i32.add (local.get $b) (i32.const 1)))
-        (br $bands))))
+  ;; out[i] += lane i of v (float32, promoted), for i < write (1 .. 4).
+  (func $add_lanes (param $o i32) (param $v v128) (param $write i32)
+    (f64.store (local.get $o) (f64.add (f64.load (local.get $o)) (f64.promote_f32 (f32x4.extract_lane 0 (local.get $v)))))
+    (if (i32.ge_s (local.get $write) (i32.const 2))
+      (then (f64.store offset=8 (local.get $o) (f64.add (f64.load offset=8 (local.get $o)) (f64.promote_f32 (f32x4.extract_lane 1 (local.get $v)))))))
+    (if (i32.ge_s (local.get $write) (i32.const 3))
+      (then (f64.store offset=16 (local.get $o) (f64.add (f64.load offset=16 (local.get $o)) (f64.promote_f32 (f32x4.extract_lane 2 (local.get $v)))))))
+    (if (i32.ge_s (local.get $write) (i32.const 4))
+      (then (f64.store offset=24 (local.get $o) (f64.add (f64.load offset=24 (local.get $o)) (f64.promote_f32 (f32x4.extract_lane 3 (local.get $v))))))))
 
   ;; derivatives2 (src/dsp/gcc-lanes.ts): first and second derivative of two correlations (pair A
   ;; in lane 0, pair B in lane 1) over the bands flagged in use[b] (uint8). ph holds

@@ -1,5 +1,5 @@
 import type { BandLayout } from './bands.js';
-import { addBandScores, type PairCorrelator } from './gcc.js';
+import type { PairCorrelator } from './gcc.js';
 
 /**
  * Interleaved forms of the kernels of ./gcc.ts: several independent evaluations in one pass
@@ -10,10 +10,16 @@ import { addBandScores, type PairCorrelator } from './gcc.js';
  */
 
 /**
- * addBandScores (./gcc.ts) of one pair at `count` lags lags[lagOffset + i * lagStride],
- * added into scoresOut[b * stride + offset + i] for i < count. Bands whose `needed[b]` is not
- * above 0 are left as they are (their phasors still step through them, so the other bands'
- * sums are the same to the last bit); give null to score every band.
+ * The band scores of one pair at `count` lags lags[lagOffset + i * lagStride], added into
+ * scoresOut[b * stride + offset + i] for i < count: addBandScores (./gcc.ts) in float32, four
+ * lags per pass (GccKernels.addBandScores, ./gcc-kernels.ts, runs the same lanes in WebAssembly
+ * SIMD, bit for bit). Each lane's phasor step and start are computed in double precision and
+ * rounded once (setPhasorsF32); every product, sum and phasor step after that is rounded to
+ * float32, and each band's sum is added to its score in double precision. Band scores weigh
+ * bands against each other (a few per cent decide), so float32 costs nothing there (relative
+ * error near 1e-6 over a band; test/dsp/gcc-lanes.test.ts bounds it) and doubles the lanes a
+ * SIMD instruction holds. Bands whose `needed[b]` is not above 0 are left as they are (their
+ * phasors still step through them); give null to score every band.
  */
 export function addBandScoresLanes(
   pc: PairCorrelator,
@@ -27,147 +33,73 @@ export function addBandScoresLanes(
   offset: number,
   needed: Float64Array | null = null,
 ): void {
-  let i = 0;
-  for (; i + 4 <= count; i += 4) {
-    const o = lagOffset + i * lagStride;
-    bandScores4(pc, bands, lags[o]!, lags[o + lagStride]!, lags[o + 2 * lagStride]!, lags[o + 3 * lagStride]!, scoresOut, stride, offset + i, needed);
-  }
-  for (; i + 2 <= count; i += 2) {
-    const o = lagOffset + i * lagStride;
-    bandScores2(pc, bands, lags[o]!, lags[o + lagStride]!, scoresOut, stride, offset + i, needed);
-  }
-  if (i < count) {
-    if (needed === null) addBandScores(pc, bands, lags[lagOffset + i * lagStride]!, scoresOut, stride, offset + i);
-    else bandScores2(pc, bands, lags[lagOffset + i * lagStride]!, lags[lagOffset + i * lagStride]!, scoresOut, stride, offset + i, needed, true);
+  for (let i = 0; i < count; i += 4) {
+    const w = Math.min(4, count - i);
+    setPhasorsF32(laneScratch, 0, lags, lagOffset + i * lagStride, lagStride, w, pc.n, bands.firstBin);
+    bandScoresF32(pc, bands, laneScratch, scoresOut, stride, offset + i, w, needed);
   }
 }
 
-function bandScores4(pc: PairCorrelator, bands: BandLayout, l0: number, l1: number, l2: number, l3: number, out: Float64Array, stride: number, offset: number, needed: Float64Array | null): void {
-  const n = pc.n;
-  const k0 = bands.firstBin;
-  const s0 = (2 * Math.PI * l0) / n;
-  const s1 = (2 * Math.PI * l1) / n;
-  const s2 = (2 * Math.PI * l2) / n;
-  const s3 = (2 * Math.PI * l3) / n;
-  const sr0 = Math.cos(s0);
-  const si0 = Math.sin(s0);
-  const sr1 = Math.cos(s1);
-  const si1 = Math.sin(s1);
-  const sr2 = Math.cos(s2);
-  const si2 = Math.sin(s2);
-  const sr3 = Math.cos(s3);
-  const si3 = Math.sin(s3);
-  let pr0 = Math.cos(s0 * k0);
-  let pi0 = Math.sin(s0 * k0);
-  let pr1 = Math.cos(s1 * k0);
-  let pi1 = Math.sin(s1 * k0);
-  let pr2 = Math.cos(s2 * k0);
-  let pi2 = Math.sin(s2 * k0);
-  let pr3 = Math.cos(s3 * k0);
-  let pi3 = Math.sin(s3 * k0);
+const laneScratch = new Float32Array(16);
+
+/**
+ * Float32 phasors for `w` (1 .. 4) lags lags[at + i * step] into ph[first ..]: the steps
+ * e^{j 2 pi lag / n} (real parts, then imaginary), then the phasors at bin k0, four lanes each,
+ * computed in double precision and rounded once; spare lanes repeat the last lag.
+ */
+export function setPhasorsF32(ph: Float32Array, first: number, lags: Float64Array, at: number, step: number, w: number, n: number, k0: number): void {
+  for (let i = 0; i < 4; i++) {
+    const s = (2 * Math.PI * lags[at + Math.min(i, w - 1) * step]!) / n;
+    ph[first + i] = Math.cos(s);
+    ph[first + 4 + i] = Math.sin(s);
+    ph[first + 8 + i] = Math.cos(s * k0);
+    ph[first + 12 + i] = Math.sin(s * k0);
+  }
+}
+
+/** Four float32 lanes of band scores from the phasors in ph[0 .. 16) (setPhasorsF32); lanes below `write` are added. */
+function bandScoresF32(pc: PairCorrelator, bands: BandLayout, ph: Float32Array, out: Float64Array, stride: number, offset: number, write: number, needed: Float64Array | null): void {
+  const f = Math.fround;
+  const sr0 = ph[0]!, sr1 = ph[1]!, sr2 = ph[2]!, sr3 = ph[3]!;
+  const si0 = ph[4]!, si1 = ph[5]!, si2 = ph[6]!, si3 = ph[7]!;
+  let pr0 = ph[8]!, pr1 = ph[9]!, pr2 = ph[10]!, pr3 = ph[11]!;
+  let pi0 = ph[12]!, pi1 = ph[13]!, pi2 = ph[14]!, pi3 = ph[15]!;
   const ar = pc.accRe;
   const ai = pc.accIm;
   const end = bands.end;
-  let k = k0;
+  let k = bands.firstBin;
   for (let b = 0; b < bands.count; b++) {
     const e = end[b]!;
-    if (needed !== null && !(needed[b]! > 0)) {
-      for (; k < e; k++) {
-        const t0 = pr0 * sr0 - pi0 * si0;
-        pi0 = pr0 * si0 + pi0 * sr0;
-        pr0 = t0;
-        const t1 = pr1 * sr1 - pi1 * si1;
-        pi1 = pr1 * si1 + pi1 * sr1;
-        pr1 = t1;
-        const t2 = pr2 * sr2 - pi2 * si2;
-        pi2 = pr2 * si2 + pi2 * sr2;
-        pr2 = t2;
-        const t3 = pr3 * sr3 - pi3 * si3;
-        pi3 = pr3 * si3 + pi3 * sr3;
-        pr3 = t3;
-      }
-      continue;
-    }
-    let a0 = 0;
-    let a1 = 0;
-    let a2 = 0;
-    let a3 = 0;
+    const use = needed === null || needed[b]! > 0;
+    let a0 = 0, a1 = 0, a2 = 0, a3 = 0;
     for (; k < e; k++) {
-      const re = ar[k]!;
-      const im = ai[k]!;
-      a0 += re * pr0 - im * pi0;
-      a1 += re * pr1 - im * pi1;
-      a2 += re * pr2 - im * pi2;
-      a3 += re * pr3 - im * pi3;
-      const t0 = pr0 * sr0 - pi0 * si0;
-      pi0 = pr0 * si0 + pi0 * sr0;
+      if (use) {
+        const re = f(ar[k]!);
+        const im = f(ai[k]!);
+        a0 = f(a0 + f(f(re * pr0) - f(im * pi0)));
+        a1 = f(a1 + f(f(re * pr1) - f(im * pi1)));
+        a2 = f(a2 + f(f(re * pr2) - f(im * pi2)));
+        a3 = f(a3 + f(f(re * pr3) - f(im * pi3)));
+      }
+      const t0 = f(f(pr0 * sr0) - f(pi0 * si0));
+      pi0 = f(f(pr0 * si0) + f(pi0 * sr0));
       pr0 = t0;
-      const t1 = pr1 * sr1 - pi1 * si1;
-      pi1 = pr1 * si1 + pi1 * sr1;
+      const t1 = f(f(pr1 * sr1) - f(pi1 * si1));
+      pi1 = f(f(pr1 * si1) + f(pi1 * sr1));
       pr1 = t1;
-      const t2 = pr2 * sr2 - pi2 * si2;
-      pi2 = pr2 * si2 + pi2 * sr2;
+      const t2 = f(f(pr2 * sr2) - f(pi2 * si2));
+      pi2 = f(f(pr2 * si2) + f(pi2 * sr2));
       pr2 = t2;
-      const t3 = pr3 * sr3 - pi3 * si3;
-      pi3 = pr3 * si3 + pi3 * sr3;
+      const t3 = f(f(pr3 * sr3) - f(pi3 * si3));
+      pi3 = f(f(pr3 * si3) + f(pi3 * sr3));
       pr3 = t3;
     }
+    if (!use) continue;
     const o = b * stride + offset;
     out[o] = out[o]! + a0;
-    out[o + 1] = out[o + 1]! + a1;
-    out[o + 2] = out[o + 2]! + a2;
-    out[o + 3] = out[o + 3]! + a3;
-  }
-}
-
-/** Two lanes; `single` writes only the first (the second lane then repeats it). */
-function bandScores2(pc: PairCorrelator, bands: BandLayout, l0: number, l1: number, out: Float64Array, stride: number, offset: number, needed: Float64Array | null, single = false): void {
-  const n = pc.n;
-  const k0 = bands.firstBin;
-  const s0 = (2 * Math.PI * l0) / n;
-  const s1 = (2 * Math.PI * l1) / n;
-  const sr0 = Math.cos(s0);
-  const si0 = Math.sin(s0);
-  const sr1 = Math.cos(s1);
-  const si1 = Math.sin(s1);
-  let pr0 = Math.cos(s0 * k0);
-  let pi0 = Math.sin(s0 * k0);
-  let pr1 = Math.cos(s1 * k0);
-  let pi1 = Math.sin(s1 * k0);
-  const ar = pc.accRe;
-  const ai = pc.accIm;
-  const end = bands.end;
-  let k = k0;
-  for (let b = 0; b < bands.count; b++) {
-    const e = end[b]!;
-    if (needed !== null && !(needed[b]! > 0)) {
-      for (; k < e; k++) {
-        const t0 = pr0 * sr0 - pi0 * si0;
-        pi0 = pr0 * si0 + pi0 * sr0;
-        pr0 = t0;
-        const t1 = pr1 * sr1 - pi1 * si1;
-        pi1 = pr1 * si1 + pi1 * sr1;
-        pr1 = t1;
-      }
-      continue;
-    }
-    let a0 = 0;
-    let a1 = 0;
-    for (; k < e; k++) {
-      const re = ar[k]!;
-      const im = ai[k]!;
-      a0 += re * pr0 - im * pi0;
-      a1 += re * pr1 - im * pi1;
-      const t0 = pr0 * sr0 - pi0 * si0;
-      pi0 = pr0 * si0 + pi0 * sr0;
-      pr0 = t0;
-      const t1 = pr1 * sr1 - pi1 * si1;
-      pi1 = pr1 * si1 + pi1 * sr1;
-      pr1 = t1;
-    }
-    const o = b * stride + offset;
-    out[o] = out[o]! + a0;
-    if (!single) out[o + 1] = out[o + 1]! + a1;
+    if (write > 1) out[o + 1] = out[o + 1]! + a1;
+    if (write > 2) out[o + 2] = out[o + 2]! + a2;
+    if (write > 3) out[o + 3] = out[o + 3]! + a3;
   }
 }
 
