@@ -1,7 +1,7 @@
 import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft, type FftBuffer } from '../dsp/fft.js';
 import { addBandScores, hopCoherence, PairCorrelator } from '../dsp/gcc.js';
-import { addBandScoresLanes, hopCoherence2, refineLagLanes } from '../dsp/gcc-lanes.js';
+import { addBandScoresLanes, fillUnitSpectrum, hopCoherenceLanes, refineLagLanes, setPhasorsF32, unitLayout, type UnitLayout } from '../dsp/gcc-lanes.js';
 import { GccKernels } from '../dsp/gcc-kernels.js';
 import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow, windowFrame } from '../dsp/window.js';
@@ -229,7 +229,14 @@ export class HopAnalyzer {
   /** Scratch of the pairs' joint refinement (derivatives, which pairs still step). */
   private readonly refineScratch: Float64Array;
   private readonly refineActive: Uint8Array;
-  private readonly fresh2 = new Float64Array(2);
+  private readonly unitLayout: UnitLayout;
+  /** Unit spectra of this hop (UnitLayout), over the winner's bins (freshCoherence). */
+  private readonly unitSpectra: Float32Array;
+  /** Per four pairs: their channels a (4) then b (4), and on the kernels their swizzles. */
+  private readonly freshChans: Int32Array;
+  private readonly freshIdx: Uint8Array[];
+  private readonly freshOut: Float32Array;
+  private readonly freshPh = new Float32Array(16);
   private readonly dir: Direction = { azimuthDeg: 0, elevationDeg: null };
   private readonly order: Int32Array;
   /** The bands supporting the candidate being refined (reused). */
@@ -278,8 +285,8 @@ export class HopAnalyzer {
         ? GccKernels.create(
             GccKernels.bytesFor(
               [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, ...new Array<number>(channels + 1).fill(n)],
-              [...new Array<number>(channels + 2).fill(n), bins, 2 * P],
-              [options.bands],
+              [...new Array<number>(channels + 2).fill(n), bins, 2 * P, P > 1 ? bins * unitLayout(channels).stride : 0, 4],
+              [options.bands, ...new Array<number>(Math.ceil(P / 4)).fill(32 * unitLayout(channels).nv)],
             ) +
               8 * options.bands +
               OnsetWeigher.kernelBytes(bins),
@@ -346,6 +353,24 @@ export class HopAnalyzer {
     this.refineScratch = new Float64Array(2 * P);
     this.refineActive = new Uint8Array(P);
     this.order = new Int32Array(candidates);
+    // The fresh coherence of many pairs: unit spectra with the channels side by side, four pairs a pass.
+    this.unitLayout = unitLayout(channels);
+    this.unitSpectra = P > 1 ? (k ? k.f32(bins * this.unitLayout.stride) : new Float32Array(bins * this.unitLayout.stride)) : new Float32Array(0);
+    this.freshOut = k ? k.f32(4) : new Float32Array(4);
+    const groups = P > 1 ? Math.ceil(P / 4) : 0;
+    this.freshChans = new Int32Array(8 * groups);
+    this.freshIdx = [];
+    for (let g = 0; g < groups; g++) {
+      const lane = (i: number) => model.pairs[Math.min(4 * g + i, P - 1)]!;
+      const a = [0, 1, 2, 3].map((i) => lane(i)[0]);
+      const b = [0, 1, 2, 3].map((i) => lane(i)[1]);
+      this.freshChans.set([...a, ...b], 8 * g);
+      if (k) {
+        const idx = k.u8(32 * this.unitLayout.nv);
+        GccKernels.swizzles(a, b, this.unitLayout.nv, idx);
+        this.freshIdx.push(idx);
+      }
+    }
     if (k) {
       const theirs = [...this.kSpectra, this.kPacked!, ...this.invMag, ...this.weightedInv.filter((w) => w.length > 0), this.power, this.weights, this.binScale, this.bandScores, this.evidence, this.useBand];
       for (const pc of this.correlators) theirs.push(pc.accRe, pc.accIm);
@@ -975,27 +1000,30 @@ export class HopAnalyzer {
     if (first < 0) return 0;
     const k0 = this.bands.start[first]!;
     const k1 = this.bands.end[last]!;
-    const pairs = this.model.pairs;
-    const sp = this.spectra;
     const inv = this.invMag;
-    const two = this.fresh2;
-    let sum = 0;
-    let p = 0;
     const kern = this.kernels;
-    const ks = this.kSpectra;
-    // Two pairs per pass (the same sums as one at a time, added in the same order); an odd one
-    // alone (its bins' halves side by side on the kernels).
-    for (; p + 2 <= P; p += 2) {
-      const [a0, b0] = pairs[p]!;
-      const [a1, b1] = pairs[p + 1]!;
-      if (kern) kern.hopCoherence2(ks[a0]!, ks[b0]!, inv[a0]!, inv[b0]!, this.refined[p]!, ks[a1]!, ks[b1]!, inv[a1]!, inv[b1]!, this.refined[p + 1]!, this.frame, k0, k1, two);
-      else hopCoherence2(sp[a0]!, sp[b0]!, inv[a0]!, inv[b0]!, this.refined[p]!, sp[a1]!, sp[b1]!, inv[a1]!, inv[b1]!, this.refined[p + 1]!, this.frame, k0, k1, two);
-      sum += two[0]!;
-      sum += two[1]!;
+    if (P === 1) {
+      const [a, b] = this.model.pairs[0]!;
+      const v = kern ? kern.hopCoherence1(this.kSpectra[a]!, this.kSpectra[b]!, inv[a]!, inv[b]!, this.refined[0]!, this.frame, k0, k1) : hopCoherence(this.spectra[a]!, this.spectra[b]!, inv[a]!, inv[b]!, this.frame, this.refined[0]!, k0, k1);
+      return Math.max(0, v);
     }
-    if (p < P) {
-      const [a, b] = pairs[p]!;
-      sum += kern ? kern.hopCoherence1(ks[a]!, ks[b]!, inv[a]!, inv[b]!, this.refined[p]!, this.frame, k0, k1) : hopCoherence(sp[a]!, sp[b]!, inv[a]!, inv[b]!, this.frame, this.refined[p]!, k0, k1);
+    // Many pairs: each channel's unit spectrum once, then four pairs a pass (float32 lanes).
+    const ut = this.unitSpectra;
+    const layout = this.unitLayout;
+    for (let c = 0; c < this.channels; c++) {
+      if (kern) kern.unitSpectrum(this.kSpectra[c]!, inv[c]!, ut, c, layout, k0, k1);
+      else fillUnitSpectrum(this.spectra[c]!, inv[c]!, ut, c, layout, k0, k1);
+    }
+    const out = this.freshOut;
+    let sum = 0;
+    for (let g = 0, p = 0; p < P; g++, p += 4) {
+      const w = Math.min(4, P - p);
+      if (kern) kern.hopCoherenceT(ut, layout, this.freshIdx[g]!, this.refined, p, w, this.frame, k0, k1, out);
+      else {
+        setPhasorsF32(this.freshPh, 0, this.refined, p, 1, w, this.frame, k0);
+        hopCoherenceLanes(ut, layout, this.freshChans, 8 * g, this.freshPh, k0, k1, out);
+      }
+      for (let i = 0; i < w; i++) sum += out[i]! / (k1 - k0);
     }
     return Math.max(0, sum / P);
   }

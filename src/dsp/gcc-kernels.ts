@@ -3,7 +3,7 @@ import { fileURLToPath } from 'node:url';
 import type { BandLayout } from './bands.js';
 import { assembleWat, kernelTextPath } from './gcc-kernels-assemble.js';
 import { coherenceSum } from './gcc.js';
-import { clampToStart, lastOfUsedRun, newtonStep, setPhasorsF32, startNewton } from './gcc-lanes.js';
+import { clampToStart, lastOfUsedRun, newtonStep, setPhasorsF32, startNewton, type UnitLayout } from './gcc-lanes.js';
 
 /**
  * The per-bin kernels of the analysis in WebAssembly SIMD (./gcc-kernels.wat): PHAT magnitudes,
@@ -46,6 +46,8 @@ interface KernelExports {
   derivatives2(arA: number, aiA: number, arB: number, aiB: number, use: number, starts: number, ends: number, nb: number, w0: number, ph: number, out: number): void;
   derivatives1(ar: number, ai: number, k0: number, k1: number, w0: number, ph: number, out: number): void;
   hop_coherence2(a0: number, b0: number, a1: number, b1: number, ia0: number, ib0: number, ia1: number, ib1: number, k0: number, k1: number, ph: number, out: number): void;
+  unit_t(spec: number, inv: number, ut: number, c: number, stride: number, half: number, k0: number, k1: number): void;
+  hop_coherence_t(ut: number, stride: number, nv: number, k0: number, k1: number, ph: number, idx: number, out: number): void;
 }
 
 /** The accumulated cross-spectrum of one pair (PairCorrelator's accRe, accIm), as the kernels read it. */
@@ -373,24 +375,35 @@ export class GccKernels {
     d[ob + 1] = r[3]!;
   }
 
+  /** fillUnitSpectrum (./gcc-lanes.ts) from a float32 spectrum in this memory. */
+  unitSpectrum(spec: Float32Array, invMag: Float64Array, ut: Float32Array, c: number, layout: UnitLayout, k0: number, k1: number): void {
+    this.x.unit_t(spec.byteOffset, invMag.byteOffset, ut.byteOffset, c, 4 * layout.stride, 4 * layout.half, k0, k1);
+  }
+
   /**
-   * hopCoherence2 (./gcc-lanes.ts) on float32 spectra in this memory: pair 0 (a0, b0 at lag0) into
-   * out[0], pair 1 into out[1]. For one pair alone, hopCoherence1.
+   * The swizzle indices of hop_coherence_t for four pairs (lane i: channels a[i], b[i]) into
+   * `idx` (32 nv bytes, from u8()): per vector v, the bytes of each lane's channel where it
+   * lies in v, 128 (none) elsewhere, for a and then for b.
    */
-  hopCoherence2(
-    a0: Float32Array, b0: Float32Array, invA0: Float64Array, invB0: Float64Array, lag0: number,
-    a1: Float32Array, b1: Float32Array, invA1: Float64Array, invB1: Float64Array, lag1: number,
-    n: number, first: number, end: number, out: Float64Array,
-  ): void {
-    if (end <= first) {
-      out[0] = 0;
-      out[1] = 0;
-      return;
+  static swizzles(a: readonly number[], b: readonly number[], nv: number, idx: Uint8Array): void {
+    for (let v = 0; v < nv; v++) {
+      for (let i = 0; i < 4; i++) {
+        for (let j = 0; j < 4; j++) {
+          idx[32 * v + 4 * i + j] = a[i]! >> 2 === v ? 4 * (a[i]! & 3) + j : 128;
+          idx[32 * v + 16 + 4 * i + j] = b[i]! >> 2 === v ? 4 * (b[i]! & 3) + j : 128;
+        }
+      }
     }
-    setPhasors(this.ph, 0, lag0, lag1, n, first);
-    this.x.hop_coherence2(a0.byteOffset, b0.byteOffset, a1.byteOffset, b1.byteOffset, invA0.byteOffset, invB0.byteOffset, invA1.byteOffset, invB1.byteOffset, first, end, this.ph.byteOffset, this.out.byteOffset);
-    out[0] = this.out[0]! / (end - first);
-    out[1] = this.out[1]! / (end - first);
+  }
+
+  /**
+   * hopCoherenceLanes (./gcc-lanes.ts) in WebAssembly: four pairs (their swizzles at `idx`,
+   * from swizzles()) at lags lags[at .. at + w) (w of 1 .. 4; spare lanes repeat the last),
+   * over bins [k0, k1) of the unit spectra `ut`; the four float32 sums into out.
+   */
+  hopCoherenceT(ut: Float32Array, layout: UnitLayout, idx: Uint8Array, lags: Float64Array, at: number, w: number, n: number, k0: number, k1: number, out: Float32Array): void {
+    setPhasorsF32(this.phF, 0, lags, at, 1, w, n, k0);
+    this.x.hop_coherence_t(ut.byteOffset, 4 * layout.stride, layout.nv, k0, k1, this.phF.byteOffset, idx.byteOffset, out.byteOffset);
   }
 
   /**

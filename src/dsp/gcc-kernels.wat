@@ -800,4 +800,80 @@
         (local.set $k (i32.add (local.get $k) (i32.const 1)))
         (br $l)))
     (v128.store (local.get $out) (local.get $acc)))
+
+  ;; Unit spectra, channels side by side (HopAnalyzer.freshCoherence): for bins [k0, k1) of channel
+  ;; c, ut[k * stride + c] = f32(re_k * inv[k]) and ut[k * stride + half + c] = f32(im_k * inv[k])
+  ;; (float32 numbers; stride and half in bytes are passed as byte counts: $stride, $half).
+  (func (export "unit_t") (param $spec i32) (param $inv i32) (param $ut i32) (param $c i32) (param $stride i32) (param $half i32) (param $k0 i32) (param $k1 i32)
+    (local $k i32) (local $g f64) (local $at i32)
+    (local.set $k (local.get $k0))
+    (block $d
+      (loop $l
+        (br_if $d (i32.ge_s (local.get $k) (local.get $k1)))
+        (local.set $g (f64.load (i32.add (local.get $inv) (i32.shl (local.get $k) (i32.const 3)))))
+        (local.set $at (i32.add (i32.add (local.get $ut) (i32.mul (local.get $k) (local.get $stride))) (i32.shl (local.get $c) (i32.const 2))))
+        (f32.store (local.get $at)
+          (f32.demote_f64 (f64.mul (f64.promote_f32 (f32.load (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3))))) (local.get $g))))
+        (f32.store (i32.add (local.get $at) (local.get $half))
+          (f32.demote_f64 (f64.mul (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3))))) (local.get $g))))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $l))))
+
+  ;; Hop coherence of four pairs at once in float32 (hopCoherenceLanes, src/dsp/gcc-lanes.ts),
+  ;; from the unit spectra of unit_t: per bin, $nv vectors of four channels' real parts, then
+  ;; $nv of their imaginary parts ($stride bytes a bin). Lane i is pair (a_i, b_i): its unit
+  ;; spectra are picked out of the vectors by byte swizzles, idx holding per vector v the
+  ;; indices for a (16 bytes) and for b (16 bytes), out-of-range (128) where the channel lies
+  ;; in another vector. Per bin: cr = ar br + ai bi, ci = ar bi - ai br, acc += cr pr - ci pi,
+  ;; the phasor steps by a complex multiply; every operation in float32. ph holds [sr x4, si x4,
+  ;; pr x4, pi x4] (the steps and the phasors at bin k0). Writes the four sums (f32x4) at out.
+  (func (export "hop_coherence_t") (param $ut i32) (param $stride i32) (param $nv i32) (param $k0 i32) (param $k1 i32)
+    (param $ph i32) (param $idx i32) (param $out i32)
+    (local $k i32) (local $v i32) (local $at i32) (local $iv i32) (local $half i32)
+    (local $sr v128) (local $si v128) (local $pr v128) (local $pi v128) (local $acc v128) (local $t v128)
+    (local $re v128) (local $im v128) (local $ar v128) (local $ai v128) (local $br v128) (local $bi v128)
+    (local $ia v128) (local $ib v128) (local $cr v128) (local $ci v128)
+    (local.set $sr (v128.load (local.get $ph)))
+    (local.set $si (v128.load offset=16 (local.get $ph)))
+    (local.set $pr (v128.load offset=32 (local.get $ph)))
+    (local.set $pi (v128.load offset=48 (local.get $ph)))
+    (local.set $acc (v128.const i64x2 0 0))
+    (local.set $half (i32.shl (local.get $nv) (i32.const 4)))
+    (local.set $k (local.get $k0))
+    (block $d
+      (loop $l
+        (br_if $d (i32.ge_s (local.get $k) (local.get $k1)))
+        (local.set $at (i32.add (local.get $ut) (i32.mul (local.get $k) (local.get $stride))))
+        (local.set $ia (v128.load (local.get $idx)))
+        (local.set $ib (v128.load offset=16 (local.get $idx)))
+        (local.set $re (v128.load (local.get $at)))
+        (local.set $im (v128.load (i32.add (local.get $at) (local.get $half))))
+        (local.set $ar (i8x16.swizzle (local.get $re) (local.get $ia)))
+        (local.set $ai (i8x16.swizzle (local.get $im) (local.get $ia)))
+        (local.set $br (i8x16.swizzle (local.get $re) (local.get $ib)))
+        (local.set $bi (i8x16.swizzle (local.get $im) (local.get $ib)))
+        (local.set $v (i32.const 1))
+        (block $vd
+          (loop $vl
+            (br_if $vd (i32.ge_s (local.get $v) (local.get $nv)))
+            (local.set $iv (i32.add (local.get $idx) (i32.shl (local.get $v) (i32.const 5))))
+            (local.set $ia (v128.load (local.get $iv)))
+            (local.set $ib (v128.load offset=16 (local.get $iv)))
+            (local.set $re (v128.load (i32.add (local.get $at) (i32.shl (local.get $v) (i32.const 4)))))
+            (local.set $im (v128.load (i32.add (i32.add (local.get $at) (local.get $half)) (i32.shl (local.get $v) (i32.const 4)))))
+            (local.set $ar (v128.or (local.get $ar) (i8x16.swizzle (local.get $re) (local.get $ia))))
+            (local.set $ai (v128.or (local.get $ai) (i8x16.swizzle (local.get $im) (local.get $ia))))
+            (local.set $br (v128.or (local.get $br) (i8x16.swizzle (local.get $re) (local.get $ib))))
+            (local.set $bi (v128.or (local.get $bi) (i8x16.swizzle (local.get $im) (local.get $ib))))
+            (local.set $v (i32.add (local.get $v) (i32.const 1)))
+            (br $vl)))
+        (local.set $cr (f32x4.add (f32x4.mul (local.get $ar) (local.get $br)) (f32x4.mul (local.get $ai) (local.get $bi))))
+        (local.set $ci (f32x4.sub (f32x4.mul (local.get $ar) (local.get $bi)) (f32x4.mul (local.get $ai) (local.get $br))))
+        (local.set $acc (f32x4.add (local.get $acc) (f32x4.sub (f32x4.mul (local.get $cr) (local.get $pr)) (f32x4.mul (local.get $ci) (local.get $pi)))))
+        (local.set $t (f32x4.sub (f32x4.mul (local.get $pr) (local.get $sr)) (f32x4.mul (local.get $pi) (local.get $si))))
+        (local.set $pi (f32x4.add (f32x4.mul (local.get $pr) (local.get $si)) (f32x4.mul (local.get $pi) (local.get $sr))))
+        (local.set $pr (local.get $t))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $l)))
+    (v128.store (local.get $out) (local.get $acc)))
 )

@@ -307,63 +307,70 @@ function derivatives2(pa: PairCorrelator, pb: PairCorrelator, bands: BandLayout,
 }
 
 /**
- * coherenceSum (./gcc.ts) of two pairs (spectra a0, b0 at lag0 and a1, b1 at lag1) over the
- * same bins, divided by their count, into out[0] and out[1] (hopCoherence's mean, each pair's
- * bins in one recursion).
+ * The layout of unit spectra with the channels side by side, for the hop coherence of many
+ * pairs (hopCoherenceLanes): per bin, the real parts of X_c / |X_c| for channels 0 .. 4 nv - 1,
+ * then their imaginary parts (float32), nv = ceil(channels / 4) vectors of four channels each.
  */
-export function hopCoherence2(
-  a0: ArrayLike<number>,
-  b0: ArrayLike<number>,
-  invA0: Float64Array,
-  invB0: Float64Array,
-  lag0: number,
-  a1: ArrayLike<number>,
-  b1: ArrayLike<number>,
-  invA1: Float64Array,
-  invB1: Float64Array,
-  lag1: number,
-  n: number,
-  first: number,
-  end: number,
-  out: Float64Array,
-): void {
-  if (end <= first) {
-    out[0] = 0;
-    out[1] = 0;
-    return;
+export interface UnitLayout {
+  /** Vectors of four channels per part. */
+  readonly nv: number;
+  /** Floats per bin (8 nv). */
+  readonly stride: number;
+  /** Offset of the imaginary parts within a bin, floats (4 nv). */
+  readonly half: number;
+}
+
+export function unitLayout(channels: number): UnitLayout {
+  const nv = Math.ceil(channels / 4);
+  return { nv, stride: 8 * nv, half: 4 * nv };
+}
+
+/**
+ * Channel c's unit spectrum over bins [k0, k1) into `ut` (UnitLayout): the real and imaginary
+ * parts of bin k times invMag[k], each rounded to float32 (GccKernels.unitT does the same).
+ */
+export function fillUnitSpectrum(spec: ArrayLike<number>, invMag: Float64Array, ut: Float32Array, c: number, layout: UnitLayout, k0: number, k1: number): void {
+  const { stride, half } = layout;
+  for (let k = k0; k < k1; k++) {
+    const g = invMag[k]!;
+    ut[k * stride + c] = spec[2 * k]! * g;
+    ut[k * stride + half + c] = spec[2 * k + 1]! * g;
   }
-  const s0 = (2 * Math.PI * lag0) / n;
-  const s1 = (2 * Math.PI * lag1) / n;
-  const sr0 = Math.cos(s0);
-  const si0 = Math.sin(s0);
-  const sr1 = Math.cos(s1);
-  const si1 = Math.sin(s1);
-  let pr0 = Math.cos(s0 * first);
-  let pi0 = Math.sin(s0 * first);
-  let pr1 = Math.cos(s1 * first);
-  let pi1 = Math.sin(s1 * first);
-  let acc0 = 0;
-  let acc1 = 0;
-  for (let k = first; k < end; k++) {
-    const xr0 = a0[2 * k]!;
-    const xi0 = a0[2 * k + 1]!;
-    const yr0 = b0[2 * k]!;
-    const yi0 = b0[2 * k + 1]!;
-    const g0 = invA0[k]! * invB0[k]!;
-    acc0 += ((xr0 * yr0 + xi0 * yi0) * pr0 - (xr0 * yi0 - xi0 * yr0) * pi0) * g0;
-    const xr1 = a1[2 * k]!;
-    const xi1 = a1[2 * k + 1]!;
-    const yr1 = b1[2 * k]!;
-    const yi1 = b1[2 * k + 1]!;
-    const g1 = invA1[k]! * invB1[k]!;
-    acc1 += ((xr1 * yr1 + xi1 * yi1) * pr1 - (xr1 * yi1 - xi1 * yr1) * pi1) * g1;
-    const t0 = pr0 * sr0 - pi0 * si0;
-    pi0 = pr0 * si0 + pi0 * sr0;
-    pr0 = t0;
-    const t1 = pr1 * sr1 - pi1 * si1;
-    pi1 = pr1 * si1 + pi1 * sr1;
-    pr1 = t1;
+}
+
+/**
+ * The hop coherence (./gcc.ts, coherenceSum: sum over bins [k0, k1) of Re(U_a conj(U_b)
+ * e^{j 2 pi k lag / n})) of four pairs at once in float32, one pair per lane, from unit spectra
+ * (fillUnitSpectrum). Lane i is pair (chans[at + i], chans[at + 4 + i]); ph holds the float32
+ * phasors of its lag (setPhasorsF32 from bin k0). Every operation is rounded to float32, in the
+ * order of GccKernels.hopCoherenceT's f32x4 lanes, so both give the same sums bit for bit; the
+ * four sums go to out[0 .. 4). The coherence is a confidence feature (a mean over hundreds of
+ * bins of terms within +-1): float32 keeps it to about 1e-6.
+ */
+export function hopCoherenceLanes(ut: Float32Array, layout: UnitLayout, chans: Int32Array, at: number, ph: Float32Array, k0: number, k1: number, out: Float32Array): void {
+  const f = Math.fround;
+  const { stride, half } = layout;
+  for (let i = 0; i < 4; i++) {
+    const a = chans[at + i]!;
+    const b = chans[at + 4 + i]!;
+    const sr = ph[i]!;
+    const si = ph[4 + i]!;
+    let pr = ph[8 + i]!;
+    let pi = ph[12 + i]!;
+    let acc = 0;
+    for (let k = k0; k < k1; k++) {
+      const o = k * stride;
+      const ar = ut[o + a]!;
+      const ai = ut[o + half + a]!;
+      const br = ut[o + b]!;
+      const bi = ut[o + half + b]!;
+      const cr = f(f(ar * br) + f(ai * bi));
+      const ci = f(f(ar * bi) - f(ai * br));
+      acc = f(acc + f(f(cr * pr) - f(ci * pi)));
+      const t = f(f(pr * sr) - f(pi * si));
+      pi = f(f(pr * si) + f(pi * sr));
+      pr = t;
+    }
+    out[i] = acc;
   }
-  out[0] = acc0 / (end - first);
-  out[1] = acc1 / (end - first);
 }

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { makeBands } from '../../src/dsp/bands.js';
 import { addBandScores, coherenceSum, hopCoherence, PairCorrelator, refineLag } from '../../src/dsp/gcc.js';
-import { addBandScoresLanes, hopCoherence2, refineLagLanes } from '../../src/dsp/gcc-lanes.js';
+import { addBandScoresLanes, fillUnitSpectrum, hopCoherenceLanes, refineLagLanes, setPhasorsF32, unitLayout } from '../../src/dsp/gcc-lanes.js';
 
 /**
  * The interleaved kernels (src/dsp/gcc-lanes.ts) must give the single kernels' results to the
@@ -69,19 +69,33 @@ describe('interleaved GCC kernels give the single kernels results (bit for bit, 
     }
   });
 
-  it('hop coherence of two pairs at once', () => {
-    const spec = () => Array.from({ length: n }, () => rand());
-    const inv = () => Float64Array.from({ length: n / 2 + 1 }, () => 1 + rand());
-    const [a0, b0, a1, b1] = [spec(), spec(), spec(), spec()];
-    const [ia0, ib0, ia1, ib1] = [inv(), inv(), inv(), inv()];
-    const out = new Float64Array(2);
-    hopCoherence2(a0, b0, ia0, ib0, 2.7, a1, b1, ia1, ib1, -5.2, n, 3, 257, out);
-    expect(out[0]).toBe(coherenceSum(a0, b0, ia0, ib0, n, 2.7, 3, 257) / 254);
-    expect(out[1]).toBe(coherenceSum(a1, b1, ia1, ib1, n, -5.2, 3, 257) / 254);
+  it('hop coherence of four pairs at once in float32, from unit spectra with the channels side by side', () => {
+    // Six channels (two vectors of four): pairs across both halves of the layout.
+    const C = 6;
+    const specs = Array.from({ length: C }, () => Array.from({ length: n }, () => rand()));
+    const invs = Array.from({ length: C }, () => Float64Array.from({ length: n / 2 + 1 }, () => 1 + rand()));
+    const layout = unitLayout(C);
+    expect(layout).toEqual({ nv: 2, stride: 16, half: 8 });
+    const ut = new Float32Array((n / 2 + 1) * layout.stride);
+    const [k0, k1] = [3, 257];
+    for (let c = 0; c < C; c++) fillUnitSpectrum(specs[c]!, invs[c]!, ut, c, layout, k0, k1);
+    const chans = Int32Array.from([0, 5, 2, 4, /* b: */ 1, 3, 5, 0]);
+    const lags = Float64Array.from([2.7, -5.2, 0.3, 9.9]);
+    const ph = new Float32Array(16);
+    setPhasorsF32(ph, 0, lags, 0, 1, 4, n, k0);
+    const out = new Float32Array(4);
+    hopCoherenceLanes(ut, layout, chans, 0, ph, k0, k1, out);
+    for (let i = 0; i < 4; i++) {
+      const [a, b] = [chans[i]!, chans[4 + i]!];
+      // the double-precision single kernel: within float32 rounding of its sum over 254 bins
+      const want = coherenceSum(specs[a]!, specs[b]!, invs[a]!, invs[b]!, n, lags[i]!, k0, k1);
+      expect(Math.abs(out[i]! - want)).toBeLessThan(1e-4);
+      expect(out[i]).not.toBe(want);
+    }
     // a pair alone (its halves in two recursions) gives the same mean to rounding (common practice, no source)
-    for (const [k0, k1] of [[3, 257], [4, 257], [10, 11]] as const) {
-      const one = hopCoherence(a0, b0, ia0, ib0, n, 2.7, k0, k1);
-      expect(Math.abs(one - coherenceSum(a0, b0, ia0, ib0, n, 2.7, k0, k1) / (k1 - k0))).toBeLessThan(1e-12);
+    for (const [a0, a1] of [[3, 257], [4, 257], [10, 11]] as const) {
+      const one = hopCoherence(specs[0]!, specs[1]!, invs[0]!, invs[1]!, n, 2.7, a0, a1);
+      expect(Math.abs(one - coherenceSum(specs[0]!, specs[1]!, invs[0]!, invs[1]!, n, 2.7, a0, a1) / (a1 - a0))).toBeLessThan(1e-12);
     }
   });
 });
