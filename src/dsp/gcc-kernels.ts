@@ -3,7 +3,7 @@ import { fileURLToPath } from 'node:url';
 import type { BandLayout } from './bands.js';
 import { assembleWat, kernelTextPath } from './gcc-kernels-assemble.js';
 import { coherenceSum } from './gcc.js';
-import { clampToStart, lastOfUsedRun, newtonStep, setPhasorsF32, startNewton, type UnitLayout } from './gcc-lanes.js';
+import { clampToStart, derivativePhasorFloats, newtonStep, setDerivativePhasors, setPhasorsF32, startNewton, sumDerivativeLanes, type UnitLayout } from './gcc-lanes.js';
 
 /**
  * The per-bin kernels of the analysis in WebAssembly SIMD (./gcc-kernels.wat): PHAT magnitudes,
@@ -43,8 +43,7 @@ interface KernelExports {
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
   accumulate(a: number, b: number, wa: number, ib: number, ar: number, ai: number, k0: number, k1: number, m: number): void;
   band_scores_f32(ar: number, ai: number, br: number, bi: number, two: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
-  derivatives2(arA: number, aiA: number, arB: number, aiB: number, use: number, starts: number, ends: number, nb: number, w0: number, ph: number, out: number): void;
-  derivatives1(ar: number, ai: number, k0: number, k1: number, w0: number, ph: number, out: number): void;
+  derivatives_f32(arA: number, aiA: number, arB: number, aiB: number, two: number, use: number, starts: number, ends: number, nb: number, w0: number, ph: number, out: number): void;
   hop_coherence2(a0: number, b0: number, a1: number, b1: number, ia0: number, ib0: number, ia1: number, ib1: number, k0: number, k1: number, ph: number, out: number): void;
   unit_t(spec: number, inv: number, ut: number, c: number, stride: number, half: number, k0: number, k1: number): void;
   hop_coherence_t(ut: number, stride: number, nv: number, k0: number, k1: number, ph: number, idx: number, out: number): void;
@@ -82,18 +81,21 @@ export function wasmKernelsAvailable(): boolean {
 const ALIGN = 16;
 /** Numbers in srp_search's argument block. */
 export const SRP_SEARCH_ARGS = 19;
-/** Scratch for phasors: 4 doubles of steps, then 4 per band (32 bands at most), and more. */
-const SCRATCH_DOUBLES = 4 + 4 * 64 + 16;
+/** Double-precision phasor scratch (hopCoherence1: two lanes' steps and starts). */
+const SCRATCH_DOUBLES = 8;
 
 export class GccKernels {
   private readonly x: KernelExports;
   private readonly buffer: ArrayBuffer;
   private used = 0;
   private readonly limit: number;
-  /** Phasor scratch (ph) and kernel output (4 doubles). */
+  /** Double-precision phasor scratch (ph) and kernel output (4 doubles). */
   private readonly ph: Float64Array;
   /** Float32 phasor scratch (band_scores_f4). */
   private readonly phF: Float32Array;
+  /** Float32 scratch of the derivatives: phasors (per band) and the lanes' sums. */
+  private readonly phD: Float32Array;
+  private readonly outD: Float32Array;
   private readonly out: Float64Array;
   private bandEnds: Int32Array | null = null;
   private bandStarts: Int32Array | null = null;
@@ -103,7 +105,7 @@ export class GccKernels {
     const instance = new WebAssembly.Instance(module, {});
     this.x = instance.exports as unknown as KernelExports;
     const mem = this.x.memory;
-    const need = bytes + SCRATCH_DOUBLES * 8 + 64 + 128 + 4 * ALIGN;
+    const need = bytes + SCRATCH_DOUBLES * 8 + 64 + 128 + 4 * derivativePhasorFloats(64) + 64 + 4 * ALIGN;
     const pages = Math.ceil(need / 65536) - mem.buffer.byteLength / 65536;
     if (pages > 0) mem.grow(pages);
     this.buffer = mem.buffer;
@@ -111,6 +113,8 @@ export class GccKernels {
     this.used = ALIGN; // offset 0 stays unused: a null pointer means "none"
     this.ph = this.f64(SCRATCH_DOUBLES);
     this.phF = this.f32(32);
+    this.phD = this.f32(derivativePhasorFloats(64));
+    this.outD = this.f32(16);
     this.out = this.f64(4);
   }
 
@@ -301,6 +305,7 @@ export class GccKernels {
     const P = pcs.length;
     startNewton(P, lagsIn, lagOffset, lagsOut, active);
     for (let it = 0; it < iterations; it++) {
+      // The active pairs two at a time (an odd one alone).
       let pending = -1;
       for (let p = 0; p < P; p++) {
         if (!active[p]) continue;
@@ -308,71 +313,22 @@ export class GccKernels {
           pending = p;
           continue;
         }
-        this.derivatives2(pcs[pending]!, pcs[p]!, n, useBand, lagsOut[pending]!, lagsOut[p]!, d, 2 * pending, 2 * p);
+        this.derivatives(pcs[pending]!, pcs[p]!, n, useBand, lagsOut[pending]!, lagsOut[p]!, d, 2 * pending, 2 * p);
         pending = -1;
       }
-      if (pending >= 0) this.derivatives1(pcs[pending]!, n, useBand, lagsOut[pending]!, d, 2 * pending);
+      if (pending >= 0) this.derivatives(pcs[pending]!, null, n, useBand, lagsOut[pending]!, null, d, 2 * pending, -1);
       if (!newtonStep(P, d, active, lagsOut)) break;
     }
     clampToStart(pcs, lagsIn, lagOffset, lagsOut);
   }
 
-  /**
-   * derivatives2 for one pair alone (a pair array, or the odd pair out): its bins two at a time
-   * in the two lanes, one call per run of used bands (the bands are contiguous).
-   */
-  private derivatives1(pa: CrossSpectrum, n: number, useBand: Uint8Array, ta: number, d: Float64Array, oa: number): void {
+  /** derivativesF32 (./gcc-lanes.ts) of pair pa at lag ta and (unless null) pb at tb, summed into d[oa], d[oa + 1] and d[ob], d[ob + 1]. */
+  private derivatives(pa: CrossSpectrum, pb: CrossSpectrum | null, n: number, useBand: Uint8Array, ta: number, tb: number | null, d: Float64Array, oa: number, ob: number): void {
     const bands = this.bands!;
-    const w0 = (2 * Math.PI) / n;
-    const step = w0 * ta;
-    const ph = this.ph;
-    const out = this.out;
-    out.fill(0);
-    ph[0] = ph[1] = Math.cos(2 * step);
-    ph[2] = ph[3] = Math.sin(2 * step);
-    for (let b = 0; b < bands.count; b++) {
-      if (!useBand[b]) continue;
-      const e = lastOfUsedRun(useBand, bands.count, b);
-      const k0 = bands.start[b]!;
-      ph[4] = Math.cos(step * k0);
-      ph[5] = Math.cos(step * (k0 + 1));
-      ph[6] = Math.sin(step * k0);
-      ph[7] = Math.sin(step * (k0 + 1));
-      this.x.derivatives1(pa.accRe.byteOffset, pa.accIm.byteOffset, k0, bands.end[e]!, w0, ph.byteOffset, out.byteOffset);
-      b = e;
-    }
-    d[oa] = out[0]! + out[1]!;
-    d[oa + 1] = out[2]! + out[3]!;
-  }
-
-  private derivatives2(pa: CrossSpectrum, pb: CrossSpectrum, n: number, useBand: Uint8Array, ta: number, tb: number, d: Float64Array, oa: number, ob: number): void {
-    const bands = this.bands!;
-    const w0 = (2 * Math.PI) / n;
-    const ph = this.ph;
-    const stepA = w0 * ta;
-    const stepB = w0 * tb;
-    // One pair given twice (a pair alone, or the odd one out) at one lag: its cosines and sines once.
-    const same = Object.is(ta, tb); // (not ===: 0 and -0 have sines of opposite sign)
-    ph[0] = Math.cos(stepA);
-    ph[1] = same ? ph[0]! : Math.cos(stepB);
-    ph[2] = Math.sin(stepA);
-    ph[3] = same ? ph[2]! : Math.sin(stepB);
-    for (let b = 0; b < bands.count; b++) {
-      // the phasor at the first bin of each run of used bands (within a run it steps on)
-      if (!useBand[b] || (b > 0 && useBand[b - 1])) continue;
-      const s = bands.start[b]!;
-      const o = 4 + 4 * b;
-      ph[o] = Math.cos(stepA * s);
-      ph[o + 1] = same ? ph[o]! : Math.cos(stepB * s);
-      ph[o + 2] = Math.sin(stepA * s);
-      ph[o + 3] = same ? ph[o + 2]! : Math.sin(stepB * s);
-    }
-    this.x.derivatives2(pa.accRe.byteOffset, pa.accIm.byteOffset, pb.accRe.byteOffset, pb.accIm.byteOffset, useBand.byteOffset, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, w0, ph.byteOffset, this.out.byteOffset);
-    const r = this.out;
-    d[oa] = r[0]!;
-    d[oa + 1] = r[2]!;
-    d[ob] = r[1]!;
-    d[ob + 1] = r[3]!;
+    setDerivativePhasors(this.phD, bands, useBand, ta, tb, n);
+    const b = pb ?? pa;
+    this.x.derivatives_f32(pa.accRe.byteOffset, pa.accIm.byteOffset, b.accRe.byteOffset, b.accIm.byteOffset, pb === null ? 0 : 1, useBand.byteOffset, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, (2 * Math.PI) / n, this.phD.byteOffset, this.outD.byteOffset);
+    sumDerivativeLanes(this.outD, d, oa, ob);
   }
 
   /** fillUnitSpectrum (./gcc-lanes.ts) from a float32 spectrum in this memory. */

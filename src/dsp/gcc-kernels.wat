@@ -661,103 +661,100 @@
     (if (i32.ge_s (local.get $write) (i32.const 4))
       (then (f64.store offset=24 (local.get $o) (f64.add (f64.load offset=24 (local.get $o)) (f64.promote_f32 (f32x4.extract_lane 3 (local.get $v))))))))
 
-  ;; derivatives2 (src/dsp/gcc-lanes.ts): first and second derivative of two correlations (pair A
-  ;; in lane 0, pair B in lane 1) over the bands flagged in use[b] (uint8). ph holds
-  ;; [srA srB siA siB] and, per band b that starts a run of used bands (b = 0 or band b - 1 not
-  ;; used), at ph + 32 + 32 b, [prA prB piA piB] (the phasor at the band's first bin); within a
-  ;; run the phasor steps on from the band before. Writes [d1A d1B d2A d2B] at out.
-  (func (export "derivatives2") (param $arA i32) (param $aiA i32) (param $arB i32) (param $aiB i32)
-    (param $use i32) (param $starts i32) (param $ends i32) (param $nb i32) (param $w0 f64) (param $ph i32) (param $out i32)
-    (local $k i32) (local $b i32) (local $e i32) (local $o i32) (local $p i32)
-    (local $sr v128) (local $si v128) (local $pr v128) (local $pi v128) (local $x v128) (local $y v128)
-    (local $w v128) (local $ww v128) (local $d1 v128) (local $d2 v128) (local $t v128) (local $ws f64)
-    (local.set $sr (v128.load (local.get $ph)))
-    (local.set $si (v128.load offset=16 (local.get $ph)))
-    (local.set $d1 (v128.const i64x2 0 0))
-    (local.set $d2 (v128.const i64x2 0 0))
+  ;; The Newton refinement's derivatives in float32 (derivativesF32, src/dsp/gcc-lanes.ts): first
+  ;; and second derivative of two pairs' correlations (A: arA, aiA; B: arB, aiB) over the bands
+  ;; flagged in use[b] (uint8), four neighbouring bins in the four lanes (bins k .. k + 3 of a
+  ;; run of used bands; the bands are contiguous, so a run is one range of bins). Per bin, with
+  ;; w = f32(w0 k), x = f32(ar[k]), y = f32(ai[k]): d1 -= w (x pi + y pr), d2 -= (w w) (x pr - y pi),
+  ;; the phasor stepping four bins at a time; every operation in float32. A run's last one to
+  ;; three bins go in a pass with the lanes past its end cleared (x, y and w zero). ph (float32)
+  ;; holds [srA x4 siA x4 srB x4 siB x4] (the four-bin steps) and, at ph + 64 + 64 b for each band
+  ;; b that starts a run, [prA x4 piA x4 prB x4 piB x4] (the phasors at its bins k .. k + 3).
+  ;; Writes the lanes [d1A x4 d2A x4 d1B x4 d2B x4] (float32) at out; without $two, pair A alone
+  ;; (B's lanes are written as zeros).
+  (func (export "derivatives_f32") (param $arA i32) (param $aiA i32) (param $arB i32) (param $aiB i32) (param $two i32)
+    (param $use i32) (param $starts i32) (param $ends i32) (param $nb i32) (param $w0 f32) (param $ph i32) (param $out i32)
+    (local $k i32) (local $b i32) (local $e i32) (local $o i32) (local $p i32) (local $rem i32)
+    (local $srA v128) (local $siA v128) (local $prA v128) (local $piA v128)
+    (local $srB v128) (local $siB v128) (local $prB v128) (local $piB v128)
+    (local $d1A v128) (local $d2A v128) (local $d1B v128) (local $d2B v128)
+    (local $x v128) (local $y v128) (local $w v128) (local $ww v128) (local $t v128) (local $m v128) (local $kv v128) (local $wv v128)
+    (local.set $srA (v128.load (local.get $ph)))
+    (local.set $siA (v128.load offset=16 (local.get $ph)))
+    (local.set $srB (v128.load offset=32 (local.get $ph)))
+    (local.set $siB (v128.load offset=48 (local.get $ph)))
+    (local.set $wv (f32x4.splat (local.get $w0)))
+    (local.set $d1A (v128.const i64x2 0 0))
+    (local.set $d2A (v128.const i64x2 0 0))
+    (local.set $d1B (v128.const i64x2 0 0))
+    (local.set $d2B (v128.const i64x2 0 0))
     (local.set $b (i32.const 0))
     (block $bandsDone
       (loop $bands
         (br_if $bandsDone (i32.ge_s (local.get $b) (local.get $nb)))
         (if (i32.load8_u (i32.add (local.get $use) (local.get $b)))
           (then
+            ;; the run of used bands from b: bins k .. e
             (local.set $k (i32.load (i32.add (local.get $starts) (i32.shl (local.get $b) (i32.const 2)))))
+            (local.set $p (i32.add (local.get $ph) (i32.add (i32.const 64) (i32.shl (local.get $b) (i32.const 6)))))
+            (local.set $prA (v128.load (local.get $p)))
+            (local.set $piA (v128.load offset=16 (local.get $p)))
+            (local.set $prB (v128.load offset=32 (local.get $p)))
+            (local.set $piB (v128.load offset=48 (local.get $p)))
+            (block $runDone
+              (loop $run
+                (br_if $runDone (i32.ge_s (i32.add (local.get $b) (i32.const 1)) (local.get $nb)))
+                (br_if $runDone (i32.eqz (i32.load8_u (i32.add (i32.add (local.get $use) (local.get $b)) (i32.const 1)))))
+                (local.set $b (i32.add (local.get $b) (i32.const 1)))
+                (br $run)))
             (local.set $e (i32.load (i32.add (local.get $ends) (i32.shl (local.get $b) (i32.const 2)))))
-            (if (i32.or (i32.eqz (local.get $b)) (i32.eqz (i32.load8_u (i32.sub (i32.add (local.get $use) (local.get $b)) (i32.const 1)))))
-              (then
-                (local.set $p (i32.add (local.get $ph) (i32.add (i32.const 32) (i32.shl (local.get $b) (i32.const 5)))))
-                (local.set $pr (v128.load (local.get $p)))
-                (local.set $pi (v128.load offset=16 (local.get $p)))))
+            (local.set $kv (f32x4.convert_i32x4_s (i32x4.add (i32x4.splat (local.get $k)) (v128.const i32x4 0 1 2 3))))
             (block $d
               (loop $l
                 (br_if $d (i32.ge_s (local.get $k) (local.get $e)))
-                (local.set $ws (f64.mul (local.get $w0) (f64.convert_i32_s (local.get $k))))
-                (local.set $w (f64x2.splat (local.get $ws)))
-                (local.set $ww (f64x2.splat (f64.mul (local.get $ws) (local.get $ws))))
+                (local.set $rem (i32.sub (local.get $e) (local.get $k)))
+                ;; lanes at or past the run's end: cleared (mask all ones for the lanes within it)
+                (local.set $m (i32x4.lt_s (v128.const i32x4 0 1 2 3) (i32x4.splat (local.get $rem))))
+                (local.set $w (v128.and (f32x4.mul (local.get $wv) (local.get $kv)) (local.get $m)))
+                (local.set $ww (f32x4.mul (local.get $w) (local.get $w)))
                 (local.set $o (i32.shl (local.get $k) (i32.const 3)))
-                (local.set $x (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $arA) (local.get $o))) (f64.load (i32.add (local.get $arB) (local.get $o)))))
-                (local.set $y (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $aiA) (local.get $o))) (f64.load (i32.add (local.get $aiB) (local.get $o)))))
-                (local.set $d1 (f64x2.sub (local.get $d1)
-                  (f64x2.mul (local.get $w) (f64x2.add (f64x2.mul (local.get $x) (local.get $pi)) (f64x2.mul (local.get $y) (local.get $pr))))))
-                (local.set $d2 (f64x2.sub (local.get $d2)
-                  (f64x2.mul (local.get $ww) (f64x2.sub (f64x2.mul (local.get $x) (local.get $pr)) (f64x2.mul (local.get $y) (local.get $pi))))))
-                (local.set $t (f64x2.sub (f64x2.mul (local.get $pr) (local.get $sr)) (f64x2.mul (local.get $pi) (local.get $si))))
-                (local.set $pi (f64x2.add (f64x2.mul (local.get $pr) (local.get $si)) (f64x2.mul (local.get $pi) (local.get $sr))))
-                (local.set $pr (local.get $t))
-                (local.set $k (i32.add (local.get $k) (i32.const 1)))
+                (local.set $x (v128.and (local.get $m) (i8x16.shuffle 0 1 2 3 4 5 6 7 16 17 18 19 20 21 22 23
+                  (f32x4.demote_f64x2_zero (v128.load (i32.add (local.get $arA) (local.get $o))))
+                  (f32x4.demote_f64x2_zero (v128.load offset=16 (i32.add (local.get $arA) (local.get $o)))))))
+                (local.set $y (v128.and (local.get $m) (i8x16.shuffle 0 1 2 3 4 5 6 7 16 17 18 19 20 21 22 23
+                  (f32x4.demote_f64x2_zero (v128.load (i32.add (local.get $aiA) (local.get $o))))
+                  (f32x4.demote_f64x2_zero (v128.load offset=16 (i32.add (local.get $aiA) (local.get $o)))))))
+                (local.set $d1A (f32x4.sub (local.get $d1A)
+                  (f32x4.mul (local.get $w) (f32x4.add (f32x4.mul (local.get $x) (local.get $piA)) (f32x4.mul (local.get $y) (local.get $prA))))))
+                (local.set $d2A (f32x4.sub (local.get $d2A)
+                  (f32x4.mul (local.get $ww) (f32x4.sub (f32x4.mul (local.get $x) (local.get $prA)) (f32x4.mul (local.get $y) (local.get $piA))))))
+                (local.set $t (f32x4.sub (f32x4.mul (local.get $prA) (local.get $srA)) (f32x4.mul (local.get $piA) (local.get $siA))))
+                (local.set $piA (f32x4.add (f32x4.mul (local.get $prA) (local.get $siA)) (f32x4.mul (local.get $piA) (local.get $srA))))
+                (local.set $prA (local.get $t))
+                (if (local.get $two)
+                  (then
+                    (local.set $x (v128.and (local.get $m) (i8x16.shuffle 0 1 2 3 4 5 6 7 16 17 18 19 20 21 22 23
+                      (f32x4.demote_f64x2_zero (v128.load (i32.add (local.get $arB) (local.get $o))))
+                      (f32x4.demote_f64x2_zero (v128.load offset=16 (i32.add (local.get $arB) (local.get $o)))))))
+                    (local.set $y (v128.and (local.get $m) (i8x16.shuffle 0 1 2 3 4 5 6 7 16 17 18 19 20 21 22 23
+                      (f32x4.demote_f64x2_zero (v128.load (i32.add (local.get $aiB) (local.get $o))))
+                      (f32x4.demote_f64x2_zero (v128.load offset=16 (i32.add (local.get $aiB) (local.get $o)))))))
+                    (local.set $d1B (f32x4.sub (local.get $d1B)
+                      (f32x4.mul (local.get $w) (f32x4.add (f32x4.mul (local.get $x) (local.get $piB)) (f32x4.mul (local.get $y) (local.get $prB))))))
+                    (local.set $d2B (f32x4.sub (local.get $d2B)
+                      (f32x4.mul (local.get $ww) (f32x4.sub (f32x4.mul (local.get $x) (local.get $prB)) (f32x4.mul (local.get $y) (local.get $piB))))))
+                    (local.set $t (f32x4.sub (f32x4.mul (local.get $prB) (local.get $srB)) (f32x4.mul (local.get $piB) (local.get $siB))))
+                    (local.set $piB (f32x4.add (f32x4.mul (local.get $prB) (local.get $siB)) (f32x4.mul (local.get $piB) (local.get $srB))))
+                    (local.set $prB (local.get $t))))
+                (local.set $kv (f32x4.add (local.get $kv) (v128.const f32x4 4 4 4 4)))
+                (local.set $k (i32.add (local.get $k) (i32.const 4)))
                 (br $l)))))
         (local.set $b (i32.add (local.get $b) (i32.const 1)))
         (br $bands)))
-    (v128.store (local.get $out) (local.get $d1))
-    (v128.store offset=16 (local.get $out) (local.get $d2)))
-
-  ;; derivatives2 for one pair alone over bins [k0, k1) (a run of used bands): bin k in lane 0 and
-  ;; bin k + 1 in lane 1, the phasors stepping two bins at a time; an odd last bin in lane 0 alone.
-  ;; ph holds [s2r s2r s2i s2i] (the phasor of two bins' step) and [pr(k0) pr(k0+1) pi(k0)
-  ;; pi(k0+1)]. Adds the lanes' sums to [d1 d1 d2 d2] at out (the caller adds the lanes).
-  (func (export "derivatives1") (param $ar i32) (param $ai i32) (param $k0 i32) (param $k1 i32) (param $w0 f64) (param $ph i32) (param $out i32)
-    (local $k i32) (local $o i32)
-    (local $sr v128) (local $si v128) (local $pr v128) (local $pi v128) (local $x v128) (local $y v128)
-    (local $w v128) (local $ww v128) (local $d1 v128) (local $d2 v128) (local $t v128) (local $ws f64)
-    (local.set $sr (v128.load (local.get $ph)))
-    (local.set $si (v128.load offset=16 (local.get $ph)))
-    (local.set $pr (v128.load offset=32 (local.get $ph)))
-    (local.set $pi (v128.load offset=48 (local.get $ph)))
-    (local.set $d1 (v128.load (local.get $out)))
-    (local.set $d2 (v128.load offset=16 (local.get $out)))
-    (local.set $k (local.get $k0))
-    (block $d
-      (loop $l
-        (br_if $d (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $k1)))
-        (local.set $ws (f64.mul (local.get $w0) (f64.convert_i32_s (local.get $k))))
-        (local.set $w (f64x2.replace_lane 1 (f64x2.splat (local.get $ws)) (f64.add (local.get $ws) (local.get $w0))))
-        (local.set $ww (f64x2.mul (local.get $w) (local.get $w)))
-        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
-        (local.set $x (v128.load (i32.add (local.get $ar) (local.get $o))))
-        (local.set $y (v128.load (i32.add (local.get $ai) (local.get $o))))
-        (local.set $d1 (f64x2.sub (local.get $d1)
-          (f64x2.mul (local.get $w) (f64x2.add (f64x2.mul (local.get $x) (local.get $pi)) (f64x2.mul (local.get $y) (local.get $pr))))))
-        (local.set $d2 (f64x2.sub (local.get $d2)
-          (f64x2.mul (local.get $ww) (f64x2.sub (f64x2.mul (local.get $x) (local.get $pr)) (f64x2.mul (local.get $y) (local.get $pi))))))
-        (local.set $t (f64x2.sub (f64x2.mul (local.get $pr) (local.get $sr)) (f64x2.mul (local.get $pi) (local.get $si))))
-        (local.set $pi (f64x2.add (f64x2.mul (local.get $pr) (local.get $si)) (f64x2.mul (local.get $pi) (local.get $sr))))
-        (local.set $pr (local.get $t))
-        (local.set $k (i32.add (local.get $k) (i32.const 2)))
-        (br $l)))
-    (if (i32.lt_s (local.get $k) (local.get $k1))
-      (then
-        (local.set $ws (f64.mul (local.get $w0) (f64.convert_i32_s (local.get $k))))
-        (local.set $w (f64x2.replace_lane 1 (f64x2.splat (local.get $ws)) (f64.const 0)))
-        (local.set $ww (f64x2.mul (local.get $w) (local.get $w)))
-        (local.set $o (i32.shl (local.get $k) (i32.const 3)))
-        (local.set $x (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $ar) (local.get $o))) (f64.const 0)))
-        (local.set $y (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $ai) (local.get $o))) (f64.const 0)))
-        (local.set $d1 (f64x2.sub (local.get $d1)
-          (f64x2.mul (local.get $w) (f64x2.add (f64x2.mul (local.get $x) (local.get $pi)) (f64x2.mul (local.get $y) (local.get $pr))))))
-        (local.set $d2 (f64x2.sub (local.get $d2)
-          (f64x2.mul (local.get $ww) (f64x2.sub (f64x2.mul (local.get $x) (local.get $pr)) (f64x2.mul (local.get $y) (local.get $pi))))))))
-    (v128.store (local.get $out) (local.get $d1))
-    (v128.store offset=16 (local.get $out) (local.get $d2)))
+    (v128.store (local.get $out) (local.get $d1A))
+    (v128.store offset=16 (local.get $out) (local.get $d2A))
+    (v128.store offset=32 (local.get $out) (local.get $d1B))
+    (v128.store offset=48 (local.get $out) (local.get $d2B)))
 
   ;; hopCoherence2 (src/dsp/gcc-lanes.ts): the sums of two pairs (lane 0: spectra a0, b0; lane 1:
   ;; a1, b1) over bins [k0, k1), before the division by the bin count. ph holds

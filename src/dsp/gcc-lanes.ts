@@ -130,10 +130,17 @@ export function refineLagLanes(
         pending = p;
         continue;
       }
-      derivatives2(pcs[pending]!, pcs[p]!, bands, useBand, lagsOut[pending]!, lagsOut[p]!, d, 2 * pending, 2 * p);
+      setDerivativePhasors(derivPh, bands, useBand, lagsOut[pending]!, lagsOut[p]!, pcs[p]!.n);
+      derivativesF32(pcs[pending]!, pcs[p]!, bands, useBand, derivPh, derivOut);
+      sumDerivativeLanes(derivOut, d, 2 * pending, 2 * p);
       pending = -1;
     }
-    if (pending >= 0) derivatives1(pcs[pending]!, bands, useBand, lagsOut[pending]!, d, 2 * pending);
+    if (pending >= 0) {
+      const pc = pcs[pending]!;
+      setDerivativePhasors(derivPh, bands, useBand, lagsOut[pending]!, null, pc.n);
+      derivativesF32(pc, null, bands, useBand, derivPh, derivOut);
+      sumDerivativeLanes(derivOut, d, 2 * pending, -1);
+    }
     if (!newtonStep(P, d, active, lagsOut)) break;
   }
   clampToStart(pcs, lagsIn, lagOffset, lagsOut);
@@ -191,119 +198,114 @@ export function clampToStart(pcs: readonly { readonly maxLag: number }[], lagsIn
   }
 }
 
-/**
- * derivatives2 for one pair alone (a pair array, or the odd pair out): per run of used bands
- * (the bands are contiguous), bin k in lane 0 and bin k + 1 in lane 1, the phasors stepping two
- * bins at a time, an odd last bin in lane 0 alone; the lanes added at the end. The WebAssembly
- * kernel (gcc-kernels.wat, derivatives1) does the same sums in the same order.
- */
-function derivatives1(pa: PairCorrelator, bands: BandLayout, useBand: Uint8Array, ta: number, d: Float64Array, oa: number): void {
-  const w0 = (2 * Math.PI) / pa.n;
-  const ar = pa.accRe;
-  const ai = pa.accIm;
-  const step = w0 * ta;
-  const sr = Math.cos(2 * step);
-  const si = Math.sin(2 * step);
-  let d1a = 0;
-  let d2a = 0;
-  let d1b = 0;
-  let d2b = 0;
-  for (let b = 0; b < bands.count; b++) {
-    if (!useBand[b]) continue;
-    const last = lastOfUsedRun(useBand, bands.count, b);
-    const k0 = bands.start[b]!;
-    const k1 = bands.end[last]!;
-    let prA = Math.cos(step * k0);
-    let prB = Math.cos(step * (k0 + 1));
-    let piA = Math.sin(step * k0);
-    let piB = Math.sin(step * (k0 + 1));
-    let k = k0;
-    for (; k + 2 <= k1; k += 2) {
-      const wa = w0 * k;
-      const wb = wa + w0;
-      const xa = ar[k]!;
-      const ya = ai[k]!;
-      const xb = ar[k + 1]!;
-      const yb = ai[k + 1]!;
-      d1a -= wa * (xa * piA + ya * prA);
-      d1b -= wb * (xb * piB + yb * prB);
-      d2a -= wa * wa * (xa * prA - ya * piA);
-      d2b -= wb * wb * (xb * prB - yb * piB);
-      const ta2 = prA * sr - piA * si;
-      piA = prA * si + piA * sr;
-      prA = ta2;
-      const tb2 = prB * sr - piB * si;
-      piB = prB * si + piB * sr;
-      prB = tb2;
-    }
-    if (k < k1) {
-      const wa = w0 * k;
-      const xa = ar[k]!;
-      const ya = ai[k]!;
-      d1a -= wa * (xa * piA + ya * prA);
-      d2a -= wa * wa * (xa * prA - ya * piA);
-    }
-    b = last;
-  }
-  d[oa] = d1a + d1b;
-  d[oa + 1] = d2a + d2b;
+/** Float32 scratch of the derivatives: the phasors (setDerivativePhasors) and the lanes' sums. */
+const derivPh = new Float32Array(derivativePhasorFloats(64));
+const derivOut = new Float32Array(16);
+
+/** Floats of derivativesF32's phasor scratch for `bands` bands. */
+export function derivativePhasorFloats(bands: number): number {
+  return 16 + 16 * bands;
 }
 
-/** First and second derivative of two pairs' correlations at their lags over the used bands, into d[oa], d[oa + 1] and d[ob], d[ob + 1]. */
-function derivatives2(pa: PairCorrelator, pb: PairCorrelator, bands: BandLayout, useBand: Uint8Array, ta: number, tb: number, d: Float64Array, oa: number, ob: number): void {
-  const w0 = (2 * Math.PI) / pa.n;
-  const arA = pa.accRe;
-  const aiA = pa.accIm;
-  const arB = pb.accRe;
-  const aiB = pb.accIm;
-  let d1a = 0;
-  let d2a = 0;
-  let d1b = 0;
-  let d2b = 0;
-  const stepA = w0 * ta;
-  const stepB = w0 * tb;
-  const srA = Math.cos(stepA);
-  const siA = Math.sin(stepA);
-  const srB = Math.cos(stepB);
-  const siB = Math.sin(stepB);
-  let prA = 0;
-  let piA = 0;
-  let prB = 0;
-  let piB = 0;
+/**
+ * The phasors of derivativesF32 for pairs A (lag ta) and B (lag tb), frame n, into ph: the
+ * four-bin steps [srA x4 siA x4 srB x4 siB x4], then at 16 + 16 b for each band b that starts a
+ * run of used bands [prA x4 piA x4 prB x4 piB x4] at its bins k .. k + 3 (k its first bin); B's
+ * are left as they are when tb is null (pair A alone). In
+ * double precision, rounded once to float32: the phasor at bin k from Math.cos and Math.sin, the
+ * next three bins' by complex multiplies with the one-bin step (fewer trigonometric calls, which
+ * cost more here than the sums they start; the doubles' rounding is far below float32's).
+ */
+export function setDerivativePhasors(ph: Float32Array, bands: BandLayout, useBand: Uint8Array, ta: number, tb: number | null, n: number): void {
+  phasorLanes(ph, 0, bands, useBand, (2 * Math.PI * ta) / n);
+  if (tb !== null) phasorLanes(ph, 8, bands, useBand, (2 * Math.PI * tb) / n);
+}
+
+/** One pair's half of setDerivativePhasors (`at` 0 for A, 8 for B), at `step` radians a bin. */
+function phasorLanes(ph: Float32Array, at: number, bands: BandLayout, useBand: Uint8Array, step: number): void {
+  const c1 = Math.cos(step);
+  const s1 = Math.sin(step);
+  const c2 = c1 * c1 - s1 * s1;
+  const s2 = 2 * c1 * s1;
+  const c4 = c2 * c2 - s2 * s2;
+  const s4 = 2 * c2 * s2;
+  for (let j = 0; j < 4; j++) {
+    ph[at + j] = c4;
+    ph[at + 4 + j] = s4;
+  }
   for (let b = 0; b < bands.count; b++) {
-    if (!useBand[b]) continue;
-    const s = bands.start[b]!;
-    const e = bands.end[b]!;
-    if (b === 0 || !useBand[b - 1]) {
-      // the first band of a run of used bands; within a run the phasor steps on
-      prA = Math.cos(stepA * s);
-      piA = Math.sin(stepA * s);
-      prB = Math.cos(stepB * s);
-      piB = Math.sin(stepB * s);
-    }
-    for (let k = s; k < e; k++) {
-      const w = w0 * k;
-      const ww = w * w;
-      const xa = arA[k]!;
-      const ya = aiA[k]!;
-      const xb = arB[k]!;
-      const yb = aiB[k]!;
-      d1a -= w * (xa * piA + ya * prA);
-      d2a -= ww * (xa * prA - ya * piA);
-      d1b -= w * (xb * piB + yb * prB);
-      d2b -= ww * (xb * prB - yb * piB);
-      const ta2 = prA * srA - piA * siA;
-      piA = prA * siA + piA * srA;
-      prA = ta2;
-      const tb2 = prB * srB - piB * siB;
-      piB = prB * siB + piB * srB;
-      prB = tb2;
+    if (!useBand[b] || (b > 0 && useBand[b - 1])) continue;
+    const o = 16 + 16 * b + at;
+    const k = bands.start[b]!;
+    let pr = Math.cos(step * k);
+    let pi = Math.sin(step * k);
+    for (let j = 0; j < 4; j++) {
+      ph[o + j] = pr;
+      ph[o + 4 + j] = pi;
+      const t = pr * c1 - pi * s1;
+      pi = pr * s1 + pi * c1;
+      pr = t;
     }
   }
-  d[oa] = d1a;
-  d[oa + 1] = d2a;
-  d[ob] = d1b;
-  d[ob + 1] = d2b;
+}
+
+/**
+ * The first and second derivative of two pairs' correlations (refineLag, ./gcc.ts) over the
+ * used bands in float32, four neighbouring bins in four lanes per run of used bands (a run's
+ * last one to three bins with the lanes past its end cleared: zero samples and zero weight),
+ * the phasors from setDerivativePhasors. Every operation is rounded to float32 in the order of
+ * the WebAssembly kernel (gcc-kernels.wat, derivatives_f32), so both give the same lanes bit
+ * for bit: out = [d1A x4 d2A x4 d1B x4 d2B x4] (B's zero when pb is null). The Newton step is d1 / d2 over a few hundred
+ * bins: float32 moves a refined lag by about 1e-6 sample (test/dsp/gcc-lanes.test.ts).
+ */
+export function derivativesF32(pa: PairCorrelator, pb: PairCorrelator | null, bands: BandLayout, useBand: Uint8Array, ph: Float32Array, out: Float32Array): void {
+  const f = Math.fround;
+  const w0 = f((2 * Math.PI) / pa.n);
+  out.fill(0);
+  for (let lane = 0; lane < (pb === null ? 4 : 8); lane++) {
+    // lanes 0-3: pair A's bins k + lane; 4-7: pair B's bins k + lane - 4
+    const j = lane & 3;
+    const pc = lane < 4 ? pa : pb!;
+    const o = lane < 4 ? 0 : 8;
+    const sr = ph[lane < 4 ? j : 8 + j]!;
+    const si = ph[lane < 4 ? 4 + j : 12 + j]!;
+    const ar = pc.accRe;
+    const ai = pc.accIm;
+    let d1 = 0;
+    let d2 = 0;
+    for (let b = 0; b < bands.count; b++) {
+      if (!useBand[b]) continue;
+      const last = lastOfUsedRun(useBand, bands.count, b);
+      const at = 16 + 16 * b + (lane < 4 ? 0 : 8);
+      let pr = ph[at + j]!;
+      let pi = ph[at + 4 + j]!;
+      const e = bands.end[last]!;
+      for (let k = bands.start[b]!; k < e; k += 4) {
+        const inside = k + j < e;
+        const w = inside ? f(w0 * (k + j)) : 0;
+        const ww = f(w * w);
+        const x = inside ? f(ar[k + j]!) : 0;
+        const y = inside ? f(ai[k + j]!) : 0;
+        d1 = f(d1 - f(w * f(f(x * pi) + f(y * pr))));
+        d2 = f(d2 - f(ww * f(f(x * pr) - f(y * pi))));
+        const t = f(f(pr * sr) - f(pi * si));
+        pi = f(f(pr * si) + f(pi * sr));
+        pr = t;
+      }
+      b = last;
+    }
+    out[o + j] = d1;
+    out[o + 4 + j] = d2;
+  }
+}
+
+/** The lanes of derivativesF32 added (in double precision, lane order) into d[oa], d[oa + 1] and, unless ob < 0, d[ob], d[ob + 1]. */
+export function sumDerivativeLanes(out: Float32Array, d: Float64Array, oa: number, ob: number): void {
+  d[oa] = out[0]! + out[1]! + out[2]! + out[3]!;
+  d[oa + 1] = out[4]! + out[5]! + out[6]! + out[7]!;
+  if (ob < 0) return;
+  d[ob] = out[8]! + out[9]! + out[10]! + out[11]!;
+  d[ob + 1] = out[12]! + out[13]! + out[14]! + out[15]!;
 }
 
 /**

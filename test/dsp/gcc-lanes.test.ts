@@ -63,10 +63,17 @@ describe('interleaved GCC kernels give the single kernels results (bit for bit, 
     const start = Float64Array.from([-7, -2, 0, 4, 7]);
     const out = new Float64Array(5);
     refineLagLanes(pcs, bands, use, start, 0, out, new Float64Array(10), new Uint8Array(5));
+    // The lanes' derivatives are float32 sums (derivativesF32): the refined lags agree with the
+    // double-precision scalar refinement within 1e-5 sample (a hundredth of what a 24-bit
+    // recording's noise allows at best), and are not the same numbers.
+    let same = 0;
     for (let p = 0; p < 5; p++) {
-      expect(out[p]).toBe(refineLag(pcs[p]!, bands, use, start[p]!));
+      const scalar = refineLag(pcs[p]!, bands, use, start[p]!);
+      expect(Math.abs(out[p]! - scalar)).toBeLessThan(1e-5);
+      if (out[p] === scalar) same++;
       expect(Math.abs(out[p]! - [-7.3, -2.1, 0.4, 3.8, 6.6][p]!)).toBeLessThan(0.2);
     }
+    expect(same).toBeLessThan(5);
   });
 
   it('hop coherence of four pairs at once in float32, from unit spectra with the channels side by side', () => {
