@@ -1,7 +1,7 @@
 import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft, type FftBuffer } from '../dsp/fft.js';
-import { addBandScores, hopCoherence, PairCorrelator } from '../dsp/gcc.js';
-import { addBandScoresLanes, fillUnitSpectrum, hopCoherenceLanes, refineLagLanes, setPhasorsF32, unitLayout, type UnitLayout } from '../dsp/gcc-lanes.js';
+import { addBandScores, PairCorrelator } from '../dsp/gcc.js';
+import { addBandScoresLanes, fillUnitSpectrum, hopCoherenceF32, hopCoherenceLanes, refineLagLanes, setPhasorsF32, unitLayout, type UnitLayout } from '../dsp/gcc-lanes.js';
 import { GccKernels } from '../dsp/gcc-kernels.js';
 import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow, windowFrame } from '../dsp/window.js';
@@ -872,7 +872,10 @@ export class HopAnalyzer {
       for (let p = 0; p < P; p += 2) {
         kern.addBandScores(this.correlators[p]!, p + 1 < P ? this.correlators[p + 1]! : null, this.frame, this.candLags, p, p + 1, P, K, s, S, 0, this.evidence);
       }
-    } else for (let p = 0; p < P; p++) addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0, this.evidence);
+    } else {
+      // the same sums: an odd last pair alone
+      for (let p = 0; p < P; p++) addBandScoresLanes(this.correlators[p]!, this.bands, this.candLags, p, P, K, s, S, 0, this.evidence, p === P - 1 && P % 2 === 1);
+    }
     for (let b = 0; b < this.bands.count; b++) {
       const norm = 1 / (P * Math.max(1e-12, this.bandWeight[b]!));
       for (let c = 0; c < K; c++) s[b * S + c]! *= norm;
@@ -1004,7 +1007,7 @@ export class HopAnalyzer {
     const kern = this.kernels;
     if (P === 1) {
       const [a, b] = this.model.pairs[0]!;
-      const v = kern ? kern.hopCoherence1(this.kSpectra[a]!, this.kSpectra[b]!, inv[a]!, inv[b]!, this.refined[0]!, this.frame, k0, k1) : hopCoherence(this.spectra[a]!, this.spectra[b]!, inv[a]!, inv[b]!, this.frame, this.refined[0]!, k0, k1);
+      const v = kern ? kern.hopCoherence1(this.kSpectra[a]!, this.kSpectra[b]!, inv[a]!, inv[b]!, this.refined[0]!, this.frame, k0, k1) : hopCoherenceF32(this.spectra[a]!, this.spectra[b]!, inv[a]!, inv[b]!, this.frame, this.refined[0]!, k0, k1, this.freshPh);
       return Math.max(0, v);
     }
     // Many pairs: each channel's unit spectrum once, then four pairs a pass (float32 lanes).

@@ -2,8 +2,7 @@ import { existsSync, readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import type { BandLayout } from './bands.js';
 import { assembleWat, kernelTextPath } from './gcc-kernels-assemble.js';
-import { coherenceSum } from './gcc.js';
-import { clampToStart, derivativePhasorFloats, newtonStep, setDerivativePhasors, setPhasorsF32, startNewton, sumDerivativeLanes, type UnitLayout } from './gcc-lanes.js';
+import { clampToStart, derivativePhasorFloats, newtonStep, setDerivativePhasors, setCoherencePhasors, setPhasorsF32, setSplitPhasorsF32, startNewton, sumDerivativeLanes, type UnitLayout } from './gcc-lanes.js';
 
 /**
  * The per-bin kernels of the analysis in WebAssembly SIMD (./gcc-kernels.wat): PHAT magnitudes,
@@ -43,8 +42,9 @@ interface KernelExports {
   scale_pack(re: number, im: number, g: number, dst: number, k0: number, k1: number): void;
   accumulate(a: number, b: number, wa: number, ib: number, ar: number, ai: number, k0: number, k1: number, m: number): void;
   band_scores_f32(ar: number, ai: number, br: number, bi: number, two: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
+  band_scores_f32_1(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
   derivatives_f32(arA: number, aiA: number, arB: number, aiB: number, two: number, use: number, starts: number, ends: number, nb: number, w0: number, ph: number, out: number): void;
-  hop_coherence2(a0: number, b0: number, a1: number, b1: number, ia0: number, ib0: number, ia1: number, ib1: number, k0: number, k1: number, ph: number, out: number): void;
+  hop_coherence_1f(a: number, b: number, ia: number, ib: number, k0: number, k1: number, ph: number, out: number): void;
   unit_t(spec: number, inv: number, ut: number, c: number, stride: number, half: number, k0: number, k1: number): void;
   hop_coherence_t(ut: number, stride: number, nv: number, k0: number, k1: number, ph: number, idx: number, out: number): void;
 }
@@ -81,22 +81,17 @@ export function wasmKernelsAvailable(): boolean {
 const ALIGN = 16;
 /** Numbers in srp_search's argument block. */
 export const SRP_SEARCH_ARGS = 19;
-/** Double-precision phasor scratch (hopCoherence1: two lanes' steps and starts). */
-const SCRATCH_DOUBLES = 8;
 
 export class GccKernels {
   private readonly x: KernelExports;
   private readonly buffer: ArrayBuffer;
   private used = 0;
   private readonly limit: number;
-  /** Double-precision phasor scratch (ph) and kernel output (4 doubles). */
-  private readonly ph: Float64Array;
   /** Float32 phasor scratch (band_scores_f4). */
   private readonly phF: Float32Array;
   /** Float32 scratch of the derivatives: phasors (per band) and the lanes' sums. */
   private readonly phD: Float32Array;
   private readonly outD: Float32Array;
-  private readonly out: Float64Array;
   private bandEnds: Int32Array | null = null;
   private bandStarts: Int32Array | null = null;
   private bands: BandLayout | null = null;
@@ -105,17 +100,15 @@ export class GccKernels {
     const instance = new WebAssembly.Instance(module, {});
     this.x = instance.exports as unknown as KernelExports;
     const mem = this.x.memory;
-    const need = bytes + SCRATCH_DOUBLES * 8 + 64 + 128 + 4 * derivativePhasorFloats(64) + 64 + 4 * ALIGN;
+    const need = bytes + 128 + 4 * derivativePhasorFloats(64) + 64 + 4 * ALIGN;
     const pages = Math.ceil(need / 65536) - mem.buffer.byteLength / 65536;
     if (pages > 0) mem.grow(pages);
     this.buffer = mem.buffer;
     this.limit = this.buffer.byteLength;
     this.used = ALIGN; // offset 0 stays unused: a null pointer means "none"
-    this.ph = this.f64(SCRATCH_DOUBLES);
     this.phF = this.f32(32);
     this.phD = this.f32(derivativePhasorFloats(64));
     this.outD = this.f32(16);
-    this.out = this.f64(4);
   }
 
   /** Kernels with room for `bytes` of arrays, or null when the WebAssembly kernels are not available. */
@@ -277,8 +270,9 @@ export class GccKernels {
    * addBandScoresLanes (./gcc-lanes.ts, float32): pair `pc`'s band scores at `count` lags
    * lags[lagOffset + i * lagStride] (frame n) added into scoresOut[b * stride + offset + i],
    * then, when `pcB` is given, pcB's at lags[lagOffsetB + i * lagStride] (the two pairs' lanes
-   * side by side, added pair after pair as two calls would); bands whose needed[b] is not above
-   * 0 are skipped (null: none). Uses the bands of setBands().
+   * side by side, added pair after pair as two calls would; without pcB, pc's bins split over
+   * two recursions, as addBandScoresLanes does for a pair `alone`); bands whose needed[b] is
+   * not above 0 are skipped (null: none). Uses the bands of setBands().
    */
   addBandScores(pc: CrossSpectrum, pcB: CrossSpectrum | null, n: number, lags: Float64Array, lagOffset: number, lagOffsetB: number, lagStride: number, count: number, scoresOut: Float64Array, stride: number, offset: number, needed: Float64Array | null): void {
     const bands = this.bands!;
@@ -290,9 +284,15 @@ export class GccKernels {
     const out = scoresOut.byteOffset;
     for (let i = 0; i < count; i += 4) {
       const w = Math.min(4, count - i);
+      if (pcB === null) {
+        // a pair alone: its bins over two recursions (addBandScoresLanes with `alone`)
+        setSplitPhasorsF32(ph, lags, lagOffset + i * lagStride, lagStride, w, n, k0);
+        this.x.band_scores_f32_1(pc.accRe.byteOffset, pc.accIm.byteOffset, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, w);
+        continue;
+      }
       setPhasorsF32(ph, 0, lags, lagOffset + i * lagStride, lagStride, w, n, k0);
-      if (pcB !== null) setPhasorsF32(ph, 16, lags, lagOffsetB + i * lagStride, lagStride, w, n, k0);
-      this.x.band_scores_f32(pc.accRe.byteOffset, pc.accIm.byteOffset, b.accRe.byteOffset, b.accIm.byteOffset, pcB === null ? 0 : 1, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, w);
+      setPhasorsF32(ph, 16, lags, lagOffsetB + i * lagStride, lagStride, w, n, k0);
+      this.x.band_scores_f32(pc.accRe.byteOffset, pc.accIm.byteOffset, b.accRe.byteOffset, b.accIm.byteOffset, 1, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, w);
     }
   }
 
@@ -362,48 +362,12 @@ export class GccKernels {
     this.x.hop_coherence_t(ut.byteOffset, 4 * layout.stride, layout.nv, k0, k1, this.phF.byteOffset, idx.byteOffset, out.byteOffset);
   }
 
-  /**
-   * hopCoherence (./gcc.ts) of one pair on float32 spectra in this memory: the two halves of its
-   * bins side by side in the lanes of hop_coherence2 (lane 1 reads the arrays from the second
-   * half's first bin on), the odd first bin alone.
-   */
+  /** hopCoherenceF32 (./gcc-lanes.ts) of a pair alone on float32 spectra in this memory. */
   hopCoherence1(a: Float32Array, b: Float32Array, invA: Float64Array, invB: Float64Array, lag: number, n: number, first: number, end: number): number {
     if (end <= first) return 0;
-    const start = first + ((end - first) & 1);
-    const half = (end - start) >> 1;
-    const v = start > first ? coherenceSum(a, b, invA, invB, n, lag, first, start) : 0;
-    if (half === 0) return v / (end - first);
-    const ph = this.ph;
-    setPhasors(ph, 0, lag, lag, n, start);
-    // lane 1's recursion starts at the second half
-    const step = (2 * Math.PI * lag) / n;
-    ph[5] = Math.cos(step * (start + half));
-    ph[7] = Math.sin(step * (start + half));
-    const shift = 8 * half; // bytes: one bin of an interleaved float32 spectrum or of a float64 array
-    this.x.hop_coherence2(a.byteOffset, b.byteOffset, a.byteOffset + shift, b.byteOffset + shift, invA.byteOffset, invB.byteOffset, invA.byteOffset + shift, invB.byteOffset + shift, start, start + half, ph.byteOffset, this.out.byteOffset);
-    return (v + (this.out[0]! + this.out[1]!)) / (end - first);
+    setCoherencePhasors(this.phF, lag, n, first);
+    const out = this.outD;
+    this.x.hop_coherence_1f(a.byteOffset, b.byteOffset, invA.byteOffset, invB.byteOffset, first, end, this.phF.byteOffset, out.byteOffset);
+    return (out[0]! + out[1]! + out[2]! + out[3]!) / (end - first);
   }
 }
-
-/** ph[at ..] = [sr0 sr1 si0 si1 pr0 pr1 pi0 pi1] for the phasor recursions of lags l0 and l1 from bin k0 (as ./gcc.ts computes them). */
-function setPhasors(ph: Float64Array, at: number, l0: number, l1: number, n: number, k0: number): void {
-  const s0 = (2 * Math.PI * l0) / n;
-  ph[at] = Math.cos(s0);
-  ph[at + 2] = Math.sin(s0);
-  ph[at + 4] = Math.cos(s0 * k0);
-  ph[at + 6] = Math.sin(s0 * k0);
-  if (Object.is(l1, l0)) {
-    // the same lag in both lanes (a pair given twice, a spare lane): the same numbers
-    ph[at + 1] = ph[at]!;
-    ph[at + 3] = ph[at + 2]!;
-    ph[at + 5] = ph[at + 4]!;
-    ph[at + 7] = ph[at + 6]!;
-    return;
-  }
-  const s1 = (2 * Math.PI * l1) / n;
-  ph[at + 1] = Math.cos(s1);
-  ph[at + 3] = Math.sin(s1);
-  ph[at + 5] = Math.cos(s1 * k0);
-  ph[at + 7] = Math.sin(s1 * k0);
-}
-

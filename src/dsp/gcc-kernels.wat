@@ -651,6 +651,78 @@
         (local.set $b (i32.add (local.get $b) (i32.const 1)))
         (br $bands))))
 
+  ;; band_scores_f32 for a pair alone (addBandScoresLanes with `alone`): its bins two at a time in
+  ;; two recursions, phasor P at bin k and Q at bin k + 1, both stepping two bins; a band's odd
+  ;; last bin goes to P alone, after which P takes Q's place and Q is P stepped (P at the next
+  ;; bin, Q at the one after). The two sums of a band are added (aP + aQ) before its score is
+  ;; written. ph (float32) holds [sr x4 si x4] (the two-bin step), [pr x4 pi x4] at bin k0 and
+  ;; [qr x4 qi x4] at bin k0 + 1. Other arguments as band_scores_f32's.
+  (func (export "band_scores_f32_1") (param $ar i32) (param $ai i32) (param $ends i32) (param $nb i32) (param $k0 i32)
+    (param $ph i32) (param $out i32) (param $stride i32) (param $needed i32) (param $write i32)
+    (local $k i32) (local $b i32) (local $e i32) (local $o i32) (local $skip i32) (local $x i32)
+    (local $sr v128) (local $si v128) (local $pr v128) (local $pi v128) (local $qr v128) (local $qi v128)
+    (local $re v128) (local $im v128) (local $accP v128) (local $accQ v128) (local $t v128)
+    (local.set $sr (v128.load (local.get $ph)))
+    (local.set $si (v128.load offset=16 (local.get $ph)))
+    (local.set $pr (v128.load offset=32 (local.get $ph)))
+    (local.set $pi (v128.load offset=48 (local.get $ph)))
+    (local.set $qr (v128.load offset=64 (local.get $ph)))
+    (local.set $qi (v128.load offset=80 (local.get $ph)))
+    (local.set $k (local.get $k0))
+    (local.set $b (i32.const 0))
+    (block $bandsDone
+      (loop $bands
+        (br_if $bandsDone (i32.ge_s (local.get $b) (local.get $nb)))
+        (local.set $e (i32.load (i32.add (local.get $ends) (i32.shl (local.get $b) (i32.const 2)))))
+        (local.set $skip (i32.const 0))
+        (if (local.get $needed)
+          (then (local.set $skip (i32.eqz (f64.gt (f64.load (i32.add (local.get $needed) (i32.shl (local.get $b) (i32.const 3)))) (f64.const 0))))))
+        (local.set $accP (v128.const i64x2 0 0))
+        (local.set $accQ (v128.const i64x2 0 0))
+        (block $d
+          (loop $l
+            (br_if $d (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $e)))
+            (if (i32.eqz (local.get $skip))
+              (then
+                (local.set $x (i32.shl (local.get $k) (i32.const 3)))
+                (local.set $re (f32x4.splat (f32.demote_f64 (f64.load (i32.add (local.get $ar) (local.get $x))))))
+                (local.set $im (f32x4.splat (f32.demote_f64 (f64.load (i32.add (local.get $ai) (local.get $x))))))
+                (local.set $accP (f32x4.add (local.get $accP) (f32x4.sub (f32x4.mul (local.get $re) (local.get $pr)) (f32x4.mul (local.get $im) (local.get $pi)))))
+                (local.set $re (f32x4.splat (f32.demote_f64 (f64.load offset=8 (i32.add (local.get $ar) (local.get $x))))))
+                (local.set $im (f32x4.splat (f32.demote_f64 (f64.load offset=8 (i32.add (local.get $ai) (local.get $x))))))
+                (local.set $accQ (f32x4.add (local.get $accQ) (f32x4.sub (f32x4.mul (local.get $re) (local.get $qr)) (f32x4.mul (local.get $im) (local.get $qi)))))))
+            (local.set $t (f32x4.sub (f32x4.mul (local.get $pr) (local.get $sr)) (f32x4.mul (local.get $pi) (local.get $si))))
+            (local.set $pi (f32x4.add (f32x4.mul (local.get $pr) (local.get $si)) (f32x4.mul (local.get $pi) (local.get $sr))))
+            (local.set $pr (local.get $t))
+            (local.set $t (f32x4.sub (f32x4.mul (local.get $qr) (local.get $sr)) (f32x4.mul (local.get $qi) (local.get $si))))
+            (local.set $qi (f32x4.add (f32x4.mul (local.get $qr) (local.get $si)) (f32x4.mul (local.get $qi) (local.get $sr))))
+            (local.set $qr (local.get $t))
+            (local.set $k (i32.add (local.get $k) (i32.const 2)))
+            (br $l)))
+        (if (i32.lt_s (local.get $k) (local.get $e))
+          (then
+            ;; the band's odd last bin: P alone, then P <- Q and Q <- P stepped
+            (if (i32.eqz (local.get $skip))
+              (then
+                (local.set $x (i32.shl (local.get $k) (i32.const 3)))
+                (local.set $re (f32x4.splat (f32.demote_f64 (f64.load (i32.add (local.get $ar) (local.get $x))))))
+                (local.set $im (f32x4.splat (f32.demote_f64 (f64.load (i32.add (local.get $ai) (local.get $x))))))
+                (local.set $accP (f32x4.add (local.get $accP) (f32x4.sub (f32x4.mul (local.get $re) (local.get $pr)) (f32x4.mul (local.get $im) (local.get $pi)))))))
+            (local.set $t (f32x4.sub (f32x4.mul (local.get $pr) (local.get $sr)) (f32x4.mul (local.get $pi) (local.get $si))))
+            (local.set $pi (f32x4.add (f32x4.mul (local.get $pr) (local.get $si)) (f32x4.mul (local.get $pi) (local.get $sr))))
+            (local.set $pr (local.get $qr))
+            (local.set $qr (local.get $t))
+            (local.set $t (local.get $pi))
+            (local.set $pi (local.get $qi))
+            (local.set $qi (local.get $t))
+            (local.set $k (i32.add (local.get $k) (i32.const 1)))))
+        (if (i32.eqz (local.get $skip))
+          (then
+            (local.set $o (i32.add (local.get $out) (i32.shl (i32.mul (local.get $b) (local.get $stride)) (i32.const 3))))
+            (call $add_lanes (local.get $o) (f32x4.add (local.get $accP) (local.get $accQ)) (local.get $write))))
+        (local.set $b (i32.add (local.get $b) (i32.const 1)))
+        (br $bands))))
+
   ;; out[i] += lane i of v (float32, promoted), for i < write (1 .. 4).
   (func $add_lanes (param $o i32) (param $v v128) (param $write i32)
     (f64.store (local.get $o) (f64.add (f64.load (local.get $o)) (f64.promote_f32 (f32x4.extract_lane 0 (local.get $v)))))
@@ -756,14 +828,16 @@
     (v128.store offset=32 (local.get $out) (local.get $d1B))
     (v128.store offset=48 (local.get $out) (local.get $d2B)))
 
-  ;; hopCoherence2 (src/dsp/gcc-lanes.ts): the sums of two pairs (lane 0: spectra a0, b0; lane 1:
-  ;; a1, b1) over bins [k0, k1), before the division by the bin count. ph holds
-  ;; [sr0 sr1 si0 si1 pr0 pr1 pi0 pi1]. Writes [acc0 acc1] at out.
-  (func (export "hop_coherence2") (param $a0 i32) (param $b0 i32) (param $a1 i32) (param $b1 i32)
-    (param $ia0 i32) (param $ib0 i32) (param $ia1 i32) (param $ib1 i32) (param $k0 i32) (param $k1 i32) (param $ph i32) (param $out i32)
-    (local $k i32) (local $o4 i32) (local $o8 i32)
-    (local $sr v128) (local $si v128) (local $pr v128) (local $pi v128) (local $acc v128) (local $t v128)
-    (local $xr v128) (local $xi v128) (local $yr v128) (local $yi v128) (local $g v128)
+  ;; The hop coherence of a pair alone in float32 (hopCoherenceF32, src/dsp/gcc-lanes.ts): bins
+  ;; [k0, k1) of spectra a and b (interleaved float32) four neighbouring bins to the four lanes,
+  ;; the phasors stepping four bins; the last one to three bins with the lanes past k1 cleared
+  ;; (spectra and magnitudes zero). Per bin: g = f32(ia[k]) f32(ib[k]), cr = xr yr + xi yi,
+  ;; ci = xr yi - xi yr, acc += (cr pr - ci pi) g; every operation in float32. ph (float32) holds
+  ;; [sr x4 si x4] (the four-bin step) and [pr x4 pi x4] at bins k0 .. k0 + 3. Writes acc (f32x4) at out.
+  (func (export "hop_coherence_1f") (param $a i32) (param $b i32) (param $ia i32) (param $ib i32) (param $k0 i32) (param $k1 i32) (param $ph i32) (param $out i32)
+    (local $k i32) (local $o i32) (local $o8 i32)
+    (local $sr v128) (local $si v128) (local $pr v128) (local $pi v128) (local $acc v128) (local $t v128) (local $m v128)
+    (local $x0 v128) (local $x1 v128) (local $xr v128) (local $xi v128) (local $yr v128) (local $yi v128) (local $g v128) (local $cr v128) (local $ci v128)
     (local.set $sr (v128.load (local.get $ph)))
     (local.set $si (v128.load offset=16 (local.get $ph)))
     (local.set $pr (v128.load offset=32 (local.get $ph)))
@@ -773,28 +847,31 @@
     (block $d
       (loop $l
         (br_if $d (i32.ge_s (local.get $k) (local.get $k1)))
+        (local.set $m (i32x4.lt_s (v128.const i32x4 0 1 2 3) (i32x4.splat (i32.sub (local.get $k1) (local.get $k)))))
         (local.set $o8 (i32.shl (local.get $k) (i32.const 3)))
-        (local.set $xr (f64x2.replace_lane 1 (f64x2.splat (f64.promote_f32 (f32.load (i32.add (local.get $a0) (local.get $o8)))))
-          (f64.promote_f32 (f32.load (i32.add (local.get $a1) (local.get $o8))))))
-        (local.set $xi (f64x2.replace_lane 1 (f64x2.splat (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $a0) (local.get $o8)))))
-          (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $a1) (local.get $o8))))))
-        (local.set $yr (f64x2.replace_lane 1 (f64x2.splat (f64.promote_f32 (f32.load (i32.add (local.get $b0) (local.get $o8)))))
-          (f64.promote_f32 (f32.load (i32.add (local.get $b1) (local.get $o8))))))
-        (local.set $yi (f64x2.replace_lane 1 (f64x2.splat (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $b0) (local.get $o8)))))
-          (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $b1) (local.get $o8))))))
-        (local.set $g (f64x2.mul
-          (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $ia0) (local.get $o8))) (f64.load (i32.add (local.get $ia1) (local.get $o8))))
-          (f64x2.replace_lane 1 (v128.load64_splat (i32.add (local.get $ib0) (local.get $o8))) (f64.load (i32.add (local.get $ib1) (local.get $o8))))))
-        (local.set $acc (f64x2.add (local.get $acc)
-          (f64x2.mul
-            (f64x2.sub
-              (f64x2.mul (f64x2.add (f64x2.mul (local.get $xr) (local.get $yr)) (f64x2.mul (local.get $xi) (local.get $yi))) (local.get $pr))
-              (f64x2.mul (f64x2.sub (f64x2.mul (local.get $xr) (local.get $yi)) (f64x2.mul (local.get $xi) (local.get $yr))) (local.get $pi)))
-            (local.get $g))))
-        (local.set $t (f64x2.sub (f64x2.mul (local.get $pr) (local.get $sr)) (f64x2.mul (local.get $pi) (local.get $si))))
-        (local.set $pi (f64x2.add (f64x2.mul (local.get $pr) (local.get $si)) (f64x2.mul (local.get $pi) (local.get $sr))))
+        (local.set $x0 (v128.load (i32.add (local.get $a) (local.get $o8))))
+        (local.set $x1 (v128.load offset=16 (i32.add (local.get $a) (local.get $o8))))
+        (local.set $xr (v128.and (local.get $m) (i8x16.shuffle 0 1 2 3 8 9 10 11 16 17 18 19 24 25 26 27 (local.get $x0) (local.get $x1))))
+        (local.set $xi (v128.and (local.get $m) (i8x16.shuffle 4 5 6 7 12 13 14 15 20 21 22 23 28 29 30 31 (local.get $x0) (local.get $x1))))
+        (local.set $x0 (v128.load (i32.add (local.get $b) (local.get $o8))))
+        (local.set $x1 (v128.load offset=16 (i32.add (local.get $b) (local.get $o8))))
+        (local.set $yr (v128.and (local.get $m) (i8x16.shuffle 0 1 2 3 8 9 10 11 16 17 18 19 24 25 26 27 (local.get $x0) (local.get $x1))))
+        (local.set $yi (v128.and (local.get $m) (i8x16.shuffle 4 5 6 7 12 13 14 15 20 21 22 23 28 29 30 31 (local.get $x0) (local.get $x1))))
+        (local.set $g (f32x4.mul
+          (v128.and (local.get $m) (i8x16.shuffle 0 1 2 3 4 5 6 7 16 17 18 19 20 21 22 23
+            (f32x4.demote_f64x2_zero (v128.load (i32.add (local.get $ia) (local.get $o8))))
+            (f32x4.demote_f64x2_zero (v128.load offset=16 (i32.add (local.get $ia) (local.get $o8))))))
+          (v128.and (local.get $m) (i8x16.shuffle 0 1 2 3 4 5 6 7 16 17 18 19 20 21 22 23
+            (f32x4.demote_f64x2_zero (v128.load (i32.add (local.get $ib) (local.get $o8))))
+            (f32x4.demote_f64x2_zero (v128.load offset=16 (i32.add (local.get $ib) (local.get $o8))))))))
+        (local.set $cr (f32x4.add (f32x4.mul (local.get $xr) (local.get $yr)) (f32x4.mul (local.get $xi) (local.get $yi))))
+        (local.set $ci (f32x4.sub (f32x4.mul (local.get $xr) (local.get $yi)) (f32x4.mul (local.get $xi) (local.get $yr))))
+        (local.set $acc (f32x4.add (local.get $acc)
+          (f32x4.mul (f32x4.sub (f32x4.mul (local.get $cr) (local.get $pr)) (f32x4.mul (local.get $ci) (local.get $pi))) (local.get $g))))
+        (local.set $t (f32x4.sub (f32x4.mul (local.get $pr) (local.get $sr)) (f32x4.mul (local.get $pi) (local.get $si))))
+        (local.set $pi (f32x4.add (f32x4.mul (local.get $pr) (local.get $si)) (f32x4.mul (local.get $pi) (local.get $sr))))
         (local.set $pr (local.get $t))
-        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (local.set $k (i32.add (local.get $k) (i32.const 4)))
         (br $l)))
     (v128.store (local.get $out) (local.get $acc)))
 

@@ -19,7 +19,9 @@ import type { PairCorrelator } from './gcc.js';
  * bands against each other (a few per cent decide), so float32 costs nothing there (relative
  * error near 1e-6 over a band; test/dsp/gcc-lanes.test.ts bounds it) and doubles the lanes a
  * SIMD instruction holds. Bands whose `needed[b]` is not above 0 are left as they are (their
- * phasors still step through them); give null to score every band.
+ * phasors still step through them); give null to score every band. A pair `alone` (no second
+ * pair to run beside it on the kernels) has its bins split over two recursions instead
+ * (bandScoresSplitF32): the same sums to float32 rounding, in another order.
  */
 export function addBandScoresLanes(
   pc: PairCorrelator,
@@ -32,15 +34,90 @@ export function addBandScoresLanes(
   stride: number,
   offset: number,
   needed: Float64Array | null = null,
+  alone = false,
 ): void {
   for (let i = 0; i < count; i += 4) {
     const w = Math.min(4, count - i);
-    setPhasorsF32(laneScratch, 0, lags, lagOffset + i * lagStride, lagStride, w, pc.n, bands.firstBin);
-    bandScoresF32(pc, bands, laneScratch, scoresOut, stride, offset + i, w, needed);
+    if (alone) {
+      setSplitPhasorsF32(laneScratch, lags, lagOffset + i * lagStride, lagStride, w, pc.n, bands.firstBin);
+      bandScoresSplitF32(pc, bands, laneScratch, scoresOut, stride, offset + i, w, needed);
+    } else {
+      setPhasorsF32(laneScratch, 0, lags, lagOffset + i * lagStride, lagStride, w, pc.n, bands.firstBin);
+      bandScoresF32(pc, bands, laneScratch, scoresOut, stride, offset + i, w, needed);
+    }
   }
 }
 
-const laneScratch = new Float32Array(16);
+const laneScratch = new Float32Array(24);
+
+/**
+ * The phasors of the split recursions (band_scores_f32_1, bandScoresSplitF32) for `w` (1 .. 4)
+ * lags lags[at + i * step]: [sr x4 si x4] the two-bin steps, [pr x4 pi x4] the phasors at bin
+ * k0, [qr x4 qi x4] at bin k0 + 1; in double precision, rounded once; spare lanes repeat the last lag.
+ */
+export function setSplitPhasorsF32(ph: Float32Array, lags: Float64Array, at: number, step: number, w: number, n: number, k0: number): void {
+  for (let i = 0; i < 4; i++) {
+    const s = (2 * Math.PI * lags[at + Math.min(i, w - 1) * step]!) / n;
+    ph[i] = Math.cos(2 * s);
+    ph[4 + i] = Math.sin(2 * s);
+    ph[8 + i] = Math.cos(s * k0);
+    ph[12 + i] = Math.sin(s * k0);
+    ph[16 + i] = Math.cos(s * (k0 + 1));
+    ph[20 + i] = Math.sin(s * (k0 + 1));
+  }
+}
+
+/**
+ * bandScoresF32 for a pair alone, its bins two at a time in two recursions (P at bin k, Q at
+ * k + 1, both stepping two bins; a band's odd last bin to P, then P takes Q's place and Q is P
+ * stepped), a band's two sums added before its score: the order of the WebAssembly kernel
+ * band_scores_f32_1, whose single recursion would otherwise wait on itself bin by bin.
+ */
+function bandScoresSplitF32(pc: PairCorrelator, bands: BandLayout, ph: Float32Array, out: Float64Array, stride: number, offset: number, write: number, needed: Float64Array | null): void {
+  const f = Math.fround;
+  const ar = pc.accRe;
+  const ai = pc.accIm;
+  for (let i = 0; i < write; i++) {
+    const sr = ph[i]!;
+    const si = ph[4 + i]!;
+    let pr = ph[8 + i]!;
+    let pi = ph[12 + i]!;
+    let qr = ph[16 + i]!;
+    let qi = ph[20 + i]!;
+    let k = bands.firstBin;
+    for (let b = 0; b < bands.count; b++) {
+      const e = bands.end[b]!;
+      const use = needed === null || needed[b]! > 0;
+      let aP = 0;
+      let aQ = 0;
+      for (; k + 2 <= e; k += 2) {
+        if (use) {
+          aP = f(aP + f(f(f(ar[k]!) * pr) - f(f(ai[k]!) * pi)));
+          aQ = f(aQ + f(f(f(ar[k + 1]!) * qr) - f(f(ai[k + 1]!) * qi)));
+        }
+        const t = f(f(pr * sr) - f(pi * si));
+        pi = f(f(pr * si) + f(pi * sr));
+        pr = t;
+        const u = f(f(qr * sr) - f(qi * si));
+        qi = f(f(qr * si) + f(qi * sr));
+        qr = u;
+      }
+      if (k < e) {
+        if (use) aP = f(aP + f(f(f(ar[k]!) * pr) - f(f(ai[k]!) * pi)));
+        const t = f(f(pr * sr) - f(pi * si));
+        const v = f(f(pr * si) + f(pi * sr));
+        pr = qr;
+        pi = qi;
+        qr = t;
+        qi = v;
+        k++;
+      }
+      if (!use) continue;
+      const o = b * stride + offset + i;
+      out[o] = out[o]! + f(aP + aQ);
+    }
+  }
+}
 
 /**
  * Float32 phasors for `w` (1 .. 4) lags lags[at + i * step] into ph[first ..]: the steps
@@ -225,6 +302,15 @@ export function setDerivativePhasors(ph: Float32Array, bands: BandLayout, useBan
 function phasorLanes(ph: Float32Array, at: number, bands: BandLayout, useBand: Uint8Array, step: number): void {
   const c1 = Math.cos(step);
   const s1 = Math.sin(step);
+  fourBinStep(ph, at, c1, s1);
+  for (let b = 0; b < bands.count; b++) {
+    if (!useBand[b] || (b > 0 && useBand[b - 1])) continue;
+    fourBinStart(ph, 16 + 16 * b + at, step, bands.start[b]!, c1, s1);
+  }
+}
+
+/** ph[at .. at + 8) = [cos x4, sin x4] of four bins' step, from one bin's (c1, s1), in double precision. */
+function fourBinStep(ph: Float32Array, at: number, c1: number, s1: number): void {
   const c2 = c1 * c1 - s1 * s1;
   const s2 = 2 * c1 * s1;
   const c4 = c2 * c2 - s2 * s2;
@@ -233,20 +319,65 @@ function phasorLanes(ph: Float32Array, at: number, bands: BandLayout, useBand: U
     ph[at + j] = c4;
     ph[at + 4 + j] = s4;
   }
-  for (let b = 0; b < bands.count; b++) {
-    if (!useBand[b] || (b > 0 && useBand[b - 1])) continue;
-    const o = 16 + 16 * b + at;
-    const k = bands.start[b]!;
-    let pr = Math.cos(step * k);
-    let pi = Math.sin(step * k);
-    for (let j = 0; j < 4; j++) {
-      ph[o + j] = pr;
-      ph[o + 4 + j] = pi;
-      const t = pr * c1 - pi * s1;
-      pi = pr * s1 + pi * c1;
+}
+
+/** ph[at .. at + 8) = [cos x4, sin x4] of the phasors at bins k .. k + 3: Math.cos and Math.sin at k, then complex multiplies by one bin's (c1, s1). */
+function fourBinStart(ph: Float32Array, at: number, step: number, k: number, c1: number, s1: number): void {
+  let pr = Math.cos(step * k);
+  let pi = Math.sin(step * k);
+  for (let j = 0; j < 4; j++) {
+    ph[at + j] = pr;
+    ph[at + 4 + j] = pi;
+    const t = pr * c1 - pi * s1;
+    pi = pr * s1 + pi * c1;
+    pr = t;
+  }
+}
+
+/**
+ * The hop coherence of a pair alone (./gcc.ts, coherenceSum over bins [first, end) divided by
+ * their count) in float32, four neighbouring bins in four lanes, the lanes past `end` in the
+ * last pass cleared: the order of the WebAssembly kernel (gcc-kernels.wat, hop_coherence_1f),
+ * bit for bit; the lanes are added in double precision. `ph` is scratch of 16 floats.
+ */
+export function hopCoherenceF32(a: ArrayLike<number>, b: ArrayLike<number>, invA: Float64Array, invB: Float64Array, n: number, lag: number, first: number, end: number, ph: Float32Array): number {
+  if (end <= first) return 0;
+  setCoherencePhasors(ph, lag, n, first);
+  const f = Math.fround;
+  let sum = 0;
+  for (let j = 0; j < 4; j++) {
+    const sr = ph[j]!;
+    const si = ph[4 + j]!;
+    let pr = ph[8 + j]!;
+    let pi = ph[12 + j]!;
+    let acc = 0;
+    for (let k = first; k < end; k += 4) {
+      const i = k + j;
+      const inside = i < end;
+      const xr = inside ? f(a[2 * i]!) : 0;
+      const xi = inside ? f(a[2 * i + 1]!) : 0;
+      const yr = inside ? f(b[2 * i]!) : 0;
+      const yi = inside ? f(b[2 * i + 1]!) : 0;
+      const g = f((inside ? f(invA[i]!) : 0) * (inside ? f(invB[i]!) : 0));
+      const cr = f(f(xr * yr) + f(xi * yi));
+      const ci = f(f(xr * yi) - f(xi * yr));
+      acc = f(acc + f(f(f(cr * pr) - f(ci * pi)) * g));
+      const t = f(f(pr * sr) - f(pi * si));
+      pi = f(f(pr * si) + f(pi * sr));
       pr = t;
     }
+    sum += acc;
   }
+  return sum / (end - first);
+}
+
+/** hopCoherenceF32's phasors: [sr x4 si x4] (four bins' step) and [pr x4 pi x4] at bins k0 .. k0 + 3. */
+export function setCoherencePhasors(ph: Float32Array, lag: number, n: number, k0: number): void {
+  const step = (2 * Math.PI * lag) / n;
+  const c1 = Math.cos(step);
+  const s1 = Math.sin(step);
+  fourBinStep(ph, 0, c1, s1);
+  fourBinStart(ph, 8, step, k0, c1, s1);
 }
 
 /**

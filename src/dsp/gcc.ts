@@ -207,34 +207,15 @@ export function inverseMagnitudes(spectrum: ArrayLike<number>, first: number, en
 }
 
 /**
- * Coherence of this hop alone with a lag: the mean over the bins [first, end) of
+ * Coherence of this hop alone with a lag, summed over the bins [first, end) (one phasor
+ * recursion from `first`; 0 for no bins) of
  *   Re(conj(X_a) X_b / |X_a X_b| e^{j 2 pi k lag / N})
- * from the hop's own spectra (no memory, no weights): near 1 when a source at that lag sounds
- * now, near 0 (within about 1 / sqrt(bins)) when the hop holds only incoherent noise, so it
- * tells a sounding source from the memory of one that has stopped.
- *
- * Summed as the first bin alone when the count is odd, then two equal halves with a phasor
- * recursion each, (v + (lo + hi)) / count: the WebAssembly kernel runs the halves side by side
- * in its two lanes (GccKernels.hopCoherence1), with these numbers.
+ * from the hop's own spectra (no memory, no weights). Its mean over the bins is near 1 when a
+ * source at that lag sounds now, near 0 (within about 1 / sqrt(bins)) when the hop holds only
+ * incoherent noise, so it tells a sounding source from the memory of one that has stopped. The
+ * analysis computes it in float32 lanes (./gcc-lanes.ts: hopCoherenceF32 for a pair alone,
+ * hopCoherenceLanes four pairs at once); this double-precision sum is their reference in tests.
  */
-export function hopCoherence(
-  a: ArrayLike<number>,
-  b: ArrayLike<number>,
-  invA: Float64Array,
-  invB: Float64Array,
-  n: number,
-  lag: number,
-  first: number,
-  end: number,
-): number {
-  if (end <= first) return 0;
-  const start = first + ((end - first) & 1);
-  const mid = start + ((end - start) >> 1);
-  const v = start > first ? coherenceSum(a, b, invA, invB, n, lag, first, start) : 0;
-  return (v + (coherenceSum(a, b, invA, invB, n, lag, start, mid) + coherenceSum(a, b, invA, invB, n, lag, mid, end))) / (end - first);
-}
-
-/** The sum over bins [first, end) of hopCoherence's terms, one phasor recursion from `first` (0 for no bins). */
 export function coherenceSum(a: ArrayLike<number>, b: ArrayLike<number>, invA: Float64Array, invB: Float64Array, n: number, lag: number, first: number, end: number): number {
   const step = (2 * Math.PI * lag) / n;
   const sr = Math.cos(step);
