@@ -1,7 +1,7 @@
 import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft, type FftBuffer } from '../dsp/fft.js';
 import { addBandScores, PairCorrelator } from '../dsp/gcc.js';
-import { addBandScoresLanes, fillUnitSpectrum, hopCoherenceF32, hopCoherenceLanes, refineLagLanes, setPhasorsF32, unitLayout, type UnitLayout } from '../dsp/gcc-lanes.js';
+import { addBandScoresLanes, hopCoherenceF32, hopCoherenceLanes, magnitudes, refineLagLanes, setPhasorsF32, unitLayout, type UnitLayout } from '../dsp/gcc-lanes.js';
 import { GccKernels } from '../dsp/gcc-kernels.js';
 import { OnsetWeigher } from '../dsp/onset.js';
 import { hannWindow, windowFrame } from '../dsp/window.js';
@@ -230,7 +230,7 @@ export class HopAnalyzer {
   private readonly refineScratch: Float64Array;
   private readonly refineActive: Uint8Array;
   private readonly unitLayout: UnitLayout;
-  /** Unit spectra of this hop (UnitLayout), over the winner's bins (freshCoherence). */
+  /** Unit spectra of this hop (UnitLayout), written with the magnitudes (spectraStage) when there are many pairs. */
   private readonly unitSpectra: Float32Array;
   /** Per four pairs: their channels a (4) then b (4), and on the kernels their swizzles. */
   private readonly freshChans: Int32Array;
@@ -479,19 +479,13 @@ export class HopAnalyzer {
       const spec = this.spectra[c]!;
       this.fft.forwardInterleaved(this.windowed, spec);
       const inv = this.invMag[c]!;
+      // with many pairs, the unit spectra of the fresh coherence too (freshCoherence)
+      const unit = this.model.pairs.length > 1 ? this.unitSpectra : null;
       if (kern) {
         const copy = this.kSpectra[c]!;
         copy.set(this.kSpectraBins[c]!, 2 * k0);
-        kern.magnitudes(copy, power, inv, k0, k1);
-        continue;
-      }
-      for (let k = k0; k < k1; k++) {
-        const r = spec[2 * k]!;
-        const i = spec[2 * k + 1]!;
-        const p2 = r * r + i * i;
-        power[k] += p2;
-        inv[k] = p2 > 1e-30 ? 1 / Math.sqrt(p2) : 0;
-      }
+        kern.magnitudes(copy, power, inv, k0, k1, unit, c, this.unitLayout);
+      } else magnitudes(spec, power, inv, k0, k1, unit, c, this.unitLayout);
     }
     res.levelDbfs = toDb(totalMs / this.channels);
   }
@@ -1010,13 +1004,9 @@ export class HopAnalyzer {
       const v = kern ? kern.hopCoherence1(this.kSpectra[a]!, this.kSpectra[b]!, inv[a]!, inv[b]!, this.refined[0]!, this.frame, k0, k1) : hopCoherenceF32(this.spectra[a]!, this.spectra[b]!, inv[a]!, inv[b]!, this.frame, this.refined[0]!, k0, k1, this.freshPh);
       return Math.max(0, v);
     }
-    // Many pairs: each channel's unit spectrum once, then four pairs a pass (float32 lanes).
+    // Many pairs: from each channel's unit spectrum (spectraStage), four pairs a pass (float32 lanes).
     const ut = this.unitSpectra;
     const layout = this.unitLayout;
-    for (let c = 0; c < this.channels; c++) {
-      if (kern) kern.unitSpectrum(this.kSpectra[c]!, inv[c]!, ut, c, layout, k0, k1);
-      else fillUnitSpectrum(this.spectra[c]!, inv[c]!, ut, c, layout, k0, k1);
-    }
     const out = this.freshOut;
     let sum = 0;
     for (let g = 0, p = 0; p < P; g++, p += 4) {

@@ -31,7 +31,7 @@ declare const WebAssembly: {
 
 interface KernelExports {
   memory: WasmMemory;
-  magnitudes(spec: number, power: number, inv: number, k0: number, k1: number): void;
+  magnitudes(spec: number, power: number, inv: number, k0: number, k1: number, ut: number, c: number, stride: number, half: number): void;
   times(w: number, inv: number, out: number, k0: number, k1: number): void;
   scale_listed(acc: number, P: number, list: number, n: number, r: number): void;
   srp_power(t: number, idx: number, frac: number, P: number, pts: number, count: number, power: number, stamp: number, hop: number): void;
@@ -45,7 +45,6 @@ interface KernelExports {
   band_scores_f32_1(ar: number, ai: number, ends: number, nb: number, k0: number, ph: number, out: number, stride: number, needed: number, write: number): void;
   derivatives_f32(arA: number, aiA: number, arB: number, aiB: number, two: number, use: number, starts: number, ends: number, nb: number, w0: number, ph: number, out: number): void;
   hop_coherence_1f(a: number, b: number, ia: number, ib: number, k0: number, k1: number, ph: number, out: number): void;
-  unit_t(spec: number, inv: number, ut: number, c: number, stride: number, half: number, k0: number, k1: number): void;
   hop_coherence_t(ut: number, stride: number, nv: number, k0: number, k1: number, ph: number, idx: number, out: number): void;
 }
 
@@ -169,9 +168,15 @@ export class GccKernels {
     return view.buffer === this.buffer;
   }
 
-  /** Per bin of [k0, k1): power[k] += |X_k|^2 and inv[k] = 1 / |X_k| (0 for an empty bin); spectrum interleaved float32. */
-  magnitudes(spec: Float32Array, power: Float64Array, inv: Float64Array, k0: number, k1: number): void {
-    this.x.magnitudes(spec.byteOffset, power.byteOffset, inv.byteOffset, k0, k1);
+  /**
+   * magnitudes (./gcc-lanes.ts) on a float32 spectrum in this memory: per bin of [k0, k1),
+   * power[k] += |X_k|^2 and inv[k] = 1 / |X_k| in float32 (0 for an empty bin), and with `unit`
+   * channel c's unit spectrum into it (UnitLayout `layout`).
+   */
+  magnitudes(spec: Float32Array, power: Float64Array, inv: Float64Array, k0: number, k1: number, unit: Float32Array | null = null, c = 0, layout: UnitLayout | null = null): void {
+    const stride = layout ? 4 * layout.stride : 0;
+    const half = layout ? 4 * layout.half : 0;
+    this.x.magnitudes(spec.byteOffset, power.byteOffset, inv.byteOffset, k0, k1, unit ? unit.byteOffset : 0, c, stride, half);
   }
 
   /**
@@ -329,11 +334,6 @@ export class GccKernels {
     const b = pb ?? pa;
     this.x.derivatives_f32(pa.accRe.byteOffset, pa.accIm.byteOffset, b.accRe.byteOffset, b.accIm.byteOffset, pb === null ? 0 : 1, useBand.byteOffset, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, (2 * Math.PI) / n, this.phD.byteOffset, this.outD.byteOffset);
     sumDerivativeLanes(this.outD, d, oa, ob);
-  }
-
-  /** fillUnitSpectrum (./gcc-lanes.ts) from a float32 spectrum in this memory. */
-  unitSpectrum(spec: Float32Array, invMag: Float64Array, ut: Float32Array, c: number, layout: UnitLayout, k0: number, k1: number): void {
-    this.x.unit_t(spec.byteOffset, invMag.byteOffset, ut.byteOffset, c, 4 * layout.stride, 4 * layout.half, k0, k1);
   }
 
   /**

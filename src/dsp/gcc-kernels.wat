@@ -17,35 +17,82 @@
 (module
   (memory (export "memory") 1)
 
-  ;; power[k] += r*r + i*i; inv[k] = p2 > 1e-30 ? 1 / sqrt(p2) : 0, for bins [k0, k1): two bins per step.
+  ;; For bins [k0, k1) of a spectrum (interleaved float32), four bins per step: power[k] += r*r + i*i
+  ;; (double precision) and inv[k] = p2 > 1e-30 ? f32(1 / f32(sqrt(f32(p2)))) : 0 (1 / |X| in
+  ;; float32, stored as a double); with $ut (not 0) also the unit spectrum of channel c,
+  ;; ut[k * stride + 4 c] = f32(r * inv[k]) and at + half its imaginary part (byte offsets of
+  ;; UnitLayout, src/dsp/gcc-lanes.ts). The last one to three bins one at a time, with the same operations.
   (func (export "magnitudes") (param $spec i32) (param $power i32) (param $inv i32) (param $k0 i32) (param $k1 i32)
-    (local $k i32) (local $v v128) (local $r v128) (local $i v128) (local $p2 v128) (local $a i32) (local $sr f64) (local $si f64) (local $s2 f64)
+    (param $ut i32) (param $c i32) (param $stride i32) (param $half i32)
+    (local $k i32) (local $v0 v128) (local $v1 v128) (local $rf v128) (local $if v128) (local $lo v128) (local $hi v128)
+    (local $r v128) (local $i v128) (local $m v128) (local $g v128) (local $ur v128) (local $ui v128) (local $a i32) (local $at i32)
+    (local $sr f32) (local $si f32) (local $s2 f64) (local $sg f32)
     (local.set $k (local.get $k0))
     (block $done
-      (loop $two
-        (br_if $done (i32.gt_s (i32.add (local.get $k) (i32.const 2)) (local.get $k1)))
-        (local.set $v (v128.load (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3)))))
-        (local.set $r (f64x2.promote_low_f32x4 (i8x16.shuffle 0 1 2 3 8 9 10 11 0 1 2 3 8 9 10 11 (local.get $v) (local.get $v))))
-        (local.set $i (f64x2.promote_low_f32x4 (i8x16.shuffle 4 5 6 7 12 13 14 15 4 5 6 7 12 13 14 15 (local.get $v) (local.get $v))))
-        (local.set $p2 (f64x2.add (f64x2.mul (local.get $r) (local.get $r)) (f64x2.mul (local.get $i) (local.get $i))))
+      (loop $four
+        (br_if $done (i32.gt_s (i32.add (local.get $k) (i32.const 4)) (local.get $k1)))
+        (local.set $v0 (v128.load (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3)))))
+        (local.set $v1 (v128.load offset=16 (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3)))))
+        (local.set $rf (i8x16.shuffle 0 1 2 3 8 9 10 11 16 17 18 19 24 25 26 27 (local.get $v0) (local.get $v1)))
+        (local.set $if (i8x16.shuffle 4 5 6 7 12 13 14 15 20 21 22 23 28 29 30 31 (local.get $v0) (local.get $v1)))
+        ;; bins k, k + 1
+        (local.set $r (f64x2.promote_low_f32x4 (local.get $rf)))
+        (local.set $i (f64x2.promote_low_f32x4 (local.get $if)))
+        (local.set $lo (f64x2.add (f64x2.mul (local.get $r) (local.get $r)) (f64x2.mul (local.get $i) (local.get $i))))
+        ;; bins k + 2, k + 3
+        (local.set $r (f64x2.promote_low_f32x4 (i8x16.shuffle 8 9 10 11 12 13 14 15 8 9 10 11 12 13 14 15 (local.get $rf) (local.get $rf))))
+        (local.set $i (f64x2.promote_low_f32x4 (i8x16.shuffle 8 9 10 11 12 13 14 15 8 9 10 11 12 13 14 15 (local.get $if) (local.get $if))))
+        (local.set $hi (f64x2.add (f64x2.mul (local.get $r) (local.get $r)) (f64x2.mul (local.get $i) (local.get $i))))
         (local.set $a (i32.add (local.get $power) (i32.shl (local.get $k) (i32.const 3))))
-        (v128.store (local.get $a) (f64x2.add (v128.load (local.get $a)) (local.get $p2)))
-        (v128.store (i32.add (local.get $inv) (i32.shl (local.get $k) (i32.const 3)))
-          (v128.bitselect
-            (f64x2.div (f64x2.splat (f64.const 1)) (f64x2.sqrt (local.get $p2)))
-            (v128.const i64x2 0 0)
-            (f64x2.gt (local.get $p2) (f64x2.splat (f64.const 1e-30)))))
-        (local.set $k (i32.add (local.get $k) (i32.const 2)))
-        (br $two)))
-    (if (i32.lt_s (local.get $k) (local.get $k1))
-      (then
-        (local.set $sr (f64.promote_f32 (f32.load (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3))))))
-        (local.set $si (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3))))))
-        (local.set $s2 (f64.add (f64.mul (local.get $sr) (local.get $sr)) (f64.mul (local.get $si) (local.get $si))))
+        (v128.store (local.get $a) (f64x2.add (v128.load (local.get $a)) (local.get $lo)))
+        (v128.store offset=16 (local.get $a) (f64x2.add (v128.load offset=16 (local.get $a)) (local.get $hi)))
+        ;; 1 / |X| in float32, 0 where p2 is not above 1e-30 (the test in double precision)
+        (local.set $m (i8x16.shuffle 0 1 2 3 8 9 10 11 16 17 18 19 24 25 26 27
+          (f64x2.gt (local.get $lo) (f64x2.splat (f64.const 1e-30)))
+          (f64x2.gt (local.get $hi) (f64x2.splat (f64.const 1e-30)))))
+        (local.set $g (v128.and (local.get $m)
+          (f32x4.div (f32x4.splat (f32.const 1))
+            (f32x4.sqrt (i8x16.shuffle 0 1 2 3 4 5 6 7 16 17 18 19 20 21 22 23
+              (f32x4.demote_f64x2_zero (local.get $lo)) (f32x4.demote_f64x2_zero (local.get $hi)))))))
+        (local.set $a (i32.add (local.get $inv) (i32.shl (local.get $k) (i32.const 3))))
+        (v128.store (local.get $a) (f64x2.promote_low_f32x4 (local.get $g)))
+        (v128.store offset=16 (local.get $a) (f64x2.promote_low_f32x4 (i8x16.shuffle 8 9 10 11 12 13 14 15 8 9 10 11 12 13 14 15 (local.get $g) (local.get $g))))
+        (if (local.get $ut)
+          (then
+            (local.set $ur (f32x4.mul (local.get $rf) (local.get $g)))
+            (local.set $ui (f32x4.mul (local.get $if) (local.get $g)))
+            (local.set $at (i32.add (i32.add (local.get $ut) (i32.mul (local.get $k) (local.get $stride))) (i32.shl (local.get $c) (i32.const 2))))
+            (f32.store (local.get $at) (f32x4.extract_lane 0 (local.get $ur)))
+            (f32.store (i32.add (local.get $at) (local.get $half)) (f32x4.extract_lane 0 (local.get $ui)))
+            (local.set $at (i32.add (local.get $at) (local.get $stride)))
+            (f32.store (local.get $at) (f32x4.extract_lane 1 (local.get $ur)))
+            (f32.store (i32.add (local.get $at) (local.get $half)) (f32x4.extract_lane 1 (local.get $ui)))
+            (local.set $at (i32.add (local.get $at) (local.get $stride)))
+            (f32.store (local.get $at) (f32x4.extract_lane 2 (local.get $ur)))
+            (f32.store (i32.add (local.get $at) (local.get $half)) (f32x4.extract_lane 2 (local.get $ui)))
+            (local.set $at (i32.add (local.get $at) (local.get $stride)))
+            (f32.store (local.get $at) (f32x4.extract_lane 3 (local.get $ur)))
+            (f32.store (i32.add (local.get $at) (local.get $half)) (f32x4.extract_lane 3 (local.get $ui)))))
+        (local.set $k (i32.add (local.get $k) (i32.const 4)))
+        (br $four)))
+    (block $tailDone
+      (loop $tail
+        (br_if $tailDone (i32.ge_s (local.get $k) (local.get $k1)))
+        (local.set $sr (f32.load (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3)))))
+        (local.set $si (f32.load offset=4 (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3)))))
+        (local.set $s2 (f64.add (f64.mul (f64.promote_f32 (local.get $sr)) (f64.promote_f32 (local.get $sr)))
+          (f64.mul (f64.promote_f32 (local.get $si)) (f64.promote_f32 (local.get $si)))))
         (local.set $a (i32.add (local.get $power) (i32.shl (local.get $k) (i32.const 3))))
         (f64.store (local.get $a) (f64.add (f64.load (local.get $a)) (local.get $s2)))
-        (f64.store (i32.add (local.get $inv) (i32.shl (local.get $k) (i32.const 3)))
-          (select (f64.div (f64.const 1) (f64.sqrt (local.get $s2))) (f64.const 0) (f64.gt (local.get $s2) (f64.const 1e-30)))))))
+        (local.set $sg (select (f32.div (f32.const 1) (f32.sqrt (f32.demote_f64 (local.get $s2)))) (f32.const 0) (f64.gt (local.get $s2) (f64.const 1e-30))))
+        (f64.store (i32.add (local.get $inv) (i32.shl (local.get $k) (i32.const 3))) (f64.promote_f32 (local.get $sg)))
+        (if (local.get $ut)
+          (then
+            (local.set $at (i32.add (i32.add (local.get $ut) (i32.mul (local.get $k) (local.get $stride))) (i32.shl (local.get $c) (i32.const 2))))
+            (f32.store (local.get $at) (f32.mul (local.get $sr) (local.get $sg)))
+            (f32.store (i32.add (local.get $at) (local.get $half)) (f32.mul (local.get $si) (local.get $sg)))))
+        (local.set $k (i32.add (local.get $k) (i32.const 1)))
+        (br $tail))))
 
   ;; out[k] = w[k] * inv[k] for bins [k0, k1).
   (func (export "times") (param $w i32) (param $inv i32) (param $out i32) (param $k0 i32) (param $k1 i32)
@@ -875,26 +922,8 @@
         (br $l)))
     (v128.store (local.get $out) (local.get $acc)))
 
-  ;; Unit spectra, channels side by side (HopAnalyzer.freshCoherence): for bins [k0, k1) of channel
-  ;; c, ut[k * stride + c] = f32(re_k * inv[k]) and ut[k * stride + half + c] = f32(im_k * inv[k])
-  ;; (float32 numbers; stride and half in bytes are passed as byte counts: $stride, $half).
-  (func (export "unit_t") (param $spec i32) (param $inv i32) (param $ut i32) (param $c i32) (param $stride i32) (param $half i32) (param $k0 i32) (param $k1 i32)
-    (local $k i32) (local $g f64) (local $at i32)
-    (local.set $k (local.get $k0))
-    (block $d
-      (loop $l
-        (br_if $d (i32.ge_s (local.get $k) (local.get $k1)))
-        (local.set $g (f64.load (i32.add (local.get $inv) (i32.shl (local.get $k) (i32.const 3)))))
-        (local.set $at (i32.add (i32.add (local.get $ut) (i32.mul (local.get $k) (local.get $stride))) (i32.shl (local.get $c) (i32.const 2))))
-        (f32.store (local.get $at)
-          (f32.demote_f64 (f64.mul (f64.promote_f32 (f32.load (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3))))) (local.get $g))))
-        (f32.store (i32.add (local.get $at) (local.get $half))
-          (f32.demote_f64 (f64.mul (f64.promote_f32 (f32.load offset=4 (i32.add (local.get $spec) (i32.shl (local.get $k) (i32.const 3))))) (local.get $g))))
-        (local.set $k (i32.add (local.get $k) (i32.const 1)))
-        (br $l))))
-
   ;; Hop coherence of four pairs at once in float32 (hopCoherenceLanes, src/dsp/gcc-lanes.ts),
-  ;; from the unit spectra of unit_t: per bin, $nv vectors of four channels' real parts, then
+  ;; from the unit spectra of magnitudes (with $ut): per bin, $nv vectors of four channels' real parts, then
   ;; $nv of their imaginary parts ($stride bytes a bin). Lane i is pair (a_i, b_i): its unit
   ;; spectra are picked out of the vectors by byte swizzles, idx holding per vector v the
   ;; indices for a (16 bytes) and for b (16 bytes), out-of-range (128) where the channel lies

@@ -459,22 +459,31 @@ export function unitLayout(channels: number): UnitLayout {
 }
 
 /**
- * Channel c's unit spectrum over bins [k0, k1) into `ut` (UnitLayout): the real and imaginary
- * parts of bin k times invMag[k], each rounded to float32 (GccKernels.unitT does the same).
+ * Per bin of [k0, k1) of a spectrum (interleaved): power[k] += |X_k|^2 (double precision) and
+ * invMag[k] = 1 / |X_k| in float32 (0 where |X_k|^2 is not above 1e-30), and, with `unit`,
+ * channel c's unit spectrum X_k invMag[k] rounded to float32 (UnitLayout `layout`). PHAT needs
+ * 1 / |X| to a few digits only; float32 makes its square root and division four to a SIMD
+ * instruction (GccKernels.magnitudes does the same operations, bit for bit).
  */
-export function fillUnitSpectrum(spec: ArrayLike<number>, invMag: Float64Array, ut: Float32Array, c: number, layout: UnitLayout, k0: number, k1: number): void {
-  const { stride, half } = layout;
+export function magnitudes(spec: ArrayLike<number>, power: Float64Array, invMag: Float64Array, k0: number, k1: number, unit: Float32Array | null = null, c = 0, layout: UnitLayout | null = null): void {
+  const f = Math.fround;
   for (let k = k0; k < k1; k++) {
-    const g = invMag[k]!;
-    ut[k * stride + c] = spec[2 * k]! * g;
-    ut[k * stride + half + c] = spec[2 * k + 1]! * g;
+    const r = f(spec[2 * k]!);
+    const i = f(spec[2 * k + 1]!);
+    const p2 = r * r + i * i;
+    power[k] += p2;
+    const g = p2 > 1e-30 ? f(1 / f(Math.sqrt(f(p2)))) : 0;
+    invMag[k] = g;
+    if (unit === null) continue;
+    unit[k * layout!.stride + c] = r * g;
+    unit[k * layout!.stride + layout!.half + c] = i * g;
   }
 }
 
 /**
  * The hop coherence (./gcc.ts, coherenceSum: sum over bins [k0, k1) of Re(U_a conj(U_b)
  * e^{j 2 pi k lag / n})) of four pairs at once in float32, one pair per lane, from unit spectra
- * (fillUnitSpectrum). Lane i is pair (chans[at + i], chans[at + 4 + i]); ph holds the float32
+ * (magnitudes). Lane i is pair (chans[at + i], chans[at + 4 + i]); ph holds the float32
  * phasors of its lag (setPhasorsF32 from bin k0). Every operation is rounded to float32, in the
  * order of GccKernels.hopCoherenceT's f32x4 lanes, so both give the same sums bit for bit; the
  * four sums go to out[0 .. 4). The coherence is a confidence feature (a mean over hundreds of

@@ -5,7 +5,7 @@ import { HopAnalyzer, type HopResult } from '../../src/analysis/hop-analyzer.js'
 import { makeBands } from '../../src/dsp/bands.js';
 import { pffft } from '../../src/dsp/pffft-backend.js';
 import { addBandScores, coherenceSum, PairCorrelator, refineLag } from '../../src/dsp/gcc.js';
-import { addBandScoresLanes, fillUnitSpectrum, hopCoherenceF32, hopCoherenceLanes, refineLagLanes, setPhasorsF32, unitLayout } from '../../src/dsp/gcc-lanes.js';
+import { addBandScoresLanes, hopCoherenceF32, hopCoherenceLanes, magnitudes, refineLagLanes, setPhasorsF32, unitLayout } from '../../src/dsp/gcc-lanes.js';
 import { OnsetWeigher } from '../../src/dsp/onset.js';
 import { hannWindow, windowFrame } from '../../src/dsp/window.js';
 import { GccKernels, wasmKernelsAvailable } from '../../src/dsp/gcc-kernels.js';
@@ -238,12 +238,14 @@ describe('WebAssembly GCC kernels give the JavaScript kernels results bit for bi
       power.fill(0.25);
       k!.magnitudes(a, power, invA, k0, k1);
       k!.magnitudes(b, power, invB, k0, k1);
+      const f = Math.fround;
       for (let i = k0; i < k1; i++) {
         const pa = a[2 * i]! * a[2 * i]! + a[2 * i + 1]! * a[2 * i + 1]!;
         const pb = b[2 * i]! * b[2 * i]! + b[2 * i + 1]! * b[2 * i + 1]!;
         expect(power[i]).toBe(0.25 + pa + pb);
-        expect(invA[i]).toBe(pa > 1e-30 ? 1 / Math.sqrt(pa) : 0);
-        expect(invB[i]).toBe(pb > 1e-30 ? 1 / Math.sqrt(pb) : 0);
+        // 1 / |X| in float32 (IEEE binary32 square root and division, as Math.fround gives them)
+        expect(invA[i]).toBe(pa > 1e-30 ? f(1 / f(Math.sqrt(f(pa)))) : 0);
+        expect(invB[i]).toBe(pb > 1e-30 ? f(1 / f(Math.sqrt(f(pb)))) : 0);
       }
       const w = k!.f64(bins);
       for (let i = 0; i < bins; i++) w[i] = 0.5 + rand();
@@ -267,27 +269,27 @@ describe('WebAssembly GCC kernels give the JavaScript kernels results bit for bi
     }
   });
 
-  run.each([3, 4, 6, 8])('unit spectra and the hop coherence of four pairs at once, %i channels', (C) => {
+  run.each([3, 4, 6, 8])('magnitudes with unit spectra, and the hop coherence of four pairs at once, %i channels', (C) => {
     const layout = unitLayout(C);
     const specs = Array.from({ length: C }, () => {
       const s = k!.f32(n);
       for (let i = 0; i < n; i++) s[i] = rand();
       return s;
     });
-    const invs = specs.map((s) => {
-      const inv = k!.f64(bins);
-      const power = k!.f64(bins);
-      k!.magnitudes(s, power, inv, 1, bins - 1);
-      return inv;
-    });
+    const invs = specs.map(() => k!.f64(bins));
+    const invsJs = specs.map(() => new Float64Array(bins));
     const utJs = new Float32Array(bins * layout.stride);
     const utWasm = k!.f32(bins * layout.stride);
-    for (const [k0, k1] of [[3, 257], [10, 11]] as const) {
+    for (const [k0, k1] of [[3, 257], [4, 258], [10, 11]] as const) {
+      const power = k!.f64(bins);
+      const powerJs = new Float64Array(bins);
       for (let c = 0; c < C; c++) {
-        fillUnitSpectrum(specs[c]!, invs[c]!, utJs, c, layout, k0, k1);
-        k!.unitSpectrum(specs[c]!, invs[c]!, utWasm, c, layout, k0, k1);
+        magnitudes(specs[c]!, powerJs, invsJs[c]!, k0, k1, utJs, c, layout);
+        k!.magnitudes(specs[c]!, power, invs[c]!, k0, k1, utWasm, c, layout);
       }
       for (let i = 0; i < utJs.length; i++) expect(utWasm[i]).toBe(utJs[i]);
+      for (let i = 0; i < bins; i++) expect(power[i]).toBe(powerJs[i]);
+      for (let c = 0; c < C; c++) for (let i = 0; i < bins; i++) expect(invs[c]![i]).toBe(invsJs[c]![i]);
       // every pair of the C channels, four at a time (the last group's spare lanes repeat its last pair)
       const pairs: [number, number][] = [];
       for (let a = 0; a < C; a++) for (let b = a + 1; b < C; b++) pairs.push([a, b]);

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { makeBands } from '../../src/dsp/bands.js';
 import { addBandScores, coherenceSum, PairCorrelator, refineLag } from '../../src/dsp/gcc.js';
-import { addBandScoresLanes, fillUnitSpectrum, hopCoherenceF32, hopCoherenceLanes, refineLagLanes, setPhasorsF32, unitLayout } from '../../src/dsp/gcc-lanes.js';
+import { addBandScoresLanes, hopCoherenceF32, hopCoherenceLanes, magnitudes, refineLagLanes, setPhasorsF32, unitLayout } from '../../src/dsp/gcc-lanes.js';
 
 /**
  * The interleaved kernels (src/dsp/gcc-lanes.ts) must give the single kernels' results to the
@@ -83,13 +83,20 @@ describe('interleaved GCC kernels give the single kernels results (bit for bit, 
   it('hop coherence of four pairs at once in float32, from unit spectra with the channels side by side', () => {
     // Six channels (two vectors of four): pairs across both halves of the layout.
     const C = 6;
-    const specs = Array.from({ length: C }, () => Array.from({ length: n }, () => rand()));
-    const invs = Array.from({ length: C }, () => Float64Array.from({ length: n / 2 + 1 }, () => 1 + rand()));
+    const specs = Array.from({ length: C }, () => Float32Array.from({ length: n }, () => rand()));
+    const invs = Array.from({ length: C }, () => new Float64Array(n / 2 + 1));
     const layout = unitLayout(C);
     expect(layout).toEqual({ nv: 2, stride: 16, half: 8 });
     const ut = new Float32Array((n / 2 + 1) * layout.stride);
     const [k0, k1] = [3, 257];
-    for (let c = 0; c < C; c++) fillUnitSpectrum(specs[c]!, invs[c]!, ut, c, layout, k0, k1);
+    const power = new Float64Array(n / 2 + 1);
+    for (let c = 0; c < C; c++) magnitudes(specs[c]!, power, invs[c]!, k0, k1, ut, c, layout);
+    // 1 / |X| in float32: within float32 rounding of the double-precision value
+    for (let k = k0; k < k1; k++) {
+      const want = 1 / Math.hypot(specs[0]![2 * k]!, specs[0]![2 * k + 1]!);
+      expect(Math.abs(invs[0]![k]! - want)).toBeLessThan(2e-7 * want);
+      expect(Math.fround(invs[0]![k]!)).toBe(invs[0]![k]);
+    }
     const chans = Int32Array.from([0, 5, 2, 4, /* b: */ 1, 3, 5, 0]);
     const lags = Float64Array.from([2.7, -5.2, 0.3, 9.9]);
     const ph = new Float32Array(16);
