@@ -123,19 +123,19 @@ export class GccKernels {
   }
 
   f64(n: number): Float64Array {
-    return new Float64Array(this.buffer, this.take(8 * n), n);
+    return placed(new Float64Array(this.buffer, this.take(8 * n), n));
   }
 
   f32(n: number): Float32Array {
-    return new Float32Array(this.buffer, this.take(4 * n), n);
+    return placed(new Float32Array(this.buffer, this.take(4 * n), n));
   }
 
   i32(n: number): Int32Array {
-    return new Int32Array(this.buffer, this.take(4 * n), n);
+    return placed(new Int32Array(this.buffer, this.take(4 * n), n));
   }
 
   u8(n: number): Uint8Array {
-    return new Uint8Array(this.buffer, this.take(n), n);
+    return placed(new Uint8Array(this.buffer, this.take(n), n));
   }
 
   /** The bytes to reserve for arrays of these lengths (with alignment). */
@@ -151,21 +151,21 @@ export class GccKernels {
   setBands(bands: BandLayout): void {
     if (bands.count > 64) throw new Error('GccKernels: at most 64 bands');
     this.bands = bands;
-    const at = this.take(8 * bands.count);
-    this.bandEnds = new Int32Array(this.buffer, at, bands.count);
-    this.bandStarts = new Int32Array(this.buffer, at + 4 * bands.count, bands.count);
+    const first = this.take(8 * bands.count);
+    this.bandEnds = placed(new Int32Array(this.buffer, first, bands.count));
+    this.bandStarts = placed(new Int32Array(this.buffer, first + 4 * bands.count, bands.count));
     this.bandEnds.set(bands.end);
     this.bandStarts.set(bands.start);
   }
 
-  // Arrays are passed to the kernels by their byteOffset, read at each call site (one typed-array
-  // type per site: a shared helper saw them all and cost 1-3 % of the analysis). Every array passed
-  // must come from this instance (f64(), f32(), u8()); owns() checks that, once, where the arrays
-  // are set up (the check on every call cost 3 % of the analysis).
+  // Arrays are passed to the kernels by their address (`addr`, set by f64() and friends: see
+  // placed() below). Every array passed must come from this instance (f64(), f32(), i32(), u8());
+  // owns() checks that, once, where the arrays are set up (the check on every call cost 3 % of
+  // the analysis).
 
-  /** Is this array a view into this instance's memory? */
+  /** Is this array one of this instance's (a view into its memory, with its address)? */
   owns(view: Float64Array | Float32Array | Int32Array | Uint8Array): boolean {
-    return view.buffer === this.buffer;
+    return view.buffer === this.buffer && (view as Placed<typeof view>).addr === view.byteOffset;
   }
 
   /**
@@ -176,7 +176,7 @@ export class GccKernels {
   magnitudes(spec: Float32Array, power: Float64Array, inv: Float64Array, k0: number, k1: number, unit: Float32Array | null = null, c = 0, layout: UnitLayout | null = null): void {
     const stride = layout ? 4 * layout.stride : 0;
     const half = layout ? 4 * layout.half : 0;
-    this.x.magnitudes(spec.byteOffset, power.byteOffset, inv.byteOffset, k0, k1, unit ? unit.byteOffset : 0, c, stride, half);
+    this.x.magnitudes(f32At(spec), f64At(power), f64At(inv), k0, k1, unit ? f32At(unit) : 0, c, stride, half);
   }
 
   /**
@@ -185,7 +185,7 @@ export class GccKernels {
    * interpolated at idx[g P + p] + frac[g P + p]; stamp[g] = hop.
    */
   srpPower(t: Float64Array, idx: Int32Array, frac: Float64Array, P: number, pts: Int32Array, from: number, count: number, power: Float64Array, stamp: Int32Array, hop: number): void {
-    this.x.srp_power(t.byteOffset, idx.byteOffset, frac.byteOffset, P, pts.byteOffset + 4 * from, count, power.byteOffset, stamp.byteOffset, hop);
+    this.x.srp_power(f64At(t), i32At(idx), f64At(frac), P, i32At(pts) + 4 * from, count, f64At(power), i32At(stamp), hop);
   }
 
   /**
@@ -197,7 +197,7 @@ export class GccKernels {
    * found points and scores (the outputs), and maxCount. Returns how many were found.
    */
   srpSearch(args: Int32Array): number {
-    return this.x.srp_search(args.byteOffset);
+    return this.x.srp_search(i32At(args));
   }
 
   /** The address of an array in this memory (for argument blocks). */
@@ -216,7 +216,7 @@ export class GccKernels {
    * and their number into count[0].
    */
   onsetUpdate(power: Float64Array, bg: Float64Array, nf: Float64Array, sm: Float64Array, weights: Float64Array, k0: number, k1: number, q: Float64Array, held: Float64Array | null, out: Int32Array, count: Int32Array): number {
-    return this.x.onset_update(power.byteOffset, bg.byteOffset, nf.byteOffset, sm.byteOffset, weights.byteOffset, k0, k1, q.byteOffset, held === null ? 0 : held.byteOffset, out.byteOffset, count.byteOffset);
+    return this.x.onset_update(f64At(power), f64At(bg), f64At(nf), f64At(sm), f64At(weights), k0, k1, f64At(q), held === null ? 0 : f64At(held), i32At(out), i32At(count));
   }
 
   /**
@@ -226,12 +226,12 @@ export class GccKernels {
    */
   bandSums(power: Float64Array, noise: Float64Array, acc: Float64Array, w: Float64Array, memory: number, sumPower: Float64Array, sumNoise: Float64Array, sumAcc: Float64Array, k0: number, k1: number): void {
     const bands = this.bands!;
-    this.x.band_sums(power.byteOffset, noise.byteOffset, acc.byteOffset, w.byteOffset, memory, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, sumPower.byteOffset, sumNoise.byteOffset, sumAcc.byteOffset, k0, k1);
+    this.x.band_sums(f64At(power), f64At(noise), f64At(acc), f64At(w), memory, i32At(this.bandStarts!), i32At(this.bandEnds!), bands.count, f64At(sumPower), f64At(sumNoise), f64At(sumAcc), k0, k1);
   }
 
   /** windowFrame (./window.ts): the frame x (float64, in this memory) times the window into w (float32); returns its sum of squares. */
   window1(x: Float64Array, win: Float64Array, w: Float32Array): number {
-    return this.x.window1(x.byteOffset, win.byteOffset, w.byteOffset, win.length);
+    return this.x.window1(f64At(x), f64At(win), f32At(w), win.length);
   }
 
   /**
@@ -239,22 +239,22 @@ export class GccKernels {
    * `addresses` (accRe, accIm of each, from crossSpectrumAddresses) times r.
    */
   scaleListed(addresses: Int32Array, list: Int32Array, n: number, r: number): void {
-    this.x.scale_listed(addresses.byteOffset, addresses.length / 2, list.byteOffset, n, r);
+    this.x.scale_listed(i32At(addresses), addresses.length / 2, i32At(list), n, r);
   }
 
   /** The addresses of the cross-spectra's accRe and accIm (in this memory), for scaleListed. */
   crossSpectrumAddresses(pcs: readonly CrossSpectrum[]): Int32Array {
-    const at = this.i32(2 * pcs.length);
+    const list = this.i32(2 * pcs.length);
     pcs.forEach((pc, p) => {
-      at[2 * p] = pc.accRe.byteOffset;
-      at[2 * p + 1] = pc.accIm.byteOffset;
+      list[2 * p] = pc.accRe.byteOffset;
+      list[2 * p + 1] = pc.accIm.byteOffset;
     });
-    return at;
+    return list;
   }
 
   /** out[k] = w[k] * inv[k] over [k0, k1). */
   times(w: Float64Array, inv: Float64Array, out: Float64Array, k0: number, k1: number): void {
-    this.x.times(w.byteOffset, inv.byteOffset, out.byteOffset, k0, k1);
+    this.x.times(f64At(w), f64At(inv), f64At(out), k0, k1);
   }
 
   /**
@@ -263,12 +263,12 @@ export class GccKernels {
    * RealFft.inverseLags writes into PFFFT's buffer (./fft.ts, RealFft.inversePackedLags takes it).
    */
   scalePack(pc: CrossSpectrum, binScale: Float64Array | null, packed: Float32Array, k0: number, k1: number): void {
-    this.x.scale_pack(pc.accRe.byteOffset, pc.accIm.byteOffset, binScale === null ? 0 : binScale.byteOffset, packed.byteOffset, k0, k1);
+    this.x.scale_pack(f64At(pc.accRe), f64At(pc.accIm), binScale === null ? 0 : f64At(binScale), f32At(packed), k0, k1);
   }
 
   /** PairCorrelator.accumulate (./gcc.ts) on float32 spectra in this memory. */
   accumulate(pc: CrossSpectrum, a: Float32Array, b: Float32Array, weightedInvA: Float64Array, invB: Float64Array, k0: number, k1: number, memory: number): void {
-    this.x.accumulate(a.byteOffset, b.byteOffset, weightedInvA.byteOffset, invB.byteOffset, pc.accRe.byteOffset, pc.accIm.byteOffset, k0, k1, memory);
+    this.x.accumulate(f32At(a), f32At(b), f64At(weightedInvA), f64At(invB), f64At(pc.accRe), f64At(pc.accIm), k0, k1, memory);
   }
 
   /**
@@ -284,20 +284,20 @@ export class GccKernels {
     const k0 = bands.firstBin;
     const ph = this.phF;
     const b = pcB ?? pc;
-    const ends = this.bandEnds!.byteOffset;
-    const need = needed === null ? 0 : needed.byteOffset;
-    const out = scoresOut.byteOffset;
+    const ends = i32At(this.bandEnds!);
+    const need = needed === null ? 0 : f64At(needed);
+    const out = f64At(scoresOut);
     for (let i = 0; i < count; i += 4) {
       const w = Math.min(4, count - i);
       if (pcB === null) {
         // a pair alone: its bins over two recursions (addBandScoresLanes with `alone`)
         setSplitPhasorsF32(ph, lags, lagOffset + i * lagStride, lagStride, w, n, k0);
-        this.x.band_scores_f32_1(pc.accRe.byteOffset, pc.accIm.byteOffset, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, w);
+        this.x.band_scores_f32_1(f64At(pc.accRe), f64At(pc.accIm), ends, bands.count, k0, f32At(ph), out + 8 * (offset + i), stride, need, w);
         continue;
       }
       setPhasorsF32(ph, 0, lags, lagOffset + i * lagStride, lagStride, w, n, k0);
       setPhasorsF32(ph, 16, lags, lagOffsetB + i * lagStride, lagStride, w, n, k0);
-      this.x.band_scores_f32(pc.accRe.byteOffset, pc.accIm.byteOffset, b.accRe.byteOffset, b.accIm.byteOffset, 1, ends, bands.count, k0, ph.byteOffset, out + 8 * (offset + i), stride, need, w);
+      this.x.band_scores_f32(f64At(pc.accRe), f64At(pc.accIm), f64At(b.accRe), f64At(b.accIm), 1, ends, bands.count, k0, f32At(ph), out + 8 * (offset + i), stride, need, w);
     }
   }
 
@@ -332,7 +332,7 @@ export class GccKernels {
     const bands = this.bands!;
     setDerivativePhasors(this.phD, bands, useBand, ta, tb, n);
     const b = pb ?? pa;
-    this.x.derivatives_f32(pa.accRe.byteOffset, pa.accIm.byteOffset, b.accRe.byteOffset, b.accIm.byteOffset, pb === null ? 0 : 1, useBand.byteOffset, this.bandStarts!.byteOffset, this.bandEnds!.byteOffset, bands.count, (2 * Math.PI) / n, this.phD.byteOffset, this.outD.byteOffset);
+    this.x.derivatives_f32(f64At(pa.accRe), f64At(pa.accIm), f64At(b.accRe), f64At(b.accIm), pb === null ? 0 : 1, u8At(useBand), i32At(this.bandStarts!), i32At(this.bandEnds!), bands.count, (2 * Math.PI) / n, f32At(this.phD), f32At(this.outD));
     sumDerivativeLanes(this.outD, d, oa, ob);
   }
 
@@ -359,7 +359,7 @@ export class GccKernels {
    */
   hopCoherenceT(ut: Float32Array, layout: UnitLayout, idx: Uint8Array, lags: Float64Array, at: number, w: number, n: number, k0: number, k1: number, out: Float32Array): void {
     setPhasorsF32(this.phF, 0, lags, at, 1, w, n, k0);
-    this.x.hop_coherence_t(ut.byteOffset, 4 * layout.stride, layout.nv, k0, k1, this.phF.byteOffset, idx.byteOffset, out.byteOffset);
+    this.x.hop_coherence_t(f32At(ut), 4 * layout.stride, layout.nv, k0, k1, f32At(this.phF), u8At(idx), f32At(out));
   }
 
   /** hopCoherenceF32 (./gcc-lanes.ts) of a pair alone on float32 spectra in this memory. */
@@ -367,7 +367,25 @@ export class GccKernels {
     if (end <= first) return 0;
     setCoherencePhasors(this.phF, lag, n, first);
     const out = this.outD;
-    this.x.hop_coherence_1f(a.byteOffset, b.byteOffset, invA.byteOffset, invB.byteOffset, first, end, this.phF.byteOffset, out.byteOffset);
+    this.x.hop_coherence_1f(f32At(a), f32At(b), f64At(invA), f64At(invB), first, end, f32At(this.phF), f32At(out));
     return (out[0]! + out[1]! + out[2]! + out[3]!) / (end - first);
   }
 }
+
+/**
+ * Arrays from f64() and friends carry their byte offset in the kernels' memory as `addr`: the
+ * byteOffset getter costs about 8 ns a read on Node 20 (measured), and a hop passes a few hundred
+ * addresses (the 8-mic circle: about 680, some 5 us a hop). One reader per array type, so that
+ * each reads one kind of object (a reader shared by all types cost 1-3 % of the analysis).
+ */
+type Placed<T> = T & { readonly addr: number };
+
+function placed<T extends ArrayBufferView>(view: T): Placed<T> {
+  (view as T & { addr: number }).addr = view.byteOffset;
+  return view as Placed<T>;
+}
+
+const f64At = (v: Float64Array): number => (v as Placed<Float64Array>).addr;
+const f32At = (v: Float32Array): number => (v as Placed<Float32Array>).addr;
+const i32At = (v: Int32Array): number => (v as Placed<Int32Array>).addr;
+const u8At = (v: Uint8Array): number => (v as Placed<Uint8Array>).addr;
