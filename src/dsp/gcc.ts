@@ -78,16 +78,14 @@ export class PairCorrelator {
     const g = this.gcc;
     const n = this.n;
     let found = 0;
-    // lag l sits at index l mod N (l + N for l < 0; the window is far inside the frame)
+    // lag l sits at index l mod N (l + N for l < 0; the window is far inside the frame); one new
+    // value a lag, the three neighbours rolled along
     let yl = g[n - L - 1]!;
     let y = g[n - L]!;
-    for (let lag = -L; lag <= L; lag++) {
-      if (lag > -L) {
-        yl = y;
-        y = g[lag < 0 ? n + lag : lag]!;
-      }
+    let yr = y;
+    for (let lag = -L; lag <= L; yl = y, y = yr, lag++) {
       const next = lag + 1;
-      const yr = g[next < 0 ? n + next : next]!;
+      yr = g[next < 0 ? n + next : next]!;
       if (!(y > yl && y >= yr)) continue;
       if (found === count && y <= heightsOut[found - 1]!) continue;
       // insertion into the sorted top list
