@@ -27,9 +27,14 @@ function ev(n: number): EventRecord {
 }
 
 // Crash safety: an append-only log must survive SIGKILL with every record that write()
-// returned intact and nothing doubled (common practice, no source).
+// returned intact and nothing doubled (common practice, no source). A write() that SIGKILL
+// interrupts can stop short at a page boundary (Linux checks for a fatal signal between the
+// pages it copies, from memory of its source; seen once, in a CI run: the newest file ended in
+// a cut-off line), so
+// right after a kill the newest file may end in a torn line: never an acknowledged record (its
+// write() had not returned), and cut off when the log next starts (RecordLog.repairNewest).
 describe('record log survives SIGKILL (child process driver)', () => {
-  it('keeps every acknowledged record, with no gap, duplicate or torn line, across two kills and a restart', async () => {
+  it('keeps every acknowledged record, with no gap, duplicate or torn line once restarted, across two kills', async () => {
     const dir = freshDir();
     let lastAck = 0;
     for (const target of [8_000, 20_000]) {
@@ -40,8 +45,10 @@ describe('record log survives SIGKILL (child process driver)', () => {
       expect(signal).toBe('SIGKILL');
       lastAck = d.acked();
       const disk = readEvents(dir, DRIVER_STATION);
-      expect(disk.unterminated).toEqual([]);
-      expect(disk.badLines).toEqual([]);
+      // at most the newest file's last line torn, and nothing else that does not parse
+      const newest = disk.files[disk.files.length - 1];
+      expect(disk.unterminated.filter((f) => f !== newest)).toEqual([]);
+      expect(disk.badLines.length).toBeLessThanOrEqual(disk.unterminated.length);
       expect(firstGap(disk.numbers)).toBe(disk.numbers.length);
       expect(disk.numbers.length).toBeGreaterThanOrEqual(lastAck);
     }
@@ -49,6 +56,9 @@ describe('record log survives SIGKILL (child process driver)', () => {
     const { code } = await d.exited;
     expect(code).toBe(0);
     const disk = readEvents(dir, DRIVER_STATION);
+    // the restarts cut any torn line off (kept aside in PATH.torn, not a log file)
+    expect(disk.unterminated).toEqual([]);
+    expect(disk.badLines).toEqual([]);
     const end = Number(/done at (\d+)/.exec(d.stdout())![1]);
     expect(disk.numbers.length).toBe(end);
     expect(firstGap(disk.numbers)).toBe(end);
