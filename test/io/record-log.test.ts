@@ -30,9 +30,9 @@ function ev(n: number): EventRecord {
 // returned intact and nothing doubled (common practice, no source). A write() that SIGKILL
 // interrupts can stop short at a page boundary (Linux checks for a fatal signal between the
 // pages it copies, from memory of its source; seen once, in a CI run: the newest file ended in
-// a cut-off line), so
-// right after a kill the newest file may end in a torn line: never an acknowledged record (its
-// write() had not returned), and cut off when the log next starts (RecordLog.repairNewest).
+// a cut-off line), so right after a kill the newest file may end in a torn line: never an
+// acknowledged record (its write() had not returned), and cut off when the log next starts
+// (RecordLog.repairNewest).
 describe('record log survives SIGKILL (child process driver)', () => {
   it('keeps every acknowledged record, with no gap, duplicate or torn line once restarted, across two kills', async () => {
     const dir = freshDir();
