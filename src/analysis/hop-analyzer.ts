@@ -372,7 +372,8 @@ export class HopAnalyzer {
       }
     }
     if (k) {
-      const theirs = [...this.kSpectra, this.kPacked!, ...this.invMag, ...this.weightedInv.filter((w) => w.length > 0), this.power, this.weights, this.binScale, this.bandScores, this.evidence, this.useBand];
+      const theirs = [...this.kSpectra, this.kPacked!, ...this.invMag, ...this.weightedInv.filter((w) => w.length > 0), this.power, this.weights, this.binScale, this.bandScores, this.evidence, this.useBand, this.freshOut, ...this.freshIdx];
+      if (P > 1) theirs.push(this.unitSpectra);
       for (const pc of this.correlators) theirs.push(pc.accRe, pc.accIm);
       if (!theirs.every((view) => k.owns(view))) throw new Error('HopAnalyzer: a kernel array is outside the kernels memory');
     }

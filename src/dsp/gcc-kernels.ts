@@ -7,7 +7,8 @@ import { clampToStart, derivativePhasorFloats, newtonStep, setDerivativePhasors,
 /**
  * The per-bin kernels of the analysis in WebAssembly SIMD (./gcc-kernels.wat): PHAT magnitudes,
  * the cross-spectrum memory, band scores, the Newton refinement's derivatives and the hop
- * coherence, two double-precision lanes per instruction (the band scores: four float32 lanes).
+ * coherence, two double-precision lanes per instruction (1 / |X|, the band scores, the
+ * derivatives and the hop coherence: four float32 lanes).
  * Every lane repeats the JavaScript kernel's arithmetic in the same order (./gcc.ts,
  * ./gcc-lanes.ts), so the results are bit for bit those of the JavaScript path (checked by
  * test/dsp/gcc-kernels.test.ts and, hop by hop over the matrix, by test/bench/hop-diff.ts). The
@@ -86,7 +87,7 @@ export class GccKernels {
   private readonly buffer: ArrayBuffer;
   private used = 0;
   private readonly limit: number;
-  /** Float32 phasor scratch (band_scores_f4). */
+  /** Float32 phasor scratch (the band scores and the hop coherence). */
   private readonly phF: Float32Array;
   /** Float32 scratch of the derivatives: phasors (per band) and the lanes' sums. */
   private readonly phD: Float32Array;

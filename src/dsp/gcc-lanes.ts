@@ -2,11 +2,14 @@ import type { BandLayout } from './bands.js';
 import type { PairCorrelator } from './gcc.js';
 
 /**
- * Interleaved forms of the kernels of ./gcc.ts: several independent evaluations in one pass
- * over the bins. Each evaluation is a phasor recursion whose steps wait on one another (a
- * complex multiply per bin); run side by side, the processor overlaps them. Every lane does
- * exactly the arithmetic of the single kernel in the same order, so the results are
- * bit-identical to it (JavaScript has no fused multiply-add): only the time changes.
+ * Lane forms of the kernels of ./gcc.ts, and the JavaScript twins of the WebAssembly kernels
+ * (./gcc-kernels.wat): several independent evaluations in one pass over the bins. Each
+ * evaluation is a phasor recursion whose steps wait on one another (a complex multiply per bin);
+ * run side by side (pairs, lags, or neighbouring bins in lanes), the processor overlaps them.
+ * The magnitudes, band scores, derivatives and hop coherence run in float32, every operation
+ * rounded with Math.fround in the WebAssembly lanes' order, so the two paths agree bit for bit
+ * and agree with the double-precision single kernels within float32 rounding
+ * (test/dsp/gcc-lanes.test.ts); the rest keep the single kernels' double-precision arithmetic.
  */
 
 /**
