@@ -185,8 +185,10 @@ function bandScoresF32(pc: PairCorrelator, bands: BandLayout, ph: Float32Array, 
 
 /**
  * refineLag (./gcc.ts) for several pairs at once: pair p of `pcs` from lagsIn[lagOffset + p]
- * into lagsOut[p], on the same bands, with the same Newton steps and stopping rules per pair.
- * `d` is scratch of at least 2 * pcs.length numbers; `active` of pcs.length.
+ * into lagsOut[p], on the same bands, with the same Newton steps and stopping rules per pair,
+ * the derivatives summed in float32 lanes (derivativesF32: within about 1e-6 sample of the
+ * double-precision refinement). `d` is scratch of at least 2 * pcs.length numbers; `active` of
+ * pcs.length.
  */
 export function refineLagLanes(
   pcs: readonly PairCorrelator[],
