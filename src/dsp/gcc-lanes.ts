@@ -186,9 +186,9 @@ function bandScoresF32(pc: PairCorrelator, bands: BandLayout, ph: Float32Array, 
 /**
  * refineLag (./gcc.ts) for several pairs at once: pair p of `pcs` from lagsIn[lagOffset + p]
  * into lagsOut[p], on the same bands, with the same Newton steps and stopping rules per pair,
- * the derivatives summed in float32 lanes (derivativesF32: within about 1e-6 sample of the
- * double-precision refinement). `d` is scratch of at least 2 * pcs.length numbers; `active` of
- * pcs.length.
+ * the derivatives summed in float32 lanes (derivativesF32: within 1e-5 sample of the
+ * double-precision refinement in the tests). `d` is scratch of at least 2 * pcs.length
+ * numbers; `active` of pcs.length.
  */
 export function refineLagLanes(
   pcs: readonly PairCorrelator[],
@@ -392,7 +392,8 @@ export function setCoherencePhasors(ph: Float32Array, lag: number, n: number, k0
  * the phasors from setDerivativePhasors. Every operation is rounded to float32 in the order of
  * the WebAssembly kernel (gcc-kernels.wat, derivatives_f32), so both give the same lanes bit
  * for bit: out = [d1A x4 d2A x4 d1B x4 d2B x4] (B's zero when pb is null). The Newton step is d1 / d2 over a few hundred
- * bins: float32 moves a refined lag by about 1e-6 sample (test/dsp/gcc-lanes.test.ts).
+ * bins: float32 moves a refined lag by well under 1e-5 sample (test/dsp/gcc-lanes.test.ts; about
+ * 2e-7 seen there).
  */
 export function derivativesF32(pa: PairCorrelator, pb: PairCorrelator | null, bands: BandLayout, useBand: Uint8Array, ph: Float32Array, out: Float32Array): void {
   const f = Math.fround;
