@@ -391,9 +391,9 @@ export function setCoherencePhasors(ph: Float32Array, lag: number, n: number, k0
  * last one to three bins with the lanes past its end cleared: zero samples and zero weight),
  * the phasors from setDerivativePhasors. Every operation is rounded to float32 in the order of
  * the WebAssembly kernel (gcc-kernels.wat, derivatives_f32), so both give the same lanes bit
- * for bit: out = [d1A x4 d2A x4 d1B x4 d2B x4] (B's zero when pb is null). The Newton step is d1 / d2 over a few hundred
- * bins: float32 moves a refined lag by well under 1e-5 sample (test/dsp/gcc-lanes.test.ts; about
- * 2e-7 seen there).
+ * for bit: out = [d1A x4 d2A x4 d1B x4 d2B x4] (B's zero when pb is null). The Newton step is
+ * d1 / d2 over a few hundred bins: float32 moves a refined lag by well under 1e-5 sample
+ * (test/dsp/gcc-lanes.test.ts; about 2e-7 seen there).
  */
 export function derivativesF32(pa: PairCorrelator, pb: PairCorrelator | null, bands: BandLayout, useBand: Uint8Array, ph: Float32Array, out: Float32Array): void {
   const f = Math.fround;
