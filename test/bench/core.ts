@@ -50,7 +50,7 @@ function timeIt(fn: () => void, minMs = 400): number {
 /**
  * Timing rounds of the pipeline and the floor (the best of each counts); the numpy peer runs in
  * rounds 0, 2, 4 and 6. (Five rounds until turn 2's session 11: in one run of six that day every
- * round of the 4-mic square was disturbed, 43.7 us a hop against 37.9-39.6 in the other five.)
+ * round of the 4-mic square was disturbed, 43.7 us a hop against 37.9-39.2 in the other five.)
  */
 const ROUNDS = 7;
 
