@@ -382,7 +382,8 @@ export class GccKernels {
 type Placed<T> = T & { readonly addr: number };
 
 function placed<T extends ArrayBufferView>(view: T): Placed<T> {
-  (view as T & { addr: number }).addr = view.byteOffset;
+  // not enumerable: a view printed or serialised shows its numbers only
+  Object.defineProperty(view, 'addr', { value: view.byteOffset, enumerable: false, writable: false });
   return view as Placed<T>;
 }
 
