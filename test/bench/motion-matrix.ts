@@ -40,7 +40,7 @@ const ARRAY_Z = 1.5;
 type Family = 'pass' | 'cross' | 'chorus';
 type CallKind = 'broadband' | 'low-harmonic' | 'high-sweep' | 'high-band';
 
-interface Cell {
+export interface Cell {
   id: string;
   family: Family;
   condition: string;
@@ -211,7 +211,7 @@ function run(args: string[]): string {
 }
 
 /** Render (cached by the scene's text) and return the WAV path. */
-function rendered(cell: Cell): string {
+export function rendered(cell: Cell): string {
   const text = JSON.stringify(cell.scene);
   const key = createHash('sha256').update(text).digest('hex').slice(0, 16);
   const wav = join(cacheDir(), `${key}.wav`);
