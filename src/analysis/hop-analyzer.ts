@@ -230,8 +230,8 @@ export class HopAnalyzer {
   private readonly refineScratch: Float64Array;
   private readonly refineActive: Uint8Array;
   private readonly unitLayout: UnitLayout;
-  /** Unit spectra of this hop (UnitLayout), written with the magnitudes (spectraStage) when there are many pairs. */
-  private readonly unitSpectra: Float32Array;
+  /** Unit spectra of this hop (UnitLayout), written with the magnitudes (spectraStage); null for a pair alone (it does without). */
+  private readonly unitSpectra: Float32Array | null;
   /** Per four pairs: their channels a (4) then b (4), and on the kernels their swizzles. */
   private readonly freshChans: Int32Array;
   private readonly freshIdx: Uint8Array[];
@@ -355,7 +355,7 @@ export class HopAnalyzer {
     this.order = new Int32Array(candidates);
     // The fresh coherence of many pairs: unit spectra with the channels side by side, four pairs a pass.
     this.unitLayout = unitLayout(channels);
-    this.unitSpectra = P > 1 ? (k ? k.f32(bins * this.unitLayout.stride) : new Float32Array(bins * this.unitLayout.stride)) : new Float32Array(0);
+    this.unitSpectra = P > 1 ? (k ? k.f32(bins * this.unitLayout.stride) : new Float32Array(bins * this.unitLayout.stride)) : null;
     this.freshOut = k ? k.f32(4) : new Float32Array(4);
     const groups = P > 1 ? Math.ceil(P / 4) : 0;
     this.freshChans = new Int32Array(8 * groups);
@@ -373,7 +373,7 @@ export class HopAnalyzer {
     }
     if (k) {
       const theirs = [...this.kSpectra, this.kPacked!, ...this.invMag, ...this.weightedInv.filter((w) => w.length > 0), this.power, this.weights, this.binScale, this.bandScores, this.evidence, this.useBand, this.freshOut, ...this.freshIdx];
-      if (P > 1) theirs.push(this.unitSpectra);
+      if (this.unitSpectra) theirs.push(this.unitSpectra);
       for (const pc of this.correlators) theirs.push(pc.accRe, pc.accIm);
       if (!theirs.every((view) => k.owns(view))) throw new Error('HopAnalyzer: a kernel array is outside the kernels memory');
     }
@@ -481,12 +481,11 @@ export class HopAnalyzer {
       this.fft.forwardInterleaved(this.windowed, spec);
       const inv = this.invMag[c]!;
       // with many pairs, the unit spectra of the fresh coherence too (freshCoherence)
-      const unit = this.model.pairs.length > 1 ? this.unitSpectra : null;
       if (kern) {
         const copy = this.kSpectra[c]!;
         copy.set(this.kSpectraBins[c]!, 2 * k0);
-        kern.magnitudes(copy, power, inv, k0, k1, unit, c, this.unitLayout);
-      } else magnitudes(spec, power, inv, k0, k1, unit, c, this.unitLayout);
+        kern.magnitudes(copy, power, inv, k0, k1, this.unitSpectra, c, this.unitLayout);
+      } else magnitudes(spec, power, inv, k0, k1, this.unitSpectra, c, this.unitLayout);
     }
     res.levelDbfs = toDb(totalMs / this.channels);
   }
@@ -1006,7 +1005,7 @@ export class HopAnalyzer {
       return Math.max(0, v);
     }
     // Many pairs: from each channel's unit spectrum (spectraStage), four pairs a pass (float32 lanes).
-    const ut = this.unitSpectra;
+    const ut = this.unitSpectra!;
     const layout = this.unitLayout;
     const out = this.freshOut;
     let sum = 0;

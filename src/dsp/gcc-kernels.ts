@@ -89,9 +89,10 @@ export class GccKernels {
   private readonly limit: number;
   /** Float32 phasor scratch (the band scores and the hop coherence). */
   private readonly phF: Float32Array;
-  /** Float32 scratch of the derivatives: phasors (per band) and the lanes' sums. */
+  /** Float32 phasor scratch of the derivatives (per band). */
   private readonly phD: Float32Array;
-  private readonly outD: Float32Array;
+  /** Float32 lane sums a kernel writes for the caller to add (the derivatives, a lone pair's hop coherence). */
+  private readonly laneSums: Float32Array;
   private bandEnds: Int32Array | null = null;
   private bandStarts: Int32Array | null = null;
   private bands: BandLayout | null = null;
@@ -108,7 +109,7 @@ export class GccKernels {
     this.used = ALIGN; // offset 0 stays unused: a null pointer means "none"
     this.phF = this.f32(32);
     this.phD = this.f32(derivativePhasorFloats(64));
-    this.outD = this.f32(16);
+    this.laneSums = this.f32(16);
   }
 
   /** Kernels with room for `bytes` of arrays, or null when the WebAssembly kernels are not available. */
@@ -333,8 +334,8 @@ export class GccKernels {
     const bands = this.bands!;
     setDerivativePhasors(this.phD, bands, useBand, ta, tb, n);
     const b = pb ?? pa;
-    this.x.derivatives_f32(f64At(pa.accRe), f64At(pa.accIm), f64At(b.accRe), f64At(b.accIm), pb === null ? 0 : 1, u8At(useBand), i32At(this.bandStarts!), i32At(this.bandEnds!), bands.count, (2 * Math.PI) / n, f32At(this.phD), f32At(this.outD));
-    sumDerivativeLanes(this.outD, d, oa, ob);
+    this.x.derivatives_f32(f64At(pa.accRe), f64At(pa.accIm), f64At(b.accRe), f64At(b.accIm), pb === null ? 0 : 1, u8At(useBand), i32At(this.bandStarts!), i32At(this.bandEnds!), bands.count, (2 * Math.PI) / n, f32At(this.phD), f32At(this.laneSums));
+    sumDerivativeLanes(this.laneSums, d, oa, ob);
   }
 
   /**
@@ -367,7 +368,7 @@ export class GccKernels {
   hopCoherence1(a: Float32Array, b: Float32Array, invA: Float64Array, invB: Float64Array, lag: number, n: number, first: number, end: number): number {
     if (end <= first) return 0;
     setCoherencePhasors(this.phF, lag, n, first);
-    const out = this.outD;
+    const out = this.laneSums;
     this.x.hop_coherence_1f(f32At(a), f32At(b), f64At(invA), f64At(invB), first, end, f32At(this.phF), f32At(out));
     return (out[0]! + out[1]! + out[2]! + out[3]!) / (end - first);
   }

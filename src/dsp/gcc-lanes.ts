@@ -59,15 +59,7 @@ const laneScratch = new Float32Array(24);
  * k0, [qr x4 qi x4] at bin k0 + 1; in double precision, rounded once; spare lanes repeat the last lag.
  */
 export function setSplitPhasorsF32(ph: Float32Array, lags: Float64Array, at: number, step: number, w: number, n: number, k0: number): void {
-  for (let i = 0; i < 4; i++) {
-    const s = (2 * Math.PI * lags[at + Math.min(i, w - 1) * step]!) / n;
-    ph[i] = Math.cos(2 * s);
-    ph[4 + i] = Math.sin(2 * s);
-    ph[8 + i] = Math.cos(s * k0);
-    ph[12 + i] = Math.sin(s * k0);
-    ph[16 + i] = Math.cos(s * (k0 + 1));
-    ph[20 + i] = Math.sin(s * (k0 + 1));
-  }
+  lanePhasors(ph, 0, lags, at, step, w, n, 2, k0, k0 + 1);
 }
 
 /**
@@ -128,12 +120,25 @@ function bandScoresSplitF32(pc: PairCorrelator, bands: BandLayout, ph: Float32Ar
  * computed in double precision and rounded once; spare lanes repeat the last lag.
  */
 export function setPhasorsF32(ph: Float32Array, first: number, lags: Float64Array, at: number, step: number, w: number, n: number, k0: number): void {
+  lanePhasors(ph, first, lags, at, step, w, n, 1, k0, NaN);
+}
+
+/**
+ * For four lanes (lag lags[at + i * step] in lane i < w; spare lanes repeat the last), the
+ * float32 cos and sin of s m0, s m1 and (unless NaN) s m2 with s = 2 pi lag / n, into ph[first ..]
+ * as blocks of four: cos m0, sin m0, cos m1, sin m1, cos m2, sin m2.
+ */
+function lanePhasors(ph: Float32Array, first: number, lags: Float64Array, at: number, step: number, w: number, n: number, m0: number, m1: number, m2: number): void {
   for (let i = 0; i < 4; i++) {
     const s = (2 * Math.PI * lags[at + Math.min(i, w - 1) * step]!) / n;
-    ph[first + i] = Math.cos(s);
-    ph[first + 4 + i] = Math.sin(s);
-    ph[first + 8 + i] = Math.cos(s * k0);
-    ph[first + 12 + i] = Math.sin(s * k0);
+    ph[first + i] = Math.cos(s * m0);
+    ph[first + 4 + i] = Math.sin(s * m0);
+    ph[first + 8 + i] = Math.cos(s * m1);
+    ph[first + 12 + i] = Math.sin(s * m1);
+    if (m2 === m2) {
+      ph[first + 16 + i] = Math.cos(s * m2);
+      ph[first + 20 + i] = Math.sin(s * m2);
+    }
   }
 }
 
@@ -262,7 +267,7 @@ export function newtonStep(P: number, d: Float64Array, active: Uint8Array, lagsO
 }
 
 /** The last band of the run of used bands that starts at band b (bands are contiguous, so a run is one range of bins). */
-export function lastOfUsedRun(useBand: Uint8Array, count: number, b: number): number {
+function lastOfUsedRun(useBand: Uint8Array, count: number, b: number): number {
   let last = b;
   while (last + 1 < count && useBand[last + 1]) last++;
   return last;
