@@ -42,8 +42,22 @@ const HIST_SIZE = 360 / HIST_STEP_DEG;
 const PEAK_HALF_WIDTH_DEG = 8;
 /** Most peaks kept per hop. */
 export const MAX_BIN_PEAKS = 4;
-/** A peak holds at least this share of the hop's bin evidence (fewer: stray bins). */
+/** A peak holds at least this share of the hop's bin evidence (fewer: stray bins) ... */
 const PEAK_MIN_SHARE = 0.15;
+/**
+ * ... or this share when its bins lie in at least SEVERAL_RUNS runs of two or more neighbouring
+ * bins. A call's own bins come in runs (a tone fills two or three bins round each harmonic under
+ * the Hann window, a broadband call whole stretches), and two runs far apart in frequency that
+ * read one direction are a caller; bins that read a blend of two callers lie alone between their
+ * harmonics. Such a peak is how a passer calling with a chorus is heard: in the motion matrix's
+ * draw 1313, cho02 (10 cm tetrahedron), the passer's harmonics at 750-800 and 1125-1270 Hz read
+ * 93-98 deg (truth 94) in two runs of two and three or four bins, a peak of 1.2-1.3 against the
+ * chorus' 3.9-6.2 (its partials and pulse sidebands fill about three times as many bins).
+ */
+const RUNS_MIN_SHARE = 0.05;
+export const SEVERAL_RUNS = 2;
+/** Two peaks whose refined directions lie this near are one. */
+const SAME_PEAK_DEG = HIST_STEP_DEG;
 
 export class BinDirections {
   /** Whether any bin qualifies (at least one set of unaliased pairs spans the array's directions). */
@@ -52,6 +66,8 @@ export class BinDirections {
   readonly peakAz = new Float64Array(MAX_BIN_PEAKS);
   readonly peakEl = new Float64Array(MAX_BIN_PEAKS);
   readonly peakMass = new Float64Array(MAX_BIN_PEAKS);
+  /** Per peak: how many runs of two or more neighbouring bins its bins make (a tone's harmonics, a broadband call's stretches). */
+  readonly peakRuns = new Int32Array(MAX_BIN_PEAKS);
   peakCount = 0;
   /** One past the highest bin that gives a direction. */
   readonly endBin: number;
@@ -163,32 +179,42 @@ export class BinDirections {
     return this.peakCount;
   }
 
-  /** Local maxima of the 3-bin smoothed histogram holding PEAK_MIN_SHARE, best first, each refined on its bins. */
+  /** Local maxima of the 3-bin smoothed histogram holding RUNS_MIN_SHARE, best first, each refined on its bins (addPeak). */
   private findPeaks(total: number): void {
     const h = this.hist;
     const s = this.smooth;
     // Neighbours round the circle by index tests, not remainders (the same sums, in the same order).
     const last = HIST_SIZE - 1;
     for (let i = 0; i < HIST_SIZE; i++) s[i] = h[i === 0 ? last : i - 1]! + h[i]! + h[i === last ? 0 : i + 1]!;
-    const least = PEAK_MIN_SHARE * total;
+    const least = RUNS_MIN_SHARE * total;
     for (let i = 0; i < HIST_SIZE; i++) {
       const v = s[i]!;
       if (!(v >= least) || !(v > s[i === 0 ? last : i - 1]!) || !(v >= s[i === last ? 0 : i + 1]!)) continue;
-      this.addPeak(-180 + (i + 0.5) * HIST_STEP_DEG);
+      this.addPeak(-180 + (i + 0.5) * HIST_STEP_DEG, total);
     }
   }
 
-  /** The evidence-weighted mean direction of the bins near centre (degrees), inserted in order of evidence. */
-  private addPeak(centre: number): void {
+  /**
+   * The evidence-weighted mean direction of the bins near centre (degrees), inserted in order of
+   * evidence, when it holds PEAK_MIN_SHARE of the hop's bin evidence (total) or RUNS_MIN_SHARE
+   * in SEVERAL_RUNS runs.
+   */
+  private addPeak(centre: number, total: number): void {
     let mass = 0;
+    let runs = 0;
+    let run = 0;
     let off = 0;
     let elSum = 0;
     let elMass = 0;
     for (let i = 0; i < this.binMass.length; i++) {
       const m = this.binMass[i]!;
-      if (!(m > 0)) continue;
       const d = wrap(this.binAz[i]! - centre);
-      if (Math.abs(d) > PEAK_HALF_WIDTH_DEG) continue;
+      if (!(m > 0) || Math.abs(d) > PEAK_HALF_WIDTH_DEG) {
+        if (run >= 2) runs++;
+        run = 0;
+        continue;
+      }
+      run++;
       mass += m;
       off += m * d;
       const el = this.binEl[i]!;
@@ -197,19 +223,41 @@ export class BinDirections {
         elMass += m;
       }
     }
-    if (!(mass > 0)) return;
+    if (run >= 2) runs++;
+    if (!(mass > 0) || (mass < PEAK_MIN_SHARE * total && runs < SEVERAL_RUNS)) return;
+    const az = wrap(centre + off / mass);
+    // Two histogram maxima a step apart can refine to one direction: keep the heavier.
+    for (let j = 0; j < this.peakCount; j++) {
+      if (Math.abs(wrap(this.peakAz[j]! - az)) >= SAME_PEAK_DEG) continue;
+      if (this.peakMass[j]! >= mass) return;
+      this.removePeak(j);
+      break;
+    }
     let pos = Math.min(this.peakCount, MAX_BIN_PEAKS - 1);
     if (this.peakCount === MAX_BIN_PEAKS && !(mass > this.peakMass[pos]!)) return;
     while (pos > 0 && this.peakMass[pos - 1]! < mass) {
       this.peakAz[pos] = this.peakAz[pos - 1]!;
       this.peakEl[pos] = this.peakEl[pos - 1]!;
       this.peakMass[pos] = this.peakMass[pos - 1]!;
+      this.peakRuns[pos] = this.peakRuns[pos - 1]!;
       pos--;
     }
-    this.peakAz[pos] = wrap(centre + off / mass);
+    this.peakAz[pos] = az;
     this.peakEl[pos] = elMass > 0 ? elSum / elMass : NaN;
     this.peakMass[pos] = mass;
+    this.peakRuns[pos] = runs;
     if (this.peakCount < MAX_BIN_PEAKS) this.peakCount++;
+  }
+
+  /** Drop peak j (the later ones move up). */
+  private removePeak(j: number): void {
+    for (let i = j + 1; i < this.peakCount; i++) {
+      this.peakAz[i - 1] = this.peakAz[i]!;
+      this.peakEl[i - 1] = this.peakEl[i]!;
+      this.peakMass[i - 1] = this.peakMass[i]!;
+      this.peakRuns[i - 1] = this.peakRuns[i]!;
+    }
+    this.peakCount--;
   }
 }
 

@@ -9,7 +9,7 @@ import type { Direction, DirectionModel } from '../direction/direction-model.js'
 import { wrapDeg } from '../geometry/vec3.js';
 import type { ResolvedAnalysis } from './analysis-options.js';
 import { BandFusion, MIN_SUPPORT, type FusionResult } from './band-fusion.js';
-import { BinDirections, MAX_BIN_PEAKS } from './bin-directions.js';
+import { BinDirections, MAX_BIN_PEAKS, SEVERAL_RUNS } from './bin-directions.js';
 import { confidenceOf, type ConfidenceFeatures } from './confidence.js';
 
 /** Candidates whose pair lags all differ by less than this (samples) are one peak. */
@@ -28,6 +28,23 @@ const BIN_SOURCE_APART_DEG = 15;
  * two sources; at 0.5 and 0.65 of the winner's peak 7 (0.65 lost more quiet callers).
  */
 const BIN_SOURCE_RATIO = 0.5;
+/**
+ * A bin peak of several runs (./bin-directions.ts: a caller's harmonics, or stretches of its
+ * band, reading one direction) is a further source when it holds this share of the winner's bin
+ * peak, scored at least RUNS_SCORE: a passer calling with a chorus fills a few bins against the
+ * chorus' many but is no less sure a caller, and scored by its share alone (about 0.2) it would
+ * never open an event (the tracker's event-enter confidence is 0.5). Heard that way it is a
+ * source `underLouder`: as its call ends the bins read a blend of it and the louder caller, which
+ * walked a passer's track onto a chorus when such sources moved tracks (the tracker lets them
+ * support a track, not move or start one). Chosen on the motion matrix, ten draws (share of
+ * sources >= 80 % complete summed in per cent / id switches / tracks holding two sources):
+ * without the rule 766 / 96 / 16; ratio 0.15 and score 0.6 with such sources moving tracks
+ * 778 / 127 / 19; not moving them 782 / 92 / 18; ratio 0.1 782 / 92 / 15 (kept). On four of the
+ * draws (2027, 1001, 1313, 6060) at ratio 0.15: score 0.5 296 / 40 / 5, 0.6 304 / 42 / 6, 1.0
+ * 304 / 43 / 7; at score 0.6: ratio 0.05 and 0.1 304 / 40 / 3, 0.25 304 / 42 / 6.
+ */
+const RUNS_SOURCE_RATIO = 0.1;
+const RUNS_SCORE = 0.6;
 /**
  * ... and a further source of the fusion with a bin peak this near is read at the peak (its lags
  * were bent by the louder caller's bands) when at least BIN_CORRECT_LOW_SHARE of its band support
@@ -120,7 +137,11 @@ export interface HopResult {
   /** Sources found, strongest first. */
   sourceCount: number;
   /** centreHz: the centre frequency of the bands that support the source (support-weighted), Hz; NaN for a source of the bins. */
-  sources: { azimuthDeg: number; elevationDeg: number | null; score: number; centreHz: number }[];
+  /**
+   * underLouder: a caller heard only under a louder one, from a few bins (a bin peak of several
+   * runs, addBinSources): its direction may be a blend of the two as its call ends.
+   */
+  sources: { azimuthDeg: number; elevationDeg: number | null; score: number; centreHz: number; underLouder: boolean }[];
   /** Band fusion: support given (relative to the strongest band, [0, 1]) and candidate supported (-1 none), per band. */
   bandVoteWeight: Float64Array;
   bandVoteCandidate: Int32Array;
@@ -396,7 +417,7 @@ export class HopAnalyzer {
       tdoaS: new Float64Array(P),
       pairOwnTdoaS: new Float64Array(P),
       sourceCount: 0,
-      sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0, centreHz: NaN })),
+      sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0, centreHz: NaN, underLouder: false })),
       bandVoteWeight: new Float64Array(options.bands),
       bandVoteCandidate: new Int32Array(options.bands),
       bandVoteTdoaS: new Float64Array(options.bands),
@@ -750,6 +771,7 @@ export class HopAnalyzer {
       src.azimuthDeg = this.dir.azimuthDeg;
       src.elevationDeg = this.dir.elevationDeg;
       src.centreHz = support.centreHz;
+      src.underLouder = false;
       if (res.sourceCount === 0) {
         this.setWinner(res, f, fusion.totalEvidence, fusedTotal, support, P);
         src.score = 1;
@@ -797,7 +819,9 @@ export class HopAnalyzer {
    * SOURCE_RATIO of the winner's fused evidence: a further source of the fusion supported mostly
    * below the bins' top frequency is read at the nearest peak within BIN_CORRECT_DEG (not the
    * winner's); a peak BIN_SOURCE_APART_DEG from every source holding BIN_SOURCE_RATIO of the
-   * winner's is a further source, scored by that ratio. The winner keeps the fusion's answer,
+   * winner's is a further source, scored by that ratio, and so is a peak of several runs holding
+   * RUNS_SOURCE_RATIO of it, scored at least RUNS_SCORE (underLouder when it holds less than
+   * BIN_SOURCE_RATIO). The winner keeps the fusion's answer,
    * unless it lies between two bin peaks (two callers heard as one: splitMergedWinner).
    */
   private addBinSources(res: HopResult, bins: BinDirections, winFused: number): void {
@@ -839,17 +863,20 @@ export class HopAnalyzer {
       src.azimuthDeg = bins.peakAz[best]!;
       if (src.elevationDeg !== null && bins.peakEl[best] === bins.peakEl[best]) src.elevationDeg = bins.peakEl[best]!;
     }
-    for (let j = 0; j < usable && res.sourceCount < this.options.maxSources; j++) {
+    for (let j = 0; j < count && res.sourceCount < this.options.maxSources; j++) {
       const az = bins.peakAz[j]!;
-      if (bins.peakMass[j]! < BIN_SOURCE_RATIO * ref) continue;
+      const mass = bins.peakMass[j]!;
+      const runs = bins.peakRuns[j]! >= SEVERAL_RUNS && mass >= RUNS_SOURCE_RATIO * ref;
+      if (!runs && (j >= usable || mass < BIN_SOURCE_RATIO * ref)) continue;
       let apart = true;
       for (let i = 0; i < res.sourceCount && apart; i++) apart = Math.abs(wrapDeg(az - res.sources[i]!.azimuthDeg)) > BIN_SOURCE_APART_DEG;
       if (!apart) continue;
       const src = res.sources[res.sourceCount++]!;
       src.azimuthDeg = az;
       src.elevationDeg = winner.elevationDeg === null || bins.peakEl[j] !== bins.peakEl[j] ? null : bins.peakEl[j]!;
-      src.score = Math.min(1, bins.peakMass[j]! / ref);
+      src.score = Math.min(1, Math.max(runs ? RUNS_SCORE : 0, mass / ref));
       src.centreHz = NaN;
+      src.underLouder = runs && mass < BIN_SOURCE_RATIO * ref;
     }
   }
 

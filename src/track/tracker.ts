@@ -21,9 +21,10 @@
  * 3. assign candidates to confirmed tracks by global nearest neighbour (assignment.ts), then
  *    the leftovers to tentative tracks, and update the assigned tracks (a hop whose own spectra
  *    do not support its answer, HELD_Z, or that is below both event-enter levels, tooWeakToMove,
- *    supports its track without moving it);
- * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate
- *    and not near the zenith (ZENITH_DEG), starts a
+ *    or a candidate heard only under a louder caller, underLouder, supports its track without
+ *    moving it);
+ * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate,
+ *    not near the zenith (ZENITH_DEG) and not heard only under a louder caller, starts a
  *    tentative track; it is confirmed (and gets the next track id) after confirmHits supported
  *    hops within confirmWindow hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
@@ -207,6 +208,8 @@ export class Tracker {
   private readonly candUsable: Uint8Array;
   private readonly candTaken: Uint8Array;
   private readonly candGated: Uint8Array;
+  /** Per candidate: 0 for one heard under a louder caller (DirectionCandidate.underLouder), which neither starts nor moves a track. */
+  private readonly candFirm: Uint8Array;
   /** Per slot: 1 when the track is settled (see above); its home (working angle) and home variance. */
   private readonly settled: Uint8Array;
   /** Per slot: 1 once the track has settled with a still rate (kept while its spread stays within the noise). */
@@ -293,6 +296,7 @@ export class Tracker {
     this.candUsable = new Uint8Array(c);
     this.candTaken = new Uint8Array(c);
     this.candGated = new Uint8Array(c);
+    this.candFirm = new Uint8Array(c);
     this.settled = new Uint8Array(n);
     this.still = new Uint8Array(n);
     this.homeAz = new Float64Array(n);
@@ -458,6 +462,7 @@ export class Tracker {
       sc.candAz[j] = this.sideDeg === null ? az : foldedOffsetDeg(az, this.sideDeg);
       sc.candEl[j] = el === null ? NaN : el;
       sc.candScore[j] = c.score;
+      this.candFirm[j] = c.underLouder === true ? 0 : 1;
       // The centre of a source heard alone: in a hop with several, the louder caller's candidate
       // wins the bands they share and each one's centre says more about the split than the call.
       sc.candLogHz[j] = obs.candidates.length === 1 && c.centreHz !== undefined && c.centreHz > 0 ? Math.log2(c.centreHz) : NaN;
@@ -696,7 +701,7 @@ export class Tracker {
         this.el.init(s);
         this.loadMeasurement(s, j);
         this.az.update(s);
-      } else if (!(sc.hop[FRESH_Z]! < HELD_Z) && !this.tooWeakToMove(j)) {
+      } else if (!(sc.hop[FRESH_Z]! < HELD_Z) && !this.tooWeakToMove(j) && this.candFirm[j] === 1) {
         // A direction the hop's own spectra do not support (the analysis' memory of a call that
         // has ended), or one below both event-enter levels, keeps the track alive and its event
         // open, but does not move it.
@@ -741,7 +746,7 @@ export class Tracker {
     const sc = this.sc;
     for (let j = 0; j < nC; j++) {
       if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
-      if (sc.hop[CONFIDENCE]! * sc.candScore[j]! < o.birthConfidence) continue;
+      if (sc.hop[CONFIDENCE]! * sc.candScore[j]! < o.birthConfidence || this.candFirm[j] === 0) continue;
       if (Math.abs(sc.candEl[j]!) > ZENITH_DEG) continue;
       if (this.candGated[j] === 1 || this.candHome[j] === 1 || this.withinAnyGate(j)) continue;
       let s = 0;

@@ -9,6 +9,11 @@ export interface DirectionCandidate {
   score: number;
   /** Centre frequency of what the candidate heard, Hz (NaN or absent when unknown): keeps callers in different bands on different tracks. */
   centreHz?: number;
+  /**
+   * True for a caller heard only under a louder one (the analysis' HopResult sources): it keeps a
+   * track alive and its event open, but neither moves nor starts a track.
+   */
+  underLouder?: boolean;
 }
 
 /** What the analysis core hands the tracker once per hop. */
