@@ -179,7 +179,7 @@ export class BinDirections {
     return this.peakCount;
   }
 
-  /** Local maxima of the 3-bin smoothed histogram holding RUNS_MIN_SHARE, best first, each refined on its bins (addPeak). */
+  /** Local maxima of the 3-bin smoothed histogram holding RUNS_MIN_SHARE, each refined on its bins and kept best first (addPeak). */
   private findPeaks(total: number): void {
     const h = this.hist;
     const s = this.smooth;
@@ -187,11 +187,22 @@ export class BinDirections {
     const last = HIST_SIZE - 1;
     for (let i = 0; i < HIST_SIZE; i++) s[i] = h[i === 0 ? last : i - 1]! + h[i]! + h[i === last ? 0 : i + 1]!;
     const least = RUNS_MIN_SHARE * total;
+    const plain = PEAK_MIN_SHARE * total;
+    // Of the maxima below PEAK_MIN_SHARE (a peak of runs at best) only the two highest are
+    // looked at: each look is a pass over the bins, and noise has many small maxima.
+    let low1 = -1;
+    let low2 = -1;
     for (let i = 0; i < HIST_SIZE; i++) {
       const v = s[i]!;
       if (!(v >= least) || !(v > s[i === 0 ? last : i - 1]!) || !(v >= s[i === last ? 0 : i + 1]!)) continue;
-      this.addPeak(-180 + (i + 0.5) * HIST_STEP_DEG, total);
+      if (v >= plain) this.addPeak(-180 + (i + 0.5) * HIST_STEP_DEG, total);
+      else if (low1 < 0 || v > s[low1]!) {
+        low2 = low1;
+        low1 = i;
+      } else if (low2 < 0 || v > s[low2]!) low2 = i;
     }
+    if (low1 >= 0) this.addPeak(-180 + (low1 + 0.5) * HIST_STEP_DEG, total);
+    if (low2 >= 0) this.addPeak(-180 + (low2 + 0.5) * HIST_STEP_DEG, total);
   }
 
   /**
