@@ -219,8 +219,9 @@ export class BinDirections {
     let elMass = 0;
     for (let i = 0; i < this.binMass.length; i++) {
       const m = this.binMass[i]!;
-      const d = wrap(this.binAz[i]! - centre);
-      if (!(m > 0) || Math.abs(d) > PEAK_HALF_WIDTH_DEG) {
+      const d = m > 0 ? wrap(this.binAz[i]! - centre) : Infinity;
+      if (!(Math.abs(d) <= PEAK_HALF_WIDTH_DEG)) {
+        // a bin outside the peak ends a run of its bins
         if (run >= 2) runs++;
         run = 0;
         continue;

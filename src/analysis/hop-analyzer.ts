@@ -298,6 +298,9 @@ export class HopAnalyzer {
     const bins = n / 2 + 1;
     const P = model.pairs.length;
     const candidates = options.maxCandidates;
+    // The fresh coherence of many pairs: unit spectra with the channels side by side, four pairs a pass.
+    const units = unitLayout(channels);
+    this.unitLayout = units;
     this.leadsPair = new Uint8Array(channels);
     for (const [a] of model.pairs) this.leadsPair[a] = 1;
     let leaders = 0;
@@ -309,8 +312,8 @@ export class HopAnalyzer {
         ? GccKernels.create(
             GccKernels.bytesFor(
               [...new Array<number>(channels + leaders + 4 + 2 * P).fill(bins), options.bands * candidates, options.bands, options.bands, options.bands, options.bands, ...new Array<number>(channels + 1).fill(n)],
-              [...new Array<number>(channels + 2).fill(n), bins, 2 * P, P > 1 ? bins * unitLayout(channels).stride : 0, 4],
-              [options.bands, ...new Array<number>(Math.ceil(P / 4)).fill(32 * unitLayout(channels).nv)],
+              [...new Array<number>(channels + 2).fill(n), bins, 2 * P, P > 1 ? bins * units.stride : 0, 4],
+              [options.bands, ...new Array<number>(Math.ceil(P / 4)).fill(32 * units.nv)],
             ) +
               8 * options.bands +
               OnsetWeigher.kernelBytes(bins),
@@ -377,8 +380,6 @@ export class HopAnalyzer {
     this.refineScratch = new Float64Array(2 * P);
     this.refineActive = new Uint8Array(P);
     this.order = new Int32Array(candidates);
-    // The fresh coherence of many pairs: unit spectra with the channels side by side, four pairs a pass.
-    this.unitLayout = unitLayout(channels);
     this.unitSpectra = P > 1 ? (k ? k.f32(bins * this.unitLayout.stride) : new Float32Array(bins * this.unitLayout.stride)) : null;
     this.freshOut = k ? k.f32(4) : new Float32Array(4);
     const groups = P > 1 ? Math.ceil(P / 4) : 0;
