@@ -653,6 +653,8 @@ export class Tracker {
         this.cost[i * stride + j] = Infinity;
         this.costAtRest[i * stride + j] = 0;
         if (this.candUsable[j] === 0 || this.candTaken[j] === 1 || this.otherBand(s, j)) continue;
+        // One heard only under a louder caller does not confirm a track either.
+        if (which !== CONFIRMED && this.candFirm[j] === 0) continue;
         if (this.candHome[j] === 1 && this.settled[s] === 0 && this.sc.hop[TIME]! - this.lastFreeT[s]! > PASSING_S) continue;
         if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !this.nearZenith(s)) continue;
         if (this.gate(s, j)) {
@@ -693,7 +695,7 @@ export class Tracker {
       if (j < 0) continue;
       const sc = this.sc;
       if (this.chosenAtRest[s] === 1) this.restartAtRest(s);
-      if (sc.candEl[j] === sc.candEl[j] && this.hasEl[s] === 0) {
+      if (sc.candEl[j] === sc.candEl[j] && this.hasEl[s] === 0 && this.candFirm[j] === 1) {
         // First elevation for this track: start its elevation filter.
         this.hasEl[s] = 1;
         this.el.io[IO_Z] = sc.candEl[j]!;
@@ -735,6 +737,8 @@ export class Tracker {
     if (this.candHomeAz[j] === 0) this.lastFreeT[s] = this.sc.hop[TIME]!;
     this.hopCount[s] = this.hopCount[s]! + 1;
     this.lifetime.add(s, j);
+    // (one heard only under a louder caller did not update the filters: the resting place stays)
+    if (this.candFirm[j] === 0) return;
     this.restAz[s] = this.az.angle[s]!;
     this.restAzVar[s] = this.az.variance(s);
     this.restEl[s] = this.hasEl[s] === 1 ? this.el.angle[s]! : NaN;

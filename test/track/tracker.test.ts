@@ -905,6 +905,47 @@ describe('a passer heard under a louder chorus (candidates underLouder)', () => 
     expect(r.passerCallsWithEvent).toBeGreaterThanOrEqual(17);
   });
 
+  /** Hops of 10 ms from t0 for `seconds`, each with the candidates cands(t); returns the events and the track ids reported. */
+  function feed(tracker: Tracker, t0: number, seconds: number, cands: (t: number) => { azimuthDeg: number; elevationDeg: number | null; score: number; underLouder?: boolean }[]) {
+    const events: EventRecord[] = [];
+    const ids = new Set<number>();
+    for (let t = t0; t < t0 + seconds - 1e-9; t += 0.01) {
+      const candidates = cands(t);
+      const sounding = candidates.length > 0;
+      const u = tracker.update({ timeS: t, levelDbfs: -30, snrDb: sounding ? 30 : 0, onset: 0, confidence: sounding ? 1 : 0, candidates, freshZ: sounding ? 20 : 0 });
+      events.push(...u.events);
+      for (const id of u.trackIds) if (id !== null && id !== undefined) ids.add(id);
+    }
+    return { events, ids };
+  }
+
+  it('confirm no track: a tentative track born of one firm hop and fed only such candidates stays unconfirmed', () => {
+    const tracker = new Tracker({});
+    const firm = feed(tracker, 0.005, 0.01, () => [{ azimuthDeg: 50, elevationDeg: null, score: 1 }]);
+    const heard = feed(tracker, 0.015, 1, () => [{ azimuthDeg: 50, elevationDeg: null, score: 0.6, underLouder: true }]);
+    const events = [...firm.events, ...heard.events, ...tracker.finish()];
+    expect(firm.ids.size + heard.ids.size).toBe(0);
+    expect(events).toEqual([]);
+  });
+
+  it('on a flat array, one with an elevation far from the caller\'s neither starts the track\'s elevation nor shuts the caller out', () => {
+    // A track known only by azimuth (the analysis gave no elevation); under a louder caller a
+    // further source near it reads 60 deg up (a lobe); then the caller calls alone, 5 deg up.
+    // Started from that reading, the track's elevation shut its own caller out (more than
+    // FLAT_ELEVATION_GATE_DEG away) and each call began another track (motion matrix draw 77, cho04).
+    const square = loadGeometryFile(fileURLToPath(new URL('../../configs/arrays/square-10cm.json', import.meta.url)));
+    const tracker = new Tracker({ mirror: mirrorOf(square) });
+    const calling = (t: number) => t % 0.7 < 0.3;
+    const a = feed(tracker, 0.005, 3, (t) => (calling(t) ? [{ azimuthDeg: 30, elevationDeg: null, score: 1 }] : []));
+    const b = feed(tracker, 3.005, 1, (t) => (calling(t) ? [{ azimuthDeg: 31, elevationDeg: 60, score: 0.6, underLouder: true }] : []));
+    const c = feed(tracker, 4.005, 4, (t) => (calling(t) ? [{ azimuthDeg: 30, elevationDeg: 5, score: 1 }] : []));
+    const events = [...a.events, ...b.events, ...c.events, ...tracker.finish()];
+    const late = events.filter((e) => e.start_s > 4);
+    console.log(`flat array: tracks ${[...new Set(events.map((e) => e.track))].join(', ')}, events after 4 s ${late.length}`);
+    expect(new Set(events.map((e) => e.track)).size).toBe(1);
+    expect(late.length).toBeGreaterThanOrEqual(5);
+  });
+
   it('not flagged, the blends after its calls move the passer track (the check above can fail)', () => {
     const r = run(false);
     console.log(`under the chorus, not flagged: passer on tracks ${r.passerTracks.join(', ')}, chorus on ${r.chorusTracks.join(', ')}, chorus events on the passer track ${r.chorusOnPasser}, passer calls with an event ${r.passerCallsWithEvent} of 19`);
