@@ -792,10 +792,22 @@ export class Tracker {
   private withinAnyGate(j: number): boolean {
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] === FREE || this.otherBand(s, j)) continue;
+      if (this.flat && this.nearZenith(s) && this.belowOnFlat(s, j)) continue;
       if (this.gate(s, j, false)) return true;
     }
     return false;
   }
+  /**
+   * On a flat array: does candidate j read more than FLAT_ELEVATION_GATE_DEG lower (nearer the
+   * horizon) than track s? Such a track cannot take it (gate()'s elevation rule) and does not keep
+   * it from starting a track of its own: wind and sound from overhead read high on a flat array
+   * and their tracks' azimuth gates are wide, while a lobe of a caller reads higher than its caller.
+   */
+  private belowOnFlat(s: number, j: number): boolean {
+    const ref = this.restEl[s]!;
+    return this.hasEl[s] === 1 && ref - this.sc.candEl[j]! > FLAT_ELEVATION_GATE_DEG;
+  }
+
   private tentativeBookkeeping(): void {
     const o = this.options;
     for (let s = 0; s < this.size; s++) {

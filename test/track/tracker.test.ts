@@ -749,6 +749,25 @@ describe('a flat array: elevations are followed but do not split or steal (issue
     }
   });
 
+  it("wind's track high up does not keep a caller near the horizon in its azimuth gate from a track of its own", () => {
+    // Wind read at 72-77 deg of elevation from the start, its azimuth wandering 30 +- 15 deg: its
+    // track's azimuth gate is wide (a near-zenith track's azimuth noise is widened). A caller at 38
+    // deg, 8 deg up, starts calling at 4 s. The wind track cannot take its candidates (they are
+    // more than FLAT_ELEVATION_GATE_DEG below it); before this rule they also started no track
+    // (they lay in its gate) and the caller had no event (motion matrix draw 555, cho02).
+    const wind: TruthSource = { azimuthAt: (t) => 30 + 15 * Math.sin(3 * t), elevationAt: (t) => 74.5 + 2.5 * Math.sin(11 * t), calls: bursts(0, 0.3, 0.1, 12), levelDbfs: -30 };
+    const caller: TruthSource = { azimuthAt: () => 38, elevationAt: () => 8, calls: bursts(4, 0.2, 0.5, 12), levelDbfs: -25 };
+    for (const seed of [61, 62, 63]) {
+      const synth = generateHops([wind, caller], { durationS: 12, hopS: 0.01, seed, noiseDeg: 1, clutter: 0, dropout: 0.05 });
+      const r = run(synth, { mirror: flat });
+      const callerId = majority(idsOfSource(synth, r, 1).map((x) => x.id));
+      const callerEvents = r.events.filter((e) => e.track === callerId && e.start_s > 4 && Math.abs(angleDiffDeg(e.azimuth_deg, 38)) < 4);
+      console.log(`seed ${seed}: caller on track ${callerId}, ${callerEvents.length} events there at its bearing (11 calls)`);
+      expect(callerId).not.toBeNull();
+      expect(callerEvents.length).toBeGreaterThanOrEqual(9);
+    }
+  });
+
   it('candidates near the zenith in the chorus pauses do not feed the chorus track: its events stay at its bearing', () => {
     // Sound reaching every mic at once reads as straight overhead with an azimuth that means nothing.
     const overhead: TruthSource = { azimuthAt: (t) => 30 + 40 * Math.sin(7 * t), elevationAt: () => 86, calls: bursts(0.55, 0.3, 0.4, 12), levelDbfs: -30 };
