@@ -8,6 +8,7 @@
  */
 import { afterAll, describe, expect, it } from 'vitest';
 import { indexTruth } from '../../src/accuracy/truth.js';
+import type { FrameRecord } from '../../src/records/record-types.js';
 import { wrapDeg } from '../../src/geometry/vec3.js';
 import { DEG, render, scanFrames, truthOf } from '../accuracy/helpers.js';
 import { tempDir } from '../helpers/temp-dir.js';
@@ -27,31 +28,44 @@ const scene = (sources: unknown[], seed: number) => ({
   noise: { floor_dbfs: -60, wind_dbfs: -50 },
 });
 
+/** The hop's sources when it reports a direction (valid: its answer is confident and something sounds). */
+function reported(f: FrameRecord): number[] {
+  return f.azimuth_deg === null ? [] : (f.sources ?? []).map((s) => s.azimuth_deg).filter((x): x is number => x !== null);
+}
+
+/**
+ * Of a rendering's hops where `caller` calls, those with a reported source within `nearDeg` of
+ * `bearingDeg`: while another source calls too (shared) and alone.
+ */
+function hopsOf(wav: string, caller: string, bearingDeg: number, nearDeg: number) {
+  const truth = indexTruth(truthOf(wav));
+  const r = { shared: 0, sharedFound: 0, alone: 0, aloneFound: 0, withDirection: 0, frames: [] as FrameRecord[] };
+  for (const f of scanFrames(wav)) {
+    r.frames.push(f);
+    const active = truth.activeAt(f.time_s).map((t) => t.source);
+    if (!active.includes(caller)) continue;
+    const near = reported(f).some((x) => Math.abs(wrapDeg(x - bearingDeg)) <= nearDeg);
+    if (active.length > 1) {
+      r.shared++;
+      if (near) r.sharedFound++;
+    } else {
+      r.alone++;
+      if (near) r.aloneFound++;
+    }
+  }
+  return r;
+}
+
 describe('a caller under a louder chorus, heard in its own bins', () => {
   it('is reported on its hops that overlap the chorus, with few directions near neither', () => {
     const wav = render(tmp.dir, 'masked', scene([CHORUS, CALLER], 21));
-    const truth = indexTruth(truthOf(wav));
-    let overlapped = 0;
-    let found = 0;
-    let alone = 0;
-    let aloneFound = 0;
+    const { shared: overlapped, sharedFound: found, alone, aloneFound, frames } = hopsOf(wav, 'caller', 94, 8);
     let withDirection = 0;
     let stray = 0;
-    for (const f of scanFrames(wav)) {
-      // The hop's sources when it reports a direction (valid: its answer is confident and something sounds).
-      const az = f.azimuth_deg === null ? [] : (f.sources ?? []).map((s) => s.azimuth_deg).filter((x): x is number => x !== null);
+    for (const f of frames) {
+      const az = reported(f);
       if (az.length > 0) withDirection++;
       if (az.some((x) => Math.abs(wrapDeg(x + 46)) > 10 && Math.abs(wrapDeg(x - 94)) > 10)) stray++;
-      const active = truth.activeAt(f.time_s).map((t) => t.source);
-      if (!active.includes('caller')) continue;
-      const near = az.some((x) => Math.abs(wrapDeg(x - 94)) <= 8);
-      if (active.length > 1) {
-        overlapped++;
-        if (near) found++;
-      } else {
-        alone++;
-        if (near) aloneFound++;
-      }
     }
     console.log(`caller under a chorus: found on ${found} of ${overlapped} overlapped hops, ${aloneFound} of ${alone} alone; a direction near neither on ${stray} of ${withDirection} hops with one`);
     expect(overlapped).toBeGreaterThan(30);
@@ -82,24 +96,7 @@ describe('a tone that starts as a broadband caller\'s call ends', () => {
         { name: 'b', position_m: at(-5, 12, 2.5), signal: { type: 'tone', f0_hz: 467, harmonics: [1, 0.5, 0.3] }, level: { dbfs_at_array: -26 }, calls: { start_s: 0.45, length_s: 0.12, every_s: 0.52, jitter_s: 0.05 } },
       ],
     });
-    const truth = indexTruth(truthOf(wav));
-    let shared = 0;
-    let sharedFound = 0;
-    let alone = 0;
-    let aloneFound = 0;
-    for (const f of scanFrames(wav)) {
-      const active = truth.activeAt(f.time_s).map((t) => t.source);
-      if (!active.includes('b')) continue;
-      const az = f.azimuth_deg === null ? [] : (f.sources ?? []).map((x) => x.azimuth_deg).filter((x): x is number => x !== null);
-      const near = az.some((x) => Math.abs(wrapDeg(x + 5)) <= 5);
-      if (active.length > 1) {
-        shared++;
-        if (near) sharedFound++;
-      } else {
-        alone++;
-        if (near) aloneFound++;
-      }
-    }
+    const { shared, sharedFound, alone, aloneFound } = hopsOf(wav, 'b', -5, 5);
     console.log(`tone after a broadband call: at its bearing on ${aloneFound} of ${alone} hops alone, ${sharedFound} of ${shared} shared`);
     // Before the rule (measured on this scene): 2 of 64 alone, 39 of 151 shared; with it 23 of 64, 54 of 151.
     expect(alone).toBeGreaterThan(40);
