@@ -22,8 +22,9 @@
  *    the leftovers to tentative tracks, and update the assigned tracks (a hop whose own spectra
  *    do not support its answer, HELD_Z, or that is below both event-enter levels, tooWeakToMove,
  *    or a candidate heard only under a louder caller, underLouder, supports its track without
- *    moving it);
- * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate,
+ *    moving it, and supports no tentative track);
+ * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate
+ *    (on a flat array a track near the zenith does not count for one far below it),
  *    not near the zenith (ZENITH_DEG) and not heard only under a louder caller, starts a
  *    tentative track; it is confirmed (and gets the next track id) after confirmHits supported
  *    hops within confirmWindow hops, else dropped;
@@ -797,11 +798,13 @@ export class Tracker {
     }
     return false;
   }
+
   /**
    * On a flat array: does candidate j read more than FLAT_ELEVATION_GATE_DEG lower (nearer the
-   * horizon) than track s? Such a track cannot take it (gate()'s elevation rule) and does not keep
-   * it from starting a track of its own: wind and sound from overhead read high on a flat array
-   * and their tracks' azimuth gates are wide, while a lobe of a caller reads higher than its caller.
+   * horizon) than track s? Such a track cannot take it (gate()'s elevation rule); one near the
+   * zenith does not keep it from starting a track of its own either (withinAnyGate): wind and
+   * sound from overhead read high on a flat array and their tracks' azimuth gates are wide, while
+   * a lobe of a caller reads higher than its caller.
    */
   private belowOnFlat(s: number, j: number): boolean {
     const ref = this.restEl[s]!;

@@ -11,7 +11,8 @@ export interface DirectionCandidate {
   centreHz?: number;
   /**
    * True for a caller heard only under a louder one (the analysis' HopResult sources): it keeps a
-   * track alive and its event open, but neither moves nor starts a track.
+   * confirmed track alive and its event open, but neither moves, starts nor confirms a track, nor
+   * gives it its first elevation.
    */
   underLouder?: boolean;
 }
