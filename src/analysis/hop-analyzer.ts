@@ -87,22 +87,22 @@ const FLOOR_WARMUP_HOPS = 4;
  */
 const FRESH_Z = 5;
 /**
- * A bin that a much louder sound enters (ENTER_RATIO times over its background within a hop,
- * ENTER_HELD times over the largest power it held lately, and not already rising the hop before:
- * its onset weight then below ENTER_RISING) forgets what its memory held. The memory weighs bins
- * by their onset, not their power, so a caller that starts as another's call ends, or while it
- * calls, was read from bins that still held the other's phase at the same weight: a tone 8 dB
- * over a broadband caller on a 10 cm square, calling as its calls end, was read at its own
- * bearing on 2 of its 64 hops alone (23 with the rule; test/analysis/masked-caller.test.ts).
- * Chosen on the motion matrix, ten draws (sources >= 80 % complete summed / id switches / tracks
- * holding two), and the accuracy matrix: without the rule 800 / 94 / 14; ratio 10 alone 822 / 93
- * / 23, but rooms lost 6 points within 5 deg (the second hop of every onset forgot the first);
- * with the rising test also 822 / 93 / 23 with rooms as before; held 2x 806 / 76 / 16 and held 4x
- * 803 / 79 / 14, but two and one dummy-head bursts cells then gave 1.17 events per call; held 8x
- * 805 / 79 / 14 (kept; held out: 2718 77 -> 80 %, 13 -> 9 switches; 4040 91 -> 92 %; 9999 70 %,
- * 12 -> 13, 3 -> 4).
+ * A bin that a much louder sound enters (ENTER_HELD times over the largest power it held lately,
+ * and not already rising the hop before: its onset weight then below ENTER_RISING) forgets what
+ * its memory held. The memory weighs bins by their onset, not their power, so a caller that
+ * starts as another's call ends, or while it calls, was read from bins that still held the
+ * other's phase at the same weight: a tone 8 dB over a broadband caller on a 10 cm square,
+ * calling as its calls end, was read at its own bearing on 2 of its 64 hops alone (23 with the
+ * rule; test/analysis/masked-caller.test.ts). Chosen on the motion matrix, ten draws (sources >=
+ * 80 % complete summed / id switches / tracks holding two), and the accuracy matrix: without the
+ * rule 800 / 94 / 14; a rise of 10x over the bin's background alone 822 / 93 / 23, but rooms lost
+ * 6 points within 5 deg (the second hop of every onset forgot the first); with the rising test
+ * also 822 / 93 / 23 with rooms as before; held 2x 806 / 76 / 16 and held 4x 803 / 79 / 14, but
+ * two and one dummy-head bursts cells then gave 1.17 events per call; held 8x 805 / 79 / 14
+ * (kept; held out: 2718 77 -> 80 %, 13 -> 9 switches; 4040 91 -> 92 %; 9999 70 %, 12 -> 13, 3 ->
+ * 4). With the held test at 8x, the rise over the background (10x or 5x) changed nothing: the
+ * held power is at least the background.
  */
-const ENTER_RATIO = 10;
 const ENTER_HELD = 8;
 const ENTER_RISING = 0.5;
 /** A band's evidence grows with its SNR up to this many dB. */
@@ -583,15 +583,15 @@ export class HopAnalyzer {
   }
 
   /**
-   * Bins that a much louder sound enters this hop (ENTER_RATIO) forget what their memory held,
+   * Bins that a much louder sound enters this hop (ENTER_HELD) forget what their memory held,
    * cross-spectrum and weight, before this hop is added: the new caller is read from its own
-   * sound. Runs before the onset weigher's update (it compares with the background and weights
+   * sound. Runs before the onset weigher's update (it compares with the held powers and weights
    * the hop before left). Only bins that still hold something are touched.
    */
   private forgetEnteredBins(power: Float64Array, k0: number, k1: number): void {
     const acc = this.weightAcc;
     const list = this.quietBins;
-    const found = this.onset.listEntered(power, k0, k1, this.weights, list, ENTER_RATIO, ENTER_HELD, ENTER_RISING);
+    const found = this.onset.listEntered(power, k0, k1, this.weights, list, ENTER_HELD, ENTER_RISING);
     let n = 0;
     for (let i = 0; i < found; i++) if (acc[list[i]!]! > QUIET_HELD) list[n++] = list[i]!;
     if (n === 0) return;

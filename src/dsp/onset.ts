@@ -202,22 +202,20 @@ export class OnsetWeigher {
 
   /**
    * The bins of [first, end) that a much louder sound enters this hop, written to `out` (call
-   * before update(), with the weights update() left the hop before): the power stands `ratio`
-   * times over the bin's background and `heldRatio` times over the largest power it held lately,
-   * and the bin was not already rising the hop before (its weight below `risingWeight`: the first
-   * hops of one onset are one arrival). Needs the quiet search (its held powers): without one, or
-   * before the first update(), none. Returns how many were written.
+   * before update(), with the weights update() left the hop before): the power stands `heldRatio`
+   * times over the largest power the bin held lately (so over its background too), and the bin
+   * was not already rising the hop before (its weight below `risingWeight`: the first hops of one
+   * onset are one arrival). Needs the quiet search (its held powers): without one, or before the
+   * first update(), none. Returns how many were written.
    */
-  listEntered(power: Float64Array, first: number, end: number, weights: Float64Array, out: Int32Array, ratio: number, heldRatio: number, risingWeight: number): number {
+  listEntered(power: Float64Array, first: number, end: number, weights: Float64Array, out: Int32Array, heldRatio: number, risingWeight: number): number {
     const held = this.held;
     if (!this.primed || held.length === 0) return 0;
-    const bg = this.background;
     let n = 0;
     for (let k = first; k < end; k++) {
-      const p = power[k]!;
       // The index is always written and kept only when the bin qualifies (no branch on noise).
       out[n] = k;
-      n += p > ratio * bg[k]! && p > heldRatio * held[k]! && weights[k]! < risingWeight ? 1 : 0;
+      n += power[k]! > heldRatio * held[k]! && weights[k]! < risingWeight ? 1 : 0;
     }
     return n;
   }

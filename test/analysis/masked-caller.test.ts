@@ -2,7 +2,7 @@
  * A caller heard under a louder one in the bins (src/analysis/bin-directions.ts, peaks of several
  * runs; src/analysis/hop-analyzer.ts, addBinSources): a steady low harmonic caller calling
  * through a pulsed chorus whose partials and pulse sidebands fill about three times as many of
- * the low bins. And a caller that starts as another's call ends (hop-analyzer.ts, ENTER_RATIO:
+ * the low bins. And a caller that starts as another's call ends (hop-analyzer.ts, ENTER_HELD:
  * bins a much louder sound enters forget what they held). Scenes rendered by the project's
  * simulator (its delays are checked against sox and numpy in test/sim/); truth from its truth file.
  */
