@@ -248,10 +248,7 @@ export class BinDirections {
     let pos = Math.min(this.peakCount, MAX_BIN_PEAKS - 1);
     if (this.peakCount === MAX_BIN_PEAKS && !(mass > this.peakMass[pos]!)) return;
     while (pos > 0 && this.peakMass[pos - 1]! < mass) {
-      this.peakAz[pos] = this.peakAz[pos - 1]!;
-      this.peakEl[pos] = this.peakEl[pos - 1]!;
-      this.peakMass[pos] = this.peakMass[pos - 1]!;
-      this.peakRuns[pos] = this.peakRuns[pos - 1]!;
+      this.copyPeak(pos - 1, pos);
       pos--;
     }
     this.peakAz[pos] = az;
@@ -263,13 +260,16 @@ export class BinDirections {
 
   /** Drop peak j (the later ones move up). */
   private removePeak(j: number): void {
-    for (let i = j + 1; i < this.peakCount; i++) {
-      this.peakAz[i - 1] = this.peakAz[i]!;
-      this.peakEl[i - 1] = this.peakEl[i]!;
-      this.peakMass[i - 1] = this.peakMass[i]!;
-      this.peakRuns[i - 1] = this.peakRuns[i]!;
-    }
+    for (let i = j + 1; i < this.peakCount; i++) this.copyPeak(i, i - 1);
     this.peakCount--;
+  }
+
+  /** Peak `from` written over peak `to`. */
+  private copyPeak(from: number, to: number): void {
+    this.peakAz[to] = this.peakAz[from]!;
+    this.peakEl[to] = this.peakEl[from]!;
+    this.peakMass[to] = this.peakMass[from]!;
+    this.peakRuns[to] = this.peakRuns[from]!;
   }
 }
 

@@ -591,9 +591,7 @@ export class HopAnalyzer {
   private forgetEnteredBins(power: Float64Array, k0: number, k1: number): void {
     const acc = this.weightAcc;
     const list = this.quietBins;
-    const found = this.onset.listEntered(power, k0, k1, this.weights, list, ENTER_HELD, ENTER_RISING);
-    let n = 0;
-    for (let i = 0; i < found; i++) if (acc[list[i]!]! > QUIET_HELD) list[n++] = list[i]!;
+    const n = this.stillHolding(list, this.onset.listEntered(power, k0, k1, this.weights, list, ENTER_HELD, ENTER_RISING), list);
     if (n === 0) return;
     for (let i = 0; i < n; i++) acc[list[i]!] = 0;
     this.scaleCrossSpectra(list, n, 0);
@@ -607,15 +605,17 @@ export class HopAnalyzer {
    * Only bins that still hold something are touched.
    */
   private forgetQuietBins(): void {
-    const acc = this.weightAcc;
-    const list = this.quietBins;
     // The bins that sound has left, found by the onset weigher's pass over the bins this hop.
-    const found = this.onset.quietList;
-    const quiet = this.onset.quietCount;
+    const n = this.stillHolding(this.onset.quietList, this.onset.quietCount, this.quietBins);
+    if (n > 0) this.scaleCrossSpectra(this.quietBins, n, this.quietForget);
+  }
+
+  /** Of the bins found[0 .. count), those whose weight memory still holds something (QUIET_HELD), written to out (may be found); returns how many. */
+  private stillHolding(found: Int32Array, count: number, out: Int32Array): number {
+    const acc = this.weightAcc;
     let n = 0;
-    for (let i = 0; i < quiet; i++) if (acc[found[i]!]! > QUIET_HELD) list[n++] = found[i]!;
-    if (n === 0) return;
-    this.scaleCrossSpectra(list, n, this.quietForget);
+    for (let i = 0; i < count; i++) if (acc[found[i]!]! > QUIET_HELD) out[n++] = found[i]!;
+    return n;
   }
 
   /** Every pair's cross-spectrum memory at the bins list[0 .. n) times r. */
