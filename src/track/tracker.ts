@@ -696,7 +696,10 @@ export class Tracker {
       if (j < 0) continue;
       const sc = this.sc;
       if (this.chosenAtRest[s] === 1) this.restartAtRest(s);
-      if (sc.candEl[j] === sc.candEl[j] && this.hasEl[s] === 0 && this.candFirm[j] === 1) {
+      // One heard only under a louder caller (underLouder) supports its track, never moves it.
+      const firm = this.candFirm[j] === 1;
+      let moved = firm;
+      if (firm && sc.candEl[j] === sc.candEl[j] && this.hasEl[s] === 0) {
         // First elevation for this track: start its elevation filter.
         this.hasEl[s] = 1;
         this.el.io[IO_Z] = sc.candEl[j]!;
@@ -704,14 +707,16 @@ export class Tracker {
         this.el.init(s);
         this.loadMeasurement(s, j);
         this.az.update(s);
-      } else if (!(sc.hop[FRESH_Z]! < HELD_Z) && !this.tooWeakToMove(j) && this.candFirm[j] === 1) {
+      } else if (firm && !(sc.hop[FRESH_Z]! < HELD_Z) && !this.tooWeakToMove(j)) {
+        if (this.loadMeasurement(s, j)) this.el.update(s);
+        this.az.update(s);
+      } else {
         // A direction the hop's own spectra do not support (the analysis' memory of a call that
         // has ended), or one below both event-enter levels, keeps the track alive and its event
         // open, but does not move it.
-        if (this.loadMeasurement(s, j)) this.el.update(s);
-        this.az.update(s);
+        moved = false;
       }
-      this.support(s, j);
+      this.support(s, j, moved);
     }
   }
 
@@ -732,14 +737,14 @@ export class Tracker {
     return sc.hop[SNR]! < o.eventEnterSnrDb && sc.hop[CONFIDENCE]! * sc.candScore[j]! < o.eventEnterConfidence;
   }
 
-  private support(s: number, j: number): void {
+  private support(s: number, j: number, moved = true): void {
     this.hits[s] = this.hits[s]! + 1;
     this.lastSupportT[s] = this.sc.hop[TIME]!;
     if (this.candHomeAz[j] === 0) this.lastFreeT[s] = this.sc.hop[TIME]!;
     this.hopCount[s] = this.hopCount[s]! + 1;
     this.lifetime.add(s, j);
-    // (one heard only under a louder caller did not update the filters: the resting place stays)
-    if (this.candFirm[j] === 0) return;
+    // A support that did not update the filters leaves the resting place where it was.
+    if (!moved) return;
     this.restAz[s] = this.az.angle[s]!;
     this.restAzVar[s] = this.az.variance(s);
     this.restEl[s] = this.hasEl[s] === 1 ? this.el.angle[s]! : NaN;
