@@ -244,6 +244,11 @@ export class OnsetWeigher {
     for (let b = 0; b < count; b++) out[b] = snrDbOfSums(sumPower[b]!, sumNoise[b]!);
   }
 
+  /** Per bin, the largest power it held lately, decaying (the quiet search's; empty without one; read-only). */
+  get heldPower(): Float64Array {
+    return this.held;
+  }
+
   /** The noise floor per bin (the kernels read it; read-only). */
   get noiseFloor(): Float64Array {
     return this.noise;

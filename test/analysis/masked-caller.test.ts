@@ -98,9 +98,11 @@ describe('a tone that starts as a broadband caller\'s call ends', () => {
     });
     const { shared, sharedFound, alone, aloneFound } = hopsOf(wav, 'b', -5, 5);
     console.log(`tone after a broadband call: at its bearing on ${aloneFound} of ${alone} hops alone, ${sharedFound} of ${shared} shared`);
-    // Before the rule (measured on this scene): 2 of 64 alone, 39 of 151 shared; with it 23 of 64, 54 of 151.
+    // Measured on this scene: before the rule 2 of 64 alone, 39 of 151 shared; with it 23 of 64,
+    // 54 of 151; with the second hop of an onset too (the memory from before the rise dropped) 41
+    // of 64, 113 of 151.
     expect(alone).toBeGreaterThan(40);
-    expect(aloneFound / alone).toBeGreaterThan(0.25);
-    expect(sharedFound / shared).toBeGreaterThan(0.3);
+    expect(aloneFound / alone).toBeGreaterThan(0.5);
+    expect(sharedFound / shared).toBeGreaterThan(0.5);
   });
 });
