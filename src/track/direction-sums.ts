@@ -80,6 +80,37 @@ export class DirectionSums {
     this.sumTA[slot] = 0;
   }
 
+  /**
+   * Add the directions of slot `from` (the older) to slot `into` (whose first direction came
+   * after from's last): into's drift sums are moved to from's first time and its unwrapped
+   * angle to from's turn of the circle. `from` is left as it was.
+   */
+  merge(from: number, into: number): void {
+    const wf = this.sumW[from]!;
+    if (!(wf > 0)) return;
+    const wi = this.sumW[into]!;
+    if (wi > 0) {
+      const dt = this.t0[into]! - this.t0[from]!;
+      const turn = this.mirrored ? 0 : 360 * Math.round((this.lastUnwrapped[from]! - this.sumA[into]! / wi) / 360);
+      const st = this.sumT[into]!;
+      const sa = this.sumA[into]!;
+      this.sumTA[into] = this.sumTA[into]! + turn * st + dt * sa + dt * turn * wi + this.sumTA[from]!;
+      this.sumTT[into] = this.sumTT[into]! + 2 * dt * st + dt * dt * wi + this.sumTT[from]!;
+      this.sumT[into] = st + dt * wi + this.sumT[from]!;
+      this.sumA[into] = sa + turn * wi + this.sumA[from]!;
+      this.lastUnwrapped[into] = this.lastUnwrapped[into]! + turn;
+    } else {
+      this.sumTA[into] = this.sumTA[from]!;
+      this.sumTT[into] = this.sumTT[from]!;
+      this.sumT[into] = this.sumT[from]!;
+      this.sumA[into] = this.sumA[from]!;
+      this.lastUnwrapped[into] = this.lastUnwrapped[from]!;
+      this.lastRaw[into] = this.lastRaw[from]!;
+    }
+    this.t0[into] = this.t0[from]!;
+    for (const a of [this.sumCos, this.sumSin, this.sumW, this.sumLin, this.sumLin2, this.sumEl, this.sumElW, this.sumEl2, this.sumLogHz, this.nLogHz]) a[into] = a[into]! + a[from]!;
+  }
+
   /** Add candidate j of the current hop, weighted by hop confidence x its score. */
   add(slot: number, j: number): void {
     const sc = this.scratch;

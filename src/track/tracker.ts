@@ -26,11 +26,13 @@
  * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate
  *    (on a flat array a track near the zenith does not count for one far below it),
  *    not near the zenith (ZENITH_DEG) and not heard only under a louder caller, starts a
- *    tentative track; it is confirmed (and gets the next track id) after confirmHits supported
- *    hops within confirmWindow hops, else dropped;
+ *    tentative track; it is confirmed (and gets the next track id, or a dormant track's id when
+ *    it lies within that track's gate) after confirmHits supported hops within confirmWindow
+ *    hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
- *    unsupported and die after trackTimeoutS without support (YOUNG_TIMEOUT_S while they have
- *    fewer than YOUNG_HOPS supported hops);
+ *    unsupported and die after trackTimeoutS without a support that moved them; a track of one
+ *    event or less that moved over less than DORMANT_SPAN_S is dormant after DORMANT_AFTER_S
+ *    without moving (it takes no candidate and blocks no birth, but lends its id, above);
  *    a *settled* confirmed track (followed for at least SETTLED_SPAN_S with a lifetime spread of
  *    at most bearingNoiseDeg: a static chorus) also keeps a home, its lifetime mean, and gates
  *    a candidate by its home as well as by its prediction. A candidate within a settled
@@ -97,15 +99,22 @@ const HOME_MIN_EL_SD_DEG = 6;
 const ZENITH_DEG = 78;
 const NEAR_ZENITH_TRACK_DEG = 58;
 /**
- * A confirmed track supported on fewer hops than this ... (a caller's single call gives 10-40)
+ * A confirmed track of at most DORMANT_EVENTS events whose supports that moved it span less than
+ * DORMANT_SPAN_S (one call, or a short blend of two callers) and that has not moved for
+ * DORMANT_AFTER_S is dormant: it takes no candidate and keeps none from starting a track, and a
+ * new track confirmed within its gate (prediction or resting place) takes its id instead of a
+ * new one. So a short-lived track of stray directions cannot take a caller passing its bearing
+ * seconds later (a blend of two choruses, its gate grown to 8 deg, took a passer's calls from the
+ * passer's own track, test/accuracy/motion-cells.test.ts), and a caller that calls once every few
+ * seconds keeps one id (such a track died after 2 s before: a new id per call). Motion matrix,
+ * ten draws (sources >= 80 % complete summed / id switches / tracks holding two): 825 / 81 / 16
+ * -> 825 / 77 / 16; without the event count (any track that moved over less than 2 s) 825 / 77 /
+ * 18: a crossing's second caller, read for 1.9 s and then taken by the first, lent its id to the
+ * first caller's new track.
  */
-const YOUNG_HOPS = 20;
-/**
- * ... dies after this long without support (or --track-timeout when shorter): a short-lived
- * track of stray directions (between two sources, or a reflection) does not coast for the
- * whole timeout near a bearing where a real caller may come and be taken by it.
- */
-const YOUNG_TIMEOUT_S = 2;
+const DORMANT_EVENTS = 1;
+const DORMANT_SPAN_S = 2;
+const DORMANT_AFTER_S = 2;
 /**
  * A confirmed track that is not settled is gated by two models of its caller (the two-model idea
  * of interacting-multiple-model tracking, common practice in manoeuvring-target tracking, no
@@ -193,6 +202,8 @@ export class Tracker {
   private readonly hits: Int32Array;
   private readonly age: Int32Array;
   private readonly lastSupportT: Float64Array;
+  /** Time of the last support that moved the track's filters (its timeout counts from there). */
+  private readonly lastMovedT: Float64Array;
   /** Time of the last support by a candidate outside every settled home. */
   private readonly lastFreeT: Float64Array;
   private readonly firstSeenT: Float64Array;
@@ -213,6 +224,8 @@ export class Tracker {
   private readonly candFirm: Uint8Array;
   /** Per slot: 1 when the track is settled (see above); its home (working angle) and home variance. */
   private readonly settled: Uint8Array;
+  /** Per slot, this hop: 1 for a dormant track (DORMANT_SPAN_S). */
+  private readonly dormant: Uint8Array;
   /** Per slot: 1 once the track has settled with a still rate (kept while its spread stays within the noise). */
   private readonly still: Uint8Array;
   private readonly homeAz: Float64Array;
@@ -282,6 +295,7 @@ export class Tracker {
     this.hits = new Int32Array(n);
     this.age = new Int32Array(n);
     this.lastSupportT = new Float64Array(n);
+    this.lastMovedT = new Float64Array(n);
     this.lastFreeT = new Float64Array(n);
     this.firstSeenT = new Float64Array(n);
     this.hopCount = new Float64Array(n);
@@ -299,6 +313,7 @@ export class Tracker {
     this.candGated = new Uint8Array(c);
     this.candFirm = new Uint8Array(c);
     this.settled = new Uint8Array(n);
+    this.dormant = new Uint8Array(n);
     this.still = new Uint8Array(n);
     this.homeAz = new Float64Array(n);
     this.homeVar = new Float64Array(n);
@@ -335,6 +350,7 @@ export class Tracker {
       this.chosen[s] = -1;
       this.chosenAtRest[s] = 0;
       this.settled[s] = 0;
+      this.dormant[s] = 0;
       if (this.state[s] === FREE) continue;
       const hold = this.hasNeighbour(s) ? 1 : 0;
       this.az.io[IO_HOLD_RATE] = hold;
@@ -342,6 +358,7 @@ export class Tracker {
       this.az.predict(s);
       if (this.hasEl[s] === 1) this.el.predict(s);
       if (this.state[s] === CONFIRMED) this.settle(s);
+      if (this.state[s] === CONFIRMED && this.settled[s] === 0 && this.isDormant(s)) this.dormant[s] = 1;
       if (this.state[s] === CONFIRMED && this.settled[s] === 0 && this.stillCaller(s)) this.restartAtRest(s);
       if (this.settled[s] === 1) {
         // A settled track is static: it is predicted at its home, and coasts without drifting or
@@ -363,15 +380,13 @@ export class Tracker {
     this.assignStage(TENTATIVE, nC);
     this.applyAssignments();
     this.births(nC);
-    this.tentativeBookkeeping();
-
-    let events: EventRecord[] | null = null;
+    let events = this.tentativeBookkeeping();
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] === FREE) continue;
       const track = this.state[s] === CONFIRMED ? this.id[s]! : -1;
       const ended = this.cutter.step(s, this.chosen[s]!, track);
       if (ended !== null) events = this.collect(events, s, ended);
-      if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastSupportT[s]! > this.timeoutOf(s)) {
+      if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastMovedT[s]! > this.options.trackTimeoutS) {
         const last = this.cutter.close(s, track);
         if (last !== null) events = this.collect(events, s, last);
         this.retire(s);
@@ -596,10 +611,9 @@ export class Tracker {
     if (this.hasEl[s] === 1 && this.restEl[s] === this.restEl[s]) this.el.restart(s, this.restEl[s]!, this.restElVar[s]! + grow2);
   }
 
-  /** How long slot s may go without support before it dies (YOUNG_HOPS). */
-  private timeoutOf(s: number): number {
-    const t = this.options.trackTimeoutS;
-    return this.hopCount[s]! < YOUNG_HOPS ? Math.min(YOUNG_TIMEOUT_S, t) : t;
+  /** Is confirmed, unsettled slot s dormant (DORMANT_SPAN_S)? */
+  private isDormant(s: number): boolean {
+    return this.eventCount[s]! <= DORMANT_EVENTS && this.lastMovedT[s]! - this.firstSeenT[s]! < DORMANT_SPAN_S && this.sc.hop[TIME]! - this.lastMovedT[s]! > DORMANT_AFTER_S;
   }
 
   /** Is slot s a settled track? If so, note its home. */
@@ -653,7 +667,7 @@ export class Tracker {
       for (let j = 0; j < nC; j++) {
         this.cost[i * stride + j] = Infinity;
         this.costAtRest[i * stride + j] = 0;
-        if (this.candUsable[j] === 0 || this.candTaken[j] === 1 || this.otherBand(s, j)) continue;
+        if (this.candUsable[j] === 0 || this.candTaken[j] === 1 || this.dormant[s] === 1 || this.otherBand(s, j)) continue;
         // One heard only under a louder caller does not confirm a track either.
         if (which !== CONFIRMED && this.candFirm[j] === 0) continue;
         if (this.candHome[j] === 1 && this.settled[s] === 0 && this.sc.hop[TIME]! - this.lastFreeT[s]! > PASSING_S) continue;
@@ -740,6 +754,7 @@ export class Tracker {
   private support(s: number, j: number, moved = true): void {
     this.hits[s] = this.hits[s]! + 1;
     this.lastSupportT[s] = this.sc.hop[TIME]!;
+    if (moved) this.lastMovedT[s] = this.sc.hop[TIME]!;
     if (this.candHomeAz[j] === 0) this.lastFreeT[s] = this.sc.hop[TIME]!;
     this.hopCount[s] = this.hopCount[s]! + 1;
     this.lifetime.add(s, j);
@@ -797,7 +812,7 @@ export class Tracker {
    */
   private withinAnyGate(j: number): boolean {
     for (let s = 0; s < this.size; s++) {
-      if (this.state[s] === FREE || this.otherBand(s, j)) continue;
+      if (this.state[s] === FREE || this.dormant[s] === 1 || this.otherBand(s, j)) continue;
       if (this.flat && this.nearZenith(s) && this.belowOnFlat(s, j)) continue;
       if (this.gate(s, j, false)) return true;
     }
@@ -816,20 +831,66 @@ export class Tracker {
     return this.hasEl[s] === 1 && ref - this.sc.candEl[j]! > FLAT_ELEVATION_GATE_DEG;
   }
 
-  private tentativeBookkeeping(): void {
+  /** Confirms or drops tentative tracks; returns the events that a revived dormant track still had open (see revive()). */
+  private tentativeBookkeeping(): EventRecord[] | null {
     const o = this.options;
+    let events: EventRecord[] | null = null;
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] !== TENTATIVE) continue;
       this.age[s] = this.age[s]! + 1;
       if (this.hits[s]! >= o.confirmHits) {
         this.state[s] = CONFIRMED;
-        this.id[s] = this.nextId++;
+        const d = this.dormantMatch(s);
+        if (d < 0) this.id[s] = this.nextId++;
+        else {
+          const open = this.cutter.close(d, this.id[d]!);
+          if (open !== null) events = this.collect(events, d, open);
+          this.revive(d, s);
+        }
       } else if (this.age[s]! >= o.confirmWindow) {
         this.state[s] = FREE;
         this.cutter.reset(s);
         this.chosen[s] = -1;
       }
     }
+    return events;
+  }
+
+  /** The dormant track in whose gate (prediction or resting place) slot s's candidate of this hop lies, the cheapest; -1 for none. */
+  private dormantMatch(s: number): number {
+    const j = this.chosen[s]!;
+    let best = -1;
+    let bestCost = Infinity;
+    if (j < 0) return best;
+    for (let d = 0; d < this.size; d++) {
+      if (this.dormant[d] === 0 || this.state[d] !== CONFIRMED || this.otherBand(d, j)) continue;
+      if (this.gate(d, j) && this.d2[0]! < bestCost) {
+        bestCost = this.d2[0]!;
+        best = d;
+      }
+      if (this.restGate(d, j) && this.d2[0]! < bestCost) {
+        bestCost = this.d2[0]!;
+        best = d;
+      }
+    }
+    return best;
+  }
+
+  /**
+   * Newly confirmed slot s is dormant slot d's caller calling again: s takes d's id and history
+   * (its lifetime directions, hops, events, first sighting) and d is freed. s keeps its own
+   * filters and open event.
+   */
+  private revive(d: number, s: number): void {
+    this.id[s] = this.id[d]!;
+    this.hopCount[s] = this.hopCount[s]! + this.hopCount[d]!;
+    this.eventCount[s] = this.eventCount[d]!;
+    this.activeS[s] = this.activeS[d]!;
+    this.firstSeenT[s] = this.firstSeenT[d]!;
+    this.lastFreeT[s] = Math.max(this.lastFreeT[s]!, this.lastFreeT[d]!);
+    this.lifetime.merge(d, s);
+    this.state[d] = FREE;
+    this.cutter.reset(d);
   }
 
   private collect(events: EventRecord[] | null, s: number, record: EventRecord): EventRecord[] {

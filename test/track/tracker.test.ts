@@ -388,15 +388,36 @@ describe('3-D array: candidates with elevations', () => {
 });
 
 describe('births, coasting and deaths', () => {
-  it('a track with few supported hops (a stray direction: here one 0.12 s call) dies after 2 s without support; one with many coasts to --track-timeout', () => {
-    const calls: [number, number][] = [[0.1, 0.22], [2.8, 3.1], [5.5, 5.8]];
+  it('a caller that calls once every few seconds, with calls too short to settle a track, keeps one id', () => {
+    // 0.12 s calls (12 hops) with 2.6 s of silence between: a new id per call when such a track died after 2 s.
+    const calls: [number, number][] = [[0.1, 0.22], [2.8, 2.92], [5.5, 5.62], [8.2, 8.32]];
     const sources: TruthSource[] = [{ azimuthAt: () => 10, calls, levelDbfs: -30 }];
-    const synth = generateHops(sources, { durationS: 6, hopS: 0.01, seed: 2, noiseDeg: 1, clutter: 0, dropout: 0 });
+    const synth = generateHops(sources, { durationS: 9, hopS: 0.01, seed: 2, noiseDeg: 1, clutter: 0, dropout: 0 });
     const r = run(synth, { trackTimeoutS: 10 });
-    // 12 hops, then 2.6 s of silence: a new id; then 30 hops and 2.4 s of silence: the same id.
-    expect(r.events.map((e) => e.track)).toEqual([1, 2, 2]);
+    expect(r.events.map((e) => e.track)).toEqual([1, 1, 1, 1]);
+    const summary = r.tracker.summary();
+    expect(summary.length).toBe(1);
+    expect(summary[0]!.events).toBe(4);
+    expect(summary[0]!.firstSeenS).toBeLessThan(0.2);
   });
 
+  it('a short-lived track of a stray direction does not take a caller that passes its bearing seconds later', () => {
+    // A stray 0.3 s burst at 30 deg; from 4 s a caller calls every 0.6 s while it sweeps from
+    // -20 deg ever faster (4 deg/s, gaining 8 deg/s each second), passing 30 deg near 7 s, so its
+    // own track's prediction lags. The stray's track, coasting since 0.4 s with its gate grown
+    // wide, took the caller's calls there on half of 20 seeds before it went dormant.
+    const stray: TruthSource = { azimuthAt: () => 30, calls: [[0.1, 0.4]], levelDbfs: -30 };
+    const moverCalls: [number, number][] = Array.from({ length: 14 }, (_, i) => [4 + 0.6 * i, 4.15 + 0.6 * i]);
+    const mover: TruthSource = { azimuthAt: (t) => -20 + 4 * (t - 4) + 4 * (t - 4) ** 2, calls: moverCalls, levelDbfs: -30 };
+    for (let seed = 1; seed <= 8; seed++) {
+      const synth = generateHops([stray, mover], { durationS: 12.5, hopS: 0.01, seed, noiseDeg: 1, clutter: 0, dropout: 0 });
+      const r = run(synth, { trackTimeoutS: 10 });
+      const moverEvents = r.events.filter((e) => e.start_s > 3.9);
+      expect(moverEvents.length).toBe(14);
+      expect(new Set(moverEvents.map((e) => e.track))).toEqual(new Set([2]));
+      expect(r.events.filter((e) => e.start_s < 1).map((e) => e.track)).toEqual([1]);
+    }
+  });
 
   it('coasts through a silence shorter than the timeout and retires after a longer one', () => {
     const calls: [number, number][] = [[0.1, 0.4], [3.1, 3.4], [20.1, 20.4]];
