@@ -379,8 +379,7 @@ export class Tracker {
     this.assignStage(CONFIRMED, nC);
     this.assignStage(TENTATIVE, nC);
     this.applyAssignments();
-    this.births(nC);
-    let events = this.tentativeBookkeeping();
+    let events = this.tentativeBookkeeping(this.births(nC));
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] === FREE) continue;
       const track = this.state[s] === CONFIRMED ? this.id[s]! : -1;
@@ -766,7 +765,9 @@ export class Tracker {
     this.restElVar[s] = this.hasEl[s] === 1 ? this.el.variance(s) : NaN;
   }
 
-  private births(nC: number): void {
+  /** Starts tentative tracks; returns the events a dormant track whose slot was taken still had open (freeDormant). */
+  private births(nC: number): EventRecord[] | null {
+    let events: EventRecord[] | null = null;
     const o = this.options;
     const sc = this.sc;
     for (let j = 0; j < nC; j++) {
@@ -776,7 +777,14 @@ export class Tracker {
       if (this.candGated[j] === 1 || this.candHome[j] === 1 || this.withinAnyGate(j)) continue;
       let s = 0;
       while (s < this.size && this.state[s] !== FREE) s++;
-      if (s === this.size) return;
+      if (s === this.size) {
+        // Every slot is taken: a dormant track (the longest unmoved) makes room.
+        s = this.longestDormant();
+        if (s < 0) return events;
+        const open = this.cutter.close(s, this.id[s]!);
+        if (open !== null) events = this.collect(events, s, open);
+        this.retire(s);
+      }
       this.state[s] = TENTATIVE;
       this.id[s] = -1;
       this.hits[s] = 0;
@@ -803,6 +811,7 @@ export class Tracker {
       this.candTaken[j] = 1;
       this.support(s, j);
     }
+    return events;
   }
 
   /**
@@ -832,9 +841,8 @@ export class Tracker {
   }
 
   /** Confirms or drops tentative tracks; returns the events that a revived dormant track still had open (see revive()). */
-  private tentativeBookkeeping(): EventRecord[] | null {
+  private tentativeBookkeeping(events: EventRecord[] | null): EventRecord[] | null {
     const o = this.options;
-    let events: EventRecord[] | null = null;
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] !== TENTATIVE) continue;
       this.age[s] = this.age[s]! + 1;
@@ -856,6 +864,13 @@ export class Tracker {
     return events;
   }
 
+  /** The dormant slot that has gone longest without moving; -1 for none. */
+  private longestDormant(): number {
+    let best = -1;
+    for (let d = 0; d < this.size; d++) if (this.dormant[d] === 1 && this.state[d] === CONFIRMED && (best < 0 || this.lastMovedT[d]! < this.lastMovedT[best]!)) best = d;
+    return best;
+  }
+
   /** The dormant track in whose gate (prediction or resting place) slot s's candidate of this hop lies, the cheapest; -1 for none. */
   private dormantMatch(s: number): number {
     const j = this.chosen[s]!;
@@ -863,7 +878,7 @@ export class Tracker {
     let bestCost = Infinity;
     if (j < 0) return best;
     for (let d = 0; d < this.size; d++) {
-      if (this.dormant[d] === 0 || this.state[d] !== CONFIRMED || this.otherBand(d, j)) continue;
+      if (d === s || this.dormant[d] === 0 || this.state[d] !== CONFIRMED || this.otherBand(d, j)) continue;
       if (this.gate(d, j) && this.d2[0]! < bestCost) {
         bestCost = this.d2[0]!;
         best = d;
@@ -890,6 +905,7 @@ export class Tracker {
     this.lastFreeT[s] = Math.max(this.lastFreeT[s]!, this.lastFreeT[d]!);
     this.lifetime.merge(d, s);
     this.state[d] = FREE;
+    this.dormant[d] = 0;
     this.cutter.reset(d);
   }
 
@@ -904,6 +920,7 @@ export class Tracker {
   private retire(s: number): void {
     this.finished.push(this.summarise(s, false));
     this.state[s] = FREE;
+    this.dormant[s] = 0;
     this.cutter.reset(s);
   }
 

@@ -419,6 +419,18 @@ describe('births, coasting and deaths', () => {
     }
   });
 
+  it('dormant tracks make room when every slot is taken: a caller after more strays than --max-tracks still gets a track', () => {
+    // Ten stray 0.12 s bursts at ten bearings within 3 s, then a caller from 6 s; --max-tracks 8.
+    const strays: TruthSource[] = Array.from({ length: 10 }, (_, i) => ({ azimuthAt: () => -170 + 30 * i, calls: [[0.1 + 0.3 * i, 0.22 + 0.3 * i]] as [number, number][], levelDbfs: -30 }));
+    const caller: TruthSource = { azimuthAt: () => 135, calls: [[6, 6.3], [7, 7.3], [8, 8.3]], levelDbfs: -30 };
+    const synth = generateHops([...strays, caller], { durationS: 9, hopS: 0.01, seed: 7, noiseDeg: 1, clutter: 0, dropout: 0 });
+    const r = run(synth, { maxTracks: 8 });
+    expect(r.events.filter((e) => e.start_s < 3.5).length).toBe(10);
+    const late = r.events.filter((e) => e.start_s > 5.5);
+    expect(late.map((e) => Math.round(e.azimuth_deg))).toEqual([135, 135, 135]);
+    expect(new Set(late.map((e) => e.track)).size).toBe(1);
+  });
+
   it('coasts through a silence shorter than the timeout and retires after a longer one', () => {
     const calls: [number, number][] = [[0.1, 0.4], [3.1, 3.4], [20.1, 20.4]];
     const sources: TruthSource[] = [{ azimuthAt: () => 10, calls, levelDbfs: -30 }];
