@@ -30,9 +30,10 @@
  *    it lies within that track's gate) after confirmHits supported hops within confirmWindow
  *    hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
- *    unsupported and die after trackTimeoutS without a support that moved them; a track of one
- *    event or less that moved over less than DORMANT_SPAN_S is dormant after DORMANT_AFTER_S
- *    without moving (it takes no candidate and blocks no birth, but lends its id, above);
+ *    unsupported and die after trackTimeoutS without a support that moved them; a track of
+ *    DORMANT_EVENTS events or fewer that moved over less than DORMANT_SPAN_S is dormant after
+ *    DORMANT_AFTER_S without moving (it takes no candidate and blocks no birth, but lends its id,
+ *    above, and gives up its slot when every slot is taken);
  *    a *settled* confirmed track (followed for at least SETTLED_SPAN_S with a lifetime spread of
  *    at most bearingNoiseDeg: a static chorus) also keeps a home, its lifetime mean, and gates
  *    a candidate by its home as well as by its prediction. A candidate within a settled
@@ -108,11 +109,11 @@ const NEAR_ZENITH_TRACK_DEG = 58;
  * passer's own track, test/accuracy/motion-cells.test.ts), and a caller that calls once every few
  * seconds keeps one id (such a track died after 2 s before: a new id per call). Motion matrix,
  * ten draws (sources >= 80 % complete summed / id switches / tracks holding two): 825 / 81 / 16
- * -> 825 / 77 / 16; without the event count (any track that moved over less than 2 s) 825 / 77 /
- * 18: a crossing's second caller, read for 1.9 s and then taken by the first, lent its id to the
- * first caller's new track.
+ * -> 825 / 75 / 16 (at most one event: 825 / 77 / 16); without the event count (any track that
+ * moved over less than 2 s) 825 / 77 / 18: a crossing's second caller, read for 1.9 s (four
+ * events) and then taken by the first, lent its id to the first caller's new track.
  */
-const DORMANT_EVENTS = 1;
+const DORMANT_EVENTS = 2;
 const DORMANT_SPAN_S = 2;
 const DORMANT_AFTER_S = 2;
 /**
