@@ -626,18 +626,23 @@ export class HopAnalyzer {
       for (let i = 0; i < n; i++) acc[list[i]!] = 0;
       this.scaleCrossSpectra(list, n, 0);
     }
-    this.weightsBefore.set(this.weights);
-    this.heldBefore.set(this.onset.heldPower);
+    const w = this.weights;
+    const held = this.onset.heldPower;
+    const wBefore = this.weightsBefore;
+    const heldBefore = this.heldBefore;
+    for (let k = k0; k < k1; k++) {
+      wBefore[k] = w[k]!;
+      heldBefore[k] = held[k]!;
+    }
   }
 
   /** Bins whose rise began the hop before (keepBeforeRise) and that now stand ENTER_HELD over what they held before it drop the memory from before the rise. */
   private undoBeforeRise(power: Float64Array): void {
     const acc = this.weightAcc;
-    const w = this.weights;
     const mem = this.memory;
     for (let i = 0; i < this.riseCount; i++) {
       const k = this.riseList[i]!;
-      if (w[k]! < ENTER_RISING || !(power[k]! > ENTER_HELD * this.riseHeld[k]!)) continue;
+      if (!(power[k]! > ENTER_HELD * this.riseHeld[k]!)) continue;
       acc[k] = Math.max(0, acc[k]! - mem * this.riseW[k]!);
       for (let p = 0; p < this.correlators.length; p++) {
         const pc = this.correlators[p]!;
@@ -652,19 +657,29 @@ export class HopAnalyzer {
     const w = this.weights;
     const before = this.weightsBefore;
     const acc = this.weightAcc;
+    const list = this.riseList;
     let n = 0;
     for (let k = k0; k < k1; k++) {
-      if (w[k]! < ENTER_RISING || before[k]! >= ENTER_RISING || acc[k]! <= QUIET_HELD) continue;
-      this.riseList[n++] = k;
-      this.riseHeld[k] = this.heldBefore[k]!;
-      this.riseW[k] = acc[k]!;
-      for (let p = 0; p < this.correlators.length; p++) {
-        const pc = this.correlators[p]!;
-        this.riseRe[p]![k] = pc.accRe[k]!;
-        this.riseIm[p]![k] = pc.accIm[k]!;
-      }
+      // The index is always written and kept only when the bin qualifies (no branch on noise).
+      list[n] = k;
+      n += w[k]! >= ENTER_RISING && before[k]! < ENTER_RISING && acc[k]! > QUIET_HELD ? 1 : 0;
     }
     this.riseCount = n;
+    for (let i = 0; i < n; i++) {
+      const k = list[i]!;
+      this.riseHeld[k] = this.heldBefore[k]!;
+      this.riseW[k] = acc[k]!;
+    }
+    for (let p = 0; p < this.correlators.length; p++) {
+      const pc = this.correlators[p]!;
+      const re = this.riseRe[p]!;
+      const im = this.riseIm[p]!;
+      for (let i = 0; i < n; i++) {
+        const k = list[i]!;
+        re[k] = pc.accRe[k]!;
+        im[k] = pc.accIm[k]!;
+      }
+    }
   }
 
   /**
