@@ -106,7 +106,7 @@ const FRESH_Z = 5;
  * onset weight first reaches ENTER_RISING keeps aside, for one hop, the memory it held before
  * that hop and the most it held lately; if the next hop stands ENTER_HELD over that, the memory
  * from before the rise is taken out again and the rise's first hop stays (forgetting both hops
- * lost 6 points within 5 deg in rooms, above). Ten draws 805 / 79 / 14 -> 825 / 81 / 16; the
+ * lost 6 points within 5 deg in rooms, above). Ten draws 807 / 79 / 15 -> 825 / 81 / 16; the
  * tone above 23 -> 41 of its 64 hops alone; accuracy matrix within 5 deg unchanged, events per
  * call 1.15 -> 1.16 (rooms 1.35 -> 1.39).
  */
@@ -243,12 +243,12 @@ export class HopAnalyzer {
   private readonly riseList: Int32Array;
   private riseCount = 0;
   private readonly riseHeld: Float64Array;
-  /** The weights and held powers the hop before left (copied before the onset weigher's update). */
-  private readonly weightsBefore: Float64Array;
-  private readonly heldBefore: Float64Array;
   private readonly riseW: Float64Array;
   private readonly riseRe: Float64Array[];
   private readonly riseIm: Float64Array[];
+  /** The weights and held powers the hop before left, over the analysis bins (copied before the onset weigher's update). */
+  private readonly weightsBefore: Float64Array;
+  private readonly heldBefore: Float64Array;
   /** Scratch: the bins forgetQuietBins() scales this hop. */
   private readonly quietBins: Int32Array;
   /** The pairs' cross-spectrum addresses in the kernels' memory (forgetQuietBins; null on the JavaScript path). */

@@ -39,7 +39,7 @@ export interface TrackerOptions {
   confirmHits: number;
   /** ... within this many hops since its birth (N). */
   confirmWindow: number;
-  /** A confirmed track dies after this long without support, seconds. */
+  /** A confirmed track dies after this long without a support that moved it, seconds. */
   trackTimeoutS: number;
   /** Most tracks alive at once (tentative ones included), at most 16. */
   maxTracks: number;
@@ -114,7 +114,7 @@ export const trackerOptionSpecs: readonly NumberSpec<NumericKey>[] = [
   numberSpec('confirmWindow', '--confirm-window <n>', 'hops', 5, { min: 1, max: 32, integer: true },
     '... within its first N hops, else dropped'),
   numberSpec('trackTimeoutS', '--track-timeout <s>', 's', 10, { min: 0, max: 86400, minExclusive: true },
-    'a track dies after this long without support; a source calling again later gets a new id'),
+    'a track dies after this long without a reading that moved it; a source calling again later gets a new id'),
   numberSpec('maxTracks', '--max-tracks <n>', 'tracks', 8, { min: 1, max: TRACK_LIMIT, integer: true },
     `most tracks alive at once (new and confirmed), at most ${TRACK_LIMIT}`),
   numberSpec('eventEnterSnrDb', '--event-enter-snr <dB>', 'dB', 10, { min: 0, max: 60 },

@@ -766,7 +766,7 @@ export class Tracker {
     this.restElVar[s] = this.hasEl[s] === 1 ? this.el.variance(s) : NaN;
   }
 
-  /** Starts tentative tracks; returns the events a dormant track whose slot was taken still had open (freeDormant). */
+  /** Starts tentative tracks; returns the events a dormant track whose slot was taken still had open (longestDormant). */
   private births(nC: number): EventRecord[] | null {
     let events: EventRecord[] | null = null;
     const o = this.options;
