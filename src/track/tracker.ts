@@ -27,7 +27,7 @@
  *    (on a flat array a track near the zenith does not count for one far below it),
  *    not near the zenith (ZENITH_DEG) and not heard only under a louder caller, starts a
  *    tentative track; it is confirmed (and gets the next track id, or a dormant track's id when
- *    it lies within that track's gate) after confirmHits supported hops within confirmWindow
+ *    it lies within that track's resting place's gate) after confirmHits supported hops within confirmWindow
  *    hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
  *    unsupported and die after trackTimeoutS without a support that moved them; a track of
@@ -103,8 +103,7 @@ const NEAR_ZENITH_TRACK_DEG = 58;
  * A confirmed track of at most DORMANT_EVENTS events whose supports that moved it span less than
  * DORMANT_SPAN_S (one call, or a short blend of two callers) and that has not moved for
  * DORMANT_AFTER_S is dormant: it takes no candidate and keeps none from starting a track, and a
- * new track confirmed within its gate (prediction or resting place) takes its id instead of a
- * new one. So a short-lived track of stray directions cannot take a caller passing its bearing
+ * new track confirmed within its resting place's gate takes its id instead of a new one. So a short-lived track of stray directions cannot take a caller passing its bearing
  * seconds later (a blend of two choruses, its gate grown to 8 deg, took a passer's calls from the
  * passer's own track, test/accuracy/motion-cells.test.ts), and a caller that calls once every few
  * seconds keeps one id (such a track died after 2 s before: a new id per call). Motion matrix,
@@ -872,7 +871,11 @@ export class Tracker {
     return best;
   }
 
-  /** The dormant track in whose gate (prediction or resting place) slot s's candidate of this hop lies, the cheapest; -1 for none. */
+  /**
+   * The dormant track in whose resting place's gate slot s's candidate of this hop lies, the
+   * cheapest; -1 for none. Not its prediction's gate: coasted for seconds, that has grown to
+   * the cap (8 deg, a reach of 28) and would lend a stray's id to another caller 20 deg away.
+   */
   private dormantMatch(s: number): number {
     const j = this.chosen[s]!;
     let best = -1;
@@ -880,10 +883,6 @@ export class Tracker {
     if (j < 0) return best;
     for (let d = 0; d < this.size; d++) {
       if (d === s || this.dormant[d] === 0 || this.state[d] !== CONFIRMED || this.otherBand(d, j)) continue;
-      if (this.gate(d, j) && this.d2[0]! < bestCost) {
-        bestCost = this.d2[0]!;
-        best = d;
-      }
       if (this.restGate(d, j) && this.d2[0]! < bestCost) {
         bestCost = this.d2[0]!;
         best = d;

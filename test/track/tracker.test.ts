@@ -401,6 +401,15 @@ describe('births, coasting and deaths', () => {
     expect(summary[0]!.firstSeenS).toBeLessThan(0.2);
   });
 
+  it('a dormant stray lends its id only to a caller at its own bearing, not to one 22 deg away', () => {
+    const stray: TruthSource = { azimuthAt: () => 30, calls: [[0.1, 0.22]], levelDbfs: -30 };
+    const other: TruthSource = { azimuthAt: () => 52, calls: [[4, 4.3], [5, 5.3], [6, 6.3]], levelDbfs: -30 };
+    for (const seed of [1, 2, 3]) {
+      const r = run(generateHops([stray, other], { durationS: 7, hopS: 0.01, seed, noiseDeg: 1, clutter: 0, dropout: 0 }));
+      expect(r.events.map((e) => e.track)).toEqual([1, 2, 2, 2]);
+    }
+  });
+
   it('a short-lived track of a stray direction does not take a caller that passes its bearing seconds later', () => {
     // A stray 0.3 s burst at 30 deg; from 4 s a caller calls every 0.6 s while it sweeps from
     // -20 deg ever faster (4 deg/s, gaining 8 deg/s each second), passing 30 deg near 7 s, so its
