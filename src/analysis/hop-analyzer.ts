@@ -239,10 +239,12 @@ export class HopAnalyzer {
   private readonly power: Float64Array;
   private readonly weights: Float64Array;
   private readonly weightAcc: Float64Array;
-  /** Per bin whose rise began the hop before (riseList[0 .. riseCount)): its held power and memory before the rise. */
+  /**
+   * Per bin whose rise began the hop before (riseList[0 .. riseCount)): its memory before the
+   * rise (the most it held then is still in heldBefore until forgetEnteredBins copies anew).
+   */
   private readonly riseList: Int32Array;
   private riseCount = 0;
-  private readonly riseHeld: Float64Array;
   private readonly riseW: Float64Array;
   private readonly riseRe: Float64Array[];
   private readonly riseIm: Float64Array[];
@@ -396,7 +398,6 @@ export class HopAnalyzer {
     this.accAddresses = k ? k.crossSpectrumAddresses(this.correlators) : null;
     const riseBins = this.quietForget < 1 ? bins : 0;
     this.riseList = new Int32Array(riseBins);
-    this.riseHeld = new Float64Array(riseBins);
     this.weightsBefore = new Float64Array(riseBins);
     this.heldBefore = new Float64Array(riseBins);
     this.riseW = new Float64Array(riseBins);
@@ -640,9 +641,10 @@ export class HopAnalyzer {
   private undoBeforeRise(power: Float64Array): void {
     const acc = this.weightAcc;
     const mem = this.memory;
+    const heldBeforeRise = this.heldBefore;
     for (let i = 0; i < this.riseCount; i++) {
       const k = this.riseList[i]!;
-      if (!(power[k]! > ENTER_HELD * this.riseHeld[k]!)) continue;
+      if (!(power[k]! > ENTER_HELD * heldBeforeRise[k]!)) continue;
       acc[k] = Math.max(0, acc[k]! - mem * this.riseW[k]!);
       for (let p = 0; p < this.correlators.length; p++) {
         const pc = this.correlators[p]!;
@@ -652,7 +654,7 @@ export class HopAnalyzer {
     }
   }
 
-  /** The bins whose rise begins this hop (their onset weight reaches ENTER_RISING): their held power before this hop and their memory before it is added. */
+  /** The bins whose rise begins this hop (their onset weight reaches ENTER_RISING): their memory before this hop is added. */
   private keepBeforeRise(k0: number, k1: number): void {
     const w = this.weights;
     const before = this.weightsBefore;
@@ -665,11 +667,7 @@ export class HopAnalyzer {
       n += w[k]! >= ENTER_RISING && before[k]! < ENTER_RISING && acc[k]! > QUIET_HELD ? 1 : 0;
     }
     this.riseCount = n;
-    for (let i = 0; i < n; i++) {
-      const k = list[i]!;
-      this.riseHeld[k] = this.heldBefore[k]!;
-      this.riseW[k] = acc[k]!;
-    }
+    for (let i = 0; i < n; i++) this.riseW[list[i]!] = acc[list[i]!]!;
     for (let p = 0; p < this.correlators.length; p++) {
       const pc = this.correlators[p]!;
       const re = this.riseRe[p]!;

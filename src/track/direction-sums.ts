@@ -33,6 +33,8 @@ export class DirectionSums {
   private readonly sumTT: Float64Array;
   private readonly sumA: Float64Array;
   private readonly sumTA: Float64Array;
+  /** The sums that two slots' directions add into plainly (merge); the drift's need moving first. */
+  private readonly plainSums: readonly Float64Array[];
   private readonly mirrored: boolean;
   /** Centre of the reported half circle, degrees (0 when not mirrored). */
   private readonly sideDeg: number;
@@ -61,6 +63,7 @@ export class DirectionSums {
     this.sumTT = new Float64Array(size);
     this.sumA = new Float64Array(size);
     this.sumTA = new Float64Array(size);
+    this.plainSums = [this.sumCos, this.sumSin, this.sumW, this.sumLin, this.sumLin2, this.sumEl, this.sumElW, this.sumEl2, this.sumLogHz, this.nLogHz];
   }
 
   reset(slot: number): void {
@@ -108,7 +111,7 @@ export class DirectionSums {
       this.lastRaw[into] = this.lastRaw[from]!;
     }
     this.t0[into] = this.t0[from]!;
-    for (const a of [this.sumCos, this.sumSin, this.sumW, this.sumLin, this.sumLin2, this.sumEl, this.sumElW, this.sumEl2, this.sumLogHz, this.nLogHz]) a[into] = a[into]! + a[from]!;
+    for (const a of this.plainSums) a[into] = a[into]! + a[from]!;
   }
 
   /** Add candidate j of the current hop, weighted by hop confidence x its score. */

@@ -224,7 +224,7 @@ export class Tracker {
   private readonly candFirm: Uint8Array;
   /** Per slot: 1 when the track is settled (see above); its home (working angle) and home variance. */
   private readonly settled: Uint8Array;
-  /** Per slot, this hop: 1 for a dormant track (DORMANT_SPAN_S). */
+  /** Per slot, this hop: 1 for a dormant track (DORMANT_SPAN_S; confirmed; cleared when its slot is freed). */
   private readonly dormant: Uint8Array;
   /** Per slot: 1 once the track has settled with a still rate (kept while its spread stays within the noise). */
   private readonly still: Uint8Array;
@@ -386,9 +386,7 @@ export class Tracker {
       const ended = this.cutter.step(s, this.chosen[s]!, track);
       if (ended !== null) events = this.collect(events, s, ended);
       if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastMovedT[s]! > this.options.trackTimeoutS) {
-        const last = this.cutter.close(s, track);
-        if (last !== null) events = this.collect(events, s, last);
-        this.retire(s);
+        events = this.retire(s, events);
       }
     }
 
@@ -781,9 +779,7 @@ export class Tracker {
         // Every slot is taken: a dormant track (the longest unmoved) makes room.
         s = this.longestDormant();
         if (s < 0) return events;
-        const open = this.cutter.close(s, this.id[s]!);
-        if (open !== null) events = this.collect(events, s, open);
-        this.retire(s);
+        events = this.retire(s, events);
       }
       this.state[s] = TENTATIVE;
       this.id[s] = -1;
@@ -850,11 +846,7 @@ export class Tracker {
         this.state[s] = CONFIRMED;
         const d = this.dormantMatch(s);
         if (d < 0) this.id[s] = this.nextId++;
-        else {
-          const open = this.cutter.close(d, this.id[d]!);
-          if (open !== null) events = this.collect(events, d, open);
-          this.revive(d, s);
-        }
+        else events = this.revive(d, s, events);
       } else if (this.age[s]! >= o.confirmWindow) {
         this.state[s] = FREE;
         this.cutter.reset(s);
@@ -867,7 +859,7 @@ export class Tracker {
   /** The dormant slot that has gone longest without moving; -1 for none. */
   private longestDormant(): number {
     let best = -1;
-    for (let d = 0; d < this.size; d++) if (this.dormant[d] === 1 && this.state[d] === CONFIRMED && (best < 0 || this.lastMovedT[d]! < this.lastMovedT[best]!)) best = d;
+    for (let d = 0; d < this.size; d++) if (this.dormant[d] === 1 && (best < 0 || this.lastMovedT[d]! < this.lastMovedT[best]!)) best = d;
     return best;
   }
 
@@ -882,7 +874,7 @@ export class Tracker {
     let bestCost = Infinity;
     if (j < 0) return best;
     for (let d = 0; d < this.size; d++) {
-      if (d === s || this.dormant[d] === 0 || this.state[d] !== CONFIRMED || this.otherBand(d, j)) continue;
+      if (d === s || this.dormant[d] === 0 || this.otherBand(d, j)) continue;
       if (this.restGate(d, j) && this.d2[0]! < bestCost) {
         bestCost = this.d2[0]!;
         best = d;
@@ -893,10 +885,11 @@ export class Tracker {
 
   /**
    * Newly confirmed slot s is dormant slot d's caller calling again: s takes d's id and history
-   * (its lifetime directions, hops, events, first sighting) and d is freed. s keeps its own
-   * filters and open event.
+   * (its lifetime directions, hops, events, first sighting) and d is freed (its open event, if
+   * any, closed into `events`, returned). s keeps its own filters and open event.
    */
-  private revive(d: number, s: number): void {
+  private revive(d: number, s: number, events: EventRecord[] | null): EventRecord[] | null {
+    events = this.retire(d, events, false);
     this.id[s] = this.id[d]!;
     this.hopCount[s] = this.hopCount[s]! + this.hopCount[d]!;
     this.eventCount[s] = this.eventCount[d]!;
@@ -904,10 +897,9 @@ export class Tracker {
     this.firstSeenT[s] = this.firstSeenT[d]!;
     this.lastFreeT[s] = Math.max(this.lastFreeT[s]!, this.lastFreeT[d]!);
     this.lifetime.merge(d, s);
-    this.state[d] = FREE;
-    this.dormant[d] = 0;
-    this.cutter.reset(d);
+    return events;
   }
+
 
   private collect(events: EventRecord[] | null, s: number, record: EventRecord): EventRecord[] {
     this.eventCount[s] = this.eventCount[s]! + 1;
@@ -917,11 +909,18 @@ export class Tracker {
     return events;
   }
 
-  private retire(s: number): void {
-    this.finished.push(this.summarise(s, false));
+  /**
+   * Ends confirmed slot s: closes its open event (added to `events`, returned), frees the slot,
+   * and keeps its summary unless `summary` is false (its history lives on in another slot).
+   */
+  private retire(s: number, events: EventRecord[] | null, summary = true): EventRecord[] | null {
+    const open = this.cutter.close(s, this.id[s]!);
+    if (open !== null) events = this.collect(events, s, open);
+    if (summary) this.finished.push(this.summarise(s, false));
     this.state[s] = FREE;
     this.dormant[s] = 0;
     this.cutter.reset(s);
+    return events;
   }
 
   private summarise(s: number, alive: boolean): TrackSummary {
