@@ -28,8 +28,10 @@ describe('npm install -g . into a temporary prefix, offline', () => {
   beforeAll(() => {
     mkdirSync(elsewhere, { recursive: true });
     // The checkout is built (npm test builds dist/ first), so no network and no build are needed:
-    // --offline keeps npm off the registry.
-    const r = spawnSync('npm', ['install', '-g', '.', '--prefix', prefix, '--offline', '--no-audit', '--no-fund'], { cwd: ROOT, encoding: 'utf8', timeout: 180_000 });
+    // --offline keeps npm off the registry, and --ignore-scripts keeps it from running the
+    // package's `prepare` (a rebuild of dist/ in place, which other test files running at the
+    // same time import: one failed on a half-written dist/dsp/fft.js).
+    const r = spawnSync('npm', ['install', '-g', '.', '--prefix', prefix, '--offline', '--no-audit', '--no-fund', '--ignore-scripts'], { cwd: ROOT, encoding: 'utf8', timeout: 180_000 });
     install = { status: r.status, out: `${r.stdout}${r.stderr}${r.error ? String(r.error) : ''}` };
   }, 200_000);
 
