@@ -42,8 +42,12 @@ describe('two simultaneous uncorrelated sources 90 degrees apart (sox-made)', ()
     // 0.87, 0.71, above 0.5). Two steady sources from the first sample sit near the noise floor
     // the analysis learns from them, and the second source's slot often goes to a blend of the
     // two that the low bands (wavelengths far beyond the 10 cm array) favour: a known gap.
+    // Since a source heard with another is read at its bin peak (src/analysis/hop-analyzer.ts,
+    // winnerAtOwnPeak; harmonic choruses: 8-deg errors gone), two broadband noises, which fill
+    // the same bins at once, lose a little: A 0.78 -> 0.74, B 0.61 -> 0.57, both 0.41 -> 0.38
+    // (within 5 deg: A 0.82 -> 0.76, B 0.71 -> 0.68).
     expect(anyA).toBeGreaterThan(0.6);
-    expect(anyB).toBeGreaterThan(0.6);
+    expect(anyB).toBeGreaterThan(0.55);
     expect(both).toBeGreaterThan(0.3);
   });
 });
