@@ -59,9 +59,12 @@ const RUNS_SCORE = 0.6;
  * motion matrix, ten draws (sources >= 80 % complete summed / id switches / tracks holding two):
  * 0.5 and the winner never 825 / 75 / 16; further sources at 0.35 (0.25 the same) 828 / 74 / 16;
  * the winner too at 0.35 837 / 69 / 16, at 0.25 837 / 72 / 17 (held out 2718, 4040, 9999: 247 /
- * 24 / 9 -> 247 / 29 / 12, a tracker's rate estimate swapping two crossing callers in 4040 crs06;
- * all 13 draws: sources >= 80 % complete 686 -> 694 of 831, mean completeness 89.9 -> 90.4 %).
- * The accuracy matrix within 5 deg unchanged (84.2 %).
+ * 24 / 9 -> 247 / 29 / 12, a tracker's rate estimate swapping two crossing callers in 4040 crs06);
+ * the winner also within the memory's time constant after another caller (14 hops) 841 / 61 /
+ * 15, held out 250 / 24 / 10 (28 hops: 601 / 49 / 13 on seven of the ten, against 604 / 44 / 11).
+ * All 13 draws: sources >= 80 % complete 686 -> 698 of 831, mean completeness 89.9 -> 90.7 %,
+ * crossing cells with a source switching ids twice or more 12 -> 9 of 78. The accuracy matrix
+ * within 5 deg 84.2 -> 84.1 % (its crossings 84.4 -> 83.7 %).
  */
 const BIN_CORRECT_DEG = 25;
 const BIN_CORRECT_LOW_SHARE = 0.35;
@@ -282,6 +285,10 @@ export class HopAnalyzer {
   private readonly fusion: BandFusion;
   /** Directions per bin below the pairs' aliasing limits (null when no bin qualifies). */
   private readonly binDirections: BinDirections | null;
+  /** The last hop (as hopIndex) that held another caller beside the winner (winnerAtOwnPeak), -1 before any. */
+  private otherAt = -1;
+  /** Hops within which that other caller still fills the memory: its time constant (--memory). */
+  private readonly otherHops: number;
   /** Per reported source: the share of its band support below the bin directions' top frequency. */
   private readonly lowSupport: Float64Array;
   /** The bin directions' top frequency, Hz. */
@@ -394,6 +401,7 @@ export class HopAnalyzer {
     this.binScale = f64(bins);
     const hopS = options.hop / sampleRate;
     this.memory = options.memoryS > 0 ? Math.exp(-hopS / options.memoryS) : 0;
+    this.otherHops = Math.round(options.memoryS / hopS);
     const quiet = options.quietMemoryS > 0 ? Math.exp(-hopS / options.quietMemoryS) : 0;
     this.quietForget = this.memory > 0 ? Math.min(1, quiet / this.memory) : 1;
     this.quietBins = k && this.quietForget < 1 ? k.i32(bins) : new Int32Array(this.quietForget < 1 ? bins : 0);
@@ -954,9 +962,11 @@ export class HopAnalyzer {
 
   /**
    * The winner heard with another caller (a further source of the fusion or a bin peak holding
-   * BIN_SOURCE_RATIO of the winner's own, each BIN_SOURCE_APART_DEG from it) is read at its own bin
-   * peak, the nearest within BIN_CORRECT_DEG: the fusion refined its lags on bands the other
-   * caller shares. Alone, it keeps the fusion's answer (finer than the bins' histogram).
+   * BIN_SOURCE_RATIO of the winner's own, each BIN_SOURCE_APART_DEG from it), or within the
+   * memory's time constant after one, is read at its own bin peak, the nearest within
+   * BIN_CORRECT_DEG: the fusion refined its lags on bands the other caller shares, or shared
+   * until lately (the memory still holds them: a chorus read 4 deg off for 0.1 s after the other
+   * stopped). Alone for longer, it keeps the fusion's answer (finer than the bins' histogram).
    */
   private winnerAtOwnPeak(res: HopResult, winner: HopResult['sources'][number], bins: BinDirections, usable: number): void {
     let own = -1;
@@ -974,7 +984,8 @@ export class HopAnalyzer {
     for (let j = 0; j < usable && !other; j++) {
       other = j !== own && Math.abs(wrapDeg(bins.peakAz[j]! - bins.peakAz[own]!)) > BIN_SOURCE_APART_DEG && bins.peakMass[j]! >= BIN_SOURCE_RATIO * bins.peakMass[own]!;
     }
-    if (!other) return;
+    if (other) this.otherAt = this.hopIndex;
+    else if (this.otherAt < 0 || this.hopIndex - this.otherAt > this.otherHops) return;
     winner.azimuthDeg = bins.peakAz[own]!;
     if (winner.elevationDeg !== null && bins.peakEl[own] === bins.peakEl[own]) winner.elevationDeg = bins.peakEl[own]!;
   }

@@ -112,10 +112,12 @@ describe('two choruses calling at once, each read at its own bearing', () => {
   // Pulsed harmonic choruses (488 and 972 Hz) 119 deg apart on small arrays. A source of the band
   // fusion has its lags refined on the bands that support it, which the other chorus' partials
   // share above the bins' top frequency: chorus-a was read 4-11 deg off (-56 to -63 for -52) on
-  // most hops the two shared. Its bins hear it apart (hop-analyzer.ts, BIN_CORRECT_LOW_SHARE and
-  // winnerAtOwnPeak). Measured, chorus-a within 3 deg on the shared hops before and after: square
-  // 1 -> 80 of 104, triangle 124 -> 153 of 159, tetrahedron 93 -> 209 of 211; chorus-b 99 -> 90
-  // of 104, 158 -> 149 of 159, 211 -> 211 of 211.
+  // most hops the two shared, and for about the memory's time constant after chorus-b stopped.
+  // Its bins hear it apart (hop-analyzer.ts, BIN_CORRECT_LOW_SHARE and winnerAtOwnPeak).
+  // Measured, chorus-a within 3 deg on the shared hops before and after: square 1 -> 80 of 104,
+  // triangle 124 -> 153 of 159, tetrahedron 93 -> 209 of 211; on its hops alone (many of them
+  // just after chorus-b's calls) 138 -> 151 of 152, 91 -> 99 of 99, 41 -> 46 of 46; chorus-b on
+  // the shared hops 99 -> 90 of 104, 158 -> 149 of 159, 211 -> 211 of 211.
   const A = -52;
   const B = 67;
   const chorus = (name: string, az: number, f0: number, start: number, pulse: number) => ({
@@ -138,6 +140,6 @@ describe('two choruses calling at once, each read at its own bearing', () => {
     expect(a.shared).toBeGreaterThan(40);
     expect(a.sharedFound / a.shared).toBeGreaterThan(0.7);
     expect(b.sharedFound / b.shared).toBeGreaterThan(0.8);
-    expect(a.aloneFound / a.alone).toBeGreaterThan(0.8);
+    expect(a.aloneFound / a.alone).toBeGreaterThan(0.95);
   });
 });
