@@ -218,7 +218,9 @@ export function rendered(cell: Cell): string {
   if (!existsSync(wav)) {
     const scenePath = join(cacheDir(), `${key}.scene.json`);
     writeFileSync(scenePath, text);
-    const tmp = join(cacheDir(), `${key}.part.wav`);
+    // A name of this process' own: two runs rendering the same scene at once (two draws side by
+    // side) each rename their own files; the WAV, renamed last, marks a whole rendering.
+    const tmp = join(cacheDir(), `${key}.${process.pid}.part.wav`);
     run(['simulate', '--scene', scenePath, '--out', tmp, '--float']);
     renameSync(tmp.replace(/\.wav$/, '.truth.jsonl'), wav.replace(/\.wav$/, '.truth.jsonl'));
     renameSync(tmp.replace(/\.wav$/, '.array.json'), wav.replace(/\.wav$/, '.array.json'));
