@@ -54,8 +54,8 @@ const RUNS_SCORE = 0.6;
  * lies below the bins' aliasing limit (above it the bins hear only a blend of what sounds there);
  * so is the winner, when the hop holds another caller (winnerAtOwnPeak). A chorus' partials reach
  * above the bins' top (1.5 kHz on a 10 cm square), where the other chorus' partials share its
- * bands: a chorus at -52 deg was read at -60 on every hop a chorus at 67 deg called with it, at
- * 0.5 of its support below the top only (test/analysis/masked-caller.test.ts). Chosen on the
+ * bands: a chorus at -52 deg was read at -60 on every hop a chorus at 67 deg called with it, with
+ * 0.35-0.5 of its support below the top (test/analysis/masked-caller.test.ts). Chosen on the
  * motion matrix, ten draws (sources >= 80 % complete summed / id switches / tracks holding two):
  * 0.5 and the winner never 825 / 75 / 16; further sources at 0.35 (0.25 the same) 828 / 74 / 16;
  * the winner too at 0.35 837 / 69 / 16, at 0.25 837 / 72 / 17 (held out 2718, 4040, 9999: 247 /
@@ -967,6 +967,7 @@ export class HopAnalyzer {
    * BIN_CORRECT_DEG: the fusion refined its lags on bands the other caller shares, or shared
    * until lately (the memory still holds them: a chorus read 4 deg off for 0.1 s after the other
    * stopped). Alone for longer, it keeps the fusion's answer (finer than the bins' histogram).
+   * The hop's delays (tdoaS) stay the fusion's, as in splitMergedWinner.
    */
   private winnerAtOwnPeak(res: HopResult, winner: HopResult['sources'][number], bins: BinDirections, usable: number): void {
     let own = -1;
@@ -999,7 +1000,7 @@ export class HopAnalyzer {
    * a peak of several runs holding RUNS_SOURCE_RATIO of it, scored at least RUNS_SCORE
    * (underLouder when it holds less than BIN_SOURCE_RATIO). The winner keeps the fusion's answer,
    * unless it lies between two bin peaks (two callers heard as one: splitMergedWinner) or the hop
-   * holds another caller (winnerAtOwnPeak).
+   * holds another caller, or held one lately (winnerAtOwnPeak).
    */
   private addBinSources(res: HopResult, bins: BinDirections, winFused: number): void {
     // Every BIN_EVERY_HOPS hops: the memory they read changes over about 14 hops (0.15 s), so the
