@@ -955,9 +955,7 @@ export class HopAnalyzer {
     const d0 = wrapDeg(winner.azimuthDeg - bins.peakAz[0]!);
     const dB = wrapDeg(winner.azimuthDeg - bins.peakAz[b]!);
     if (Math.sign(d0) === Math.sign(dB) || Math.abs(d0) <= MERGED_APART_DEG || Math.abs(dB) <= MERGED_APART_DEG || Math.abs(d0) + Math.abs(dB) > 180) return;
-    const near = Math.abs(dB) < Math.abs(d0) ? b : 0;
-    winner.azimuthDeg = bins.peakAz[near]!;
-    if (winner.elevationDeg !== null && bins.peakEl[near] === bins.peakEl[near]) winner.elevationDeg = bins.peakEl[near]!;
+    readAtPeak(winner, bins, Math.abs(dB) < Math.abs(d0) ? b : 0);
   }
 
   /**
@@ -970,15 +968,7 @@ export class HopAnalyzer {
    * The hop's delays (tdoaS) stay the fusion's, as in splitMergedWinner.
    */
   private winnerAtOwnPeak(res: HopResult, winner: HopResult['sources'][number], bins: BinDirections, usable: number): void {
-    let own = -1;
-    let bestD = BIN_CORRECT_DEG;
-    for (let j = 0; j < usable; j++) {
-      const d = Math.abs(wrapDeg(bins.peakAz[j]! - winner.azimuthDeg));
-      if (d < bestD) {
-        bestD = d;
-        own = j;
-      }
-    }
+    const own = nearestPeak(bins, usable, winner.azimuthDeg, null);
     if (own < 0) return;
     let other = false;
     for (let i = 1; i < res.sourceCount && !other; i++) other = Math.abs(wrapDeg(res.sources[i]!.azimuthDeg - winner.azimuthDeg)) > BIN_SOURCE_APART_DEG;
@@ -987,8 +977,7 @@ export class HopAnalyzer {
     }
     if (other) this.otherAt = this.hopIndex;
     else if (this.otherAt < 0 || this.hopIndex - this.otherAt > this.otherHops) return;
-    winner.azimuthDeg = bins.peakAz[own]!;
-    if (winner.elevationDeg !== null && bins.peakEl[own] === bins.peakEl[own]) winner.elevationDeg = bins.peakEl[own]!;
+    readAtPeak(winner, bins, own);
   }
 
   /**
@@ -1030,18 +1019,8 @@ export class HopAnalyzer {
     for (let i = 1; i < res.sourceCount; i++) {
       if (this.lowSupport[i]! < BIN_CORRECT_LOW_SHARE) continue;
       const src = res.sources[i]!;
-      let best = -1;
-      let bestD = BIN_CORRECT_DEG;
-      for (let j = 0; j < usable; j++) {
-        const d = Math.abs(wrapDeg(bins.peakAz[j]! - src.azimuthDeg));
-        if (this.peakOfWinner[j] === 0 && d < bestD) {
-          bestD = d;
-          best = j;
-        }
-      }
-      if (best < 0) continue;
-      src.azimuthDeg = bins.peakAz[best]!;
-      if (src.elevationDeg !== null && bins.peakEl[best] === bins.peakEl[best]) src.elevationDeg = bins.peakEl[best]!;
+      const best = nearestPeak(bins, usable, src.azimuthDeg, this.peakOfWinner);
+      if (best >= 0) readAtPeak(src, bins, best);
     }
     for (let j = 0; j < count && res.sourceCount < this.options.maxSources; j++) {
       const az = bins.peakAz[j]!;
@@ -1265,6 +1244,29 @@ export class HopAnalyzer {
 
 function toDb(meanSquare: number): number {
   return meanSquare > 0 ? 10 * Math.log10(meanSquare) : -200;
+}
+
+/**
+ * Of the bin peaks [0, usable), the nearest to azimuth `az` within BIN_CORRECT_DEG, skipping those
+ * `skip` marks 1 (null: none); -1 for none.
+ */
+function nearestPeak(bins: BinDirections, usable: number, az: number, skip: Uint8Array | null): number {
+  let best = -1;
+  let bestD = BIN_CORRECT_DEG;
+  for (let j = 0; j < usable; j++) {
+    const d = Math.abs(wrapDeg(bins.peakAz[j]! - az));
+    if ((skip === null || skip[j] === 0) && d < bestD) {
+      bestD = d;
+      best = j;
+    }
+  }
+  return best;
+}
+
+/** A reported source read at bin peak j: its azimuth, and its elevation when both it and the peak have one. */
+function readAtPeak(src: HopResult['sources'][number], bins: BinDirections, j: number): void {
+  src.azimuthDeg = bins.peakAz[j]!;
+  if (src.elevationDeg !== null && bins.peakEl[j] === bins.peakEl[j]) src.elevationDeg = bins.peakEl[j]!;
 }
 
 /**

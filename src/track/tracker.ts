@@ -27,8 +27,8 @@
  *    (on a flat array a track near the zenith does not count for one far below it),
  *    not near the zenith (ZENITH_DEG) and not heard only under a louder caller, starts a
  *    tentative track; it is confirmed (and gets the next track id, or a dormant track's id when
- *    it lies within that track's resting place's gate) after confirmHits supported hops within confirmWindow
- *    hops, else dropped;
+ *    it lies within that track's resting place's gate) after confirmHits supported hops within
+ *    confirmWindow hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
  *    unsupported and die after trackTimeoutS without a support that moved them; a track of
  *    DORMANT_EVENTS events or fewer that moved over less than DORMANT_SPAN_S is dormant after
@@ -103,9 +103,10 @@ const NEAR_ZENITH_TRACK_DEG = 58;
  * A confirmed track of at most DORMANT_EVENTS events whose supports that moved it span less than
  * DORMANT_SPAN_S (one call, or a short blend of two callers) and that has not moved for
  * DORMANT_AFTER_S is dormant: it takes no candidate and keeps none from starting a track, and a
- * new track confirmed within its resting place's gate takes its id instead of a new one. So a short-lived track of stray directions cannot take a caller passing its bearing
- * seconds later (a blend of two choruses, its gate grown to 8 deg, took a passer's calls from the
- * passer's own track, test/accuracy/motion-cells.test.ts), and a caller that calls once every few
+ * new track confirmed within its resting place's gate takes its id instead of a new one. So a
+ * short-lived track of stray directions cannot take a caller passing its bearing seconds later
+ * (a blend of two choruses, its gate grown to 8 deg, took a passer's calls from the passer's own
+ * track, test/accuracy/motion-cells.test.ts), and a caller that calls once every few
  * seconds keeps one id (such a track died after 2 s before: a new id per call). Motion matrix,
  * ten draws (sources >= 80 % complete summed / id switches / tracks holding two): 825 / 81 / 16
  * -> 825 / 75 / 16 (at most one event: 825 / 77 / 16); without the event count (any track that
@@ -899,7 +900,6 @@ export class Tracker {
     this.lifetime.merge(d, s);
     return events;
   }
-
 
   private collect(events: EventRecord[] | null, s: number, record: EventRecord): EventRecord[] {
     this.eventCount[s] = this.eventCount[s]! + 1;
