@@ -2,8 +2,8 @@
 simulator: far-field plane-wave delays per mic, applied per sample as a fractional delay by a
 Hann-windowed sinc interpolator (common practice, no source: band-limited interpolation).
 
-Usage: python3 numpy_mover.py OUT.wav AZ0_DEG RATE_DEG_S DURATION_S
-Writes OUT.wav (4 channels, 16-bit, 48 kHz), OUT.array.json (a 20 cm square, heading 0) and
+Usage: python3 numpy_mover.py OUT.wav AZ0_DEG RATE_DEG_S DURATION_S [CALL_S EVERY_S]
+(calls CALL_S long, one every EVERY_S seconds from 0.2 s on: 0.4 and 0.6 when not given). Writes OUT.wav (4 channels, 16-bit, 48 kHz), OUT.array.json (a 20 cm square, heading 0) and
 prints the calls as JSON: [[start_s, end_s], ...]. Azimuth(t) = AZ0 + RATE * t (0 = front +y,
 +90 = right +x); the source is in the horizontal plane; c = 343 m/s.
 """
@@ -28,19 +28,21 @@ def band_noise(rng, n, lo, hi):
 
 def main():
     out, az0, rate, dur = sys.argv[1], float(sys.argv[2]), float(sys.argv[3]), float(sys.argv[4])
+    call_s = float(sys.argv[5]) if len(sys.argv) > 5 else 0.4
+    every_s = float(sys.argv[6]) if len(sys.argv) > 6 else 0.6
     rng = np.random.default_rng(7)
     n = int(dur * FS)
     pad = 2 * HALF
     src = np.zeros(n + 2 * pad)
     calls = []
     t = 0.2
-    while t + 0.4 <= dur - 0.1:
-        a, b = int(t * FS), int((t + 0.4) * FS)
+    while t + call_s <= dur - 0.1:
+        a, b = int(t * FS), int((t + call_s) * FS)
         burst = band_noise(rng, b - a, 500, 4000)
         ramp = np.minimum(1, np.minimum(np.arange(b - a), np.arange(b - a)[::-1]) / (0.005 * FS))
         src[pad + a : pad + b] = burst * ramp
-        calls.append([t, t + 0.4])
-        t += 0.6
+        calls.append([t, t + call_s])
+        t += every_s
     src *= 0.1 / np.sqrt(np.mean(src[src != 0] ** 2))
     times = np.arange(n) / FS
     az = np.radians(az0 + rate * times)

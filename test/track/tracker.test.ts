@@ -823,6 +823,25 @@ describe('a flat array: elevations are followed but do not split or steal (issue
       for (const e of chorusEvents) expect(Math.abs(angleDiffDeg(e.azimuth_deg, 30))).toBeLessThan(4);
     }
   });
+
+  it("on a flat array, a call whose onset read as a lobe high up is followed when it reads lower", () => {
+    // A sweep above a 20 cm square's aliasing limit, 6 m off and 4 m up (motion matrix draw 555,
+    // pas15): its onset read at 102 deg and 58 deg up (a lobe) for three hops, which started and
+    // confirmed a track; the call itself then read at 97 deg and 17 deg up. More than
+    // FLAT_ELEVATION_GATE_DEG below the track, it was kept out of it, and inside its azimuth gate
+    // it started no track either: the call had no event. A lobe reads higher than its caller, so
+    // a candidate that far below the track (not one near the zenith) may take it.
+    const square = loadGeometryFile(fileURLToPath(new URL('../../configs/arrays/square-20cm.json', import.meta.url)));
+    const tracker = new Tracker({ mirror: mirrorOf(square) });
+    const onset = feed(tracker, 0.005, 0.03, () => [{ azimuthDeg: 102, elevationDeg: 58, score: 1 }]);
+    const call = feed(tracker, 0.035, 0.15, (t) => [{ azimuthDeg: 97 + 20 * (t - 0.035), elevationDeg: 17, score: 1 }]);
+    const events = [...onset.events, ...call.events, ...tracker.finish()];
+    console.log(`lobe onset: ${events.map((e) => `track ${e.track} ${e.start_s.toFixed(2)}-${e.end_s.toFixed(2)} s at ${e.azimuth_deg.toFixed(1)}`).join('; ')}`);
+    expect(call.ids.size).toBe(1);
+    expect(events).toHaveLength(1);
+    expect(events[0]!.end_s).toBeGreaterThan(0.15);
+    expect(Math.abs(angleDiffDeg(events[0]!.end_azimuth_deg!, 100))).toBeLessThan(3);
+  });
 });
 
 /**
@@ -966,19 +985,6 @@ describe('a passer heard under a louder chorus (candidates underLouder)', () => 
     expect(r.passerCallsWithEvent).toBeGreaterThanOrEqual(17);
   });
 
-  /** Hops of 10 ms from t0 for `seconds`, each with the candidates cands(t); returns the events and the track ids reported. */
-  function feed(tracker: Tracker, t0: number, seconds: number, cands: (t: number) => { azimuthDeg: number; elevationDeg: number | null; score: number; underLouder?: boolean }[]) {
-    const events: EventRecord[] = [];
-    const ids = new Set<number>();
-    for (let t = t0; t < t0 + seconds - 1e-9; t += 0.01) {
-      const candidates = cands(t);
-      const sounding = candidates.length > 0;
-      const u = tracker.update({ timeS: t, levelDbfs: -30, snrDb: sounding ? 30 : 0, onset: 0, confidence: sounding ? 1 : 0, candidates, freshZ: sounding ? 20 : 0 });
-      events.push(...u.events);
-      for (const id of u.trackIds) if (id !== null && id !== undefined) ids.add(id);
-    }
-    return { events, ids };
-  }
 
   it('confirm no track: a tentative track born of one firm hop and fed only such candidates stays unconfirmed', () => {
     const tracker = new Tracker({});
@@ -1013,3 +1019,53 @@ describe('a passer heard under a louder chorus (candidates underLouder)', () => 
     expect(r.passerTracks.length > 1 || r.chorusTracks.length > 1 || r.chorusOnPasser > 0 || r.passerCallsWithEvent < 17).toBe(true);
   });
 });
+
+describe("a young mover's next call ahead of its prediction (the onward model, issue 13 item 1)", () => {
+  // A first call of 0.2 s read as moving at 20 deg/s (the evidence memory trails a faster
+  // caller), then 0.6 s quiet, then a call at a bearing ahead of the track, on the side it moves
+  // towards, beyond its prediction's gate. Readings carry no noise: what the rule decides is
+  // whether the later call takes the first one's id.
+  function twoCalls(firstS: number, nextAz: number) {
+    const tracker = new Tracker({});
+    const first = feed(tracker, 0.005, firstS, (t) => [{ azimuthDeg: -40 + 20 * t, elevationDeg: null, score: 1 }]);
+    const quiet = feed(tracker, firstS + 0.005, 0.6, () => []);
+    const next = feed(tracker, firstS + 0.605, 0.2, () => [{ azimuthDeg: nextAz, elevationDeg: null, score: 1 }]);
+    const events = [...first.events, ...quiet.events, ...next.events, ...tracker.finish()];
+    return { first: [...first.ids], next: [...next.ids], events };
+  }
+
+  it('takes the mover\'s id when it lies ahead at a rate the mover could hold (45 deg on: 75 deg/s)', () => {
+    const r = twoCalls(0.2, 5);
+    expect(r.first).toHaveLength(1);
+    expect(r.next).toEqual(r.first);
+    expect(new Set(r.events.map((e) => e.track)).size).toBe(1);
+  });
+
+  it('not behind it, nor beyond --max-rate, nor ahead of a track followed for longer (a crossing caller\'s ghost)', () => {
+    const behind = twoCalls(0.2, -80);
+    expect(behind.next).toHaveLength(1);
+    expect(behind.next).not.toEqual(behind.first);
+    const tooFast = twoCalls(0.2, 40);
+    expect(tooFast.next).not.toEqual(tooFast.first);
+    // Followed for 2 s (its rate came from more than one call's worth of readings): a call 45 deg
+    // ahead of where it was last heard (75 deg/s, 33 deg beyond its prediction) is another caller.
+    const older = twoCalls(2, 45);
+    expect(older.first).toHaveLength(1);
+    expect(older.next).toHaveLength(1);
+    expect(older.next).not.toEqual(older.first);
+  });
+});
+
+/** Hops of 10 ms from t0 for `seconds`, each with the candidates cands(t); returns the events and the track ids reported. */
+function feed(tracker: Tracker, t0: number, seconds: number, cands: (t: number) => { azimuthDeg: number; elevationDeg: number | null; score: number; underLouder?: boolean }[]) {
+  const events: EventRecord[] = [];
+  const ids = new Set<number>();
+  for (let t = t0; t < t0 + seconds - 1e-9; t += 0.01) {
+    const candidates = cands(t);
+    const sounding = candidates.length > 0;
+    const u = tracker.update({ timeS: t, levelDbfs: -30, snrDb: sounding ? 30 : 0, onset: 0, confidence: sounding ? 1 : 0, candidates, freshZ: sounding ? 20 : 0 });
+    events.push(...u.events);
+    for (const id of u.trackIds) if (id !== null && id !== undefined) ids.add(id);
+  }
+  return { events, ids };
+}
