@@ -953,9 +953,10 @@ export class Tracker {
   }
 
   /**
-   * Newly confirmed slot s is dormant slot d's caller calling again: s takes d's id and history
-   * (its lifetime directions, hops, events, first sighting) and d is freed (its open event, if
-   * any, closed into `events`, returned). s keeps its own filters and open event.
+   * Newly confirmed slot s is dormant slot d's caller calling again (or young mover d's next call,
+   * onwardMatch): s takes d's id and history (its lifetime directions, hops, events, first
+   * sighting) and d is freed (its open event, if any, closed into `events`, returned). s keeps
+   * its own filters and open event.
    */
   private revive(d: number, s: number, events: EventRecord[] | null): EventRecord[] | null {
     events = this.retire(d, events, false);
