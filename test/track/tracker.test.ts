@@ -1025,8 +1025,8 @@ describe("a young mover's next call ahead of its prediction (the onward model, i
   // caller), then 0.6 s quiet, then a call at a bearing ahead of the track, on the side it moves
   // towards, beyond its prediction's gate. Readings carry no noise: what the rule decides is
   // whether the later call takes the first one's id.
-  function twoCalls(firstS: number, nextAz: number) {
-    const tracker = new Tracker({});
+  function twoCalls(firstS: number, nextAz: number, options: TrackerSettings = {}) {
+    const tracker = new Tracker(options);
     const first = feed(tracker, 0.005, firstS, (t) => [{ azimuthDeg: -40 + 20 * t, elevationDeg: null, score: 1 }]);
     const quiet = feed(tracker, firstS + 0.005, 0.6, () => []);
     const next = feed(tracker, firstS + 0.605, 0.2, () => [{ azimuthDeg: nextAz, elevationDeg: null, score: 1 }]);
@@ -1045,7 +1045,8 @@ describe("a young mover's next call ahead of its prediction (the onward model, i
     const behind = twoCalls(0.2, -80);
     expect(behind.next).toHaveLength(1);
     expect(behind.next).not.toEqual(behind.first);
-    const tooFast = twoCalls(0.2, 40);
+    // 45 deg on in 0.6 s (68 deg/s) with --max-rate 60.
+    const tooFast = twoCalls(0.2, 5, { maxRateDegS: 60 });
     expect(tooFast.next).not.toEqual(tooFast.first);
     // Followed for 2 s (its rate came from more than one call's worth of readings): a call 45 deg
     // ahead of where it was last heard (75 deg/s, 33 deg beyond its prediction) is another caller.
