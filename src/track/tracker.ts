@@ -186,25 +186,28 @@ const SIGNATURE_HOPS = 10;
 const HELD_Z = 3;
 /**
  * The onward model of a young mover (onwardMatch). A fast caller's first call gives its track a
- * rate well below the caller's: the analysis' evidence memory (--memory) holds each call's
- * onset, so within the call the readings trail the caller by a growing margin (a broadband
- * passer at 40-60 deg/s on a 20 cm pair, motion matrix draw 2027 pas13: readings -43 to -40 deg
- * over 0.18 s while the caller went -43 to -36, and the track's rate came out at 12 deg/s), and
- * its next call, 45 deg on, falls beyond the prediction's gate (at most gateSigma x
- * maxUncertaintyDeg, about 30 deg): a new track per call. So a newly confirmed track whose
- * candidate lies ahead of a coasting young mover takes that mover's id and history, as it takes
- * a dormant track's: the mover was last moved ONWARD_MIN_GAP_S to REST_AFTER_S ago, followed
- * for less than ONWARD_SPAN_S (one call or two: an older track's rate comes from its calls'
- * onsets and needs no such help, and a crossing caller's onset ghost 25 deg ahead of one took
- * its id), moving at ONWARD_MIN_RATE_DEG_S or more; the candidate lies on the side it moves
- * towards, at an implied rate (from where it was last moved) of at most ONWARD_RATIO times its
- * rate and at most --max-rate, in the same band (BAND_APART_OCT). Chosen on the motion matrix,
- * ten draws (sources >= 80 % complete summed / id switches / tracks holding two): without the
- * model 841 / 60 / 14; with it 843 / 57 / 13 for any span (held out 2718 86 -> 88 %, 9 -> 7
- * switches), span 1.2 s 843 / 56 / 13; ratio 12 with the rate also set to the implied one 840 /
- * 62 / 13. With keptOutOnFlat: ratio 6 and 9 846 / 54 / 13, ratio 4 846 / 56 / 14. Accuracy
- * matrix: one cell changes, x15t (clicks in a room on a 4-mic line, 8 % within 5 deg): events per
- * call 2.44 -> 2.89.
+ * rate well below the caller's: the analysis' evidence memory (--memory) holds each call's onset,
+ * so within the call the readings trail the caller by a growing margin (a broadband passer at
+ * 40-60 deg/s on a 20 cm pair, motion matrix draw 2027 pas13: readings -43 to -40 deg over 0.18 s
+ * while the caller went -43 to -36, and the track's rate came out at 12 deg/s), and its next call,
+ * 45 deg on, falls beyond the prediction's gate (at most gateSigma x maxUncertaintyDeg, about 30
+ * deg): a new track per call. So a newly confirmed track whose candidate lies ahead of a coasting
+ * young mover takes that mover's id and history, as it takes a dormant track's: the mover was last
+ * moved ONWARD_MIN_GAP_S to REST_AFTER_S ago, its filters started less than ONWARD_SPAN_S before
+ * (one call or two: an older filter's rate comes from its calls' onsets and needs no such help,
+ * and a crossing caller's onset ghost 25 deg ahead of one took its id; a mover handed on so keeps
+ * the filters of its latest call's slot, whose rate is again that call's alone, so each of its
+ * calls may be handed on), moving at ONWARD_MIN_RATE_DEG_S or more; the candidate lies on the side
+ * it moves towards, at an implied rate (from where it was last moved) of at most ONWARD_RATIO
+ * times its rate and at most --max-rate, in the same band (BAND_APART_OCT). Chosen on the motion
+ * matrix, ten draws (sources >= 80 % complete summed / id switches / tracks holding two): without
+ * the model 841 / 60 / 14; with it 843 / 57 / 13 for any span (held out 2718 86 -> 88 %, 9 -> 7
+ * switches), span 1.2 s 843 / 56 / 13; ratio 12 with the rate also set to the implied one 840 / 62
+ * / 13. With keptOutOnFlat: ratio 6 and 9 846 / 54 / 13, ratio 4 846 / 56 / 14. The span counted
+ * from the track's first sighting instead of its filters' start gave every motion cell the same
+ * (at --max-rate 120), but a numpy-rendered caller at 60 or 90 deg/s with five calls lost its id
+ * at the fourth (test/accuracy/numpy-mover.test.ts). Accuracy matrix: one cell changes, x15t
+ * (clicks in a room on a 4-mic line, 8 % within 5 deg): events per call 2.44 -> 2.89.
  */
 const ONWARD_MIN_GAP_S = 0.2;
 const ONWARD_SPAN_S = 1.2;
@@ -234,6 +237,8 @@ export class Tracker {
   private readonly lastMovedT: Float64Array;
   /** Time of the last support by a candidate outside every settled home. */
   private readonly lastFreeT: Float64Array;
+  /** When the slot's own filters started: its birth (a track handed to another slot by revive() goes on with that slot's filters and time). */
+  private readonly filterT: Float64Array;
   private readonly firstSeenT: Float64Array;
   private readonly hopCount: Float64Array;
   private readonly eventCount: Int32Array;
@@ -325,6 +330,7 @@ export class Tracker {
     this.lastSupportT = new Float64Array(n);
     this.lastMovedT = new Float64Array(n);
     this.lastFreeT = new Float64Array(n);
+    this.filterT = new Float64Array(n);
     this.firstSeenT = new Float64Array(n);
     this.hopCount = new Float64Array(n);
     this.eventCount = new Int32Array(n);
@@ -833,6 +839,7 @@ export class Tracker {
       this.eventCount[s] = 0;
       this.activeS[s] = 0;
       this.firstSeenT[s] = sc.hop[TIME]!;
+      this.filterT[s] = sc.hop[TIME]!;
       this.lastFreeT[s] = -Infinity;
       this.still[s] = 0;
       this.lifetime.reset(s);
@@ -940,7 +947,7 @@ export class Tracker {
     for (let d = 0; d < this.size; d++) {
       if (d === s || this.state[d] !== CONFIRMED || this.settled[d] === 1 || this.dormant[d] === 1 || this.otherBand(d, j)) continue;
       const quiet = t - this.lastMovedT[d]!;
-      if (!(quiet >= ONWARD_MIN_GAP_S && quiet <= REST_AFTER_S) || this.lastMovedT[d]! - this.firstSeenT[d]! >= ONWARD_SPAN_S) continue;
+      if (!(quiet >= ONWARD_MIN_GAP_S && quiet <= REST_AFTER_S) || this.lastMovedT[d]! - this.filterT[d]! >= ONWARD_SPAN_S) continue;
       const rate = this.az.rate[d]!;
       if (!(Math.abs(rate) >= ONWARD_MIN_RATE_DEG_S)) continue;
       let nu = this.sc.candAz[j]! - this.restAz[d]!;
