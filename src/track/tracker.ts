@@ -599,7 +599,7 @@ export class Tracker {
   private restGate(s: number, j: number): boolean {
     if (!(this.sc.hop[TIME]! - this.lastSupportT[s]! >= REST_AFTER_S)) return false;
     const both = this.loadMeasurement(s, j);
-    if (both && this.flat && this.farInElevation(j, this.restEl[s]!)) return false;
+    if (both && this.flat && this.keptOutOnFlat(s, j)) return false;
     const grow2 = this.restGrowth2(s);
     const cap = this.options.maxUncertaintyDeg * this.options.maxUncertaintyDeg;
     const withEl = both && !this.flat && this.restEl[s] === this.restEl[s];
@@ -632,11 +632,12 @@ export class Tracker {
    * at 97 deg and 17 deg up with confidence 0.98 for 0.15 s, could neither join that track nor
    * start one of its own, withinAnyGate). Motion matrix, ten draws (sources >= 80 % complete
    * summed / id switches / tracks holding two): kept out both ways 843 / 56 / 13, as here 846 /
-   * 54 / 13 (choruses' passers 903 -> 909, their switches 18 -> 12).
+   * 54 / 13 (choruses' passers 903 -> 909, their switches 18 -> 12). Asked at the prediction
+   * (gate) and at the resting place (restGate); the resting place's gate one-sided as well changed
+   * no cell of 13 draws (and no accuracy matrix output).
    */
   private keptOutOnFlat(s: number, j: number): boolean {
-    const ref = this.restEl[s]!;
-    return this.farInElevation(j, ref) && (this.sc.candEl[j]! > ref || this.nearZenith(s));
+    return this.sc.candEl[j]! - this.restEl[s]! > FLAT_ELEVATION_GATE_DEG || (this.nearZenith(s) && this.belowOnFlat(s, j));
   }
 
   /** On a flat array: is candidate j's elevation beyond FLAT_ELEVATION_GATE_DEG of elevation ref (false when either is missing)? */
@@ -942,10 +943,12 @@ export class Tracker {
   private onwardMatch(s: number): number {
     const j = this.chosen[s]!;
     let best = -1;
-    if (j < 0 || this.candFirm[j] === 0) return best;
+    if (j < 0) return best;
     const t = this.sc.hop[TIME]!;
+    // (A dormant track has not moved for longer than the quiet window; the candidate that confirms a
+    // tentative track is firm: assignStage.)
     for (let d = 0; d < this.size; d++) {
-      if (d === s || this.state[d] !== CONFIRMED || this.settled[d] === 1 || this.dormant[d] === 1 || this.otherBand(d, j)) continue;
+      if (d === s || this.state[d] !== CONFIRMED || this.settled[d] === 1 || this.otherBand(d, j)) continue;
       const quiet = t - this.lastMovedT[d]!;
       if (!(quiet >= ONWARD_MIN_GAP_S && quiet <= REST_AFTER_S) || this.lastMovedT[d]! - this.filterT[d]! >= ONWARD_SPAN_S) continue;
       const rate = this.az.rate[d]!;
