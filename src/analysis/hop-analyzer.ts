@@ -11,6 +11,7 @@ import type { ResolvedAnalysis } from './analysis-options.js';
 import { BandFusion, MIN_SUPPORT, type FusionResult } from './band-fusion.js';
 import { BinDirections, MAX_BIN_PEAKS, SEVERAL_RUNS } from './bin-directions.js';
 import { confidenceOf, type ConfidenceFeatures } from './confidence.js';
+import { WatchedDirections } from './watched-directions.js';
 
 /** Candidates whose pair lags all differ by less than this (samples) are one peak. */
 const SAME_PEAK_LAGS = 1.5;
@@ -68,6 +69,26 @@ const RUNS_SCORE = 0.6;
  */
 const BIN_CORRECT_DEG = 25;
 const BIN_CORRECT_LOW_SHARE = 0.35;
+/**
+ * A watched direction heard under the winner (addWatchedSources) holds this share of the
+ * winner's fused evidence ...
+ */
+const WATCH_RATIO = 0.04;
+/**
+ * ... and lies this many degrees of azimuth from every source the hop reports. Chosen on the
+ * motion matrix (crossing and chorus cells of the ten draws, and the three held out; sources >= 80
+ * % complete / id switches / tracks holding two, against 65 / 19 / 7 on the ten draws' crossings
+ * and 326 / 8 / 6 on their choruses without the watch): at 5 deg, with the test up to 20 deg either
+ * side of the prediction, crossings 79 / 23 / 12, choruses 334 / 37 / 14 (a chorus track watched
+ * through its pause took a passer's call 7 deg from the passer's own source); at 10 deg, up to 10
+ * deg either side, 79 / 21 / 10 and 335 / 8 / 5; also no watch within 12 deg of another track
+ * (tracker.ts, WATCH_CLEAR_DEG) 75 / 18 / 8 and 335 / 8 / 5 (kept: two swaps of crossing
+ * callers fewer over the 13 draws). Letting a watched find move its track (not only keep it
+ * alive): 13 draws' crossings 57 id switches against 35. Ratio 0.01 and 0.04 alike (0.04 kept:
+ * fewer stray finds in rooms). The accuracy matrix: every hop's answer as before; events per
+ * call change in two cells (room20c 2.33 -> 2.44, x11t 2.75 -> 3.00).
+ */
+const WATCH_APART_DEG = 10;
 /** The bin directions are worked out on one hop in this many; the hops between reuse their peaks. */
 const BIN_EVERY_HOPS = 2;
 /**
@@ -210,7 +231,8 @@ export interface HopResult {
  * direction model; evidence-weighted band fusion over the candidates (./band-fusion.ts);
  * sub-sample refinement of the winners' lags on the bands that support them; direction from
  * the lags; further callers from the directions of single bins below the aliasing limit
- * (./bin-directions.ts); calibrated confidence (./confidence.ts).
+ * (./bin-directions.ts) and, at the tracker's predictions (watch), from single bins at any
+ * frequency (./watched-directions.ts); calibrated confidence (./confidence.ts).
  */
 export class HopAnalyzer {
   readonly frame: number;
@@ -285,6 +307,9 @@ export class HopAnalyzer {
   private readonly fusion: BandFusion;
   /** Directions per bin below the pairs' aliasing limits (null when no bin qualifies). */
   private readonly binDirections: BinDirections | null;
+  /** The directions the tracker asks to be looked for in the next hop (arrays of 3+ pairs; ./watched-directions.ts), null otherwise. */
+  private readonly watched: WatchedDirections | null;
+  private readonly winnerLags: Float64Array;
   /** The last hop (as hopIndex) that held another caller beside the winner (winnerAtOwnPeak), -1 before any. */
   private otherAt = -1;
   /** Hops within which that other caller still fills the memory: its time constant (--memory). */
@@ -431,6 +456,8 @@ export class HopAnalyzer {
     const binDirections = new BinDirections(model, n, sampleRate, layout.firstBin, layout.endBin);
     this.binDirections = binDirections.active ? binDirections : null;
     this.binTopHz = (binDirections.endBin / n) * sampleRate;
+    this.watched = P >= 3 ? new WatchedDirections(model, n, layout.firstBin, layout.endBin) : null;
+    this.winnerLags = new Float64Array(P);
     this.lowSupport = new Float64Array(options.maxSources);
     this.selection = new Float64Array(candidates);
     this.prevLags = new Float64Array(P);
@@ -536,7 +563,18 @@ export class HopAnalyzer {
       this.correlationStage();
       this.fusionStage(this.candidateStage());
     }
+    // a watch is for one hop: the tracker hands in its predictions after each
+    this.watched?.setWatched(this.winnerLags, this.winnerLags, this.winnerLags, 0);
     return this.result;
+  }
+
+  /**
+   * Directions to look for in the next hop (./watched-directions.ts): azimuth and elevation
+   * (degrees, NaN when unknown) of each of the first `count`, in the array's frame. Arrays of
+   * two mics ignore it (one pair's phase says too little).
+   */
+  watch(azimuthDeg: ArrayLike<number>, elevationDeg: ArrayLike<number>, halfWidthDeg: ArrayLike<number>, count: number): void {
+    this.watched?.setWatched(azimuthDeg, elevationDeg, halfWidthDeg, count);
   }
 
   /** Stage 1: levels, window, one real FFT per channel, per-bin power and 1 / |X|. */
@@ -932,6 +970,7 @@ export class HopAnalyzer {
     // hop where nothing sounds has confidence 0.
     const sounding = res.snrDb >= opts.detectSnrDb || res.freshZ >= FRESH_Z;
     if (sounding && res.sourceCount > 0 && this.binDirections !== null) this.addBinSources(res, this.binDirections, winFused);
+    if (sounding && res.sourceCount > 0 && this.watched !== null && this.watched.watchCount > 0) this.addWatchedSources(res, this.watched, winFused, P);
     if (!sounding) res.confidence = 0;
     this.lastSounding = sounding;
     res.valid = res.sourceCount > 0 && sounding && res.confidence >= opts.minConfidence;
@@ -1036,6 +1075,32 @@ export class HopAnalyzer {
       src.score = Math.min(1, Math.max(runs ? RUNS_SCORE : 0, mass / ref));
       src.centreHz = NaN;
       src.underLouder = runs && mass < BIN_SOURCE_RATIO * ref;
+    }
+  }
+
+  /**
+   * The watched directions heard under the winner (./watched-directions.ts): a find holding
+   * WATCH_RATIO of the winner's fused evidence, WATCH_APART_DEG from every source the hop
+   * reports, is a further source heard under a louder caller (underLouder), scored by that share
+   * (at least RUNS_SCORE).
+   */
+  private addWatchedSources(res: HopResult, watched: WatchedDirections, winFused: number, P: number): void {
+    for (let p = 0; p < P; p++) this.winnerLags[p] = res.tdoaS[p]! * this.sampleRate;
+    const m = watched.search(this.spectra, this.winnerLags, this.weights, this.weightAcc, this.binScale);
+    const winner = res.sources[0]!;
+    for (let w = 0; w < m && res.sourceCount < this.options.maxSources; w++) {
+      const az = watched.foundAz[w]!;
+      const mass = watched.foundMass[w]!;
+      if (az !== az || mass < WATCH_RATIO * winFused) continue;
+      let apart = true;
+      for (let i = 0; i < res.sourceCount && apart; i++) apart = Math.abs(wrapDeg(az - res.sources[i]!.azimuthDeg)) > WATCH_APART_DEG;
+      if (!apart) continue;
+      const src = res.sources[res.sourceCount++]!;
+      src.azimuthDeg = az;
+      src.elevationDeg = winner.elevationDeg === null ? null : watched.foundEl[w]!;
+      src.score = Math.min(1, Math.max(RUNS_SCORE, mass / winFused));
+      src.centreHz = NaN;
+      src.underLouder = true;
     }
   }
 

@@ -1,7 +1,7 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
 import { mirrorOfLine, type ArrayMirror } from '../geometry/array-mirror.js';
-import { norm, sub, type Vec3 } from '../geometry/vec3.js';
+import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
 import { LineCone } from './cone.js';
 import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
 
@@ -74,6 +74,12 @@ export class PairDirectionModel implements DirectionModel {
     const cosAngle = -(this.speedOfSound * lags[offset]!) / this.sampleRate / this.spacing;
     out.azimuthDeg = this.cone.azimuthDeg(cosAngle);
     out.elevationDeg = null;
+    return true;
+  }
+
+  lagsOf(azimuthDeg: number, elevationDeg: number, out: Float64Array): boolean {
+    // tdoa = (p_0 - p_1) . u / c = -D (axis . u) / c
+    out[0] = (-(this.spacing * dot(this.axis, unitFromAzEl(azimuthDeg, elevationDeg))) / this.speedOfSound) * this.sampleRate;
     return true;
   }
 

@@ -208,6 +208,21 @@ export class SrpDirectionModel implements DirectionModel {
     return (dot(this.baselines[p]!, u) / this.speedOfSound) * this.sampleRate;
   }
 
+  lagsOf(azimuthDeg: number, elevationDeg: number, out: Float64Array): boolean {
+    // unitFromAzEl and lagFor, without allocating
+    const az = (azimuthDeg * Math.PI) / 180;
+    const el = (elevationDeg * Math.PI) / 180;
+    const ux = Math.sin(az) * Math.cos(el);
+    const uy = Math.cos(az) * Math.cos(el);
+    const uz = Math.sin(el);
+    const g = this.sampleRate / this.speedOfSound;
+    for (let p = 0; p < this.baselines.length; p++) {
+      const b = this.baselines[p]!;
+      out[p] = (b[0] * ux + b[1] * uy + b[2] * uz) * g;
+    }
+    return true;
+  }
+
   get gridSize(): number {
     return this.gridDirs.length;
   }

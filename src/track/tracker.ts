@@ -47,7 +47,10 @@
  *    within --rate-wander, so a passer's call a few gates away is nearer to the passer's own track
  *    than to a chorus that has been quiet for seconds, and a chorus track that takes a passer's
  *    call near its bearing does not follow the passer away;
- * 6. the event cutter (event-cutter.ts) sees every live track every hop.
+ * 6. the event cutter (event-cutter.ts) sees every live track every hop;
+ * 7. after the hop, watchList names the confirmed tracks whose callers the analysis should look
+ *    for under a louder caller in the next hop (src/analysis/watched-directions.ts; the
+ *    tracking session hands them on).
  *
  * Two sources closer than about gateSigma x bearingNoiseDeg look like one and share a track.
  */
@@ -67,6 +70,13 @@ const FREE = 0;
 const TENTATIVE = 1;
 const CONFIRMED = 2;
 
+/** A confirmed track supported within this many seconds is watched for (watchList) ... */
+const WATCH_WITHIN_S = 2;
+/**
+ * ... unless another confirmed track lies within this many degrees of it: two callers that near
+ * each other read as one, and a track watched there took its crossing partner's calls (a swap).
+ */
+const WATCH_CLEAR_DEG = 12;
 /** Score floor for the measurement variance bearingNoise^2 / score. */
 const MIN_SCORE = 0.05;
 /** Floor on cos(elevation) when widening the azimuth noise of high candidates. */
@@ -433,6 +443,40 @@ export class Tracker {
     this.result.trackIds = ids;
     this.result.events = events === null ? NO_EVENTS : events;
     return this.result;
+  }
+
+  /**
+   * Where the analysis should look for callers it may not hear by itself in the next hop
+   * (src/analysis/watched-directions.ts): the predictions (azimuth, elevation or NaN) of the
+   * confirmed tracks, not dormant, supported within WATCH_WITHIN_S and WATCH_CLEAR_DEG from
+   * every other, that no firm candidate supported this hop; with the half-width of each one's
+   * gate (degrees). Written to az / el / half (at most their length); returns the count. Arrays
+   * whose mirror folds azimuth give none.
+   */
+  watchList(az: Float64Array, el: Float64Array, half: Float64Array): number {
+    if (this.sideDeg !== null || this.ended) return 0;
+    const t = this.sc.hop[TIME]!;
+    const ahead = this.sc.hop[HOP_S]!;
+    let n = 0;
+    for (let s = 0; s < this.size && n < az.length; s++) {
+      if (this.state[s] !== CONFIRMED || this.dormant[s] === 1 || !(t - this.lastSupportT[s]! <= WATCH_WITHIN_S)) continue;
+      const j = this.chosen[s]!;
+      if ((j >= 0 && this.candFirm[j] === 1) || this.nearOther(s, WATCH_CLEAR_DEG)) continue;
+      az[n] = wrapDeg(this.az.angle[s]! + this.az.rate[s]! * ahead);
+      el[n] = this.hasEl[s] === 1 ? this.el.angle[s]! : NaN;
+      half[n] = Math.sqrt(this.gate2 * (this.az.variance(s) + this.options.bearingNoiseDeg * this.options.bearingNoiseDeg));
+      n++;
+    }
+    return n;
+  }
+
+  /** Another confirmed track lies within deg of slot s's azimuth. */
+  private nearOther(s: number, deg: number): boolean {
+    for (let o = 0; o < this.size; o++) {
+      if (o === s || this.state[o] !== CONFIRMED) continue;
+      if (Math.abs(wrapDeg(this.az.angle[o]! - this.az.angle[s]!)) <= deg) return true;
+    }
+    return false;
   }
 
   /** End of stream: close every open event of a confirmed track and return those events. */

@@ -1,6 +1,7 @@
 import type { AnalysisSetup, HopTime } from '../analysis/analysis.js';
 import type { HopResult } from '../analysis/hop-analyzer.js';
 import type { StreamChecks } from '../analysis/stream-checks.js';
+import { MAX_WATCHED } from '../analysis/watched-directions.js';
 import { bearingOf, round, toFrameRecord, type FrameRecordSettings } from '../records/frame-record.js';
 import type { EventRecord } from '../records/record-types.js';
 import type { RecordSink, SinkResult } from '../sinks/record-sink.js';
@@ -15,6 +16,8 @@ export interface SessionSettings extends FrameRecordSettings {
 }
 
 export interface SessionHooks {
+  /** Told after each hop where the tracker wants the analysis to look next (HopAnalyzer.watch). */
+  watch?: (azimuthDeg: Float64Array, elevationDeg: Float64Array, halfWidthDeg: Float64Array, count: number) => void;
   /** Window-edge and geometry checks over the stream (said once). */
   checks?: StreamChecks | null;
   /** Told each stream-check warning once (window edge, geometry). */
@@ -34,6 +37,9 @@ export class TrackingSession {
   private readonly band: [number, number] = [0, 0];
   private readonly pending: Promise<void>[] = [];
   private readonly checks: StreamChecks | null;
+  private readonly watchAz = new Float64Array(MAX_WATCHED);
+  private readonly watchEl = new Float64Array(MAX_WATCHED);
+  private readonly watchHalf = new Float64Array(MAX_WATCHED);
   /** Wall-clock ms of stream time 0 of a live stream (for utc), null for files. */
   private epochMs: number | null = null;
   hops = 0;
@@ -61,7 +67,8 @@ export class TrackingSession {
       diagnostics: extra.diagnostics ?? false,
       viewerFields: extra.viewerFields ?? false,
     };
-    return new TrackingSession(settings, tracker, sink, { checks: setup.checks, onWarning: extra.onWarning });
+    const analyzer = setup.analyzer;
+    return new TrackingSession(settings, tracker, sink, { checks: setup.checks, onWarning: extra.onWarning, watch: (az, el, half, n) => analyzer.watch(az, el, half, n) });
   }
 
   /** The UTC of a stream time, when the stream is live. */
@@ -96,6 +103,7 @@ export class TrackingSession {
       o.bandHz = this.band;
     } else o.bandHz = null;
     const upd = this.tracker.update(o);
+    if (this.hooks.watch) this.hooks.watch(this.watchAz, this.watchEl, this.watchHalf, this.tracker.watchList(this.watchAz, this.watchEl, this.watchHalf));
     if (this.sink.wantsFrames) {
       const rec = toFrameRecord(r, this.settings, timeS);
       if (rec.sources) rec.sources.forEach((s, i) => (s.track = upd.trackIds[i] ?? null));

@@ -4,7 +4,10 @@
  * A caller heard alone but lost whenever another one calls is masked by it (the band fusion
  * gives the other all the bands, see the closing note of turn 2's session 11). The analysis runs
  * in this process on the cells' cached renders (rendered by the motion matrix when missing),
- * with the cell's speed of sound and the defaults, or scan settings given with --set.
+ * with the cell's speed of sound and the defaults, or scan settings given with --set; twice:
+ * alone, and followed by the tracker as scan runs it (TrackingSession), which hands the
+ * analysis its tracks' predictions to look for (src/analysis/watched-directions.ts). Each run's
+ * time per hop is reported beside (one process, the same cells: a ratio, not a target).
  * A report only: nothing passes or fails.
  *
  *   npx tsx test/bench/masked-hops.ts [--seed N] [--cells cho02,crs03] [--near DEG] [--set memory=0.1 ...]
@@ -20,6 +23,8 @@ import { Framer } from '../../src/dsp/framer.js';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { wrapDeg } from '../../src/geometry/vec3.js';
 import { indexTruth, parseTruth } from '../../src/accuracy/truth.js';
+import { callbackSink } from '../../src/sinks/record-sink.js';
+import { TrackingSession } from '../../src/track/tracking-session.js';
 import { parseSettings } from './matrix/run-bearline.js';
 import { motionCells, rendered, type Cell } from './motion-matrix.js';
 
@@ -33,8 +38,15 @@ export interface MaskedCounts {
   overlappedFound: number;
 }
 
-/** The counts for one cell; `analysis` as parseSettings gives them (defaults when empty). */
-export function maskedHops(cell: Cell, nearDeg: number, analysis: Record<string, unknown> = {}): MaskedCounts[] {
+export interface MaskedRun {
+  counts: MaskedCounts[];
+  /** Hops analysed and the time they took (analysis, and the tracker when it runs), ms. */
+  hops: number;
+  ms: number;
+}
+
+/** The counts for one cell; `analysis` as parseSettings gives them (defaults when empty); `tracked`: with the tracker (and its watched directions). */
+export function maskedHops(cell: Cell, nearDeg: number, analysis: Record<string, unknown> = {}, tracked = false): MaskedRun {
   const wav = rendered(cell);
   const geometry = loadGeometryFile(wav.replace(/\.wav$/, '.array.json'));
   const C = geometry.mics.length;
@@ -44,11 +56,19 @@ export function maskedHops(cell: Cell, nearDeg: number, analysis: Record<string,
   const signal = Array.from({ length: C }, (_, c) => Float32Array.from({ length: n }, (_, i) => all[i * C + c]!));
   const truth = indexTruth(parseTruth(readFileSync(wav.replace(/\.wav$/, '.truth.jsonl'), 'utf8'), wav));
   const rate = Number(JSON.parse(readFileSync(wav.replace(/\.wav$/, '.scene.json'), 'utf8')).sample_rate_hz ?? 48000);
-  const { analyzer } = createAnalysis(geometry, rate, 343 * cell.cRatio, analysis);
+  const setup = createAnalysis(geometry, rate, 343 * cell.cRatio, analysis);
+  const analyzer = setup.analyzer;
+  const session = tracked ? TrackingSession.of(setup, {}, callbackSink('none', {})) : null;
   const counts = new Map(truth.sources.map((s) => [s.name, { source: s.name, alone: 0, aloneFound: 0, overlapped: 0, overlappedFound: 0 }]));
   const frames = analyzer.inputFrames() ?? Array.from({ length: C }, () => new Float64Array(analyzer.frame));
+  let hops = 0;
+  let ms = 0;
   new Framer(C, analyzer.frame, analyzer.hop, frames).push(signal, n, (f) => {
+    const t0 = performance.now();
     const r = analyzer.process(f);
+    session?.hop(r);
+    ms += performance.now() - t0;
+    hops++;
     const active = truth.activeAt(r.timeS);
     for (const t of active) {
       const c = counts.get(t.source)!;
@@ -63,7 +83,7 @@ export function maskedHops(cell: Cell, nearDeg: number, analysis: Record<string,
       }
     }
   });
-  return [...counts.values()];
+  return { counts: [...counts.values()], hops, ms };
 }
 
 function main(argv: readonly string[]): number {
@@ -88,12 +108,30 @@ function main(argv: readonly string[]): number {
     return 2;
   }
   const pct = (a: number, b: number) => (b > 0 ? `${((100 * a) / b).toFixed(0)}%` : '-').padStart(5);
-  console.log(`hops with a reported source within ${near} deg of the caller (seed ${seed}): calling alone / calling while another source calls`);
+  console.log(`hops with a reported source within ${near} deg of the caller (seed ${seed}): calling alone / calling while another source calls; the analysis alone -> followed by the tracker`);
+  const time = [
+    { hops: 0, ms: 0 },
+    { hops: 0, ms: 0 },
+  ];
+  const sum = [0, 0, 0, 0];
   for (const cell of cells) {
-    for (const c of maskedHops(cell, near, analysis)) {
-      console.log(`  ${cell.id.padEnd(8)} ${c.source.padEnd(9)} alone ${String(c.aloneFound).padStart(4)} of ${String(c.alone).padStart(4)} ${pct(c.aloneFound, c.alone)}   overlapped ${String(c.overlappedFound).padStart(4)} of ${String(c.overlapped).padStart(4)} ${pct(c.overlappedFound, c.overlapped)}`);
-    }
+    const runs = [maskedHops(cell, near, analysis), maskedHops(cell, near, analysis, true)];
+    runs.forEach((r, i) => {
+      time[i]!.hops += r.hops;
+      time[i]!.ms += r.ms;
+    });
+    runs[0]!.counts.forEach((c, i) => {
+      const t = runs[1]!.counts[i]!;
+      sum[0] += c.overlappedFound;
+      sum[1] += t.overlappedFound;
+      sum[2] += c.overlapped;
+      console.log(
+        `  ${cell.id.padEnd(8)} ${c.source.padEnd(9)} alone ${String(c.aloneFound).padStart(4)} -> ${String(t.aloneFound).padStart(4)} of ${String(c.alone).padStart(4)} ${pct(c.aloneFound, c.alone)} -> ${pct(t.aloneFound, t.alone)}   overlapped ${String(c.overlappedFound).padStart(4)} -> ${String(t.overlappedFound).padStart(4)} of ${String(c.overlapped).padStart(4)} ${pct(c.overlappedFound, c.overlapped)} -> ${pct(t.overlappedFound, t.overlapped)}`,
+      );
+    });
   }
+  const us = (i: number) => ((1000 * time[i]!.ms) / Math.max(1, time[i]!.hops)).toFixed(1);
+  console.log(`overlapped hops found: ${sum[0]} -> ${sum[1]} of ${sum[2]}; time per hop: analysis ${us(0)} us, analysis and tracker ${us(1)} us (${(time[1]!.ms / Math.max(1e-9, time[0]!.ms)).toFixed(2)}x)`);
   return 0;
 }
 

@@ -1070,3 +1070,47 @@ function feed(tracker: Tracker, t0: number, seconds: number, cands: (t: number) 
   }
   return { events, ids };
 }
+
+describe('watch list (where the analysis should look for a followed caller: src/analysis/watched-directions.ts)', () => {
+  const call = (az: number) => (t: number) => (t % 0.6 < 0.12 ? [{ azimuthDeg: az, elevationDeg: null, score: 1 }] : []);
+  const list = (tracker: Tracker) => {
+    const az = new Float64Array(4);
+    const el = new Float64Array(4);
+    const half = new Float64Array(4);
+    const n = tracker.watchList(az, el, half);
+    return Array.from({ length: n }, (_, i) => ({ az: az[i]!, el: el[i]!, half: half[i]! }));
+  };
+
+  it('lists a confirmed track between its calls, at its prediction with its gate; not while its own caller supports it', () => {
+    const tracker = new Tracker({});
+    feed(tracker, 0, 3.3, call(-40));
+    const watched = list(tracker);
+    expect(watched).toHaveLength(1);
+    expect(Math.abs(watched[0]!.az + 40)).toBeLessThan(1);
+    expect(watched[0]!.el).toBeNaN();
+    expect(watched[0]!.half).toBeGreaterThan(3);
+    feed(tracker, 3.3, 0.03, () => [{ azimuthDeg: -40, elevationDeg: null, score: 1 }]);
+    expect(list(tracker)).toHaveLength(0);
+  });
+
+  it('lists it while another caller wins the hops, but not within 12 deg of another track, nor 2 s after its last support', () => {
+    const tracker = new Tracker({});
+    feed(tracker, 0, 3, (t) => [...call(-40)(t), ...call(30)(t + 0.3)]);
+    feed(tracker, 3, 0.1, () => [{ azimuthDeg: 30, elevationDeg: null, score: 1 }]);
+    expect(list(tracker).map((w) => Math.round(w.az))).toEqual([-40]);
+    // the other caller walks from 30 to -29 deg (11 deg from the first) over 2 s, calling throughout
+    const near = new Tracker({});
+    feed(near, 0, 3, (t) => [...call(-40)(t), ...call(30)(t + 0.3)]);
+    feed(near, 3, 2, (t) => [...call(-40)(t), { azimuthDeg: 30 - 29.5 * (t - 3), elevationDeg: null, score: 1 }]);
+    expect(near.summary()).toHaveLength(2);
+    expect(list(near)).toHaveLength(0);
+    feed(tracker, 3.1, 2.5, () => [{ azimuthDeg: 30, elevationDeg: null, score: 1 }]);
+    expect(list(tracker)).toHaveLength(0);
+  });
+
+  it('gives none on an array whose mirror folds azimuth (a pair)', () => {
+    const tracker = new Tracker({ mirror: PAIR_X_MIRROR });
+    feed(tracker, 0, 3.3, call(-40));
+    expect(list(tracker)).toHaveLength(0);
+  });
+});

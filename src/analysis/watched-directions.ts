@@ -1,0 +1,244 @@
+/**
+ * Watched directions: a caller the tracker follows, looked for where a louder caller fills the
+ * hop.
+ *
+ * Two callers that call at once are often heard as one: the louder (or the broader) one wins
+ * every band of the fusion (./band-fusion.ts), a call above the array's spatial-aliasing limit
+ * lies above the bins that give a direction of their own (./bin-directions.ts), and the
+ * quieter caller's track coasts through its call. Yet many single bins of the hop's own spectra
+ * are still filled by one caller alone (two calls rarely fill the same bin at once: the
+ * time-frequency sparsity of source separation by bin masks, common practice; e.g. Yilmaz and
+ * Rickard 2004, DUET). At a high frequency a bin's phases fit several directions (the aliased
+ * lobes), so the bins alone cannot say which; the tracker can, as it knows where the caller it
+ * follows should be now. So for each watched direction (a confirmed track's prediction, handed
+ * in by the tracking session, src/track/tracking-session.ts) this hop's bins that do not fit
+ * the winner (WINNER_FIT) are tested against the azimuths within the track's gate around the
+ * prediction (at most MAX_HALF_DEG either side, where the presets have at most one lobe); the
+ * azimuth that the most bin evidence fits closely (WATCH_FIT) is where the watched caller is
+ * heard, when at least WATCH_MIN_BINS bins holding WATCH_SHARE of the evidence of all the bins
+ * that do not fit the winner fit it. A room's reflections, or a lobe of the winner's, fit a
+ * direction in a few scattered bins of that evidence (3-5 bins, 5-15 % of it: measured on the
+ * accuracy matrix's rooms); a second caller fills many (8-30 bins, 30-60 %: its crossings).
+ *
+ * Each bin is read from this hop's spectra, not the analysis' memory: the memory of a bin the
+ * louder caller filled a moment ago still holds its phase. Motion matrix, crossing cells of 13
+ * draws (sources >= 80 % complete of 155): 82 without the watch; 92 read from the memory; 111 from
+ * the hop's spectra, but then the accuracy matrix's rooms gave 1.51 events per call against 1.39
+ * (a lobe-born track found its lobe in reflections every hop); with WATCH_MIN_BINS and
+ * WATCH_SHARE 1.39 again, and 100 (share 0.3 with 6 bins: 98). With the final settings (the
+ * hop analyzer's WATCH_APART_DEG, the tracker's WATCH_CLEAR_DEG) 93 of 155, and share 0.1 97, but
+ * the chorus cells of ten draws then had 14 id switches and 11 tracks holding two against 8 and
+ * 5 (a chorus track took a passer's calls), and the accuracy matrix 1.17 events per call.
+ *
+ * Pure: arrays in, numbers out; no allocation per hop.
+ */
+import type { DirectionModel } from '../direction/direction-model.js';
+import type { FftBuffer } from '../dsp/fft.js';
+import { wrapDeg } from '../geometry/vec3.js';
+import { fastAtan2 } from '../util/fast-atan2.js';
+
+/** Most watched directions per hop. */
+export const MAX_WATCHED = 4;
+/**
+ * Azimuths within the watched track's gate (its half-width, from the tracker) either side of its
+ * prediction are tested, at least MIN_HALF_DEG and at most MAX_HALF_DEG: wider, a chorus track
+ * watched through its pause took a passer's call 10 degrees off it.
+ */
+const MIN_HALF_DEG = 6;
+const MAX_HALF_DEG = 10;
+/** Coarse step of the test, degrees; the best coarse azimuth is refined a degree either side. */
+const COARSE_STEP_DEG = 2;
+/** A bin that fits the winner this well (mean over pairs of the cosine of the phase error) is the winner's. */
+const WINNER_FIT = 0.5;
+/** A bin fits a tested direction when the mean cosine of its pairs' phase errors reaches this. */
+const WATCH_FIT = 0.85;
+/** The direction found must be fitted by at least this many bins ... */
+const WATCH_MIN_BINS = 5;
+/** ... holding this share of the evidence of the bins that do not fit the winner. */
+const WATCH_SHARE = 0.2;
+/** Most bins kept per hop (the heaviest that do not fit the winner). */
+const MAX_FOREIGN = 96;
+
+export class WatchedDirections {
+  /** This hop's finds, per watched direction: azimuth (NaN when not heard), the elevation it was looked for at, and the evidence of its bins. */
+  readonly foundAz = new Float64Array(MAX_WATCHED);
+  readonly foundEl = new Float64Array(MAX_WATCHED);
+  readonly foundMass = new Float64Array(MAX_WATCHED);
+  /** The directions to look for in the next hop: azimuth, elevation (NaN: unknown) and the half-width of the test. */
+  private readonly watchAz = new Float64Array(MAX_WATCHED);
+  private readonly watchEl = new Float64Array(MAX_WATCHED);
+  private readonly watchHalf = new Float64Array(MAX_WATCHED);
+  watchCount = 0;
+  private readonly P: number;
+  /** Per pair: the winner's phasor at the current bin and its step from bin to bin. */
+  private readonly stepRe: Float64Array;
+  private readonly stepIm: Float64Array;
+  private readonly curRe: Float64Array;
+  private readonly curIm: Float64Array;
+  /** Per pair: this bin's cross-spectrum. */
+  private readonly re: Float64Array;
+  private readonly im: Float64Array;
+  /** The bins that do not fit the winner: bin, evidence, and per pair (index i * P + p) the phase. */
+  private readonly foreignBin = new Int32Array(MAX_FOREIGN);
+  private readonly foreignMass = new Float64Array(MAX_FOREIGN);
+  private readonly foreignPhase: Float64Array;
+  private foreignCount = 0;
+  private foreignTotal = 0;
+  private readonly lags: Float64Array;
+  /** Bins that fitted the last direction fitMass tested. */
+  private fitted = 0;
+
+  constructor(
+    private readonly model: DirectionModel,
+    private readonly n: number,
+    private readonly firstBin: number,
+    private readonly endBin: number,
+  ) {
+    const P = model.pairs.length;
+    this.P = P;
+    this.stepRe = new Float64Array(P);
+    this.stepIm = new Float64Array(P);
+    this.curRe = new Float64Array(P);
+    this.curIm = new Float64Array(P);
+    this.re = new Float64Array(P);
+    this.im = new Float64Array(P);
+    this.foreignPhase = new Float64Array(MAX_FOREIGN * P);
+    this.lags = new Float64Array(P);
+  }
+
+  /** The directions to look for in the next hop (at most MAX_WATCHED): azimuth, elevation (NaN: unknown) and half-width (degrees) of each. */
+  setWatched(az: ArrayLike<number>, el: ArrayLike<number>, half: ArrayLike<number>, count: number): void {
+    const m = Math.min(count, MAX_WATCHED);
+    for (let i = 0; i < m; i++) {
+      this.watchAz[i] = az[i]!;
+      this.watchEl[i] = el[i]!;
+      const h = Math.round(half[i]! / COARSE_STEP_DEG) * COARSE_STEP_DEG;
+      this.watchHalf[i] = h >= MIN_HALF_DEG ? Math.min(MAX_HALF_DEG, h) : MIN_HALF_DEG;
+    }
+    this.watchCount = m;
+  }
+
+  /**
+   * Look for the watched directions in this hop's spectra (per channel, bin k at [2k], [2k + 1]),
+   * given the winner's lags (samples), this hop's bin weights (a bin without weight holds
+   * nothing new), the bins' weight memory and each bin's share of its band's evidence
+   * (binScale: a bin's evidence is binScale x its weight memory, as in ./bin-directions.ts).
+   * Fills foundAz / foundEl / foundMass for each watched direction; returns the watched count.
+   */
+  search(spectra: readonly FftBuffer[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array): number {
+    const m = this.watchCount;
+    this.foundAz.fill(NaN);
+    this.foundMass.fill(0);
+    if (m === 0) return 0;
+    this.collectForeign(spectra, winnerLags, weights, weightAcc, binScale);
+    if (this.foreignCount < WATCH_MIN_BINS) return m;
+    for (let w = 0; w < m; w++) {
+      const az0 = this.watchAz[w]!;
+      const el = this.watchEl[w]! === this.watchEl[w]! ? this.watchEl[w]! : 0;
+      this.foundEl[w] = el;
+      const h = this.watchHalf[w]!;
+      let bestAz = NaN;
+      let best = 0;
+      for (let d = -h; d <= h + 1e-9; d += COARSE_STEP_DEG) {
+        const v = this.fitMass(az0 + d, el);
+        if (v > best && this.fitted >= WATCH_MIN_BINS) {
+          best = v;
+          bestAz = az0 + d;
+        }
+      }
+      if (!(best > 0)) continue;
+      const centre = bestAz;
+      for (let d = -1; d <= 1; d += 2) {
+        const v = this.fitMass(centre + d, el);
+        if (v > best && this.fitted >= WATCH_MIN_BINS) {
+          best = v;
+          bestAz = centre + d;
+        }
+      }
+      if (best < WATCH_SHARE * this.foreignTotal) continue;
+      this.foundAz[w] = wrapDeg(bestAz);
+      this.foundMass[w] = best;
+    }
+    return m;
+  }
+
+  /** The heaviest bins (MAX_FOREIGN) with weight this hop that do not fit the winner, with their pairs' phases. */
+  private collectForeign(spectra: readonly FftBuffer[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array): void {
+    const P = this.P;
+    const pairs = this.model.pairs;
+    const k0 = this.firstBin;
+    for (let p = 0; p < P; p++) {
+      const w = (2 * Math.PI * winnerLags[p]!) / this.n;
+      this.stepRe[p] = Math.cos(w);
+      this.stepIm[p] = Math.sin(w);
+      this.curRe[p] = Math.cos(w * k0);
+      this.curIm[p] = Math.sin(w * k0);
+    }
+    this.foreignCount = 0;
+    this.foreignTotal = 0;
+    for (let k = k0; k < this.endBin; k++) {
+      const mass = binScale[k]! * weightAcc[k]!;
+      const use = weights[k]! > 0 && mass > 0;
+      // Each pair's unit cross-spectrum conj(X_a) X_b (the convention of the pair memories, src/dsp/gcc.ts) against the winner's phasor.
+      let fit = 0;
+      for (let p = 0; p < P; p++) {
+        const cr = this.curRe[p]!;
+        const ci = this.curIm[p]!;
+        this.curRe[p] = cr * this.stepRe[p]! - ci * this.stepIm[p]!;
+        this.curIm[p] = cr * this.stepIm[p]! + ci * this.stepRe[p]!;
+        if (!use) continue;
+        const A = spectra[pairs[p]![0]]!;
+        const B = spectra[pairs[p]![1]]!;
+        const xr = A[2 * k]!;
+        const xi = A[2 * k + 1]!;
+        const yr = B[2 * k]!;
+        const yi = B[2 * k + 1]!;
+        const re = xr * yr + xi * yi;
+        const im = xr * yi - xi * yr;
+        const mag = Math.sqrt(re * re + im * im);
+        this.re[p] = re;
+        this.im[p] = im;
+        if (mag > 0) fit += (re * cr - im * ci) / mag;
+      }
+      if (!use || fit >= WINNER_FIT * P) continue;
+      this.keepForeign(k, mass);
+    }
+  }
+
+  /** Keep bin k among the heaviest MAX_FOREIGN foreign bins (the lightest makes room). */
+  private keepForeign(k: number, mass: number): void {
+    const P = this.P;
+    let i = this.foreignCount;
+    if (i === MAX_FOREIGN) {
+      let light = 0;
+      for (let j = 1; j < MAX_FOREIGN; j++) if (this.foreignMass[j]! < this.foreignMass[light]!) light = j;
+      if (!(mass > this.foreignMass[light]!)) return;
+      this.foreignTotal -= this.foreignMass[light]!;
+      i = light;
+    } else this.foreignCount++;
+    this.foreignTotal += mass;
+    this.foreignBin[i] = k;
+    this.foreignMass[i] = mass;
+    for (let p = 0; p < P; p++) this.foreignPhase[i * P + p] = fastAtan2(this.im[p]!, this.re[p]!);
+  }
+
+  /** The evidence of the foreign bins that fit direction (az, el) within WATCH_FIT (their count in `fitted`). */
+  private fitMass(azDeg: number, elDeg: number): number {
+    const P = this.P;
+    this.fitted = 0;
+    if (!this.model.lagsOf(azDeg, elDeg, this.lags)) return 0;
+    const scale = (2 * Math.PI) / this.n;
+    let mass = 0;
+    let bins = 0;
+    for (let i = 0; i < this.foreignCount; i++) {
+      const k = this.foreignBin[i]!;
+      let fit = 0;
+      for (let p = 0; p < P; p++) fit += Math.cos(this.foreignPhase[i * P + p]! + scale * k * this.lags[p]!);
+      if (fit < WATCH_FIT * P) continue;
+      mass += this.foreignMass[i]!;
+      bins++;
+    }
+    this.fitted = bins;
+    return mass;
+  }
+}
