@@ -564,7 +564,7 @@ export class HopAnalyzer {
       this.fusionStage(this.candidateStage());
     }
     // a watch is for one hop: the tracker hands in its predictions after each
-    this.watched?.setWatched(this.winnerLags, this.winnerLags, this.winnerLags, 0);
+    this.watched?.clear();
     return this.result;
   }
 

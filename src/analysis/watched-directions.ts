@@ -118,6 +118,11 @@ export class WatchedDirections {
     this.watchCount = m;
   }
 
+  /** Nothing to look for (until setWatched). */
+  clear(): void {
+    this.watchCount = 0;
+  }
+
   /**
    * Look for the watched directions in this hop's spectra (per channel, bin k at [2k], [2k + 1]),
    * given the winner's lags (samples), this hop's bin weights (a bin without weight holds
@@ -225,8 +230,7 @@ export class WatchedDirections {
   /** The evidence of the foreign bins that fit direction (az, el) within WATCH_FIT (their count in `fitted`). */
   private fitMass(azDeg: number, elDeg: number): number {
     const P = this.P;
-    this.fitted = 0;
-    if (!this.model.lagsOf(azDeg, elDeg, this.lags)) return 0;
+    this.model.lagsOf(azDeg, elDeg, this.lags);
     const scale = (2 * Math.PI) / this.n;
     let mass = 0;
     let bins = 0;

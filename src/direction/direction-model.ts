@@ -29,7 +29,7 @@ export interface DirectionModel {
   /** Direction from per-pair lags (samples); returns false when the lags fit no direction. */
   solve(lags: Float64Array, offset: number, out: Direction): boolean;
   /** The other way: each pair's lag (samples) for a source at azimuth and elevation (degrees), written to out. */
-  lagsOf(azimuthDeg: number, elevationDeg: number, out: Float64Array): boolean;
+  lagsOf(azimuthDeg: number, elevationDeg: number, out: Float64Array): void;
   /**
    * Physical lag limit of each pair, samples (spacing / c x rate). A frequency bin k of an
    * n-sample frame gives a pair's delay from its phase alone while the limit is below n / (2k).

@@ -77,10 +77,9 @@ export class PairDirectionModel implements DirectionModel {
     return true;
   }
 
-  lagsOf(azimuthDeg: number, elevationDeg: number, out: Float64Array): boolean {
+  lagsOf(azimuthDeg: number, elevationDeg: number, out: Float64Array): void {
     // tdoa = (p_0 - p_1) . u / c = -D (axis . u) / c
     out[0] = (-(this.spacing * dot(this.axis, unitFromAzEl(azimuthDeg, elevationDeg))) / this.speedOfSound) * this.sampleRate;
-    return true;
   }
 
   prepareSubset(use: Uint8Array): number {

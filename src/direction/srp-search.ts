@@ -208,7 +208,7 @@ export class SrpDirectionModel implements DirectionModel {
     return (dot(this.baselines[p]!, u) / this.speedOfSound) * this.sampleRate;
   }
 
-  lagsOf(azimuthDeg: number, elevationDeg: number, out: Float64Array): boolean {
+  lagsOf(azimuthDeg: number, elevationDeg: number, out: Float64Array): void {
     // unitFromAzEl and lagFor, without allocating
     const az = (azimuthDeg * Math.PI) / 180;
     const el = (elevationDeg * Math.PI) / 180;
@@ -220,7 +220,6 @@ export class SrpDirectionModel implements DirectionModel {
       const b = this.baselines[p]!;
       out[p] = (b[0] * ux + b[1] * uy + b[2] * uz) * g;
     }
-    return true;
   }
 
   get gridSize(): number {

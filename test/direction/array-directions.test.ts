@@ -1,4 +1,5 @@
 import { afterAll, describe, expect, it } from 'vitest';
+import { pairGeometry } from '../../src/geometry/array-geometry.js';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
 import { unitFromAzEl, wrapDeg } from '../../src/geometry/vec3.js';
 import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
@@ -53,5 +54,34 @@ describe('full-circle azimuth from 3- and 4-mic arrays (sox-made delays)', () =>
       expect(Math.abs(r.azErr), `azimuth at ${az},${el}`).toBeLessThan(2);
       expect(Math.abs(r.el - el), `elevation at ${az},${el}`).toBeLessThan(3);
     }
+  });
+});
+
+describe('lagsOf: the lags a direction gives each pair (used to look for a followed caller, src/analysis/watched-directions.ts)', () => {
+  it('match the delays measured on sox-made signals (tetrahedron-10cm, three directions)', () => {
+    for (const [az, el] of [[30, 40], [-120, -25], [170, 10]] as const) {
+      const g = loadGeometryFile('configs/arrays/tetrahedron-10cm.json');
+      const delays = farFieldDelaysUp(g.mics.map((m) => m.position), unitFromAzEl(az, el), C, UP);
+      const path = soxDelayedSignal({ out: `${tmp.dir}/lags-${az}-${el}.wav`, delaysUp: delays, durationS: 0.4, effects: ['sinc', '200-8000'] }, tmp.dir);
+      const { rate, channels } = soxDecode(path);
+      const setup = createAnalysis(g, rate, C, {});
+      const P = setup.model.pairs.length;
+      const measured: number[][] = Array.from({ length: P }, () => []);
+      analyzeArrays(setup, channels, (r) => {
+        if (r.valid) for (let p = 0; p < P; p++) measured[p]!.push(r.tdoaS[p]! * rate);
+      });
+      const expected = new Float64Array(P);
+      setup.model.lagsOf(az, el, expected);
+      for (let p = 0; p < P; p++) expect(Math.abs(median(measured[p]!) - expected[p]!), `pair ${p} at ${az},${el}`).toBeLessThan(0.2);
+    }
+  });
+
+  it('the pair of interface.md: tdoa = (p_0 - p_1) . u / c, so a source at +90 deg (on the +x side) gives -D / c', () => {
+    const setup = createAnalysis(pairGeometry(0.2), 48000, C, {});
+    const out = new Float64Array(1);
+    setup.model.lagsOf(90, 0, out);
+    expect(out[0]).toBeCloseTo((-0.2 / C) * 48000, 9);
+    setup.model.lagsOf(-30, 0, out);
+    expect(out[0]).toBeCloseTo((0.2 * 0.5 / C) * 48000, 9);
   });
 });
