@@ -309,6 +309,7 @@ export class HopAnalyzer {
   private readonly binDirections: BinDirections | null;
   /** The directions the tracker asks to be looked for in the next hop (arrays of 3+ pairs; ./watched-directions.ts), null otherwise. */
   private readonly watched: WatchedDirections | null;
+  /** The winner's lags (samples), for the watched directions. */
   private readonly winnerLags: Float64Array;
   /** The last hop (as hopIndex) that held another caller beside the winner (winnerAtOwnPeak), -1 before any. */
   private otherAt = -1;

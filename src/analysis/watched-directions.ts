@@ -19,6 +19,12 @@
  * that do not fit the winner fit it. A room's reflections, or a lobe of the winner's, fit a
  * direction in a few scattered bins of that evidence (3-5 bins, 5-15 % of it: measured on the
  * accuracy matrix's rooms); a second caller fills many (8-30 bins, 30-60 %: its crossings).
+ * The finds are made heaviest first, and a bin one find takes is not another's: a high caller's
+ * bins fit its own direction and an aliased lobe of it, where another track may be watched (a
+ * track born of a chorus' lobe, test/accuracy/motion-cells.test.ts, found the other chorus'
+ * bins there, stayed awake on those events and later took a passer's call). Leaving out the bins
+ * of every further source the hop reports too (not only the winner's) lost 4 sources >= 80 %
+ * complete over the motion matrix's 13 draws; not kept.
  *
  * Each bin is read from this hop's spectra, not the analysis' memory: the memory of a bin the
  * louder caller filled a moment ago still holds its phase. Motion matrix, crossing cells of 13
@@ -82,7 +88,13 @@ export class WatchedDirections {
   private readonly foreignBin = new Int32Array(MAX_FOREIGN);
   private readonly foreignMass = new Float64Array(MAX_FOREIGN);
   private readonly foreignPhase: Float64Array;
+  /** Per foreign bin: 1 once a find took it. */
+  private readonly used = new Uint8Array(MAX_FOREIGN);
   private foreignCount = 0;
+  /** Per watched direction: done (its find made, or none), and its best azimuth and mass in the current round. */
+  private readonly done = new Uint8Array(MAX_WATCHED);
+  private readonly bestAz = new Float64Array(MAX_WATCHED);
+  private readonly bestMass = new Float64Array(MAX_WATCHED);
   private foreignTotal = 0;
   private readonly lags: Float64Array;
   /** Bins that fitted the last direction fitMass tested. */
@@ -137,34 +149,53 @@ export class WatchedDirections {
     if (m === 0) return 0;
     this.collectForeign(spectra, winnerLags, weights, weightAcc, binScale);
     if (this.foreignCount < WATCH_MIN_BINS) return m;
-    for (let w = 0; w < m; w++) {
-      const az0 = this.watchAz[w]!;
-      const el = this.watchEl[w]! === this.watchEl[w]! ? this.watchEl[w]! : 0;
-      this.foundEl[w] = el;
-      const h = this.watchHalf[w]!;
-      let bestAz = NaN;
-      let best = 0;
-      for (let d = -h; d <= h + 1e-9; d += COARSE_STEP_DEG) {
-        const v = this.fitMass(az0 + d, el);
-        if (v > best && this.fitted >= WATCH_MIN_BINS) {
-          best = v;
-          bestAz = az0 + d;
-        }
+    // The heaviest find first; the bins it takes are not the others' (one caller's bins fit its
+    // own direction and, at a high frequency, an aliased lobe of it where another track may be).
+    this.used.fill(0, 0, this.foreignCount);
+    this.done.fill(0);
+    for (let round = 0; round < m; round++) {
+      let pick = -1;
+      for (let w = 0; w < m; w++) {
+        if (this.done[w] === 1) continue;
+        this.bestOf(w);
+        if (this.bestMass[w]! > 0 && (pick < 0 || this.bestMass[w]! > this.bestMass[pick]!)) pick = w;
       }
-      if (!(best > 0)) continue;
+      if (pick < 0 || this.bestMass[pick]! < WATCH_SHARE * this.foreignTotal) break;
+      this.done[pick] = 1;
+      this.foundAz[pick] = wrapDeg(this.bestAz[pick]!);
+      this.foundMass[pick] = this.bestMass[pick]!;
+      this.fitMass(this.bestAz[pick]!, this.foundEl[pick]!, true);
+    }
+    return m;
+  }
+
+  /** The best azimuth near watched direction w, on the bins no find took yet (bestAz / bestMass; mass 0 when none). */
+  private bestOf(w: number): void {
+    const az0 = this.watchAz[w]!;
+    const el = this.watchEl[w]! === this.watchEl[w]! ? this.watchEl[w]! : 0;
+    this.foundEl[w] = el;
+    const h = this.watchHalf[w]!;
+    let bestAz = NaN;
+    let best = 0;
+    for (let d = -h; d <= h + 1e-9; d += COARSE_STEP_DEG) {
+      const v = this.fitMass(az0 + d, el, false);
+      if (v > best && this.fitted >= WATCH_MIN_BINS) {
+        best = v;
+        bestAz = az0 + d;
+      }
+    }
+    if (best > 0) {
       const centre = bestAz;
       for (let d = -1; d <= 1; d += 2) {
-        const v = this.fitMass(centre + d, el);
+        const v = this.fitMass(centre + d, el, false);
         if (v > best && this.fitted >= WATCH_MIN_BINS) {
           best = v;
           bestAz = centre + d;
         }
       }
-      if (best < WATCH_SHARE * this.foreignTotal) continue;
-      this.foundAz[w] = wrapDeg(bestAz);
-      this.foundMass[w] = best;
     }
-    return m;
+    this.bestAz[w] = bestAz;
+    this.bestMass[w] = best;
   }
 
   /** The heaviest bins (MAX_FOREIGN) with weight this hop that do not fit the winner, with their pairs' phases. */
@@ -184,7 +215,8 @@ export class WatchedDirections {
     for (let k = k0; k < this.endBin; k++) {
       const mass = binScale[k]! * weightAcc[k]!;
       const use = weights[k]! > 0 && mass > 0;
-      // Each pair's unit cross-spectrum conj(X_a) X_b (the convention of the pair memories, src/dsp/gcc.ts) against the winner's phasor.
+      // Each pair's unit cross-spectrum conj(X_a) X_b (the convention of the pair memories,
+      // src/dsp/gcc.ts) against the winner's phasor (stepped to the next bin as it is read).
       let fit = 0;
       for (let p = 0; p < P; p++) {
         const cr = this.curRe[p]!;
@@ -227,18 +259,20 @@ export class WatchedDirections {
     for (let p = 0; p < P; p++) this.foreignPhase[i * P + p] = fastAtan2(this.im[p]!, this.re[p]!);
   }
 
-  /** The evidence of the foreign bins that fit direction (az, el) within WATCH_FIT (their count in `fitted`). */
-  private fitMass(azDeg: number, elDeg: number): number {
+  /** The evidence of the foreign bins not yet taken that fit direction (az, el) within WATCH_FIT (their count in `fitted`); `take` marks them taken. */
+  private fitMass(azDeg: number, elDeg: number, take: boolean): number {
     const P = this.P;
     this.model.lagsOf(azDeg, elDeg, this.lags);
     const scale = (2 * Math.PI) / this.n;
     let mass = 0;
     let bins = 0;
     for (let i = 0; i < this.foreignCount; i++) {
+      if (this.used[i] === 1) continue;
       const k = this.foreignBin[i]!;
       let fit = 0;
       for (let p = 0; p < P; p++) fit += Math.cos(this.foreignPhase[i * P + p]! + scale * k * this.lags[p]!);
       if (fit < WATCH_FIT * P) continue;
+      if (take) this.used[i] = 1;
       mass += this.foreignMass[i]!;
       bins++;
     }
