@@ -130,7 +130,8 @@ describe('motion cells: track purity, completeness and id switches', () => {
     expect(src(CELLS[2]!.name, 'fast').track).not.toBe(src(CELLS[2]!.name, 'slow').track);
   });
 
-  it('two choruses in bouts and a caller passing one: three pure tracks (100 %), completeness 83 / 81 / 100 %, no switch', () => {
+  // Measured: completeness 94 / 95 / 100 %, no switch (83 / 81 / 100 % when first written).
+  it('two choruses in bouts and a caller passing one: three pure tracks, each with at least 80 % of its calls, at most one id switch', () => {
     for (const name of ['chorus-a', 'chorus-b', 'passer']) {
       expect(purityOf(CELLS[3]!.name, name)).toBeGreaterThanOrEqual(0.95);
       expect(src(CELLS[3]!.name, name).completeness).toBeGreaterThanOrEqual(0.8);
