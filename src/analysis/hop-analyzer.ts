@@ -309,8 +309,6 @@ export class HopAnalyzer {
   private readonly binDirections: BinDirections | null;
   /** The directions the tracker asks to be looked for in the next hop (arrays of 3+ pairs; ./watched-directions.ts), null otherwise. */
   private readonly watched: WatchedDirections | null;
-  /** The winner's lags (samples), for the watched directions. */
-  private readonly winnerLags: Float64Array;
   /** The last hop (as hopIndex) that held another caller beside the winner (winnerAtOwnPeak), -1 before any. */
   private otherAt = -1;
   /** Hops within which that other caller still fills the memory: its time constant (--memory). */
@@ -458,7 +456,6 @@ export class HopAnalyzer {
     this.binDirections = binDirections.active ? binDirections : null;
     this.binTopHz = (binDirections.endBin / n) * sampleRate;
     this.watched = P >= 3 ? new WatchedDirections(model, n, layout.firstBin, layout.endBin) : null;
-    this.winnerLags = new Float64Array(P);
     this.lowSupport = new Float64Array(options.maxSources);
     this.selection = new Float64Array(candidates);
     this.prevLags = new Float64Array(P);
@@ -970,13 +967,13 @@ export class HopAnalyzer {
     // source). Otherwise the memory would carry the last call's direction through silence; a
     // hop where nothing sounds has confidence 0.
     const sounding = res.snrDb >= opts.detectSnrDb || res.freshZ >= FRESH_Z;
+    this.prevValid = res.sourceCount > 0;
+    if (this.prevValid) for (let p = 0; p < P; p++) this.prevLags[p] = res.tdoaS[p]! * this.sampleRate;
     if (sounding && res.sourceCount > 0 && this.binDirections !== null) this.addBinSources(res, this.binDirections, winFused);
-    if (sounding && res.sourceCount > 0 && this.watched !== null && this.watched.watchCount > 0) this.addWatchedSources(res, this.watched, winFused, P);
+    if (sounding && res.sourceCount > 0 && this.watched !== null && this.watched.watchCount > 0) this.addWatchedSources(res, this.watched, winFused);
     if (!sounding) res.confidence = 0;
     this.lastSounding = sounding;
     res.valid = res.sourceCount > 0 && sounding && res.confidence >= opts.minConfidence;
-    this.prevValid = res.sourceCount > 0;
-    if (this.prevValid) for (let p = 0; p < P; p++) this.prevLags[p] = res.tdoaS[p]! * this.sampleRate;
   }
 
   /**
@@ -1085,9 +1082,9 @@ export class HopAnalyzer {
    * reports, is a further source heard under a louder caller (underLouder), scored by that share
    * (at least RUNS_SCORE).
    */
-  private addWatchedSources(res: HopResult, watched: WatchedDirections, winFused: number, P: number): void {
-    for (let p = 0; p < P; p++) this.winnerLags[p] = res.tdoaS[p]! * this.sampleRate;
-    const m = watched.search(this.spectra, this.winnerLags, this.weights, this.weightAcc, this.binScale);
+  private addWatchedSources(res: HopResult, watched: WatchedDirections, winFused: number): void {
+    // prevLags: the winner's lags, set for the next hop's selection (fuseBands)
+    const m = watched.search(this.spectra, this.invMag, this.prevLags, this.weights, this.weightAcc, this.binScale);
     const winner = res.sources[0]!;
     for (let w = 0; w < m && res.sourceCount < this.options.maxSources; w++) {
       const az = watched.foundAz[w]!;
@@ -1098,7 +1095,7 @@ export class HopAnalyzer {
       if (!apart) continue;
       const src = res.sources[res.sourceCount++]!;
       src.azimuthDeg = az;
-      src.elevationDeg = winner.elevationDeg === null ? null : watched.foundEl[w]!;
+      src.elevationDeg = winner.elevationDeg === null ? null : watched.elevationOf(w);
       src.score = Math.min(1, Math.max(RUNS_SCORE, mass / winFused));
       src.centreHz = NaN;
       src.underLouder = true;

@@ -66,11 +66,10 @@ const WATCH_SHARE = 0.2;
 const MAX_FOREIGN = 96;
 
 export class WatchedDirections {
-  /** This hop's finds, per watched direction: azimuth (NaN when not heard), the elevation it was looked for at, and the evidence of its bins. */
+  /** This hop's finds, per watched direction: azimuth (NaN when not heard) and the evidence of its bins. */
   readonly foundAz = new Float64Array(MAX_WATCHED);
-  readonly foundEl = new Float64Array(MAX_WATCHED);
   readonly foundMass = new Float64Array(MAX_WATCHED);
-  /** The directions to look for in the next hop: azimuth, elevation (NaN: unknown) and the half-width of the test. */
+  /** The directions to look for in the next hop: azimuth, elevation (0 when unknown) and the half-width of the test. */
   private readonly watchAz = new Float64Array(MAX_WATCHED);
   private readonly watchEl = new Float64Array(MAX_WATCHED);
   private readonly watchHalf = new Float64Array(MAX_WATCHED);
@@ -81,7 +80,7 @@ export class WatchedDirections {
   private readonly stepIm: Float64Array;
   private readonly curRe: Float64Array;
   private readonly curIm: Float64Array;
-  /** Per pair: this bin's cross-spectrum. */
+  /** Per pair: this bin's unit cross-spectrum. */
   private readonly re: Float64Array;
   private readonly im: Float64Array;
   /** The bins that do not fit the winner: bin, evidence, and per pair (index i * P + p) the phase. */
@@ -123,11 +122,16 @@ export class WatchedDirections {
     const m = Math.min(count, MAX_WATCHED);
     for (let i = 0; i < m; i++) {
       this.watchAz[i] = az[i]!;
-      this.watchEl[i] = el[i]!;
+      this.watchEl[i] = el[i]! === el[i]! ? el[i]! : 0;
       const h = Math.round(half[i]! / COARSE_STEP_DEG) * COARSE_STEP_DEG;
       this.watchHalf[i] = h >= MIN_HALF_DEG ? Math.min(MAX_HALF_DEG, h) : MIN_HALF_DEG;
     }
     this.watchCount = m;
+  }
+
+  /** The elevation watched direction w was looked for at (degrees; 0 when the tracker gave none). */
+  elevationOf(w: number): number {
+    return this.watchEl[w]!;
   }
 
   /** Nothing to look for (until setWatched). */
@@ -136,18 +140,19 @@ export class WatchedDirections {
   }
 
   /**
-   * Look for the watched directions in this hop's spectra (per channel, bin k at [2k], [2k + 1]),
-   * given the winner's lags (samples), this hop's bin weights (a bin without weight holds
+   * Look for the watched directions in this hop's spectra (per channel, bin k at [2k], [2k + 1])
+   * and their inverse magnitudes (invMag, per channel: the analysis' PHAT weights), given the
+   * winner's lags (samples), this hop's bin weights (a bin without weight holds
    * nothing new), the bins' weight memory and each bin's share of its band's evidence
    * (binScale: a bin's evidence is binScale x its weight memory, as in ./bin-directions.ts).
-   * Fills foundAz / foundEl / foundMass for each watched direction; returns the watched count.
+   * Fills foundAz / foundMass for each watched direction; returns the watched count.
    */
-  search(spectra: readonly FftBuffer[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array): number {
+  search(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array): number {
     const m = this.watchCount;
     this.foundAz.fill(NaN);
     this.foundMass.fill(0);
     if (m === 0) return 0;
-    this.collectForeign(spectra, winnerLags, weights, weightAcc, binScale);
+    this.collectForeign(spectra, invMag, winnerLags, weights, weightAcc, binScale);
     if (this.foreignCount < WATCH_MIN_BINS) return m;
     // The heaviest find first; the bins it takes are not the others' (one caller's bins fit its
     // own direction and, at a high frequency, an aliased lobe of it where another track may be).
@@ -164,7 +169,7 @@ export class WatchedDirections {
       this.done[pick] = 1;
       this.foundAz[pick] = wrapDeg(this.bestAz[pick]!);
       this.foundMass[pick] = this.bestMass[pick]!;
-      this.fitMass(this.bestAz[pick]!, this.foundEl[pick]!, true);
+      this.fitMass(this.bestAz[pick]!, this.watchEl[pick]!, true);
     }
     return m;
   }
@@ -172,8 +177,7 @@ export class WatchedDirections {
   /** The best azimuth near watched direction w, on the bins no find took yet (bestAz / bestMass; mass 0 when none). */
   private bestOf(w: number): void {
     const az0 = this.watchAz[w]!;
-    const el = this.watchEl[w]! === this.watchEl[w]! ? this.watchEl[w]! : 0;
-    this.foundEl[w] = el;
+    const el = this.watchEl[w]!;
     const h = this.watchHalf[w]!;
     let bestAz = NaN;
     let best = 0;
@@ -199,7 +203,7 @@ export class WatchedDirections {
   }
 
   /** The heaviest bins (MAX_FOREIGN) with weight this hop that do not fit the winner, with their pairs' phases. */
-  private collectForeign(spectra: readonly FftBuffer[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array): void {
+  private collectForeign(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array): void {
     const P = this.P;
     const pairs = this.model.pairs;
     const k0 = this.firstBin;
@@ -224,18 +228,19 @@ export class WatchedDirections {
         this.curRe[p] = cr * this.stepRe[p]! - ci * this.stepIm[p]!;
         this.curIm[p] = cr * this.stepIm[p]! + ci * this.stepRe[p]!;
         if (!use) continue;
-        const A = spectra[pairs[p]![0]]!;
-        const B = spectra[pairs[p]![1]]!;
+        const [a, b] = pairs[p]!;
+        const A = spectra[a]!;
+        const B = spectra[b]!;
         const xr = A[2 * k]!;
         const xi = A[2 * k + 1]!;
         const yr = B[2 * k]!;
         const yi = B[2 * k + 1]!;
-        const re = xr * yr + xi * yi;
-        const im = xr * yi - xi * yr;
-        const mag = Math.sqrt(re * re + im * im);
+        const g = invMag[a]![k]! * invMag[b]![k]!;
+        const re = (xr * yr + xi * yi) * g;
+        const im = (xr * yi - xi * yr) * g;
         this.re[p] = re;
         this.im[p] = im;
-        if (mag > 0) fit += (re * cr - im * ci) / mag;
+        fit += re * cr - im * ci;
       }
       if (!use || fit >= WINNER_FIT * P) continue;
       this.keepForeign(k, mass);
