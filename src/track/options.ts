@@ -128,7 +128,7 @@ export const trackerOptionSpecs: readonly NumberSpec<NumericKey>[] = [
   numberSpec('eventLeaveSnrDb', '--event-leave-snr <dB>', 'dB', 5, { min: 0, max: 60 },
     'SNR below which an event counts as paused (at most the enter SNR); hops below it neither start nor move a track'),
   numberSpec('eventEnterConfidence', '--event-enter-confidence <c>', '', 0.5, { min: 0, max: 1 },
-    'confidence x candidate score at which an event starts'),
+    'confidence x candidate score at which an event starts; a candidate below it does not move its track'),
   numberSpec('eventLeaveConfidence', '--event-leave-confidence <c>', '', 0.3, { min: 0, max: 1 },
     'confidence x candidate score below which an event counts as paused (at most the enter value)'),
   numberSpec('onsetThreshold', '--onset-threshold <o>', '', 0.5, { min: 0, max: 1 },

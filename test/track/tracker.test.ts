@@ -896,14 +896,14 @@ describe("a call's memory after it ends (hops whose own spectra do not support t
   });
 });
 
-describe('weak hops between a passer\'s calls (below both event-enter levels)', () => {
+describe('weak hops between a passer\'s calls (under the event-enter confidence)', () => {
   // A passer sweeping +30 deg/s, 0.1 s calls every 0.55 s (SNR 30 dB, confidence 1); between its
-  // calls, for 0.35 s, low and weakly coherent sound (SNR 8 dB, confidence 0.45, fresh coherence
-  // 6: above the held-memory limit) reads directions walking from the last call backwards at
-  // -40 deg/s, as measured between a passer's calls in wind on a 10 cm tetrahedron (motion
-  // matrix draw 8080, cho01: SNR 5-11 dB, confidence 0.25-0.65, freshZ 4-9.5). Bearing noise up
-  // to 1 deg.
-  function pass(options: ConstructorParameters<typeof Tracker>[0]) {
+  // calls, for 0.35 s, low and weakly coherent sound (fresh coherence 6: above the held-memory
+  // limit) reads directions walking from the last call backwards at -40 deg/s, as measured between
+  // a passer's calls in wind on a 10 cm tetrahedron (motion matrix draw 8080, cho01: SNR 5-11 dB,
+  // confidence 0.25-0.65, freshZ 4-9.5) and on a 20 cm pair (draw 4242, pas13: SNR 9-15 dB,
+  // confidence 0.19-0.31). Bearing noise up to 1 deg.
+  function pass(options: ConstructorParameters<typeof Tracker>[0], weakSnrDb: number, weakConfidence: number) {
     return callTracks(new Tracker(options), 500, 11, (t, noise) => {
       const phase = t % 0.55;
       const callAz = -90 + 30 * t;
@@ -911,19 +911,26 @@ describe('weak hops between a passer\'s calls (below both event-enter levels)', 
       const weak = !inCall && phase < 0.45;
       const az = inCall ? callAz : -90 + 30 * (t - phase + 0.1) - 40 * (phase - 0.1);
       const candidates = inCall || weak ? [{ azimuthDeg: az + noise(), elevationDeg: null, score: 1 }] : [];
-      return { inCall, obs: { timeS: t, levelDbfs: -30, snrDb: inCall ? 30 : weak ? 8 : 0, onset: 0, confidence: inCall ? 1 : weak ? 0.45 : 0, candidates, freshZ: inCall ? 20 : 6 } };
+      return { inCall, obs: { timeS: t, levelDbfs: -30, snrDb: inCall ? 30 : weak ? weakSnrDb : 0, onset: 0, confidence: inCall ? 1 : weak ? weakConfidence : 0, candidates, freshZ: inCall ? 20 : 6 } };
     });
   }
 
-  it('support the track without moving it: one track for all 9 calls', () => {
-    const r = pass({});
-    console.log(`weak hops held: call hops on tracks ${r.ids.join(', ')}`);
+  it('below the event-enter SNR too (8 dB, confidence 0.45): they support the track without moving it, one track for all 9 calls', () => {
+    const r = pass({}, 8, 0.45);
+    console.log(`weak hops held (8 dB): call hops on tracks ${r.ids.join(', ')}`);
     expect(r.callHops).toBeGreaterThan(80);
     expect(r.ids).toHaveLength(1);
   });
 
-  it('with the event-enter SNR at 5 dB (so they could start an event) they move it, and the passer gets more than one track', () => {
-    const r = pass({ eventEnterSnrDb: 5, eventLeaveSnrDb: 5 });
+  it('over the event-enter SNR (a gust: 14 dB, confidence 0.25): still held, one track for all 9 calls', () => {
+    const r = pass({}, 14, 0.25);
+    console.log(`weak hops held (14 dB): call hops on tracks ${r.ids.join(', ')}`);
+    expect(r.callHops).toBeGreaterThan(80);
+    expect(r.ids).toHaveLength(1);
+  });
+
+  it('with the event-enter confidence at 0.2 (so they could start an event) they move it, and the passer gets more than one track', () => {
+    const r = pass({ eventEnterConfidence: 0.2, eventLeaveConfidence: 0.2 }, 14, 0.25);
     console.log(`weak hops fed: call hops on tracks ${r.ids.join(', ')}`);
     expect(r.ids.length).toBeGreaterThan(1);
   });
