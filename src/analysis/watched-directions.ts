@@ -42,6 +42,7 @@ import type { DirectionModel } from '../direction/direction-model.js';
 import type { FftBuffer } from '../dsp/fft.js';
 import { wrapDeg } from '../geometry/vec3.js';
 import { fastAtan2 } from '../util/fast-atan2.js';
+import { NOISE_BIAS } from '../dsp/onset.js';
 
 /** Most watched directions per hop. */
 export const MAX_WATCHED = 4;
@@ -143,16 +144,18 @@ export class WatchedDirections {
    * Look for the watched directions in this hop's spectra (per channel, bin k at [2k], [2k + 1])
    * and their inverse magnitudes (invMag, per channel: the analysis' PHAT weights), given the
    * winner's lags (samples), this hop's bin weights (a bin without weight holds
-   * nothing new), the bins' weight memory and each bin's share of its band's evidence
-   * (binScale: a bin's evidence is binScale x its weight memory, as in ./bin-directions.ts).
+   * nothing new), the bins' weight memory, each bin's share of its band's evidence
+   * (binScale: a bin's evidence is binScale x its weight memory, as in ./bin-directions.ts), and
+   * this hop's power per bin with the noise floor's tracked minimum (../dsp/onset.ts: a bin not
+   * over its noise mean, NOISE_BIAS x that minimum, holds no caller now; see collectForeign).
    * Fills foundAz / foundMass for each watched direction; returns the watched count.
    */
-  search(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array): number {
+  search(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, noiseFloor: Float64Array): number {
     const m = this.watchCount;
     this.foundAz.fill(NaN);
     this.foundMass.fill(0);
     if (m === 0) return 0;
-    this.collectForeign(spectra, invMag, winnerLags, weights, weightAcc, binScale);
+    this.collectForeign(spectra, invMag, winnerLags, weights, weightAcc, binScale, power, noiseFloor);
     if (this.foreignCount < WATCH_MIN_BINS) return m;
     // The heaviest find first; the bins it takes are not the others' (one caller's bins fit its
     // own direction and, at a high frequency, an aliased lobe of it where another track may be).
@@ -202,8 +205,17 @@ export class WatchedDirections {
     this.bestMass[w] = best;
   }
 
-  /** The heaviest bins (MAX_FOREIGN) with weight this hop that do not fit the winner, with their pairs' phases. */
-  private collectForeign(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array): void {
+  /**
+   * The heaviest bins (MAX_FOREIGN) with weight this hop, over their noise mean this hop, that do
+   * not fit the winner, with their pairs' phases. A bin back at its noise mean holds no caller now
+   * (its phase is noise), yet its weight memory may still hold a louder caller that has just
+   * stopped: those bins made most of the evidence the share rule weighs a find against, and a
+   * watched caller calling on as the louder one's call ended went unheard while the analysis'
+   * memory still gave the hop to the other (a 3.4-2.4 kHz sweep on a 20 cm square, 0.1 s after a
+   * broadband caller 25 deg off stopped: 170 bins held 41 of evidence, the sweep's 22 of them 5;
+   * motion matrix draw 4242, crs05).
+   */
+  private collectForeign(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, noiseFloor: Float64Array): void {
     const P = this.P;
     const pairs = this.model.pairs;
     const k0 = this.firstBin;
@@ -218,7 +230,7 @@ export class WatchedDirections {
     this.foreignTotal = 0;
     for (let k = k0; k < this.endBin; k++) {
       const mass = binScale[k]! * weightAcc[k]!;
-      const use = weights[k]! > 0 && mass > 0;
+      const use = weights[k]! > 0 && mass > 0 && power[k]! > NOISE_BIAS * noiseFloor[k]!;
       // Each pair's unit cross-spectrum conj(X_a) X_b (the convention of the pair memories,
       // src/dsp/gcc.ts) against the winner's phasor (stepped to the next bin as it is read).
       let fit = 0;

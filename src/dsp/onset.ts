@@ -43,7 +43,7 @@ export interface QuietSearch {
 
 /** Smoothing of the power that presence looks at (per hop), and the minimum's bias factor. */
 const SMOOTH = 0.5;
-const NOISE_BIAS = 2.5;
+export const NOISE_BIAS = 2.5;
 
 export class OnsetWeigher {
   private readonly background: Float64Array;
