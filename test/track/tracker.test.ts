@@ -1121,3 +1121,45 @@ describe('watch list (where the analysis should look for a followed caller: src/
     expect(list(tracker)).toHaveLength(0);
   });
 });
+
+describe('a passer calling 11 degrees off a settled chorus', () => {
+  // A chorus at 40 deg calls 0.25 s of every 0.7 s for 6 s (bearing noise up to 1 deg: it settles,
+  // its home's spread at the 1.5 deg floor), then pauses; 0.8 s into the pause a passer calls
+  // 0.12 s every 0.6 s from 51 deg, moving away at 8 deg/s, as a passer's first call came 11 deg
+  // off chorus-b's home in the motion matrix (draw 6060, cho01: the chorus track took it through
+  // its ordinary gate, bearing noise 3 deg wide).
+  function run(): { chorusOnPasser: number; passerTracks: number[]; chorusTrack: number | null } {
+    const tracker = new Tracker({});
+    let s = 17;
+    const noise = () => ((s = (s * 16807) % 2147483647) / 2147483647 - 0.5) * 2;
+    const events: EventRecord[] = [];
+    const passerTracks = new Set<number>();
+    let chorusTrack: number | null = null;
+    for (let i = 0; i < 1000; i++) {
+      const t = 0.005 + i * 0.01;
+      const chorus = t < 6 && t % 0.7 < 0.25;
+      const pt = t - 6.8;
+      const passer = pt >= 0 && pt % 0.6 < 0.12;
+      const candidates: { azimuthDeg: number; elevationDeg: null; score: number }[] = [];
+      if (chorus) candidates.push({ azimuthDeg: 40 + noise(), elevationDeg: null, score: 1 });
+      if (passer) candidates.push({ azimuthDeg: 51 + 8 * pt + noise(), elevationDeg: null, score: 1 });
+      const sounding = chorus || passer;
+      const u = tracker.update({ timeS: t, levelDbfs: -30, snrDb: sounding ? 30 : 0, onset: 0, confidence: sounding ? 1 : 0, candidates, freshZ: sounding ? 20 : 0 });
+      events.push(...u.events);
+      const id = u.trackIds[0];
+      if (chorus && t > 1 && id !== null && id !== undefined) chorusTrack = id;
+      if (passer && id !== null && id !== undefined) passerTracks.add(id);
+    }
+    events.push(...tracker.finish());
+    const chorusOnPasser = events.filter((e) => e.track === chorusTrack && e.start_s > 6.5).length;
+    return { chorusOnPasser, passerTracks: [...passerTracks], chorusTrack };
+  }
+
+  it("does not join the chorus' track: the passer's calls open no event on it", () => {
+    const r = run();
+    console.log(`passer 11 deg off a settled chorus: chorus track ${r.chorusTrack}, passer on tracks ${r.passerTracks.join(', ')}, events on the chorus track after its pause ${r.chorusOnPasser}`);
+    expect(r.chorusTrack).not.toBeNull();
+    expect(r.passerTracks).not.toContain(r.chorusTrack);
+    expect(r.chorusOnPasser).toBe(0);
+  });
+});
