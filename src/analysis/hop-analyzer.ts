@@ -1064,15 +1064,9 @@ export class HopAnalyzer {
       const mass = bins.peakMass[j]!;
       const runs = bins.peakRuns[j]! >= SEVERAL_RUNS && mass >= RUNS_SOURCE_RATIO * ref;
       if (!runs && (j >= usable || mass < BIN_SOURCE_RATIO * ref)) continue;
-      let apart = true;
-      for (let i = 0; i < res.sourceCount && apart; i++) apart = Math.abs(wrapDeg(az - res.sources[i]!.azimuthDeg)) > BIN_SOURCE_APART_DEG;
-      if (!apart) continue;
-      const src = res.sources[res.sourceCount++]!;
-      src.azimuthDeg = az;
-      src.elevationDeg = winner.elevationDeg === null || bins.peakEl[j] !== bins.peakEl[j] ? null : bins.peakEl[j]!;
-      src.score = Math.min(1, Math.max(runs ? RUNS_SCORE : 0, mass / ref));
-      src.centreHz = NaN;
-      src.underLouder = runs && mass < BIN_SOURCE_RATIO * ref;
+      if (!apartFromSources(res, az, BIN_SOURCE_APART_DEG)) continue;
+      const el = winner.elevationDeg === null || bins.peakEl[j] !== bins.peakEl[j] ? null : bins.peakEl[j]!;
+      addFurtherSource(res, az, el, Math.min(1, Math.max(runs ? RUNS_SCORE : 0, mass / ref)), runs && mass < BIN_SOURCE_RATIO * ref);
     }
   }
 
@@ -1089,16 +1083,8 @@ export class HopAnalyzer {
     for (let w = 0; w < m && res.sourceCount < this.options.maxSources; w++) {
       const az = watched.foundAz[w]!;
       const mass = watched.foundMass[w]!;
-      if (az !== az || mass < WATCH_RATIO * winFused) continue;
-      let apart = true;
-      for (let i = 0; i < res.sourceCount && apart; i++) apart = Math.abs(wrapDeg(az - res.sources[i]!.azimuthDeg)) > WATCH_APART_DEG;
-      if (!apart) continue;
-      const src = res.sources[res.sourceCount++]!;
-      src.azimuthDeg = az;
-      src.elevationDeg = winner.elevationDeg === null ? null : watched.elevationOf(w);
-      src.score = Math.min(1, Math.max(RUNS_SCORE, mass / winFused));
-      src.centreHz = NaN;
-      src.underLouder = true;
+      if (az !== az || mass < WATCH_RATIO * winFused || !apartFromSources(res, az, WATCH_APART_DEG)) continue;
+      addFurtherSource(res, az, winner.elevationDeg === null ? null : watched.elevationOf(w), Math.min(1, Math.max(RUNS_SCORE, mass / winFused)), true);
     }
   }
 
@@ -1327,6 +1313,22 @@ function nearestPeak(bins: BinDirections, usable: number, az: number, skip: Uint
 }
 
 /** A reported source read at bin peak j: its azimuth, and its elevation when both it and the peak have one. */
+/** Does azimuth az lie more than deg from every source the hop reports so far? */
+function apartFromSources(res: HopResult, az: number, deg: number): boolean {
+  for (let i = 0; i < res.sourceCount; i++) if (!(Math.abs(wrapDeg(az - res.sources[i]!.azimuthDeg)) > deg)) return false;
+  return true;
+}
+
+/** Report a further source heard in single bins (no band centre); the caller checks there is room (maxSources). */
+function addFurtherSource(res: HopResult, az: number, el: number | null, score: number, underLouder: boolean): void {
+  const src = res.sources[res.sourceCount++]!;
+  src.azimuthDeg = az;
+  src.elevationDeg = el;
+  src.score = score;
+  src.centreHz = NaN;
+  src.underLouder = underLouder;
+}
+
 function readAtPeak(src: HopResult['sources'][number], bins: BinDirections, j: number): void {
   src.azimuthDeg = bins.peakAz[j]!;
   if (src.elevationDeg !== null && bins.peakEl[j] === bins.peakEl[j]) src.elevationDeg = bins.peakEl[j]!;

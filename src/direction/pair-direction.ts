@@ -1,7 +1,7 @@
 import type { PairCorrelator } from '../dsp/gcc.js';
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
 import { mirrorOfLine, type ArrayMirror } from '../geometry/array-mirror.js';
-import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
+import { dot, norm, sub, unitFromAzElInto, type Vec3 } from '../geometry/vec3.js';
 import { LineCone } from './cone.js';
 import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
 
@@ -39,6 +39,8 @@ export class PairDirectionModel implements DirectionModel {
   private readonly cone: LineCone;
   private readonly heights = new Float64Array(16);
   private readonly lags = new Float64Array(16);
+  /** Scratch unit vector of lagsOf. */
+  private readonly unit: [number, number, number] = [0, 0, 0];
 
   constructor(
     geometry: ArrayGeometry,
@@ -79,7 +81,7 @@ export class PairDirectionModel implements DirectionModel {
 
   lagsOf(azimuthDeg: number, elevationDeg: number, out: Float64Array): void {
     // tdoa = (p_0 - p_1) . u / c = -D (axis . u) / c
-    out[0] = (-(this.spacing * dot(this.axis, unitFromAzEl(azimuthDeg, elevationDeg))) / this.speedOfSound) * this.sampleRate;
+    out[0] = (-(this.spacing * dot(this.axis, unitFromAzElInto(azimuthDeg, elevationDeg, this.unit))) / this.speedOfSound) * this.sampleRate;
   }
 
   prepareSubset(use: Uint8Array): number {

@@ -3,7 +3,7 @@ import { GccKernels, SRP_SEARCH_ARGS } from '../dsp/gcc-kernels.js';
 import { micPairs, type ArrayGeometry, type MicPair } from '../geometry/array-geometry.js';
 import { arrayMirror, type ArrayMirror } from '../geometry/array-mirror.js';
 import { arrayShape, type ArrayShape } from '../geometry/array-shape.js';
-import { dot, norm, sub, unitFromAzEl, type Vec3 } from '../geometry/vec3.js';
+import { dot, norm, sub, unitFromAzEl, unitFromAzElInto, type Vec3 } from '../geometry/vec3.js';
 import { LineCone } from './cone.js';
 import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel } from './direction-model.js';
 import { fastAtan2 } from '../util/fast-atan2.js';
@@ -39,6 +39,8 @@ export class SrpDirectionModel implements DirectionModel {
   private readonly cone: LineCone | null;
   /** Pair baselines p_a - p_b (m). */
   private readonly baselines: Vec3[];
+  /** Scratch unit vector of lagsOf. */
+  private readonly unit: [number, number, number] = [0, 0, 0];
   private readonly gridDirs: Vec3[];
   /** Per pair and grid point (index p * G + g): the lag. */
   private readonly gridLag: Float64Array;
@@ -209,17 +211,8 @@ export class SrpDirectionModel implements DirectionModel {
   }
 
   lagsOf(azimuthDeg: number, elevationDeg: number, out: Float64Array): void {
-    // unitFromAzEl and lagFor, without allocating
-    const az = (azimuthDeg * Math.PI) / 180;
-    const el = (elevationDeg * Math.PI) / 180;
-    const ux = Math.sin(az) * Math.cos(el);
-    const uy = Math.cos(az) * Math.cos(el);
-    const uz = Math.sin(el);
-    const g = this.sampleRate / this.speedOfSound;
-    for (let p = 0; p < this.baselines.length; p++) {
-      const b = this.baselines[p]!;
-      out[p] = (b[0] * ux + b[1] * uy + b[2] * uz) * g;
-    }
+    const u = unitFromAzElInto(azimuthDeg, elevationDeg, this.unit);
+    for (let p = 0; p < this.baselines.length; p++) out[p] = this.lagFor(u, p);
   }
 
   get gridSize(): number {

@@ -17,9 +17,17 @@ const DEG = Math.PI / 180;
 
 /** Unit vector for azimuth (0 = +y front, +90 = +x right) and elevation (+90 = up), degrees. */
 export function unitFromAzEl(azimuthDeg: number, elevationDeg: number): Vec3 {
+  return unitFromAzElInto(azimuthDeg, elevationDeg, [0, 0, 0]);
+}
+
+/** unitFromAzEl written into out (no allocation); returns out. */
+export function unitFromAzElInto(azimuthDeg: number, elevationDeg: number, out: [number, number, number]): Vec3 {
   const az = azimuthDeg * DEG;
   const el = elevationDeg * DEG;
-  return [Math.sin(az) * Math.cos(el), Math.cos(az) * Math.cos(el), Math.sin(el)];
+  out[0] = Math.sin(az) * Math.cos(el);
+  out[1] = Math.cos(az) * Math.cos(el);
+  out[2] = Math.sin(el);
+  return out;
 }
 
 /** Azimuth in (-180, 180] and elevation in [-90, 90], degrees, of a (not necessarily unit) vector. */

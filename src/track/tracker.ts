@@ -621,8 +621,7 @@ export class Tracker {
    * withEl).
    */
   private gateAt(j: number, az: number, azVar: number, el: number, elVar: number, withEl: boolean): boolean {
-    let nu = this.sc.candAz[j]! - az;
-    if (this.sideDeg === null) nu = wrapDeg(nu);
+    const nu = this.azimuthOffset(j, az);
     const sAz = azVar + this.az.io[IO_R]!;
     let d2 = (nu * nu) / sAz;
     let g = this.gate2;
@@ -749,10 +748,13 @@ export class Tracker {
    * candidate may not join it through its ordinary gate (it still may through its home's).
    */
   private beyondReach(s: number, j: number): boolean {
-    if (this.settled[s] === 0) return false;
-    let d = this.sc.candAz[j]! - this.homeAz[s]!;
-    if (this.sideDeg === null) d = wrapDeg(d);
-    return Math.abs(d) > SETTLED_REACH_DEG;
+    return this.settled[s] === 1 && Math.abs(this.azimuthOffset(j, this.homeAz[s]!)) > SETTLED_REACH_DEG;
+  }
+
+  /** Candidate j's azimuth minus az, degrees (wrapped, unless the array folds azimuth to a side). */
+  private azimuthOffset(j: number, az: number): number {
+    const d = this.sc.candAz[j]! - az;
+    return this.sideDeg === null ? wrapDeg(d) : d;
   }
 
   /**
@@ -767,8 +769,7 @@ export class Tracker {
   }
 
   private homeAzimuthDistance2(s: number, j: number): number {
-    let nu = this.sc.candAz[j]! - this.homeAz[s]!;
-    if (this.sideDeg === null) nu = wrapDeg(nu);
+    const nu = this.azimuthOffset(j, this.homeAz[s]!);
     return (nu * nu) / this.homeVar[s]!;
   }
 
@@ -1031,9 +1032,7 @@ export class Tracker {
       if (!(quiet >= ONWARD_MIN_GAP_S && quiet <= REST_AFTER_S) || this.lastMovedT[d]! - this.filterT[d]! >= ONWARD_SPAN_S) continue;
       const rate = this.az.rate[d]!;
       if (!(Math.abs(rate) >= ONWARD_MIN_RATE_DEG_S)) continue;
-      let nu = this.sc.candAz[j]! - this.restAz[d]!;
-      if (this.sideDeg === null) nu = wrapDeg(nu);
-      const implied = nu / quiet;
+      const implied = this.azimuthOffset(j, this.restAz[d]!) / quiet;
       if (!(implied * rate > 0) || Math.abs(implied) > Math.min(this.options.maxRateDegS, ONWARD_RATIO * Math.abs(rate))) continue;
       if (best < 0 || this.lastMovedT[d]! > this.lastMovedT[best]!) best = d;
     }
