@@ -48,7 +48,9 @@
  *    within --rate-wander, so a passer's call a few gates away is nearer to the passer's own track
  *    than to a chorus that has been quiet for seconds, and a chorus track that takes a passer's
  *    call near its bearing does not follow the passer away;
- * 6. the event cutter (event-cutter.ts) sees every live track every hop;
+ * 6. the event cutter (event-cutter.ts) sees every live track every hop, and whether the
+ *    track's candidate was heard only under a louder caller whose track took the hop's answer
+ *    (onsetElsewhere: the hop's onset is that caller's and splits no event of this one);
  * 7. after the hop, watchList names the confirmed tracks whose callers the analysis should look
  *    for under a louder caller in the next hop (src/analysis/watched-directions.ts; the
  *    tracking session hands them on).
@@ -438,10 +440,11 @@ export class Tracker {
     this.assignStage(TENTATIVE, nC);
     this.applyAssignments();
     let events = this.tentativeBookkeeping(this.births(nC));
+    const winnerSlot = this.winnerSlot();
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] === FREE) continue;
       const track = this.state[s] === CONFIRMED ? this.id[s]! : -1;
-      const ended = this.cutter.step(s, this.chosen[s]!, track);
+      const ended = this.cutter.step(s, this.chosen[s]!, track, this.onsetElsewhere(s, winnerSlot));
       if (ended !== null) events = this.collect(events, s, ended);
       if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastMovedT[s]! > this.options.trackTimeoutS) {
         events = this.retire(s, events);
@@ -482,6 +485,27 @@ export class Tracker {
       n++;
     }
     return n;
+  }
+
+  /**
+   * The confirmed track that took the hop's answer (its first candidate: the analysis' winner,
+   * whose sound the hop's onset strength mostly measures), or -1.
+   */
+  private winnerSlot(): number {
+    for (let s = 0; s < this.size; s++) if (this.state[s] === CONFIRMED && this.chosen[s] === 0) return s;
+    return -1;
+  }
+
+  /**
+   * Slot s's candidate this hop was heard only under a louder caller whose track took the hop's
+   * answer: the hop's onset is that caller's (event-cutter.ts: it splits no event). A caller that
+   * starts beside a louder one comes as a firm candidate, or none while the louder one's onset
+   * fills the hop, and its onset still splits its track's event (two callers calling in turn
+   * 0.1 s apart on a pair: test/track/tracker.test.ts).
+   */
+  private onsetElsewhere(s: number, winnerSlot: number): boolean {
+    const j = this.chosen[s]!;
+    return winnerSlot >= 0 && winnerSlot !== s && j >= 0 && this.candFirm[j] === 0;
   }
 
   /** Another confirmed track lies within deg of slot s's azimuth. */

@@ -1163,3 +1163,52 @@ describe('a passer calling 11 degrees off a settled chorus', () => {
     expect(r.chorusOnPasser).toBe(0);
   });
 });
+
+describe("a caller heard between a louder caller's pulses (the onset belongs to the louder caller)", () => {
+  // A quieter caller at 120 deg calls 0.1 s every 0.5 s, alone at first; from 1.5 s a louder
+  // caller at 150 deg calls 0.2 s of every 0.5 s over it, pulsing (onset 0.8 every fifth hop). In
+  // the overlap the quieter caller is heard under the louder one (score 0.6) on three hops of
+  // every five and not on the two around each pulse, as a crossing partner was in the motion
+  // matrix (draw 555, crs01: pieces of 3 hops, shorter than --min-event, cut by the louder
+  // caller's onsets and dropped).
+  function run(louderTracked: boolean): { overlapped: number; withEvent: number; quietTracks: number } {
+    const tracker = new Tracker({});
+    const events: EventRecord[] = [];
+    for (let i = 0; i < 600; i++) {
+      const t = 0.005 + i * 0.01;
+      const quiet = t % 0.5 < 0.1;
+      const louder = t >= 1.5 && (t - 1.45) % 0.5 < 0.2;
+      const k = Math.round((t - 0.005) / 0.01);
+      const candidates: { azimuthDeg: number; elevationDeg: null; score: number; underLouder?: boolean }[] = [];
+      if (louder && louderTracked) candidates.push({ azimuthDeg: 150, elevationDeg: null, score: 1 });
+      if (quiet && !louder) candidates.push({ azimuthDeg: 120, elevationDeg: null, score: 1 });
+      if (quiet && louder && k % 5 < 3) candidates.push({ azimuthDeg: 120, elevationDeg: null, score: 0.6, underLouder: true });
+      const onset = louder && (k % 5 === 3 || (t - 1.45) % 0.5 < 0.01) ? 0.8 : 0.05;
+      const sounding = quiet || louder;
+      const u = tracker.update({ timeS: t, levelDbfs: -30, snrDb: sounding ? 30 : 0, onset, confidence: sounding ? 1 : 0, candidates, freshZ: sounding ? 20 : 0 });
+      events.push(...u.events);
+    }
+    events.push(...tracker.finish());
+    const quietEvents = events.filter((e) => Math.abs(angleDiffDeg(e.azimuth_deg, 120)) < 5);
+    let overlapped = 0;
+    let withEvent = 0;
+    for (let c0 = 1.5; c0 < 6; c0 += 0.5) {
+      overlapped++;
+      if (quietEvents.some((e) => e.start_s < c0 + 0.1 && e.end_s > c0)) withEvent++;
+    }
+    return { overlapped, withEvent, quietTracks: new Set(quietEvents.map((e) => e.track)).size };
+  }
+
+  it("keeps an event for each of the quieter caller's calls, on one track", () => {
+    const r = run(true);
+    console.log(`between a louder caller's pulses: ${r.withEvent} of ${r.overlapped} overlapped calls with an event, on ${r.quietTracks} track(s)`);
+    expect(r.withEvent).toBe(r.overlapped);
+    expect(r.quietTracks).toBe(1);
+  });
+
+  it('with the louder caller untracked, its onsets cut those calls into pieces too short to keep (the check above can fail)', () => {
+    const r = run(false);
+    console.log(`louder caller untracked: ${r.withEvent} of ${r.overlapped} overlapped calls with an event`);
+    expect(r.withEvent).toBeLessThan(r.overlapped / 2);
+  });
+});
