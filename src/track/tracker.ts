@@ -12,8 +12,9 @@
  *    (azimuth, and elevation unless the array is flat, where a candidate far above the track in
  *    elevation, FLAT_ELEVATION_GATE_DEG, is only kept out: keptOutOnFlat); a confirmed track
  *    that has gone REST_AFTER_S without support is also gated at its resting place (where it was
- *    last supported, still; REST_DRIFT_DEG_S), whichever is cheaper, and one whose lifetime
- *    drift is small coasts there (STILL_DRIFT_DEG_S); a candidate in another band than the
+ *    last supported, still; REST_DRIFT_DEG_S), and a mover's up to TREND_MAX_S at its trend
+ *    (where its lifetime drift carries it: TREND_SPAN_S), whichever is cheapest, and one whose
+ *    lifetime drift is small coasts there (STILL_DRIFT_DEG_S); a candidate in another band than the
  *    track's calls (BAND_APART_OCT) is outside every gate of that track; a settled track is
  *    gated at its home too, and at its prediction only within SETTLED_REACH_DEG of its home;
  *    a candidate whose hop confidence x score is below minConfidence is ignored, and so is
@@ -239,6 +240,33 @@ const ONWARD_MIN_GAP_S = 0.2;
 const ONWARD_SPAN_S = 1.2;
 const ONWARD_MIN_RATE_DEG_S = 5;
 const ONWARD_RATIO = 6;
+/**
+ * The trend model of a mover that has gone quiet (trendGate): a confirmed, unsettled track whose
+ * supports that moved it span TREND_SPAN_S or more, with a lifetime drift (the fitted slope of its
+ * bearing over time, direction-sums.ts) over STILL_DRIFT_DEG_S, is also gated, from REST_AFTER_S
+ * to TREND_MAX_S after it last moved, where that drift carries it from where it was last moved,
+ * its uncertainty growing by TREND_WANDER_DEG_S (a third model beside its filter's prediction and
+ * its resting place: a track's filter loses its rate as it coasts, and its resting place stays
+ * behind). A crossing caller heard under its louder partner for 2-3 s came back outside both of
+ * its track's gates and took a stray track's id or a new one (motion matrix draw 2468, crs03). A
+ * candidate within a settled track's home (in azimuth) is not taken through it: a passer's track
+ * coasting on past the passer's last call took a chorus' call on its way (draw 8080, cho02 at c
+ * -2 %). Not on an array whose mirror folds azimuth (a folded bearing does not go on along a
+ * line). Ten draws (sources >= 80 % complete summed / id switches / tracks holding two): 895 / 44
+ * / 12 without, 897 / 43 / 10 with (crossings 683 / 17 / 8 -> 691 / 14 / 6, their calls on the
+ * main track 1649 -> 1676 and on another track of the caller 91 -> 65 of 2181 over 13 draws; held
+ * out 9999 83 / 10 / 3 -> 84 / 6 / 1; passes 12 -> 14 switches); for any time after the last move
+ * (up to --track-timeout) and settled homes not excepted, 897 / 45 / 11 (the coasting passer's
+ * track above); with an uncertainty growing by 3 deg/s, 895 / 45 / 12. Accuracy matrix: every hop
+ * as before, events per call in 3 cells.
+ */
+const TREND_SPAN_S = 2;
+const TREND_MAX_S = 3;
+const TREND_WANDER_DEG_S = 1.5;
+/** Through which model a candidate joins a track: its filter's prediction, its resting place, its trend. */
+const BY_PREDICTION = 0;
+const AT_REST = 1;
+const BY_TREND = 2;
 const NO_EVENTS: readonly EventRecord[] = Object.freeze([]);
 
 interface MutableUpdate {
@@ -297,10 +325,10 @@ export class Tracker {
   private readonly restAzVar: Float64Array;
   private readonly restEl: Float64Array;
   private readonly restElVar: Float64Array;
-  /** Per (listed track, candidate): 1 when the cost is that of the resting place. */
-  private readonly costAtRest: Uint8Array;
-  /** Per slot: 1 when this hop's chosen candidate joined it at its resting place. */
-  private readonly chosenAtRest: Uint8Array;
+  /** Per (listed track, candidate): the model whose cost it is (BY_PREDICTION, AT_REST, BY_TREND). */
+  private readonly costModel: Uint8Array;
+  /** Per slot: the model through which this hop's chosen candidate joined it. */
+  private readonly chosenModel: Uint8Array;
   /** Per candidate of the hop: 1 when it lies within the home gate of a settled track. */
   private readonly candHome: Uint8Array;
   /** The same in azimuth alone (elevation not asked): a support outside every such home is free. */
@@ -310,6 +338,8 @@ export class Tracker {
   private readonly finished: TrackSummary[] = [];
   /** Squared Mahalanobis distance of the last gate() call. */
   private readonly d2 = new Float64Array(1);
+  /** The last trendOf(): azimuth, its variance, drift. */
+  private readonly trend = new Float64Array(3);
   private readonly gate2: number;
   /** ln of the largest innovation variance (max uncertainty plus the noisiest measurement): keeps the cost negative inside the gate. */
   private readonly logSMax: number;
@@ -383,8 +413,8 @@ export class Tracker {
     this.restAzVar = new Float64Array(n);
     this.restEl = new Float64Array(n);
     this.restElVar = new Float64Array(n);
-    this.costAtRest = new Uint8Array(n * c);
-    this.chosenAtRest = new Uint8Array(n);
+    this.costModel = new Uint8Array(n * c);
+    this.chosenModel = new Uint8Array(n);
     this.candHome = new Uint8Array(c);
     this.candHomeAz = new Uint8Array(c);
     this.gate2 = o.gateSigma * o.gateSigma;
@@ -408,7 +438,7 @@ export class Tracker {
 
     for (let s = 0; s < this.size; s++) {
       this.chosen[s] = -1;
-      this.chosenAtRest[s] = 0;
+      this.chosenModel[s] = BY_PREDICTION;
       this.settled[s] = 0;
       this.dormant[s] = 0;
       if (this.state[s] === FREE) continue;
@@ -733,6 +763,38 @@ export class Tracker {
     return Math.abs(this.lifetime.driftDegS(s)) <= STILL_DRIFT_DEG_S;
   }
 
+  /**
+   * Where slot s's trend model (TREND_SPAN_S) puts it this hop, into trend: azimuth (working
+   * angle), its variance and the drift; false when the model does not apply.
+   */
+  private trendOf(s: number): boolean {
+    if (this.sideDeg !== null) return false;
+    const dt = this.sc.hop[TIME]! - this.lastMovedT[s]!;
+    if (!(dt >= REST_AFTER_S && dt <= TREND_MAX_S) || this.lastMovedT[s]! - this.firstSeenT[s]! < TREND_SPAN_S) return false;
+    const drift = this.lifetime.driftDegS(s);
+    if (!(Math.abs(drift) > STILL_DRIFT_DEG_S)) return false;
+    const grow = TREND_WANDER_DEG_S * dt;
+    this.trend[0] = wrapDeg(this.restAz[s]! + drift * dt);
+    this.trend[1] = this.restAzVar[s]! + grow * grow;
+    this.trend[2] = drift;
+    return true;
+  }
+
+  /** Is candidate j inside slot s's trend gate (azimuth alone)? Leaves the cost in d2[0], as gate(). */
+  private trendGate(s: number, j: number): boolean {
+    if (this.candHomeAz[j] === 1 || !this.trendOf(s)) return false;
+    const both = this.loadMeasurement(s, j);
+    if (both && this.flat && this.keptOutOnFlat(s, j)) return false;
+    return this.gateAt(j, this.trend[0]!, this.trend[1]!, 0, 0, false);
+  }
+
+  /** Put slot s where its trend model has it, moving at its drift (that model won the hop), before its update. */
+  private restartAtTrend(s: number): void {
+    this.trendOf(s);
+    this.az.restart(s, this.trend[0]!, this.trend[1]!);
+    this.az.rate[s] = this.trend[2]!;
+  }
+
   /** Put slot s back at its resting place (its still model won the hop) before its update. */
   private restartAtRest(s: number): void {
     const grow2 = this.restGrowth2(s);
@@ -808,7 +870,7 @@ export class Tracker {
       const s = this.listed[i]!;
       for (let j = 0; j < nC; j++) {
         this.cost[i * stride + j] = Infinity;
-        this.costAtRest[i * stride + j] = 0;
+        this.costModel[i * stride + j] = BY_PREDICTION;
         if (this.candUsable[j] === 0 || this.candTaken[j] === 1 || this.dormant[s] === 1 || this.otherBand(s, j)) continue;
         // One heard only under a louder caller does not confirm a track either.
         if (which !== CONFIRMED && this.candFirm[j] === 0) continue;
@@ -821,7 +883,13 @@ export class Tracker {
         }
         if (which === CONFIRMED && this.settled[s] === 0 && this.restGate(s, j) && this.d2[0]! < this.cost[i * stride + j]!) {
           this.cost[i * stride + j] = this.d2[0]!;
-          this.costAtRest[i * stride + j] = 1;
+          this.costModel[i * stride + j] = AT_REST;
+          this.candGated[j] = 1;
+          any = true;
+        }
+        if (which === CONFIRMED && this.settled[s] === 0 && this.trendGate(s, j) && this.d2[0]! < this.cost[i * stride + j]!) {
+          this.cost[i * stride + j] = this.d2[0]!;
+          this.costModel[i * stride + j] = BY_TREND;
           this.candGated[j] = 1;
           any = true;
         }
@@ -841,7 +909,7 @@ export class Tracker {
       const j = this.listedChoice[i]!;
       if (j < 0) continue;
       this.chosen[this.listed[i]!] = j;
-      this.chosenAtRest[this.listed[i]!] = this.costAtRest[i * stride + j]!;
+      this.chosenModel[this.listed[i]!] = this.costModel[i * stride + j]!;
       this.candTaken[j] = 1;
     }
   }
@@ -851,7 +919,8 @@ export class Tracker {
       const j = this.chosen[s]!;
       if (j < 0) continue;
       const sc = this.sc;
-      if (this.chosenAtRest[s] === 1) this.restartAtRest(s);
+      if (this.chosenModel[s] === AT_REST) this.restartAtRest(s);
+      else if (this.chosenModel[s] === BY_TREND) this.restartAtTrend(s);
       // One heard only under a louder caller (underLouder) supports its track, never moves it.
       const firm = this.candFirm[j] === 1;
       let moved = firm;
