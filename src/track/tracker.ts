@@ -257,8 +257,9 @@ const ONWARD_RATIO = 6;
  * main track 1649 -> 1676 and on another track of the caller 91 -> 65 of 2181 over 13 draws; held
  * out 9999 83 / 10 / 3 -> 84 / 6 / 1; passes 12 -> 14 switches); for any time after the last move
  * (up to --track-timeout) and settled homes not excepted, 897 / 45 / 11 (the coasting passer's
- * track above); with an uncertainty growing by 3 deg/s, 895 / 45 / 12. Accuracy matrix: every hop
- * as before, events per call in 3 cells.
+ * track above); with an uncertainty growing by 3 deg/s, 895 / 45 / 12; asked from 0.8 s after the
+ * last move, 895 / 43 / 11; up to 5 s instead of 3, the same as 3. Accuracy matrix: every hop as
+ * before, events per call in 3 cells.
  */
 const TREND_SPAN_S = 2;
 const TREND_MAX_S = 3;
