@@ -258,8 +258,8 @@ const ONWARD_RATIO = 6;
  * out 9999 83 / 10 / 3 -> 84 / 6 / 1; passes 12 -> 14 switches); for any time after the last move
  * (up to --track-timeout) and settled homes not excepted, 897 / 45 / 11 (the coasting passer's
  * track above); with an uncertainty growing by 3 deg/s, 895 / 45 / 12; asked from 0.8 s after the
- * last move, 895 / 43 / 11; up to 5 s instead of 3, the same as 3. Accuracy matrix: every hop as
- * before, events per call in 3 cells.
+ * last move, 895 / 43 / 11; up to 5 s instead of 3, the same as 3; for tracks moved over 1 s
+ * instead of 2, 896 / 45 / 11. Accuracy matrix: every hop as before, events per call in 3 cells.
  */
 const TREND_SPAN_S = 2;
 const TREND_MAX_S = 3;
