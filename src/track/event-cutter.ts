@@ -103,8 +103,8 @@ export class EventCutter {
 
   /**
    * Feed the current hop to a slot; j is the candidate assigned to its track, or -1;
-   * onsetElsewhere when another track took the hop's answer (the hop's onset is not this
-   * track's). Returns the event that ended, for track >= 0 (a tentative track, track < 0, has
+   * onsetElsewhere when j was heard only under a louder caller whose track took the hop's
+   * answer (the hop's onset is that caller's, not this track's). Returns the event that ended, for track >= 0 (a tentative track, track < 0, has
    * its events dropped), else null.
    */
   step(slot: number, j: number, track: number, onsetElsewhere = false): EventRecord | null {
