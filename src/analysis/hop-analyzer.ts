@@ -1078,7 +1078,7 @@ export class HopAnalyzer {
    */
   private addWatchedSources(res: HopResult, watched: WatchedDirections, winFused: number): void {
     // prevLags: the winner's lags, set for the next hop's selection (fuseBands)
-    const m = watched.search(this.spectra, this.invMag, this.prevLags, this.weights, this.weightAcc, this.binScale, this.power, this.onset.noiseFloor);
+    const m = watched.search(this.spectra, this.invMag, this.prevLags, this.weights, this.weightAcc, this.binScale, this.power, this.onset);
     const winner = res.sources[0]!;
     for (let w = 0; w < m && res.sourceCount < this.options.maxSources; w++) {
       const az = watched.foundAz[w]!;
@@ -1312,7 +1312,6 @@ function nearestPeak(bins: BinDirections, usable: number, az: number, skip: Uint
   return best;
 }
 
-/** A reported source read at bin peak j: its azimuth, and its elevation when both it and the peak have one. */
 /** Does azimuth az lie more than deg from every source the hop reports so far? */
 function apartFromSources(res: HopResult, az: number, deg: number): boolean {
   for (let i = 0; i < res.sourceCount; i++) if (!(Math.abs(wrapDeg(az - res.sources[i]!.azimuthDeg)) > deg)) return false;
@@ -1329,6 +1328,7 @@ function addFurtherSource(res: HopResult, az: number, el: number | null, score: 
   src.underLouder = underLouder;
 }
 
+/** A reported source read at bin peak j: its azimuth, and its elevation when both it and the peak have one. */
 function readAtPeak(src: HopResult['sources'][number], bins: BinDirections, j: number): void {
   src.azimuthDeg = bins.peakAz[j]!;
   if (src.elevationDeg !== null && bins.peakEl[j] === bins.peakEl[j]) src.elevationDeg = bins.peakEl[j]!;

@@ -42,7 +42,7 @@ import type { DirectionModel } from '../direction/direction-model.js';
 import type { FftBuffer } from '../dsp/fft.js';
 import { wrapDeg } from '../geometry/vec3.js';
 import { fastAtan2 } from '../util/fast-atan2.js';
-import { NOISE_BIAS } from '../dsp/onset.js';
+import type { OnsetWeigher } from '../dsp/onset.js';
 
 /** Most watched directions per hop. */
 export const MAX_WATCHED = 4;
@@ -146,16 +146,16 @@ export class WatchedDirections {
    * winner's lags (samples), this hop's bin weights (a bin without weight holds
    * nothing new), the bins' weight memory, each bin's share of its band's evidence
    * (binScale: a bin's evidence is binScale x its weight memory, as in ./bin-directions.ts), and
-   * this hop's power per bin with the noise floor's tracked minimum (../dsp/onset.ts: a bin not
-   * over its noise mean, NOISE_BIAS x that minimum, holds no caller now; see collectForeign).
+   * this hop's power per bin with the onset weigher that tracks its noise floor (../dsp/onset.ts:
+   * a bin not over its noise mean holds no caller now; see collectForeign).
    * Fills foundAz / foundMass for each watched direction; returns the watched count.
    */
-  search(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, noiseFloor: Float64Array): number {
+  search(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, onset: OnsetWeigher): number {
     const m = this.watchCount;
     this.foundAz.fill(NaN);
     this.foundMass.fill(0);
     if (m === 0) return 0;
-    this.collectForeign(spectra, invMag, winnerLags, weights, weightAcc, binScale, power, noiseFloor);
+    this.collectForeign(spectra, invMag, winnerLags, weights, weightAcc, binScale, power, onset);
     if (this.foreignCount < WATCH_MIN_BINS) return m;
     // The heaviest find first; the bins it takes are not the others' (one caller's bins fit its
     // own direction and, at a high frequency, an aliased lobe of it where another track may be).
@@ -215,7 +215,7 @@ export class WatchedDirections {
    * broadband caller 25 deg off stopped: 170 bins held 41 of evidence, the sweep's 22 of them 5;
    * motion matrix draw 4242, crs05).
    */
-  private collectForeign(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, noiseFloor: Float64Array): void {
+  private collectForeign(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, onset: OnsetWeigher): void {
     const P = this.P;
     const pairs = this.model.pairs;
     const k0 = this.firstBin;
@@ -230,7 +230,7 @@ export class WatchedDirections {
     this.foreignTotal = 0;
     for (let k = k0; k < this.endBin; k++) {
       const mass = binScale[k]! * weightAcc[k]!;
-      const use = weights[k]! > 0 && mass > 0 && power[k]! > NOISE_BIAS * noiseFloor[k]!;
+      const use = weights[k]! > 0 && mass > 0 && onset.overNoiseMean(power, k);
       // Each pair's unit cross-spectrum conj(X_a) X_b (the convention of the pair memories,
       // src/dsp/gcc.ts) against the winner's phasor (stepped to the next bin as it is read).
       let fit = 0;

@@ -43,7 +43,7 @@ export interface QuietSearch {
 
 /** Smoothing of the power that presence looks at (per hop), and the minimum's bias factor. */
 const SMOOTH = 0.5;
-export const NOISE_BIAS = 2.5;
+const NOISE_BIAS = 2.5;
 
 export class OnsetWeigher {
   private readonly background: Float64Array;
@@ -247,6 +247,14 @@ export class OnsetWeigher {
   /** Per bin, the largest power it held lately, decaying (the quiet search's; empty without one; read-only). */
   get heldPower(): Float64Array {
     return this.held;
+  }
+
+  /**
+   * Does bin k's power this hop (power[k]) stand over its noise mean, the tracked minimum times
+   * its bias factor (the mean bandSnrDb measures against)? A bin not over it holds no sound now.
+   */
+  overNoiseMean(power: Float64Array, k: number): boolean {
+    return power[k]! > NOISE_BIAS * this.noise[k]!;
   }
 
   /** The noise floor per bin (the kernels read it; read-only). */

@@ -710,12 +710,20 @@ export class Tracker {
    */
   private restGate(s: number, j: number): boolean {
     if (!(this.sc.hop[TIME]! - this.lastSupportT[s]! >= REST_AFTER_S)) return false;
-    const both = this.loadMeasurement(s, j);
-    if (both && this.flat && this.keptOutOnFlat(s, j)) return false;
     const grow2 = this.restGrowth2(s);
     const cap = this.options.maxUncertaintyDeg * this.options.maxUncertaintyDeg;
-    const withEl = both && !this.flat && this.restEl[s] === this.restEl[s];
-    return this.gateAt(j, this.restAz[s]!, Math.min(this.restAzVar[s]! + grow2, cap), this.restEl[s]!, Math.min(this.restElVar[s]! + grow2, cap), withEl);
+    return this.gateAtPlace(s, j, this.restAz[s]!, Math.min(this.restAzVar[s]! + grow2, cap), this.restEl[s]!, Math.min(this.restElVar[s]! + grow2, cap));
+  }
+
+  /**
+   * The gate of gate() for candidate j against slot s placed elsewhere than its filter's
+   * prediction (its resting place, its trend): azimuth and variance, elevation (NaN when the
+   * place has none) and variance, with the flat-array rule. Leaves the cost in d2[0].
+   */
+  private gateAtPlace(s: number, j: number, az: number, azVar: number, el: number, elVar: number): boolean {
+    const both = this.loadMeasurement(s, j);
+    if (both && this.flat && this.keptOutOnFlat(s, j)) return false;
+    return this.gateAt(j, az, azVar, el, elVar, both && !this.flat && el === el);
   }
 
   /** How much the resting place's variance has grown since slot s's last support (REST_DRIFT_DEG_S), degrees squared. */
@@ -781,12 +789,12 @@ export class Tracker {
     return true;
   }
 
-  /** Is candidate j inside slot s's trend gate (azimuth alone)? Leaves the cost in d2[0], as gate(). */
+  /**
+   * Is candidate j inside slot s's trend gate (azimuth alone; trendOf(s) has just put the trend
+   * in place)? Leaves the cost in d2[0], as gate().
+   */
   private trendGate(s: number, j: number): boolean {
-    if (this.candHomeAz[j] === 1 || !this.trendOf(s)) return false;
-    const both = this.loadMeasurement(s, j);
-    if (both && this.flat && this.keptOutOnFlat(s, j)) return false;
-    return this.gateAt(j, this.trend[0]!, this.trend[1]!, 0, 0, false);
+    return this.candHomeAz[j] === 0 && this.gateAtPlace(s, j, this.trend[0]!, this.trend[1]!, NaN, 0);
   }
 
   /** Put slot s where its trend model has it, moving at its drift (that model won the hop), before its update. */
@@ -869,6 +877,8 @@ export class Tracker {
     let any = false;
     for (let i = 0; i < nT; i++) {
       const s = this.listed[i]!;
+      // The trend is the slot's, whatever the candidate: worked out once (this.trend).
+      const trend = which === CONFIRMED && this.settled[s] === 0 && this.trendOf(s);
       for (let j = 0; j < nC; j++) {
         this.cost[i * stride + j] = Infinity;
         this.costModel[i * stride + j] = BY_PREDICTION;
@@ -888,7 +898,7 @@ export class Tracker {
           this.candGated[j] = 1;
           any = true;
         }
-        if (which === CONFIRMED && this.settled[s] === 0 && this.trendGate(s, j) && this.d2[0]! < this.cost[i * stride + j]!) {
+        if (trend && this.trendGate(s, j) && this.d2[0]! < this.cost[i * stride + j]!) {
           this.cost[i * stride + j] = this.d2[0]!;
           this.costModel[i * stride + j] = BY_TREND;
           this.candGated[j] = 1;
