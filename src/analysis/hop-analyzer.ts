@@ -203,8 +203,11 @@ export interface HopResult {
   /**
    * underLouder: a caller heard only under a louder one, from a few bins (a bin peak of several
    * runs, addBinSources): its direction may be a blend of the two as its call ends.
+   * aliasOf: for a tracked caller's direction that the hop's sound fits as well as the source of
+   * that index (an aliased lobe of it, ./watched-directions.ts), that index; else -1. Such a source
+   * is the same sound as the other, not a second caller.
    */
-  sources: { azimuthDeg: number; elevationDeg: number | null; score: number; centreHz: number; underLouder: boolean }[];
+  sources: { azimuthDeg: number; elevationDeg: number | null; score: number; centreHz: number; underLouder: boolean; aliasOf: number }[];
   /** Band fusion: support given (relative to the strongest band, [0, 1]) and candidate supported (-1 none), per band. */
   bandVoteWeight: Float64Array;
   bandVoteCandidate: Int32Array;
@@ -232,7 +235,8 @@ export interface HopResult {
  * sub-sample refinement of the winners' lags on the bands that support them; direction from
  * the lags; further callers from the directions of single bins below the aliasing limit
  * (./bin-directions.ts) and, at the tracker's predictions (watch), from single bins at any
- * frequency (./watched-directions.ts); calibrated confidence (./confidence.ts).
+ * frequency, or as an aliased lobe of the winner (./watched-directions.ts); calibrated
+ * confidence (./confidence.ts).
  */
 export class HopAnalyzer {
   readonly frame: number;
@@ -509,7 +513,7 @@ export class HopAnalyzer {
       tdoaS: new Float64Array(P),
       pairOwnTdoaS: new Float64Array(P),
       sourceCount: 0,
-      sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0, centreHz: NaN, underLouder: false })),
+      sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0, centreHz: NaN, underLouder: false, aliasOf: -1 })),
       bandVoteWeight: new Float64Array(options.bands),
       bandVoteCandidate: new Int32Array(options.bands),
       bandVoteTdoaS: new Float64Array(options.bands),
@@ -954,6 +958,7 @@ export class HopAnalyzer {
       src.elevationDeg = this.dir.elevationDeg;
       src.centreHz = support.centreHz;
       src.underLouder = false;
+      src.aliasOf = -1;
       if (res.sourceCount === 0) {
         this.setWinner(res, f, fusion.totalEvidence, fusedTotal, support, P);
         src.score = 1;
@@ -1074,17 +1079,25 @@ export class HopAnalyzer {
    * The watched directions heard under the winner (./watched-directions.ts): a find holding
    * WATCH_RATIO of the winner's fused evidence, WATCH_APART_DEG from every source the hop
    * reports, is a further source heard under a louder caller (underLouder), scored by that share
-   * (at least RUNS_SCORE).
+   * (at least RUNS_SCORE). A watched direction that the winner's own bins fit as well (an aliased
+   * lobe), WATCH_APART_DEG from every source, is a source too: an alias of the winner (aliasOf 0),
+   * scored by the share of the winner's bin evidence that fits it.
    */
   private addWatchedSources(res: HopResult, watched: WatchedDirections, winFused: number): void {
     // prevLags: the winner's lags, set for the next hop's selection (fuseBands)
-    const m = watched.search(this.spectra, this.invMag, this.prevLags, this.weights, this.weightAcc, this.binScale, this.power, this.onset);
     const winner = res.sources[0]!;
+    const m = watched.search(this.spectra, this.invMag, this.prevLags, this.weights, this.weightAcc, this.binScale, this.power, this.onset, winner.azimuthDeg, winner.elevationDeg ?? 0);
     for (let w = 0; w < m && res.sourceCount < this.options.maxSources; w++) {
       const az = watched.foundAz[w]!;
       const mass = watched.foundMass[w]!;
       if (az !== az || mass < WATCH_RATIO * winFused || !apartFromSources(res, az, WATCH_APART_DEG)) continue;
       addFurtherSource(res, az, winner.elevationDeg === null ? null : watched.elevationOf(w), Math.min(1, Math.max(RUNS_SCORE, mass / winFused)), true);
+    }
+    // The winner read at a lobe: where a watched caller should be, its bins fit as well.
+    for (let w = 0; w < m && res.sourceCount < this.options.maxSources; w++) {
+      const az = watched.aliasAz[w]!;
+      if (az !== az || !apartFromSources(res, az, WATCH_APART_DEG)) continue;
+      addFurtherSource(res, az, winner.elevationDeg === null ? null : watched.elevationOf(w), watched.aliasShare[w]!, false, 0);
     }
   }
 
@@ -1318,14 +1331,15 @@ function apartFromSources(res: HopResult, az: number, deg: number): boolean {
   return true;
 }
 
-/** Report a further source heard in single bins (no band centre); the caller checks there is room (maxSources). */
-function addFurtherSource(res: HopResult, az: number, el: number | null, score: number, underLouder: boolean): void {
+/** Report a further source heard in single bins (no band centre), an alias of source aliasOf when that is given; the caller checks there is room (maxSources). */
+function addFurtherSource(res: HopResult, az: number, el: number | null, score: number, underLouder: boolean, aliasOf = -1): void {
   const src = res.sources[res.sourceCount++]!;
   src.azimuthDeg = az;
   src.elevationDeg = el;
   src.score = score;
   src.centreHz = NaN;
   src.underLouder = underLouder;
+  src.aliasOf = aliasOf;
 }
 
 /** A reported source read at bin peak j: its azimuth, and its elevation when both it and the peak have one. */

@@ -26,6 +26,28 @@
  * of every further source the hop reports too (not only the winner's) lost 4 sources >= 80 %
  * complete over the motion matrix's 13 draws; not kept.
  *
+ * A watched caller may also be the winner itself, read at an aliased lobe. Above an array's
+ * aliasing limit a narrow-band call (one hop of a sweep holds a few hundred Hz) fits its own
+ * direction and its grating lobes alike (for mics on a grid of spacing d, the lobes lie at the
+ * direction's unit vector plus multiples of wavelength / d along the grid's axes: common
+ * practice), and the band fusion picks one of them on margins of a few hundredths of coherence:
+ * a high sweep passing a 20 cm square at 60 deg/s, heard at -22 deg, was read at 12 deg and 18 deg
+ * up for whole calls (motion matrix draw 6060, pas15; numpy on the raw frame fits the two within
+ * 0.3 %). So the bins that fit the winner are also tested near each watched direction: when
+ * ALIAS_SHARE of their evidence fits one there, and the direction halfway between it and the
+ * winner fits less than ALIAS_DIP of that (a separate lobe, not one wide beam: the bins of a low
+ * call on a 10 cm tetrahedron read at -45 deg fitted -77 as well, held-out motion matrix draw
+ * 4040, crs06; without this test that cell's second caller lost half its calls), the watched
+ * direction is an alias of the winner (aliasAz): the same sound, which the hop cannot place
+ * between the two, and which the tracker gives to the watched track only when no track explains
+ * the winner (src/track/tracker.ts).
+ * Chosen on the motion matrix (ten draws, sources >= 80 % complete summed / id switches / tracks
+ * holding two; 897 / 43 / 10 without aliases): share 0.8 and 0.9 without the halfway test 899 /
+ * 45 / 10 and 899 / 42 / 10 (crossings 691 -> 700, but 4040 crs06 b 78 -> 44 %); with it, share
+ * 0.8 897 / 45 / 10 (the high sweep at 80 deg/s on a 20 cm square, pas15: 4242 83 -> 100 %, 2718
+ * 89 -> 100 %, 9999 71 -> 86 %; two more id switches of passers in chorus cells), share 0.7 895 /
+ * 43 / 10 (2027 cho02's passer 92 -> 58 %).
+ *
  * Each bin is read from this hop's spectra, not the analysis' memory: the memory of a bin the
  * louder caller filled a moment ago still holds its phase. Motion matrix, crossing cells of 13
  * draws (sources >= 80 % complete of 155): 82 without the watch; 92 read from the memory; 111 from
@@ -63,13 +85,58 @@ const WATCH_FIT = 0.85;
 const WATCH_MIN_BINS = 5;
 /** ... holding this share of the evidence of the bins that do not fit the winner. */
 const WATCH_SHARE = 0.2;
-/** Most bins kept per hop (the heaviest that do not fit the winner). */
-const MAX_FOREIGN = 96;
+/**
+ * A watched direction is an alias of the winner when it is fitted by this share of the evidence
+ * of the bins that fit the winner ...
+ */
+const ALIAS_SHARE = 0.8;
+/** ... and the direction halfway between it and the winner by less than this share of what fits it. */
+const ALIAS_DIP = 0.5;
+/** Most bins kept per hop and kind (the heaviest that do not fit the winner; the heaviest that do). */
+const MAX_BINS = 96;
+
+/** Bins of one hop kept for the tests: bin, evidence, and per pair (index i * P + p) the phase of its unit cross-spectrum. */
+class HopBins {
+  readonly bin = new Int32Array(MAX_BINS);
+  readonly mass = new Float64Array(MAX_BINS);
+  readonly phase: Float64Array;
+  count = 0;
+  total = 0;
+
+  constructor(private readonly P: number) {
+    this.phase = new Float64Array(MAX_BINS * P);
+  }
+
+  clear(): void {
+    this.count = 0;
+    this.total = 0;
+  }
+
+  /** Keep bin k, with per pair the unit cross-spectrum (re, im), among the heaviest MAX_BINS (the lightest makes room). */
+  keep(k: number, mass: number, re: Float64Array, im: Float64Array): void {
+    const P = this.P;
+    let i = this.count;
+    if (i === MAX_BINS) {
+      let light = 0;
+      for (let j = 1; j < MAX_BINS; j++) if (this.mass[j]! < this.mass[light]!) light = j;
+      if (!(mass > this.mass[light]!)) return;
+      this.total -= this.mass[light]!;
+      i = light;
+    } else this.count++;
+    this.total += mass;
+    this.bin[i] = k;
+    this.mass[i] = mass;
+    for (let p = 0; p < P; p++) this.phase[i * P + p] = fastAtan2(im[p]!, re[p]!);
+  }
+}
 
 export class WatchedDirections {
   /** This hop's finds, per watched direction: azimuth (NaN when not heard) and the evidence of its bins. */
   readonly foundAz = new Float64Array(MAX_WATCHED);
   readonly foundMass = new Float64Array(MAX_WATCHED);
+  /** Per watched direction: where the winner's own bins fit as well (an aliased lobe; NaN: none), and the share of their evidence that fits there. */
+  readonly aliasAz = new Float64Array(MAX_WATCHED);
+  readonly aliasShare = new Float64Array(MAX_WATCHED);
   /** The directions to look for in the next hop: azimuth, elevation (0 when unknown) and the half-width of the test. */
   private readonly watchAz = new Float64Array(MAX_WATCHED);
   private readonly watchEl = new Float64Array(MAX_WATCHED);
@@ -84,21 +151,24 @@ export class WatchedDirections {
   /** Per pair: this bin's unit cross-spectrum. */
   private readonly re: Float64Array;
   private readonly im: Float64Array;
-  /** The bins that do not fit the winner: bin, evidence, and per pair (index i * P + p) the phase. */
-  private readonly foreignBin = new Int32Array(MAX_FOREIGN);
-  private readonly foreignMass = new Float64Array(MAX_FOREIGN);
-  private readonly foreignPhase: Float64Array;
+  /** The bins that do not fit the winner, and those that do. */
+  private readonly foreign: HopBins;
+  private readonly own: HopBins;
   /** Per foreign bin: 1 once a find took it. */
-  private readonly used = new Uint8Array(MAX_FOREIGN);
-  private foreignCount = 0;
+  private readonly used = new Uint8Array(MAX_BINS);
+  /** The winner's azimuth and elevation (degrees; 0 when it has none). */
+  private winAz = NaN;
+  private winEl = 0;
   /** Per watched direction: done (its find made, or none), and its best azimuth and mass in the current round. */
   private readonly done = new Uint8Array(MAX_WATCHED);
   private readonly bestAz = new Float64Array(MAX_WATCHED);
   private readonly bestMass = new Float64Array(MAX_WATCHED);
-  private foreignTotal = 0;
   private readonly lags: Float64Array;
   /** Bins that fitted the last direction fitMass tested. */
   private fitted = 0;
+  /** The best azimuth and its evidence of the last nearBest (NaN and 0 when none). */
+  private nearAz = NaN;
+  private nearMass = 0;
 
   constructor(
     private readonly model: DirectionModel,
@@ -114,7 +184,8 @@ export class WatchedDirections {
     this.curIm = new Float64Array(P);
     this.re = new Float64Array(P);
     this.im = new Float64Array(P);
-    this.foreignPhase = new Float64Array(MAX_FOREIGN * P);
+    this.foreign = new HopBins(P);
+    this.own = new HopBins(P);
     this.lags = new Float64Array(P);
   }
 
@@ -147,45 +218,73 @@ export class WatchedDirections {
    * nothing new), the bins' weight memory, each bin's share of its band's evidence
    * (binScale: a bin's evidence is binScale x its weight memory, as in ./bin-directions.ts), and
    * this hop's power per bin with the onset weigher that tracks its noise floor (../dsp/onset.ts:
-   * a bin not over its noise mean holds no caller now; see collectForeign).
-   * Fills foundAz / foundMass for each watched direction; returns the watched count.
+   * a bin not over its noise mean holds no caller now; see collectBins), and the winner's azimuth
+   * and elevation (degrees; elevation 0 when it has none).
+   * Fills foundAz / foundMass and aliasAz / aliasShare for each watched direction; returns the
+   * watched count.
    */
-  search(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, onset: OnsetWeigher): number {
+  search(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, onset: OnsetWeigher, winnerAz: number, winnerEl: number): number {
     const m = this.watchCount;
     this.foundAz.fill(NaN);
     this.foundMass.fill(0);
+    this.aliasAz.fill(NaN);
+    this.aliasShare.fill(0);
     if (m === 0) return 0;
-    this.collectForeign(spectra, invMag, winnerLags, weights, weightAcc, binScale, power, onset);
-    if (this.foreignCount < WATCH_MIN_BINS) return m;
+    this.winAz = winnerAz;
+    this.winEl = winnerEl;
+    this.collectBins(spectra, invMag, winnerLags, weights, weightAcc, binScale, power, onset);
+    for (let w = 0; w < m; w++) this.aliasOf(w);
+    const foreign = this.foreign;
+    if (foreign.count < WATCH_MIN_BINS) return m;
     // The heaviest find first; the bins it takes are not the others' (one caller's bins fit its
     // own direction and, at a high frequency, an aliased lobe of it where another track may be).
-    this.used.fill(0, 0, this.foreignCount);
+    this.used.fill(0, 0, foreign.count);
     this.done.fill(0);
     for (let round = 0; round < m; round++) {
       let pick = -1;
       for (let w = 0; w < m; w++) {
         if (this.done[w] === 1) continue;
-        this.bestOf(w);
+        this.nearBest(w, foreign, this.used);
+        this.bestAz[w] = this.nearAz;
+        this.bestMass[w] = this.nearMass;
         if (this.bestMass[w]! > 0 && (pick < 0 || this.bestMass[w]! > this.bestMass[pick]!)) pick = w;
       }
-      if (pick < 0 || this.bestMass[pick]! < WATCH_SHARE * this.foreignTotal) break;
+      if (pick < 0 || this.bestMass[pick]! < WATCH_SHARE * foreign.total) break;
       this.done[pick] = 1;
       this.foundAz[pick] = wrapDeg(this.bestAz[pick]!);
       this.foundMass[pick] = this.bestMass[pick]!;
-      this.fitMass(this.bestAz[pick]!, this.watchEl[pick]!, true);
+      this.fitMass(foreign, this.used, this.bestAz[pick]!, this.watchEl[pick]!, true);
     }
     return m;
   }
 
-  /** The best azimuth near watched direction w, on the bins no find took yet (bestAz / bestMass; mass 0 when none). */
-  private bestOf(w: number): void {
+  /** Is watched direction w an aliased lobe of the winner (see above)? Sets aliasAz / aliasShare. */
+  private aliasOf(w: number): void {
+    const own = this.own;
+    if (own.count < WATCH_MIN_BINS || !(own.total > 0)) return;
+    this.nearBest(w, own, null);
+    const az = this.nearAz;
+    const mass = this.nearMass;
+    if (!(mass >= ALIAS_SHARE * own.total)) return;
+    const el = this.watchEl[w]!;
+    if (this.fitMass(own, null, this.winAz + wrapDeg(az - this.winAz) / 2, (this.winEl + el) / 2, false) >= ALIAS_DIP * mass) return;
+    this.aliasAz[w] = wrapDeg(az);
+    this.aliasShare[w] = mass / own.total;
+  }
+
+  /**
+   * The best azimuth near watched direction w (within its half-width, coarse then a degree either
+   * side) on the bins of `bins` not marked in `used` (null: all): nearAz / nearMass (NaN and 0 when
+   * no azimuth is fitted by WATCH_MIN_BINS bins).
+   */
+  private nearBest(w: number, bins: HopBins, used: Uint8Array | null): void {
     const az0 = this.watchAz[w]!;
     const el = this.watchEl[w]!;
     const h = this.watchHalf[w]!;
     let bestAz = NaN;
     let best = 0;
     for (let d = -h; d <= h + 1e-9; d += COARSE_STEP_DEG) {
-      const v = this.fitMass(az0 + d, el, false);
+      const v = this.fitMass(bins, used, az0 + d, el, false);
       if (v > best && this.fitted >= WATCH_MIN_BINS) {
         best = v;
         bestAz = az0 + d;
@@ -194,20 +293,20 @@ export class WatchedDirections {
     if (best > 0) {
       const centre = bestAz;
       for (let d = -1; d <= 1; d += 2) {
-        const v = this.fitMass(centre + d, el, false);
+        const v = this.fitMass(bins, used, centre + d, el, false);
         if (v > best && this.fitted >= WATCH_MIN_BINS) {
           best = v;
           bestAz = centre + d;
         }
       }
     }
-    this.bestAz[w] = bestAz;
-    this.bestMass[w] = best;
+    this.nearAz = bestAz;
+    this.nearMass = best;
   }
 
   /**
-   * The heaviest bins (MAX_FOREIGN) with weight this hop, over their noise mean this hop, that do
-   * not fit the winner, with their pairs' phases. A bin back at its noise mean holds no caller now
+   * The heaviest bins (MAX_BINS) with weight this hop, over their noise mean this hop, that do
+   * not fit the winner, with their pairs' phases (foreign), and the heaviest that do (own). A bin back at its noise mean holds no caller now
    * (its phase is noise), yet its weight memory may still hold a louder caller that has just
    * stopped: those bins made most of the evidence the share rule weighs a find against, and a
    * watched caller calling on as the louder one's call ended went unheard while the analysis'
@@ -215,7 +314,7 @@ export class WatchedDirections {
    * broadband caller 25 deg off stopped: 170 bins held 41 of evidence, the sweep's 22 of them 5;
    * motion matrix draw 4242, crs05).
    */
-  private collectForeign(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, onset: OnsetWeigher): void {
+  private collectBins(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, onset: OnsetWeigher): void {
     const P = this.P;
     const pairs = this.model.pairs;
     const k0 = this.firstBin;
@@ -226,8 +325,8 @@ export class WatchedDirections {
       this.curRe[p] = Math.cos(w * k0);
       this.curIm[p] = Math.sin(w * k0);
     }
-    this.foreignCount = 0;
-    this.foreignTotal = 0;
+    this.foreign.clear();
+    this.own.clear();
     for (let k = k0; k < this.endBin; k++) {
       const mass = binScale[k]! * weightAcc[k]!;
       const use = weights[k]! > 0 && mass > 0 && onset.overNoiseMean(power, k);
@@ -254,46 +353,31 @@ export class WatchedDirections {
         this.im[p] = im;
         fit += re * cr - im * ci;
       }
-      if (!use || fit >= WINNER_FIT * P) continue;
-      this.keepForeign(k, mass);
+      if (use) (fit >= WINNER_FIT * P ? this.own : this.foreign).keep(k, mass, this.re, this.im);
     }
   }
 
-  /** Keep bin k among the heaviest MAX_FOREIGN foreign bins (the lightest makes room). */
-  private keepForeign(k: number, mass: number): void {
-    const P = this.P;
-    let i = this.foreignCount;
-    if (i === MAX_FOREIGN) {
-      let light = 0;
-      for (let j = 1; j < MAX_FOREIGN; j++) if (this.foreignMass[j]! < this.foreignMass[light]!) light = j;
-      if (!(mass > this.foreignMass[light]!)) return;
-      this.foreignTotal -= this.foreignMass[light]!;
-      i = light;
-    } else this.foreignCount++;
-    this.foreignTotal += mass;
-    this.foreignBin[i] = k;
-    this.foreignMass[i] = mass;
-    for (let p = 0; p < P; p++) this.foreignPhase[i * P + p] = fastAtan2(this.im[p]!, this.re[p]!);
-  }
-
-  /** The evidence of the foreign bins not yet taken that fit direction (az, el) within WATCH_FIT (their count in `fitted`); `take` marks them taken. */
-  private fitMass(azDeg: number, elDeg: number, take: boolean): number {
+  /**
+   * The evidence of the bins of `bins` not marked in `used` (null: all) that fit direction (az, el)
+   * within WATCH_FIT (their count in `fitted`); `take` marks them in `used`.
+   */
+  private fitMass(bins: HopBins, used: Uint8Array | null, azDeg: number, elDeg: number, take: boolean): number {
     const P = this.P;
     this.model.lagsOf(azDeg, elDeg, this.lags);
     const scale = (2 * Math.PI) / this.n;
     let mass = 0;
-    let bins = 0;
-    for (let i = 0; i < this.foreignCount; i++) {
-      if (this.used[i] === 1) continue;
-      const k = this.foreignBin[i]!;
+    let count = 0;
+    for (let i = 0; i < bins.count; i++) {
+      if (used !== null && used[i] === 1) continue;
+      const k = bins.bin[i]!;
       let fit = 0;
-      for (let p = 0; p < P; p++) fit += Math.cos(this.foreignPhase[i * P + p]! + scale * k * this.lags[p]!);
+      for (let p = 0; p < P; p++) fit += Math.cos(bins.phase[i * P + p]! + scale * k * this.lags[p]!);
       if (fit < WATCH_FIT * P) continue;
-      if (take) this.used[i] = 1;
-      mass += this.foreignMass[i]!;
-      bins++;
+      if (take && used !== null) used[i] = 1;
+      mass += bins.mass[i]!;
+      count++;
     }
-    this.fitted = bins;
+    this.fitted = count;
     return mass;
   }
 }

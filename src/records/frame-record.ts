@@ -55,6 +55,7 @@ export function toFrameRecord(r: HopResult, s: FrameRecordSettings, timeS: numbe
         score: round(src.score, 3),
       };
       if (s.headingDeg !== null) e.bearing_deg = bearingOf(src.azimuthDeg, s.headingDeg);
+      if (src.aliasOf >= 0) e.alias_of = src.aliasOf;
       sources.push(e);
     }
     rec.sources = sources;

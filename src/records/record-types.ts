@@ -15,6 +15,11 @@ export interface SourceEstimate {
   score: number;
   /** Track id once the tracker has assigned this candidate, else null. */
   track?: number | null;
+  /**
+   * Only on a source that is an aliased lobe of another (the same sound, where a tracked
+   * caller should be and which the array cannot tell from the other): that source's index.
+   */
+  alias_of?: number;
 }
 
 /** Per-pair diagnostics (behind a flag). */

@@ -20,7 +20,10 @@
  *    a candidate whose hop confidence x score is below minConfidence is ignored, and so is
  *    every candidate of a hop below the event-leave SNR (sound at the noise floor, such as
  *    coherent wind between calls, neither moves nor starts a track);
- * 3. assign candidates to confirmed tracks by global nearest neighbour (assignment.ts), then
+ * 3. a candidate that is an aliased lobe of another (aliasOf: the same sound, which the array
+ *    cannot place between the two) stands in for it only where no confirmed track explains the
+ *    other and one gates the alias (resolveAliases), and never starts or feeds a tentative track;
+ *    then assign candidates to confirmed tracks by global nearest neighbour (assignment.ts), then
  *    the leftovers to tentative tracks, and update the assigned tracks (a hop whose own spectra
  *    do not support its answer, HELD_Z, or that is below the event-enter confidence, tooWeakToMove,
  *    or a candidate heard only under a louder caller, underLouder, supports its track without
@@ -265,6 +268,8 @@ const TREND_SPAN_S = 2;
 const TREND_MAX_S = 3;
 const TREND_WANDER_DEG_S = 1.5;
 /** Through which model a candidate joins a track: its filter's prediction, its resting place, its trend. */
+/** An alias goes only to a track moved by a candidate of its own within this many seconds (takesAliases). */
+const ALIAS_WITHIN_S = 1;
 const BY_PREDICTION = 0;
 const AT_REST = 1;
 const BY_TREND = 2;
@@ -290,6 +295,8 @@ export class Tracker {
   private readonly lastSupportT: Float64Array;
   /** Time of the last support that moved the track's filters (its timeout counts from there). */
   private readonly lastMovedT: Float64Array;
+  /** Time of the last support that moved the track and was not an alias (ALIAS_WITHIN_S). */
+  private readonly lastOwnT: Float64Array;
   /** Time of the last support by a candidate outside every settled home. */
   private readonly lastFreeT: Float64Array;
   /** When the slot's own filters started: its birth (a track handed to another slot by revive() goes on with that slot's filters and time). */
@@ -310,6 +317,8 @@ export class Tracker {
   private readonly candGated: Uint8Array;
   /** Per candidate: 0 for one heard under a louder caller (DirectionCandidate.underLouder), which neither starts nor moves a track. */
   private readonly candFirm: Uint8Array;
+  /** Per candidate: the index of the candidate it is an aliased lobe of (DirectionCandidate.aliasOf), else -1. */
+  private readonly candAlias: Int32Array;
   /** Per slot: 1 when the track is settled (see above); its home (working angle) and home variance. */
   private readonly settled: Uint8Array;
   /** Per slot, this hop: 1 for a dormant track (DORMANT_SPAN_S; confirmed; cleared when its slot is freed). */
@@ -386,6 +395,7 @@ export class Tracker {
     this.age = new Int32Array(n);
     this.lastSupportT = new Float64Array(n);
     this.lastMovedT = new Float64Array(n);
+    this.lastOwnT = new Float64Array(n);
     this.lastFreeT = new Float64Array(n);
     this.filterT = new Float64Array(n);
     this.firstSeenT = new Float64Array(n);
@@ -403,6 +413,7 @@ export class Tracker {
     this.candTaken = new Uint8Array(c);
     this.candGated = new Uint8Array(c);
     this.candFirm = new Uint8Array(c);
+    this.candAlias = new Int32Array(c);
     this.settled = new Uint8Array(n);
     this.dormant = new Uint8Array(n);
     this.still = new Uint8Array(n);
@@ -467,6 +478,7 @@ export class Tracker {
     }
 
     const nC = this.loadCandidates(obs);
+    this.resolveAliases(nC);
     this.assignStage(CONFIRMED, nC);
     this.assignStage(TENTATIVE, nC);
     this.applyAssignments();
@@ -520,11 +532,50 @@ export class Tracker {
 
   /**
    * The confirmed track that took the hop's answer (its first candidate: the analysis' winner,
-   * whose sound the hop's onset strength mostly measures), or -1.
+   * whose sound the hop's onset strength mostly measures, or an alias of it), or -1.
    */
   private winnerSlot(): number {
-    for (let s = 0; s < this.size; s++) if (this.state[s] === CONFIRMED && this.chosen[s] === 0) return s;
+    for (let s = 0; s < this.size; s++) {
+      const j = this.chosen[s]!;
+      if (this.state[s] === CONFIRMED && (j === 0 || (j > 0 && this.candAlias[j] === 0))) return s;
+    }
     return -1;
+  }
+
+  /**
+   * Each alias (a candidate at a watched track's prediction that the hop's sound fits as well as
+   * the candidate it is an alias of: src/analysis/watched-directions.ts) against that candidate:
+   * when a confirmed track gates the other, the hop is that track's and the alias is dropped;
+   * else, when one gates the alias, the other is dropped (it is the lobe: it starts no track and
+   * feeds none); else the alias is dropped. A high sweep passing a 20 cm square at up to 80
+   * deg/s, read at a lobe for whole calls, started a track per lobe (motion matrix pas15).
+   */
+  private resolveAliases(nC: number): void {
+    for (let j = 0; j < nC; j++) {
+      const k = this.candAlias[j]!;
+      if (k < 0 || this.candUsable[j] === 0) continue;
+      if (this.candUsable[k] === 1 && this.gatedByConfirmed(k, false)) this.candUsable[j] = 0;
+      else if (this.gatedByConfirmed(j, true)) this.candUsable[k] = 0;
+      else this.candUsable[j] = 0;
+    }
+  }
+
+  /**
+   * Confirmed slot s was moved by a candidate of its own (not an alias) within ALIAS_WITHIN_S: an
+   * alias bridges its caller's calls read at a lobe, but cannot keep a track alive by itself
+   * (another caller's sound that also fits where the track is predicted would carry it on).
+   */
+  private takesAliases(s: number): boolean {
+    return this.state[s] === CONFIRMED && this.sc.hop[TIME]! - this.lastOwnT[s]! <= ALIAS_WITHIN_S;
+  }
+
+  /** Does a confirmed, not dormant track (one that takes aliases, when `forAlias`) gate candidate j (at its prediction, or a settled track at its home)? */
+  private gatedByConfirmed(j: number, forAlias: boolean): boolean {
+    for (let s = 0; s < this.size; s++) {
+      if (this.state[s] !== CONFIRMED || this.dormant[s] === 1 || this.otherBand(s, j) || (forAlias && !this.takesAliases(s))) continue;
+      if ((this.settled[s] === 1 && this.homeDistance2(s, j) <= this.gate2) || this.gate(s, j)) return true;
+    }
+    return false;
   }
 
   /**
@@ -623,6 +674,7 @@ export class Tracker {
       sc.candEl[j] = el === null ? NaN : el;
       sc.candScore[j] = c.score;
       this.candFirm[j] = c.underLouder === true ? 0 : 1;
+      this.candAlias[j] = c.aliasOf !== undefined && c.aliasOf >= 0 && c.aliasOf < nC ? c.aliasOf : -1;
       // The centre of a source heard alone: in a hop with several, the louder caller's candidate
       // wins the bands they share and each one's centre says more about the split than the call.
       sc.candLogHz[j] = obs.candidates.length === 1 && c.centreHz !== undefined && c.centreHz > 0 ? Math.log2(c.centreHz) : NaN;
@@ -883,8 +935,9 @@ export class Tracker {
         this.cost[i * stride + j] = Infinity;
         this.costModel[i * stride + j] = BY_PREDICTION;
         if (this.candUsable[j] === 0 || this.candTaken[j] === 1 || this.dormant[s] === 1 || this.otherBand(s, j)) continue;
-        // One heard only under a louder caller does not confirm a track either.
+        // One heard only under a louder caller does not confirm a track either; an alias goes only to a confirmed track that takes aliases.
         if (which !== CONFIRMED && this.candFirm[j] === 0) continue;
+        if (this.candAlias[j]! >= 0 && (which !== CONFIRMED || !this.takesAliases(s))) continue;
         if (this.candHome[j] === 1 && this.settled[s] === 0 && this.sc.hop[TIME]! - this.lastFreeT[s]! > PASSING_S) continue;
         if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !this.nearZenith(s)) continue;
         if (!this.beyondReach(s, j) && this.gate(s, j)) {
@@ -986,6 +1039,7 @@ export class Tracker {
     this.hits[s] = this.hits[s]! + 1;
     this.lastSupportT[s] = this.sc.hop[TIME]!;
     if (moved) this.lastMovedT[s] = this.sc.hop[TIME]!;
+    if (moved && this.candAlias[j]! < 0) this.lastOwnT[s] = this.sc.hop[TIME]!;
     if (this.candHomeAz[j] === 0) this.lastFreeT[s] = this.sc.hop[TIME]!;
     this.hopCount[s] = this.hopCount[s]! + 1;
     this.lifetime.add(s, j);
@@ -1004,7 +1058,7 @@ export class Tracker {
     const sc = this.sc;
     for (let j = 0; j < nC; j++) {
       if (this.candUsable[j] === 0 || this.candTaken[j] === 1) continue;
-      if (sc.hop[CONFIDENCE]! * sc.candScore[j]! < o.birthConfidence || this.candFirm[j] === 0) continue;
+      if (sc.hop[CONFIDENCE]! * sc.candScore[j]! < o.birthConfidence || this.candFirm[j] === 0 || this.candAlias[j] >= 0) continue;
       if (Math.abs(sc.candEl[j]!) > ZENITH_DEG) continue;
       if (this.candGated[j] === 1 || this.candHome[j] === 1 || this.withinAnyGate(j)) continue;
       let s = 0;

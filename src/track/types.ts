@@ -15,6 +15,12 @@ export interface DirectionCandidate {
    * gives it its first elevation.
    */
   underLouder?: boolean;
+  /**
+   * The index (in HopObservation.candidates) of the candidate this one is an aliased lobe of (the
+   * same sound, heard where a track's prediction says its caller is), absent or -1 for none: it
+   * stands in for that candidate only when no confirmed track explains that one.
+   */
+  aliasOf?: number;
 }
 
 /** What the analysis core hands the tracker once per hop. */

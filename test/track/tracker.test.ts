@@ -1065,7 +1065,7 @@ describe("a young mover's next call ahead of its prediction (the onward model, i
 });
 
 /** Hops of 10 ms from t0 for `seconds`, each with the candidates cands(t); returns the events and the track ids reported. */
-function feed(tracker: Tracker, t0: number, seconds: number, cands: (t: number) => { azimuthDeg: number; elevationDeg: number | null; score: number; underLouder?: boolean }[]) {
+function feed(tracker: Tracker, t0: number, seconds: number, cands: (t: number) => { azimuthDeg: number; elevationDeg: number | null; score: number; underLouder?: boolean; aliasOf?: number }[]) {
   const events: EventRecord[] = [];
   const ids = new Set<number>();
   for (let t = t0; t < t0 + seconds - 1e-9; t += 0.01) {
@@ -1254,5 +1254,90 @@ describe('a mover heard again after seconds under a louder caller (its trend, is
     const kept = r.after.filter((id) => id === r.before).length;
     console.log(`young mover back beside a stray: id before ${r.before}, after ${[...new Set(r.after)].join(', ')} (${kept} of ${r.after.length} hops on it)`);
     expect(kept).toBeLessThan(0.9 * r.after.length);
+  });
+});
+
+describe('a caller read at an aliased lobe (candidates aliasOf: src/analysis/watched-directions.ts)', () => {
+  // A caller moves -60 -> +20 deg at 16 deg/s, calling 0.15 s of every 0.5 s. From its fourth
+  // call on, every other call is read at a lobe 35 deg ahead of it (the hop's answer), as a
+  // high sweep on a 20 cm square was in the motion matrix (draw 6060, pas15: -22 deg read at 12);
+  // with aliases the analysis also reports the caller's own direction, which the lobe's sound
+  // fits as well, as the answer's alias (score 0.9). Bearing noise up to 1 deg.
+  const moverAz = (t: number) => -60 + 16 * t;
+  function runMover(withAliases: boolean) {
+    const tracker = new Tracker({});
+    let s = 11;
+    const noise = () => ((s = (s * 16807) % 2147483647) / 2147483647 - 0.5) * 2;
+    const r = feed(tracker, 0.005, 5, (t) => {
+      const k = Math.floor(t / 0.5);
+      if (t - 0.5 * k >= 0.15) return [];
+      const az = moverAz(t);
+      if (k < 3 || k % 2 === 0) return [{ azimuthDeg: az + noise(), elevationDeg: null, score: 1 }];
+      const lobe = { azimuthDeg: az + 35 + noise(), elevationDeg: null, score: 1 };
+      return withAliases ? [lobe, { azimuthDeg: az + noise(), elevationDeg: null, score: 0.9, aliasOf: 0 }] : [lobe];
+    });
+    const events = [...r.events, ...tracker.finish()];
+    const tracks = new Set(events.map((e) => e.track));
+    const onCaller = events.filter((e) => Math.abs(angleDiffDeg(e.azimuth_deg, moverAz((e.start_s + e.end_s) / 2))) <= 5);
+    const calls = Array.from({ length: 10 }, (_, k) => k).filter((k) => onCaller.some((e) => e.start_s < 0.5 * k + 0.15 && e.end_s > 0.5 * k));
+    return { tracks: [...tracks], events, calls: calls.length, atLobe: events.filter((e) => Math.abs(angleDiffDeg(e.azimuth_deg, moverAz((e.start_s + e.end_s) / 2) + 35)) <= 5).length };
+  }
+
+  it('with the aliases: one track, an event at the caller for each of its 10 calls, none at the lobe', () => {
+    const r = runMover(true);
+    console.log(`aliased lobe, with aliases: tracks ${r.tracks.join(', ')}; calls with an event at the caller ${r.calls} of 10; events at the lobe ${r.atLobe}`);
+    expect(r.tracks).toHaveLength(1);
+    expect(r.calls).toBe(10);
+    expect(r.atLobe).toBe(0);
+  });
+
+  it('without them (the lobe alone): the lobe calls make events of their own, at the lobe', () => {
+    const r = runMover(false);
+    console.log(`aliased lobe, without aliases: tracks ${r.tracks.join(', ')}; calls with an event at the caller ${r.calls} of 10; events at the lobe ${r.atLobe}`);
+    expect(r.atLobe).toBeGreaterThan(0);
+    expect(r.calls).toBeLessThan(10);
+  });
+
+  it('an alias whose answer a confirmed track explains is dropped: a chorus keeps its hops and the mover gets no events from them', () => {
+    // A chorus at 0 deg calls 0.2 s of every 0.5 s, between the mover's calls (3 s: the mover
+    // stays 12 deg or more from the chorus); while the mover is within 8 deg of -40 deg
+    // (0.75-1.75 s), each chorus hop also carries an alias at -40 (a lobe of the chorus' sound
+    // where the mover's track is predicted).
+    const tracker = new Tracker({});
+    const r = feed(tracker, 0.005, 3, (t) => {
+      const phase = t % 0.5;
+      if (phase < 0.15) return [{ azimuthDeg: moverAz(t), elevationDeg: null, score: 1 }];
+      if (phase < 0.25 || phase >= 0.45) return [];
+      const chorus = { azimuthDeg: 0, elevationDeg: null, score: 1 };
+      return Math.abs(moverAz(t) + 40) <= 8 ? [chorus, { azimuthDeg: -40, elevationDeg: null, score: 0.9, aliasOf: 0 }] : [chorus];
+    });
+    const events = [...r.events, ...tracker.finish()];
+    const chorus = events.filter((e) => Math.abs(e.azimuth_deg) <= 3);
+    const moverTrack = events.find((e) => e.start_s < 0.15)!.track;
+    const moverInPauses = events.filter((e) => e.track === moverTrack && (e.start_s + 1e-6) % 0.5 >= 0.2);
+    console.log(`alias of an explained answer: chorus events ${chorus.length} on tracks ${[...new Set(chorus.map((e) => e.track))].join(', ')}; events of the mover's track starting in its pauses ${moverInPauses.length}`);
+    expect(chorus.length).toBe(6);
+    expect(new Set(chorus.map((e) => e.track)).size).toBe(1);
+    expect(moverInPauses).toEqual([]);
+  });
+
+  it('aliases alone do not keep a track: a mover gone quiet does not take a new caller whose sound fits where it was', () => {
+    // The mover calls until 2 s, then stops at -28 deg; from 2.5 s a new caller at 40 deg calls
+    // 0.2 s of every 0.5 s, each of its hops carrying an alias at -28 (where the mover's track
+    // coasts). Aliases go only to a track moved by its own candidates within ALIAS_WITHIN_S.
+    const tracker = new Tracker({});
+    const r = feed(tracker, 0.005, 6, (t) => {
+      if (t < 2) return t % 0.5 < 0.15 ? [{ azimuthDeg: moverAz(t), elevationDeg: null, score: 1 }] : [];
+      if (t < 2.5 || t % 0.5 >= 0.2) return [];
+      return [{ azimuthDeg: 40, elevationDeg: null, score: 1 }, { azimuthDeg: -28, elevationDeg: null, score: 0.9, aliasOf: 0 }];
+    });
+    const events = [...r.events, ...tracker.finish()];
+    const newcomer = events.filter((e) => Math.abs(angleDiffDeg(e.azimuth_deg, 40)) <= 3);
+    const moverTrack = events.find((e) => e.start_s < 0.15)!.track;
+    const moverLate = events.filter((e) => e.track === moverTrack && e.start_s > 3.5);
+    console.log(`aliases alone: newcomer events ${newcomer.length} (of 7 calls) on tracks ${[...new Set(newcomer.map((e) => e.track))].join(', ')}; mover's track events after 3.5 s ${moverLate.length}`);
+    expect(newcomer.length).toBeGreaterThanOrEqual(5);
+    expect(newcomer.every((e) => e.track !== moverTrack)).toBe(true);
+    expect(moverLate).toEqual([]);
   });
 });
