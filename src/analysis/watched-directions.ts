@@ -262,7 +262,7 @@ export class WatchedDirections {
   private aliasOf(w: number): void {
     const own = this.own;
     if (own.count < WATCH_MIN_BINS || !(own.total > 0)) return;
-    this.nearBest(w, own, null);
+    this.nearBest(w, own, null, ALIAS_SHARE * own.total);
     const az = this.nearAz;
     const mass = this.nearMass;
     if (!(mass >= ALIAS_SHARE * own.total)) return;
@@ -275,16 +275,17 @@ export class WatchedDirections {
   /**
    * The best azimuth near watched direction w (within its half-width, coarse then a degree either
    * side) on the bins of `bins` not marked in `used` (null: all): nearAz / nearMass (NaN and 0 when
-   * no azimuth is fitted by WATCH_MIN_BINS bins).
+   * no azimuth is fitted by WATCH_MIN_BINS bins). With `need`, azimuths that cannot reach that
+   * much evidence are given up early (see fitMass): the best is exact when it reaches `need`.
    */
-  private nearBest(w: number, bins: HopBins, used: Uint8Array | null): void {
+  private nearBest(w: number, bins: HopBins, used: Uint8Array | null, need = 0): void {
     const az0 = this.watchAz[w]!;
     const el = this.watchEl[w]!;
     const h = this.watchHalf[w]!;
     let bestAz = NaN;
     let best = 0;
     for (let d = -h; d <= h + 1e-9; d += COARSE_STEP_DEG) {
-      const v = this.fitMass(bins, used, az0 + d, el, false);
+      const v = this.fitMass(bins, used, az0 + d, el, false, need);
       if (v > best && this.fitted >= WATCH_MIN_BINS) {
         best = v;
         bestAz = az0 + d;
@@ -293,7 +294,7 @@ export class WatchedDirections {
     if (best > 0) {
       const centre = bestAz;
       for (let d = -1; d <= 1; d += 2) {
-        const v = this.fitMass(bins, used, centre + d, el, false);
+        const v = this.fitMass(bins, used, centre + d, el, false, need);
         if (v > best && this.fitted >= WATCH_MIN_BINS) {
           best = v;
           bestAz = centre + d;
@@ -359,20 +360,27 @@ export class WatchedDirections {
 
   /**
    * The evidence of the bins of `bins` not marked in `used` (null: all) that fit direction (az, el)
-   * within WATCH_FIT (their count in `fitted`); `take` marks them in `used`.
+   * within WATCH_FIT (their count in `fitted`); `take` marks them in `used`. With `need` (> 0, and
+   * `used` null) it stops once the bins left cannot bring the evidence up to `need`, and returns
+   * what it has (less than `need`): most tested directions fail on the first heavy bins.
    */
-  private fitMass(bins: HopBins, used: Uint8Array | null, azDeg: number, elDeg: number, take: boolean): number {
+  private fitMass(bins: HopBins, used: Uint8Array | null, azDeg: number, elDeg: number, take: boolean, need = 0): number {
     const P = this.P;
     this.model.lagsOf(azDeg, elDeg, this.lags);
     const scale = (2 * Math.PI) / this.n;
     let mass = 0;
+    let missed = 0;
     let count = 0;
     for (let i = 0; i < bins.count; i++) {
       if (used !== null && used[i] === 1) continue;
       const k = bins.bin[i]!;
       let fit = 0;
       for (let p = 0; p < P; p++) fit += Math.cos(bins.phase[i * P + p]! + scale * k * this.lags[p]!);
-      if (fit < WATCH_FIT * P) continue;
+      if (fit < WATCH_FIT * P) {
+        missed += bins.mass[i]!;
+        if (need > 0 && bins.total - missed < need) break;
+        continue;
+      }
       if (take && used !== null) used[i] = 1;
       mass += bins.mass[i]!;
       count++;
