@@ -571,6 +571,14 @@ export class HopAnalyzer {
   }
 
   /**
+   * Give the FFT's buffers back (RealFft.release): for a process that makes many analyses one
+   * after another (benchmarks, the accuracy matrix). The analyzer must not be used afterwards.
+   */
+  release(): void {
+    this.fft.release();
+  }
+
+  /**
    * Directions to look for in the next hop (./watched-directions.ts): azimuth and elevation
    * (degrees, NaN when unknown) of each of the first `count`, in the array's frame. Arrays of
    * two mics ignore it (one pair's phase says too little).

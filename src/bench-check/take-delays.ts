@@ -255,6 +255,8 @@ export class TakeMeasurer {
       const m = this.ms[c]! / Math.max(1, this.taken);
       levelDbfs[c] = m > 0 ? 10 * Math.log10(m) : -Infinity;
     }
+    // the measurer is done: its FFT buffers go back for the next take's
+    this.fft.release();
     return { segments: this.segments, levelDbfs, frame: this.n };
   }
 }

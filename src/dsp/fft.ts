@@ -27,6 +27,7 @@ export class RealFft {
   private readonly pfInv: { view: Float32Array; ptr: number } | null = null;
   /** Input and spectrum views and their pointers, by view. */
   private readonly pfPtr = new Map<Float32Array, number>();
+  private released = false;
   readonly size: number;
   readonly bins: number;
   private readonly full: FFT;
@@ -67,6 +68,19 @@ export class RealFft {
       this.twCos[k] = Math.cos((2 * Math.PI * k) / n);
       this.twSin[k] = Math.sin((2 * Math.PI * k) / n);
     }
+  }
+
+  /**
+   * Give PFFFT's buffers back (this FFT's own and every one createInput / createSpectrum made):
+   * after this neither the FFT nor those buffers may be used. Nothing to do on fft.js. For a
+   * process that makes many analyses one after another; PFFFT's memory is a fixed arena.
+   */
+  release(): void {
+    if (this.backend !== 'pffft' || !pffft || this.released) return;
+    this.released = true;
+    for (const b of [this.pfWork, this.pfIn, this.pfOut, this.pfInv]) if (b !== null) pffft.free(b.ptr, this.size);
+    for (const ptr of this.pfPtr.values()) pffft.free(ptr, this.size);
+    this.pfPtr.clear();
   }
 
   /** A buffer for an interleaved spectrum (bin k at [2k], [2k + 1] for 1 <= k < N/2). */

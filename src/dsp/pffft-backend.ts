@@ -20,8 +20,10 @@ export const PFFFT_BACKWARD = 1;
 
 export interface Pffft {
   readonly module: PffftModule;
-  /** A Float32Array of n floats in the module's memory (16-byte aligned). */
+  /** A Float32Array of n floats in the module's memory (16-byte aligned): a block given back by free() when one of that size is, else a new one. */
   alloc(n: number): { view: Float32Array; ptr: number };
+  /** Give back a block of n floats that alloc() made (its views must not be used again). */
+  free(ptr: number, n: number): void;
   setup(n: number): number;
   /** Are views made so far still valid (the memory has not moved)? */
   alive(view: Float32Array): boolean;
@@ -35,14 +37,27 @@ async function load(): Promise<Pffft | null> {
     const base = m._pffft_aligned_malloc(ARENA_BYTES);
     let used = 0;
     const setups = new Map<number, number>();
+    // Blocks given back, by size in bytes: a process that makes many analyses one after another
+    // (the benchmarks, the accuracy matrix) reuses them instead of filling the arena.
+    const freed = new Map<number, number[]>();
+    const bytesOf = (n: number): number => Math.ceil((n * 4) / 16) * 16;
     return {
       module: m,
       alloc(n: number) {
-        const bytes = Math.ceil((n * 4) / 16) * 16;
-        if (used + bytes > ARENA_BYTES) throw new Error('FFT buffer arena is full');
-        const ptr = base + used;
-        used += bytes;
+        const bytes = bytesOf(n);
+        let ptr = freed.get(bytes)?.pop();
+        if (ptr === undefined) {
+          if (used + bytes > ARENA_BYTES) throw new Error('FFT buffer arena is full: release analyses no longer used (RealFft.release)');
+          ptr = base + used;
+          used += bytes;
+        }
         return { view: new Float32Array(m.HEAPF32.buffer, ptr, n), ptr };
+      },
+      free(ptr: number, n: number) {
+        const bytes = bytesOf(n);
+        const list = freed.get(bytes);
+        if (list === undefined) freed.set(bytes, [ptr]);
+        else list.push(ptr);
       },
       setup(n: number) {
         let s = setups.get(n);

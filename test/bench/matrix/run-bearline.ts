@@ -156,5 +156,7 @@ export function runBearline(mics: readonly Vec3[], sampleRate: number, speedOfSo
   });
   hops.forEach((h, i) => ((h as { features: HopFeatures | null }).features = features[i] ?? null));
   void session.finish();
+  // one analysis per cell: its FFT buffers go back for the next cell's
+  setup.analyzer.release();
   return { hops, events, frame: setup.analyzer.frame, hop: setup.analyzer.hop };
 }
