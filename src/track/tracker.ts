@@ -22,7 +22,8 @@
  *    coherent wind between calls, neither moves nor starts a track);
  * 3. a candidate that is an aliased lobe of another (aliasOf: the same sound, which the array
  *    cannot place between the two) stands in for it only where no confirmed track explains the
- *    other and one gates the alias (resolveAliases), and never starts or feeds a tentative track;
+ *    other and a confirmed track moved by readings of its own within ALIAS_WITHIN_S gates the
+ *    alias (resolveAliases), and never starts or feeds a tentative track;
  *    then assign candidates to confirmed tracks by global nearest neighbour (assignment.ts), then
  *    the leftovers to tentative tracks, and update the assigned tracks (a hop whose own spectra
  *    do not support its answer, HELD_Z, or that is below the event-enter confidence, tooWeakToMove,
@@ -267,9 +268,14 @@ const ONWARD_RATIO = 6;
 const TREND_SPAN_S = 2;
 const TREND_MAX_S = 3;
 const TREND_WANDER_DEG_S = 1.5;
-/** Through which model a candidate joins a track: its filter's prediction, its resting place, its trend. */
-/** An alias goes only to a track moved by a candidate of its own within this many seconds (takesAliases). */
+/**
+ * An alias goes only to a track moved by a candidate of its own within this many seconds
+ * (takesAliases). A guard: it changed no cell of the motion matrix's 13 draws, and keeps a quiet
+ * track from taking a new caller whose sound fits where the track is predicted
+ * (test/track/tracker.test.ts).
+ */
 const ALIAS_WITHIN_S = 1;
+/** Through which model a candidate joins a track: its filter's prediction, its resting place, its trend. */
 const BY_PREDICTION = 0;
 const AT_REST = 1;
 const BY_TREND = 2;
@@ -546,8 +552,8 @@ export class Tracker {
    * Each alias (a candidate at a watched track's prediction that the hop's sound fits as well as
    * the candidate it is an alias of: src/analysis/watched-directions.ts) against that candidate:
    * when a confirmed track gates the other, the hop is that track's and the alias is dropped;
-   * else, when one gates the alias, the other is dropped (it is the lobe: it starts no track and
-   * feeds none); else the alias is dropped. A high sweep passing a 20 cm square at up to 80
+   * else, when one that takes aliases (takesAliases) gates the alias, the other is dropped (it is
+   * the lobe: it starts no track and feeds none); else the alias is dropped. A high sweep passing a 20 cm square at up to 80
    * deg/s, read at a lobe for whole calls, started a track per lobe (motion matrix pas15).
    */
   private resolveAliases(nC: number): void {

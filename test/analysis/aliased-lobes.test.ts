@@ -15,6 +15,8 @@ import { afterAll, describe, expect, it } from 'vitest';
 import { analyzeArrays, createAnalysis } from '../../src/analysis/analysis.js';
 import type { HopResult } from '../../src/analysis/hop-analyzer.js';
 import { loadGeometryFile } from '../../src/geometry/geometry-file.js';
+import { toFrameRecord } from '../../src/records/frame-record.js';
+import type { SourceEstimate } from '../../src/records/record-types.js';
 import { unitFromAzEl, wrapDeg } from '../../src/geometry/vec3.js';
 import { farFieldDelaysUp, soxDecode, soxDelayedSignal, soxIndependentNoise, soxMix } from '../helpers/sox.js';
 import { tempDir } from '../helpers/temp-dir.js';
@@ -36,6 +38,8 @@ function lobeOf(az: number, r: number): { az: number; el: number } {
 interface Hop {
   winnerAz: number;
   aliases: { az: number; of: number }[];
+  /** The hop's frame record's sources (scan --frames). */
+  recorded: SourceEstimate[];
 }
 
 /** Seven 0.15 s calls with soft edges, 0.35 s apart (the analysis hears onsets, not a steady tone). */
@@ -58,7 +62,8 @@ function scanWatching(array: string, synth: string[], effects: string[], watch: 
     if (r.valid) {
       const aliases: Hop['aliases'] = [];
       for (let i = 0; i < r.sourceCount; i++) if (r.sources[i]!.aliasOf >= 0) aliases.push({ az: r.sources[i]!.azimuthDeg, of: r.sources[i]!.aliasOf });
-      hops.push({ winnerAz: r.sources[0]!.azimuthDeg, aliases });
+      const settings = { headingDeg: null, mirror: setup.model.mirror, pairs: setup.model.pairs, diagnostics: false, viewerFields: false };
+      hops.push({ winnerAz: r.sources[0]!.azimuthDeg, aliases, recorded: toFrameRecord(r, settings).sources ?? [] });
     }
     // a watch is for one hop, as the tracking session hands it in after each
     setup.analyzer.watch(az, el, half, watch.length);
@@ -84,6 +89,11 @@ describe('aliased lobes of a narrow-band call, told apart by where a tracked cal
     expect(rescued.length).toBeGreaterThanOrEqual(0.25 * atLobe.length);
     expect(strayAliases).toEqual([]);
     expect(atCaller.every((h) => h.aliases.length === 0)).toBe(true);
+    // frame records (scan --frames) mark the alias and only it: alias_of 0, at its azimuth
+    for (const h of hops) {
+      const marked = h.recorded.filter((src) => src.alias_of !== undefined);
+      expect(marked.map((src) => [src.alias_of, Math.round(src.azimuth_deg)])).toEqual(h.aliases.map((a) => [a.of, Math.round(a.az)]));
+    }
   });
 
   it('a 2.85-3.15 kHz band on the same square, its (1, 0) lobe watched: answered at the caller, the lobe is reported as its alias where the formula puts it', () => {
