@@ -307,13 +307,13 @@ export class WatchedDirections {
 
   /**
    * The heaviest bins (MAX_BINS) with weight this hop, over their noise mean this hop, that do
-   * not fit the winner, with their pairs' phases (foreign), and the heaviest that do (own). A bin back at its noise mean holds no caller now
-   * (its phase is noise), yet its weight memory may still hold a louder caller that has just
-   * stopped: those bins made most of the evidence the share rule weighs a find against, and a
-   * watched caller calling on as the louder one's call ended went unheard while the analysis'
-   * memory still gave the hop to the other (a 3.4-2.4 kHz sweep on a 20 cm square, 0.1 s after a
-   * broadband caller 25 deg off stopped: 170 bins held 41 of evidence, the sweep's 22 of them 5;
-   * motion matrix draw 4242, crs05).
+   * not fit the winner, with their pairs' phases (foreign), and the heaviest that do (own). A bin
+   * back at its noise mean holds no caller now (its phase is noise), yet its weight memory may
+   * still hold a louder caller that has just stopped: those bins made most of the evidence the
+   * share rule weighs a find against, and a watched caller calling on as the louder one's call
+   * ended went unheard while the analysis' memory still gave the hop to the other (a 3.4-2.4 kHz
+   * sweep on a 20 cm square, 0.1 s after a broadband caller 25 deg off stopped: 170 bins held 41 of
+   * evidence, the sweep's 22 of them 5; motion matrix draw 4242, crs05).
    */
   private collectBins(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, onset: OnsetWeigher): void {
     const P = this.P;
