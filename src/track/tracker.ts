@@ -343,6 +343,8 @@ export class Tracker {
   private readonly restElVar: Float64Array;
   /** Per (listed track, candidate): the model whose cost it is (BY_PREDICTION, AT_REST, BY_TREND). */
   private readonly costModel: Uint8Array;
+  /** The model of the last costFor(). */
+  private lastCostModel = BY_PREDICTION;
   /** Per slot: the model through which this hop's chosen candidate joined it. */
   private readonly chosenModel: Uint8Array;
   /** Per candidate of the hop: 1 when it lies within the home gate of a settled track. */
@@ -354,8 +356,10 @@ export class Tracker {
   private readonly finished: TrackSummary[] = [];
   /** Squared Mahalanobis distance of the last gate() call. */
   private readonly d2 = new Float64Array(1);
-  /** The last trendOf(): azimuth, its variance, drift. */
-  private readonly trend = new Float64Array(3);
+  /** Per slot, this hop (set by trendOf): where its trend model puts it (azimuth), that azimuth's variance, and the drift. */
+  private readonly trendAz: Float64Array;
+  private readonly trendVar: Float64Array;
+  private readonly trendRate: Float64Array;
   private readonly gate2: number;
   /** ln of the largest innovation variance (max uncertainty plus the noisiest measurement): keeps the cost negative inside the gate. */
   private readonly logSMax: number;
@@ -402,6 +406,9 @@ export class Tracker {
     this.lastSupportT = new Float64Array(n);
     this.lastMovedT = new Float64Array(n);
     this.lastOwnT = new Float64Array(n);
+    this.trendAz = new Float64Array(n);
+    this.trendVar = new Float64Array(n);
+    this.trendRate = new Float64Array(n);
     this.lastFreeT = new Float64Array(n);
     this.filterT = new Float64Array(n);
     this.firstSeenT = new Float64Array(n);
@@ -551,17 +558,18 @@ export class Tracker {
   /**
    * Each alias (a candidate at a watched track's prediction that the hop's sound fits as well as
    * the candidate it is an alias of: src/analysis/watched-directions.ts) against that candidate:
-   * when a confirmed track gates the other, the hop is that track's and the alias is dropped;
-   * else, when one that takes aliases (takesAliases) gates the alias, the other is dropped (it is
-   * the lobe: it starts no track and feeds none); else the alias is dropped. A high sweep passing a 20 cm square at up to 80
-   * deg/s, read at a lobe for whole calls, started a track per lobe (motion matrix pas15).
+   * when a confirmed track could take the other (takenByConfirmed), the hop is that track's and
+   * the alias is dropped; else, when one could take the alias (only one that takesAliases can),
+   * the other is dropped (it is the lobe: it starts no track and feeds none); else the alias is
+   * dropped. A high sweep passing a 20 cm square at up to 80 deg/s, read at a lobe for whole
+   * calls, started a track per lobe (motion matrix pas15).
    */
   private resolveAliases(nC: number): void {
     for (let j = 0; j < nC; j++) {
       const k = this.candAlias[j]!;
       if (k < 0 || this.candUsable[j] === 0) continue;
-      if (this.candUsable[k] === 1 && this.gatedByConfirmed(k, false)) this.candUsable[j] = 0;
-      else if (this.gatedByConfirmed(j, true)) this.candUsable[k] = 0;
+      if (this.takenByConfirmed(k)) this.candUsable[j] = 0;
+      else if (this.takenByConfirmed(j)) this.candUsable[k] = 0;
       else this.candUsable[j] = 0;
     }
   }
@@ -575,11 +583,11 @@ export class Tracker {
     return this.state[s] === CONFIRMED && this.sc.hop[TIME]! - this.lastOwnT[s]! <= ALIAS_WITHIN_S;
   }
 
-  /** Does a confirmed, not dormant track (one that takes aliases, when `forAlias`) gate candidate j (at its prediction, or a settled track at its home)? */
-  private gatedByConfirmed(j: number, forAlias: boolean): boolean {
+  /** Could a confirmed track take candidate j this hop (costFor: the assignment's own rules and gates)? */
+  private takenByConfirmed(j: number): boolean {
     for (let s = 0; s < this.size; s++) {
-      if (this.state[s] !== CONFIRMED || this.dormant[s] === 1 || this.otherBand(s, j) || (forAlias && !this.takesAliases(s))) continue;
-      if ((this.settled[s] === 1 && this.homeDistance2(s, j) <= this.gate2) || this.gate(s, j)) return true;
+      if (this.state[s] !== CONFIRMED) continue;
+      if (this.costFor(s, j, CONFIRMED, this.settled[s] === 0 && this.trendOf(s)) < Infinity) return true;
     }
     return false;
   }
@@ -831,8 +839,8 @@ export class Tracker {
   }
 
   /**
-   * Where slot s's trend model (TREND_SPAN_S) puts it this hop, into trend: azimuth (working
-   * angle), its variance and the drift; false when the model does not apply.
+   * Where slot s's trend model (TREND_SPAN_S) puts it this hop, into trendAz / trendVar /
+   * trendRate (working angle, its variance, the drift); false when the model does not apply.
    */
   private trendOf(s: number): boolean {
     if (this.sideDeg !== null) return false;
@@ -841,25 +849,24 @@ export class Tracker {
     const drift = this.lifetime.driftDegS(s);
     if (!(Math.abs(drift) > STILL_DRIFT_DEG_S)) return false;
     const grow = TREND_WANDER_DEG_S * dt;
-    this.trend[0] = wrapDeg(this.restAz[s]! + drift * dt);
-    this.trend[1] = this.restAzVar[s]! + grow * grow;
-    this.trend[2] = drift;
+    this.trendAz[s] = wrapDeg(this.restAz[s]! + drift * dt);
+    this.trendVar[s] = this.restAzVar[s]! + grow * grow;
+    this.trendRate[s] = drift;
     return true;
   }
 
   /**
-   * Is candidate j inside slot s's trend gate (azimuth alone; trendOf(s) has just put the trend
-   * in place)? Leaves the cost in d2[0], as gate().
+   * Is candidate j inside slot s's trend gate (azimuth alone; trendOf(s) has put the trend in
+   * place this hop)? Leaves the cost in d2[0], as gate().
    */
   private trendGate(s: number, j: number): boolean {
-    return this.candHomeAz[j] === 0 && this.gateAtPlace(s, j, this.trend[0]!, this.trend[1]!, NaN, 0);
+    return this.candHomeAz[j] === 0 && this.gateAtPlace(s, j, this.trendAz[s]!, this.trendVar[s]!, NaN, 0);
   }
 
-  /** Put slot s where its trend model has it, moving at its drift (that model won the hop), before its update. */
+  /** Put slot s where its trend model has it this hop (trendOf), moving at its drift (that model won the hop), before its update. */
   private restartAtTrend(s: number): void {
-    this.trendOf(s);
-    this.az.restart(s, this.trend[0]!, this.trend[1]!);
-    this.az.rate[s] = this.trend[2]!;
+    this.az.restart(s, this.trendAz[s]!, this.trendVar[s]!);
+    this.az.rate[s] = this.trendRate[s]!;
   }
 
   /** Put slot s back at its resting place (its still model won the hop) before its update. */
@@ -935,41 +942,15 @@ export class Tracker {
     let any = false;
     for (let i = 0; i < nT; i++) {
       const s = this.listed[i]!;
-      // The trend is the slot's, whatever the candidate: worked out once (this.trend).
+      // The trend is the slot's, whatever the candidate: worked out once (trendAz / trendVar / trendRate).
       const trend = which === CONFIRMED && this.settled[s] === 0 && this.trendOf(s);
       for (let j = 0; j < nC; j++) {
-        this.cost[i * stride + j] = Infinity;
-        this.costModel[i * stride + j] = BY_PREDICTION;
-        if (this.candUsable[j] === 0 || this.candTaken[j] === 1 || this.dormant[s] === 1 || this.otherBand(s, j)) continue;
-        // One heard only under a louder caller does not confirm a track either; an alias goes only to a confirmed track that takes aliases.
-        if (which !== CONFIRMED && this.candFirm[j] === 0) continue;
-        if (this.candAlias[j]! >= 0 && (which !== CONFIRMED || !this.takesAliases(s))) continue;
-        if (this.candHome[j] === 1 && this.settled[s] === 0 && this.sc.hop[TIME]! - this.lastFreeT[s]! > PASSING_S) continue;
-        if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !this.nearZenith(s)) continue;
-        if (!this.beyondReach(s, j) && this.gate(s, j)) {
-          this.cost[i * stride + j] = this.d2[0]!;
+        const c = this.costFor(s, j, which, trend);
+        this.cost[i * stride + j] = c;
+        this.costModel[i * stride + j] = this.lastCostModel;
+        if (c < Infinity) {
           this.candGated[j] = 1;
           any = true;
-        }
-        if (which === CONFIRMED && this.settled[s] === 0 && this.restGate(s, j) && this.d2[0]! < this.cost[i * stride + j]!) {
-          this.cost[i * stride + j] = this.d2[0]!;
-          this.costModel[i * stride + j] = AT_REST;
-          this.candGated[j] = 1;
-          any = true;
-        }
-        if (trend && this.trendGate(s, j) && this.d2[0]! < this.cost[i * stride + j]!) {
-          this.cost[i * stride + j] = this.d2[0]!;
-          this.costModel[i * stride + j] = BY_TREND;
-          this.candGated[j] = 1;
-          any = true;
-        }
-        if (this.settled[s] === 1) {
-          const d2 = this.homeDistance2(s, j);
-          if (d2 <= this.gate2 && d2 - this.gate2 < this.cost[i * stride + j]!) {
-            this.cost[i * stride + j] = d2 - this.gate2;
-            this.candGated[j] = 1;
-            any = true;
-          }
         }
       }
     }
@@ -982,6 +963,36 @@ export class Tracker {
       this.chosenModel[this.listed[i]!] = this.costModel[i * stride + j]!;
       this.candTaken[j] = 1;
     }
+  }
+
+  /**
+   * The cost of candidate j for slot s (a track in state `which`; `trend`: trendOf(s) holds this
+   * hop), the cheapest of its models (prediction within reach, resting place, trend, settled
+   * home), with that model in lastCostModel; Infinity when no model gates it or a rule keeps it out.
+   */
+  private costFor(s: number, j: number, which: number, trend: boolean): number {
+    this.lastCostModel = BY_PREDICTION;
+    if (this.candUsable[j] === 0 || this.candTaken[j] === 1 || this.dormant[s] === 1 || this.otherBand(s, j)) return Infinity;
+    // One heard only under a louder caller does not confirm a track either; an alias goes only to a confirmed track that takes aliases.
+    if (which !== CONFIRMED && this.candFirm[j] === 0) return Infinity;
+    if (this.candAlias[j]! >= 0 && (which !== CONFIRMED || !this.takesAliases(s))) return Infinity;
+    if (this.candHome[j] === 1 && this.settled[s] === 0 && this.sc.hop[TIME]! - this.lastFreeT[s]! > PASSING_S) return Infinity;
+    if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !this.nearZenith(s)) return Infinity;
+    let cost = Infinity;
+    if (!this.beyondReach(s, j) && this.gate(s, j)) cost = this.d2[0]!;
+    if (which === CONFIRMED && this.settled[s] === 0 && this.restGate(s, j) && this.d2[0]! < cost) {
+      cost = this.d2[0]!;
+      this.lastCostModel = AT_REST;
+    }
+    if (trend && this.trendGate(s, j) && this.d2[0]! < cost) {
+      cost = this.d2[0]!;
+      this.lastCostModel = BY_TREND;
+    }
+    if (this.settled[s] === 1) {
+      const d2 = this.homeDistance2(s, j);
+      if (d2 <= this.gate2 && d2 - this.gate2 < cost) cost = d2 - this.gate2;
+    }
+    return cost;
   }
 
   private applyAssignments(): void {
