@@ -55,3 +55,53 @@ describe('track scores: completeness and where the missed calls went', () => {
     expect(s2.sources.find((x) => x.source === 'frog')!.missed).toEqual({ otherTrack: 0, otherSource: 0, unattributed: 0, none: 3 });
   });
 });
+
+describe('track scores: two callers crossing each other bearing (CLEAR MOT kept correspondence)', () => {
+  // Rule: Bernardin and Stiefelhagen 2008, the CLEAR MOT measures (from memory): a track's
+  // correspondence with a source is kept while it stays within the threshold. Two callers at
+  // -20 -> 20 and 20 -> -20 deg over 8 s, calling every second: within 5 deg of each other at
+  // 3.5 and 4.5 s (calls at 3.5-3.8 s and 4.0-4.3 s hold both within 5 deg).
+  const azA = (t: number): number => -20 + 5 * t;
+  const azB = (t: number): number => 20 - 5 * t;
+  const records: TruthRecord[] = [];
+  const starts = [0, 1, 2, 3, 3.5, 4, 5, 6, 7];
+  for (const [source, az] of [['a', azA], ['b', azB]] as const) {
+    for (const s0 of starts) {
+      for (let t = s0; t < s0 + 0.3 - 1e-9; t += TRUTH_STEP_S) {
+        const tt = Math.round(t * 100) / 100;
+        records.push({ time_s: tt, source, azimuth_deg: az(tt), elevation_deg: 0 });
+      }
+    }
+  }
+  const truth = indexTruth(records.sort((x, y) => x.time_s - y.time_s));
+  const exact = (az: (t: number) => number, track: number, swapAt = Infinity, other = 0): EventRecord[] =>
+    starts.map((s0) => event(s0, s0 + 0.29, az(s0 + 0.145), s0 >= swapAt ? other : track));
+
+  it('a scan whose tracks stay on their callers: every call counted with the rule kept, calls near the crossing lost without it', () => {
+    const events = [...exact(azA, 1), ...exact(azB, 2)];
+    const kept = scoreTracks(events, truth, TRUTH_STEP_S);
+    const strict = scoreTracks(events, truth, TRUTH_STEP_S, 5, { keepCorrespondence: false });
+    for (const name of ['a', 'b']) {
+      const k = kept.sources.find((x) => x.source === name)!;
+      expect(k.completeness).toBe(1);
+      expect(k.idSwitches).toBe(0);
+      // the calls at 3.5 and 4.0 s lie within 5 deg of the other caller's bearing
+      expect(strict.sources.find((x) => x.source === name)!.completeness).toBeCloseTo(7 / 9, 12);
+    }
+  });
+
+  it('tracks that swap callers at the crossing still count one id switch each, and no event joins a source its track was not on', () => {
+    // track 1 follows a until 4 s, then b; track 2 the other way round
+    const events = [...exact(azA, 1, 5, 2), ...exact(azB, 2, 5, 1)];
+    const s = scoreTracks(events, truth, TRUTH_STEP_S);
+    for (const name of ['a', 'b']) expect(s.sources.find((x) => x.source === name)!.idSwitches).toBe(1);
+    for (const t of s.tracks) expect(t.purity).toBeLessThan(1);
+  });
+
+  it('an event between the two callers, near neither, stays unattributed', () => {
+    const events = [...exact(azA, 1), event(6, 6.29, 0, 2)];
+    const s = scoreTracks(events, truth, TRUTH_STEP_S);
+    expect(s.tracks.find((t) => t.track === 2)!.attributed).toBe(0);
+    expect(s.tracks.find((t) => t.track === 1)!.attributed).toBe(starts.length);
+  });
+});

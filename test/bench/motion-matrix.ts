@@ -6,6 +6,10 @@
  * `bearline scan` (the built command, as a user would), renders cached in
  * os.tmpdir()/bearline-motion-cache.
  *
+ * Scores keep a track's correspondence where two sources lie within the tolerance (CLEAR MOT's
+ * rule, see track-scores.ts); the strict scores (such events left out, the rule of the figures
+ * before it) are printed too.
+ *
  * Families:
  * - pass:   one caller on a straight line past the array (peak angular rate 10-80 deg/s at the
  *           closest point, so it speeds up and slows down), calls below or above the array's
@@ -234,6 +238,8 @@ export interface CellResult {
   family: Family;
   condition: string;
   scores: TrackScores;
+  /** The same scan with events near two sources left out (no kept correspondence: the figures before it). */
+  strict: TrackScores;
   /** Tracks whose attributed events come from two sources (minor share over 5 %). */
   mixedTracks: number;
 }
@@ -246,8 +252,9 @@ export function runCell(cell: Cell, set: readonly string[]): CellResult {
   const events = out.split('\n').filter((l) => l.trim() !== '').map((l) => JSON.parse(l) as EventRecord);
   const truth = indexTruth(parseTruth(readFileSync(wav.replace(/\.wav$/, '.truth.jsonl'), 'utf8'), 'truth'));
   const scores = scoreTracks(events, truth, TRUTH_STEP_S);
+  const strict = scoreTracks(events, truth, TRUTH_STEP_S, undefined, { keepCorrespondence: false });
   const mixedTracks = scores.tracks.filter((t) => t.attributed >= 2 && t.purity < 0.95).length;
-  return { id: cell.id, family: cell.family, condition: cell.condition, scores, mixedTracks };
+  return { id: cell.id, family: cell.family, condition: cell.condition, scores, strict, mixedTracks };
 }
 
 const pct = (x: number): string => `${(100 * x).toFixed(0)}%`.padStart(4);
@@ -275,6 +282,16 @@ export function formatMotion(results: readonly CellResult[]): string[] {
     const switches = srcs.reduce((a, x) => a + x.s.idSwitches, 0);
     const mixed = rs.reduce((a, r) => a + r.mixedTracks, 0);
     lines.push(`  ${f.padEnd(7)} ${String(rs.length).padStart(3)} cells, ${String(srcs.length).padStart(3)} sources: pure ${pct(pure / Math.max(1, srcs.length))}, completeness >= 80 % ${pct(complete / Math.max(1, srcs.length))} (mean ${pct(meanC)}), id switches ${switches}, mixed tracks ${mixed}`);
+  }
+  lines.push('', 'strict attribution (an event near two sources left out, not given to its track\'s source):');
+  for (const f of fams) {
+    const rs = results.filter((r) => f === 'all' || r.family === f);
+    if (rs.length === 0) continue;
+    const srcs = rs.flatMap((r) => r.strict.sources);
+    const complete = srcs.filter((x) => x.completeness >= 0.8).length;
+    const meanC = srcs.reduce((a, x) => a + x.completeness, 0) / Math.max(1, srcs.length);
+    const switches = srcs.reduce((a, x) => a + x.idSwitches, 0);
+    lines.push(`  ${f.padEnd(7)} completeness >= 80 % ${pct(complete / Math.max(1, srcs.length))} (mean ${pct(meanC)}), id switches ${switches}`);
   }
   lines.push('', 'calls by what their time holds (src/accuracy/track-scores.ts): on the main track / on another track of the source / only another source\'s events / only events of no source / no event:');
   for (const f of fams) {
