@@ -239,11 +239,18 @@ const HELD_Z = 3;
  * (at --max-rate 120), but a numpy-rendered caller at 60 or 90 deg/s with five calls lost its id
  * at the fourth (test/accuracy/numpy-mover.test.ts). Accuracy matrix: one cell changes, x15t
  * (clicks in a room on a 4-mic line, 8 % within 5 deg): events per call 2.44 -> 2.89.
+ * Ratio 9 since: at 6 the hand-over stood on a knife's edge of the first call's rate. Draw 2027's
+ * pas13 rendered at 44.1 kHz instead of 48 gave the track 10.7 deg/s instead of 11.3 (the hops
+ * fall differently on the call), 6 x 10.7 fell short of the implied 66.5 deg/s and each call had
+ * a track of its own; the numpy caller at 90 deg/s rendered at 44.1 or 22.05 kHz lost its id the
+ * same way. With 9: the 13 draws of the motion matrix and every accuracy-matrix cell identical;
+ * the passes of six draws (4242 to 1001) rendered at 44.1 kHz 90 -> 92 of 96 sources >= 80 %
+ * complete, id switches 9 -> 6 (48 kHz: 93 and 6).
  */
 const ONWARD_MIN_GAP_S = 0.2;
 const ONWARD_SPAN_S = 1.2;
 const ONWARD_MIN_RATE_DEG_S = 5;
-const ONWARD_RATIO = 6;
+const ONWARD_RATIO = 9;
 /**
  * The trend model of a mover that has gone quiet (trendGate): a confirmed, unsettled track whose
  * supports that moved it span TREND_SPAN_S or more, with a lifetime drift (the fitted slope of its

@@ -41,19 +41,23 @@ describe('a moving caller rendered independently with numpy', () => {
   }
 });
 
-for (const [AZ, FAST] of [
-  [-120, 60],
-  [-170, 90],
+for (const [AZ, FAST, RATE_HZ] of [
+  [-120, 60, 48000],
+  [-170, 90, 48000],
+  [-170, 90, 44100],
+  [-170, 90, 22050],
 ] as const) {
-  describe(`a fast caller rendered independently with numpy: ${FAST} deg/s, short calls ${(0.75 * FAST).toFixed(0)} deg apart`, () => {
+  describe(`a fast caller rendered independently with numpy: ${FAST} deg/s, short calls ${(0.75 * FAST).toFixed(0)} deg apart, ${RATE_HZ / 1000} kHz`, () => {
     // Calls of 0.15 s every 0.75 s: within a call the default evidence memory trails the caller
     // (its track's rate comes out at well under half the caller's), and the next call lies 45-68
     // deg on, beyond the prediction's gate; the tracker's onward model (src/track/tracker.ts,
     // ONWARD_SPAN_S) gives it the same id, call after call. Before that model each call had a track
     // of its own; at 90 deg/s the hand-over also needs --max-rate above 90 (the default is 120);
-    // with the model's span counted from the track's first sighting the fourth call lost the id.
-    const wav = join(tempDir('accuracy').dir, `numpy-fast-mover-${FAST}.wav`);
-    const made = spawnSync('python3', [join(__dirname, 'numpy_mover.py'), wav, String(AZ), String(FAST), '4', '0.15', '0.75'], { encoding: 'utf8' });
+    // with the model's span counted from the track's first sighting the fourth call lost the id;
+    // at 44.1 and 22.05 kHz the second call had a track of its own while the model allowed 6 times
+    // the first call's rate (ONWARD_RATIO, now 9).
+    const wav = join(tempDir('accuracy').dir, `numpy-fast-mover-${FAST}-${RATE_HZ}.wav`);
+    const made = spawnSync('python3', [join(__dirname, 'numpy_mover.py'), wav, String(AZ), String(FAST), '4', '0.15', '0.75', String(RATE_HZ)], { encoding: 'utf8' });
     if (made.status !== 0) throw new Error(`numpy_mover.py failed: ${made.stderr}`);
     const calls = JSON.parse(made.stdout) as [number, number][];
 

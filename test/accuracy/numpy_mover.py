@@ -2,8 +2,9 @@
 simulator: far-field plane-wave delays per mic, applied per sample as a fractional delay by a
 Hann-windowed sinc interpolator (common practice, no source: band-limited interpolation).
 
-Usage: python3 numpy_mover.py OUT.wav AZ0_DEG RATE_DEG_S DURATION_S [CALL_S EVERY_S]
-(calls CALL_S long, one every EVERY_S seconds from 0.2 s on: 0.4 and 0.6 when not given). Writes OUT.wav (4 channels, 16-bit, 48 kHz), OUT.array.json (a 20 cm square, heading 0) and
+Usage: python3 numpy_mover.py OUT.wav AZ0_DEG RATE_DEG_S DURATION_S [CALL_S EVERY_S [RATE_HZ]]
+(calls CALL_S long, one every EVERY_S seconds from 0.2 s on: 0.4 and 0.6 when not given).
+Writes OUT.wav (4 channels, 16-bit, RATE_HZ: 48 kHz when not given), OUT.array.json (a 20 cm square, heading 0) and
 prints the calls as JSON: [[start_s, end_s], ...]. Azimuth(t) = AZ0 + RATE * t (0 = front +y,
 +90 = right +x); the source is in the horizontal plane; c = 343 m/s.
 """
@@ -30,6 +31,8 @@ def main():
     out, az0, rate, dur = sys.argv[1], float(sys.argv[2]), float(sys.argv[3]), float(sys.argv[4])
     call_s = float(sys.argv[5]) if len(sys.argv) > 5 else 0.4
     every_s = float(sys.argv[6]) if len(sys.argv) > 6 else 0.6
+    global FS
+    FS = int(sys.argv[7]) if len(sys.argv) > 7 else 48000
     rng = np.random.default_rng(7)
     n = int(dur * FS)
     pad = 2 * HALF
