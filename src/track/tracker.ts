@@ -507,7 +507,8 @@ export class Tracker {
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] === FREE) continue;
       const track = this.state[s] === CONFIRMED ? this.id[s]! : -1;
-      const ended = this.cutter.step(s, this.chosen[s]!, track, this.onsetElsewhere(s, winnerSlot));
+      const j = this.chosen[s]!;
+      const ended = this.cutter.step(s, j, track, this.onsetElsewhere(s, winnerSlot), j >= 0 && this.candFirm[j] === 1 && this.keepsOnly(j));
       if (ended !== null) events = this.collect(events, s, ended);
       if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastMovedT[s]! > this.options.trackTimeoutS) {
         events = this.retire(s, events);
@@ -1020,7 +1021,7 @@ export class Tracker {
         this.el.init(s);
         this.loadMeasurement(s, j);
         this.az.update(s);
-      } else if (firm && !(sc.hop[FRESH_Z]! < HELD_Z) && !this.tooWeakToMove(j)) {
+      } else if (firm && !this.keepsOnly(j)) {
         if (this.loadMeasurement(s, j)) this.el.update(s);
         this.az.update(s);
       } else {
@@ -1031,6 +1032,15 @@ export class Tracker {
       }
       this.support(s, j, moved);
     }
+  }
+
+  /**
+   * Firm candidate j keeps its track alive and its event open but neither moves the track nor sets
+   * the event's direction (event-cutter.ts): the hop's own spectra do not support it (HELD_Z: the
+   * analysis' memory of a call that has ended) or it is less sure than an event's start asks.
+   */
+  private keepsOnly(j: number): boolean {
+    return this.sc.hop[FRESH_Z]! < HELD_Z || this.tooWeakToMove(j);
   }
 
   /**
