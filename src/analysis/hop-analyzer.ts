@@ -148,11 +148,6 @@ const ENTER_HELD = 8;
 const ENTER_RISING = 0.5;
 /** A band's evidence grows with its SNR up to this many dB. */
 const EVIDENCE_SNR_CAP_DB = 30;
-const SNR_RELEASE = Number(process.env.BL_SNR_RELEASE ?? 0);
-const SNR_QUIET_ONLY = process.env.BL_SNR_QUIET === '1';
-const CHANGE_THR = Number(process.env.BL_CHANGE ?? -2);
-const CHANGE_R = process.env.BL_CHANGE_R === undefined ? -1 : Number(process.env.BL_CHANGE_R);
-const CHANGE_LOUD = Number(process.env.BL_CHANGE_LOUD ?? 4);
 /** A bin's weight memory above this still holds a direction worth forgetting (a full-weight hop adds 1). */
 const QUIET_HELD = 1e-4;
 /** A bin whose power this hop is below this many times its noise mean is quiet (3 dB; noise alone rarely reaches it) ... */
@@ -311,7 +306,6 @@ export class HopAnalyzer {
   private readonly bandScores: Float64Array;
   private readonly evidence: Float64Array;
   private readonly snrMem: Float64Array;
-  private readonly snrRelease: number;
   /** Per band: log2(1 + its bin count): a wider band holds more independent evidence, but far less than in proportion (a wide-band interferer must not outweigh a call in several narrower bands). */
   private readonly bandWidthWeight: Float64Array;
   private readonly fusion: BandFusion;
@@ -460,7 +454,6 @@ export class HopAnalyzer {
     this.bandScores = f64(options.bands * candidates);
     this.evidence = f64(options.bands);
     this.snrMem = new Float64Array(options.bands);
-    this.snrRelease = SNR_RELEASE > 0 ? Math.exp(-hopS / SNR_RELEASE) : 0;
     this.bandWidthWeight = Float64Array.from({ length: options.bands }, (_, b) => Math.log2(1 + this.bands.end[b]! - this.bands.start[b]!));
     this.fusion = new BandFusion(options.bands, candidates);
     const binDirections = new BinDirections(model, n, sampleRate, layout.firstBin, layout.endBin);
@@ -675,8 +668,7 @@ export class HopAnalyzer {
       this.bandWeight[b] = s;
       const bandSnr = bandSnrDb[b]!;
       if (bandSnr > snr) snr = bandSnr;
-      const a = bandSnr < snrMem[b]! && SNR_RELEASE > 0 && (!SNR_QUIET_ONLY || bandSnr < this.options.detectSnrDb) ? this.snrRelease : mem;
-      const smoothed = (snrMem[b] = a * snrMem[b]! + (1 - a) * bandSnr);
+      const smoothed = (snrMem[b] = mem * snrMem[b]! + (1 - mem) * bandSnr);
       const e = s > 1e-9 ? evidenceGain(smoothed) * this.bandWidthWeight[b]! : 0;
       this.evidence[b] = e;
       const g = e / Math.max(1e-12, s);
@@ -812,7 +804,6 @@ export class HopAnalyzer {
       if (kern) kern.times(weights, inv, out, k0, k1);
       else for (let k = k0; k < k1; k++) out[k] = weights[k]! * inv[k]!;
     }
-    if (CHANGE_THR > -2 && this.quietForget < 1) this.forgetChangedBins(k0, k1);
     for (let p = 0; p < pairs.length; p++) {
       const [a, b] = pairs[p]!;
       if (kern) kern.accumulate(this.correlators[p]!, this.kSpectra[a]!, this.kSpectra[b]!, this.weightedInv[a]!, this.invMag[b]!, k0, k1, mem);
@@ -825,36 +816,6 @@ export class HopAnalyzer {
       this.prevValid = false;
     }
     return !silent;
-  }
-
-  private forgetChangedBins(k0: number, k1: number): void {
-    const power = this.power;
-    const floor = this.onset.noiseFloor;
-    const acc = this.weightAcc;
-    const pairs = this.model.pairs;
-    const spec = this.kernels ? this.kSpectra : this.spectra;
-    const list = this.quietBins;
-    let n = 0;
-    for (let k = k0; k < k1; k++) {
-      if (!(power[k]! > CHANGE_LOUD * floor[k]!) || !(acc[k]! > QUIET_HELD)) continue;
-      let agree = 0;
-      for (let p = 0; p < pairs.length; p++) {
-        const [a, b] = pairs[p]!;
-        const sa = spec[a]!;
-        const sb = spec[b]!;
-        const xr = sa[2 * k]! * sb[2 * k]! + sa[2 * k + 1]! * sb[2 * k + 1]!;
-        const xi = sa[2 * k]! * sb[2 * k + 1]! - sa[2 * k + 1]! * sb[2 * k]!;
-        const pc = this.correlators[p]!;
-        const mr = pc.accRe[k]!;
-        const mi = pc.accIm[k]!;
-        agree += (xr * mr + xi * mi) / (Math.hypot(xr, xi) * Math.hypot(mr, mi) + 1e-30);
-      }
-      if (agree < CHANGE_THR * pairs.length) list[n++] = k;
-    }
-    if (n === 0) return;
-    const r = CHANGE_R >= 0 ? CHANGE_R : this.quietForget;
-    for (let i = 0; i < n; i++) acc[list[i]!]! *= r;
-    this.scaleCrossSpectra(list, n, r);
   }
 
   /**
