@@ -1094,7 +1094,7 @@ export class HopAnalyzer {
   private addWatchedSources(res: HopResult, watched: WatchedDirections, winFused: number): void {
     // prevLags: the winner's lags, set for the next hop's selection (fuseBands)
     const winner = res.sources[0]!;
-    const m = watched.search(this.spectra, this.invMag, this.prevLags, this.weights, this.weightAcc, this.binScale, this.power, this.onset, winner.azimuthDeg, winner.elevationDeg ?? 0);
+    const m = watched.search(this.spectra, this.invMag, this.prevLags, this.weights, this.weightAcc, this.binScale, this.power, this.onset, winner.azimuthDeg, winner.elevationDeg ?? 0, WATCH_APART_DEG);
     for (let w = 0; w < m && res.sourceCount < this.options.maxSources; w++) {
       const az = watched.foundAz[w]!;
       const mass = watched.foundMass[w]!;

@@ -75,8 +75,10 @@ export const MAX_WATCHED = 4;
  */
 const MIN_HALF_DEG = 6;
 const MAX_HALF_DEG = 10;
-/** Coarse step of the test, degrees; the best coarse azimuth is refined a degree either side. */
+/** Coarse step of the test, degrees ... */
 const COARSE_STEP_DEG = 2;
+/** ... the best coarse azimuth then refined this far either side. */
+const REFINE_DEG = 1;
 /** A bin that fits the winner this well (mean over pairs of the cosine of the phase error) is the winner's. */
 const WINNER_FIT = 0.5;
 /** A bin fits a tested direction when the mean cosine of its pairs' phase errors reaches this. */
@@ -216,11 +218,13 @@ export class WatchedDirections {
    * (binScale: a bin's evidence is binScale x its weight memory, as in ./bin-directions.ts), and
    * this hop's power per bin with the onset weigher that tracks its noise floor (../dsp/onset.ts:
    * a bin not over its noise mean holds no caller now; see collectBins), and the winner's azimuth
-   * and elevation (degrees; elevation 0 when it has none).
+   * and elevation (degrees; elevation 0 when it has none), and how far from the winner's azimuth
+   * the caller keeps a find (apartDeg: a watched direction whose whole window lies nearer is not
+   * tested for an alias).
    * Fills foundAz / foundMass and aliasAz / aliasShare for each watched direction; returns the
    * watched count.
    */
-  search(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, onset: OnsetWeigher, winnerAz: number, winnerEl: number): number {
+  search(spectra: readonly FftBuffer[], invMag: readonly Float64Array[], winnerLags: Float64Array, weights: Float64Array, weightAcc: Float64Array, binScale: Float64Array, power: Float64Array, onset: OnsetWeigher, winnerAz: number, winnerEl: number, apartDeg: number): number {
     const m = this.watchCount;
     this.foundAz.fill(NaN);
     this.foundMass.fill(0);
@@ -228,7 +232,7 @@ export class WatchedDirections {
     this.aliasShare.fill(0);
     if (m === 0) return 0;
     this.collectBins(spectra, invMag, winnerLags, weights, weightAcc, binScale, power, onset);
-    for (let w = 0; w < m; w++) this.aliasOf(w, winnerAz, winnerEl);
+    for (let w = 0; w < m; w++) if (Math.abs(wrapDeg(this.watchAz[w]! - winnerAz)) + this.watchHalf[w]! + REFINE_DEG > apartDeg) this.aliasOf(w, winnerAz, winnerEl);
     const foreign = this.foreign;
     if (foreign.count < WATCH_MIN_BINS) return m;
     // The heaviest find first; the bins it takes are not the others' (one caller's bins fit its
@@ -291,7 +295,7 @@ export class WatchedDirections {
     }
     if (best > 0) {
       const centre = bestAz;
-      for (let d = -1; d <= 1; d += 2) {
+      for (let d = -REFINE_DEG; d <= REFINE_DEG; d += 2 * REFINE_DEG) {
         const v = this.fitMass(bins, used, centre + d, el, false, need);
         if (v > best && this.fitted >= WATCH_MIN_BINS) {
           best = v;

@@ -508,7 +508,7 @@ export class Tracker {
       if (this.state[s] === FREE) continue;
       const track = this.state[s] === CONFIRMED ? this.id[s]! : -1;
       const j = this.chosen[s]!;
-      const ended = this.cutter.step(s, j, track, this.onsetElsewhere(s, winnerSlot), j >= 0 && this.candFirm[j] === 1 && this.keepsOnly(j));
+      const ended = this.cutter.step(s, j, track, this.onsetElsewhere(s, winnerSlot), j >= 0 && this.keepsOnly(j));
       if (ended !== null) events = this.collect(events, s, ended);
       if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastMovedT[s]! > this.options.trackTimeoutS) {
         events = this.retire(s, events);
@@ -1035,12 +1035,14 @@ export class Tracker {
   }
 
   /**
-   * Firm candidate j keeps its track alive and its event open but neither moves the track nor sets
-   * the event's direction (event-cutter.ts): the hop's own spectra do not support it (HELD_Z: the
-   * analysis' memory of a call that has ended) or it is less sure than an event's start asks.
+   * Candidate j is firm (not heard only under a louder caller, which moves no track but gives its
+   * event its direction) and keeps its track alive and its event open but neither moves the track
+   * nor sets the event's direction (event-cutter.ts): the hop's own spectra do not support it
+   * (HELD_Z: the analysis' memory of a call that has ended) or it is less sure than an event's
+   * start asks.
    */
   private keepsOnly(j: number): boolean {
-    return this.sc.hop[FRESH_Z]! < HELD_Z || this.tooWeakToMove(j);
+    return this.candFirm[j] === 1 && (this.sc.hop[FRESH_Z]! < HELD_Z || this.tooWeakToMove(j));
   }
 
   /**
