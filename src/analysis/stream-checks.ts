@@ -9,7 +9,8 @@
  *   (p_a - p_b) . u / c (interface.md). When many hops' best direction leaves the pairs' own
  *   correlation peaks far from its delays (the closure error, against each pair's strong peak
  *   nearest the answer: an aliased call or two callers at once give a pair several), the
- *   geometry file does not describe the array (positions, units or channel order wrong).
+ *   geometry file does not describe the array (positions, units or channel order wrong). Only
+ *   hops sure of their answer are judged (GEOMETRY_MIN_CONFIDENCE).
  * Both point to `bearline check-array`. Pure: hop results in, messages out; no I/O.
  */
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
@@ -29,6 +30,22 @@ const TRIGGER_SHARE = 0.25;
 const EDGE_SAMPLES = 1;
 const NEAR_PHYSICAL_SAMPLES = 0.2;
 const BEYOND_PHYSICAL_SAMPLES = 0.5;
+/**
+ * The geometry check judges only hops of at least this confidence. Two callers at once leave a
+ * pair with the other caller's peak as its strongest, and the coherent low part of wind reads
+ * near lag 0 on every pair (confidence about 0.5): with every valid hop judged, recordings made
+ * with the right geometry were told that it "probably does not describe the array" in 11 of 156
+ * motion-matrix cells (six draws: 1313, 2027, 77, 4242, 555, 6060; 10 of them cells of two frog
+ * choruses, test/cli/stream-warnings.test.ts), judging these hops in 6 (five of those and a
+ * crossing, each at 25-27 % of the judged hops, just over TRIGGER_SHARE). The same cells of two draws (1313, 2027; 52 cells) scanned
+ * with a wrong geometry warned (either check) as before: two mics swapped 30 cells before and
+ * after, positions at half scale 47 -> 48, at twice the scale 9 -> 8. Also judging only hops
+ * that report one source left no right-geometry cell with this warning but missed the wrong
+ * preset of test/cli/stream-warnings.test.ts (a wrong geometry makes the fusion report several
+ * sources); a higher TRIGGER_SHARE would miss wrong geometries too (9 of their warnings in the
+ * same cells stood at 25-33 %).
+ */
+const GEOMETRY_MIN_CONFIDENCE = 0.8;
 /** A hop is off the geometry when its RMS closure error exceeds this many samples ... */
 const CLOSURE_SAMPLES = 1.5;
 /** ... and this share of the array's largest delay. */
@@ -38,6 +55,8 @@ export interface StreamCheckFigures {
   confidentHops: number;
   edgeHops: number;
   offGeometryHops: number;
+  /** Hops the geometry check judged (GEOMETRY_MIN_CONFIDENCE). */
+  geometryHops: number;
 }
 
 export class StreamChecks {
@@ -47,6 +66,7 @@ export class StreamChecks {
   private confident = 0;
   private edge = 0;
   private offGeometry = 0;
+  private geometryHops = 0;
   private saidEdge = false;
   private saidGeometry = false;
   private readonly geometryName: string;
@@ -77,7 +97,8 @@ export class StreamChecks {
       if (lag >= this.maxLag[p]! - EDGE_SAMPLES || lag >= physicalEdge) atEdge = true;
     }
     if (atEdge) this.edge++;
-    if (P > 1) {
+    if (P > 1 && r.confidence >= GEOMETRY_MIN_CONFIDENCE) {
+      this.geometryHops++;
       // The delays of one direction (what the search settles on) against each pair's own best
       // peak: with a right geometry they agree on most confident hops; with wrong positions or
       // channels the pairs' own peaks lie elsewhere.
@@ -110,7 +131,7 @@ export class StreamChecks {
   }
 
   figures(): StreamCheckFigures {
-    return { confidentHops: this.confident, edgeHops: this.edge, offGeometryHops: this.offGeometry };
+    return { confidentHops: this.confident, edgeHops: this.edge, offGeometryHops: this.offGeometry, geometryHops: this.geometryHops };
   }
 
   private edgeTripped(final: boolean): boolean {
@@ -118,7 +139,7 @@ export class StreamChecks {
   }
 
   private geometryTripped(final: boolean): boolean {
-    return this.confident >= (final ? 10 : MIN_HOPS) && this.offGeometry > TRIGGER_SHARE * this.confident;
+    return this.geometryHops >= (final ? 10 : MIN_HOPS) && this.offGeometry > TRIGGER_SHARE * this.geometryHops;
   }
 
   private check(final: boolean): string | null {
@@ -147,7 +168,7 @@ export class StreamChecks {
   }
 
   private geometryMessage(): string {
-    const pct = Math.round((100 * this.offGeometry) / Math.max(1, this.confident));
+    const pct = Math.round((100 * this.offGeometry) / Math.max(1, this.geometryHops));
     return (
       `${pct} % of the confident hops in ${this.where} have pair delays that fit no single direction of this ` +
       `geometry: "${this.geometryName}" probably does not describe the array (its size, positions, units or ` +
