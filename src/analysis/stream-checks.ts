@@ -42,8 +42,8 @@ const BEYOND_PHYSICAL_SAMPLES = 0.5;
  * after, positions at half scale 47 -> 48, at twice the scale 9 -> 8. Also judging only hops
  * that report one source left no right-geometry cell with this warning but missed the wrong
  * preset of test/cli/stream-warnings.test.ts (a wrong geometry makes the fusion report several
- * sources); a higher TRIGGER_SHARE would miss wrong geometries too (9 of their warnings in the
- * same cells stood at 25-33 %).
+ * sources); a higher TRIGGER_SHARE would miss wrong geometries too (of their 56 geometry
+ * warnings in the same cells, 12 stood at 25-33 % and 10 at 30 % or less).
  */
 const GEOMETRY_MIN_CONFIDENCE = 0.8;
 /** A hop is off the geometry when its RMS closure error exceeds this many samples ... */
