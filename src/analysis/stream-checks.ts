@@ -37,9 +37,10 @@ const BEYOND_PHYSICAL_SAMPLES = 0.5;
  * with the right geometry were told that it "probably does not describe the array" in 11 of 156
  * motion-matrix cells (six draws: 1313, 2027, 77, 4242, 555, 6060; 10 of them cells of two frog
  * choruses, test/cli/stream-warnings.test.ts), judging these hops in 6 (five of those and a
- * crossing, each at 25-27 % of the judged hops, just over TRIGGER_SHARE). The same cells of two draws (1313, 2027; 52 cells) scanned
- * with a wrong geometry warned (either check) as before: two mics swapped 30 cells before and
- * after, positions at half scale 47 -> 48, at twice the scale 9 -> 8. Also judging only hops
+ * crossing, each at 25-27 % of the judged hops, just over TRIGGER_SHARE). The same cells of two
+ * draws (1313, 2027; 52 cells) scanned with a wrong geometry warned (either check) about as
+ * before: two mics swapped 30 cells before and after, positions at half scale 47 -> 48, at twice
+ * the scale 9 -> 8. Also judging only hops
  * that report one source left no right-geometry cell with this warning but missed the wrong
  * preset of test/cli/stream-warnings.test.ts (a wrong geometry makes the fusion report several
  * sources); a higher TRIGGER_SHARE would miss wrong geometries too (of their 56 geometry
@@ -170,7 +171,7 @@ export class StreamChecks {
   private geometryMessage(): string {
     const pct = Math.round((100 * this.offGeometry) / Math.max(1, this.geometryHops));
     return (
-      `${pct} % of the confident hops in ${this.where} have pair delays that fit no single direction of this ` +
+      `${pct} % of the confident hops (confidence ${GEOMETRY_MIN_CONFIDENCE} or more) in ${this.where} have pair delays that fit no single direction of this ` +
       `geometry: "${this.geometryName}" probably does not describe the array (its size, positions, units or ` +
       `channel order; e.g. a 20 cm array scanned with a 10 cm preset: give the array's own preset, --spacing or ` +
       `geometry file); check it with 'bearline check-array'`
