@@ -43,7 +43,7 @@ const BIN_MAX_HZ = 4000;
  * evidence-weighted mean of the bins within PEAK_HALF_WIDTH_DEG of it. Narrowed from 4 and 8
  * deg: a tonal caller 17 deg from a broadband one that called through it lay in the broadband
  * one's peak (its bins read 10-16 deg off its bearing, towards the other caller) and was heard
- * within 3 deg on 20 hops; now on 42 (test/analysis/bin-directions.test.ts). In the motion matrix'
+ * within 3 deg on 20 hops; now on 40 (test/analysis/bin-directions.test.ts). In the motion matrix'
  * crossings the tone was the caller lost most (a tone against a broadband caller: 48-50 % of the
  * tones 80 % complete, over 23 draws). Motion matrix (sources >= 80 % complete summed / id
  * switches / tracks holding two), the ten draws, the three held out and ten more: 2126 / 115 / 36

@@ -40,11 +40,11 @@ const BEYOND_PHYSICAL_SAMPLES = 0.5;
  * crossing, each at 25-27 % of the judged hops, just over TRIGGER_SHARE). The same cells of two
  * draws (1313, 2027; 52 cells) scanned with a wrong geometry warned (either check) about as
  * before: two mics swapped 30 cells before and after, positions at half scale 47 -> 48, at twice
- * the scale 9 -> 8. Also judging only hops
- * that report one source left no right-geometry cell with this warning but missed the wrong
- * preset of test/cli/stream-warnings.test.ts (a wrong geometry makes the fusion report several
- * sources); a higher TRIGGER_SHARE would miss wrong geometries too (of their 56 geometry
- * warnings in the same cells, 12 stood at 25-33 % and 10 at 30 % or less).
+ * the scale 9 -> 8. Also judging only hops that report one source left no right-geometry cell
+ * with this warning but missed the wrong preset of test/cli/stream-warnings.test.ts (a wrong
+ * geometry makes the fusion report several sources); a higher TRIGGER_SHARE would miss wrong
+ * geometries too (of their 56 geometry warnings in the same cells, 12 stood at 25-33 % and 10 at
+ * 30 % or less).
  */
 const GEOMETRY_MIN_CONFIDENCE = 0.8;
 /** A hop is off the geometry when its RMS closure error exceeds this many samples ... */

@@ -16,8 +16,16 @@ afterAll(() => tmp.cleanup());
 const square = loadGeometryFile('configs/arrays/square-10cm.json');
 const positions = square.mics.map((m) => m.position);
 const delaysFor = (az: number) => farFieldDelaysUp(positions, unitFromAzEl(az, 0), 343, 480000);
-// Four 0.2 s calls, 0.3 s apart: a tone with soft edges.
-const call = (hz: number) => ({ synth: ['sine', String(hz)], durationS: 0.2, effects: ['fade', 'h', '0.01', '0.2', '0.01', 'pad', '0.3', '0.3', 'repeat', '3'] });
+/** When a caller calls: four calls of `length` s with soft edges, the first after `pre` s, one every `every` s. */
+interface Timing {
+  pre: number;
+  length: number;
+  every: number;
+}
+// Four 0.2 s calls, 0.6 s apart: a tone with soft edges.
+const FOUR_CALLS: Timing = { pre: 0.3, length: 0.2, every: 0.8 };
+const callEffects = (t: Timing) => ['fade', 'h', '0.01', String(t.length), '0.01', 'pad', String(t.pre), (t.every - t.pre - t.length).toFixed(3), 'repeat', '3'];
+const call = (hz: number, t: Timing = FOUR_CALLS) => ({ synth: ['sine', String(hz)], durationS: t.length, effects: callEffects(t) });
 
 function hopsOf(path: string) {
   const { rate, channels } = soxDecode(path);
@@ -33,8 +41,8 @@ describe('directions per bin: a quieter caller heard with a louder one in the sa
   const near = (list: number[], az: number, tol: number) => list.some((x) => Math.abs(wrapDeg(x - az)) < tol);
 
   // A harmonic call: its partials made one by one with the same per-mic delays, then mixed.
-  const harmonic = (name: string, az: number, partials: number[], volume: number) =>
-    soxMix(`${tmp.dir}/${name}.wav`, partials.map((hz, i) => ({ path: soxDelayedSignal({ out: `${tmp.dir}/${name}${i}.wav`, delaysUp: delaysFor(az), ...call(hz) }, tmp.dir), volume: volume / (i + 1) })));
+  const harmonic = (name: string, az: number, partials: number[], volume: number, t: Timing = FOUR_CALLS) =>
+    soxMix(`${tmp.dir}/${name}.wav`, partials.map((hz, i) => ({ path: soxDelayedSignal({ out: `${tmp.dir}/${name}${i}.wav`, delaysUp: delaysFor(az), ...call(hz, t) }, tmp.dir), volume: volume / (i + 1) })));
 
   it('reports the quieter caller (600 Hz and 1200, -8 dB, from 120 deg) beside the louder (450, 900, 1350 Hz, from 30 deg) on most hops', () => {
     // The partials interleave in the bands of the default 8 (446-768 Hz, 768-1324 Hz), where
@@ -59,11 +67,10 @@ describe('directions per bin: a quieter caller heard with a louder one in the sa
     // Each 0.15 s call of the tone starts 0.08 s into a 0.3 s call of the noise, both every
     // 0.7 s (the tone sounds on about 56 hops). The tone's bins read a few degrees towards the
     // noise: a histogram of 4 deg steps with peaks 8 deg wide merged it into the noise's peak
-    // and heard it within 3 deg on 20 hops (measured); steps of 2 and peaks 5 wide on 42.
-    const cycle = (pre: number, len: number) => ['fade', 'h', '0.01', String(len), '0.01', 'pad', String(pre), String(0.7 - pre - len), 'repeat', '3'];
-    const noise = soxDelayedSignal({ out: `${tmp.dir}/noise.wav`, delaysUp: delaysFor(30), synth: ['whitenoise'], durationS: 0.3, effects: ['sinc', '500-8000', ...cycle(0.1, 0.3)] }, tmp.dir);
-    const tone = soxMix(`${tmp.dir}/tone.wav`, [467, 934, 1401].map((hz, i) => ({ path: soxDelayedSignal({ out: `${tmp.dir}/tone${i}.wav`, delaysUp: delaysFor(47), synth: ['sine', String(hz)], durationS: 0.15, effects: cycle(0.18, 0.15) }, tmp.dir), volume: [1, 0.5, 0.3][i]! })));
-    const hops = hopsOf(soxMix(`${tmp.dir}/noise-tone.wav`, [{ path: noise, volume: 1 }, { path: tone, volume: 1.6 }]));
+    // and heard it within 3 deg on 20 hops (measured); steps of 2 and peaks 5 wide on 40.
+    const noise = soxDelayedSignal({ out: `${tmp.dir}/noise.wav`, delaysUp: delaysFor(30), synth: ['whitenoise'], durationS: 0.3, effects: ['sinc', '500-8000', ...callEffects({ pre: 0.1, length: 0.3, every: 0.7 })] }, tmp.dir);
+    const tone = harmonic('tone', 47, [467, 934, 1401], 1.6, { pre: 0.18, length: 0.15, every: 0.7 });
+    const hops = hopsOf(soxMix(`${tmp.dir}/noise-tone.wav`, [{ path: noise, volume: 1 }, { path: tone, volume: 1 }]));
     const withNoise = hops.filter((h) => near(h.az, 30, 5)).length;
     const withTone = hops.filter((h) => near(h.az, 47, 3)).length;
     const stray = hops.filter((h) => h.az.some((x) => Math.abs(wrapDeg(x - 30)) > 10 && Math.abs(wrapDeg(x - 47)) > 10)).length;
