@@ -33,7 +33,8 @@
  * practice), and the band fusion picks one of them on margins of a few hundredths of coherence:
  * a high sweep passing a 20 cm square at 60 deg/s, heard at -22 deg, was read at 12 deg and 18 deg
  * up for whole calls (motion matrix draw 6060, pas15; numpy on the raw frame fits the two within
- * 0.3 %). So the bins that fit the winner are also tested near each watched direction: when
+ * 0.3 %). So the bins that fit the winner are also tested near each watched direction (over a
+ * wider window and a few elevations: ALIAS_MAX_HALF_DEG): when
  * ALIAS_SHARE of their evidence fits one there, and the direction halfway between it and the
  * winner fits less than ALIAS_DIP of that (a separate lobe, not one wide beam: the bins of a low
  * call on a 10 cm tetrahedron read at -45 deg fitted -77 as well, held-out motion matrix draw
@@ -75,6 +76,28 @@ export const MAX_WATCHED = 4;
  */
 const MIN_HALF_DEG = 6;
 const MAX_HALF_DEG = 10;
+/**
+ * The test for an aliased lobe of the winner (aliasOf) looks up to ALIAS_MAX_HALF_DEG either side
+ * of the prediction (within the track's gate), and at the watched elevation and ALIAS_EL_STEPS
+ * steps of ALIAS_EL_STEP_DEG above and below it: the lobe is a place of the winner's own bins,
+ * whose sound the track claims only when it lies nearer its prediction than the winner
+ * (src/track/tracker.ts, resolveAliases), so a wider window cannot hand it another caller's sound.
+ * Above the aliasing limit a bin fits a direction only within a few degrees of elevation too: a
+ * high sweep passing a 20 cm square 4 m up (motion matrix draw 1313, pas15) was watched at 10 deg
+ * up while its own hops read it at 17-20 deg; at 10 deg its caller's place lies about 0.1 of a
+ * period off on the 28 cm diagonal at 3 kHz (horizontal parts cos 10 / cos 20 deg: 5 % longer), a
+ * phase error near 40 deg, and the alias was not found there. Chosen on the motion matrix' pass
+ * cells, 33 draws (the high sweep at 80 deg/s on the 20 cm square, pas15: mean completeness / id
+ * switches / draws >= 80 % complete; all 528 pass cells within the targets / id switches). Before
+ * (window 10 deg, one elevation, the tracker choosing no alias by cost): 70.4 % / 27 / 19, 507 /
+ * 62. With the choice by cost: window 10 deg, one elevation 73.3 % / 25 / 21, 509 / 60; window 30
+ * deg 74.8 % / 24 / 22, 510 / 59; window 30 deg and elevations +-15 deg 77.3 % / 21 / 21, 509 / 56
+ * (kept); +-20 deg 77.5 % / 20 / 21, 509 / 55; window 20 deg with +-15 deg 73.5 % / 26 / 20; window
+ * 45 deg as 30.
+ */
+const ALIAS_MAX_HALF_DEG = 30;
+const ALIAS_EL_STEP_DEG = 5;
+const ALIAS_EL_STEPS = 3;
 /** Coarse step of the test, degrees ... */
 const COARSE_STEP_DEG = 2;
 /** ... the best coarse azimuth then refined this far either side. */
@@ -102,11 +125,27 @@ class HopBins {
   readonly bin = new Int32Array(MAX_BINS);
   readonly mass = new Float64Array(MAX_BINS);
   readonly phase: Float64Array;
+  /** The kept bins, heaviest first (sortByMass): a direction's test stops sooner on a miss. */
+  readonly order = new Int32Array(MAX_BINS);
   count = 0;
   total = 0;
 
   constructor(private readonly P: number) {
     this.phase = new Float64Array(MAX_BINS * P);
+  }
+
+  /** Fill `order` with the kept bins, heaviest first (insertion sort: at most MAX_BINS). */
+  sortByMass(): void {
+    const order = this.order;
+    const mass = this.mass;
+    for (let i = 0; i < this.count; i++) {
+      let j = i;
+      while (j > 0 && mass[order[j - 1]!]! < mass[i]!) {
+        order[j] = order[j - 1]!;
+        j--;
+      }
+      order[j] = i;
+    }
   }
 
   clear(): void {
@@ -143,6 +182,7 @@ export class WatchedDirections {
   private readonly watchAz = new Float64Array(MAX_WATCHED);
   private readonly watchEl = new Float64Array(MAX_WATCHED);
   private readonly watchHalf = new Float64Array(MAX_WATCHED);
+  private readonly aliasHalf = new Float64Array(MAX_WATCHED);
   watchCount = 0;
   private readonly P: number;
   /** Per pair: the winner's phasor at the current bin and its step from bin to bin. */
@@ -163,11 +203,23 @@ export class WatchedDirections {
   private readonly bestAz = new Float64Array(MAX_WATCHED);
   private readonly bestMass = new Float64Array(MAX_WATCHED);
   private readonly lags: Float64Array;
+  /**
+   * The lowest bin that some pair cannot place by its phase alone (its lag limit reaches half
+   * the bin's period: DirectionModel.lagLimit). Below it every pair is unaliased and the array
+   * has no grating lobes (what the winner's bins fit far from it there is its own wide beam,
+   * which the test's halfway dip is for), so the alias test is skipped when no bin of the
+   * winner's lies at or above it: less work in choruses of low callers (the motion matrix' 23
+   * draws gave the same figures in every cell with and without the skip).
+   */
+  private readonly aliasFromBin: number;
+  /** This hop's highest bin that fits the winner (-1: none). */
+  private ownTop = -1;
   /** Bins that fitted the last direction fitMass tested. */
   private fitted = 0;
   /** The best azimuth and its evidence of the last nearBest (NaN and 0 when none). */
   private nearAz = NaN;
   private nearMass = 0;
+  private nearEl = 0;
 
   constructor(
     private readonly model: DirectionModel,
@@ -186,6 +238,9 @@ export class WatchedDirections {
     this.foreign = new HopBins(P);
     this.own = new HopBins(P);
     this.lags = new Float64Array(P);
+    let longest = 0;
+    for (let p = 0; p < P; p++) longest = Math.max(longest, model.lagLimit[p]!);
+    this.aliasFromBin = longest > 0 ? n / (2 * longest) : Infinity;
   }
 
   /** The directions to look for in the next hop (at most MAX_WATCHED): azimuth, elevation (NaN: unknown) and half-width (degrees) of each. */
@@ -196,6 +251,7 @@ export class WatchedDirections {
       this.watchEl[i] = el[i]! === el[i]! ? el[i]! : 0;
       const h = Math.round(half[i]! / COARSE_STEP_DEG) * COARSE_STEP_DEG;
       this.watchHalf[i] = h >= MIN_HALF_DEG ? Math.min(MAX_HALF_DEG, h) : MIN_HALF_DEG;
+      this.aliasHalf[i] = h >= MIN_HALF_DEG ? Math.min(ALIAS_MAX_HALF_DEG, h) : MIN_HALF_DEG;
     }
     this.watchCount = m;
   }
@@ -232,7 +288,7 @@ export class WatchedDirections {
     this.aliasShare.fill(0);
     if (m === 0) return 0;
     this.collectBins(spectra, invMag, winnerLags, weights, weightAcc, binScale, power, onset);
-    for (let w = 0; w < m; w++) if (Math.abs(wrapDeg(this.watchAz[w]! - winnerAz)) + this.watchHalf[w]! + REFINE_DEG > apartDeg) this.aliasOf(w, winnerAz, winnerEl);
+    for (let w = 0; w < m; w++) if (Math.abs(wrapDeg(this.watchAz[w]! - winnerAz)) + this.aliasHalf[w]! + REFINE_DEG > apartDeg) this.aliasOf(w, winnerAz, winnerEl);
     const foreign = this.foreign;
     if (foreign.count < WATCH_MIN_BINS) return m;
     // The heaviest find first; the bins it takes are not the others' (one caller's bins fit its
@@ -260,43 +316,51 @@ export class WatchedDirections {
   /** Is watched direction w an aliased lobe of the winner, at (winAz, winEl) (see above)? Sets aliasAz / aliasShare. */
   private aliasOf(w: number, winAz: number, winEl: number): void {
     const own = this.own;
-    if (own.count < WATCH_MIN_BINS || !(own.total > 0)) return;
-    this.nearBest(w, own, null, ALIAS_SHARE * own.total);
+    if (own.count < WATCH_MIN_BINS || !(own.total > 0) || this.ownTop < this.aliasFromBin) return;
+    this.nearBest(w, own, null, ALIAS_SHARE * own.total, this.aliasHalf[w]!, ALIAS_EL_STEPS);
     const az = this.nearAz;
     const mass = this.nearMass;
     if (!(mass >= ALIAS_SHARE * own.total)) return;
-    const el = this.watchEl[w]!;
+    const el = this.nearEl;
     if (this.fitMass(own, null, winAz + wrapDeg(az - winAz) / 2, (winEl + el) / 2, false) >= ALIAS_DIP * mass) return;
     this.aliasAz[w] = wrapDeg(az);
     this.aliasShare[w] = mass / own.total;
   }
 
   /**
-   * The best azimuth near watched direction w (within its half-width, coarse then a degree either
-   * side) on the bins of `bins` not marked in `used` (null: all): nearAz / nearMass (NaN and 0 when
-   * no azimuth is fitted by WATCH_MIN_BINS bins). With `need`, azimuths that cannot reach that
+   * The best azimuth near watched direction w (within `half` degrees, coarse then a degree either
+   * side; at its elevation and `elSteps` steps of ALIAS_EL_STEP_DEG above and below it) on the bins
+   * of `bins` not marked in `used` (null: all): nearAz, nearEl / nearMass (NaN and 0 when no
+   * azimuth is fitted by WATCH_MIN_BINS bins). With `need`, azimuths that cannot reach that
    * much evidence are given up early (see fitMass): a coarse azimuth that reaches `need` is found
    * exactly, but when none does the refinement may start from another coarse azimuth than without
-   * `need`, and find one that does (the aliased-lobes test's 3 kHz band: 31 aliases in 104 hops
-   * with it, 30 without; every cell of the motion matrix's 13 draws the same either way).
+   * `need`, and find one that does (the aliased-lobes test's 3 kHz band, before the alias test
+   * looked at several elevations: 31 aliases in 104 hops with it, 30 without; every cell of the
+   * motion matrix's 13 draws the same either way).
    */
-  private nearBest(w: number, bins: HopBins, used: Uint8Array | null, need = 0): void {
+  private nearBest(w: number, bins: HopBins, used: Uint8Array | null, need = 0, half = this.watchHalf[w]!, elSteps = 0): void {
     const az0 = this.watchAz[w]!;
-    const el = this.watchEl[w]!;
-    const h = this.watchHalf[w]!;
+    const el0 = this.watchEl[w]!;
+    const h = half;
     let bestAz = NaN;
+    let bestEl = el0;
     let best = 0;
-    for (let d = -h; d <= h + 1e-9; d += COARSE_STEP_DEG) {
-      const v = this.fitMass(bins, used, az0 + d, el, false, need);
-      if (v > best && this.fitted >= WATCH_MIN_BINS) {
-        best = v;
-        bestAz = az0 + d;
+    for (let e = -elSteps; e <= elSteps; e++) {
+      const el = el0 + e * ALIAS_EL_STEP_DEG;
+      if (el < -89 || el > 89) continue;
+      for (let d = -h; d <= h + 1e-9; d += COARSE_STEP_DEG) {
+        const v = this.fitMass(bins, used, az0 + d, el, false, need);
+        if (v > best && this.fitted >= WATCH_MIN_BINS) {
+          best = v;
+          bestAz = az0 + d;
+          bestEl = el;
+        }
       }
     }
     if (best > 0) {
       const centre = bestAz;
       for (let d = -REFINE_DEG; d <= REFINE_DEG; d += 2 * REFINE_DEG) {
-        const v = this.fitMass(bins, used, centre + d, el, false, need);
+        const v = this.fitMass(bins, used, centre + d, bestEl, false, need);
         if (v > best && this.fitted >= WATCH_MIN_BINS) {
           best = v;
           bestAz = centre + d;
@@ -304,6 +368,7 @@ export class WatchedDirections {
       }
     }
     this.nearAz = bestAz;
+    this.nearEl = bestEl;
     this.nearMass = best;
   }
 
@@ -330,6 +395,7 @@ export class WatchedDirections {
     }
     this.foreign.clear();
     this.own.clear();
+    this.ownTop = -1;
     for (let k = k0; k < this.endBin; k++) {
       const mass = binScale[k]! * weightAcc[k]!;
       const use = weights[k]! > 0 && mass > 0 && onset.overNoiseMean(power, k);
@@ -356,8 +422,14 @@ export class WatchedDirections {
         this.im[p] = im;
         fit += re * cr - im * ci;
       }
-      if (use) (fit >= WINNER_FIT * P ? this.own : this.foreign).keep(k, mass, this.re, this.im);
+      if (!use) continue;
+      if (fit >= WINNER_FIT * P) {
+        this.own.keep(k, mass, this.re, this.im);
+        if (k > this.ownTop) this.ownTop = k;
+      } else this.foreign.keep(k, mass, this.re, this.im);
     }
+    this.foreign.sortByMass();
+    this.own.sortByMass();
   }
 
   /**
@@ -373,11 +445,14 @@ export class WatchedDirections {
     let mass = 0;
     let missed = 0;
     let count = 0;
-    for (let i = 0; i < bins.count; i++) {
+    for (let r = 0; r < bins.count; r++) {
+      const i = bins.order[r]!;
       if (used !== null && used[i] === 1) continue;
       const k = bins.bin[i]!;
+      // A pair adds at most 1: once the pairs left cannot bring the sum up to WATCH_FIT x P the
+      // bin misses (the same answer as summing every pair, sooner).
       let fit = 0;
-      for (let p = 0; p < P; p++) fit += Math.cos(bins.phase[i * P + p]! + scale * k * this.lags[p]!);
+      for (let p = 0; p < P && fit + (P - p) >= WATCH_FIT * P; p++) fit += Math.cos(bins.phase[i * P + p]! + scale * k * this.lags[p]!);
       if (fit < WATCH_FIT * P) {
         missed += bins.mass[i]!;
         if (need > 0 && bins.total - missed < need) break;

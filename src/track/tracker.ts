@@ -530,8 +530,9 @@ export class Tracker {
    * Where the analysis should look for callers it may not hear by itself in the next hop
    * (src/analysis/watched-directions.ts): the predictions (azimuth, elevation or NaN) of the
    * confirmed tracks, not dormant, supported within WATCH_WITHIN_S and WATCH_CLEAR_DEG from
-   * every other, that no firm candidate supported this hop; with the half-width of each one's
-   * gate (degrees). Written to az / el / half (at most their length); returns the count. Arrays
+   * every other, that no firm candidate supported this hop (an alias does not count: a caller
+   * read at a lobe is looked for again on the next hop); with the half-width of each one's gate
+   * (degrees). Written to az / el / half (at most their length); returns the count. Arrays
    * whose mirror folds azimuth give none.
    */
   watchList(az: Float64Array, el: Float64Array, half: Float64Array): number {
@@ -542,7 +543,7 @@ export class Tracker {
     for (let s = 0; s < this.size && n < az.length; s++) {
       if (this.state[s] !== CONFIRMED || this.dormant[s] === 1 || !(t - this.lastSupportT[s]! <= WATCH_WITHIN_S)) continue;
       const j = this.chosen[s]!;
-      if ((j >= 0 && this.candFirm[j] === 1) || this.nearOther(s, WATCH_CLEAR_DEG)) continue;
+      if ((j >= 0 && this.candFirm[j] === 1 && this.candAlias[j]! < 0) || this.nearOther(s, WATCH_CLEAR_DEG)) continue;
       az[n] = wrapDeg(this.az.angle[s]! + this.az.rate[s]! * ahead);
       el[n] = this.hasEl[s] === 1 ? this.el.angle[s]! : NaN;
       half[n] = Math.sqrt(this.gate2 * (this.az.variance(s) + this.options.bearingNoiseDeg * this.options.bearingNoiseDeg));
@@ -566,19 +567,29 @@ export class Tracker {
   /**
    * Each alias (a candidate at a watched track's prediction that the hop's sound fits as well as
    * the candidate it is an alias of: src/analysis/watched-directions.ts) against that candidate:
-   * when a confirmed track could take the other (takenByConfirmed), the hop is that track's and
-   * the alias is dropped; else, when one could take the alias (only one that takesAliases can),
-   * the other is dropped (it is the lobe: it starts no track and feeds none); else the alias is
-   * dropped. A high sweep passing a 20 cm square at up to 80 deg/s, read at a lobe for whole
-   * calls, started a track per lobe (motion matrix pas15).
+   * when a confirmed track other than the one that would take the alias (aliasTaker; only one
+   * that takesAliases can) could take the other (takenByConfirmed), the hop is that track's and
+   * the alias is dropped; else, when a track could take the alias, it keeps the one of the two
+   * that costs it less (its nearer reading: the other is the lobe, which starts no track and
+   * feeds none); else the alias is dropped. A high sweep passing a 20 cm square at up to 80
+   * deg/s, read at a lobe for whole calls, started a track per lobe (motion matrix pas15); a
+   * lobe 22 deg from the passer's prediction, inside its gate, took the passer's track away from
+   * the alias 14 deg from it while the alias was dropped whenever the track could take the lobe
+   * (draw 1313; the figures with the wider test for aliases at watched-directions.ts,
+   * ALIAS_MAX_HALF_DEG).
    */
   private resolveAliases(nC: number): void {
     for (let j = 0; j < nC; j++) {
       const k = this.candAlias[j]!;
       if (k < 0 || this.candUsable[j] === 0) continue;
-      if (this.takenByConfirmed(k)) this.candUsable[j] = 0;
-      else if (this.takenByConfirmed(j)) this.candUsable[k] = 0;
-      else this.candUsable[j] = 0;
+      const s = this.aliasTaker(j);
+      if (this.takenByConfirmed(k, s)) this.candUsable[j] = 0;
+      else if (s < 0) this.candUsable[j] = 0;
+      else {
+        const trend = this.settled[s] === 0 && this.trendOf(s);
+        if (this.costFor(s, k, CONFIRMED, trend) <= this.costFor(s, j, CONFIRMED, trend)) this.candUsable[j] = 0;
+        else this.candUsable[k] = 0;
+      }
     }
   }
 
@@ -591,10 +602,25 @@ export class Tracker {
     return this.state[s] === CONFIRMED && this.sc.hop[TIME]! - this.lastOwnT[s]! <= ALIAS_WITHIN_S;
   }
 
-  /** Could a confirmed track take candidate j this hop (costFor: the assignment's own rules and gates)? */
-  private takenByConfirmed(j: number): boolean {
+  /** The confirmed track that could take alias j at the least cost, or -1. */
+  private aliasTaker(j: number): number {
+    let best = -1;
+    let bestCost = Infinity;
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] !== CONFIRMED) continue;
+      const c = this.costFor(s, j, CONFIRMED, this.settled[s] === 0 && this.trendOf(s));
+      if (c < bestCost) {
+        bestCost = c;
+        best = s;
+      }
+    }
+    return best;
+  }
+
+  /** Could a confirmed track (other than slot `except`) take candidate j this hop (costFor: the assignment's own rules and gates)? */
+  private takenByConfirmed(j: number, except = -1): boolean {
+    for (let s = 0; s < this.size; s++) {
+      if (this.state[s] !== CONFIRMED || s === except) continue;
       if (this.costFor(s, j, CONFIRMED, this.settled[s] === 0 && this.trendOf(s)) < Infinity) return true;
     }
     return false;
