@@ -106,5 +106,5 @@ export function meanFromSums(sumCos: number, sumSin: number): number {
 /** R from sums of w cos, w sin and w, clamped to [0, 1] against rounding. */
 export function resultantFromSums(sumCos: number, sumSin: number, sumW: number): number {
   if (!(sumW > 0)) return 0;
-  return Math.min(1, Math.hypot(sumCos, sumSin) / sumW);
+  return Math.min(1, Math.sqrt(sumCos * sumCos + sumSin * sumSin) / sumW);
 }
