@@ -367,6 +367,7 @@ export class Tracker {
   private readonly finished: TrackSummary[] = [];
   /** Squared Mahalanobis distance of the last gate() call. */
   private readonly d2 = new Float64Array(1);
+  /** The cost of the last costInto() call. */
   private readonly costOut = new Float64Array(1);
   /** Per slot, this hop (set by trendOf): where its trend model puts it (azimuth), that azimuth's variance, and the drift. */
   private readonly trendAz: Float64Array;
@@ -1014,7 +1015,10 @@ export class Tracker {
     return this.costOut[0]!;
   }
 
-  /** costFor's work, its result left in costOut[0] (a double returned from a call the engine does not inline is allocated; one in a typed array is not). */
+  /**
+   * costFor's work, its result left in costOut[0]: a number returned from a call the engine does
+   * not inline is allocated, one left in a typed array is not (the hot path, assignStage, calls this).
+   */
   private costInto(s: number, j: number, which: number, trend: boolean): void {
     this.lastCostModel = BY_PREDICTION;
     const out = this.costOut;
