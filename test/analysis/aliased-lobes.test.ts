@@ -99,11 +99,11 @@ describe('aliased lobes of a narrow-band call, told apart by where a tracked cal
 
   it('the same tone, its caller watched 16 deg to the side and 10 deg too high (a wide gate, a track\'s elevation off): the caller is still reported as the alias', () => {
     // A track that coasted between calls is predicted off its caller, with a gate of 20 deg; its
-    // elevation, learned from earlier hops, may be 10 deg off too. At 3 kHz on 20 cm a bin fits a
-    // place 10 deg off in elevation no better than any other (about 0.1 of a period off on the
-    // diagonal), so the test looks over the gate (up to 30 deg) and at elevations 5, 10 and 15 deg
-    // either side of the watched one. Measured: 42 hops, 35 at a lobe, the caller as its alias on
-    // 18 (on none with the test 10 deg either side at the watched elevation alone).
+    // elevation, learned from earlier hops, may be 10 deg off too. At 3 kHz on 20 cm the caller's
+    // azimuth at an elevation 10 deg off lies about 0.1 of a period off on the diagonal, and its
+    // bins fit it there poorly, so the test looks over the gate (up to 30 deg) and at elevations
+    // 5, 10 and 15 deg either side of the watched one. Measured: 42 hops, 35 at a lobe, the caller
+    // as its alias on 18 (on none with the test 10 deg either side at the watched elevation alone).
     // Watched on the side away from the (1, 0) lobe (12 deg, 18.6 deg up: inside a window on the
     // other side, where the tone fits it as well as its caller).
     const hops = scanWatching('square-20cm', ['sine', '3000'], [], [{ az: TRUE_AZ - 16, el: 10, half: 20 }]);
