@@ -24,6 +24,7 @@ export class DirectionSums {
   private readonly sumElW: Float64Array;
   private readonly sumEl2: Float64Array;
   private readonly sumLogHz: Float64Array;
+  private readonly sumLogHz2: Float64Array;
   private readonly nLogHz: Float64Array;
   /** Drift sums: time from the first direction (t), unwrapped working angle (a). */
   private readonly t0: Float64Array;
@@ -55,6 +56,7 @@ export class DirectionSums {
     this.sumElW = new Float64Array(size);
     this.sumEl2 = new Float64Array(size);
     this.sumLogHz = new Float64Array(size);
+    this.sumLogHz2 = new Float64Array(size);
     this.nLogHz = new Float64Array(size);
     this.t0 = new Float64Array(size);
     this.lastRaw = new Float64Array(size);
@@ -63,7 +65,7 @@ export class DirectionSums {
     this.sumTT = new Float64Array(size);
     this.sumA = new Float64Array(size);
     this.sumTA = new Float64Array(size);
-    this.plainSums = [this.sumCos, this.sumSin, this.sumW, this.sumLin, this.sumLin2, this.sumEl, this.sumElW, this.sumEl2, this.sumLogHz, this.nLogHz];
+    this.plainSums = [this.sumCos, this.sumSin, this.sumW, this.sumLin, this.sumLin2, this.sumEl, this.sumElW, this.sumEl2, this.sumLogHz, this.sumLogHz2, this.nLogHz];
   }
 
   reset(slot: number): void {
@@ -76,6 +78,7 @@ export class DirectionSums {
     this.sumElW[slot] = 0;
     this.sumEl2[slot] = 0;
     this.sumLogHz[slot] = 0;
+    this.sumLogHz2[slot] = 0;
     this.nLogHz[slot] = 0;
     this.sumT[slot] = 0;
     this.sumTT[slot] = 0;
@@ -143,6 +146,7 @@ export class DirectionSums {
     const logHz = sc.candLogHz[j]!;
     if (logHz === logHz) {
       this.sumLogHz[slot] = this.sumLogHz[slot]! + logHz;
+      this.sumLogHz2[slot] = this.sumLogHz2[slot]! + logHz * logHz;
       this.nLogHz[slot] = this.nLogHz[slot]! + 1;
     }
     if (elevationDeg === elevationDeg) {
@@ -193,6 +197,14 @@ export class DirectionSums {
   }
 
   /** Mean log2 centre frequency of the hops that carried one (NaN when fewer than minHops did). */
+  /** Standard deviation of the log2 centre frequencies of the slot's lone hops (NaN with fewer than two). */
+  spreadLogHz(slot: number): number {
+    const n = this.nLogHz[slot]!;
+    if (!(n > 1)) return NaN;
+    const m = this.sumLogHz[slot]! / n;
+    return Math.sqrt(Math.max(0, this.sumLogHz2[slot]! / n - m * m));
+  }
+
   meanLogHz(slot: number, minHops: number): number {
     const n = this.nLogHz[slot]!;
     return n >= minHops && n > 0 ? this.sumLogHz[slot]! / n : NaN;

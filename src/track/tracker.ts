@@ -206,6 +206,23 @@ const FLAT_ELEVATION_GATE_DEG = 40;
  * 1 spread: the talker split again.
  */
 const BAND_APART_OCT = 1.5;
+/**
+ * A settled track whose centres spread by at most NARROW_SPREAD_OCT (standard deviation of the
+ * log2 centres of its lone hops: a chorus of one call type) keeps out a candidate more than
+ * BAND_APART_NARROW_OCT from its mean: a passer calling near a chorus' home in a band 1.2-1.5
+ * octaves from the chorus' lost calls to the chorus' track (motion matrix draw 77, cho01: the
+ * passer 79 -> 93 % of its calls on its own track at all three speeds of sound; draw 2718 cho04
+ * 82 -> 86 %). A talker's centres spread by 0.5-0.9 octave (the accuracy matrix's speech
+ * cells), a chorus' by about 0.2 (draw 55 cho02; 0.5 for the other chorus there, which had taken
+ * a passer's calls 6 deg from its home, a case this rule leaves as it was), so a talker keeps
+ * BAND_APART_OCT. Motion matrix, 23 draws (sources >= 80 % complete summed / id switches /
+ * tracks holding two): choruses 2191 / 46 / 13 -> 2199 / 39 / 8, passes and crossings the same;
+ * the accuracy matrix's output identical. The same 1.2 octaves for every settled track:
+ * choruses alike, but the speech cells split a talker (events per call of the call family
+ * 1.04 -> 1.14); for every track, crossings 1734 / 51 / 15 -> 1725 / 59 / 17.
+ */
+const BAND_APART_NARROW_OCT = 1.2;
+const NARROW_SPREAD_OCT = 0.35;
 const SIGNATURE_HOPS = 10;
 /**
  * A hop whose own spectra agree with its answer by less than this many standard deviations of
@@ -840,13 +857,15 @@ export class Tracker {
 
   /**
    * Does candidate j sound in another band than slot s's calls (its centre frequency more than
-   * BAND_APART_OCT from the mean of the slot's, once SIGNATURE_HOPS hops have given one)?
+   * BAND_APART_OCT from the mean of the slot's, once SIGNATURE_HOPS hops have given one;
+   * BAND_APART_NARROW_OCT for a settled slot of narrow centres)?
    */
   private otherBand(s: number, j: number): boolean {
     const logHz = this.sc.candLogHz[j]!;
     // (a candidate of a hop with several sources carries none)
     if (logHz !== logHz) return false;
-    return Math.abs(logHz - this.lifetime.meanLogHz(s, SIGNATURE_HOPS)) > BAND_APART_OCT;
+    const narrow = this.settled[s] === 1 && this.lifetime.spreadLogHz(s) <= NARROW_SPREAD_OCT;
+    return Math.abs(logHz - this.lifetime.meanLogHz(s, SIGNATURE_HOPS)) > (narrow ? BAND_APART_NARROW_OCT : BAND_APART_OCT);
   }
 
   /**

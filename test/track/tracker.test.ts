@@ -1108,7 +1108,7 @@ describe("a young mover's next call ahead of its prediction (the onward model, i
 });
 
 /** Hops of 10 ms from t0 for `seconds`, each with the candidates cands(t); returns the events and the track ids reported. */
-function feed(tracker: Tracker, t0: number, seconds: number, cands: (t: number) => { azimuthDeg: number; elevationDeg: number | null; score: number; underLouder?: boolean; aliasOf?: number }[]) {
+function feed(tracker: Tracker, t0: number, seconds: number, cands: (t: number) => { azimuthDeg: number; elevationDeg: number | null; score: number; underLouder?: boolean; aliasOf?: number; centreHz?: number }[]) {
   const events: EventRecord[] = [];
   const ids = new Set<number>();
   for (let t = t0; t < t0 + seconds - 1e-9; t += 0.01) {
@@ -1120,6 +1120,33 @@ function feed(tracker: Tracker, t0: number, seconds: number, cands: (t: number) 
   }
   return { events, ids };
 }
+
+describe('a settled chorus of narrow centres and a caller beside it 1.3 octaves up (BAND_APART_NARROW_OCT)', () => {
+  // A chorus at 40 deg, its centre 1 kHz on every hop, calls 0.25 s of every second from 0.3 s
+  // and settles at its home; from 5.75 s a caller 4 deg beside it, centre 2.5 kHz (1.32 octaves
+  // up), calls 0.1 s of every second in the chorus' pauses (8 calls). Each hop carries one
+  // candidate, with its centre.
+  function run() {
+    const tracker = new Tracker({});
+    const r = feed(tracker, 0.005, 13, (t) => {
+      if (t % 1 >= 0.3 && t % 1 < 0.55) return [{ azimuthDeg: 40, elevationDeg: null, score: 1, centreHz: 1000 }];
+      if (t >= 5.7 && t % 1 >= 0.75 && t % 1 < 0.85) return [{ azimuthDeg: 44, elevationDeg: null, score: 1, centreHz: 2500 }];
+      return [];
+    });
+    const events = [...r.events, ...tracker.finish()];
+    const chorusTrack = events.find((e) => e.start_s < 0.6)!.track;
+    const newcomer = events.filter((e) => e.start_s % 1 >= 0.7 && e.start_s > 5.5);
+    return { chorusTrack, chorus: events.filter((e) => e.start_s % 1 < 0.6 && e.start_s % 1 >= 0.25), newcomer };
+  }
+
+  it('the caller gets a track of its own: none of its calls on the chorus track', () => {
+    const r = run();
+    console.log(`settled chorus and a caller 1.3 octaves up: chorus events ${r.chorus.length} on tracks ${[...new Set(r.chorus.map((e) => e.track))].join(', ')}; the caller's events ${r.newcomer.length} on tracks ${[...new Set(r.newcomer.map((e) => e.track))].join(', ')}`);
+    expect(new Set(r.chorus.map((e) => e.track))).toEqual(new Set([r.chorusTrack]));
+    expect(r.newcomer.length).toBeGreaterThanOrEqual(5);
+    expect(r.newcomer.filter((e) => e.track === r.chorusTrack)).toEqual([]);
+  });
+});
 
 describe('watch list (where the analysis should look for a followed caller: src/analysis/watched-directions.ts)', () => {
   const call = (az: number) => (t: number) => (t % 0.6 < 0.12 ? [{ azimuthDeg: az, elevationDeg: null, score: 1 }] : []);
