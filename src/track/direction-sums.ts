@@ -173,9 +173,7 @@ export class DirectionSums {
   spreadDeg(slot: number): number {
     const w = this.sumW[slot]!;
     if (this.mirrored) {
-      if (!(w > 0)) return Infinity;
-      const mean = this.sumLin[slot]! / w;
-      return Math.sqrt(Math.max(0, this.sumLin2[slot]! / w - mean * mean));
+      return w > 0 ? stdFromSums(this.sumLin[slot]!, this.sumLin2[slot]!, w) : Infinity;
     }
     return stdFromResultantDeg(resultantFromSums(this.sumCos[slot]!, this.sumSin[slot]!, w));
   }
@@ -191,20 +189,16 @@ export class DirectionSums {
   /** Weighted standard deviation of the elevations, degrees, or NaN when none carried one. */
   elevationSpreadDeg(slot: number): number {
     const w = this.sumElW[slot]!;
-    if (!(w > 0)) return NaN;
-    const mean = this.sumEl[slot]! / w;
-    return Math.sqrt(Math.max(0, this.sumEl2[slot]! / w - mean * mean));
+    return w > 0 ? stdFromSums(this.sumEl[slot]!, this.sumEl2[slot]!, w) : NaN;
   }
 
-  /** Mean log2 centre frequency of the hops that carried one (NaN when fewer than minHops did). */
   /** Standard deviation of the log2 centre frequencies of the slot's lone hops (NaN with fewer than two). */
   spreadLogHz(slot: number): number {
     const n = this.nLogHz[slot]!;
-    if (!(n > 1)) return NaN;
-    const m = this.sumLogHz[slot]! / n;
-    return Math.sqrt(Math.max(0, this.sumLogHz2[slot]! / n - m * m));
+    return n > 1 ? stdFromSums(this.sumLogHz[slot]!, this.sumLogHz2[slot]!, n) : NaN;
   }
 
+  /** Mean log2 centre frequency of the hops that carried one (NaN when fewer than minHops did). */
   meanLogHz(slot: number, minHops: number): number {
     const n = this.nLogHz[slot]!;
     return n >= minHops && n > 0 ? this.sumLogHz[slot]! / n : NaN;
@@ -215,4 +209,10 @@ export class DirectionSums {
     const w = this.sumElW[slot]!;
     return w > 0 ? this.sumEl[slot]! / w : null;
   }
+}
+
+/** Standard deviation from the sums of weights w, of w x and of w x^2 (w > 0; rounding kept from going negative). */
+function stdFromSums(sum: number, sum2: number, w: number): number {
+  const mean = sum / w;
+  return Math.sqrt(Math.max(0, sum2 / w - mean * mean));
 }

@@ -609,8 +609,7 @@ export class Tracker {
       if (this.takenByConfirmed(k, s)) this.candUsable[j] = 0;
       else if (s < 0) this.candUsable[j] = 0;
       else {
-        const trend = this.settled[s] === 0 && this.trendOf(s);
-        if (this.costFor(s, k, CONFIRMED, trend) <= this.costFor(s, j, CONFIRMED, trend)) this.candUsable[j] = 0;
+        if (this.confirmedCost(s, k) <= this.confirmedCost(s, j)) this.candUsable[j] = 0;
         else this.candUsable[k] = 0;
       }
     }
@@ -625,13 +624,18 @@ export class Tracker {
     return this.state[s] === CONFIRMED && this.sc.hop[TIME]! - this.lastOwnT[s]! <= ALIAS_WITHIN_S;
   }
 
+  /** The cost of candidate j for confirmed slot s outside the assignment (costFor, with the slot's trend model when it is not settled). */
+  private confirmedCost(s: number, j: number): number {
+    return this.costFor(s, j, CONFIRMED, this.settled[s] === 0 && this.trendOf(s));
+  }
+
   /** The confirmed track that could take alias j at the least cost, or -1. */
   private aliasTaker(j: number): number {
     let best = -1;
     let bestCost = Infinity;
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] !== CONFIRMED) continue;
-      const c = this.costFor(s, j, CONFIRMED, this.settled[s] === 0 && this.trendOf(s));
+      const c = this.confirmedCost(s, j);
       if (c < bestCost) {
         bestCost = c;
         best = s;
@@ -644,7 +648,7 @@ export class Tracker {
   private takenByConfirmed(j: number, except = -1): boolean {
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] !== CONFIRMED || s === except) continue;
-      if (this.costFor(s, j, CONFIRMED, this.settled[s] === 0 && this.trendOf(s)) < Infinity) return true;
+      if (this.confirmedCost(s, j) < Infinity) return true;
     }
     return false;
   }
