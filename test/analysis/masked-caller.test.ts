@@ -3,7 +3,8 @@
  * runs; src/analysis/hop-analyzer.ts, addBinSources): a steady low harmonic caller calling
  * through a pulsed chorus whose partials and pulse sidebands fill about three times as many of
  * the low bins. And a caller that starts as another's call ends (hop-analyzer.ts, ENTER_HELD:
- * bins a much louder sound enters forget what they held). And two choruses calling at once, each
+ * bins a much louder sound enters forget what they held; CHANGED_AGREE: so do rising bins whose
+ * phase changed, where single hops are trusted). And two choruses calling at once, each
  * read at its own bin peak (hop-analyzer.ts, winnerAtOwnPeak). Scenes rendered by the project's
  * simulator (its delays are checked against sox and numpy in test/sim/); truth from its truth file.
  */
@@ -63,20 +64,29 @@ describe('a caller under a louder chorus, heard in its own bins', () => {
     const { shared: overlapped, sharedFound: found, alone, aloneFound, frames } = hopsOf(wav, 'caller', 94, 8);
     let withDirection = 0;
     let stray = 0;
+    let farStray = 0;
+    const beyond = (az: number[], deg: number) => az.some((x) => Math.abs(wrapDeg(x + 46)) > deg && Math.abs(wrapDeg(x - 94)) > deg);
     for (const f of frames) {
       const az = reported(f);
       if (az.length > 0) withDirection++;
-      if (az.some((x) => Math.abs(wrapDeg(x + 46)) > 10 && Math.abs(wrapDeg(x - 94)) > 10)) stray++;
+      if (beyond(az, 10)) stray++;
+      if (beyond(az, 15)) farStray++;
     }
-    console.log(`caller under a chorus: found on ${found} of ${overlapped} overlapped hops, ${aloneFound} of ${alone} alone; a direction near neither on ${stray} of ${withDirection} hops with one`);
+    console.log(`caller under a chorus: found on ${found} of ${overlapped} overlapped hops, ${aloneFound} of ${alone} alone; a direction near neither on ${stray} of ${withDirection} hops with one (${farStray} beyond 15 deg)`);
     expect(overlapped).toBeGreaterThan(30);
     expect(aloneFound / alone).toBeGreaterThan(0.6);
     // Before the peaks of several runs (measured on this scene): 18 of 75 overlapped hops (24 %),
     // 108 of 120 alone, a direction near neither on 62 of 659 hops (9.4 %); with them 49 of 75,
     // 111 of 120, 70 of 659 (10.6 %); since bins a much louder sound enters forget what they
-    // held, 63 of 75, 114 of 120, 67 of 661 (10.1 %).
+    // held, 63 of 75, 114 of 120, 67 of 661 (10.1 %); then, at session 25's start, 63 of 75,
+    // 114 of 120, 65 of 663 (9.8 %; 53 beyond 15 deg, 8.0 %). Since rising bins whose phase
+    // changed forget what they held (hop-analyzer.ts, CHANGED_AGREE): 64 of 75, 119 of 120, 82 of
+    // 666 (12.3 %) but 49 beyond 15 deg (7.4 %): the caller, a further source under the pulsed
+    // chorus, read at 83 deg for 84 on 18 overlapped hops, 11 deg off where it was 10. So the
+    // near-neither share is held to 13 % and the share beyond 15 deg to 9 %.
     expect(found / overlapped).toBeGreaterThan(0.5);
-    expect(stray / withDirection).toBeLessThan(0.12);
+    expect(stray / withDirection).toBeLessThan(0.13);
+    expect(farStray / withDirection).toBeLessThan(0.09);
   });
 });
 
@@ -105,6 +115,32 @@ describe('a tone that starts as a broadband caller\'s call ends', () => {
     expect(alone).toBeGreaterThan(40);
     expect(aloneFound / alone).toBeGreaterThan(0.5);
     expect(sharedFound / shared).toBeGreaterThan(0.5);
+  });
+});
+
+describe('a broadband caller that starts as another of the same band and level ends', () => {
+  // Two noise callers (500-8000 Hz, -30 dBFS) 38 deg apart on a 10 cm square in the open: b's
+  // calls begin as a's end. No bin rises 8 times over what it held (ENTER_HELD), so the memory
+  // read b in a's direction for most of its call; a bin whose rise begins and whose fresh phase
+  // disagrees with its memory forgets it (hop-analyzer.ts, CHANGED_AGREE), where single hops
+  // are trusted (TRUST_MIN: in the open they agree with the answer of the hop before).
+  it('is read at its own bearing on most of its hops', () => {
+    const s = scene([], 7) as Record<string, unknown>;
+    const wav = render(tmp.dir, 'handover', {
+      ...s,
+      duration_s: 10,
+      array: { geometry: 'square-10cm', position_m: [0, 0, 1.5], heading_deg: 0 },
+      noise: { floor_dbfs: -60 },
+      sources: [
+        { name: 'a', position_m: at(4, 11, 2), signal: { type: 'noise', low_hz: 500, high_hz: 8000 }, level: { dbfs_at_array: -30 }, calls: { start_s: 0.2, length_s: 0.25, every_s: 0.7 } },
+        { name: 'b', position_m: at(42, 12, 2), signal: { type: 'noise', low_hz: 500, high_hz: 8000 }, level: { dbfs_at_array: -30 }, calls: { start_s: 0.45, length_s: 0.12, every_s: 0.7 } },
+      ],
+    });
+    const { alone, aloneFound } = hopsOf(wav, 'b', 42, 5);
+    console.log(`broadband caller after another: at its bearing on ${aloneFound} of ${alone} hops`);
+    // Measured on this scene: without the rule 131 of 157 hops (83 %), with it 156 of 157.
+    expect(alone).toBeGreaterThan(100);
+    expect(aloneFound / alone).toBeGreaterThan(0.93);
   });
 });
 
