@@ -822,10 +822,20 @@ export class HopAnalyzer {
     for (let p = 0; p < pairs.length; p++) {
       const [a, b] = pairs[p]!;
       const step = (2 * Math.PI * this.prevLags[p]!) / this.frame;
+      // The steering phasor e^(i step k), advanced bin by bin from the first listed bin (the list is in order).
+      const c1 = Math.cos(step);
+      const s1 = Math.sin(step);
+      let k = list[0]!;
+      let pr = Math.cos(step * k);
+      let pi = Math.sin(step * k);
       for (let i = 0; i < n; i++) {
-        const k = list[i]!;
+        for (const next = list[i]!; k < next; k++) {
+          const t = pr * c1 - pi * s1;
+          pi = pr * s1 + pi * c1;
+          pr = t;
+        }
         this.freshCross(a, b, k);
-        sum += this.crossOut[0]! * Math.cos(step * k) - this.crossOut[1]! * Math.sin(step * k);
+        sum += this.crossOut[0]! * pr - this.crossOut[1]! * pi;
       }
     }
     return sum / (n * pairs.length);
