@@ -181,8 +181,10 @@ const CHANGED_SNR = 100;
  * The rule above holds while the running mean of the rising bins' fresh agreement with the
  * answer of the hop before (risingAgreement) is at least this: a caller in the open is heard
  * alike hop by hop (per cell mean 0.7-0.98 in 7 of 10 motion-matrix cells), a reverberant room
- * is not (0.04-0.6 in 8 of 10 of the accuracy matrix's room cells). At 0.45, with the mean
- * learned at TRUST_RATE from the start (no plain mean of the first hops): crossings 1767 / 47 / 15.
+ * is not (0.04-0.6 in 8 of 10 of the accuracy matrix's room cells). With the mean learned at
+ * TRUST_RATE from the start (no plain mean of the first hops, so a short recording never trusts
+ * them), no SNR: crossings 1792 / 49 / 14 at 0.6, 1767 / 47 / 15 at 0.45. Kept in
+ * keepBeforeRise, so like the other rules of the memory it needs --quiet-memory below --memory.
  */
 const TRUST_MIN = 0.6;
 /** The running mean takes this share of each new hop's agreement (the first 100 hops: their plain mean). */
@@ -335,9 +337,9 @@ export class HopAnalyzer {
   private readonly heldBefore: Float64Array;
   /** The running mean of risingAgreement (TRUST_MIN), and how many hops it has taken. */
   private freshTrust = 0;
+  private trustHops = 0;
   /** freshCross()'s result: real, imaginary. */
   private readonly crossOut = new Float64Array(2);
-  private trustHops = 0;
   /** Scratch: the bins forgetQuietBins() scales this hop. */
   private readonly quietBins: Int32Array;
   /** The pairs' cross-spectrum addresses in the kernels' memory (forgetQuietBins; null on the JavaScript path). */
