@@ -338,8 +338,9 @@ export class HopAnalyzer {
   /** The running mean of risingAgreement (TRUST_MIN), and how many hops it has taken. */
   private freshTrust = 0;
   private trustHops = 0;
-  /** freshCross()'s result: real, imaginary. */
-  private readonly crossOut = new Float64Array(2);
+  /** Per rising bin and pair, its fresh cross-spectrum (freshCrossOf): real, imaginary. */
+  private readonly riseFreshRe: Float64Array;
+  private readonly riseFreshIm: Float64Array;
   /** Scratch: the bins forgetQuietBins() scales this hop. */
   private readonly quietBins: Int32Array;
   /** The pairs' cross-spectrum addresses in the kernels' memory (forgetQuietBins; null on the JavaScript path). */
@@ -497,6 +498,8 @@ export class HopAnalyzer {
     this.weightsBefore = new Float64Array(riseBins);
     this.heldBefore = new Float64Array(riseBins);
     this.riseW = new Float64Array(riseBins);
+    this.riseFreshRe = new Float64Array(riseBins * model.pairs.length);
+    this.riseFreshIm = new Float64Array(riseBins * model.pairs.length);
     this.riseRe = model.pairs.map(() => new Float64Array(riseBins));
     this.riseIm = model.pairs.map(() => new Float64Array(riseBins));
     this.candLags = new Float64Array(candidates * P);
@@ -777,52 +780,53 @@ export class HopAnalyzer {
    * mean updated here); the others are left in list[0 .. returned count).
    */
   private forgetChangedBins(list: Int32Array, n: number): number {
-    if (this.prevValid && n >= TRUST_BINS) {
+    const learn = this.prevValid && n >= TRUST_BINS;
+    if (!learn && !(this.freshTrust >= TRUST_MIN)) return n;
+    this.freshCrossOf(list, n);
+    if (learn) {
       this.trustHops++;
       this.freshTrust += Math.max(TRUST_RATE, 1 / this.trustHops) * (this.risingAgreement(list, n) - this.freshTrust);
     }
     if (!(this.freshTrust >= TRUST_MIN)) return n;
-    const pairs = this.model.pairs;
+    const P = this.model.pairs.length;
+    const fr = this.riseFreshRe;
+    const fi = this.riseFreshIm;
     const acc = this.weightAcc;
+    // The bins that forget, in the scratch list forgetQuietBins and forgetEnteredBins have done with this hop.
+    const forget = this.quietBins;
+    let forgotten = 0;
     let kept = 0;
     for (let i = 0; i < n; i++) {
       const k = list[i]!;
-      if (!(this.power[k]! >= CHANGED_SNR * this.onset.noiseFloor[k]!)) {
-        list[kept++] = k;
-        continue;
-      }
       let dot = 0;
       let mag = 0;
-      for (let p = 0; p < pairs.length; p++) {
-        const [a, b] = pairs[p]!;
-        this.freshCross(a, b, k);
-        const pc = this.correlators[p]!;
-        const mr = pc.accRe[k]!;
-        const mi = pc.accIm[k]!;
-        dot += mr * this.crossOut[0]! + mi * this.crossOut[1]!;
-        mag += Math.sqrt(mr * mr + mi * mi);
+      if (this.power[k]! >= CHANGED_SNR * this.onset.noiseFloor[k]!) {
+        for (let p = 0; p < P; p++) {
+          const pc = this.correlators[p]!;
+          const mr = pc.accRe[k]!;
+          const mi = pc.accIm[k]!;
+          dot += mr * fr[i * P + p]! + mi * fi[i * P + p]!;
+          mag += Math.sqrt(mr * mr + mi * mi);
+        }
       }
       if (mag > 0 && dot < CHANGED_AGREE * mag) {
         acc[k] = 0;
-        for (const pc of this.correlators) {
-          pc.accRe[k] = 0;
-          pc.accIm[k] = 0;
-        }
+        forget[forgotten++] = k;
       } else list[kept++] = k;
     }
+    if (forgotten > 0) this.scaleCrossSpectra(forget, forgotten, 0);
     return kept;
   }
 
   /**
    * The rising bins' (list[0 .. n)) fresh cross-spectra steered to the answer of the hop before
    * (prevLags; the phase convention of hopCoherenceF32): their mean over bins and pairs, 1 when
-   * every bin is heard from that direction.
+   * every bin is heard from that direction. Reads freshCrossOf's arrays.
    */
   private risingAgreement(list: Int32Array, n: number): number {
-    const pairs = this.model.pairs;
+    const P = this.model.pairs.length;
     let sum = 0;
-    for (let p = 0; p < pairs.length; p++) {
-      const [a, b] = pairs[p]!;
+    for (let p = 0; p < P; p++) {
       const step = (2 * Math.PI * this.prevLags[p]!) / this.frame;
       // The steering phasor e^(i step k), advanced bin by bin from the first listed bin (the list is in order).
       const c1 = Math.cos(step);
@@ -836,24 +840,33 @@ export class HopAnalyzer {
           pi = pr * s1 + pi * c1;
           pr = t;
         }
-        this.freshCross(a, b, k);
-        sum += this.crossOut[0]! * pr - this.crossOut[1]! * pi;
+        sum += this.riseFreshRe[i * P + p]! * pr - this.riseFreshIm[i * P + p]! * pi;
       }
     }
-    return sum / (n * pairs.length);
+    return sum / (n * P);
   }
 
-  /** This hop's unit cross-spectrum conj(X_a) X_b at bin k (0 for an empty bin) into crossOut. */
-  private freshCross(a: number, b: number, k: number): void {
-    const A = this.spectra[a]!;
-    const B = this.spectra[b]!;
-    const xr = A[2 * k]!;
-    const xi = A[2 * k + 1]!;
-    const yr = B[2 * k]!;
-    const yi = B[2 * k + 1]!;
-    const g = this.invMag[a]![k]! * this.invMag[b]![k]!;
-    this.crossOut[0] = (xr * yr + xi * yi) * g;
-    this.crossOut[1] = (xr * yi - xi * yr) * g;
+  /** This hop's unit cross-spectra conj(X_a) X_b (0 for an empty bin) at the bins list[0 .. n), every pair: riseFreshRe / riseFreshIm[i P + p]. */
+  private freshCrossOf(list: Int32Array, n: number): void {
+    const pairs = this.model.pairs;
+    const P = pairs.length;
+    for (let p = 0; p < P; p++) {
+      const [a, b] = pairs[p]!;
+      const A = this.spectra[a]!;
+      const B = this.spectra[b]!;
+      const invA = this.invMag[a]!;
+      const invB = this.invMag[b]!;
+      for (let i = 0; i < n; i++) {
+        const k = list[i]!;
+        const xr = A[2 * k]!;
+        const xi = A[2 * k + 1]!;
+        const yr = B[2 * k]!;
+        const yi = B[2 * k + 1]!;
+        const g = invA[k]! * invB[k]!;
+        this.riseFreshRe[i * P + p] = (xr * yr + xi * yi) * g;
+        this.riseFreshIm[i * P + p] = (xr * yi - xi * yr) * g;
+      }
+    }
   }
 
   /**

@@ -341,14 +341,13 @@ export class WatchedDirections {
   private nearBest(w: number, bins: HopBins, used: Uint8Array | null, need = 0, half = this.watchHalf[w]!, elSteps = 0): void {
     const az0 = this.watchAz[w]!;
     const el0 = this.watchEl[w]!;
-    const h = half;
     let bestAz = NaN;
     let bestEl = el0;
     let best = 0;
     for (let e = -elSteps; e <= elSteps; e++) {
       const el = el0 + e * ALIAS_EL_STEP_DEG;
       if (el < -89 || el > 89) continue;
-      for (let d = -h; d <= h + 1e-9; d += COARSE_STEP_DEG) {
+      for (let d = -half; d <= half + 1e-9; d += COARSE_STEP_DEG) {
         const v = this.fitMass(bins, used, az0 + d, el, false, need);
         if (v > best && this.fitted >= WATCH_MIN_BINS) {
           best = v;
