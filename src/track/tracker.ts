@@ -32,7 +32,8 @@
  *    the leftovers to tentative tracks, and update the assigned tracks (a hop whose own spectra
  *    do not support its answer, HELD_Z, or that is below the event-enter confidence, tooWeakToMove,
  *    or a candidate heard only under a louder caller, underLouder, supports its track without
- *    moving it, and supports no tentative track);
+ *    moving it, and supports no tentative track; a reading with another caller's within
+ *    CROWD_DEG, markCrowded, moves its track with CROWD_NOISE times the measurement variance);
  * 4. a leftover candidate with hop confidence x score >= birthConfidence, outside every track's gate
  *    (on a flat array a track near the zenith does not count for one far below it),
  *    not near the zenith (ZENITH_DEG) and not heard only under a louder caller, starts a
@@ -89,6 +90,26 @@ const WATCH_WITHIN_S = 2;
  * each other read as one, and a track watched there took its crossing partner's calls (a swap).
  */
 const WATCH_CLEAR_DEG = 12;
+/**
+ * Two callers heard in one hop within this many degrees of each other each read drawn towards
+ * the other: the louder or broader one wins the bands they share, and the bins of two low calls
+ * on a small array hold both. Such a reading moves its track with CROWD_NOISE times the
+ * measurement variance, so a crossing partner's pull does not turn the track's rate. Motion matrix
+ * draw 9999, crs05 (two low harmonic callers crossing on a 10 cm triangle): b's track stood at 129
+ * deg moving at -3.5 deg/s when a, 29 deg away, called over b's call; b was read at 135-139 and
+ * the track turned to +5 deg/s, so b's next call, at 124 and 13 deg from the prediction, started
+ * a new track for the rest of the pass. Not for a candidate within a settled track's home, or
+ * another there: a settled chorus is held at its home anyway (rule 5), and with them a lobe's
+ * track beside a chorus lived on and took one of the chorus' calls (draw 4711, cho01: +2 id
+ * switches). Chosen on the motion matrix (crossing cells of 23 draws: sources under 80 %
+ * complete / id switches / tracks holding two; 50 / 38 / 10 without): 40 deg with 4 times the
+ * variance 47 / 31 / 7 but chorus cells 27 / 38 / 10 -> 30 / 44 / 11 (the settled homes not left
+ * out), 26 / 43 / 11 (left out); with 2 times 47 / 29 / 7 and the chorus cells as without
+ * (kept); 25 and 60 deg with 8 times 49 / 30 / 6 and 49 / 35 / 7; 16 times 49 / 26 / 6; no move
+ * at all (keeping the track alive only) 59 / 50 / 16.
+ */
+const CROWD_DEG = 40;
+const CROWD_NOISE = 2;
 /** Score floor for the measurement variance bearingNoise^2 / score. */
 const MIN_SCORE = 0.05;
 /** Floor on cos(elevation) when widening the azimuth noise of high candidates. */
@@ -379,6 +400,8 @@ export class Tracker {
   private readonly candHome: Uint8Array;
   /** The same in azimuth alone (elevation not asked): a support outside every such home is free. */
   private readonly candHomeAz: Uint8Array;
+  /** Per candidate of the hop: 1 when another caller's candidate lies within CROWD_DEG of it (markCrowded). */
+  private readonly candCrowded: Uint8Array;
   private readonly idsByLength: (number | null)[][] = [];
   private readonly result: MutableUpdate = { trackIds: [], events: NO_EVENTS };
   private readonly finished: TrackSummary[] = [];
@@ -472,6 +495,7 @@ export class Tracker {
     this.chosenModel = new Uint8Array(n);
     this.candHome = new Uint8Array(c);
     this.candHomeAz = new Uint8Array(c);
+    this.candCrowded = new Uint8Array(c);
     this.gate2 = o.gateSigma * o.gateSigma;
     this.logSMax = Math.log(o.maxUncertaintyDeg * o.maxUncertaintyDeg + (o.bearingNoiseDeg * o.bearingNoiseDeg) / (MIN_SCORE * MIN_COS_ELEVATION * MIN_COS_ELEVATION));
   }
@@ -760,7 +784,30 @@ export class Tracker {
         if (this.homeAzimuthDistance2(s, j) <= this.gate2) this.candHomeAz[j] = 1;
       }
     }
+    this.markCrowded(nC);
     return nC;
+  }
+
+  /**
+   * Mark the candidates with another within CROWD_DEG (candCrowded): usable, neither an alias
+   * (the same sound) nor within a settled track's home, both of them.
+   */
+  private markCrowded(nC: number): void {
+    const az = this.sc.candAz;
+    for (let j = 0; j < nC; j++) {
+      this.candCrowded[j] = 0;
+      if (!this.crowdable(j)) continue;
+      for (let k = 0; k < nC; k++) {
+        if (k !== j && this.crowdable(k) && Math.abs(wrapDeg(az[k]! - az[j]!)) <= CROWD_DEG) {
+          this.candCrowded[j] = 1;
+          break;
+        }
+      }
+    }
+  }
+
+  private crowdable(j: number): boolean {
+    return this.candUsable[j] === 1 && this.candAlias[j]! < 0 && this.candHome[j] === 0;
   }
 
   /**
@@ -1088,7 +1135,12 @@ export class Tracker {
         this.loadMeasurement(s, j);
         this.az.update(s);
       } else if (firm && !this.keepsOnly(j)) {
-        if (this.loadMeasurement(s, j)) this.el.update(s);
+        const both = this.loadMeasurement(s, j);
+        if (this.candCrowded[j] === 1) {
+          this.az.io[IO_R] = this.az.io[IO_R]! * CROWD_NOISE;
+          this.el.io[IO_R] = this.el.io[IO_R]! * CROWD_NOISE;
+        }
+        if (both) this.el.update(s);
         this.az.update(s);
       } else {
         // A direction the hop's own spectra do not support (the analysis' memory of a call that

@@ -44,6 +44,12 @@ export interface SynthOptions {
   mirrorSideDeg?: number;
   /** Sources closer than this (deg) come out as one candidate at their mean. */
   mergeDeg?: number;
+  /**
+   * Two sources calling in one hop within `deg` of each other: the quieter one is read `share`
+   * of the way towards the louder (a blend of the two, as the analysis reads a caller whose
+   * bands or bins another one shares).
+   */
+  pull?: { deg: number; share: number };
 }
 
 export interface Synth {
@@ -96,6 +102,11 @@ export function generateHops(sources: readonly TruthSource[], o: SynthOptions): 
       if (callStartedAt(s, t, o.hopS)) onset = Math.max(onset, 0.9 + 0.1 * rand());
       if (rand() < o.dropout) continue;
       let az = s.azimuthAt(t) + o.noiseDeg * gauss(rand);
+      if (o.pull !== undefined && s.levelDbfs < loudest) {
+        const louder = calling.find((c) => c.s.levelDbfs === loudest)!.s.azimuthAt(t);
+        const d = wrap(louder - s.azimuthAt(t));
+        if (Math.abs(d) <= o.pull.deg) az += o.pull.share * d;
+      }
       if (o.mirrored) az = fold(az);
       else if (o.mirrorSideDeg !== undefined) az = foldAbout(az, o.mirrorSideDeg);
       else az = wrap(az);

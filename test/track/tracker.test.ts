@@ -264,9 +264,39 @@ describe('two crossing sources at different angular rates (40 noisy runs each)',
   });
 
   it('swaps far more often when the rate is allowed to wander fast: the rate model is what carries them', () => {
-    const loose = crossingSwapRate(headOn, 40, { rateWanderDegS: 10, rateMemoryS: 3 });
-    console.log(`head-on crossing with rateWander 10, rateMemory 3: ${loose.swaps} swaps, ${loose.lost} lost ids in ${loose.runs} runs`);
+    // With rateWander 10 and rateMemory 3 the pair swapped in 12 of 40 runs while readings of two
+    // callers within 40 deg moved their tracks at full weight, in 3 since (tracker.ts CROWD_DEG).
+    const loose = crossingSwapRate(headOn, 40, { rateWanderDegS: 20, rateMemoryS: 1 });
+    console.log(`head-on crossing with rateWander 20, rateMemory 1: ${loose.swaps} swaps, ${loose.lost} lost ids in ${loose.runs} runs`);
     expect(loose.swaps / loose.runs).toBeGreaterThan(0.2);
+  });
+});
+
+describe('a crossing where the quieter caller is read drawn towards the louder (issue 13, item 4)', () => {
+  // A louder caller sweeps 80 -> 200 deg at 12 deg/s (0.3 s calls every 0.6 s); a quieter one
+  // 150 -> 120 deg at -3 deg/s (0.1 s calls every 0.45 s); they cross at t = 4.7 s. While both call
+  // within 40 deg, the quieter one is read 35 % of the way towards the louder, as the analysis
+  // read a low caller under another on a 10 cm triangle (motion matrix draw 9999, crs05: 8-12
+  // deg towards a caller 29 deg away). After the crossing that pull runs against the quieter
+  // caller's motion; moved by it at full weight, its track turned round and lost the caller.
+  const sources: TruthSource[] = [
+    { azimuthAt: (t) => 80 + 12 * t, calls: bursts(0.2, 0.3, 0.3, 10), levelDbfs: -26 },
+    { azimuthAt: (t) => 150 - 3 * t, calls: bursts(0.1, 0.1, 0.35, 10), levelDbfs: -28 },
+  ];
+
+  it('the quieter caller keeps its id through and after the crossing in at least 15 of 20 noisy runs (12 of 20 lost it when such readings moved its track at full weight)', () => {
+    let lost = 0;
+    for (let seed = 1; seed <= 20; seed++) {
+      const synth = generateHops(sources, { durationS: 10, hopS: 0.01, seed, noiseDeg: 1.5, clutter: 0.05, dropout: 0.1, pull: { deg: 40, share: 0.35 } });
+      const quiet = idsOfSource(synth, run(synth), 1);
+      const id = majority(quiet.filter((x) => x.t < 3).map((x) => x.id));
+      const after = quiet.filter((x) => x.t > 7 && x.id !== null);
+      expect(id).not.toBeNull();
+      expect(after.length).toBeGreaterThan(30);
+      if (after.filter((x) => x.id === id).length / after.length < 0.9) lost++;
+    }
+    console.log(`quieter caller lost its id after the crossing in ${lost} of 20 runs`);
+    expect(lost).toBeLessThanOrEqual(5);
   });
 });
 
