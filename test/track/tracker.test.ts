@@ -1200,17 +1200,24 @@ describe('watch list (where the analysis should look for a followed caller: src/
     expect(list(tracker)).toHaveLength(0);
   });
 
-  it('lists it while another caller wins the hops, but not within 12 deg of another track, nor 2 s after its last support', () => {
+  it('lists it while another caller wins the hops, but not within 10 deg of another track, nor 2 s after its last support', () => {
     const tracker = new Tracker({});
     feed(tracker, 0, 3, (t) => [...call(-40)(t), ...call(30)(t + 0.3)]);
     feed(tracker, 3, 0.1, () => [{ azimuthDeg: 30, elevationDeg: null, score: 1 }]);
     expect(list(tracker).map((w) => Math.round(w.az))).toEqual([-40]);
-    // the other caller walks from 30 to -29 deg (11 deg from the first) over 2 s, calling throughout
+    // the other caller walks from 30 to -32 deg (8 deg from the first) over 2 s, calling throughout
     const near = new Tracker({});
     feed(near, 0, 3, (t) => [...call(-40)(t), ...call(30)(t + 0.3)]);
-    feed(near, 3, 2, (t) => [...call(-40)(t), { azimuthDeg: 30 - 29.5 * (t - 3), elevationDeg: null, score: 1 }]);
+    feed(near, 3, 2, (t) => [...call(-40)(t), { azimuthDeg: 30 - 31 * (t - 3), elevationDeg: null, score: 1 }]);
     expect(near.summary()).toHaveLength(2);
     expect(list(near)).toHaveLength(0);
+    // walking to -29 deg (11 deg from the first) it is listed: the clearance was 12 deg before
+    // readings of two callers within 40 deg moved their tracks at half weight (tracker.ts)
+    const apart = new Tracker({});
+    feed(apart, 0, 3, (t) => [...call(-40)(t), ...call(30)(t + 0.3)]);
+    feed(apart, 3, 2, (t) => [...call(-40)(t), { azimuthDeg: 30 - 29.5 * (t - 3), elevationDeg: null, score: 1 }]);
+    expect(apart.summary()).toHaveLength(2);
+    expect(list(apart).map((w) => Math.round(w.az))).toEqual([-40]);
     feed(tracker, 3.1, 2.5, () => [{ azimuthDeg: 30, elevationDeg: null, score: 1 }]);
     expect(list(tracker)).toHaveLength(0);
   });
