@@ -105,7 +105,7 @@ const WATCH_CLEAR_DEG = 10;
  * deg moving at -3.5 deg/s when a, 29 deg away, called over b's call; b was read at 135-139 and
  * the track turned to +5 deg/s, so b's next call, at 124 and 13 deg from the prediction, started
  * a new track for the rest of the pass. Not for a candidate within a settled track's home, or
- * another there: a settled chorus is held at its home anyway (rule 5), and with them a lobe's
+ * another there: a settled chorus is held at its home anyway (step 5 above), and with them a lobe's
  * track beside a chorus lived on and took one of the chorus' calls (draw 4711, cho01: +2 id
  * switches). Chosen on the motion matrix (crossing cells of 23 draws: sources under 80 %
  * complete / id switches / tracks holding two; 50 / 38 / 10 without): 40 deg with 4 times the
@@ -1145,11 +1145,12 @@ export class Tracker {
         this.az.update(s);
       } else if (firm && !this.keepsOnly(j)) {
         const both = this.loadMeasurement(s, j);
-        if (this.candCrowded[j] === 1) {
-          this.az.io[IO_R] = this.az.io[IO_R]! * CROWD_NOISE;
-          this.el.io[IO_R] = this.el.io[IO_R]! * CROWD_NOISE;
+        const widen = this.candCrowded[j] === 1 ? CROWD_NOISE : 1;
+        this.az.io[IO_R] = this.az.io[IO_R]! * widen;
+        if (both) {
+          this.el.io[IO_R] = this.el.io[IO_R]! * widen;
+          this.el.update(s);
         }
-        if (both) this.el.update(s);
         this.az.update(s);
       } else {
         // A direction the hop's own spectra do not support (the analysis' memory of a call that
