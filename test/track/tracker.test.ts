@@ -1212,7 +1212,7 @@ describe('watch list (where the analysis should look for a followed caller: src/
     expect(near.summary()).toHaveLength(2);
     expect(list(near)).toHaveLength(0);
     // walking to -29 deg (11 deg from the first) it is listed: the clearance was 12 deg before
-    // readings of two callers within 40 deg moved their tracks at half weight (tracker.ts)
+    // readings of two callers within 40 deg moved their tracks with twice the measurement variance (tracker.ts)
     const apart = new Tracker({});
     feed(apart, 0, 3, (t) => [...call(-40)(t), ...call(30)(t + 0.3)]);
     feed(apart, 3, 2, (t) => [...call(-40)(t), { azimuthDeg: 30 - 29.5 * (t - 3), elevationDeg: null, score: 1 }]);
