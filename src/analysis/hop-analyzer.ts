@@ -1,6 +1,6 @@
 import { makeBands, type BandLayout } from '../dsp/bands.js';
 import { RealFft, type FftBuffer } from '../dsp/fft.js';
-import { addBandScores, PairCorrelator } from '../dsp/gcc.js';
+import { addBandScores, PairCorrelator, unitCrossInto } from '../dsp/gcc.js';
 import { addBandScoresLanes, hopCoherenceF32, hopCoherenceLanes, magnitudes, refineLagLanes, setPhasorsF32, unitLayout, type UnitLayout } from '../dsp/gcc-lanes.js';
 import { GccKernels } from '../dsp/gcc-kernels.js';
 import { OnsetWeigher } from '../dsp/onset.js';
@@ -856,16 +856,7 @@ export class HopAnalyzer {
       const B = this.spectra[b]!;
       const invA = this.invMag[a]!;
       const invB = this.invMag[b]!;
-      for (let i = 0; i < n; i++) {
-        const k = list[i]!;
-        const xr = A[2 * k]!;
-        const xi = A[2 * k + 1]!;
-        const yr = B[2 * k]!;
-        const yi = B[2 * k + 1]!;
-        const g = invA[k]! * invB[k]!;
-        this.riseFreshRe[i * P + p] = (xr * yr + xi * yi) * g;
-        this.riseFreshIm[i * P + p] = (xr * yi - xi * yr) * g;
-      }
+      for (let i = 0; i < n; i++) unitCrossInto(A, B, invA, invB, list[i]!, this.riseFreshRe, this.riseFreshIm, i * P + p);
     }
   }
 

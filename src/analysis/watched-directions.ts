@@ -63,6 +63,7 @@
  */
 import type { DirectionModel } from '../direction/direction-model.js';
 import type { FftBuffer } from '../dsp/fft.js';
+import { unitCrossInto } from '../dsp/gcc.js';
 import { wrapDeg } from '../geometry/vec3.js';
 import { fastAtan2 } from '../util/fast-atan2.js';
 import type { OnsetWeigher } from '../dsp/onset.js';
@@ -408,18 +409,8 @@ export class WatchedDirections {
         this.curIm[p] = cr * this.stepIm[p]! + ci * this.stepRe[p]!;
         if (!use) continue;
         const [a, b] = pairs[p]!;
-        const A = spectra[a]!;
-        const B = spectra[b]!;
-        const xr = A[2 * k]!;
-        const xi = A[2 * k + 1]!;
-        const yr = B[2 * k]!;
-        const yi = B[2 * k + 1]!;
-        const g = invMag[a]![k]! * invMag[b]![k]!;
-        const re = (xr * yr + xi * yi) * g;
-        const im = (xr * yi - xi * yr) * g;
-        this.re[p] = re;
-        this.im[p] = im;
-        fit += re * cr - im * ci;
+        unitCrossInto(spectra[a]!, spectra[b]!, invMag[a]!, invMag[b]!, k, this.re, this.im, p);
+        fit += this.re[p]! * cr - this.im[p]! * ci;
       }
       if (!use) continue;
       if (fit >= WINNER_FIT * P) {

@@ -205,6 +205,21 @@ export function inverseMagnitudes(spectrum: ArrayLike<number>, first: number, en
 }
 
 /**
+ * One bin's unit cross-spectrum conj(X_a,k) X_b,k / (|X_a,k| |X_b,k|) (the convention of the pair
+ * memories; 0 for an empty bin, through invA / invB) from the hop's own spectra, into re[at] and
+ * im[at]: the bins the analysis reads one by one (its rising bins, the watched directions' bins).
+ */
+export function unitCrossInto(a: ArrayLike<number>, b: ArrayLike<number>, invA: Float64Array, invB: Float64Array, k: number, re: Float64Array, im: Float64Array, at: number): void {
+  const xr = a[2 * k]!;
+  const xi = a[2 * k + 1]!;
+  const yr = b[2 * k]!;
+  const yi = b[2 * k + 1]!;
+  const g = invA[k]! * invB[k]!;
+  re[at] = (xr * yr + xi * yi) * g;
+  im[at] = (xr * yi - xi * yr) * g;
+}
+
+/**
  * Coherence of this hop alone with a lag, summed over the bins [first, end) (one phasor
  * recursion from `first`; 0 for no bins) of
  *   Re(conj(X_a) X_b / |X_a X_b| e^{j 2 pi k lag / N})

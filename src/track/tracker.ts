@@ -1145,6 +1145,7 @@ export class Tracker {
         this.az.update(s);
       } else if (firm && !this.keepsOnly(j)) {
         const both = this.loadMeasurement(s, j);
+        // Only the update widens for a crowded reading: its gate and cost kept the plain variance.
         const widen = this.candCrowded[j] === 1 ? CROWD_NOISE : 1;
         this.az.io[IO_R] = this.az.io[IO_R]! * widen;
         if (both) {
