@@ -940,8 +940,19 @@ export class Tracker {
    * 54 / 13 (choruses' passers 903 -> 909, their switches 18 -> 12). Asked at the prediction
    * (gate) and at the resting place (restGate); the resting place's gate one-sided as well changed
    * no cell of 13 draws (and no accuracy matrix output).
+   * A further source of its hop (any candidate but the hop's first) within a settled track's home
+   * in azimuth is never kept out by its elevation: read beside a louder caller from the few bins it
+   * holds, a second caller's elevation errs far more than a lone one's. A chorus settled at -127
+   * deg and 10-20 deg up, calling under the other chorus, read at -126 deg and 73-75 deg up for
+   * five hops; kept out of its own track, it fed a track born of stray readings high up (motion
+   * matrix draw 55 cho01: two id switches at both speeds of sound, none with this rule). Over 23
+   * draws choruses' id switches 38 -> 34, every other figure the same; ten further draws and the
+   * accuracy matrix unchanged. For the hop's first candidate too: 38 -> 32, but wind read 72-77
+   * deg up between a chorus' bouts fed the chorus track whenever its azimuth wandered through the
+   * home (test/track/tracker.test.ts).
    */
   private keptOutOnFlat(s: number, j: number): boolean {
+    if (j > 0 && this.settled[s] === 1 && this.homeAzimuthDistance2(s, j) <= this.gate2) return false;
     return this.sc.candEl[j]! - this.restEl[s]! > FLAT_ELEVATION_GATE_DEG || (this.nearZenith(s) && this.belowOnFlat(s, j));
   }
 

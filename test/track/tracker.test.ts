@@ -809,6 +809,38 @@ describe('a flat array: elevations are followed but do not split or steal (issue
     }
   });
 
+  it('the chorus read 72 deg up as the second source of hops where a louder caller calls keeps its own track', () => {
+    // Beside a louder caller a second caller is read from the few bins it holds, and a flat
+    // array's elevation of it errs widely: a chorus settled 10-20 deg up read at 73-75 deg up for
+    // a few hops under the other chorus (motion matrix draw 55, cho01). Kept out of its own track
+    // by FLAT_ELEVATION_GATE_DEG, it fed another track high up (here: a stray track born 50 deg
+    // away of readings 80 deg up just before) or none. Within the chorus' home in azimuth, a
+    // further source is not kept out by its elevation; the hop's first candidate still is (the
+    // wind test above).
+    const other: TruthSource = { azimuthAt: () => -60, elevationAt: () => 5, calls: bursts(5.2, 0.3, 0.4, 12), levelDbfs: -20 };
+    const inOther = (t: number) => other.calls.some(([a, b]) => t >= a && t < b);
+    const chorusHigh: TruthSource = { ...chorus, elevationAt: (t) => (inOther(t) ? 72 : 7) };
+    const stray: TruthSource = { azimuthAt: (t) => -20 + 20 * (t - 4.9), elevationAt: () => 80, calls: [[4.9, 5.15]], levelDbfs: -40 };
+    let withChorus = 0;
+    let all = 0;
+    for (const seed of [71, 72, 73, 74]) {
+      const synth = generateHops([chorusHigh, other, stray], { durationS: 12, hopS: 0.01, seed, noiseDeg: 1, clutter: 0, dropout: 0.05 });
+      const r = run(synth, { mirror: flat });
+      const early = idsOfSource(synth, r, 0).filter((x) => x.t < 5);
+      const chorusId = majority(early.map((x) => x.id));
+      expect(chorusId).not.toBeNull();
+      // The chorus' hops heard beside the louder caller (read high up), after the chorus settled.
+      const beside = idsOfSource(synth, r, 0).filter((x) => inOther(x.t) && x.t > 5.3);
+      const kept = beside.filter((x) => x.id === chorusId).length;
+      console.log(`seed ${seed}: ${kept} of ${beside.length} high readings beside the louder caller on the chorus track`);
+      withChorus += kept;
+      all += beside.length;
+    }
+    // With the hop's further sources kept out like its first: 0 of them.
+    expect(all).toBeGreaterThan(100);
+    expect(withChorus / all).toBeGreaterThan(0.9);
+  });
+
   it("a lobe read 4 deg beside the chorus' calls and 55 deg up starts no track of its own", () => {
     // A call above the array's aliasing limit also gives a lobe near its caller's azimuth, high
     // up: kept out of the chorus track by its elevation, it is still no newcomer.
