@@ -89,11 +89,11 @@ const WATCH_WITHIN_S = 2;
  * ... unless another confirmed track lies within this many degrees of it: two callers that near
  * each other read as one, and a track watched there took its crossing partner's calls (a swap).
  * 12 deg before readings of two callers in one hop moved their tracks with twice the
- * measurement variance (CROWD_DEG); since, motion matrix, 23 draws (sources under 80 % complete / id switches / tracks holding
- * two): crossings 47 / 29 / 7 at 12 deg, 44 / 27 / 6 at 10 (kept), 45 / 30 / 8 at 8, 44 / 31 / 8 at
- * 6, 51 / 31 / 9 at 16; at 10 the choruses 27 / 38 / 10 -> 25 / 38 / 10 and the passes 9 / 25 / 0
- * -> 9 / 26 / 0 (a lobe's switch in the 80 deg/s high sweep of draw 555); ten further draws and
- * the accuracy matrix unchanged.
+ * measurement variance (CROWD_DEG). Since then, motion matrix, 23 draws (sources under 80 %
+ * complete / id switches / tracks holding two): crossings 47 / 29 / 7 at 12 deg, 44 / 27 / 6 at
+ * 10 (kept), 45 / 30 / 8 at 8, 44 / 31 / 8 at 6, 51 / 31 / 9 at 16; at 10 the choruses 27 / 38 /
+ * 10 -> 25 / 38 / 10 and the passes 9 / 25 / 0 -> 9 / 26 / 0 (a lobe's switch in the 80 deg/s
+ * high sweep of draw 555); ten further draws and the accuracy matrix unchanged.
  */
 const WATCH_CLEAR_DEG = 10;
 /**
