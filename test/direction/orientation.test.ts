@@ -246,6 +246,15 @@ describe('arrays wider than a default frame (sox-made delays)', () => {
     // a 20 cm pair keeps the default frame
     expect(createAnalysis(geometry('pair-20cm', [[-0.1, 0, 0], [0.1, 0, 0]]), 48000, C, {}).options.frame).toBe(1024);
   });
+  // The project's rule (src/analysis/analysis-options.ts, defaultFrame): the smallest power of
+  // two of at least 20 ms; at 16 kHz 512 samples (the nearest power of two to 21 ms, 256, gave the
+  // tracker hops of 8 ms and the motion matrix rendered at 16 kHz lost crossings and passes).
+  it('the default frame is the smallest power of two of at least 20 ms at each common rate', () => {
+    const pair = geometry('pair-20cm', [[-0.1, 0, 0], [0.1, 0, 0]]);
+    const frames = [8000, 16000, 22050, 32000, 44100, 48000, 96000].map((rate) => createAnalysis(pair, rate, C, {}).options.frame);
+    expect(frames).toEqual([256, 512, 512, 1024, 1024, 1024, 2048]);
+    expect(createAnalysis(pair, 16000, C, {}).options.hop).toBe(256);
+  });
   it('bearline scan finds the calls of a 3 m pair (frame grown to fit), azimuth within 0.5 deg', () => {
     const wav = render(wide, 55, 0, true);
     const r = runCli(['scan', wav, '--array', geometryFile(wide)]);
