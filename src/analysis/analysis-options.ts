@@ -80,14 +80,16 @@ export const MAX_FRAME = 65536;
  * record at: the motion matrix' 23 draws rendered at 16 kHz (sources under 80 % complete / id
  * switches / tracks holding two) gave crossings 71 / 50 / 28 with 256 and 54 / 35 / 16 with 512,
  * passes 21 / 68 / 0 and 13 / 31 / 0, choruses 31 / 45 / 15 and 29 / 50 / 23 (at 48 kHz: 47 / 20 /
- * 10, 8 / 18 / 0, 26 / 34 / 11); ten further draws at 16 kHz, crossings 34 / 19 / 11 and 23 / 11 /
- * 6, passes 10 / 27 / 0 and 12 / 18 / 0. Shorter hops than the 10.7 ms the tracker's defaults were chosen
- * at do not help it: 48 kHz crossings with a hop of 384 samples (8 ms) 53 / 61 / 16 against 44 /
- * 27 / 6 with 512 (before READING_VARIANCE_SCALE, src/track/tracker.ts), and at 16 kHz a frame of
- * 512 with a hop of 128 61 / 75 / 25.
+ * 10, 8 / 18 / 0, 26 / 34 / 11); ten further draws at 16 kHz, crossings 34 / 19 / 11 and 23 /
+ * 11 / 6, passes 10 / 27 / 0 and 12 / 18 / 0, choruses 16 / 26 / 10 and 12 / 10 / 5. Shorter hops
+ * than the 10.7 ms the tracker's defaults were chosen at do not help it: 48 kHz crossings with a
+ * hop of 384 samples (8 ms) 53 / 61 / 16 against 44 / 27 / 6 with 512 (before
+ * READING_VARIANCE_SCALE, src/track/tracker.ts), and at 16 kHz a frame of 512 with a hop of 128
+ * 61 / 75 / 25.
  */
 const DEFAULT_FRAME_S = 0.02;
 export function defaultFrame(sampleRate: number): number {
+  // less a hair: 20 ms that is a power of two exactly stays that power despite rounding
   return Math.max(64, 2 ** Math.ceil(Math.log2(DEFAULT_FRAME_S * sampleRate - 1e-9)));
 }
 

@@ -850,18 +850,22 @@ export class Tracker {
    */
   private loadMeasurement(s: number, j: number): boolean {
     const sc = this.sc;
-    const r = sc.candR[j]!;
     const el = sc.candEl[j]!;
     this.az.io[IO_Z] = sc.candAz[j]!;
     if (this.hasEl[s] === 1 && el === el) {
       const cosEl = Math.max(MIN_COS_ELEVATION, Math.cos(this.el.angle[s]! * DEG));
-      this.az.io[IO_R] = (READING_VARIANCE_SCALE * r) / (cosEl * cosEl);
+      this.az.io[IO_R] = this.azimuthVariance(j) / (cosEl * cosEl);
       this.el.io[IO_Z] = el;
-      this.el.io[IO_R] = r;
+      this.el.io[IO_R] = sc.candR[j]!;
       return true;
     }
-    this.az.io[IO_R] = READING_VARIANCE_SCALE * r;
+    this.az.io[IO_R] = this.azimuthVariance(j);
     return false;
+  }
+
+  /** Candidate j's azimuth measurement variance (READING_VARIANCE_SCALE x its reading variance). */
+  private azimuthVariance(j: number): number {
+    return READING_VARIANCE_SCALE * this.sc.candR[j]!;
   }
 
   /**
@@ -1284,7 +1288,7 @@ export class Tracker {
       this.lifetime.reset(s);
       this.cutter.reset(s);
       this.az.io[IO_Z] = sc.candAz[j]!;
-      this.az.io[IO_R] = READING_VARIANCE_SCALE * sc.candR[j]!;
+      this.az.io[IO_R] = this.azimuthVariance(j);
       this.az.init(s);
       const el = sc.candEl[j]!;
       this.hasEl[s] = el === el ? 1 : 0;
