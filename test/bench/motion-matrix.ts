@@ -18,9 +18,10 @@
  * - chorus: two static choruses calling in bouts and a caller passing across one of them,
  *           scanned with the scene's speed of sound and with it 1 % and 2 % off.
  *
- *   npx tsx test/bench/motion-matrix.ts [--quick] [--seed N] [--json FILE] [--set key=value ...]
+ *   npx tsx test/bench/motion-matrix.ts [--quick] [--seed N] [--rate HZ] [--json FILE] [--set key=value ...]
  * (--seed draws another matrix of the same kinds: a held-out check that a default was not
- * fitted to the 1313 draw)
+ * fitted to the 1313 draw; --rate renders the same scenes at another sample rate, e.g. 16000 as
+ * many small USB arrays record)
  *   npm run bench motion
  *
  * Caution: the cached WAV files are ordinary recordings; if you play them through speakers or
@@ -98,9 +99,12 @@ const PLANAR = ARRAYS.filter((a) => !a.startsWith('pair'));
 const RATES = [10, 25, 50, 80] as const;
 const KINDS: readonly CallKind[] = ['broadband', 'low-harmonic', 'high-sweep', 'high-band'];
 
-function sceneOf(array: string, durationS: number, seed: number, sources: unknown[], windDbfs: number | null): Record<string, unknown> {
+function sceneOf(array: string, durationS: number, seed: number, sources: unknown[], windDbfs: number | null, rateHz: number): Record<string, unknown> {
+  // Below 48 kHz a noise call's top is capped where the simulator allows it (0.45 x the rate).
+  const top = Math.floor(0.45 * rateHz);
+  for (const src of sources as { signal: { high_hz?: number } }[]) if (src.signal.high_hz !== undefined && src.signal.high_hz > top) src.signal.high_hz = top;
   return {
-    sample_rate_hz: 48000,
+    sample_rate_hz: rateHz,
     duration_s: Math.round(durationS * 100) / 100,
     seed,
     speed_of_sound_m_s: 343,
@@ -120,8 +124,8 @@ function pick<T>(rng: Rng, xs: readonly T[]): T {
   return xs[Math.floor(rng.uniform() * xs.length)]!;
 }
 
-/** The generated cells (seeded: the same list every run). */
-export function motionCells(quick: boolean, seed = 1313): Cell[] {
+/** The generated cells (seeded: the same list every run), rendered at `rateHz` (48 kHz unless asked). */
+export function motionCells(quick: boolean, seed = 1313, rateHz = 48000): Cell[] {
   const cells: Cell[] = [];
   const rng = makeRng(seed);
   // pass: every rate x call kind, arrays in turn, random geometry of the pass.
@@ -141,7 +145,7 @@ export function motionCells(quick: boolean, seed = 1313): Cell[] {
         id: `pas${String(++n).padStart(2, '0')}`,
         family: 'pass',
         condition: `${array}, ${kind}, peak ${rate} deg/s, d ${d.toFixed(0)} m, h ${h.toFixed(0)} m, ${Math.round(level)} dBFS${wind === null ? '' : `, wind ${wind} dBFS`}`,
-        scene: sceneOf(array, p.durationS + 0.8, 500 + n, [src], wind),
+        scene: sceneOf(array, p.durationS + 0.8, 500 + n, [src], wind, rateHz),
         cRatio: 1,
       });
     }
@@ -168,7 +172,7 @@ export function motionCells(quick: boolean, seed = 1313): Cell[] {
       id: `crs${String(i + 1).padStart(2, '0')}`,
       family: 'cross',
       condition: `${array}, ${kindA} over ${spanA.toFixed(0)} deg x ${kindB} over ${spanB.toFixed(0)} deg in ${dur.toFixed(1)} s`,
-      scene: sceneOf(array, dur, 700 + i, [mk('a', centre - spanA / 2, centre + spanA / 2, ra, kindA, 0.2), mk('b', centre + spanB / 2, centre - spanB / 2, rb, kindB, 0.4)], null),
+      scene: sceneOf(array, dur, 700 + i, [mk('a', centre - spanA / 2, centre + spanA / 2, ra, kindA, 0.2), mk('b', centre + spanB / 2, centre - spanB / 2, rb, kindB, 0.4)], null, rateHz),
       cRatio: 1,
     });
   }
@@ -188,7 +192,7 @@ export function motionCells(quick: boolean, seed = 1313): Cell[] {
     const rate = 15 + 25 * rng.uniform();
     const p = pass(a + (rng.uniform() < 0.5 ? -1 : 1) * 90, 15, 4, rate, 60, 12, 4, rng.uniform() < 0.5 ? 1 : -1);
     const passer = { name: 'passer', path: p.path, signal: signalOf(pick(rng, ['broadband', 'high-sweep', 'low-harmonic'] as const), rng), level: { dbfs_at_array: -26 }, calls: calls(rng, 4.2, 4 + p.durationS) };
-    const scene = sceneOf(array, dur, 900 + i, [chorus('chorus-a', a, 450 + 200 * rng.uniform(), 0.5), chorus('chorus-b', b, 700 + 300 * rng.uniform(), 1.1), passer], -50);
+    const scene = sceneOf(array, dur, 900 + i, [chorus('chorus-a', a, 450 + 200 * rng.uniform(), 0.5), chorus('chorus-b', b, 700 + 300 * rng.uniform(), 1.1), passer], -50, rateHz);
     for (const cRatio of quick ? [1] : [1, 1.01, 0.98]) {
       cells.push({
         id: `cho${String(i + 1).padStart(2, '0')}${cRatio === 1 ? '' : cRatio > 1 ? 'p1' : 'm2'}`,
@@ -311,13 +315,15 @@ export function motionMatrixCli(argv: readonly string[]): number {
   let json: string | null = null;
   let only: string[] = [];
   let seed = 1313;
+  let rateHz = 48000;
   for (let i = 0; i < argv.length; i++) {
     if (argv[i] === '--set') set.push(argv[++i] ?? '');
     else if (argv[i] === '--json') json = argv[++i] ?? null;
     else if (argv[i] === '--cells') only = (argv[++i] ?? '').split(',');
     else if (argv[i] === '--seed') seed = Number(argv[++i]);
+    else if (argv[i] === '--rate') rateHz = Number(argv[++i]);
     else if (argv[i] !== '--quick') {
-      console.error(`motion-matrix: unknown argument ${argv[i]} (give --quick, --cells ID,..., --seed N, --json FILE, --set flag=value with a scan flag name)`);
+      console.error(`motion-matrix: unknown argument ${argv[i]} (give --quick, --cells ID,..., --seed N, --rate HZ, --json FILE, --set flag=value with a scan flag name)`);
       return 2;
     }
   }
@@ -325,18 +331,22 @@ export function motionMatrixCli(argv: readonly string[]): number {
     console.error('motion-matrix: --seed takes an integer (1313 is the matrix the figures in the notes use; others are held-out draws)');
     return 2;
   }
+  if (!Number.isInteger(rateHz) || rateHz < 8000 || rateHz > 192000) {
+    console.error('motion-matrix: --rate takes a sample rate in Hz from 8000 to 192000 (48000 unless given)');
+    return 2;
+  }
   if (set.some((s) => !/^[a-z-]+=.+$/.test(s))) {
     console.error('motion-matrix: --set takes a scan flag and value, e.g. --set rate-wander=5');
     return 2;
   }
-  const cells = motionCells(quick, seed).filter((c) => only.length === 0 || only.some((o) => c.id.startsWith(o)));
+  const cells = motionCells(quick, seed, rateHz).filter((c) => only.length === 0 || only.some((o) => c.id.startsWith(o)));
   const results: CellResult[] = [];
   cells.forEach((c, i) => {
     if (process.stderr.isTTY) process.stderr.write(`\r\x1b[K${i + 1}/${cells.length} ${c.id}`);
     results.push(runCell(c, set));
   });
   if (process.stderr.isTTY) process.stderr.write('\r\x1b[K');
-  console.log([`settings: ${set.length ? set.join(' ') : 'defaults'}`, ...formatMotion(results)].join('\n'));
+  console.log([`settings: ${set.length ? set.join(' ') : 'defaults'}${rateHz === 48000 ? '' : `, scenes at ${rateHz} Hz`}`, ...formatMotion(results)].join('\n'));
   if (json) writeFileSync(json, JSON.stringify(results, null, 1));
   return 0;
 }
