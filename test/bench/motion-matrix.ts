@@ -100,9 +100,14 @@ const RATES = [10, 25, 50, 80] as const;
 const KINDS: readonly CallKind[] = ['broadband', 'low-harmonic', 'high-sweep', 'high-band'];
 
 function sceneOf(array: string, durationS: number, seed: number, sources: unknown[], windDbfs: number | null, rateHz: number): Record<string, unknown> {
-  // Below 48 kHz a noise call's top is capped where the simulator allows it (0.45 x the rate).
+  // Below 48 kHz a call's top is capped where the simulator allows it (0.45 x the rate): a noise
+  // band's upper edge lowered, harmonics above it dropped.
   const top = Math.floor(0.45 * rateHz);
-  for (const src of sources as { signal: { high_hz?: number } }[]) if (src.signal.high_hz !== undefined && src.signal.high_hz > top) src.signal.high_hz = top;
+  for (const { signal: sig } of sources as { signal: { high_hz?: number; harmonics?: number[]; f0_hz?: number; start_hz?: number; end_hz?: number } }[]) {
+    if (sig.high_hz !== undefined && sig.high_hz > top) sig.high_hz = top;
+    const f = Math.max(sig.f0_hz ?? 0, sig.start_hz ?? 0, sig.end_hz ?? 0);
+    if (sig.harmonics !== undefined) sig.harmonics = sig.harmonics.filter((_, k) => (k + 1) * f <= top);
+  }
   return {
     sample_rate_hz: rateHz,
     duration_s: Math.round(durationS * 100) / 100,
