@@ -37,6 +37,7 @@ import { scoreTracks, type SourceCompleteness, type TrackScores } from '../../sr
 import { indexTruth, parseTruth, TRUTH_STEP_S } from '../../src/accuracy/truth.js';
 import type { EventRecord } from '../../src/records/record-types.js';
 import { makeRng, type Rng } from '../../src/sim/rng.js';
+import { MAX_SIGNAL_FRACTION } from '../../src/sim/scene.js';
 
 const BIN = fileURLToPath(new URL('../../dist/cli/main.js', import.meta.url));
 const DEG = Math.PI / 180;
@@ -100,9 +101,9 @@ const RATES = [10, 25, 50, 80] as const;
 const KINDS: readonly CallKind[] = ['broadband', 'low-harmonic', 'high-sweep', 'high-band'];
 
 function sceneOf(array: string, durationS: number, seed: number, sources: unknown[], windDbfs: number | null, rateHz: number): Record<string, unknown> {
-  // Below 48 kHz a call's top is capped where the simulator allows it (0.45 x the rate): a noise
-  // band's upper edge lowered, harmonics above it dropped.
-  const top = Math.floor(0.45 * rateHz);
+  // Below 48 kHz a call's top is capped where the simulator allows it (MAX_SIGNAL_FRACTION x the
+  // rate): a noise band's upper edge lowered, harmonics above it dropped.
+  const top = Math.floor(MAX_SIGNAL_FRACTION * rateHz);
   for (const { signal: sig } of sources as { signal: { high_hz?: number; harmonics?: number[]; f0_hz?: number; start_hz?: number; end_hz?: number } }[]) {
     if (sig.high_hz !== undefined && sig.high_hz > top) sig.high_hz = top;
     const f = Math.max(sig.f0_hz ?? 0, sig.start_hz ?? 0, sig.end_hz ?? 0);
