@@ -19,8 +19,10 @@
  *    last supported, still; REST_DRIFT_DEG_S), and a mover's up to TREND_MAX_S at its trend
  *    (where its lifetime drift carries it: TREND_SPAN_S), whichever is cheapest, and one whose
  *    lifetime drift is small coasts there (STILL_DRIFT_DEG_S); a candidate in another band than the
- *    track's calls (BAND_APART_OCT) is outside every gate of that track; a settled track is
- *    gated at its home too, and at its prediction only within SETTLED_REACH_DEG of its home;
+ *    track's calls (BAND_APART_OCT) is outside every gate of that track, and one outside a
+ *    settled track's own, tighter band (OWN_BAND_SPREADS) is outside its gates off its home and
+ *    only its last choice at its home; a settled track is gated at its home too, and at its
+ *    prediction only within SETTLED_REACH_DEG of its home;
  *    a candidate whose hop confidence x score is below minConfidence is ignored, and so is
  *    every candidate of a hop below the event-leave SNR (sound at the noise floor, such as
  *    coherent wind between calls, neither moves nor starts a track);
@@ -295,6 +297,39 @@ const BAND_APART_OCT = 1.5;
 const BAND_APART_NARROW_OCT = 1.2;
 const NARROW_SPREAD_OCT = 0.35;
 const SIGNATURE_HOPS = 10;
+/**
+ * A settled track keeps its own band as well: a candidate heard alone whose centre lies more
+ * than max(OWN_BAND_MIN_OCT, OWN_BAND_SPREADS x the standard deviation of the track's lone
+ * hops' log2 centres) octaves from their mean is another caller's. Outside the track's home
+ * (its gate there) it does not join the track, and may start a track of its own
+ * (withinAnyGate); within the home the track takes it only as a last choice (LAST_CHOICE_COST:
+ * when no other track gates it), because a chorus' own calls read that far off at their onsets
+ * and tails (a pulsed chorus centred at 1.1 kHz read 570-610 Hz as each call faded, draw 11
+ * cho01) and where another caller's bands blend into a lone reading (2.6 -> 1.85 kHz, draw 99
+ * cho01): kept out at the home too, 23 draws' choruses took 34 -> 49 id switches. A chorus'
+ * lone hops spread by 0.02-0.1 octave between such hops, so the fixed BAND_APART_OCT (1.5, a
+ * talker's vowels and hisses) and BAND_APART_NARROW_OCT (1.2) let a passer 0.7 octave from a
+ * chorus (596 Hz tone against a pulsed 820 Hz one: centres 1.1 and 1.8 kHz) join the chorus'
+ * track from its first call, 6 deg beside the home (motion matrix draw 555 cho02 at its three
+ * speeds of sound: the chorus' track 79 % pure; test/accuracy/motion-cells.test.ts). Chosen on
+ * the motion matrix (test/bench/motion-matrix.ts; choruses of 23 draws, sources under 80 % on
+ * their main track / id switches / tracks holding two; cells outside the targets): before 26 /
+ * 34 / 11, 28 cells; kept out everywhere, floor 0.4 octave, 28 / 216 / 7 (a chorus' first call
+ * gave a spread of 0.02 and its next calls' tails were kept out) and for every track, every
+ * family 100 / 320 / 23, 155 cells (from 81 / 72 / 21, 84); kept out of settled tracks
+ * everywhere, floor 0.4 23 / 120 / 8, 48 cells, floor 0.6 18 / 49 / 5, 28 cells; off the home
+ * alone, floor 0.6, 24 / 39 / 11, 26 cells; as here 18 / 33 / 8, 23 cells (no chorus cell worse;
+ * passes and crossings every cell as before: all 81 / 72 / 21, 84 -> 73 / 71 / 18, 79). Ten
+ * further draws (333..1414) 56 / 55 / 15, 60 -> 53 / 55 / 15, 57; at 16 kHz (--rate 16000) 23
+ * draws 114 / 113 / 39, 117 -> 110 / 115 / 31, 113 (draw 55 cho02: the passer 71 -> 88 % on its
+ * own track but 1 -> 5 id switches, its calls on the home going to the chorus' track while its
+ * own could not pass through, PASSING_S), ten further 48 / 47 / 10, 49 -> 45 / 49 / 10, 49. The
+ * accuracy matrix: identical output.
+ */
+const OWN_BAND_SPREADS = 4;
+const OWN_BAND_MIN_OCT = 0.6;
+/** The assignment cost of a candidate a track takes only when no other track can (negative: still a match, assignment.ts). */
+const LAST_CHOICE_COST = -1e-3;
 /**
  * A hop whose own spectra agree with its answer by less than this many standard deviations of
  * incoherent noise's (the analysis' freshZ) holds only the memory of a call that has ended: for
@@ -974,6 +1009,24 @@ export class Tracker {
   }
 
   /**
+   * Does candidate j (heard alone, with a centre) lie outside settled slot s's own band: more
+   * than max(OWN_BAND_MIN_OCT, OWN_BAND_SPREADS x the spread of the slot's centres) octaves from
+   * their mean (see OWN_BAND_SPREADS)?
+   */
+  private outsideOwnBand(s: number, j: number): boolean {
+    if (this.settled[s] === 0) return false;
+    const logHz = this.sc.candLogHz[j]!;
+    if (logHz !== logHz) return false;
+    const apart = Math.max(OWN_BAND_MIN_OCT, OWN_BAND_SPREADS * this.lifetime.spreadLogHz(s));
+    return Math.abs(logHz - this.lifetime.meanLogHz(s, SIGNATURE_HOPS)) > apart;
+  }
+
+  /** ... and outside its home's gate too: then it is not slot s's at all (OWN_BAND_SPREADS). */
+  private strangerOffHome(s: number, j: number): boolean {
+    return this.settled[s] === 1 && this.homeDistance2(s, j) > this.gate2 && this.outsideOwnBand(s, j);
+  }
+
+  /**
    * On a flat array, is candidate j outside slot s's gate for its elevation alone? When it reads
    * more than FLAT_ELEVATION_GATE_DEG above the track's last supported elevation (wind, and an
    * aliased lobe of a call, read high), or that far below a track near the zenith; one that far
@@ -1165,7 +1218,7 @@ export class Tracker {
     if (this.candHome[j] === 1 && this.settled[s] === 0 && !this.passingThrough(s)) return;
     if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !this.nearZenith(s)) return;
     let cost = Infinity;
-    if (!this.beyondReach(s, j) && this.gate(s, j)) cost = this.d2[0]!;
+    if (!this.beyondReach(s, j) && !this.strangerOffHome(s, j) && this.gate(s, j)) cost = this.d2[0]!;
     if (which === CONFIRMED && this.settled[s] === 0 && this.restGate(s, j) && this.d2[0]! < cost) {
       cost = this.d2[0]!;
       this.lastCostModel = AT_REST;
@@ -1177,6 +1230,8 @@ export class Tracker {
     if (this.settled[s] === 1) {
       const d2 = this.homeDistance2(s, j);
       if (d2 <= this.gate2 && d2 - this.gate2 < cost) cost = d2 - this.gate2;
+      // Outside its own band: the track's only when no other track can take it.
+      if (cost < Infinity && this.outsideOwnBand(s, j)) cost = LAST_CHOICE_COST;
     }
     out[0] = cost;
   }
@@ -1336,7 +1391,7 @@ export class Tracker {
    */
   private withinAnyGate(j: number): boolean {
     for (let s = 0; s < this.size; s++) {
-      if (this.state[s] === FREE || this.dormant[s] === 1 || this.otherBand(s, j)) continue;
+      if (this.state[s] === FREE || this.dormant[s] === 1 || this.otherBand(s, j) || this.strangerOffHome(s, j)) continue;
       if (this.flat && this.nearZenith(s) && this.belowOnFlat(s, j)) continue;
       if (this.gate(s, j, false)) return true;
     }

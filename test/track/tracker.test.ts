@@ -1210,6 +1210,36 @@ describe('a settled chorus of narrow centres and a caller beside it 1.3 octaves 
   });
 });
 
+describe("a settled chorus whose centres barely spread and a caller 7 deg beside it 0.7 octave down (OWN_BAND_SPREADS)", () => {
+  // A chorus at 40 deg, its centre 1.8 kHz within +-1.5 % from hop to hop (about 0.02 octave: a
+  // chorus' lone hops in the motion matrix' draw 555, cho02), calls 0.25 s of every second from
+  // 0.3 s and settles at its home; from 5.75 s a caller 7 deg beside it (outside the home's gate,
+  // 5.25 deg, within the chorus' reach, SETTLED_REACH_DEG), centre 1.1 kHz (0.71 octave down,
+  // inside the fixed 1.2 and 1.5 octave gates), calls 0.1 s of every second in the chorus' pauses
+  // (8 calls). Each hop carries one candidate, with its centre.
+  function run() {
+    const tracker = new Tracker({});
+    const r = feed(tracker, 0.005, 13, (t) => {
+      if (t % 1 >= 0.3 && t % 1 < 0.55) return [{ azimuthDeg: 40, elevationDeg: null, score: 1, centreHz: 1800 * (1 + 0.015 * Math.sin(37 * t)) }];
+      if (t >= 5.7 && t % 1 >= 0.75 && t % 1 < 0.85) return [{ azimuthDeg: 47, elevationDeg: null, score: 1, centreHz: 1100 * (1 + 0.03 * Math.sin(23 * t)) }];
+      return [];
+    });
+    const events = [...r.events, ...tracker.finish()];
+    const chorusTrack = events.find((e) => e.start_s < 0.6)!.track;
+    const newcomer = events.filter((e) => e.start_s % 1 >= 0.7 && e.start_s > 5.5);
+    return { chorusTrack, chorus: events.filter((e) => e.start_s % 1 < 0.6 && e.start_s % 1 >= 0.25), newcomer };
+  }
+
+  it('the caller gets a track of its own: none of its calls on the chorus track, every chorus call on the chorus track', () => {
+    const r = run();
+    console.log(`settled chorus of tight centres and a caller 7 deg beside, 0.7 octave down: chorus events ${r.chorus.length} on tracks ${[...new Set(r.chorus.map((e) => e.track))].join(', ')}; the caller's events ${r.newcomer.length} on tracks ${[...new Set(r.newcomer.map((e) => e.track))].join(', ')}`);
+    expect(r.chorus.length).toBeGreaterThanOrEqual(12);
+    expect(new Set(r.chorus.map((e) => e.track))).toEqual(new Set([r.chorusTrack]));
+    expect(r.newcomer.length).toBeGreaterThanOrEqual(5);
+    expect(r.newcomer.filter((e) => e.track === r.chorusTrack)).toEqual([]);
+  });
+});
+
 describe('watch list (where the analysis should look for a followed caller: src/analysis/watched-directions.ts)', () => {
   const call = (az: number) => (t: number) => (t % 0.6 < 0.12 ? [{ azimuthDeg: az, elevationDeg: null, score: 1 }] : []);
   const list = (tracker: Tracker) => {
