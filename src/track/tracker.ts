@@ -51,8 +51,9 @@
  *    a *settled* confirmed track (followed for at least SETTLED_SPAN_S with a lifetime spread of
  *    at most bearingNoiseDeg: a static chorus) also keeps a home, its lifetime mean, and gates
  *    a candidate by its home as well as by its prediction. A candidate within a settled
- *    track's home starts no new track, and feeds an unsettled track only if that track was
- *    supported outside every home (in azimuth) within the last PASSING_S seconds,
+ *    track's home starts no new track, and feeds an unsettled track only if it lies outside
+ *    the settled track's own band or that track was supported outside every home (in azimuth)
+ *    within the last PASSING_S seconds,
  *    PASSING_MOVER_S for a track moving at PASSING_RATE_DEG_S or faster (a caller passing
  *    through); so a chorus calling again after a pause is re-acquired, and a track whose
  *    caller went quiet on, or stopped at, a chorus' bearing does not carry the chorus off.
@@ -172,7 +173,11 @@ const SETTLED_MAX_RATE_DEG_S = 1;
  * outside it: 875 / 300 / 47.
  */
 const SETTLED_REACH_DEG = 8;
-/** An unsettled track may take a candidate in a settled home this long after its last support outside every home, seconds. */
+/**
+ * An unsettled track may take a candidate in a settled home this long after its last support
+ * outside every home, seconds; at any time one outside the own band of the settled track whose
+ * home holds it (OWN_BAND_SPREADS: no call of that chorus).
+ */
 const PASSING_S = 1;
 /**
  * ... or this long, seconds, while its rate is at least PASSING_RATE_DEG_S: a mover whose
@@ -325,6 +330,14 @@ const SIGNATURE_HOPS = 10;
  * own track but 1 -> 5 id switches, its calls on the home going to the chorus' track while its
  * own could not pass through, PASSING_S), ten further 48 / 47 / 10, 49 -> 45 / 49 / 10, 49. The
  * accuracy matrix: identical output.
+ * Such a candidate within a home is open to an unsettled track at any time, not only while that
+ * one passes through (PASSING_S; candHomeOwn): a passer whose calls sounded on a chorus' home for
+ * more than a second had them taken by the chorus' track as its last choice (draw 55 cho02 at its
+ * three speeds of sound: the passer 2 id switches, a track holding two; now none, the passer 92
+ * -> 96 %). Motion matrix: 48 kHz, 23 draws 73 / 71 / 18, 79 -> 73 / 65 / 15, 76 (only those three
+ * cells changed); ten further 53 / 55 / 15, 57 -> 51 / 53 / 13, 56 (a crossing, 777 crs06, whose
+ * slow caller had settled: both callers 50 and 69 % -> 92 and 100 %); at 16 kHz the same figures
+ * (55 cho02: the passer 88 -> 96 %). The accuracy matrix: identical output.
  */
 const OWN_BAND_SPREADS = 4;
 const OWN_BAND_MIN_OCT = 0.6;
@@ -483,6 +496,8 @@ export class Tracker {
   private readonly chosenModel: Uint8Array;
   /** Per candidate of the hop: 1 when it lies within the home gate of a settled track. */
   private readonly candHome: Uint8Array;
+  /** Per candidate: 1 when it lies within the home gate of a settled track and within that track's own band (OWN_BAND_SPREADS). */
+  private readonly candHomeOwn: Uint8Array;
   /** The same in azimuth alone (elevation not asked): a support outside every such home is free. */
   private readonly candHomeAz: Uint8Array;
   /** Per candidate of the hop: 1 when another caller's candidate lies within CROWD_DEG of it (markCrowded). */
@@ -579,6 +594,7 @@ export class Tracker {
     this.costModel = new Uint8Array(n * c);
     this.chosenModel = new Uint8Array(n);
     this.candHome = new Uint8Array(c);
+    this.candHomeOwn = new Uint8Array(c);
     this.candHomeAz = new Uint8Array(c);
     this.candCrowded = new Uint8Array(c);
     this.gate2 = o.gateSigma * o.gateSigma;
@@ -852,6 +868,7 @@ export class Tracker {
       this.candTaken[j] = 0;
       this.candGated[j] = 0;
       this.candHome[j] = 0;
+      this.candHomeOwn[j] = 0;
       this.candHomeAz[j] = 0;
       if (!usable) continue;
       sc.candAz[j] = this.sideDeg === null ? az : foldedOffsetDeg(az, this.sideDeg);
@@ -865,7 +882,10 @@ export class Tracker {
       sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, conf * c.score));
       for (let s = 0; s < this.size; s++) {
         if (this.settled[s] === 0 || this.otherBand(s, j)) continue;
-        if (this.homeDistance2(s, j) <= this.gate2) this.candHome[j] = 1;
+        if (this.homeDistance2(s, j) <= this.gate2) {
+          this.candHome[j] = 1;
+          if (!this.outsideOwnBand(s, j)) this.candHomeOwn[j] = 1;
+        }
         if (this.homeAzimuthDistance2(s, j) <= this.gate2) this.candHomeAz[j] = 1;
       }
     }
@@ -1215,7 +1235,7 @@ export class Tracker {
     // One heard only under a louder caller does not confirm a track either; an alias goes only to a confirmed track that takes aliases.
     if (which !== CONFIRMED && this.candFirm[j] === 0) return;
     if (this.candAlias[j]! >= 0 && (which !== CONFIRMED || !this.takesAliases(s))) return;
-    if (this.candHome[j] === 1 && this.settled[s] === 0 && !this.passingThrough(s)) return;
+    if (this.candHomeOwn[j] === 1 && this.settled[s] === 0 && !this.passingThrough(s)) return;
     if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !this.nearZenith(s)) return;
     let cost = Infinity;
     if (!this.beyondReach(s, j) && !this.strangerOffHome(s, j) && this.gate(s, j)) cost = this.d2[0]!;

@@ -1240,6 +1240,39 @@ describe("a settled chorus whose centres barely spread and a caller 7 deg beside
   });
 });
 
+describe("a slow passer 0.7 octave from a chorus crossing the chorus' home for 2.6 s (PASSING_S and the own band)", () => {
+  // The chorus of the test above (40 deg, centre 1.8 kHz); from 5.7 s a caller at 55 deg moving
+  // at -4 deg/s (too slow for PASSING_MOVER_S), centre 1.1 kHz, calling 0.1 s of every 0.5 s in
+  // the chorus' pauses: inside the chorus' home (5.25 deg either side) from 8.1 to 10.8 s, more
+  // than PASSING_S after its last call outside it.
+  function run() {
+    const tracker = new Tracker({});
+    const passerAz = (t: number) => 55 - 4 * (t - 5.7);
+    const r = feed(tracker, 0.005, 14, (t) => {
+      if (t % 1 >= 0.3 && t % 1 < 0.55) return [{ azimuthDeg: 40, elevationDeg: null, score: 1, centreHz: 1800 * (1 + 0.015 * Math.sin(37 * t)) }];
+      if (t >= 5.7 && t % 0.5 >= 0.2 && t % 0.5 < 0.3) return [{ azimuthDeg: passerAz(t), elevationDeg: null, score: 1, centreHz: 1100 * (1 + 0.03 * Math.sin(23 * t)) }];
+      return [];
+    });
+    const events = [...r.events, ...tracker.finish()];
+    const chorusTrack = events.find((e) => e.start_s < 0.6)!.track;
+    // Calls start at 0.3 s past each second (the chorus) and 0.2 s past each half second (the passer).
+    const passer = events.filter((e) => e.start_s > 5.5 && Math.abs((e.start_s % 0.5) - 0.2) < 0.03);
+    return { chorusTrack, chorus: events.filter((e) => Math.abs((e.start_s % 1) - 0.3) < 0.03), passer };
+  }
+
+  it("every call of the passer on one track of its own, also those on the chorus' home", () => {
+    const r = run();
+    const inHome = r.passer.filter((e) => Math.abs(e.azimuth_deg - 40) < 5);
+    console.log(`slow passer through a chorus' home: chorus events ${r.chorus.length} on tracks ${[...new Set(r.chorus.map((e) => e.track))].join(', ')}; the passer's ${r.passer.length} (${inHome.length} within 5 deg of the home) on tracks ${[...new Set(r.passer.map((e) => e.track))].join(', ')}`);
+    expect(inHome.length).toBeGreaterThanOrEqual(4);
+    expect(new Set(r.chorus.map((e) => e.track))).toEqual(new Set([r.chorusTrack]));
+    expect(r.chorus.length).toBeGreaterThanOrEqual(13);
+    expect(r.passer.length).toBeGreaterThanOrEqual(16);
+    expect(new Set(r.passer.map((e) => e.track)).size).toBe(1);
+    expect(r.passer.filter((e) => e.track === r.chorusTrack)).toEqual([]);
+  });
+});
+
 describe('watch list (where the analysis should look for a followed caller: src/analysis/watched-directions.ts)', () => {
   const call = (az: number) => (t: number) => (t % 0.6 < 0.12 ? [{ azimuthDeg: az, elevationDeg: null, score: 1 }] : []);
   const list = (tracker: Tracker) => {
