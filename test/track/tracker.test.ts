@@ -1183,93 +1183,69 @@ function feed(tracker: Tracker, t0: number, seconds: number, cands: (t: number) 
   return { events, ids };
 }
 
-describe('a settled chorus of narrow centres and a caller beside it 1.3 octaves up (BAND_APART_NARROW_OCT)', () => {
-  // A chorus at 40 deg, its centre 1 kHz on every hop, calls 0.25 s of every second from 0.3 s
-  // and settles at its home; from 5.75 s a caller 4 deg beside it, centre 2.5 kHz (1.32 octaves
-  // up), calls 0.1 s of every second in the chorus' pauses (8 calls). Each hop carries one
-  // candidate, with its centre.
-  function run() {
-    const tracker = new Tracker({});
-    const r = feed(tracker, 0.005, 13, (t) => {
-      if (t % 1 >= 0.3 && t % 1 < 0.55) return [{ azimuthDeg: 40, elevationDeg: null, score: 1, centreHz: 1000 }];
-      if (t >= 5.7 && t % 1 >= 0.75 && t % 1 < 0.85) return [{ azimuthDeg: 44, elevationDeg: null, score: 1, centreHz: 2500 }];
-      return [];
-    });
-    const events = [...r.events, ...tracker.finish()];
-    const chorusTrack = events.find((e) => e.start_s < 0.6)!.track;
-    const newcomer = events.filter((e) => e.start_s % 1 >= 0.7 && e.start_s > 5.5);
-    return { chorusTrack, chorus: events.filter((e) => e.start_s % 1 < 0.6 && e.start_s % 1 >= 0.25), newcomer };
-  }
+type Candidates = { azimuthDeg: number; elevationDeg: null; score: number; centreHz: number }[];
+/**
+ * A chorus at 40 deg calling 0.25 s of every second from 0.3 s (its centre chorusHz, varying by
+ * +-wobble from hop to hop), settling at its home, and from 5.7 s another caller's candidates,
+ * other(t), in its pauses; each hop carries one candidate with its centre. Returns the chorus'
+ * track, the events that start with a chorus call, and the other events from 5.5 s on.
+ */
+function chorusAndCaller(seconds: number, chorusHz: number, wobble: number, other: (t: number) => Candidates) {
+  const tracker = new Tracker({});
+  const r = feed(tracker, 0.005, seconds, (t) => {
+    if (t % 1 >= 0.3 && t % 1 < 0.55) return [{ azimuthDeg: 40, elevationDeg: null, score: 1, centreHz: chorusHz * (1 + wobble * Math.sin(37 * t)) }];
+    return t >= 5.7 ? other(t) : [];
+  });
+  const events = [...r.events, ...tracker.finish()];
+  const chorusTrack = events.find((e) => e.start_s < 0.6)!.track;
+  const isChorus = (e: EventRecord) => Math.abs((e.start_s % 1) - 0.3) < 0.03;
+  return { chorusTrack, chorus: events.filter(isChorus), other: events.filter((e) => e.start_s > 5.5 && !isChorus(e)) };
+}
+const tracksOf = (events: EventRecord[]) => [...new Set(events.map((e) => e.track))].join(', ');
 
+describe('a settled chorus of narrow centres and a caller beside it 1.3 octaves up (BAND_APART_NARROW_OCT)', () => {
+  // The chorus centred at 1 kHz on every hop; a caller 4 deg beside it, centre 2.5 kHz (1.32
+  // octaves up), calls 0.1 s of every second from 5.75 s (8 calls).
   it('the caller gets a track of its own: none of its calls on the chorus track', () => {
-    const r = run();
-    console.log(`settled chorus and a caller 1.3 octaves up: chorus events ${r.chorus.length} on tracks ${[...new Set(r.chorus.map((e) => e.track))].join(', ')}; the caller's events ${r.newcomer.length} on tracks ${[...new Set(r.newcomer.map((e) => e.track))].join(', ')}`);
+    const r = chorusAndCaller(13, 1000, 0, (t) => (t % 1 >= 0.75 && t % 1 < 0.85 ? [{ azimuthDeg: 44, elevationDeg: null, score: 1, centreHz: 2500 }] : []));
+    console.log(`settled chorus and a caller 1.3 octaves up: chorus events ${r.chorus.length} on tracks ${tracksOf(r.chorus)}; the caller's events ${r.other.length} on tracks ${tracksOf(r.other)}`);
     expect(new Set(r.chorus.map((e) => e.track))).toEqual(new Set([r.chorusTrack]));
-    expect(r.newcomer.length).toBeGreaterThanOrEqual(5);
-    expect(r.newcomer.filter((e) => e.track === r.chorusTrack)).toEqual([]);
+    expect(r.other.length).toBeGreaterThanOrEqual(5);
+    expect(r.other.filter((e) => e.track === r.chorusTrack)).toEqual([]);
   });
 });
 
-describe("a settled chorus whose centres barely spread and a caller 7 deg beside it 0.7 octave down (OWN_BAND_SPREADS)", () => {
-  // A chorus at 40 deg, its centre 1.8 kHz within +-1.5 % from hop to hop (about 0.02 octave: a
-  // chorus' lone hops in the motion matrix' draw 555, cho02), calls 0.25 s of every second from
-  // 0.3 s and settles at its home; from 5.75 s a caller 7 deg beside it (outside the home's gate,
-  // 5.25 deg, within the chorus' reach, SETTLED_REACH_DEG), centre 1.1 kHz (0.71 octave down,
-  // inside the fixed 1.2 and 1.5 octave gates), calls 0.1 s of every second in the chorus' pauses
-  // (8 calls). Each hop carries one candidate, with its centre.
-  function run() {
-    const tracker = new Tracker({});
-    const r = feed(tracker, 0.005, 13, (t) => {
-      if (t % 1 >= 0.3 && t % 1 < 0.55) return [{ azimuthDeg: 40, elevationDeg: null, score: 1, centreHz: 1800 * (1 + 0.015 * Math.sin(37 * t)) }];
-      if (t >= 5.7 && t % 1 >= 0.75 && t % 1 < 0.85) return [{ azimuthDeg: 47, elevationDeg: null, score: 1, centreHz: 1100 * (1 + 0.03 * Math.sin(23 * t)) }];
-      return [];
-    });
-    const events = [...r.events, ...tracker.finish()];
-    const chorusTrack = events.find((e) => e.start_s < 0.6)!.track;
-    const newcomer = events.filter((e) => e.start_s % 1 >= 0.7 && e.start_s > 5.5);
-    return { chorusTrack, chorus: events.filter((e) => e.start_s % 1 < 0.6 && e.start_s % 1 >= 0.25), newcomer };
-  }
-
+describe('a settled chorus whose centres barely spread and a caller beside it 0.7 octave down (OWN_BAND_SPREADS)', () => {
+  // The chorus centred at 1.8 kHz within +-1.5 % (about 0.02 octave: a chorus' lone hops in the
+  // motion matrix' draw 555, cho02); a caller 7 deg beside it (outside the home's gate, 5.25 deg,
+  // within the chorus' reach, SETTLED_REACH_DEG), centre 1.1 kHz (0.71 octave down, inside the
+  // fixed 1.2 and 1.5 octave gates), calls 0.1 s of every second from 5.75 s (8 calls).
   it('the caller gets a track of its own: none of its calls on the chorus track, every chorus call on the chorus track', () => {
-    const r = run();
-    console.log(`settled chorus of tight centres and a caller 7 deg beside, 0.7 octave down: chorus events ${r.chorus.length} on tracks ${[...new Set(r.chorus.map((e) => e.track))].join(', ')}; the caller's events ${r.newcomer.length} on tracks ${[...new Set(r.newcomer.map((e) => e.track))].join(', ')}`);
+    const r = chorusAndCaller(13, 1800, 0.015, (t) => (t % 1 >= 0.75 && t % 1 < 0.85 ? [{ azimuthDeg: 47, elevationDeg: null, score: 1, centreHz: 1100 * (1 + 0.03 * Math.sin(23 * t)) }] : []));
+    console.log(`settled chorus of tight centres and a caller 7 deg beside, 0.7 octave down: chorus events ${r.chorus.length} on tracks ${tracksOf(r.chorus)}; the caller's events ${r.other.length} on tracks ${tracksOf(r.other)}`);
     expect(r.chorus.length).toBeGreaterThanOrEqual(12);
     expect(new Set(r.chorus.map((e) => e.track))).toEqual(new Set([r.chorusTrack]));
-    expect(r.newcomer.length).toBeGreaterThanOrEqual(5);
-    expect(r.newcomer.filter((e) => e.track === r.chorusTrack)).toEqual([]);
+    expect(r.other.length).toBeGreaterThanOrEqual(5);
+    expect(r.other.filter((e) => e.track === r.chorusTrack)).toEqual([]);
   });
 });
 
 describe("a slow passer 0.7 octave from a chorus crossing the chorus' home for 2.6 s (PASSING_S and the own band)", () => {
-  // The chorus of the test above (40 deg, centre 1.8 kHz); from 5.7 s a caller at 55 deg moving
-  // at -4 deg/s (too slow for PASSING_MOVER_S), centre 1.1 kHz, calling 0.1 s of every 0.5 s in
-  // the chorus' pauses: inside the chorus' home (5.25 deg either side) from 8.1 to 10.8 s, more
-  // than PASSING_S after its last call outside it.
-  function run() {
-    const tracker = new Tracker({});
-    const passerAz = (t: number) => 55 - 4 * (t - 5.7);
-    const r = feed(tracker, 0.005, 14, (t) => {
-      if (t % 1 >= 0.3 && t % 1 < 0.55) return [{ azimuthDeg: 40, elevationDeg: null, score: 1, centreHz: 1800 * (1 + 0.015 * Math.sin(37 * t)) }];
-      if (t >= 5.7 && t % 0.5 >= 0.2 && t % 0.5 < 0.3) return [{ azimuthDeg: passerAz(t), elevationDeg: null, score: 1, centreHz: 1100 * (1 + 0.03 * Math.sin(23 * t)) }];
-      return [];
-    });
-    const events = [...r.events, ...tracker.finish()];
-    const chorusTrack = events.find((e) => e.start_s < 0.6)!.track;
-    // Calls start at 0.3 s past each second (the chorus) and 0.2 s past each half second (the passer).
-    const passer = events.filter((e) => e.start_s > 5.5 && Math.abs((e.start_s % 0.5) - 0.2) < 0.03);
-    return { chorusTrack, chorus: events.filter((e) => Math.abs((e.start_s % 1) - 0.3) < 0.03), passer };
-  }
-
+  // The chorus of the test above; from 5.7 s a caller at 55 deg moving at -4 deg/s (too slow for
+  // PASSING_MOVER_S), centre 1.1 kHz, calling 0.1 s of every 0.5 s in the chorus' pauses: inside
+  // the chorus' home (5.25 deg either side) from 8.1 to 10.8 s, more than PASSING_S after its last
+  // call outside it.
   it("every call of the passer on one track of its own, also those on the chorus' home", () => {
-    const r = run();
-    const inHome = r.passer.filter((e) => Math.abs(e.azimuth_deg - 40) < 5);
-    console.log(`slow passer through a chorus' home: chorus events ${r.chorus.length} on tracks ${[...new Set(r.chorus.map((e) => e.track))].join(', ')}; the passer's ${r.passer.length} (${inHome.length} within 5 deg of the home) on tracks ${[...new Set(r.passer.map((e) => e.track))].join(', ')}`);
+    const passerAz = (t: number) => 55 - 4 * (t - 5.7);
+    const r = chorusAndCaller(14, 1800, 0.015, (t) => (t % 0.5 >= 0.2 && t % 0.5 < 0.3 ? [{ azimuthDeg: passerAz(t), elevationDeg: null, score: 1, centreHz: 1100 * (1 + 0.03 * Math.sin(23 * t)) }] : []));
+    const inHome = r.other.filter((e) => Math.abs(e.azimuth_deg - 40) < 5);
+    console.log(`slow passer through a chorus' home: chorus events ${r.chorus.length} on tracks ${tracksOf(r.chorus)}; the passer's ${r.other.length} (${inHome.length} within 5 deg of the home) on tracks ${tracksOf(r.other)}`);
     expect(inHome.length).toBeGreaterThanOrEqual(4);
-    expect(new Set(r.chorus.map((e) => e.track))).toEqual(new Set([r.chorusTrack]));
     expect(r.chorus.length).toBeGreaterThanOrEqual(13);
-    expect(r.passer.length).toBeGreaterThanOrEqual(16);
-    expect(new Set(r.passer.map((e) => e.track)).size).toBe(1);
-    expect(r.passer.filter((e) => e.track === r.chorusTrack)).toEqual([]);
+    expect(new Set(r.chorus.map((e) => e.track))).toEqual(new Set([r.chorusTrack]));
+    expect(r.other.length).toBeGreaterThanOrEqual(16);
+    expect(new Set(r.other.map((e) => e.track)).size).toBe(1);
+    expect(r.other.filter((e) => e.track === r.chorusTrack)).toEqual([]);
   });
 });
 
