@@ -339,7 +339,8 @@ const SIGNATURE_HOPS = 10;
  * slow caller had settled: both callers 50 and 69 % -> 92 and 100 %); at 16 kHz the same figures
  * (55 cho02: the passer 88 -> 96 %). The accuracy matrix: identical output. With both rules, the
  * floor (choruses, 48 kHz, 23 draws): 0.5 octave 19 / 31 / 5, 21 cells; 0.6 18 / 27 / 5, 20; 0.8
- * 22 / 30 / 8, 24.
+ * 22 / 30 / 8, 24; the spreads: 3 18 / 25 / 5, 20 (but 16 kHz choruses 30 / 48 / 14 -> 30 / 50 /
+ * 14, ten further draws 51 / 53 / 13 -> 50 / 54 / 13: no better than 4), 6 21 / 33 / 8, 23.
  */
 const OWN_BAND_SPREADS = 4;
 const OWN_BAND_MIN_OCT = 0.6;
