@@ -1024,11 +1024,18 @@ export class Tracker {
    * BAND_APART_NARROW_OCT for a settled slot of narrow centres)?
    */
   private otherBand(s: number, j: number): boolean {
-    const logHz = this.sc.candLogHz[j]!;
-    // (a candidate of a hop with several sources carries none)
-    if (logHz !== logHz) return false;
+    const off = this.centreOffsetOct(s, j);
+    if (off !== off) return false;
     const narrow = this.settled[s] === 1 && this.lifetime.spreadLogHz(s) <= NARROW_SPREAD_OCT;
-    return Math.abs(logHz - this.lifetime.meanLogHz(s, SIGNATURE_HOPS)) > (narrow ? BAND_APART_NARROW_OCT : BAND_APART_OCT);
+    return off > (narrow ? BAND_APART_NARROW_OCT : BAND_APART_OCT);
+  }
+
+  /**
+   * Octaves between candidate j's centre and the mean of slot s's (SIGNATURE_HOPS); NaN when
+   * either has none (a candidate of a hop with several sources carries none).
+   */
+  private centreOffsetOct(s: number, j: number): number {
+    return Math.abs(this.sc.candLogHz[j]! - this.lifetime.meanLogHz(s, SIGNATURE_HOPS));
   }
 
   /**
@@ -1038,10 +1045,8 @@ export class Tracker {
    */
   private outsideOwnBand(s: number, j: number): boolean {
     if (this.settled[s] === 0) return false;
-    const logHz = this.sc.candLogHz[j]!;
-    if (logHz !== logHz) return false;
-    const apart = Math.max(OWN_BAND_MIN_OCT, OWN_BAND_SPREADS * this.lifetime.spreadLogHz(s));
-    return Math.abs(logHz - this.lifetime.meanLogHz(s, SIGNATURE_HOPS)) > apart;
+    const off = this.centreOffsetOct(s, j);
+    return off === off && off > Math.max(OWN_BAND_MIN_OCT, OWN_BAND_SPREADS * this.lifetime.spreadLogHz(s));
   }
 
   /** ... and outside its home's gate too: then it is not slot s's at all (OWN_BAND_SPREADS). */
