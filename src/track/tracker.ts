@@ -16,10 +16,11 @@
  *    (azimuth, and elevation unless the array is flat, where a candidate far above the track in
  *    elevation, FLAT_ELEVATION_GATE_DEG, is only kept out: keptOutOnFlat); a confirmed track
  *    that has gone REST_AFTER_S without support is also gated at its resting place (where it was
- *    last supported, still; REST_DRIFT_DEG_S), and a mover's up to TREND_MAX_S at its trend
- *    (where its lifetime drift carries it: TREND_SPAN_S), whichever is cheapest, and one whose
- *    lifetime drift is small coasts there (STILL_DRIFT_DEG_S); a candidate in another band than the
- *    track's calls (BAND_APART_OCT) is outside every gate of that track, and one outside a
+ *    last supported, still; REST_DRIFT_DEG_S; at REST_COST over a prediction's cost), and a
+ *    mover's up to TREND_MAX_S at its trend (where its lifetime drift carries it:
+ *    TREND_SPAN_S), whichever is cheapest, and one whose lifetime drift is small coasts there
+ *    (STILL_DRIFT_DEG_S); a candidate in another band than the track's calls (BAND_APART_OCT)
+ *    is outside every gate of that track, and one outside a
  *    settled track's own, tighter band (OWN_BAND_SPREADS) is outside its gates off its home and
  *    only its last choice at its home; a settled track is gated at its home too, and at its
  *    prediction only within SETTLED_REACH_DEG of its home;
@@ -248,6 +249,21 @@ const REST_DRIFT_DEG_S = 1;
  * resetting passing callers' rates to zero).
  */
 const REST_AFTER_S = 1.5;
+/**
+ * A candidate's cost through a track's resting place (restGate) is this much higher than the
+ * same fit through a prediction (the gate's cost: d^2 - gate^2 plus the log of the variance): the
+ * resting place is a fallback for a caller its filter has lost, and yields to a mover whose
+ * prediction fits about as well. A caller unheard for seconds beside a crossing (masked by its
+ * partner) left its track resting where it was last heard; its partner's next call past that
+ * place fitted the resting place better by 0.2 than its own prediction (2.8 deg behind it), and
+ * the two swapped ids (motion matrix draw 1001, crs02). Motion matrix (sources under 80 % on their
+ * main track / id switches / tracks holding two; cells outside the issue-13 targets), 48 kHz, 23
+ * draws: without 73 / 65 / 15, 76; at 1 71 / 59 / 11, 76; at 2 71 / 57 / 11, 76 (crossings 47 /
+ * 20 / 10 -> 45 / 14 / 6); at 4 71 / 61 / 13, 78. At 2, 16 kHz: 110 / 115 / 31, 113 -> 108 / 105
+ * / 28, 112; ten further draws 51 / 53 / 13, 56 -> 49 / 48 / 12, 53 (16 kHz 45 / 49 / 10, 49 -> 44
+ * / 51 / 9, 49). The accuracy matrix: every hop as before; events per call change in one cell.
+ */
+const REST_COST = 2;
 /**
  * A confirmed track followed for at least STILL_SPAN_S whose lifetime drift (the fitted slope of
  * its bearing over time, direction-sums.ts) is at most STILL_DRIFT_DEG_S is a still caller:
@@ -1247,8 +1263,8 @@ export class Tracker {
     if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !this.nearZenith(s)) return;
     let cost = Infinity;
     if (!this.beyondReach(s, j) && !this.strangerOffHome(s, j) && this.gate(s, j)) cost = this.d2[0]!;
-    if (which === CONFIRMED && this.settled[s] === 0 && this.restGate(s, j) && this.d2[0]! < cost) {
-      cost = this.d2[0]!;
+    if (which === CONFIRMED && this.settled[s] === 0 && this.restGate(s, j) && this.d2[0]! + REST_COST < cost) {
+      cost = this.d2[0]! + REST_COST;
       this.lastCostModel = AT_REST;
     }
     if (trend && this.trendGate(s, j) && this.d2[0]! < cost) {
