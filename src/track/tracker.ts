@@ -1067,7 +1067,7 @@ export class Tracker {
     return off === off && off > Math.max(OWN_BAND_MIN_OCT, OWN_BAND_SPREADS * this.lifetime.spreadLogHz(s));
   }
 
-  /** ... and outside its home's gate too: then it is not slot s's at all (OWN_BAND_SPREADS). */
+  /** ... and outside its home's gate too: then it is not slot s's at all (OWN_BAND_SPREADS; costInto asks the two tests itself). */
   private strangerOffHome(s: number, j: number): boolean {
     return this.settled[s] === 1 && this.homeDistance2(s, j) > this.gate2 && this.outsideOwnBand(s, j);
   }
@@ -1263,9 +1263,13 @@ export class Tracker {
     if (this.candAlias[j]! >= 0 && (which !== CONFIRMED || !this.takesAliases(s))) return;
     if (this.candHomeOwn[j] === 1 && this.settled[s] === 0 && !this.passingThrough(s)) return;
     if (Math.abs(this.sc.candEl[j]!) > ZENITH_DEG && !this.nearZenith(s)) return;
+    // A settled slot's home distance and own band, asked once here (strangerOffHome's test).
+    const settled = this.settled[s] === 1;
+    const homeD2 = settled ? this.homeDistance2(s, j) : Infinity;
+    const ownOut = settled && this.outsideOwnBand(s, j);
     let cost = Infinity;
-    if (!this.beyondReach(s, j) && !this.strangerOffHome(s, j) && this.gate(s, j)) cost = this.d2[0]!;
-    if (which === CONFIRMED && this.settled[s] === 0 && this.restGate(s, j) && this.d2[0]! + REST_COST < cost) {
+    if (!this.beyondReach(s, j) && !(ownOut && homeD2 > this.gate2) && this.gate(s, j)) cost = this.d2[0]!;
+    if (which === CONFIRMED && !settled && this.restGate(s, j) && this.d2[0]! + REST_COST < cost) {
       cost = this.d2[0]! + REST_COST;
       this.lastCostModel = AT_REST;
     }
@@ -1273,11 +1277,10 @@ export class Tracker {
       cost = this.d2[0]!;
       this.lastCostModel = BY_TREND;
     }
-    if (this.settled[s] === 1) {
-      const d2 = this.homeDistance2(s, j);
-      if (d2 <= this.gate2 && d2 - this.gate2 < cost) cost = d2 - this.gate2;
+    if (settled) {
+      if (homeD2 <= this.gate2 && homeD2 - this.gate2 < cost) cost = homeD2 - this.gate2;
       // Outside its own band: the track's only when no other track can take it.
-      if (cost < Infinity && this.outsideOwnBand(s, j)) cost = LAST_CHOICE_COST;
+      if (cost < Infinity && ownOut) cost = LAST_CHOICE_COST;
     }
     out[0] = cost;
   }
