@@ -962,11 +962,26 @@ export class Tracker {
 
   /**
    * Is candidate j inside the gate of slot s? Leaves the assignment cost in d2[0]:
-   * d^2 - gate^2 + ln S - ln S_max per angle (S the innovation variance), i.e. the negative
-   * log-likelihood of the candidate under the track, shifted to stay negative inside the gate
-   * (common practice in nearest-neighbour association, no source). Without the ln S term a
-   * vague track (coasting for seconds) is the cheaper home for a candidate that a sharp
-   * track predicts well, and a chorus or a crossing partner took the other caller's calls.
+   * d^2 - gate^2 per angle plus ln S - ln S_max of the azimuth's (S the innovation variance),
+   * i.e. the negative log-likelihood of the candidate under the track, shifted to stay negative
+   * inside the gate (common practice in nearest-neighbour association, no source). Without the
+   * ln S term a vague track (coasting for seconds) is the cheaper home for a candidate that a
+   * sharp track predicts well, and a chorus or a crossing partner took the other caller's calls.
+   * The elevation's ln S is left out: callers heard together mostly sit at one height, where
+   * the elevation tells them apart by nothing but how lately each track was heard. Two callers
+   * at one height crossing slowly on a tetrahedron (motion matrix draw 2718, crs03): after the
+   * crossing a read 1.7 deg from its own track's prediction (coasting 1.1 s) and 3.6 deg from b's,
+   * but the coasting track's elevation variance (11 against 1.2 deg^2) cost it 0.5 more and b's
+   * track took a's calls (a 44 % complete, b 59 %, both tracks holding both; now 92 and 100 %,
+   * pure; test/accuracy/motion-cells.test.ts). Motion matrix (test/bench/motion-matrix.ts; under
+   * 80 % complete / id switches / tracks holding two; cells outside the targets), 48 kHz, 23
+   * draws: 71 / 57 / 11, 76 -> 69 / 53 / 8, 74 (seven crossing cells changed, all better; choruses
+   * and passes every cell as before); at 16 kHz 108 / 105 / 28, 112 -> 105 / 105 / 26, 111 (six
+   * crossing cells better; 4711 crs06, two low callers at one point, and a pass's first hop on a
+   * ghost track of vague elevation, 555 pas05, worse); ten further draws 49 / 48 / 12, 53 the same,
+   * at 16 kHz 44 / 51 / 9, 49 -> 42 / 51 / 8, 50. The accuracy matrix: identical output. The
+   * elevation's ln S counted only above 30 deg^2 (a ghost of vague elevation still pays): 48 kHz
+   * 69 / 55 / 9, 75, 16 kHz 106 / 103 / 26, 111, no better.
    */
   private gate(s: number, j: number, elevationRule = true): boolean {
     const both = this.loadMeasurement(s, j);
@@ -984,15 +999,12 @@ export class Tracker {
     const sAz = azVar + this.az.io[IO_R]!;
     let d2 = (nu * nu) / sAz;
     let g = this.gate2;
-    let logS = Math.log(sAz);
     if (withEl) {
       const dEl = this.sc.candEl[j]! - el;
-      const sEl = elVar + this.el.io[IO_R]!;
-      d2 += (dEl * dEl) / sEl;
+      d2 += (dEl * dEl) / (elVar + this.el.io[IO_R]!);
       g *= 2;
-      logS += Math.log(sEl);
     }
-    this.d2[0] = d2 - g + logS - (withEl ? 2 : 1) * this.logSMax;
+    this.d2[0] = d2 - g + Math.log(sAz) - this.logSMax;
     return d2 <= g;
   }
 
