@@ -362,6 +362,29 @@ const SIGNATURE_HOPS = 10;
  */
 const OWN_BAND_SPREADS = 4;
 const OWN_BAND_MIN_OCT = 0.6;
+/**
+ * The innovation variance of azimuth (deg^2) below which ln S no longer lowers an unsettled
+ * track's assignment cost (gateAt). A reading's own variance is at least 13.5 deg^2 at the
+ * default --bearing-noise (READING_VARIANCE_SCALE x 3^2), so two tracks heard within the last few
+ * hops (prediction variances of 1-6 deg^2) differ in ln S by how lately each was heard, and
+ * after two callers' bearings crossed, the track that took the last call at the crossing point
+ * kept winning the other caller's calls (motion matrix draw 222, crs01: b 73 % complete with 2
+ * id switches; test/accuracy/motion-cells.test.ts). A settled track keeps the full ln S: its
+ * variance is its home's spread, not how lately it was heard (with the floor for every track, a
+ * chorus' track lost calls to a passer's sharp beside its home: 2027 cho04, 1414 cho04).
+ * Chosen on the motion matrix (under 80 % complete / id switches / tracks holding two; cells
+ * outside the targets), no floor -> this floor: 48 kHz, 23 draws 69 / 53 / 8, 74 -> 65 / 55 /
+ * 8, 71 (crossings 43 / 10 / 3 -> 39 / 10 / 2); 16 kHz 105 / 105 / 26, 111 -> 98 / 99 / 22, 105;
+ * ten further draws 49 / 48 / 12, 53 -> 47 / 40 / 7, 48, at 16 kHz 42 / 51 / 8, 50 -> 44 / 55 /
+ * 11, 53 (1212 crs05: two callers at one point, ids swapped). Summed over the four: 265 / 257 /
+ * 54, 288 -> 254 / 249 / 48, 277. The floor for every track, settled too: 48 kHz 65 / 57 / 9,
+ * 71, 16 kHz 98 / 97 / 22, 105, ten further draws 47 / 46 / 10, 51, at 16 kHz 44 / 59 / 13, 55;
+ * a floor of 30 for every track: 48 kHz 62 / 66 / 10, 71 (choruses 18 / 25 / 5 -> 19 / 35 / 7),
+ * and the accuracy matrix's events per call up in two crossing cells (x13t 1.50 -> 1.70, x15t
+ * 2.78 -> 3.22). The accuracy matrix with this floor: as before but one speech cell, call12t,
+ * 2.11 -> 1.89 events per call.
+ */
+const AZIMUTH_S_FLOOR_DEG2 = 20;
 /** The assignment cost of a candidate a track takes only when no other track can (negative: still a match, assignment.ts). */
 const LAST_CHOICE_COST = -1e-3;
 /**
@@ -982,19 +1005,23 @@ export class Tracker {
    * at 16 kHz 44 / 51 / 9, 49 -> 42 / 51 / 8, 50. The accuracy matrix: identical output. The
    * elevation's ln S counted only above 30 deg^2 (a ghost of vague elevation still pays): 48 kHz
    * 69 / 55 / 9, 75, 16 kHz 106 / 103 / 26, 111, no better.
+   * For an unsettled track the azimuth's S counts from AZIMUTH_S_FLOOR_DEG2 up: below it (a track
+   * heard within the last few hops) it says which track was heard last more than how well each
+   * predicts.
    */
   private gate(s: number, j: number, elevationRule = true): boolean {
     const both = this.loadMeasurement(s, j);
     if (elevationRule && both && this.flat && this.keptOutOnFlat(s, j)) return false;
-    return this.gateAt(j, this.az.angle[s]!, this.az.variance(s), this.el.angle[s]!, this.el.variance(s), both && !this.flat);
+    return this.gateAt(j, this.az.angle[s]!, this.az.variance(s), this.el.angle[s]!, this.el.variance(s), both && !this.flat, this.settled[s] === 1 ? 0 : AZIMUTH_S_FLOOR_DEG2);
   }
 
   /**
    * The gate and cost of gate() for candidate j (its measurement loaded by loadMeasurement)
    * against a track state: azimuth and its variance, elevation and its variance (taking part when
-   * withEl).
+   * withEl), and the floor of the azimuth's innovation variance in ln S (sFloor: 0 for a settled
+   * track, AZIMUTH_S_FLOOR_DEG2 for any other).
    */
-  private gateAt(j: number, az: number, azVar: number, el: number, elVar: number, withEl: boolean): boolean {
+  private gateAt(j: number, az: number, azVar: number, el: number, elVar: number, withEl: boolean, sFloor: number): boolean {
     const nu = this.azimuthOffset(j, az);
     const sAz = azVar + this.az.io[IO_R]!;
     let d2 = (nu * nu) / sAz;
@@ -1004,7 +1031,7 @@ export class Tracker {
       d2 += (dEl * dEl) / (elVar + this.el.io[IO_R]!);
       g *= 2;
     }
-    this.d2[0] = d2 - g + Math.log(sAz) - this.logSMax;
+    this.d2[0] = d2 - g + Math.log(Math.max(sAz, sFloor)) - this.logSMax;
     return d2 <= g;
   }
 
@@ -1039,7 +1066,7 @@ export class Tracker {
   private gateAtPlace(s: number, j: number, az: number, azVar: number, el: number, elVar: number): boolean {
     const both = this.loadMeasurement(s, j);
     if (both && this.flat && this.keptOutOnFlat(s, j)) return false;
-    return this.gateAt(j, az, azVar, el, elVar, both && !this.flat && el === el);
+    return this.gateAt(j, az, azVar, el, elVar, both && !this.flat && el === el, AZIMUTH_S_FLOOR_DEG2);
   }
 
   /** How much the resting place's variance has grown since slot s's last support (REST_DRIFT_DEG_S), degrees squared. */
