@@ -263,7 +263,9 @@ const REST_AFTER_S = 1.5;
  * / 28, 112; ten further draws 51 / 53 / 13, 56 -> 49 / 48 / 12, 53 (16 kHz 45 / 49 / 10, 49 -> 44
  * / 51 / 9, 49). The accuracy matrix: every hop as before; events per call change in one cell.
  * The trend model (trendGate) given the same 2 on top: no better (48 kHz, 22 draws: 67 / 55 / 10
- * -> 70 / 60 / 14).
+ * -> 70 / 60 / 14). The cost stays at most LAST_CHOICE_COST, so a resting place's gate stays as
+ * wide as before (a positive cost is no match); on the matrix (23 draws at 48 and 16 kHz) and the
+ * accuracy matrix that made no difference.
  */
 const REST_COST = 2;
 /**
@@ -560,6 +562,8 @@ export class Tracker {
   private readonly gate2: number;
   /** ln of the largest innovation variance (max uncertainty plus the noisiest measurement): keeps the cost negative inside the gate. */
   private readonly logSMax: number;
+  /** AZIMUTH_S_FLOOR_DEG2, at most exp(logSMax) (options with tiny uncertainties): costs inside the gate stay negative. */
+  private readonly sFloor: number;
   /** Centre of the reported half circle when the array's mirror flips azimuth, else null. */
   private readonly sideDeg: number | null;
   /**
@@ -643,6 +647,7 @@ export class Tracker {
     this.candCrowded = new Uint8Array(c);
     this.gate2 = o.gateSigma * o.gateSigma;
     this.logSMax = Math.log(o.maxUncertaintyDeg * o.maxUncertaintyDeg + (READING_VARIANCE_SCALE * o.bearingNoiseDeg * o.bearingNoiseDeg) / (MIN_SCORE * MIN_COS_ELEVATION * MIN_COS_ELEVATION));
+    this.sFloor = Math.min(AZIMUTH_S_FLOOR_DEG2, Math.exp(this.logSMax));
   }
 
   /** Feed one hop; see TrackUpdate (the returned object is reused by the next call). */
@@ -1012,14 +1017,14 @@ export class Tracker {
   private gate(s: number, j: number, elevationRule = true): boolean {
     const both = this.loadMeasurement(s, j);
     if (elevationRule && both && this.flat && this.keptOutOnFlat(s, j)) return false;
-    return this.gateAt(j, this.az.angle[s]!, this.az.variance(s), this.el.angle[s]!, this.el.variance(s), both && !this.flat, this.settled[s] === 1 ? 0 : AZIMUTH_S_FLOOR_DEG2);
+    return this.gateAt(j, this.az.angle[s]!, this.az.variance(s), this.el.angle[s]!, this.el.variance(s), both && !this.flat, this.settled[s] === 1 ? 0 : this.sFloor);
   }
 
   /**
    * The gate and cost of gate() for candidate j (its measurement loaded by loadMeasurement)
    * against a track state: azimuth and its variance, elevation and its variance (taking part when
    * withEl), and the floor of the azimuth's innovation variance in ln S (sFloor: 0 for a settled
-   * track, AZIMUTH_S_FLOOR_DEG2 for any other).
+   * track, this.sFloor for any other).
    */
   private gateAt(j: number, az: number, azVar: number, el: number, elVar: number, withEl: boolean, sFloor: number): boolean {
     const nu = this.azimuthOffset(j, az);
@@ -1066,7 +1071,7 @@ export class Tracker {
   private gateAtPlace(s: number, j: number, az: number, azVar: number, el: number, elVar: number): boolean {
     const both = this.loadMeasurement(s, j);
     if (both && this.flat && this.keptOutOnFlat(s, j)) return false;
-    return this.gateAt(j, az, azVar, el, elVar, both && !this.flat && el === el, AZIMUTH_S_FLOOR_DEG2);
+    return this.gateAt(j, az, azVar, el, elVar, both && !this.flat && el === el, this.sFloor);
   }
 
   /** How much the resting place's variance has grown since slot s's last support (REST_DRIFT_DEG_S), degrees squared. */
@@ -1309,7 +1314,8 @@ export class Tracker {
     let cost = Infinity;
     if (!this.beyondReach(s, j) && !(ownOut && homeD2 > this.gate2) && this.gate(s, j)) cost = this.d2[0]!;
     if (which === CONFIRMED && !settled && this.restGate(s, j) && this.d2[0]! + REST_COST < cost) {
-      cost = this.d2[0]! + REST_COST;
+      // still a match inside the gate (a positive cost is none: assignment.ts)
+      cost = Math.min(this.d2[0]! + REST_COST, LAST_CHOICE_COST);
       this.lastCostModel = AT_REST;
     }
     if (trend && this.trendGate(s, j) && this.d2[0]! < cost) {
