@@ -175,13 +175,20 @@ const CHANGED_AGREE = 0.9;
  * callers' phases differ little: two harmonic tones (451 and 473 Hz) 16 deg apart on a 10 cm
  * square differ by about 0.2 rad per pair (cosine 0.98, over CHANGED_AGREE) but by 60-80 us, and
  * the caller that started as the other's call ended was read 9-12 deg towards it for its whole
- * call (motion matrix draw 222, crs04). 40 us is a tenth of a 10 cm square's widest delay.
+ * call (motion matrix draw 222, crs04: b 12 -> 38 % complete with the rule; the bins the two
+ * share, which do not rise, still hold the other's phase, and forgetting those too, or bins
+ * whose power fell, cost rooms 1-2 points within 5 deg and the motion matrix more id switches).
+ * 40 us is a tenth of a 10 cm square's widest delay.
  * Chosen on the motion matrix, 23 draws at 48 kHz (callers under 80 % complete / id switches /
  * tracks holding two; cells outside the targets): without 65 / 55 / 8; 71, 40 us 57 / 48 / 8; 62,
  * a share of the array's widest delay instead: 0.06 59 / 65 / 9; 68, 0.1 56 / 56 / 10; 64, 0.16
  * 57 / 48 / 10; 62; at 16 kHz without 98 / 99 / 22; 105, 40 us 93 / 99 / 21; 100, 0.16 of the
- * widest delay 92 / 101 / 21; 101. The accuracy matrix: every family within 0.1 point within 5
- * deg and 0.01 events per call of what it was.
+ * widest delay 92 / 101 / 21; 101; ten further draws (333..1414) 47 / 40 / 7; 48 -> 46 / 44 / 8;
+ * 48 (crossings 18 -> 14 cells out, choruses 18 -> 22: draw 999 cho03, a passer at 571 Hz
+ * calling through a chorus at 574, read at blends of the two once its rising bins forgot the
+ * chorus' phase), at 16 kHz 44 / 55 / 11; 53 -> 39 / 54 / 11; 47; at 60 us on the 23 draws
+ * 59 / 51 / 9; 65. The accuracy matrix: every family within 0.1 point within 5 deg and 0.01
+ * events per call of what it was.
  */
 const CHANGED_DELAY_S = 40e-6;
 /**
