@@ -227,6 +227,15 @@ describe('motion cells: track purity, completeness and id switches', () => {
     const t = cell(name).tracks.find((x) => x.track === src(name, source).track)!;
     return t.purity;
   };
+  /** The targets in a cell: each caller on a pure main track (95 %) with 80 % of its calls and at most one id switch; no track of two or more events holds two sources. */
+  const meetsTargets = (name: string, callers: string[]): void => {
+    for (const who of callers) {
+      expect(purityOf(name, who), who).toBeGreaterThanOrEqual(0.95);
+      expect(src(name, who).completeness, who).toBeGreaterThanOrEqual(0.8);
+      expect(src(name, who).idSwitches, who).toBeLessThanOrEqual(1);
+    }
+    expect(cell(name).tracks.filter((t) => t.attributed >= 2 && t.purity < 0.95)).toEqual([]);
+  };
 
   // Measured with the tracker of this commit and the one before the settled homes alike.
   it('a broadband caller at ~10 deg/s: one pure track with all its calls (100 % / 100 %, no switch)', () => {
@@ -347,13 +356,7 @@ describe('motion cells: track purity, completeness and id switches', () => {
   // ln S in the assignment cost (src/track/tracker.ts, gateAt) measured: a 92 %, b 100 %, no
   // switch, both tracks 100 % pure.
   it('two callers at one height crossing slowly: each keeps its id, no track holds both', () => {
-    const name = CELLS[10]!.name;
-    for (const who of ['a', 'b']) {
-      expect(purityOf(name, who), who).toBeGreaterThanOrEqual(0.95);
-      expect(src(name, who).completeness, who).toBeGreaterThanOrEqual(0.8);
-      expect(src(name, who).idSwitches, who).toBeLessThanOrEqual(1);
-    }
-    expect(cell(name).tracks.filter((t) => t.attributed >= 2 && t.purity < 0.95)).toEqual([]);
+    meetsTargets(CELLS[10]!.name, ['a', 'b']);
   });
 
   // At the crossing the track that had just taken a call was sharper (prediction variance 1-6
@@ -376,13 +379,7 @@ describe('motion cells: track purity, completeness and id switches', () => {
   // With the phase difference also taken as a delay (CHANGED_DELAY_S) measured: a 90 %, b 100 %,
   // no switch, both tracks pure.
   it('a low harmonic caller crossing a broadband one: each keeps at least 80 % of its calls on a pure track', () => {
-    const name = CELLS[12]!.name;
-    for (const who of ['a', 'b']) {
-      expect(purityOf(name, who), who).toBeGreaterThanOrEqual(0.95);
-      expect(src(name, who).completeness, who).toBeGreaterThanOrEqual(0.8);
-      expect(src(name, who).idSwitches, who).toBeLessThanOrEqual(1);
-    }
-    expect(cell(name).tracks.filter((t) => t.attributed >= 2 && t.purity < 0.95)).toEqual([]);
+    meetsTargets(CELLS[12]!.name, ['a', 'b']);
   });
 
   // The passer's call on chorus-b's home was read at its bearing as an alias of a lobe 70 deg up,
