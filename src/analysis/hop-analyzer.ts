@@ -803,8 +803,9 @@ export class HopAnalyzer {
   /**
    * Of the bins whose rise begins this hop (list[0 .. n)), those standing CHANGED_SNR over their
    * noise floor whose fresh cross-spectra agree with their memory by less than CHANGED_AGREE,
-   * or whose phases stand CHANGED_DELAY_S from its as delays, forget it (cross-spectrum and weight), where single hops are trusted (TRUST_MIN, its running
-   * mean updated here); the others are left in list[0 .. returned count).
+   * or whose phases, taken as delays, stand CHANGED_DELAY_S from the memory's, forget it
+   * (cross-spectrum and weight), where single hops are trusted (TRUST_MIN, its running mean
+   * updated here); the others are left in list[0 .. returned count).
    */
   private forgetChangedBins(list: Int32Array, n: number): number {
     const learn = this.prevValid && n >= TRUST_BINS;

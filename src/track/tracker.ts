@@ -1657,12 +1657,14 @@ export class Tracker {
  * %, 444 cho02 93 -> 100 %); the accuracy matrix identical.
  */
 function loneLogHz(cands: readonly DirectionCandidate[], j: number): number {
-  const of = (k: number): number => {
-    const a = cands[k]!.aliasOf;
-    return a !== undefined && a >= 0 && a < cands.length ? a : k;
-  };
-  const caller = of(j);
-  for (let k = 0; k < cands.length; k++) if (of(k) !== caller) return NaN;
+  const caller = callerOf(cands, j);
+  for (let k = 0; k < cands.length; k++) if (callerOf(cands, k) !== caller) return NaN;
   const hz = cands[caller]!.centreHz;
   return hz !== undefined && hz > 0 ? Math.log2(hz) : NaN;
+}
+
+/** The candidate whose sound candidate k is: the one it is an alias of, else k itself. */
+function callerOf(cands: readonly DirectionCandidate[], k: number): number {
+  const a = cands[k]!.aliasOf;
+  return a !== undefined && a >= 0 && a < cands.length ? a : k;
 }
