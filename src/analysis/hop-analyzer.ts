@@ -191,8 +191,9 @@ const CHANGED_AGREE = 0.9;
  * draws (333..1414) 47 / 40 / 7; 48 -> 46 / 44 / 8; 48 (crossings 18 -> 14 cells out, choruses 18
  * -> 22: draw 999 cho03, a passer at 571 Hz calling through a chorus at 574, read at blends of the
  * two once its rising bins forgot the chorus' phase), at 16 kHz 44 / 55 / 11; 53 -> 39 / 54 / 11;
- * 47. The accuracy matrix: every family within 0.1 point within 5 deg and 0.01 events per call
- * of what it was.
+ * 47; at 50 us (with the tracker's loneLogHz) 47 / 46 / 10; 49 and 42 / 54 / 10; 49. The
+ * accuracy matrix: every family within 0.1 point within 5 deg and 0.01 events per call of what
+ * it was.
  */
 const CHANGED_DELAY_S = 50e-6;
 /**
