@@ -368,8 +368,8 @@ export class HopAnalyzer {
   /** Per rising bin and pair, its fresh cross-spectrum (freshCrossOf): real, imaginary. */
   private readonly riseFreshRe: Float64Array;
   private readonly riseFreshIm: Float64Array;
-  /** Per bin, the square of the delay one radian of phase stands for there, (1 / (2 pi f))^2 in s^2 (forgetChangedBins). */
-  private readonly radianDelaySq: Float64Array;
+  /** Per bin, the pairs' summed squared phase difference (rad^2) that stands for CHANGED_DELAY_S root mean square there: P (2 pi f CHANGED_DELAY_S)^2 (forgetChangedBins). */
+  private readonly changedPhaseSq: Float64Array;
   /** Scratch: the bins forgetQuietBins() scales this hop. */
   private readonly quietBins: Int32Array;
   /** The pairs' cross-spectrum addresses in the kernels' memory (forgetQuietBins; null on the JavaScript path). */
@@ -529,8 +529,8 @@ export class HopAnalyzer {
     this.riseW = new Float64Array(riseBins);
     this.riseFreshRe = new Float64Array(riseBins * model.pairs.length);
     this.riseFreshIm = new Float64Array(riseBins * model.pairs.length);
-    this.radianDelaySq = new Float64Array(riseBins);
-    for (let k = 1; k < riseBins; k++) this.radianDelaySq[k] = (n / (2 * Math.PI * k * sampleRate)) ** 2;
+    this.changedPhaseSq = new Float64Array(riseBins);
+    for (let k = 0; k < riseBins; k++) this.changedPhaseSq[k] = model.pairs.length * ((2 * Math.PI * k * sampleRate * CHANGED_DELAY_S) / n) ** 2;
     this.riseRe = model.pairs.map(() => new Float64Array(riseBins));
     this.riseIm = model.pairs.map(() => new Float64Array(riseBins));
     this.candLags = new Float64Array(candidates * P);
@@ -832,8 +832,8 @@ export class HopAnalyzer {
       const k = list[i]!;
       let dot = 0;
       let mag = 0;
-      // The pairs' phase differences as delays, squared and summed (phase over 2 pi f).
-      let delaySq = 0;
+      // The pairs' phase differences between memory and fresh, squared and summed (rad^2).
+      let phaseSq = 0;
       if (this.power[k]! >= CHANGED_SNR * this.onset.noiseFloor[k]!) {
         for (let p = 0; p < P; p++) {
           const pc = this.correlators[p]!;
@@ -841,13 +841,14 @@ export class HopAnalyzer {
           const mi = pc.accIm[k]!;
           const xr = fr[i * P + p]!;
           const xi = fi[i * P + p]!;
-          dot += mr * xr + mi * xi;
+          const re = mr * xr + mi * xi;
+          dot += re;
           mag += Math.sqrt(mr * mr + mi * mi);
-          const d = Math.atan2(mr * xi - mi * xr, mr * xr + mi * xi);
-          delaySq += d * d;
+          const d = Math.atan2(mr * xi - mi * xr, re);
+          phaseSq += d * d;
         }
       }
-      if (mag > 0 && (dot < CHANGED_AGREE * mag || (delaySq / P) * this.radianDelaySq[k]! > CHANGED_DELAY_S * CHANGED_DELAY_S)) {
+      if (mag > 0 && (dot < CHANGED_AGREE * mag || phaseSq > this.changedPhaseSq[k]!)) {
         acc[k] = 0;
         forget[forgotten++] = k;
       } else list[kept++] = k;

@@ -903,6 +903,7 @@ export class Tracker {
     const sc = this.sc;
     const conf = sc.hop[CONFIDENCE]!;
     const nC = Math.min(obs.candidates.length, this.nCand);
+    const loneLogHz = soleCallerLogHz(obs.candidates);
     for (let j = 0; j < nC; j++) {
       const c = obs.candidates[j]!;
       const az = c.azimuthDeg;
@@ -924,8 +925,9 @@ export class Tracker {
       sc.candEl[j] = el === null ? NaN : el;
       sc.candScore[j] = c.score;
       this.candFirm[j] = c.underLouder === true ? 0 : 1;
-      this.candAlias[j] = c.aliasOf !== undefined && c.aliasOf >= 0 && c.aliasOf < nC ? c.aliasOf : -1;
-      sc.candLogHz[j] = loneLogHz(obs.candidates, j);
+      const caller = callerOf(obs.candidates, j);
+      this.candAlias[j] = caller !== j && caller < nC ? caller : -1;
+      sc.candLogHz[j] = loneLogHz;
       sc.candR[j] = (o.bearingNoiseDeg * o.bearingNoiseDeg) / Math.min(1, Math.max(MIN_SCORE, conf * c.score));
       for (let s = 0; s < this.size; s++) {
         if (this.settled[s] === 0 || this.otherBand(s, j)) continue;
@@ -1642,7 +1644,8 @@ export class Tracker {
 }
 
 /**
- * The log2 centre of the caller candidate j hears when the hop holds no other caller, else NaN.
+ * The log2 centre of the hop's caller when all its candidates are one caller's, else NaN (worked
+ * out once per hop; every candidate of that caller carries it).
  * In a hop with several, the louder caller's candidate wins the bands they share and each one's
  * centre says more about the split than the call. A candidate and its aliases (aliasOf: a lobe
  * that the same sound fits as well) are one caller, heard in the bands of the one they alias:
@@ -1656,9 +1659,10 @@ export class Tracker {
  * the same figures (four passers gained calls: 9999 cho01 at three speeds of sound 83-92 -> 100
  * %, 444 cho02 93 -> 100 %); the accuracy matrix identical.
  */
-function loneLogHz(cands: readonly DirectionCandidate[], j: number): number {
-  const caller = callerOf(cands, j);
-  for (let k = 0; k < cands.length; k++) if (callerOf(cands, k) !== caller) return NaN;
+function soleCallerLogHz(cands: readonly DirectionCandidate[]): number {
+  if (cands.length === 0) return NaN;
+  const caller = callerOf(cands, 0);
+  for (let k = 1; k < cands.length; k++) if (callerOf(cands, k) !== caller) return NaN;
   const hz = cands[caller]!.centreHz;
   return hz !== undefined && hz > 0 ? Math.log2(hz) : NaN;
 }

@@ -386,7 +386,7 @@ describe('motion cells: track purity, completeness and id switches', () => {
   // and with the two counted as two callers the tracker did not ask its centre (about 3 kHz, two
   // octaves over the chorus' 730 Hz) and chorus-b's track took the call: chorus-b's track 92 %
   // pure. With a candidate and its aliases counted as one caller (src/track/tracker.ts,
-  // loneLogHz) measured: every track 100 % pure, the passer's calls on one track from there on.
+  // soleCallerLogHz) measured: every track 100 % pure, the passer's calls on one track from there on.
   it('a high sweep passing a chorus\' home at 16 kHz: no track holds two sources', () => {
     const name = CELLS[13]!.name;
     expect(cell(name).tracks.filter((t) => t.attributed >= 2 && t.purity < 0.95)).toEqual([]);
