@@ -37,7 +37,7 @@ export function createAnalysis(
   if (geometry.mics.length === 2) {
     model = new PairDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame);
   } else {
-    model = new SrpDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame, { pairs: resolved.searchPairs });
+    model = new SrpDirectionModel(geometry, sampleRate, speedOfSound, resolved.lagMargin, resolved.frame, { pairs: resolved.searchPairs, topHz: resolved.maxFreqHz });
   }
   const analyzer = new HopAnalyzer(geometry.mics.length, sampleRate, model, resolved);
   const checks = new StreamChecks(geometry, model.pairs, model.maxLag, sampleRate, speedOfSound, where);

@@ -357,11 +357,14 @@ function parseSource(r: FieldReader, scene: { rate: number; durationS: number },
   return { name, motion, signal, level, schedule };
 }
 
+/** Calls fade in and out over this long unless `ramp_s` says otherwise, or over a quarter of a call shorter than four times it (a bat's call lasts a few ms). */
+const DEFAULT_RAMP_S = 0.005;
+
 function parseSchedule(r: FieldReader, signal: Signal, scene: { rate: number; durationS: number }): Schedule {
   const wavLength = signal.kind === 'wav' ? signal.samples.length / scene.rate : null;
   if (!r.has('calls')) {
     const lengthS = wavLength ?? scene.durationS;
-    return { startS: 0, endS: 1e-9, lengthS, everyS: lengthS, jitterS: 0, perBout: null, boutGapS: 0, rampS: 0.005 };
+    return { startS: 0, endS: 1e-9, lengthS, everyS: lengthS, jitterS: 0, perBout: null, boutGapS: 0, rampS: Math.min(DEFAULT_RAMP_S, lengthS / 4) };
   }
   const c = r.sub('calls', CALLS);
   const startS = c.num('start_s', { min: 0, unit: 's', def: 0 });
@@ -372,8 +375,8 @@ function parseSchedule(r: FieldReader, signal: Signal, scene: { rate: number; du
   if (jitterS >= everyS) c.fail('jitter_s', `must be less than every_s (${everyS} s)`);
   const perBout = c.optNum('per_bout', { min: 1, integer: true });
   const boutGapS = c.num('bout_gap_s', { min: 0, unit: 's', def: 0 });
-  const rampS = c.num('ramp_s', { min: 0, unit: 's', def: 0.005 });
-  if (2 * rampS > lengthS) c.fail('ramp_s', `must be at most half of length_s (${lengthS} s)`);
+  const rampS = c.num('ramp_s', { min: 0, unit: 's', def: Math.min(DEFAULT_RAMP_S, lengthS / 4) });
+  if (2 * rampS > lengthS) c.fail('ramp_s', `${rampS} s must be at most half of length_s (${lengthS} s); give a shorter ramp_s or leave it out (default: 5 ms, or a quarter of a shorter call)`);
   return { startS, endS, lengthS, everyS, jitterS, perBout, boutGapS, rampS };
 }
 

@@ -111,6 +111,10 @@ describe('README command lines', () => {
     writeFileSync(at('my-scene.json'), JSON.stringify({ ...scene, duration_s: 6 }));
     // accuracy room.wav: a recording rendered by simulate, with its truth and array beside it
     execFileSync(process.execPath, [BIN, 'simulate', '--scene', at('my-scene.json'), '--out', at('room.wav')], { stdio: 'ignore' });
+    // scan --profile bats: a bat passing a 10 cm tetrahedron at 192 kHz (short sweeps), rendered by simulate
+    const bat = { name: 'bat', path: [{ time_s: 0, position_m: [-8, 5, 4] }, { time_s: 1, position_m: [-4, 6, 4] }], signal: { type: 'sweep', start_hz: 70000, end_hz: 30000, shape: 'exponential' }, level: { dbfs_at_array: -30 }, calls: { start_s: 0.05, length_s: 0.005, every_s: 0.08 } };
+    writeFileSync(at('bats-scene.json'), JSON.stringify({ sample_rate_hz: 192000, duration_s: 1, seed: 3, array: { geometry: 'tetrahedron-10cm', position_m: [0, 0, 1.5] }, sources: [bat], noise: { floor_dbfs: -65 } }));
+    execFileSync(process.execPath, [BIN, 'simulate', '--scene', at('bats-scene.json'), '--out', at('bats-192k.wav')], { stdio: 'ignore' });
     // locate: the marsh example's stations; a caller at the origin, due south of reed-north (heading 180) and due west of dyke (heading 270): azimuth 0 from both
     copyFileSync(join(ROOT, 'configs/stations-marsh-example.json'), at('marsh.json'));
     // The call leaves the origin at 8.834 s: it reaches reed-north (400 m, clock synced) at 10.000 s

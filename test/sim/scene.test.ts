@@ -54,6 +54,7 @@ const CASES: [string, Patch, RegExp][] = [
   ['RT60 too short for the room', (s) => (s.room = { size_m: [8, 8, 3], rt60_s: 0.01 }), /room\.rt60_s of 0.01 s is too short/],
   ['absorption out of range', (s) => (s.room = { size_m: [8, 8, 3], absorption: { west: 0.2, east: 0.2, south: 0.2, north: 0.2, floor: 1.5, ceiling: 0.2 } }), /room\.absorption\.floor must be at most 1/],
   ['noise with nothing to add', (s) => (s.noise = { wind_lowpass_hz: 200 }), /noise\.wind_dbfs or "floor_dbfs" must be given/],
+  ['a ramp longer than half the call', (s) => (s.sources[0].calls = { length_s: 0.004, ramp_s: 0.005 }), /sources\[0\]\.calls\.ramp_s 0.005 s must be at most half of length_s \(0.004 s\); give a shorter ramp_s or leave it out/],
   ['speed of sound and temperature', (s) => ((s.speed_of_sound_m_s = 340), (s.temperature_c = 20)), /speed_of_sound_m_s and "temperature_c" cannot both be given/],
 ];
 
@@ -68,6 +69,12 @@ describe('scene validation (errors name the field)', () => {
       expect(errorOf(patch)).toMatch(message);
     });
   }
+  it('calls fade over 5 ms unless shorter than 20 ms (then a quarter of the call: a bat\'s 4 ms call needs no ramp_s)', () => {
+    const ramp = (calls: object) => sceneFrom({ ...GOOD, sources: [{ ...GOOD.sources[0], calls }] }).sources[0]!.schedule.rampS;
+    expect(ramp({ length_s: 0.2 })).toBe(0.005);
+    expect(ramp({ length_s: 0.004 })).toBeCloseTo(0.001, 12);
+    expect(ramp({ length_s: 0.004, ramp_s: 0.002 })).toBe(0.002);
+  });
   it('temperature_c sets c = 331.3 sqrt(1 + T / 273.15) (CRC Handbook: 343.2 m/s at 20 C)', () => {
     const scene = sceneFrom({ ...GOOD, temperature_c: 20 });
     expect(scene.speedOfSound).toBeCloseTo(343.2, 1);
