@@ -9,7 +9,7 @@ import { checkLagFitsFrame, searchLagLimit, type Direction, type DirectionModel 
 import { fastAtan2 } from '../util/fast-atan2.js';
 import { invertMatrix } from '../util/matrix.js';
 
-/** Smallest automatic grid step (degrees): finer grids cost time and the refinement recovers the rest. */
+/** Smallest automatic grid step in the audio band (degrees): finer grids cost time and the refinement recovers the rest. */
 const MIN_AUTO_STEP_DEG = 2.5;
 /** The grid's lag step, samples, at most ... */
 const GRID_LAG_STEP = 1.4;
@@ -527,16 +527,18 @@ function makeGrid(shape: ArrayShape, mirror: ArrayMirror | null, stepDeg: number
  * about that period, and a coarser grid steps over its peak (the refinement then climbs a
  * neighbouring cycle). At 192 kHz with 90 kHz on top the period is 2.1 samples, and a 10 cm
  * tetrahedron's grid stepped 2.4 samples: a bat's events came out up to 7 deg off
- * (test/accuracy/bats.test.ts; 0.14 deg with the period rule). The floor MIN_AUTO_STEP_DEG then
- * falls with the square of the lag step's share of 1.4 samples (the grid's points grow with the
- * square of the inverse step). Audio-band grids stay as the tracker's settings were chosen with
- * them: the period rule at 16 kHz (7.6 kHz on top: a grid twice as fine on a 20 cm square) took
- * the motion matrix (23 draws; cells outside the targets) from 101 to 106, id switches 92 -> 116.
+ * (test/accuracy/bats.test.ts; 0.14 deg with the period rule). There the floor MIN_AUTO_STEP_DEG
+ * does not hold: at 384 kHz a 10 cm array's largest lag is 112 samples, and with a floor that
+ * fell with the square of the lag step's share a bat's events were 3.9 deg off at p90 (0.2 deg
+ * without; the 0.57 deg grid has 127 000 points: about 3 s to set up, then 5x real time here). Audio-band
+ * grids stay as the tracker's settings were chosen with them: the period rule at 16 kHz (7.6 kHz
+ * on top: a grid twice as fine on a 20 cm square) took the motion matrix (23 draws; cells
+ * outside the targets) from 101 to 106, id switches 92 -> 116.
  */
 export function autoStepDeg(shape: ArrayShape, largestLag: number, periodSamples: number, topHz: number): number {
-  const share = topHz > AUDIO_TOP_HZ ? Math.min(1, (GRID_PERIOD_SHARE * periodSamples) / GRID_LAG_STEP) : 1;
-  const lagStep = GRID_LAG_STEP * share;
-  return Math.max(MIN_AUTO_STEP_DEG * share * share, Math.min(shape === 'line' ? 3 : 8, ((lagStep / largestLag) * 180) / Math.PI));
+  const ultrasonic = topHz > AUDIO_TOP_HZ;
+  const lagStep = ultrasonic ? Math.min(GRID_LAG_STEP, GRID_PERIOD_SHARE * periodSamples) : GRID_LAG_STEP;
+  return Math.max(ultrasonic ? 0 : MIN_AUTO_STEP_DEG, Math.min(shape === 'line' ? 3 : 8, ((lagStep / largestLag) * 180) / Math.PI));
 }
 
 /**

@@ -28,6 +28,10 @@ describe('the direction grid step', () => {
     // Neighbouring points then differ by 0.35 of the top period, not 2.4 samples (over a period).
     expect((step / DEG) * 56).toBeCloseTo(0.35 * period, 9);
   });
+  it('ultrasound at 384 kHz up to 120 kHz: no 2.5 deg floor there (0.57 deg for 112 samples)', () => {
+    const period = 384000 / 120000;
+    expect(autoStepDeg('solid', 112, period, 120000)).toBeCloseTo(((0.35 * period) / 112) * DEG, 9);
+  });
   it('16 kHz up to 7.6 kHz (the cap below Nyquist): audio, so 1.4 samples per step as before, though the period is 2.1 samples', () => {
     expect(autoStepDeg('plane', 16, 16000 / 7600, 7600)).toBeCloseTo((1.4 / 16) * DEG, 9);
   });
