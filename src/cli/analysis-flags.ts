@@ -23,7 +23,7 @@ const PROFILE_SPEC = textOption(
   'profile',
   'name|file.json',
   null,
-  'run profile: settings per stage (presets in configs/profiles/: frog-chorus, passing-birds, bench, station-low-cpu)',
+  'run profile: settings per stage (presets in configs/profiles/: frog-chorus, passing-birds, bats, bench, station-low-cpu)',
   { defaultText: 'none' },
 );
 

@@ -3,7 +3,7 @@
  * option names, every section and key is checked when the file is read, and the message names
  * the file and the key.
  */
-import { writeFileSync } from 'node:fs';
+import { readdirSync, writeFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { PROFILE_SECTIONS } from '../../src/cli/analysis-flags.js';
@@ -11,6 +11,7 @@ import { loadProfile, profileValues } from '../../src/options/profile.js';
 import type { TrackerOptions } from '../../src/track/options.js';
 import { UsageError } from '../../src/util/errors.js';
 import { tempDir } from '../helpers/temp-dir.js';
+import { runCli } from '../helpers/cli.js';
 
 const tmp = tempDir('profiles');
 const presets = fileURLToPath(new URL('../../configs/profiles/', import.meta.url));
@@ -33,7 +34,13 @@ describe('run profiles', () => {
   });
 
   it('finds the shipped presets by name', () => {
-    for (const name of ['frog-chorus', 'passing-birds', 'bench', 'station-low-cpu']) expect(loadProfile(name, presets, PROFILE_SECTIONS).about).toMatch(/\w/);
+    for (const name of ['frog-chorus', 'passing-birds', 'bats', 'bench', 'station-low-cpu']) expect(loadProfile(name, presets, PROFILE_SECTIONS).about).toMatch(/\w/);
+  });
+
+  it('--help names every shipped preset (bats was missing from it when it landed)', () => {
+    const help = runCli(['scan', '--help']).stdout.replace(/\s+/g, ' ');
+    const listed = /presets in configs\/profiles\/: ([^)]*)\)/.exec(help)![1]!.split(', ');
+    expect(listed.sort()).toEqual(readdirSync(presets).filter((f) => f.endsWith('.json')).map((f) => f.slice(0, -5)).sort());
   });
 
   it.each([

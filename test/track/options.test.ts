@@ -68,8 +68,8 @@ describe('run profiles (configs/profiles/*.json): the tracker section', () => {
   const dir = fileURLToPath(new URL('../../configs/profiles/', import.meta.url));
   const files = readdirSync(dir).filter((f) => f.endsWith('.json'));
 
-  it('ships frog-chorus, passing-birds, bench and station-low-cpu', () => {
-    expect(files).toEqual(expect.arrayContaining(['frog-chorus.json', 'passing-birds.json', 'bench.json', 'station-low-cpu.json']));
+  it('ships frog-chorus, passing-birds, bats, bench and station-low-cpu', () => {
+    expect(files).toEqual(expect.arrayContaining(['frog-chorus.json', 'passing-birds.json', 'bats.json', 'bench.json', 'station-low-cpu.json']));
   });
 
   it.each(files)('%s has an "about" line and valid tracker settings under the option names', (file) => {
