@@ -1,8 +1,7 @@
 """An ultrasonic caller passing the array, rendered with numpy independently of bearline's
 simulator: short frequency-modulated calls (a linear sweep from HI_HZ down to LO_HZ, 5 ms, one
 every 80 ms), far-field plane-wave delays per mic applied per sample as a fractional delay by a
-Hann-windowed sinc interpolator (common practice, no source: band-limited interpolation), at
-192 kHz on a 10 cm tetrahedron.
+Hann-windowed sinc interpolator (numpy_plane_wave.py), at 192 kHz on a 10 cm tetrahedron.
 
 Usage: python3 numpy_bat.py OUT.wav AZ0_DEG RATE_DEG_S DURATION_S
 Writes OUT.wav (4 channels, 16-bit, 192 kHz), OUT.array.json and prints the calls as JSON:
@@ -11,15 +10,14 @@ Writes OUT.wav (4 channels, 16-bit, 192 kHz), OUT.array.json and prints the call
 """
 import json
 import sys
-import wave
 
 import numpy as np
 
+from numpy_plane_wave import HALF, render, write_take
+
 FS = 192000
-C = 343.0
 S = 0.1 / np.sqrt(8)  # a regular tetrahedron of 10 cm edges
 MICS = np.array([[S, S, S], [-S, -S, S], [-S, S, -S], [S, -S, -S]])
-HALF = 32
 HI_HZ, LO_HZ = 70000.0, 30000.0
 CALL_S, EVERY_S = 0.005, 0.08
 ELEVATION_DEG = 15.0
@@ -47,29 +45,8 @@ def main():
     az = np.radians(az0 + rate * times)
     el = np.radians(ELEVATION_DEG)
     u = np.stack([np.sin(az) * np.cos(el), np.cos(az) * np.cos(el), np.full(n, np.sin(el))], axis=1)
-    chans = []
-    for p in MICS:
-        # A mic nearer the source hears it earlier: delay -(p . u) / c (relative to the centre).
-        delay = -(u @ p) / C * FS
-        pos = np.arange(n) - delay + pad
-        k = np.floor(pos).astype(int)
-        frac = pos - k
-        y = np.zeros(n)
-        for j in range(-HALF + 1, HALF + 1):
-            x = frac - j
-            w = 0.5 * (1 + np.cos(np.pi * x / HALF))
-            y += src[k + j] * np.sinc(x) * w
-        chans.append(y)
-    data = np.stack(chans, axis=1) + 1e-3 * rng.standard_normal((n, 4))
-    pcm = np.clip(np.round(data * 32767), -32768, 32767).astype('<i2')
-    with wave.open(out, 'wb') as w:
-        w.setnchannels(4)
-        w.setsampwidth(2)
-        w.setframerate(FS)
-        w.writeframes(pcm.tobytes())
-    geometry = {'name': 'tetrahedron-10cm-numpy', 'heading_deg': 0, 'mics': [{'channel': i, 'position_m': list(p)} for i, p in enumerate(MICS)]}
-    with open(out[:-4] + '.array.json', 'w') as f:
-        json.dump(geometry, f)
+    data = render(src, u, MICS, FS, pad) + 1e-3 * rng.standard_normal((n, 4))
+    write_take(out, data, FS, MICS, 'tetrahedron-10cm-numpy')
     print(json.dumps(calls))
 
 

@@ -1,6 +1,6 @@
 """A caller moving at a constant angular rate, rendered with numpy independently of bearline's
 simulator: far-field plane-wave delays per mic, applied per sample as a fractional delay by a
-Hann-windowed sinc interpolator (common practice, no source: band-limited interpolation).
+Hann-windowed sinc interpolator (numpy_plane_wave.py).
 
 Usage: python3 numpy_mover.py OUT.wav AZ0_DEG RATE_DEG_S DURATION_S [CALL_S EVERY_S [RATE_HZ]]
 (calls CALL_S long, one every EVERY_S seconds from 0.2 s on: 0.4 and 0.6 when not given).
@@ -10,14 +10,13 @@ prints the calls as JSON: [[start_s, end_s], ...]. Azimuth(t) = AZ0 + RATE * t (
 """
 import json
 import sys
-import wave
 
 import numpy as np
 
+from numpy_plane_wave import HALF, render, write_take
+
 FS = 48000
-C = 343.0
 MICS = np.array([[-0.1, 0.1, 0.0], [0.1, 0.1, 0.0], [0.1, -0.1, 0.0], [-0.1, -0.1, 0.0]])
-HALF = 32
 
 
 def band_noise(rng, n, lo, hi):
@@ -50,29 +49,8 @@ def main():
     times = np.arange(n) / FS
     az = np.radians(az0 + rate * times)
     u = np.stack([np.sin(az), np.cos(az), np.zeros(n)], axis=1)
-    chans = []
-    for m in MICS:
-        # A mic nearer the source hears it earlier: delay -(p . u) / c (relative to the centre).
-        delay = -(u @ m) / C * FS
-        pos = np.arange(n) - delay + pad
-        k = np.floor(pos).astype(int)
-        frac = pos - k
-        y = np.zeros(n)
-        for j in range(-HALF + 1, HALF + 1):
-            x = frac - j
-            w = 0.5 * (1 + np.cos(np.pi * x / HALF))
-            y += src[k + j] * np.sinc(x) * w
-        chans.append(y)
-    data = np.stack(chans, axis=1) + 1e-3 * rng.standard_normal((n, 4))
-    pcm = np.clip(np.round(data * 32767), -32768, 32767).astype('<i2')
-    with wave.open(out, 'wb') as w:
-        w.setnchannels(4)
-        w.setsampwidth(2)
-        w.setframerate(FS)
-        w.writeframes(pcm.tobytes())
-    geometry = {'name': 'square-20cm-numpy', 'heading_deg': 0, 'mics': [{'channel': i, 'position_m': list(p)} for i, p in enumerate(MICS)]}
-    with open(out[:-4] + '.array.json', 'w') as f:
-        json.dump(geometry, f)
+    data = render(src, u, MICS, FS, pad) + 1e-3 * rng.standard_normal((n, 4))
+    write_take(out, data, FS, MICS, 'square-20cm-numpy')
     print(json.dumps(calls))
 
 
