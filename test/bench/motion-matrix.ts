@@ -16,9 +16,13 @@
  *           spatial-aliasing limit, on every array preset shape;
  * - cross:  two callers whose bearings cross;
  * - chorus: two static choruses calling in bouts and a caller passing across one of them,
- *           scanned with the scene's speed of sound and with it 1 % and 2 % off.
+ *           scanned with the scene's speed of sound and with it 1 % and 2 % off;
+ * - bats (only with --bats, which runs these alone): bats passing at 96, 192 or 384 kHz with
+ *           frequency-modulated calls of 2-10 ms, one or two at a time, scanned with
+ *           `--profile bats`. Calls shorter than the truth's 10 ms step are in the truth (and
+ *           so scored) only where a step falls inside them.
  *
- *   npx tsx test/bench/motion-matrix.ts [--quick] [--seed N] [--rate HZ] [--json FILE] [--set key=value ...]
+ *   npx tsx test/bench/motion-matrix.ts [--quick] [--bats] [--seed N] [--rate HZ] [--json FILE] [--set key=value ...]
  * (--seed draws another matrix of the same kinds: a held-out check that a default was not
  * fitted to the 1313 draw; --rate renders the same scenes at another sample rate, e.g. 16000 as
  * many small USB arrays record)
@@ -43,7 +47,7 @@ const BIN = fileURLToPath(new URL('../../dist/cli/main.js', import.meta.url));
 const DEG = Math.PI / 180;
 const ARRAY_Z = 1.5;
 
-type Family = 'pass' | 'cross' | 'chorus';
+type Family = 'pass' | 'cross' | 'chorus' | 'bats';
 type CallKind = 'broadband' | 'low-harmonic' | 'high-sweep' | 'high-band';
 
 export interface Cell {
@@ -53,6 +57,8 @@ export interface Cell {
   scene: Record<string, unknown>;
   /** Speed of sound the scan assumes, as a ratio of the scene's. */
   cRatio: number;
+  /** Scan options the cell is scanned with besides the speed of sound and --set (the bats' profile). */
+  args?: readonly string[];
 }
 
 /** Calls of each kind; "high" kinds lie above the spatial-aliasing limit of every preset but the 5 cm circle. */
@@ -212,6 +218,60 @@ export function motionCells(quick: boolean, seed = 1313, rateHz = 48000): Cell[]
   return quick ? cells.filter((_, i) => i % 3 === 0) : cells;
 }
 
+const BAT_ARRAYS = ['tetrahedron-10cm', 'square-10cm', 'triangle-10cm', 'circle8-r5cm'] as const;
+const BAT_RATES = [96000, 192000, 384000] as const;
+
+/** A bat's call: a downward sweep over the ultrasound below the rate's limit, 2-10 ms, one every 60-140 ms. */
+function batCall(rng: Rng, rateHz: number, start: number): { signal: Record<string, unknown>; calls: Record<string, unknown> } {
+  const hi = Math.round(Math.min(0.44 * rateHz, 30000 + 60000 * rng.uniform()));
+  const lo = Math.round(Math.max(15000, hi * (0.4 + 0.25 * rng.uniform())));
+  const length = 0.002 + 0.008 * rng.uniform();
+  const every = 0.06 + 0.08 * rng.uniform();
+  return {
+    signal: { type: 'sweep', start_hz: hi, end_hz: lo, shape: 'exponential' },
+    calls: { start_s: start, length_s: Math.round(length * 10000) / 10000, every_s: Math.round(every * 1000) / 1000, jitter_s: 0.01 },
+  };
+}
+
+/** The bats family (seeded): four single passes and two pairs of bats whose bearings cross, each at a rate of BAT_RATES. */
+export function batCells(seed = 1313): Cell[] {
+  const cells: Cell[] = [];
+  const rng = makeRng(seed + 77);
+  for (let i = 0; i < 6; i++) {
+    const array = BAT_ARRAYS[i % BAT_ARRAYS.length]!;
+    const rateHz = pick(rng, BAT_RATES);
+    const two = i >= 4;
+    const mk = (name: string): { src: unknown; text: string; durationS: number } => {
+      const peak = 20 + 80 * rng.uniform();
+      const d = 3 + 9 * rng.uniform();
+      const h = 4 * rng.uniform();
+      const p = pass(-180 + 360 * rng.uniform(), d, h, peak, 60, 6, 0.1, rng.uniform() < 0.5 ? 1 : -1);
+      const level = Math.round(-42 + 14 * rng.uniform());
+      const call = batCall(rng, rateHz, 0.1 + 0.05 * rng.uniform());
+      const sig = call.signal as { start_hz: number; end_hz: number };
+      const c = call.calls as { length_s: number; every_s: number };
+      return {
+        src: { name, path: p.path, signal: call.signal, level: { dbfs_at_array: level }, calls: call.calls },
+        text: `${name} ${(sig.start_hz / 1000).toFixed(0)}-${(sig.end_hz / 1000).toFixed(0)} kHz ${(c.length_s * 1000).toFixed(1)} ms every ${(c.every_s * 1000).toFixed(0)} ms, peak ${peak.toFixed(0)} deg/s, d ${d.toFixed(0)} m, ${level} dBFS`,
+        durationS: p.durationS,
+      };
+    };
+    const bats = two ? [mk('bat-a'), mk('bat-b')] : [mk('bat')];
+    const durationS = Math.max(...bats.map((b) => b.durationS)) + 0.3;
+    const scene = sceneOf(array, durationS, 1100 + i, bats.map((b) => b.src), null, rateHz);
+    scene.noise = { floor_dbfs: -62 };
+    cells.push({
+      id: `bat${String(i + 1).padStart(2, '0')}`,
+      family: 'bats',
+      condition: `${array}, ${rateHz / 1000} kHz, ${bats.map((b) => b.text).join('; ')}`,
+      scene,
+      cRatio: 1,
+      args: ['--profile', 'bats'],
+    });
+  }
+  return cells;
+}
+
 function cacheDir(): string {
   const d = process.env.BEARLINE_MOTION_CACHE ?? join(tmpdir(), 'bearline-motion-cache');
   mkdirSync(d, { recursive: true });
@@ -258,7 +318,7 @@ export function runCell(cell: Cell, set: readonly string[]): CellResult {
   const wav = rendered(cell);
   const extra = set.flatMap((s) => ['--' + s.split('=')[0], s.slice(s.indexOf('=') + 1)]);
   const c = 343 * cell.cRatio;
-  const out = run(['scan', wav, '--array', wav.replace(/\.wav$/, '.array.json'), '--speed-of-sound', c.toFixed(2), ...extra]);
+  const out = run(['scan', wav, '--array', wav.replace(/\.wav$/, '.array.json'), '--speed-of-sound', c.toFixed(2), ...(cell.args ?? []), ...extra]);
   const events = out.split('\n').filter((l) => l.trim() !== '').map((l) => JSON.parse(l) as EventRecord);
   const truth = indexTruth(parseTruth(readFileSync(wav.replace(/\.wav$/, '.truth.jsonl'), 'utf8'), 'truth'));
   const scores = scoreTracks(events, truth, TRUTH_STEP_S);
@@ -281,7 +341,7 @@ export function formatMotion(results: readonly CellResult[]): string[] {
     lines.push(`  ${r.id.padEnd(8)} ${per.padEnd(62)} mixed ${r.mixedTracks}  ${r.condition}`);
   }
   lines.push('', 'summary (targets: purity >= 95 %, completeness >= 80 %, at most one id switch per crossing, no mixed track):');
-  const fams: (Family | 'all')[] = ['pass', 'cross', 'chorus', 'all'];
+  const fams: (Family | 'all')[] = ['pass', 'cross', 'chorus', 'bats', 'all'];
   for (const f of fams) {
     const rs = results.filter((r) => f === 'all' || r.family === f);
     if (rs.length === 0) continue;
@@ -317,6 +377,7 @@ export function formatMotion(results: readonly CellResult[]): string[] {
 
 export function motionMatrixCli(argv: readonly string[]): number {
   const quick = argv.includes('--quick');
+  const bats = argv.includes('--bats');
   const set: string[] = [];
   let json: string | null = null;
   let only: string[] = [];
@@ -328,8 +389,8 @@ export function motionMatrixCli(argv: readonly string[]): number {
     else if (argv[i] === '--cells') only = (argv[++i] ?? '').split(',');
     else if (argv[i] === '--seed') seed = Number(argv[++i]);
     else if (argv[i] === '--rate') rateHz = Number(argv[++i]);
-    else if (argv[i] !== '--quick') {
-      console.error(`motion-matrix: unknown argument ${argv[i]} (give --quick, --cells ID,..., --seed N, --rate HZ, --json FILE, --set flag=value with a scan flag name)`);
+    else if (argv[i] !== '--quick' && argv[i] !== '--bats') {
+      console.error(`motion-matrix: unknown argument ${argv[i]} (give --quick, --bats, --cells ID,..., --seed N, --rate HZ, --json FILE, --set flag=value with a scan flag name)`);
       return 2;
     }
   }
@@ -345,14 +406,14 @@ export function motionMatrixCli(argv: readonly string[]): number {
     console.error('motion-matrix: --set takes a scan flag and value, e.g. --set rate-wander=5');
     return 2;
   }
-  const cells = motionCells(quick, seed, rateHz).filter((c) => only.length === 0 || only.some((o) => c.id.startsWith(o)));
+  const cells = (bats ? batCells(seed) : motionCells(quick, seed, rateHz)).filter((c) => only.length === 0 || only.some((o) => c.id.startsWith(o)));
   const results: CellResult[] = [];
   cells.forEach((c, i) => {
     if (process.stderr.isTTY) process.stderr.write(`\r\x1b[K${i + 1}/${cells.length} ${c.id}`);
     results.push(runCell(c, set));
   });
   if (process.stderr.isTTY) process.stderr.write('\r\x1b[K');
-  console.log([`settings: ${set.length ? set.join(' ') : 'defaults'}${rateHz === 48000 ? '' : `, scenes at ${rateHz} Hz`}`, ...formatMotion(results)].join('\n'));
+  console.log([`settings: ${set.length ? set.join(' ') : 'defaults'}${bats ? ', the bats family with --profile bats' : rateHz === 48000 ? '' : `, scenes at ${rateHz} Hz`}`, ...formatMotion(results)].join('\n'));
   if (json) writeFileSync(json, JSON.stringify(results, null, 1));
   return 0;
 }
