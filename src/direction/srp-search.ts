@@ -1,3 +1,4 @@
+import { AUDIO_TOP_HZ } from '../dsp/bands.js';
 import type { PairCorrelator } from '../dsp/gcc.js';
 import { GccKernels, SRP_SEARCH_ARGS } from '../dsp/gcc-kernels.js';
 import { micPairs, type ArrayGeometry, type MicPair } from '../geometry/array-geometry.js';
@@ -13,10 +14,8 @@ import { invertMatrix } from '../util/matrix.js';
 const MIN_AUTO_STEP_DEG = 2.5;
 /** The grid's lag step, samples, at most ... */
 const GRID_LAG_STEP = 1.4;
-/** ... and, above the audio band, at most this share of the period of the highest frequency the correlations hold ... */
+/** ... and, above the audio band (AUDIO_TOP_HZ), at most this share of the period of the highest frequency the correlations hold. */
 const GRID_PERIOD_SHARE = 0.35;
-/** ... when that frequency is above this (Hz). */
-const AUDIO_TOP_HZ = 20000;
 
 /** Grid settings of the direction search. */
 export interface SearchGrid {

@@ -42,3 +42,6 @@ export function makeBands(n: number, sampleRate: number, minHz: number, maxHz: n
   const centreHz = Float64Array.from(loHz, (lo, b) => Math.sqrt(lo * hiHz[b]!));
   return { count, start, end, loHz, hiHz, centreHz, firstBin: kLo, endBin: kHi };
 }
+
+/** The top of the audio band (Hz): above it lie ultrasonic calls (bats), with their own direction grid (src/direction/srp-search.ts) and hints (src/track/tracking-session.ts). */
+export const AUDIO_TOP_HZ = 20000;

@@ -64,6 +64,8 @@ const LINE_SUMS = 5;
 const MIN_TIME_VARIANCE = 1e-9;
 
 export class EventCutter {
+  /** Events of confirmed tracks dropped as shorter than minEventS (tooShortCount). */
+  private tooShort = 0;
   private readonly active: Uint8Array;
   private readonly startT: Float64Array;
   private readonly lastT: Float64Array;
@@ -149,6 +151,11 @@ export class EventCutter {
     return null;
   }
 
+  /** How many events of confirmed tracks were dropped as shorter than --min-event so far. */
+  tooShortCount(): number {
+    return this.tooShort;
+  }
+
   /** End the slot's open event now (track death, end of stream); null when none or too short. */
   close(slot: number, track: number): EventRecord | null {
     if (this.active[slot] === 0) return null;
@@ -156,7 +163,11 @@ export class EventCutter {
     const hopS = this.scratch.hop[HOP_S]!;
     const start = Math.max(0, this.startT[slot]! - hopS / 2);
     const end = this.lastT[slot]! + hopS / 2;
-    if (track < 0 || end - start < this.o.minEventS) return null;
+    if (track < 0) return null;
+    if (end - start < this.o.minEventS) {
+      this.tooShort++;
+      return null;
+    }
     const record: EventRecord = {
       start_s: start,
       end_s: end,

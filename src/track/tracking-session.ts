@@ -1,6 +1,7 @@
 import type { AnalysisSetup, HopTime } from '../analysis/analysis.js';
 import type { HopResult } from '../analysis/hop-analyzer.js';
 import type { StreamChecks } from '../analysis/stream-checks.js';
+import { AUDIO_TOP_HZ } from '../dsp/bands.js';
 import { MAX_WATCHED } from '../analysis/watched-directions.js';
 import { bearingOf, round, toFrameRecord, type FrameRecordSettings } from '../records/frame-record.js';
 import type { EventRecord } from '../records/record-types.js';
@@ -8,6 +9,17 @@ import type { RecordSink, SinkResult } from '../sinks/record-sink.js';
 import { Tracker } from './tracker.js';
 import type { TrackerOptions } from './options.js';
 import type { DirectionCandidate, HopObservation, TrackSummary } from './types.js';
+
+/**
+ * A stream that wrote no event says why at its end when it had at least TOO_SHORT_WARN calls on
+ * confirmed tracks dropped as shorter than --min-event, or CLEAR_HOPS_WARN hops of a confident
+ * direction (CLEAR_CONFIDENCE): calls of a few milliseconds (bats) make no event with the defaults.
+ */
+const TOO_SHORT_WARN = 3;
+const CLEAR_HOPS_WARN = 10;
+const CLEAR_CONFIDENCE = 0.5;
+/** ... and one of 96 kHz or more whose analysis stops in the audio band (at most 20 kHz) points to the ultrasound. */
+const ULTRASOUND_RATE_HZ = 96000;
 
 /** What the session needs to know about the analysis: the frame records' settings and the sources a hop can hold. */
 export interface SessionSettings extends FrameRecordSettings {
@@ -20,8 +32,10 @@ export interface SessionHooks {
   watch?: (azimuthDeg: Float64Array, elevationDeg: Float64Array, halfWidthDeg: Float64Array, count: number) => void;
   /** Window-edge and geometry checks over the stream (said once). */
   checks?: StreamChecks | null;
-  /** Told each stream-check warning once (window edge, geometry). */
+  /** Told each stream-check warning once (window edge, geometry), and why no event was written when that looks like short calls. */
   onWarning?: (message: string) => void;
+  /** The stream's sample rate and the analysis' top frequency (--max-freq after its cap), Hz. */
+  analysedHz?: { rate: number; top: number };
 }
 
 /**
@@ -44,6 +58,8 @@ export class TrackingSession {
   private epochMs: number | null = null;
   hops = 0;
   events = 0;
+  /** Hops with a direction of at least CLEAR_CONFIDENCE. */
+  private clearHops = 0;
 
   constructor(
     private readonly settings: SessionSettings,
@@ -68,7 +84,7 @@ export class TrackingSession {
       viewerFields: extra.viewerFields ?? false,
     };
     const analyzer = setup.analyzer;
-    return new TrackingSession(settings, tracker, sink, { checks: setup.checks, onWarning: extra.onWarning, watch: (az, el, half, n) => analyzer.watch(az, el, half, n) });
+    return new TrackingSession(settings, tracker, sink, { checks: setup.checks, onWarning: extra.onWarning, analysedHz: { rate: setup.analyzer.sampleRate, top: setup.options.maxFreqHz }, watch: (az, el, half, n) => analyzer.watch(az, el, half, n) });
   }
 
   /** The UTC of a stream time, when the stream is live. */
@@ -95,6 +111,7 @@ export class TrackingSession {
     o.snrDb = r.snrDb;
     o.onset = r.onset;
     o.confidence = r.confidence;
+    if (r.valid && r.confidence >= CLEAR_CONFIDENCE) this.clearHops++;
     o.freshZ = r.freshZ;
     // The band range the delay stands for: from the lowest to the highest supporting band.
     if (r.supportFirstBand >= 0) {
@@ -121,6 +138,15 @@ export class TrackingSession {
     const warning = this.checks?.finish() ?? null;
     if (warning !== null) for (const line of warning.split('\n')) this.hooks.onWarning?.(line);
     for (const e of this.tracker.finish()) this.emit(e);
+    const short = this.tracker.tooShortCount();
+    if (this.events === 0 && short >= TOO_SHORT_WARN) {
+      this.hooks.onWarning?.(`no event was written, but ${short} calls on confirmed tracks were shorter than --min-event (${this.tracker.options.minEventS} s) and dropped; for calls of a few milliseconds (bats) use --profile bats, or give a smaller --min-event`);
+    } else if (this.events === 0 && this.hooks.analysedHz !== undefined && this.hooks.analysedHz.rate >= ULTRASOUND_RATE_HZ && this.hooks.analysedHz.top <= AUDIO_TOP_HZ) {
+      const { rate, top } = this.hooks.analysedHz;
+      this.hooks.onWarning?.(`no event was written; the analysis stops at ${top / 1000} kHz (--max-freq) of this ${rate / 1000} kHz recording: for ultrasonic callers (bats) use --profile bats`);
+    } else if (this.events === 0 && this.clearHops >= CLEAR_HOPS_WARN) {
+      this.hooks.onWarning?.(`no event was written, but ${this.clearHops} hops had a confident direction: calls too short to confirm a track (--confirm-hits within --confirm-window hops) or to make an event (--min-event ${this.tracker.options.minEventS} s) are not reported; for calls of a few milliseconds (bats) use --profile bats`);
+    }
     return this.drain();
   }
 

@@ -20,7 +20,7 @@ import { scoreTracks } from '../../src/accuracy/track-scores.js';
 import { indexTruth, parseTruth, TRUTH_STEP_S } from '../../src/accuracy/truth.js';
 import { angleDiffDeg } from '../../src/track/circular.js';
 import { tempDir } from '../helpers/temp-dir.js';
-import { render, scanEvents } from './helpers.js';
+import { render, scanEvents, scanWithWarnings } from './helpers.js';
 
 const PROFILE = ['--profile', 'bats'];
 
@@ -40,6 +40,21 @@ describe('a bat passing at 40 deg/s, rendered independently with numpy (192 kHz,
     const errors = events.map((e) => Math.abs(angleDiffDeg(e.azimuth_deg!, AZ0 + RATE * ((e.start_s + e.end_s) / 2))));
     console.log(`numpy bat: ${events.length} events for ${calls.length} calls; largest error ${Math.max(...errors).toFixed(2)} deg`);
     expect(Math.max(...errors)).toBeLessThan(1);
+  });
+
+  // Without the profile nothing is written; the scan says why, and what to do, on stderr.
+  it.each([
+    ['the defaults (the analysis stops at 12 kHz)', [], /no event was written; the analysis stops at 12 kHz \(--max-freq\) of this 192 kHz recording: for ultrasonic callers \(bats\) use --profile bats/],
+    ['the band given, the default frame of 4096 (two hops per call: no track confirmed)', ['--min-freq', '20000', '--max-freq', '90000'], /no event was written, but \d+ hops had a confident direction: calls too short to confirm a track .* use --profile bats/],
+    ['the band, a frame of 2048 and tracks confirmed on two hops (calls under --min-event)', ['--min-freq', '20000', '--max-freq', '90000', '--frame', '2048', '--hop', '1024', '--confirm-hits', '2'], /no event was written, but \d+ calls on confirmed tracks were shorter than --min-event \(0.04 s\) and dropped; for calls of a few milliseconds \(bats\) use --profile bats/],
+  ] as const)('without the profile, %s: no event, and stderr says why', (_, args, message) => {
+    const { events, stderr } = scanWithWarnings(wav, ...args);
+    expect(events).toHaveLength(0);
+    expect(stderr).toMatch(message);
+  });
+
+  it('with the profile no such warning', () => {
+    expect(scanWithWarnings(wav, ...PROFILE).stderr).not.toMatch(/no event was written/);
   });
 });
 
