@@ -529,10 +529,10 @@ function makeGrid(shape: ArrayShape, mirror: ArrayMirror | null, stepDeg: number
  * (test/accuracy/bats.test.ts; 0.14 deg with the period rule). There the floor MIN_AUTO_STEP_DEG
  * does not hold: at 384 kHz a 10 cm array's largest lag is 112 samples, and with a floor that
  * fell with the square of the lag step's share a bat's events were 3.9 deg off at p90 (0.2 deg
- * without; the 0.57 deg grid has 127 000 points: about 3 s to set up, then 5x real time here). Audio-band
- * grids stay as the tracker's settings were chosen with them: the period rule at 16 kHz (7.6 kHz
- * on top: a grid twice as fine on a 20 cm square) took the motion matrix (23 draws; cells
- * outside the targets) from 101 to 106, id switches 92 -> 116.
+ * without; the 0.57 deg grid has 127 000 points: about 3 s to set up, then 5x real time here).
+ * Audio-band grids stay as the tracker's settings were chosen with them: the period rule at 16
+ * kHz (7.6 kHz on top: a grid twice as fine on a 20 cm square) took the motion matrix (23 draws;
+ * cells outside the targets) from 101 to 106, id switches 92 -> 116.
  */
 export function autoStepDeg(shape: ArrayShape, largestLag: number, periodSamples: number, topHz: number): number {
   const ultrasonic = topHz > AUDIO_TOP_HZ;

@@ -848,12 +848,12 @@ export class Tracker {
     return false;
   }
 
-  /** End of stream: close every open event of a confirmed track and return those events. */
   /** Events of confirmed tracks dropped as shorter than --min-event (tracking-session.ts: a stream of such calls alone gets a warning). */
   tooShortCount(): number {
     return this.cutter.tooShortCount();
   }
 
+  /** End of stream: close every open event of a confirmed track and return those events. */
   finish(): EventRecord[] {
     if (this.ended) return [];
     this.ended = true;

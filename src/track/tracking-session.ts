@@ -138,16 +138,26 @@ export class TrackingSession {
     const warning = this.checks?.finish() ?? null;
     if (warning !== null) for (const line of warning.split('\n')) this.hooks.onWarning?.(line);
     for (const e of this.tracker.finish()) this.emit(e);
-    const short = this.tracker.tooShortCount();
-    if (this.events === 0 && short >= TOO_SHORT_WARN) {
-      this.hooks.onWarning?.(`no event was written, but ${short} calls on confirmed tracks were shorter than --min-event (${this.tracker.options.minEventS} s) and dropped; for calls of a few milliseconds (bats) use --profile bats, or give a smaller --min-event`);
-    } else if (this.events === 0 && this.hooks.analysedHz !== undefined && this.hooks.analysedHz.rate >= ULTRASOUND_RATE_HZ && this.hooks.analysedHz.top <= AUDIO_TOP_HZ) {
-      const { rate, top } = this.hooks.analysedHz;
-      this.hooks.onWarning?.(`no event was written; the analysis stops at ${top / 1000} kHz (--max-freq) of this ${rate / 1000} kHz recording: for ultrasonic callers (bats) use --profile bats`);
-    } else if (this.events === 0 && this.clearHops >= CLEAR_HOPS_WARN) {
-      this.hooks.onWarning?.(`no event was written, but ${this.clearHops} hops had a confident direction: calls too short to confirm a track (--confirm-hits within --confirm-window hops) or to make an event (--min-event ${this.tracker.options.minEventS} s) are not reported; for calls of a few milliseconds (bats) use --profile bats`);
-    }
+    const why = this.events === 0 ? this.whyNoEvent() : null;
+    if (why !== null) this.hooks.onWarning?.(why);
     return this.drain();
+  }
+
+  /** Why a stream wrote no event, when that looks like calls too short or too high for the settings; null otherwise. */
+  private whyNoEvent(): string | null {
+    const short = this.tracker.tooShortCount();
+    const minEventS = this.tracker.options.minEventS;
+    if (short >= TOO_SHORT_WARN) {
+      return `no event was written, but ${short} calls on confirmed tracks were shorter than --min-event (${minEventS} s) and dropped; for calls of a few milliseconds (bats) use --profile bats, or give a smaller --min-event`;
+    }
+    const hz = this.hooks.analysedHz;
+    if (hz !== undefined && hz.rate >= ULTRASOUND_RATE_HZ && hz.top <= AUDIO_TOP_HZ) {
+      return `no event was written; the analysis stops at ${hz.top / 1000} kHz (--max-freq) of this ${hz.rate / 1000} kHz recording: for ultrasonic callers (bats) use --profile bats`;
+    }
+    if (this.clearHops >= CLEAR_HOPS_WARN) {
+      return `no event was written, but ${this.clearHops} hops had a confident direction: calls too short to confirm a track (--confirm-hits within --confirm-window hops) or to make an event (--min-event ${minEventS} s) are not reported; for calls of a few milliseconds (bats) use --profile bats`;
+    }
+    return null;
   }
 
   summary(): TrackSummary[] {
