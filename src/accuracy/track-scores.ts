@@ -21,6 +21,12 @@
  * source on average over the motion matrix' crossings; { keepCorrespondence: false } scores
  * that way). Other events (ghosts, a direction between or beside the callers) are left out, and
  * a swap of ids at a crossing still counts: the first event past it lies near one source only.
+ * An event shorter than the truth's step (a bat's call of a few ms) is compared over its time
+ * widened by half a step either side: the truth holds a call only at the steps within it, so a
+ * call between two steps is at the nearer one, and the event of it missed the step by up to one
+ * (motion matrix, bats family, 12 draws: calls on their bat's main track 2311 -> 2374 of 2587,
+ * calls with only events of no source 156 -> 93; visible id switches 9 -> 16). Events of a step
+ * or more (every event of the audio profiles: a hop is 10.7 ms or more) are scored as before.
  * Pure: records in, figures out.
  */
 import type { EventRecord } from '../records/record-types.js';
@@ -67,9 +73,15 @@ export interface TrackScores {
  * The source an event is attributed to (see above), or null. `kept`: the source the event's
  * track was last attributed to (the correspondence the CLEAR MOT rule keeps), or null.
  */
+/** The time an event is scored over (see above): its own, or for an event shorter than `step` half a step more either side. */
+function scoredSpan(e: EventRecord, step: number): [number, number] {
+  return e.end_s - e.start_s < step ? [e.start_s - step / 2, e.end_s + step / 2] : [e.start_s, e.end_s];
+}
+
 export function attributeEvent(truth: TruthIndex, e: EventRecord, step: number, toleranceDeg: number, kept: string | null = null): string | null {
   const near = new Set<string>();
-  for (let t = e.start_s; t <= e.end_s + 1e-9; t += step) {
+  const [from, to] = scoredSpan(e, step);
+  for (let t = from; t <= to + 1e-9; t += step) {
     for (const r of truth.activeAt(t)) if (Math.abs(angleDiffDeg(e.azimuth_deg, r.azimuth_deg)) <= toleranceDeg) near.add(r.source);
   }
   if (kept !== null && near.has(kept)) return kept;
@@ -79,9 +91,9 @@ export function attributeEvent(truth: TruthIndex, e: EventRecord, step: number, 
     (src) =>
       src.name !== only &&
       src.records.length > 0 &&
-      src.records[0]!.time_s <= e.end_s &&
-      src.records[src.records.length - 1]!.time_s >= e.start_s &&
-      Math.abs(angleDiffDeg(e.azimuth_deg, truthAzimuthDuring(src, e.start_s, e.end_s))) <= toleranceDeg,
+      src.records[0]!.time_s <= to &&
+      src.records[src.records.length - 1]!.time_s >= from &&
+      Math.abs(angleDiffDeg(e.azimuth_deg, truthAzimuthDuring(src, from, to))) <= toleranceDeg,
   );
   return crowded ? null : only!;
 }
@@ -122,7 +134,10 @@ export function scoreTracks(events: readonly EventRecord[], truth: TruthIndex, s
     const main = majority(mine.map((x) => x.e.track)).value;
     let idSwitches = 0;
     for (let i = 1; i < mine.length; i++) if (mine[i]!.e.track !== mine[i - 1]!.e.track) idSwitches++;
-    const during = (e: EventRecord, c: { startS: number; endS: number }): boolean => e.start_s < c.endS && e.end_s > c.startS;
+    const during = (e: EventRecord, c: { startS: number; endS: number }): boolean => {
+      const [from, to] = scoredSpan(e, step);
+      return from < c.endS && to > c.startS;
+    };
     const missed: MissedCalls = { otherTrack: 0, otherSource: 0, unattributed: 0, none: 0 };
     let found = 0;
     for (const c of src.calls) {

@@ -105,3 +105,17 @@ describe('track scores: two callers crossing each other bearing (CLEAR MOT kept 
     expect(s.tracks.find((t) => t.track === 1)!.attributed).toBe(starts.length);
   });
 });
+
+describe('track scores: events shorter than the truth step (calls of a few ms)', () => {
+  // A 5 ms call that reached the array over 0.7652-0.7702 s is in the truth at the one step inside
+  // it (0.77); its event, from the hops around it, ends at 0.7695, before that step.
+  const truth = indexTruth([...call('bat', 30, 0.77, 0.775), ...call('bat', 33, 0.85, 0.855)]);
+  it('are compared over half a step more either side: the event of the call counts, one a step and a half away does not', () => {
+    const s = scoreTracks([event(0.76, 0.7695, 30.2, 1), event(0.865, 0.87, 33.1, 1)], truth, TRUTH_STEP_S);
+    const bat = s.sources[0]!;
+    expect(bat.calls).toBe(2);
+    expect(bat.completeness).toBeCloseTo(1 / 2, 12);
+    expect(bat.missed.none).toBe(1);
+    expect(s.attributedShare).toBeCloseTo(1 / 2, 12);
+  });
+});
