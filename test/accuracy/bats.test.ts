@@ -42,6 +42,17 @@ describe('a bat passing at 40 deg/s, rendered independently with numpy (192 kHz,
     expect(Math.max(...errors)).toBeLessThan(1);
   });
 
+  it("each event's rate is its track's: within 2 deg/s of the bat's 40 from the sixth call on (the track's rate settles over the first five: 0, 16, 26, 35, 38; the events' own slopes over two hops read -3.5 to 8.2)", () => {
+    const events = scanEvents(wav, ...PROFILE);
+    const rates = events.slice(5).map((e) => e.rate_deg_s!);
+    console.log(`numpy bat: event rates ${Math.min(...rates).toFixed(1)} to ${Math.max(...rates).toFixed(1)} deg/s (true ${RATE})`);
+    for (const r of rates) expect(Math.abs(r - RATE)).toBeLessThan(2);
+    for (const e of events) {
+      expect(Math.abs(angleDiffDeg(e.start_azimuth_deg!, AZ0 + RATE * e.start_s))).toBeLessThan(1);
+      expect(Math.abs(angleDiffDeg(e.end_azimuth_deg!, AZ0 + RATE * e.end_s))).toBeLessThan(1);
+    }
+  });
+
   // Without the profile nothing is written; the scan says why, and what to do, on stderr.
   it.each([
     ['the defaults (the analysis stops at 12 kHz)', [], /no event was written; the analysis stops at 12 kHz \(--max-freq\) of this 192 kHz recording: for ultrasonic callers \(bats\) use --profile bats/],
