@@ -526,8 +526,8 @@ function makeGrid(shape: ArrayShape, mirror: ArrayMirror | null, stepDeg: number
  * about that period, and a coarser grid steps over its peak (the refinement then climbs a
  * neighbouring cycle). At 192 kHz with 90 kHz on top the period is 2.1 samples, and a 10 cm
  * tetrahedron's grid stepped 2.4 samples: a bat's events came out up to 7 deg off
- * (test/accuracy/bats.test.ts; 0.14 deg with the period rule). There the floor MIN_AUTO_STEP_DEG
- * does not hold: at 384 kHz a 10 cm array's largest lag is 112 samples, and with a floor that
+ * (test/accuracy/bats.test.ts; 0.14 deg with the period rule, 0.15 s memory). There the floor
+ * MIN_AUTO_STEP_DEG does not hold: at 384 kHz a 10 cm array's largest lag is 112 samples, and with a floor that
  * fell with the square of the lag step's share a bat's events were 3.9 deg off at p90 (0.2 deg
  * without; the 0.57 deg grid has 127 000 points: about 3 s to set up, then 5x real time here).
  * Audio-band grids stay as the tracker's settings were chosen with them: the period rule at 16

@@ -472,9 +472,10 @@ const ALIAS_WITHIN_S = 1;
  * An event of fewer hops than this reports its track's angular rate rather than the slope of a
  * line through its own hops (collect): over two or three hops that slope is the evidence
  * memory's lag and noise. A bat passing at 40 deg/s with 5 ms calls (test/accuracy/bats.test.ts,
- * numpy): its events' own slopes -3.5 to 8.2 deg/s (median 2.5); the track's 39.1-40.5 from the
- * sixth call on (0, 16, 26, 35, 38 over the first five, as the track learns its rate). At 48 kHz
- * an event of the default --min-event has 4 hops.
+ * numpy; the bats profile with the default 0.15 s memory): its events' own slopes -3.5 to 8.2
+ * deg/s (median 2.5); the track's 39.1-40.5 from the sixth call on (0, 16, 26, 35, 38 over the
+ * first five, as the track learns its rate). At 48 kHz an event of the default --min-event has 4
+ * hops.
  */
 const SHORT_EVENT_HOPS = 4;
 /** Through which model a candidate joins a track: its filter's prediction, its resting place, its trend. */
