@@ -118,8 +118,7 @@ export class SrpDirectionModel implements DirectionModel {
     // Default step: fine enough that no pair's lag is more than about 0.7 samples off at the
     // nearest grid point (the refinement then takes it the rest of the way).
     const largestLag = Math.max(...this.maxLag);
-    const topHz = grid.topHz ?? sampleRate / 4;
-    const step = grid.stepDeg ?? autoStepDeg(shape, largestLag, sampleRate / topHz, topHz);
+    const step = grid.stepDeg ?? autoStepDeg(shape, largestLag, sampleRate, grid.topHz ?? sampleRate / 4);
     this.gridDirs = makeGrid(shape, this.mirror, step);
     const G = this.gridDirs.length;
     this.curvePairs = longestPairs(this.baselines, grid.pairs ?? 0);
@@ -522,7 +521,7 @@ function makeGrid(shape: ArrayShape, mirror: ArrayMirror | null, stepDeg: number
  * The automatic grid step, degrees. The lag step between neighbouring grid points (along the
  * largest lag) is at most GRID_LAG_STEP samples and, where the analysis reaches above the audio
  * band (`topHz` over AUDIO_TOP_HZ), GRID_PERIOD_SHARE of the period of its highest frequency
- * (`periodSamples`, sample rate / topHz): the correlation of a band-limited call oscillates at
+ * (sampleRate / topHz samples): the correlation of a band-limited call oscillates at
  * about that period, and a coarser grid steps over its peak (the refinement then climbs a
  * neighbouring cycle). At 192 kHz with 90 kHz on top the period is 2.1 samples, and a 10 cm
  * tetrahedron's grid stepped 2.4 samples: a bat's events came out up to 7 deg off
@@ -534,9 +533,9 @@ function makeGrid(shape: ArrayShape, mirror: ArrayMirror | null, stepDeg: number
  * kHz (7.6 kHz on top: a grid twice as fine on a 20 cm square) took the motion matrix (23 draws;
  * cells outside the targets) from 101 to 106, id switches 92 -> 116.
  */
-export function autoStepDeg(shape: ArrayShape, largestLag: number, periodSamples: number, topHz: number): number {
+export function autoStepDeg(shape: ArrayShape, largestLag: number, sampleRate: number, topHz: number): number {
   const ultrasonic = topHz > AUDIO_TOP_HZ;
-  const lagStep = ultrasonic ? Math.min(GRID_LAG_STEP, GRID_PERIOD_SHARE * periodSamples) : GRID_LAG_STEP;
+  const lagStep = ultrasonic ? Math.min(GRID_LAG_STEP, (GRID_PERIOD_SHARE * sampleRate) / topHz) : GRID_LAG_STEP;
   return Math.max(ultrasonic ? 0 : MIN_AUTO_STEP_DEG, Math.min(shape === 'line' ? 3 : 8, ((lagStep / largestLag) * 180) / Math.PI));
 }
 

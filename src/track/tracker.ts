@@ -468,16 +468,6 @@ const TREND_WANDER_DEG_S = 1.5;
  * (test/track/tracker.test.ts).
  */
 const ALIAS_WITHIN_S = 1;
-/**
- * An event of fewer hops than this reports its track's angular rate rather than the slope of a
- * line through its own hops (collect): over two or three hops that slope is the evidence
- * memory's lag and noise. A bat passing at 40 deg/s with 5 ms calls (test/accuracy/bats.test.ts,
- * numpy; the bats profile with the default 0.15 s memory): its events' own slopes -3.5 to 8.2
- * deg/s (median 2.5); the track's 39.1-40.5 from the sixth call on (0, 16, 26, 35, 38 over the
- * first five, as the track learns its rate). At 48 kHz an event of the default --min-event has 4
- * hops.
- */
-const SHORT_EVENT_HOPS = 4;
 /** Through which model a candidate joins a track: its filter's prediction, its resting place, its trend. */
 const BY_PREDICTION = 0;
 const AT_REST = 1;
@@ -628,7 +618,7 @@ export class Tracker {
     this.activeS = new Float64Array(n);
     this.chosen = new Int32Array(n);
     this.lifetime = new DirectionSums(n, o.mirror, this.sc);
-    this.cutter = new EventCutter(n, o, this.sc);
+    this.cutter = new EventCutter(n, o, this.sc, this.az.rate);
     this.assigner = new NearestNeighbourAssigner(n, c);
     this.listed = new Int32Array(n);
     this.listedChoice = new Int32Array(n);
@@ -1609,19 +1599,7 @@ export class Tracker {
     return events;
   }
 
-  /**
-   * Count an event of slot s into its summary and add it to `events`. An event of fewer than
-   * SHORT_EVENT_HOPS hops on an array whose mirror does not flip azimuth takes its track's angular
-   * rate, and its ends from that rate about its mean.
-   */
   private collect(events: EventRecord[] | null, s: number, record: EventRecord): EventRecord[] {
-    const dur = record.end_s - record.start_s;
-    if (this.sideDeg === null && dur < SHORT_EVENT_HOPS * this.sc.hop[HOP_S]! - 1e-9) {
-      const rate = this.az.rate[s]!;
-      record.rate_deg_s = rate;
-      record.start_azimuth_deg = wrapDeg(record.azimuth_deg - (rate * dur) / 2);
-      record.end_azimuth_deg = wrapDeg(record.azimuth_deg + (rate * dur) / 2);
-    }
     this.eventCount[s] = this.eventCount[s]! + 1;
     this.activeS[s] = this.activeS[s]! + (record.end_s - record.start_s);
     if (events === null) return [record];
