@@ -78,7 +78,7 @@ import type { EventRecord } from '../records/record-types.js';
 import { AngleFilterBank, IO_DT, IO_HOLD_RATE, IO_R, IO_RATE_SIGMA, IO_Z } from './angle-filter.js';
 import { NearestNeighbourAssigner } from './assignment.js';
 import { DirectionSums } from './direction-sums.js';
-import { EventCutter } from './event-cutter.js';
+import { EventCutter, ZENITH_DEG } from './event-cutter.js';
 import { wrapDeg } from './circular.js';
 import { BAND_HI, BAND_LO, CONFIDENCE, DT, FRESH_Z, HOP_S, HopScratch, LEVEL, ONSET, SNR, TIME } from './hop-scratch.js';
 import { resolveTrackerOptions, type TrackerOptions, type TrackerSettings } from './options.js';
@@ -205,14 +205,14 @@ const HOME_MIN_SD_DEG = 1.5;
 const HOME_MIN_EL_SD_DEG = 6;
 
 /**
- * A candidate this close to the zenith (or nadir), |elevation| in degrees, starts no track: the
- * azimuth a track follows is undefined there (a flat array reads zero delays on every pair as
- * straight overhead, which is also what sound arriving at all mics at once gives: the coherent
- * part of wind buffeting, which read as confident callers overhead). It may still support a
- * live track whose lifetime mean elevation is above NEAR_ZENITH_TRACK_DEG, with its azimuth noise widened
- * by 1 / cos^2 elevation (its azimuth would drag any other track off its caller).
+ * A candidate above ZENITH_DEG of elevation, or below -ZENITH_DEG (./event-cutter.ts: within 12
+ * deg of the zenith or nadir), starts no track: the azimuth a track follows is undefined there
+ * (a flat array reads zero delays on every pair as straight overhead, which is also what sound
+ * arriving at all mics at once gives: the coherent part of wind buffeting, which read as
+ * confident callers overhead). It may still support a live track whose lifetime mean elevation
+ * is above NEAR_ZENITH_TRACK_DEG, with its azimuth noise widened by 1 / cos^2 elevation (its
+ * azimuth would drag any other track off its caller).
  */
-const ZENITH_DEG = 78;
 const NEAR_ZENITH_TRACK_DEG = 58;
 /**
  * A confirmed track of at most DORMANT_EVENTS events whose supports that moved it span less than
@@ -851,6 +851,11 @@ export class Tracker {
   /** Events of confirmed tracks dropped as shorter than --min-event (tracking-session.ts: a stream of such calls alone gets a warning). */
   tooShortCount(): number {
     return this.cutter.tooShortCount();
+  }
+
+  /** Events left out so far as read straight overhead on a flat array (EventCutter.overheadCount). */
+  overheadCount(): number {
+    return this.cutter.overheadCount();
   }
 
   /** End of stream: close every open event of a confirmed track and return those events. */

@@ -6,6 +6,7 @@ import { MAX_WATCHED } from '../analysis/watched-directions.js';
 import { bearingOf, round, toFrameRecord, type FrameRecordSettings } from '../records/frame-record.js';
 import type { EventRecord } from '../records/record-types.js';
 import type { RecordSink, SinkResult } from '../sinks/record-sink.js';
+import { ZENITH_DEG } from './event-cutter.js';
 import { Tracker } from './tracker.js';
 import type { TrackerOptions } from './options.js';
 import type { DirectionCandidate, HopObservation, TrackSummary } from './types.js';
@@ -140,6 +141,10 @@ export class TrackingSession {
     for (const e of this.tracker.finish()) this.emit(e);
     const why = this.events === 0 ? this.whyNoEvent() : null;
     if (why !== null) this.hooks.onWarning?.(why);
+    const overhead = this.tracker.overheadCount();
+    if (overhead > 0) {
+      this.hooks.onWarning?.(`${overhead} event${overhead === 1 ? ' was' : 's were'} read within ${90 - ZENITH_DEG} deg of straight overhead and left out: on a flat array they have no bearing, and wind buffeting every mic at once reads there`);
+    }
     return this.drain();
   }
 
