@@ -15,6 +15,19 @@ import { tempDir } from '../helpers/temp-dir.js';
 
 const dir = tempDir('accuracy').dir;
 
+/** A 48 kHz scene of one caller before an array 1 m up, in wind (the simulator's scene file). */
+function oneCaller(geometry: string, seed: number, durationS: number, source: Record<string, unknown>, windDbfs: number) {
+  return {
+    sample_rate_hz: 48000,
+    duration_s: durationS,
+    seed,
+    speed_of_sound_m_s: 343,
+    array: { geometry, position_m: [0, 0, 1], heading_deg: 0 },
+    sources: [source],
+    noise: { floor_dbfs: -62, wind_dbfs: windDbfs },
+  };
+}
+
 /** The events of a scan of `wav`, scored against its truth, with what the scan said on stderr. */
 function scanScored(wav: string) {
   const scan = scanWithWarnings(wav, '--speed-of-sound', '343');
@@ -25,23 +38,14 @@ describe('a chorus in gusty wind on a flat array', () => {
   // A chorus 61 deg west of the array's front, 18 dB over wind at -48 dBFS, calling in bouts of
   // six with 9 s between bouts, on a 10 cm triangle. As each call ends its direction fades into
   // the wind's zero delays and the readings walk up to the zenith.
-  const wav = render(dir, 'overhead-wind', {
-    sample_rate_hz: 48000,
-    duration_s: 45,
-    seed: 71,
-    speed_of_sound_m_s: 343,
-    array: { geometry: 'triangle-10cm', position_m: [0, 0, 1], heading_deg: 0 },
-    sources: [
-      {
-        name: 'chorus',
-        position_m: [-9, 5, 0.2],
-        signal: { type: 'tone', f0_hz: 780, harmonics: [1, 0.4, 0.2], pulse_rate_hz: 22, pulse_duty: 0.5 },
-        level: { dbfs_at_array: -30 },
-        calls: { start_s: 1, length_s: 0.3, every_s: 0.8, jitter_s: 0.1, per_bout: 6, bout_gap_s: 9 },
-      },
-    ],
-    noise: { floor_dbfs: -62, wind_dbfs: -48 },
-  });
+  const chorus = {
+    name: 'chorus',
+    position_m: [-9, 5, 0.2],
+    signal: { type: 'tone', f0_hz: 780, harmonics: [1, 0.4, 0.2], pulse_rate_hz: 22, pulse_duty: 0.5 },
+    level: { dbfs_at_array: -30 },
+    calls: { start_s: 1, length_s: 0.3, every_s: 0.8, jitter_s: 0.1, per_bout: 6, bout_gap_s: 9 },
+  };
+  const wav = render(dir, 'overhead-wind', oneCaller('triangle-10cm', 71, 45, chorus, -48));
   const run = scanScored(wav);
 
   it('writes no event within 12 deg of straight overhead, says how many it left out, and keeps every call of the chorus on one track', () => {
@@ -61,23 +65,14 @@ describe('a chorus in gusty wind on a flat array', () => {
 describe('a caller 64 deg up on a flat array', () => {
   // A broadband caller 14 m over and 6 m beside a 10 cm square (elevation 64 deg): high, but not
   // overhead; its events stay.
-  const wav = render(dir, 'overhead-high', {
-    sample_rate_hz: 48000,
-    duration_s: 8,
-    seed: 74,
-    speed_of_sound_m_s: 343,
-    array: { geometry: 'square-10cm', position_m: [0, 0, 1], heading_deg: 0 },
-    sources: [
-      {
-        name: 'high',
-        position_m: [4, 5, 14],
-        signal: { type: 'noise', low_hz: 1500, high_hz: 7000 },
-        level: { dbfs_at_array: -30 },
-        calls: { start_s: 0.5, length_s: 0.15, every_s: 0.5, jitter_s: 0.05 },
-      },
-    ],
-    noise: { floor_dbfs: -62, wind_dbfs: -50 },
-  });
+  const high = {
+    name: 'high',
+    position_m: [4, 5, 14],
+    signal: { type: 'noise', low_hz: 1500, high_hz: 7000 },
+    level: { dbfs_at_array: -30 },
+    calls: { start_s: 0.5, length_s: 0.15, every_s: 0.5, jitter_s: 0.05 },
+  };
+  const wav = render(dir, 'overhead-high', oneCaller('square-10cm', 74, 8, high, -50));
   const run = scanScored(wav);
 
   it('keeps an event for each of its calls on one track', () => {
