@@ -69,15 +69,15 @@ export interface TrackScores {
   attributedShare: number;
 }
 
-/**
- * The source an event is attributed to (see above), or null. `kept`: the source the event's
- * track was last attributed to (the correspondence the CLEAR MOT rule keeps), or null.
- */
 /** The time an event is scored over (see above): its own, or for an event shorter than `step` half a step more either side. */
 function scoredSpan(e: EventRecord, step: number): [number, number] {
   return e.end_s - e.start_s < step ? [e.start_s - step / 2, e.end_s + step / 2] : [e.start_s, e.end_s];
 }
 
+/**
+ * The source an event is attributed to (see above), or null. `kept`: the source the event's
+ * track was last attributed to (the correspondence the CLEAR MOT rule keeps), or null.
+ */
 export function attributeEvent(truth: TruthIndex, e: EventRecord, step: number, toleranceDeg: number, kept: string | null = null): string | null {
   const near = new Set<string>();
   const [from, to] = scoredSpan(e, step);
@@ -129,15 +129,17 @@ export function scoreTracks(events: readonly EventRecord[], truth: TruthIndex, s
     const top = majority(mine.map((x) => x.source));
     return { track, attributed: mine.length, source: top.value, purity: mine.length ? top.count / mine.length : 1 };
   });
+  // Each event's scored span, worked out once: the calls of every source are compared with every event.
+  const spans = new Map(sorted.map((e) => [e, scoredSpan(e, step)] as const));
+  const during = (e: EventRecord, c: { startS: number; endS: number }): boolean => {
+    const [from, to] = spans.get(e)!;
+    return from < c.endS && to > c.startS;
+  };
   const sources = truth.sources.map((src) => {
     const mine = attributed.filter((x) => x.source === src.name);
     const main = majority(mine.map((x) => x.e.track)).value;
     let idSwitches = 0;
     for (let i = 1; i < mine.length; i++) if (mine[i]!.e.track !== mine[i - 1]!.e.track) idSwitches++;
-    const during = (e: EventRecord, c: { startS: number; endS: number }): boolean => {
-      const [from, to] = scoredSpan(e, step);
-      return from < c.endS && to > c.startS;
-    };
     const missed: MissedCalls = { otherTrack: 0, otherSource: 0, unattributed: 0, none: 0 };
     let found = 0;
     for (const c of src.calls) {

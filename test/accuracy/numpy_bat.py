@@ -13,7 +13,7 @@ import sys
 
 import numpy as np
 
-from numpy_plane_wave import HALF, render, write_take
+from numpy_plane_wave import PAD, at_rms, path_directions, render, silent_source, write_take
 
 FS = 192000
 S = 0.1 / np.sqrt(8)  # a regular tetrahedron of 10 cm edges
@@ -27,8 +27,7 @@ def main():
     out, az0, rate, dur = sys.argv[1], float(sys.argv[2]), float(sys.argv[3]), float(sys.argv[4])
     rng = np.random.default_rng(11)
     n = int(dur * FS)
-    pad = 2 * HALF
-    src = np.zeros(n + 2 * pad)
+    src = silent_source(n)
     calls = []
     t = 0.1
     m = int(CALL_S * FS)
@@ -37,15 +36,11 @@ def main():
     sweep = np.sin(2 * np.pi * (HI_HZ * tt - (HI_HZ - LO_HZ) * tt**2 / (2 * CALL_S))) * np.hanning(m)
     while t + CALL_S <= dur - 0.05:
         a = int(t * FS)
-        src[pad + a : pad + a + m] = sweep
+        src[PAD + a : PAD + a + m] = sweep
         calls.append([t, t + CALL_S])
         t += EVERY_S
-    src *= 0.1 / np.sqrt(np.mean(src[src != 0] ** 2))
-    times = np.arange(n) / FS
-    az = np.radians(az0 + rate * times)
-    el = np.radians(ELEVATION_DEG)
-    u = np.stack([np.sin(az) * np.cos(el), np.cos(az) * np.cos(el), np.full(n, np.sin(el))], axis=1)
-    data = render(src, u, MICS, FS, pad) + 1e-3 * rng.standard_normal((n, 4))
+    u = path_directions(n, FS, az0, rate, ELEVATION_DEG)
+    data = render(at_rms(src), u, MICS, FS) + 1e-3 * rng.standard_normal((n, 4))
     write_take(out, data, FS, MICS, 'tetrahedron-10cm-numpy')
     print(json.dumps(calls))
 

@@ -13,7 +13,7 @@ import sys
 
 import numpy as np
 
-from numpy_plane_wave import HALF, render, write_take
+from numpy_plane_wave import PAD, at_rms, path_directions, render, silent_source, write_take
 
 FS = 48000
 MICS = np.array([[-0.1, 0.1, 0.0], [0.1, 0.1, 0.0], [0.1, -0.1, 0.0], [-0.1, -0.1, 0.0]])
@@ -34,22 +34,18 @@ def main():
     FS = int(sys.argv[7]) if len(sys.argv) > 7 else 48000
     rng = np.random.default_rng(7)
     n = int(dur * FS)
-    pad = 2 * HALF
-    src = np.zeros(n + 2 * pad)
+    src = silent_source(n)
     calls = []
     t = 0.2
     while t + call_s <= dur - 0.1:
         a, b = int(t * FS), int((t + call_s) * FS)
         burst = band_noise(rng, b - a, 500, 4000)
         ramp = np.minimum(1, np.minimum(np.arange(b - a), np.arange(b - a)[::-1]) / (0.005 * FS))
-        src[pad + a : pad + b] = burst * ramp
+        src[PAD + a : PAD + b] = burst * ramp
         calls.append([t, t + call_s])
         t += every_s
-    src *= 0.1 / np.sqrt(np.mean(src[src != 0] ** 2))
-    times = np.arange(n) / FS
-    az = np.radians(az0 + rate * times)
-    u = np.stack([np.sin(az), np.cos(az), np.zeros(n)], axis=1)
-    data = render(src, u, MICS, FS, pad) + 1e-3 * rng.standard_normal((n, 4))
+    u = path_directions(n, FS, az0, rate)
+    data = render(at_rms(src), u, MICS, FS) + 1e-3 * rng.standard_normal((n, 4))
     write_take(out, data, FS, MICS, 'square-20cm-numpy')
     print(json.dumps(calls))
 
