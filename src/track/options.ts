@@ -41,6 +41,8 @@ export interface TrackerOptions {
   confirmWindow: number;
   /** A confirmed track dies after this long without a support that moved it, seconds. */
   trackTimeoutS: number;
+  /** ... a settled (static) track after this long, seconds (at least trackTimeoutS). */
+  staticTimeoutS: number;
   /** Most tracks alive at once (tentative ones included), at most 16. */
   maxTracks: number;
   /**
@@ -121,6 +123,8 @@ export const trackerOptionSpecs: readonly NumberSpec<NumericKey>[] = [
     '... within its first N hops, else dropped'),
   numberSpec('trackTimeoutS', '--track-timeout <s>', 's', 10, { min: 0, max: 86400, minExclusive: true },
     'a track dies after this long without a reading that moved it; a source calling again later gets a new id'),
+  numberSpec('staticTimeoutS', '--static-timeout <s>', 's', 300, { min: 0, max: 86400, minExclusive: true },
+    'the same for a track that has stayed at one bearing (a chorus, a perched caller): it keeps its id through pauses this long (at least --track-timeout)'),
   numberSpec('maxTracks', '--max-tracks <n>', 'tracks', 8, { min: 1, max: TRACK_LIMIT, integer: true },
     `most tracks alive at once (new and confirmed), at most ${TRACK_LIMIT}`),
   numberSpec('eventEnterSnrDb', '--event-enter-snr <dB>', 'dB', 10, { min: 0, max: 60 },

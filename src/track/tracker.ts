@@ -45,7 +45,9 @@
  *    that mover's last reading: ONWARD_SPAN_S) after confirmHits supported hops within
  *    confirmWindow hops, else dropped;
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
- *    unsupported and die after trackTimeoutS without a support that moved them; a track of
+ *    unsupported and die after trackTimeoutS without a support that moved them (a settled
+ *    track, below: after staticTimeoutS, so a chorus keeps its id through long pauses; when
+ *    every slot is taken, the settled track quiet longest beyond trackTimeoutS makes room); a track of
  *    DORMANT_EVENTS events or fewer that moved over less than DORMANT_SPAN_S is dormant after
  *    DORMANT_AFTER_S without moving (it takes no candidate and blocks no birth, but lends its id,
  *    above, and gives up its slot when every slot is taken);
@@ -707,7 +709,7 @@ export class Tracker {
       const j = this.chosen[s]!;
       const ended = this.cutter.step(s, j, track, this.onsetElsewhere(s, winnerSlot), j >= 0 && this.keepsOnly(j));
       if (ended !== null) events = this.collect(events, s, ended);
-      if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastMovedT[s]! > this.options.trackTimeoutS) {
+      if (this.state[s] === CONFIRMED && hop[TIME]! - this.lastMovedT[s]! > this.timeoutOf(s)) {
         events = this.retire(s, events);
       }
     }
@@ -1204,6 +1206,12 @@ export class Tracker {
     if (this.hasEl[s] === 1 && this.restEl[s] === this.restEl[s]) this.el.restart(s, this.restEl[s]!, this.restElVar[s]! + grow2);
   }
 
+  /** How long confirmed slot s may go without a support that moved it (a settled track: --static-timeout). */
+  private timeoutOf(s: number): number {
+    const o = this.options;
+    return this.settled[s] === 1 ? Math.max(o.trackTimeoutS, o.staticTimeoutS) : o.trackTimeoutS;
+  }
+
   /** Is confirmed, unsettled slot s dormant (DORMANT_SPAN_S)? */
   private isDormant(s: number): boolean {
     return this.eventCount[s]! <= DORMANT_EVENTS && this.lastMovedT[s]! - this.firstSeenT[s]! < DORMANT_SPAN_S && this.sc.hop[TIME]! - this.lastMovedT[s]! > DORMANT_AFTER_S;
@@ -1455,6 +1463,7 @@ export class Tracker {
       if (s === this.size) {
         // Every slot is taken: a dormant track (the longest unmoved) makes room.
         s = this.longestDormant();
+        if (s < 0) s = this.longestQuietSettled();
         if (s < 0) return events;
         events = this.retire(s, events);
       }
@@ -1497,6 +1506,8 @@ export class Tracker {
     for (let s = 0; s < this.size; s++) {
       if (this.state[s] === FREE || this.dormant[s] === 1 || this.otherBand(s, j) || this.strangerOffHome(s, j)) continue;
       if (this.flat && this.nearZenith(s) && this.belowOnFlat(s, j)) continue;
+      // A settled track quiet beyond --track-timeout (kept by --static-timeout) takes nothing beyond its reach, and keeps nothing there from starting a track.
+      if (this.settled[s] === 1 && this.quietBeyondTimeout(s) && this.beyondReach(s, j)) continue;
       if (this.gate(s, j, false)) return true;
     }
     return false;
@@ -1533,6 +1544,20 @@ export class Tracker {
       }
     }
     return events;
+  }
+
+  /** The settled slot quiet for longer than --track-timeout that has gone longest without moving; -1 for none. */
+  private longestQuietSettled(): number {
+    let best = -1;
+    for (let d = 0; d < this.size; d++) {
+      if (this.settled[d] === 1 && this.quietBeyondTimeout(d) && (best < 0 || this.lastMovedT[d]! < this.lastMovedT[best]!)) best = d;
+    }
+    return best;
+  }
+
+  /** Has slot s gone longer than --track-timeout without a support that moved it (a settled track, which --static-timeout keeps)? */
+  private quietBeyondTimeout(s: number): boolean {
+    return this.sc.hop[TIME]! - this.lastMovedT[s]! > this.options.trackTimeoutS;
   }
 
   /** The dormant slot that has gone longest without moving; -1 for none. */

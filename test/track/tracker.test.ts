@@ -474,12 +474,37 @@ describe('births, coasting and deaths', () => {
     const calls: [number, number][] = [[0.1, 0.4], [3.1, 3.4], [20.1, 20.4]];
     const sources: TruthSource[] = [{ azimuthAt: () => 10, calls, levelDbfs: -30 }];
     const synth = generateHops(sources, { durationS: 21, hopS: 0.01, seed: 2, noiseDeg: 1, clutter: 0, dropout: 0 });
-    const r = run(synth, { trackTimeoutS: 10 });
+    // (The caller holds one bearing for 3 s: a settled track, which --static-timeout keeps; here as long as --track-timeout.)
+    const r = run(synth, { trackTimeoutS: 10, staticTimeoutS: 10 });
     expect(r.events.map((e) => e.track)).toEqual([1, 1, 2]);
     const summary = r.tracker.summary();
     expect(summary.map((s) => s.track)).toEqual([1, 2]);
     expect(summary[0]!.lastSeenS).toBeLessThan(3.5);
     expect(summary[0]!.events).toBe(2);
+  });
+
+  it('a caller that held one bearing (a chorus) keeps its id through pauses up to --static-timeout, not only --track-timeout', () => {
+    // Bouts at 10 deg: 0.1 to 3.4 s (settled: followed 3 s), then after 40 s and after 200 s more.
+    const calls: [number, number][] = [[0.1, 0.4], [1.1, 1.4], [2.1, 2.4], [3.1, 3.4], [43.1, 43.4], [44.1, 44.4], [244.1, 244.4]];
+    const synth = generateHops([{ azimuthAt: () => 10, calls, levelDbfs: -30 }], { durationS: 245, hopS: 0.01, seed: 3, noiseDeg: 1, clutter: 0, dropout: 0 });
+    expect(run(synth, { trackTimeoutS: 10, staticTimeoutS: 300 }).events.map((e) => e.track)).toEqual([1, 1, 1, 1, 1, 1, 1]);
+    expect(run(synth, { trackTimeoutS: 10, staticTimeoutS: 100 }).events.map((e) => e.track)).toEqual([1, 1, 1, 1, 1, 1, 2]);
+    // A caller that moves is no chorus: it keeps --track-timeout.
+    const mover: TruthSource = { azimuthAt: (t) => -60 + 4 * t, calls: calls.slice(0, 6), levelDbfs: -30 };
+    const moving = run(generateHops([mover], { durationS: 45, hopS: 0.01, seed: 3, noiseDeg: 1, clutter: 0, dropout: 0 }), { trackTimeoutS: 10, staticTimeoutS: 300 });
+    expect(moving.events.map((e) => e.track)).toEqual([1, 1, 1, 1, 2, 2]);
+  });
+
+  it('a new caller 12 deg from a chorus that has gone quiet gets a track of its own, every call an event', () => {
+    // The chorus at 10 deg calls 0.1 to 3.4 s and stops; from 60 s a caller at 22 deg (the
+    // chorus' track, kept by --static-timeout, gates it but does not take it: beyond its reach).
+    const chorus: TruthSource = { azimuthAt: () => 10, calls: [[0.1, 0.4], [1.1, 1.4], [2.1, 2.4], [3.1, 3.4]], levelDbfs: -30 };
+    const newcomer: TruthSource = { azimuthAt: () => 22, calls: [[60.1, 60.4], [61.1, 61.4], [62.1, 62.4], [63.1, 63.4]], levelDbfs: -30 };
+    const r = run(generateHops([chorus, newcomer], { durationS: 64, hopS: 0.01, seed: 5, noiseDeg: 1, clutter: 0, dropout: 0 }), { trackTimeoutS: 10, staticTimeoutS: 300 });
+    const late = r.events.filter((e) => e.start_s > 59);
+    expect(late.map((e) => Math.round(e.azimuth_deg))).toEqual([22, 22, 22, 22]);
+    expect(new Set(late.map((e) => e.track))).toEqual(new Set([2]));
+    expect(r.events.filter((e) => e.start_s < 4).map((e) => e.track)).toEqual([1, 1, 1, 1]);
   });
 
   it('does not confirm clutter alone (M of N), and a call shorter than minEventS is no event', () => {
