@@ -10,6 +10,7 @@ import { wrapDeg } from '../geometry/vec3.js';
 import type { ResolvedAnalysis } from './analysis-options.js';
 import { BandFusion, MIN_SUPPORT, type FusionResult } from './band-fusion.js';
 import { BinDirections, MAX_BIN_PEAKS, SEVERAL_RUNS } from './bin-directions.js';
+import { closureOff, COMMON_MODE_SHARE } from './closure.js';
 import { confidenceOf, type ConfidenceFeatures } from './confidence.js';
 import { WatchedDirections } from './watched-directions.js';
 
@@ -269,6 +270,10 @@ export interface HopResult {
   tdoaS: Float64Array;
   /** Per pair (arrays of 3+ mics): the delay of the pair's own strong correlation peak nearest the answer's (OWN_PEAK_SHARE), seconds (NaN when none). */
   pairOwnTdoaS: Float64Array;
+  /** Arrays of 3+ mics: the RMS over pairs of the answer's delay less the pair's own peak's (pairOwnTdoaS), samples; NaN when none. */
+  closureSamples: number;
+  /** The answer fits no direction of the array and the pairs' own peaks lie nearer zero delay than its: a sound at every mic at once (COMMON_MODE_SHARE); its confidence is 0. */
+  commonMode: boolean;
   /** Sources found, strongest first. */
   sourceCount: number;
   /** centreHz: the centre frequency of the bands that support the source (support-weighted), Hz; NaN for a source of the bins. */
@@ -413,6 +418,8 @@ export class HopAnalyzer {
   private prevValid = false;
   private readonly useBand: Uint8Array;
   private readonly refined: Float64Array;
+  /** The largest delay searched on any pair, samples (at least 1). */
+  private readonly largestLag: number;
   /** Scratch of the pairs' joint refinement (derivatives, which pairs still step). */
   private readonly refineScratch: Float64Array;
   private readonly refineActive: Uint8Array;
@@ -550,6 +557,7 @@ export class HopAnalyzer {
     let widest = 0;
     for (let p = 0; p < P; p++) widest = Math.max(widest, model.maxLag[p]!);
     this.apertureS = Math.max(1, widest - 1) / (1 + options.lagMargin) / sampleRate;
+    this.largestLag = Math.max(1, widest);
     this.useBand = k ? k.u8(options.bands) : new Uint8Array(options.bands);
     this.pairBandScores = new Float64Array(options.bands);
     this.refined = new Float64Array(P);
@@ -596,6 +604,8 @@ export class HopAnalyzer {
       valid: false,
       tdoaS: new Float64Array(P),
       pairOwnTdoaS: new Float64Array(P),
+      closureSamples: NaN,
+      commonMode: false,
       sourceCount: 0,
       sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0, centreHz: NaN, underLouder: false, aliasOf: -1 })),
       bandVoteWeight: new Float64Array(options.bands),
@@ -1102,6 +1112,8 @@ export class HopAnalyzer {
     res.supportLastBand = -1;
     res.tdoaS.fill(NaN);
     res.pairOwnTdoaS.fill(NaN);
+    res.closureSamples = NaN;
+    res.commonMode = false;
     res.bandVoteWeight.fill(0);
     res.bandVoteCandidate.fill(-1);
     res.bandVoteTdoaS.fill(NaN);
@@ -1425,7 +1437,35 @@ export class HopAnalyzer {
       }
       res.pairOwnTdoaS[p] = best / this.sampleRate;
     }
+    this.closure(res, P);
     if (this.diagnostics) this.pairDiagnostics(res, P);
+  }
+
+  /**
+   * How far the answer's delays lie from the pairs' own peaks (closureSamples, read by the
+   * geometry check, ./stream-checks.ts), and whether the hop is a sound at every mic at once
+   * (commonMode): its answer off the pairs' own peaks (CLOSURE_SAMPLES and CLOSURE_SHARE of the
+   * largest delay) while those lie nearer zero delay than the answer's (COMMON_MODE_SHARE). On an
+   * array in three dimensions no direction gives every pair zero delay, so the search settles
+   * anywhere; such a hop has confidence 0.
+   */
+  private closure(res: HopResult, P: number): void {
+    let sq = 0;
+    let own2 = 0;
+    let answer2 = 0;
+    let n = 0;
+    for (let p = 0; p < P; p++) {
+      const own = res.pairOwnTdoaS[p]! * this.sampleRate;
+      if (!Number.isFinite(own)) continue;
+      const answer = this.refined[p]!;
+      sq += (answer - own) * (answer - own);
+      own2 += own * own;
+      answer2 += answer * answer;
+      n++;
+    }
+    res.closureSamples = n > 0 ? Math.sqrt(sq / n) : NaN;
+    res.commonMode = closureOff(res.closureSamples, this.largestLag) && Math.sqrt(own2) < COMMON_MODE_SHARE * Math.sqrt(answer2);
+    if (res.commonMode) res.confidence = 0;
   }
 
   /**

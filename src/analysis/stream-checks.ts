@@ -15,12 +15,28 @@
  */
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
 import { dot, sub } from '../geometry/vec3.js';
+import { closureOff } from './closure.js';
 import type { HopResult } from './hop-analyzer.js';
 
-/** Confident hops needed before a check may speak. */
-const MIN_HOPS = 30;
-/** Share of confident hops at the window edge (or off the geometry) that triggers the warning. */
+/**
+ * Confident hops needed before a check may speak while the stream runs (at its end, 10 do). With
+ * 30, the first hops decided: a stream's first tenths of a second (the noise floor still being
+ * learnt, wind read at random directions) or a stretch of two choruses calling at once, and a
+ * right geometry was called wrong (at 300 still one cell: 46 % of its first 300 judged hops off,
+ * 26 % of all). Motion-matrix cells scanned with the right geometry and with a wrong one (two mics
+ * swapped, positions at half, three quarters or twice their scale), cells warned (either check)
+ * with 30 -> 1000 and the geometry check's share 0.25 -> 0.3 (GEOMETRY_TRIGGER_SHARE): 48 kHz,
+ * four draws (1313, 2027, 77, 4242; 104 cells each): right 7 -> 0, swapped 57 -> 52, half 94 ->
+ * 81, three quarters 90 -> 80, twice 14 -> 11; 16 kHz, three draws (78 cells each): right 6 -> 0,
+ * swapped 44 -> 36, half 73 -> 69, three quarters 66 -> 58, twice 18 -> 17. A wrong geometry
+ * keeps being judged all night; a right one called wrong sends its user to check an array that
+ * is fine.
+ */
+const MIN_HOPS = 1000;
+/** Share of confident hops at the window edge that triggers the warning ... */
 const TRIGGER_SHARE = 0.25;
+/** ... and of the judged hops off the geometry. */
+const GEOMETRY_TRIGGER_SHARE = 0.3;
 /**
  * A delay within EDGE_SAMPLES of the search limit sits at the edge; so does, for a lone pair, a
  * delay within NEAR_PHYSICAL_SAMPLES of its physical limit D / c (a pair cannot tell a source
@@ -37,21 +53,16 @@ const BEYOND_PHYSICAL_SAMPLES = 0.5;
  * with the right geometry were told that it "probably does not describe the array" in 11 of 156
  * motion-matrix cells (six draws: 1313, 2027, 77, 4242, 555, 6060; 10 of them cells of two frog
  * choruses, test/cli/stream-warnings.test.ts), judging these hops in 6 (five of those and a
- * crossing, each at 25-27 % of the judged hops, just over TRIGGER_SHARE). The same cells of two
+ * crossing, each at 25-27 % of the judged hops, just over the share of 0.25 then used). The same cells of two
  * draws (1313, 2027; 52 cells) scanned with a wrong geometry warned (either check) about as
  * before: two mics swapped 30 cells before and after, positions at half scale 47 -> 48, at twice
  * the scale 9 -> 8. Also judging only hops that report one source left no right-geometry cell
  * with this warning but missed the wrong preset of test/cli/stream-warnings.test.ts (a wrong
- * geometry makes the fusion report several sources); a higher TRIGGER_SHARE would miss wrong
+ * geometry makes the fusion report several sources); a higher share alone would miss wrong
  * geometries too (of their 56 geometry warnings in the same cells, 12 stood at 25-33 % and 10 at
- * 30 % or less).
+ * 30 % or less; with MIN_HOPS, above, it became 0.3).
  */
 const GEOMETRY_MIN_CONFIDENCE = 0.8;
-/** A hop is off the geometry when its RMS closure error exceeds this many samples ... */
-const CLOSURE_SAMPLES = 1.5;
-/** ... and this share of the array's largest delay. */
-const CLOSURE_SHARE = 0.1;
-
 export interface StreamCheckFigures {
   confidentHops: number;
   edgeHops: number;
@@ -101,19 +112,9 @@ export class StreamChecks {
     if (P > 1 && r.confidence >= GEOMETRY_MIN_CONFIDENCE) {
       this.geometryHops++;
       // The delays of one direction (what the search settles on) against each pair's own best
-      // peak: with a right geometry they agree on most confident hops; with wrong positions or
-      // channels the pairs' own peaks lie elsewhere.
-      let sq = 0;
-      let n = 0;
-      for (let p = 0; p < P; p++) {
-        const own = r.pairOwnTdoaS[p]!;
-        if (!Number.isFinite(own)) continue;
-        const e = (r.tdoaS[p]! - own) * this.sampleRate;
-        sq += e * e;
-        n++;
-      }
-      const rms = n > 0 ? Math.sqrt(sq / n) : 0;
-      if (rms > CLOSURE_SAMPLES && rms > CLOSURE_SHARE * this.largestLag) this.offGeometry++;
+      // peak (./closure.ts): with a right geometry they agree on most confident hops; with wrong
+      // positions or channels the pairs' own peaks lie elsewhere.
+      if (closureOff(r.closureSamples, this.largestLag)) this.offGeometry++;
     }
     return this.check(false);
   }
@@ -140,7 +141,7 @@ export class StreamChecks {
   }
 
   private geometryTripped(final: boolean): boolean {
-    return this.geometryHops >= (final ? 10 : MIN_HOPS) && this.offGeometry > TRIGGER_SHARE * this.geometryHops;
+    return this.geometryHops >= (final ? 10 : MIN_HOPS) && this.offGeometry > GEOMETRY_TRIGGER_SHARE * this.geometryHops;
   }
 
   private check(final: boolean): string | null {

@@ -10,6 +10,7 @@ import { render, scanWithWarnings } from '../accuracy/helpers.js';
 import { runCli } from '../helpers/cli.js';
 import { farFieldDelaysUp, soxDelayedSignal } from '../helpers/sox.js';
 import { tempDir } from '../helpers/temp-dir.js';
+import { motionCells } from '../bench/motion-matrix.js';
 
 const tmp = tempDir();
 afterAll(() => tmp.cleanup());
@@ -118,4 +119,25 @@ describe('the right geometry with two callers at once: no geometry warning', () 
     expect(stderr).not.toMatch(OFF_GEOMETRY);
     expect(stderr).not.toMatch(EDGE);
   });
+});
+
+describe('the right geometry, judged on enough hops: no warning', () => {
+  // Two motion-matrix cells (test/bench/motion-matrix.ts, rendered by the simulator, whose delays
+  // are checked against sox and numpy) that the checks, speaking after 30 confident hops, called
+  // wrong: two choruses and a passer on a 20 cm square at 48 kHz (draw 77: the geometry check,
+  // 26 % of its judged hops off the geometry, 46 % of its first 300) and on a 10 cm tetrahedron
+  // at 16 kHz (draw 1313: the window-edge check, 25 %, from the stream's first tenths of a second).
+  const cases: [number, number, string][] = [
+    [77, 48000, 'cho01'],
+    [1313, 16000, 'cho02'],
+  ];
+  for (const [seed, rate, id] of cases) {
+    it(`draw ${seed}, ${id} at ${rate / 1000} kHz`, () => {
+      const cell = motionCells(false, seed, rate).find((c) => c.id === id)!;
+      const { events, stderr } = scanWithWarnings(render(tmp.dir, `${seed}-${id}-${rate}`, cell.scene), '--speed-of-sound', '343');
+      expect(new Set(events.map((e) => e.track)).size).toBeGreaterThanOrEqual(3);
+      expect(stderr).not.toMatch(OFF_GEOMETRY);
+      expect(stderr).not.toMatch(EDGE);
+    });
+  }
 });
