@@ -272,8 +272,6 @@ export interface HopResult {
   pairOwnTdoaS: Float64Array;
   /** Arrays of 3+ mics: the RMS over pairs of the answer's delay less the pair's own peak's (pairOwnTdoaS), samples; NaN when none. */
   closureSamples: number;
-  /** The answer fits no direction of the array and the pairs' own peaks lie nearer zero delay than its: a sound at every mic at once (COMMON_MODE_SHARE); its confidence is 0. */
-  commonMode: boolean;
   /** Sources found, strongest first. */
   sourceCount: number;
   /** centreHz: the centre frequency of the bands that support the source (support-weighted), Hz; NaN for a source of the bins. */
@@ -605,7 +603,6 @@ export class HopAnalyzer {
       tdoaS: new Float64Array(P),
       pairOwnTdoaS: new Float64Array(P),
       closureSamples: NaN,
-      commonMode: false,
       sourceCount: 0,
       sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0, centreHz: NaN, underLouder: false, aliasOf: -1 })),
       bandVoteWeight: new Float64Array(options.bands),
@@ -1113,7 +1110,6 @@ export class HopAnalyzer {
     res.tdoaS.fill(NaN);
     res.pairOwnTdoaS.fill(NaN);
     res.closureSamples = NaN;
-    res.commonMode = false;
     res.bandVoteWeight.fill(0);
     res.bandVoteCandidate.fill(-1);
     res.bandVoteTdoaS.fill(NaN);
@@ -1443,11 +1439,10 @@ export class HopAnalyzer {
 
   /**
    * How far the answer's delays lie from the pairs' own peaks (closureSamples, read by the
-   * geometry check, ./stream-checks.ts), and whether the hop is a sound at every mic at once
-   * (commonMode): its answer off the pairs' own peaks (CLOSURE_SAMPLES and CLOSURE_SHARE of the
-   * largest delay) while those lie nearer zero delay than the answer's (COMMON_MODE_SHARE). On an
-   * array in three dimensions no direction gives every pair zero delay, so the search settles
-   * anywhere; such a hop has confidence 0.
+   * geometry check, ./stream-checks.ts), and whether the hop is a sound at every mic at once: its
+   * answer off the pairs' own peaks (closureOff) while those lie nearer zero delay than the
+   * answer's (COMMON_MODE_SHARE). On an array in three dimensions no direction gives every pair
+   * zero delay, so the search settles anywhere; such a hop has confidence 0.
    */
   private closure(res: HopResult, P: number): void {
     let sq = 0;
@@ -1464,8 +1459,7 @@ export class HopAnalyzer {
       n++;
     }
     res.closureSamples = n > 0 ? Math.sqrt(sq / n) : NaN;
-    res.commonMode = closureOff(res.closureSamples, this.largestLag) && Math.sqrt(own2) < COMMON_MODE_SHARE * Math.sqrt(answer2);
-    if (res.commonMode) res.confidence = 0;
+    if (closureOff(res.closureSamples, this.largestLag) && Math.sqrt(own2) < COMMON_MODE_SHARE * Math.sqrt(answer2)) res.confidence = 0;
   }
 
   /**

@@ -48,21 +48,22 @@ const NEAR_PHYSICAL_SAMPLES = 0.2;
 const BEYOND_PHYSICAL_SAMPLES = 0.5;
 /**
  * The geometry check judges only hops of at least this confidence. Two callers at once leave a
- * pair with the other caller's peak as its strongest, and the coherent low part of wind reads
- * near lag 0 on every pair (confidence about 0.5): with every valid hop judged, recordings made
- * with the right geometry were told that it "probably does not describe the array" in 11 of 156
- * motion-matrix cells (six draws: 1313, 2027, 77, 4242, 555, 6060; 10 of them cells of two frog
- * choruses, test/cli/stream-warnings.test.ts), judging these hops in 6 (five of those and a
- * crossing, each at 25-27 % of the judged hops, just over the share of 0.25 then used). The same cells of two
+ * pair with the other caller's peak as its strongest, and the coherent low part of wind reads near
+ * lag 0 on every pair (confidence about 0.5): with every valid hop judged, recordings made with
+ * the right geometry were told that it "probably does not describe the array" in 11 of 156
+ * motion-matrix cells (six draws: 1313, 2027, 77, 4242, 555, 6060; 10 of them cells of two frog choruses,
+ * test/cli/stream-warnings.test.ts), judging these hops in 6 (five of those and a crossing, each
+ * at 25-27 % of the judged hops, just over the share of 0.25 then used). The same cells of two
  * draws (1313, 2027; 52 cells) scanned with a wrong geometry warned (either check) about as
  * before: two mics swapped 30 cells before and after, positions at half scale 47 -> 48, at twice
- * the scale 9 -> 8. Also judging only hops that report one source left no right-geometry cell
- * with this warning but missed the wrong preset of test/cli/stream-warnings.test.ts (a wrong
- * geometry makes the fusion report several sources); a higher share alone would miss wrong
- * geometries too (of their 56 geometry warnings in the same cells, 12 stood at 25-33 % and 10 at
- * 30 % or less; with MIN_HOPS, above, it became 0.3).
+ * the scale 9 -> 8. Also judging only hops that report one source left no right-geometry cell with
+ * this warning but missed the wrong preset of test/cli/stream-warnings.test.ts (a wrong geometry
+ * makes the fusion report several sources); a higher share alone would miss wrong geometries too
+ * (of their 56 geometry warnings in the same cells, 12 stood at 25-33 % and 10 at 30 % or less;
+ * with MIN_HOPS, above, it became 0.3).
  */
 const GEOMETRY_MIN_CONFIDENCE = 0.8;
+
 export interface StreamCheckFigures {
   confidentHops: number;
   edgeHops: number;
