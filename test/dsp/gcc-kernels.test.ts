@@ -337,8 +337,10 @@ describe('the hop analyzer gives the same outputs, bit for bit, on the WebAssemb
   const preset = (p: string) => loadGeometryFile(fileURLToPath(new URL(`../../configs/arrays/${p}.json`, import.meta.url)));
   // The scene's delays (2 samples per channel) fit no direction of the circles or the square
   // exactly: the 8-mic circle searching 12 of its pairs (the default) and the square (since the
-  // confidence refit of --quiet-memory: 46 of its hops) report fewer of their hops. The guard
-  // only makes sure the comparison covers hops with a direction.
+  // confidence refit of --quiet-memory: 46 of its hops) report fewer of their hops, and on the
+  // tetrahedron the pairs' own peaks (2 to 6 samples) lie nearer zero than any direction's
+  // delays, so its hops read as a sound at every mic at once (confidence 0, src/analysis/closure.ts).
+  // The guard only makes sure the comparison covers hops whose direction was worked out.
   const cases: [string, ArrayGeometry, number, number][] = [
     ['pair', pairGeometry(0.2), 15, 50],
     ['triangle (three pairs: the last one refined alone)', preset('triangle-10cm'), 15, 50],
@@ -365,7 +367,7 @@ describe('the hop analyzer gives the same outputs, bit for bit, on the WebAssemb
       for (let c = 0; c < x.length; c++) frames[c]!.set(x[c]!.subarray(at, at + wasm.frame));
       if (h % 2 === 1) for (let c = 0; c < x.length; c++) own![c]!.set(frames[c]!);
       const a = snapshot(wasm.process(h % 2 === 1 ? own! : frames));
-      if (wasm.result.valid) valid++;
+      if (wasm.result.sourceCount > 0) valid++;
       expect(a).toBe(snapshot(js.process(frames)));
     }
     expect(valid).toBeGreaterThan(minValid);
