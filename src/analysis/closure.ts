@@ -1,10 +1,10 @@
 /**
  * Closure: how far a hop's answer (the delays of one direction) lies from each pair's own
  * correlation peaks. With the right geometry the two agree on most hops; the geometry check
- * (./stream-checks.ts) counts the hops where they do not, and the hop analysis
- * (./hop-analyzer.ts, closure) marks a hop whose pairs' own peaks sit near zero delay while its
- * answer does not: a sound at every mic at once (wind buffeting, a knock on the mount, hum on
- * every channel), which on an array in three dimensions has no direction.
+ * (./stream-checks.ts) counts the hops where they do not (HopResult.offClosure), and the hop
+ * analysis (./hop-analyzer.ts, setWinner) marks a hop whose pairs' own peaks sit near zero delay
+ * while its answer does not: a sound at every mic at once (wind buffeting, a knock on the mount,
+ * hum on every channel), which on an array in three dimensions has no direction.
  */
 
 /** An answer is off the pairs' own peaks when their RMS difference exceeds this many samples ... */
@@ -21,7 +21,7 @@ export const CLOSURE_SHARE = 0.1;
  */
 export const COMMON_MODE_SHARE = 0.5;
 
-/** Is a closure error (samples; NaN when not measured) off the pairs' own peaks, for an array whose largest delay is `largestLag` samples? */
+/** Is a closure error (the RMS over pairs of answer less own peak, samples) off the pairs' own peaks, for an array whose largest delay is `largestLag` samples? */
 export function closureOff(closureSamples: number, largestLag: number): boolean {
   return closureSamples > CLOSURE_SAMPLES && closureSamples > CLOSURE_SHARE * largestLag;
 }

@@ -270,8 +270,8 @@ export interface HopResult {
   tdoaS: Float64Array;
   /** Per pair (arrays of 3+ mics): the delay of the pair's own strong correlation peak nearest the answer's (OWN_PEAK_SHARE), seconds (NaN when none). */
   pairOwnTdoaS: Float64Array;
-  /** Arrays of 3+ mics: the RMS over pairs of the answer's delay less the pair's own peak's (pairOwnTdoaS), samples; NaN when none. */
-  closureSamples: number;
+  /** Arrays of 3+ mics: the answer's delays lie off the pairs' own peaks (pairOwnTdoaS; ./closure.ts), read by the geometry check. */
+  offClosure: boolean;
   /** Sources found, strongest first. */
   sourceCount: number;
   /** centreHz: the centre frequency of the bands that support the source (support-weighted), Hz; NaN for a source of the bins. */
@@ -602,7 +602,7 @@ export class HopAnalyzer {
       valid: false,
       tdoaS: new Float64Array(P),
       pairOwnTdoaS: new Float64Array(P),
-      closureSamples: NaN,
+      offClosure: false,
       sourceCount: 0,
       sources: Array.from({ length: options.maxSources }, () => ({ azimuthDeg: 0, elevationDeg: null, score: 0, centreHz: NaN, underLouder: false, aliasOf: -1 })),
       bandVoteWeight: new Float64Array(options.bands),
@@ -1109,7 +1109,7 @@ export class HopAnalyzer {
     res.supportLastBand = -1;
     res.tdoaS.fill(NaN);
     res.pairOwnTdoaS.fill(NaN);
-    res.closureSamples = NaN;
+    res.offClosure = false;
     res.bandVoteWeight.fill(0);
     res.bandVoteCandidate.fill(-1);
     res.bandVoteTdoaS.fill(NaN);
@@ -1420,46 +1420,36 @@ export class HopAnalyzer {
     res.supportFirstBand = first;
     res.supportLastBand = last;
     for (let p = 0; p < P; p++) res.tdoaS[p] = this.refined[p]! / this.sampleRate;
-    // Each pair's own strong peak nearest the answer, for the geometry check
-    // (src/analysis/stream-checks.ts): the pairs whose curves the search read (the others stay NaN).
+    // Each pair's own strong peak nearest the answer (the pairs whose curves the search read; the
+    // others stay NaN), and the closure over them (./closure.ts): the answer off its pairs' own
+    // peaks (offClosure, for the geometry check, ./stream-checks.ts), and a sound at every mic at
+    // once when those lie nearer zero delay than the answer's (COMMON_MODE_SHARE; on an array in
+    // three dimensions no direction gives every pair zero delay, so the search settles anywhere):
+    // such a hop has confidence 0.
     const curves = this.model.curvePairs;
-    for (let i = 0; P > 1 && i < curves.length; i++) {
-      const p = curves[i]!;
-      const found = this.correlators[p]!.peaks(OWN_PEAKS, this.ownLag, this.ownHeight);
-      let best = NaN;
-      for (let k = 0; k < found; k++) {
-        if (k > 0 && !(this.ownHeight[k]! >= OWN_PEAK_SHARE * this.ownHeight[0]!)) break;
-        if (!(Math.abs(this.ownLag[k]! - this.refined[p]!) >= Math.abs(best - this.refined[p]!))) best = this.ownLag[k]!;
-      }
-      res.pairOwnTdoaS[p] = best / this.sampleRate;
-    }
-    this.closure(res, P);
-    if (this.diagnostics) this.pairDiagnostics(res, P);
-  }
-
-  /**
-   * How far the answer's delays lie from the pairs' own peaks (closureSamples, read by the
-   * geometry check, ./stream-checks.ts), and whether the hop is a sound at every mic at once: its
-   * answer off the pairs' own peaks (closureOff) while those lie nearer zero delay than the
-   * answer's (COMMON_MODE_SHARE). On an array in three dimensions no direction gives every pair
-   * zero delay, so the search settles anywhere; such a hop has confidence 0.
-   */
-  private closure(res: HopResult, P: number): void {
     let sq = 0;
     let own2 = 0;
     let answer2 = 0;
     let n = 0;
-    for (let p = 0; p < P; p++) {
-      const own = res.pairOwnTdoaS[p]! * this.sampleRate;
-      if (!Number.isFinite(own)) continue;
+    for (let i = 0; P > 1 && i < curves.length; i++) {
+      const p = curves[i]!;
+      const found = this.correlators[p]!.peaks(OWN_PEAKS, this.ownLag, this.ownHeight);
       const answer = this.refined[p]!;
-      sq += (answer - own) * (answer - own);
-      own2 += own * own;
+      let best = NaN;
+      for (let k = 0; k < found; k++) {
+        if (k > 0 && !(this.ownHeight[k]! >= OWN_PEAK_SHARE * this.ownHeight[0]!)) break;
+        if (!(Math.abs(this.ownLag[k]! - answer) >= Math.abs(best - answer))) best = this.ownLag[k]!;
+      }
+      res.pairOwnTdoaS[p] = best / this.sampleRate;
+      if (best !== best) continue;
+      sq += (answer - best) * (answer - best);
+      own2 += best * best;
       answer2 += answer * answer;
       n++;
     }
-    res.closureSamples = n > 0 ? Math.sqrt(sq / n) : NaN;
-    if (closureOff(res.closureSamples, this.largestLag) && Math.sqrt(own2) < COMMON_MODE_SHARE * Math.sqrt(answer2)) res.confidence = 0;
+    res.offClosure = n > 0 && closureOff(Math.sqrt(sq / n), this.largestLag);
+    if (res.offClosure && Math.sqrt(own2) < COMMON_MODE_SHARE * Math.sqrt(answer2)) res.confidence = 0;
+    if (this.diagnostics) this.pairDiagnostics(res, P);
   }
 
   /**

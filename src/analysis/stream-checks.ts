@@ -15,7 +15,6 @@
  */
 import type { ArrayGeometry, MicPair } from '../geometry/array-geometry.js';
 import { dot, sub } from '../geometry/vec3.js';
-import { closureOff } from './closure.js';
 import type { HopResult } from './hop-analyzer.js';
 
 /**
@@ -75,7 +74,6 @@ export interface StreamCheckFigures {
 export class StreamChecks {
   /** Physical delay limit per pair, |p_a - p_b| / c, samples. */
   private readonly physical: Float64Array;
-  private readonly largestLag: number;
   private confident = 0;
   private edge = 0;
   private offGeometry = 0;
@@ -95,7 +93,6 @@ export class StreamChecks {
     this.geometryName = geometry.name;
     const baselines = pairs.map(([a, b]) => sub(geometry.mics[a]!.position, geometry.mics[b]!.position));
     this.physical = Float64Array.from(baselines, (b) => (Math.sqrt(dot(b, b)) / speedOfSound) * sampleRate);
-    this.largestLag = Math.max(1, ...Array.from(maxLag));
   }
 
   /** Feed one hop; returns a warning the first time a check trips, else null. */
@@ -115,7 +112,7 @@ export class StreamChecks {
       // The delays of one direction (what the search settles on) against each pair's own best
       // peak (./closure.ts): with a right geometry they agree on most confident hops; with wrong
       // positions or channels the pairs' own peaks lie elsewhere.
-      if (closureOff(r.closureSamples, this.largestLag)) this.offGeometry++;
+      if (r.offClosure) this.offGeometry++;
     }
     return this.check(false);
   }

@@ -47,9 +47,9 @@
  * 5. confirmed tracks coast (prediction only, uncertainty growing to maxUncertaintyDeg) while
  *    unsupported and die after trackTimeoutS without a support that moved them (a settled
  *    track, below: after staticTimeoutS, so a chorus keeps its id through long pauses; when
- *    every slot is taken, the settled track quiet longest beyond trackTimeoutS makes room); a track of
- *    DORMANT_EVENTS events or fewer that moved over less than DORMANT_SPAN_S is dormant after
- *    DORMANT_AFTER_S without moving (it takes no candidate and blocks no birth, but lends its id,
+ *    every slot is taken, the settled track quiet longest beyond trackTimeoutS makes room, after
+ *    any dormant one); a track of DORMANT_EVENTS events or fewer that moved over less than
+ *    DORMANT_SPAN_S is dormant after DORMANT_AFTER_S without moving (it takes no candidate and blocks no birth, but lends its id,
  *    above, and gives up its slot when every slot is taken);
  *    a *settled* confirmed track (followed for at least SETTLED_SPAN_S with a lifetime spread of
  *    at most bearingNoiseDeg: a static chorus) also keeps a home, its lifetime mean, and gates
@@ -483,6 +483,8 @@ interface MutableUpdate {
 
 export class Tracker {
   readonly options: Readonly<TrackerOptions>;
+  /** How long a settled track lives without a support that moved it: --static-timeout, at least --track-timeout. */
+  private readonly settledTimeoutS: number;
   private readonly size: number;
   private readonly nCand: number;
   private readonly sc: HopScratch;
@@ -582,6 +584,7 @@ export class Tracker {
   constructor(options: TrackerSettings = {}) {
     const o = resolveTrackerOptions(options);
     this.options = Object.freeze(o);
+    this.settledTimeoutS = Math.max(o.trackTimeoutS, o.staticTimeoutS);
     const n = o.maxTracks;
     const c = o.maxCandidates;
     this.size = n;
@@ -1208,8 +1211,7 @@ export class Tracker {
 
   /** How long confirmed slot s may go without a support that moved it (a settled track: --static-timeout). */
   private timeoutOf(s: number): number {
-    const o = this.options;
-    return this.settled[s] === 1 ? Math.max(o.trackTimeoutS, o.staticTimeoutS) : o.trackTimeoutS;
+    return this.settled[s] === 1 ? this.settledTimeoutS : this.options.trackTimeoutS;
   }
 
   /** Is confirmed, unsettled slot s dormant (DORMANT_SPAN_S)? */
@@ -1448,7 +1450,7 @@ export class Tracker {
     this.restElVar[s] = this.hasEl[s] === 1 ? this.el.variance(s) : NaN;
   }
 
-  /** Starts tentative tracks; returns the events a dormant track whose slot was taken still had open (longestDormant). */
+  /** Starts tentative tracks; returns the events a dormant or quiet settled track whose slot was taken still had open (longestUnmoved). */
   private births(nC: number): EventRecord[] | null {
     let events: EventRecord[] | null = null;
     const o = this.options;
@@ -1462,8 +1464,8 @@ export class Tracker {
       while (s < this.size && this.state[s] !== FREE) s++;
       if (s === this.size) {
         // Every slot is taken: a dormant track (the longest unmoved) makes room.
-        s = this.longestDormant();
-        if (s < 0) s = this.longestQuietSettled();
+        s = this.longestUnmoved(false);
+        if (s < 0) s = this.longestUnmoved(true);
         if (s < 0) return events;
         events = this.retire(s, events);
       }
@@ -1546,24 +1548,21 @@ export class Tracker {
     return events;
   }
 
-  /** The settled slot quiet for longer than --track-timeout that has gone longest without moving; -1 for none. */
-  private longestQuietSettled(): number {
-    let best = -1;
-    for (let d = 0; d < this.size; d++) {
-      if (this.settled[d] === 1 && this.quietBeyondTimeout(d) && (best < 0 || this.lastMovedT[d]! < this.lastMovedT[best]!)) best = d;
-    }
-    return best;
-  }
-
   /** Has slot s gone longer than --track-timeout without a support that moved it (a settled track, which --static-timeout keeps)? */
   private quietBeyondTimeout(s: number): boolean {
     return this.sc.hop[TIME]! - this.lastMovedT[s]! > this.options.trackTimeoutS;
   }
 
-  /** The dormant slot that has gone longest without moving; -1 for none. */
-  private longestDormant(): number {
+  /**
+   * The slot that has gone longest without moving among the dormant ones, or (`settled`) among the
+   * settled ones quiet beyond --track-timeout; -1 for none.
+   */
+  private longestUnmoved(settled: boolean): number {
     let best = -1;
-    for (let d = 0; d < this.size; d++) if (this.dormant[d] === 1 && (best < 0 || this.lastMovedT[d]! < this.lastMovedT[best]!)) best = d;
+    for (let d = 0; d < this.size; d++) {
+      const mayGo = settled ? this.settled[d] === 1 && this.quietBeyondTimeout(d) : this.dormant[d] === 1;
+      if (mayGo && (best < 0 || this.lastMovedT[d]! < this.lastMovedT[best]!)) best = d;
+    }
     return best;
   }
 

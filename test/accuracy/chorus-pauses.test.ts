@@ -5,9 +5,7 @@
  * completeness as used in multi-target tracking evaluation (common practice).
  */
 import { describe, expect, it } from 'vitest';
-import { scoreTracks } from '../../src/accuracy/track-scores.js';
-import { indexTruth, TRUTH_STEP_S } from '../../src/accuracy/truth.js';
-import { render, scanWithWarnings, truthOf } from './helpers.js';
+import { fieldScene, render, scanScored } from './helpers.js';
 import { tempDir } from '../helpers/temp-dir.js';
 
 const dir = tempDir('accuracy').dir;
@@ -16,22 +14,24 @@ describe('two choruses in bouts with 15-18 s pauses, 44.1 kHz, a 10 cm triangle 
   // A pulsed low chorus to the south-west and a tonal one to the north-east, five and six calls a
   // bout, 18 and 15 s between bouts, 70 s. With only --track-timeout (10 s) every bout came back
   // with a new id: 33 % and 25 % of the calls on each chorus' main track.
-  const wav = render(dir, 'chorus-pauses', {
-    sample_rate_hz: 44100,
-    duration_s: 70,
-    seed: 83,
-    speed_of_sound_m_s: 343,
-    array: { geometry: 'triangle-10cm', position_m: [0, 0, 1], heading_deg: 0 },
-    sources: [
-      { name: 'west', position_m: [-7, -4, 0.2], signal: { type: 'tone', f0_hz: 450, harmonics: [1, 0.7, 0.4, 0.2], pulse_rate_hz: 12, pulse_duty: 0.6 }, level: { dbfs_at_array: -31 },
-        calls: { start_s: 1, length_s: 0.4, every_s: 1.1, jitter_s: 0.2, per_bout: 5, bout_gap_s: 18 } },
-      { name: 'east', position_m: [5, 9, 0.2], signal: { type: 'tone', f0_hz: 1300, harmonics: [1, 0.3] }, level: { dbfs_at_array: -33 },
-        calls: { start_s: 8, length_s: 0.2, every_s: 0.7, jitter_s: 0.1, per_bout: 6, bout_gap_s: 15 } },
-    ],
-    noise: { floor_dbfs: -60, wind_dbfs: -50 },
-  });
-  const { events } = scanWithWarnings(wav, '--speed-of-sound', '343');
-  const scores = scoreTracks(events, indexTruth(truthOf(wav)), TRUTH_STEP_S);
+  const wav = render(
+    dir,
+    'chorus-pauses',
+    fieldScene({
+      rateHz: 44100,
+      durationS: 70,
+      seed: 83,
+      geometry: 'triangle-10cm',
+      sources: [
+        { name: 'west', position_m: [-7, -4, 0.2], signal: { type: 'tone', f0_hz: 450, harmonics: [1, 0.7, 0.4, 0.2], pulse_rate_hz: 12, pulse_duty: 0.6 }, level: { dbfs_at_array: -31 },
+          calls: { start_s: 1, length_s: 0.4, every_s: 1.1, jitter_s: 0.2, per_bout: 5, bout_gap_s: 18 } },
+        { name: 'east', position_m: [5, 9, 0.2], signal: { type: 'tone', f0_hz: 1300, harmonics: [1, 0.3] }, level: { dbfs_at_array: -33 },
+          calls: { start_s: 8, length_s: 0.2, every_s: 0.7, jitter_s: 0.1, per_bout: 6, bout_gap_s: 15 } },
+      ],
+      noise: { floor_dbfs: -60, wind_dbfs: -50 },
+    }),
+  );
+  const { scores } = scanScored(wav);
 
   it('each chorus keeps one id through every pause: at least 90 % of its calls on its main track, no switch', () => {
     for (const s of scores.sources) {

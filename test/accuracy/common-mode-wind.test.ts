@@ -9,9 +9,7 @@
  * practice).
  */
 import { describe, expect, it } from 'vitest';
-import { scoreTracks } from '../../src/accuracy/track-scores.js';
-import { indexTruth, TRUTH_STEP_S } from '../../src/accuracy/truth.js';
-import { render, scanWithWarnings, truthOf } from './helpers.js';
+import { fieldScene, render, scanScored } from './helpers.js';
 import { tempDir } from '../helpers/temp-dir.js';
 
 const dir = tempDir('accuracy').dir;
@@ -25,20 +23,21 @@ describe('two choruses on a 10 cm tetrahedron in gusty wind', () => {
   // tracks: 31 events, 5 of them 10 deg or more off both choruses, the western chorus 53 %
   // complete on its track, and the scan said the geometry "probably does not describe the array"
   // (33 % of its confident hops). Now: 2 tracks, 25 events, both choruses 100 %, no warning.
-  const wav = render(dir, 'common-mode-wind', {
-    sample_rate_hz: 48000,
-    duration_s: 50,
-    seed: 25,
-    speed_of_sound_m_s: 343,
-    array: { geometry: 'tetrahedron-10cm', position_m: [0, 0, 1], heading_deg: 0 },
-    sources: [
-      { name: 'west', position_m: [-9.31, 4.31, 0.2], signal: tone(736), level: { dbfs_at_array: -33.3 }, calls: { start_s: 5.65, length_s: 0.36, every_s: 1.05, jitter_s: 0.1, per_bout: 8, bout_gap_s: 28.8 } },
-      { name: 'south', position_m: [4.95, -13.81, 0.2], signal: tone(1004), level: { dbfs_at_array: -28.7 }, calls: { start_s: 6.75, length_s: 0.32, every_s: 0.79, jitter_s: 0.1, per_bout: 8, bout_gap_s: 35.3 } },
-    ],
-    noise: { floor_dbfs: -60, wind_dbfs: -53 },
-  });
-  const { events, stderr } = scanWithWarnings(wav, '--speed-of-sound', '343');
-  const scores = scoreTracks(events, indexTruth(truthOf(wav)), TRUTH_STEP_S);
+  const wav = render(
+    dir,
+    'common-mode-wind',
+    fieldScene({
+      durationS: 50,
+      seed: 25,
+      geometry: 'tetrahedron-10cm',
+      sources: [
+        { name: 'west', position_m: [-9.31, 4.31, 0.2], signal: tone(736), level: { dbfs_at_array: -33.3 }, calls: { start_s: 5.65, length_s: 0.36, every_s: 1.05, jitter_s: 0.1, per_bout: 8, bout_gap_s: 28.8 } },
+        { name: 'south', position_m: [4.95, -13.81, 0.2], signal: tone(1004), level: { dbfs_at_array: -28.7 }, calls: { start_s: 6.75, length_s: 0.32, every_s: 0.79, jitter_s: 0.1, per_bout: 8, bout_gap_s: 35.3 } },
+      ],
+      noise: { floor_dbfs: -60, wind_dbfs: -53 },
+    }),
+  );
+  const { events, stderr, scores } = scanScored(wav);
 
   it('every event is a chorus call: no tracks of the wind', () => {
     // azimuth = atan2(x, y) from the array's front (+y), interface.md

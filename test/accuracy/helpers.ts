@@ -3,8 +3,9 @@ import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { expect } from 'vitest';
 import type { AccuracyReport } from '../../src/accuracy/score.js';
+import { scoreTracks } from '../../src/accuracy/track-scores.js';
 import { accuracyReportFromJson, type AccuracyReportJson } from '../../src/accuracy/report-json.js';
-import type { TruthRecord } from '../../src/accuracy/truth.js';
+import { indexTruth, TRUTH_STEP_S, type TruthRecord } from '../../src/accuracy/truth.js';
 import type { EventRecord, FrameRecord } from '../../src/records/record-types.js';
 import { runCli } from '../helpers/cli.js';
 
@@ -49,6 +50,28 @@ export function scanWithWarnings(wav: string, ...args: string[]): { events: Even
   const r = runCli(argv);
   if (r.status !== 0) throw new Error(`bearline ${argv.join(' ')} failed (${r.status}): ${r.stderr}`);
   return { events: lines<EventRecord>(r.stdout), stderr: r.stderr };
+}
+
+/**
+ * A simulator scene (its scene file) of `sources` before an array 1 m up, heading 0, the speed
+ * of sound 343 m/s, with `noise` (floor, wind).
+ */
+export function fieldScene(o: { rateHz?: number; durationS: number; seed: number; geometry: string; sources: unknown[]; noise: Record<string, number> }): unknown {
+  return {
+    sample_rate_hz: o.rateHz ?? 48000,
+    duration_s: o.durationS,
+    seed: o.seed,
+    speed_of_sound_m_s: 343,
+    array: { geometry: o.geometry, position_m: [0, 0, 1], heading_deg: 0 },
+    sources: o.sources,
+    noise: o.noise,
+  };
+}
+
+/** The events of a scan of `wav` at 343 m/s, scored against its truth (track purity, completeness, id switches), with what the scan said on stderr. */
+export function scanScored(wav: string) {
+  const scan = scanWithWarnings(wav, '--speed-of-sound', '343');
+  return { ...scan, scores: scoreTracks(scan.events, indexTruth(truthOf(wav)), TRUTH_STEP_S) };
 }
 
 export function truthOf(wav: string): TruthRecord[] {

@@ -8,31 +8,14 @@
  * multi-target tracking evaluation, common practice).
  */
 import { describe, expect, it } from 'vitest';
-import { scoreTracks } from '../../src/accuracy/track-scores.js';
-import { indexTruth, TRUTH_STEP_S } from '../../src/accuracy/truth.js';
-import { render, scanWithWarnings, truthOf } from './helpers.js';
+import { fieldScene, render, scanScored } from './helpers.js';
 import { tempDir } from '../helpers/temp-dir.js';
 
 const dir = tempDir('accuracy').dir;
 
-/** A 48 kHz scene of one caller before an array 1 m up, in wind (the simulator's scene file). */
-function oneCaller(geometry: string, seed: number, durationS: number, source: Record<string, unknown>, windDbfs: number) {
-  return {
-    sample_rate_hz: 48000,
-    duration_s: durationS,
-    seed,
-    speed_of_sound_m_s: 343,
-    array: { geometry, position_m: [0, 0, 1], heading_deg: 0 },
-    sources: [source],
-    noise: { floor_dbfs: -62, wind_dbfs: windDbfs },
-  };
-}
-
-/** The events of a scan of `wav`, scored against its truth, with what the scan said on stderr. */
-function scanScored(wav: string) {
-  const scan = scanWithWarnings(wav, '--speed-of-sound', '343');
-  return { ...scan, scores: scoreTracks(scan.events, indexTruth(truthOf(wav)), TRUTH_STEP_S) };
-}
+/** A 48 kHz scene of one caller in wind. */
+const oneCaller = (geometry: string, seed: number, durationS: number, source: Record<string, unknown>, windDbfs: number) =>
+  fieldScene({ durationS, seed, geometry, sources: [source], noise: { floor_dbfs: -62, wind_dbfs: windDbfs } });
 
 describe('a chorus in gusty wind on a flat array', () => {
   // A chorus 61 deg west of the array's front, 18 dB over wind at -48 dBFS, calling in bouts of
