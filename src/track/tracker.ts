@@ -60,7 +60,7 @@
  *    PASSING_MOVER_S for a track moving at PASSING_RATE_DEG_S or faster (a caller passing
  *    through); so a chorus calling again after a pause is re-acquired, and a track whose
  *    caller went quiet on, or stopped at, a chorus' bearing does not carry the chorus off.
- *    A settled track (also: rate at most SETTLED_MAX_RATE_DEG_S) is held static: each hop it is
+ *    A settled track (also: rate and lifetime drift at most SETTLED_MAX_RATE_DEG_S) is held static: each hop it is
  *    predicted at its home with no rate, its angle uncertainty within its home's and its rate's
  *    within --rate-wander, so a passer's call a few gates away is nearer to the passer's own track
  *    than to a chorus that has been quiet for seconds, and a chorus track that takes a passer's
@@ -159,8 +159,14 @@ const DEG = Math.PI / 180;
 /** A confirmed track followed this long (first to last support) with a small lifetime spread is settled. */
 const SETTLED_SPAN_S = 3;
 /**
- * ... and whose rate is at most this (deg/s): a slow mover whose bearings still fall within the
- * spread (2.5 deg/s over 3 s) keeps following its caller.
+ * ... and whose rate, and lifetime drift (the fitted slope of its bearing over time,
+ * direction-sums.ts), are at most this (deg/s): a slow mover whose bearings still fall within the
+ * spread (2.5 deg/s over 3 s) keeps following its caller. The drift too: the filter's rate alone
+ * can dip under it while a slow mover's readings are drawn towards a crossing partner, and a
+ * caller walking at 1.5 deg/s on a 20 cm square was then held at a home it left behind; its
+ * calls 13 deg on were beyond the home's reach yet inside its gate, so they neither joined it nor
+ * started a track (motion matrix draw 8080, crs03: 5 of 12 calls on its track; with the drift
+ * test 9 of 12; draw 555 crs01 likewise 31 -> 54 %).
  */
 const SETTLED_MAX_RATE_DEG_S = 1;
 /**
@@ -1227,9 +1233,9 @@ export class Tracker {
       this.still[s] = 0;
       return;
     }
-    // Becoming settled needs a still rate; once settled, a passer's call taken near the home
+    // Becoming settled needs a still rate and drift; once settled, a passer's call taken near the home
     // (which gives the filter a rate) does not unsettle it: only a spread beyond the noise does.
-    if (this.still[s] === 0 && !(Math.abs(this.az.rate[s]!) <= SETTLED_MAX_RATE_DEG_S)) return;
+    if (this.still[s] === 0 && !(Math.abs(this.az.rate[s]!) <= SETTLED_MAX_RATE_DEG_S && Math.abs(this.lifetime.driftDegS(s)) <= SETTLED_MAX_RATE_DEG_S)) return;
     this.still[s] = 1;
     this.settled[s] = 1;
     this.homeAz[s] = this.lifetime.meanWorkingDeg(s);
