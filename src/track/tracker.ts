@@ -104,6 +104,15 @@ const WATCH_WITHIN_S = 2;
  */
 const WATCH_CLEAR_DEG = 10;
 /**
+ * ... counting only a track supported within this many seconds (sounding now): one coasting there
+ * takes nothing from the watched track's caller. A ghost track born of two callers' blended
+ * readings coasted onto a crossing caller's track and kept it from being watched while the other
+ * caller called over it (motion matrix draw 22, crs04: b 60 -> 70 % of its calls on its track).
+ * Motion matrix, 23 draws (crossing, chorus and pass cells): 7 cells gained calls (completeness
+ * summed +0.5 of a caller), 2 lost (-0.18), none moved over or under a target; id switches 54 -> 52.
+ */
+const WATCH_SOUNDING_S = 0.03;
+/**
  * Two callers heard in one hop within this many degrees of each other each read drawn towards
  * the other: the louder or broader one wins the bands they share, and the bins of two low calls
  * on a small array hold both. Such a reading moves its track with CROWD_NOISE times the
@@ -738,8 +747,9 @@ export class Tracker {
    * Where the analysis should look for callers it may not hear by itself in the next hop
    * (src/analysis/watched-directions.ts): the predictions (azimuth, elevation or NaN) of the
    * confirmed tracks, not dormant, supported within WATCH_WITHIN_S and WATCH_CLEAR_DEG from
-   * every other, that no firm candidate supported this hop (an alias does not count: a caller
-   * read at a lobe is looked for again on the next hop); with the half-width of each one's gate
+   * every other sounding one (WATCH_SOUNDING_S), that no firm candidate supported this hop (an
+   * alias does not count: a caller read at a lobe is looked for again on the next hop); with the
+   * half-width of each one's gate
    * (degrees). Written to az / el / half (at most their length); returns the count. Arrays
    * whose mirror folds azimuth give none.
    */
@@ -751,7 +761,7 @@ export class Tracker {
     for (let s = 0; s < this.size && n < az.length; s++) {
       if (this.state[s] !== CONFIRMED || this.dormant[s] === 1 || !(t - this.lastSupportT[s]! <= WATCH_WITHIN_S)) continue;
       const j = this.chosen[s]!;
-      if ((j >= 0 && this.candFirm[j] === 1 && this.candAlias[j]! < 0) || this.nearOther(s, WATCH_CLEAR_DEG)) continue;
+      if ((j >= 0 && this.candFirm[j] === 1 && this.candAlias[j]! < 0) || this.nearSounding(s, WATCH_CLEAR_DEG, t)) continue;
       az[n] = wrapDeg(this.az.angle[s]! + this.az.rate[s]! * ahead);
       el[n] = this.hasEl[s] === 1 ? this.el.angle[s]! : NaN;
       half[n] = Math.sqrt(this.gate2 * (this.az.variance(s) + this.options.bearingNoiseDeg * this.options.bearingNoiseDeg));
@@ -850,10 +860,11 @@ export class Tracker {
     return winnerSlot >= 0 && winnerSlot !== s && j >= 0 && this.candFirm[j] === 0;
   }
 
-  /** Another confirmed track lies within deg of slot s's azimuth. */
-  private nearOther(s: number, deg: number): boolean {
+  /** Another confirmed track, supported this hop or within WATCH_SOUNDING_S before time t, lies within deg of slot s's azimuth. */
+  private nearSounding(s: number, deg: number, t: number): boolean {
     for (let o = 0; o < this.size; o++) {
       if (o === s || this.state[o] !== CONFIRMED) continue;
+      if (this.chosen[o]! < 0 && !(t - this.lastSupportT[o]! <= WATCH_SOUNDING_S)) continue;
       if (Math.abs(wrapDeg(this.az.angle[o]! - this.az.angle[s]!)) <= deg) return true;
     }
     return false;
