@@ -1296,7 +1296,7 @@ describe('watch list (where the analysis should look for a followed caller: src/
     expect(list(tracker)).toHaveLength(0);
   });
 
-  it('lists it while another caller wins the hops, but not within 10 deg of another track, nor 2 s after its last support', () => {
+  it('lists it while another caller wins the hops, but not within 10 deg of another track, nor 4 s after its last support', () => {
     const tracker = new Tracker({});
     feed(tracker, 0, 3, (t) => [...call(-40)(t), ...call(30)(t + 0.3)]);
     feed(tracker, 3, 0.1, () => [{ azimuthDeg: 30, elevationDeg: null, score: 1 }]);
@@ -1315,6 +1315,8 @@ describe('watch list (where the analysis should look for a followed caller: src/
     expect(apart.summary()).toHaveLength(2);
     expect(list(apart).map((w) => Math.round(w.az))).toEqual([-40]);
     feed(tracker, 3.1, 2.5, () => [{ azimuthDeg: 30, elevationDeg: null, score: 1 }]);
+    expect(list(tracker).map((w) => Math.round(w.az))).toEqual([-40]);
+    feed(tracker, 5.6, 1, () => [{ azimuthDeg: 30, elevationDeg: null, score: 1 }]);
     expect(list(tracker)).toHaveLength(0);
   });
 
