@@ -60,9 +60,10 @@
  *    PASSING_MOVER_S for a track moving at PASSING_RATE_DEG_S or faster (a caller passing
  *    through); so a chorus calling again after a pause is re-acquired, and a track whose
  *    caller went quiet on, or stopped at, a chorus' bearing does not carry the chorus off.
- *    A settled track (also: rate and lifetime drift at most SETTLED_MAX_RATE_DEG_S) is held static: each hop it is
- *    predicted at its home with no rate, its angle uncertainty within its home's and its rate's
- *    within --rate-wander, so a passer's call a few gates away is nearer to the passer's own track
+ *    A settled track (also: rate and lifetime drift at most SETTLED_MAX_RATE_DEG_S) is held
+ *    static: each hop it is predicted at its home with no rate, its angle uncertainty within its
+ *    home's and its rate's within --rate-wander, so a passer's call a few gates away is nearer to
+ *    the passer's own track
  *    than to a chorus that has been quiet for seconds, and a chorus track that takes a passer's
  *    call near its bearing does not follow the passer away;
  * 6. the event cutter (event-cutter.ts) sees every live track every hop, and whether the
@@ -757,9 +758,8 @@ export class Tracker {
    * confirmed tracks, not dormant, supported within WATCH_WITHIN_S and WATCH_CLEAR_DEG from
    * every other sounding one (WATCH_SOUNDING_S), that no firm candidate supported this hop (an
    * alias does not count: a caller read at a lobe is looked for again on the next hop); with the
-   * half-width of each one's gate
-   * (degrees). Written to az / el / half (at most their length); returns the count. Arrays
-   * whose mirror folds azimuth give none.
+   * half-width of each one's gate (degrees). Written to az / el / half (at most their length);
+   * returns the count. Arrays whose mirror folds azimuth give none.
    */
   watchList(az: Float64Array, el: Float64Array, half: Float64Array): number {
     if (this.sideDeg !== null || this.ended) return 0;
@@ -1252,9 +1252,10 @@ export class Tracker {
       this.still[s] = 0;
       return;
     }
-    // Becoming settled needs a still rate and drift; once settled, a passer's call taken near the home
-    // (which gives the filter a rate) does not unsettle it: only a spread beyond the noise does.
-    if (this.still[s] === 0 && !(Math.abs(this.az.rate[s]!) <= SETTLED_MAX_RATE_DEG_S && Math.abs(this.lifetime.driftDegS(s)) <= SETTLED_MAX_RATE_DEG_S)) return;
+    // Becoming settled needs a still rate and drift; once settled, a passer's call taken near the
+    // home (which gives the filter a rate) does not unsettle it: only a spread beyond the noise does.
+    const still = Math.abs(this.az.rate[s]!) <= SETTLED_MAX_RATE_DEG_S && Math.abs(this.lifetime.driftDegS(s)) <= SETTLED_MAX_RATE_DEG_S;
+    if (this.still[s] === 0 && !still) return;
     this.still[s] = 1;
     this.settled[s] = 1;
     this.homeAz[s] = this.lifetime.meanWorkingDeg(s);
