@@ -63,9 +63,8 @@
  *    A settled track (also: rate and lifetime drift at most SETTLED_MAX_RATE_DEG_S) is held
  *    static: each hop it is predicted at its home with no rate, its angle uncertainty within its
  *    home's and its rate's within --rate-wander, so a passer's call a few gates away is nearer to
- *    the passer's own track
- *    than to a chorus that has been quiet for seconds, and a chorus track that takes a passer's
- *    call near its bearing does not follow the passer away;
+ *    the passer's own track than to a chorus that has been quiet for seconds, and a chorus track
+ *    that takes a passer's call near its bearing does not follow the passer away;
  * 6. the event cutter (event-cutter.ts) sees every live track every hop, and whether the
  *    track's candidate was heard only under a louder caller whose track took the hop's answer
  *    (onsetElsewhere: the hop's onset is that caller's and splits no event of this one);
