@@ -94,10 +94,11 @@ const CONFIRMED = 2;
  * A confirmed track supported within this many seconds is watched for (watchList) ... Two callers
  * crossing at once: the quieter one's calls fall under the louder one's for seconds on end, and
  * with 2 s its track stopped being watched with its caller 15-20 deg from the other and its
- * prediction within 2 deg (motion matrix draw 22, crs04: b 70 -> 75 %). Crossing and chorus cells
- * of 23 draws at 48 kHz, 4 s against 2 (before the settling drift test, SETTLED_MAX_RATE_DEG_S):
- * three crossing cells gained calls (1001 crs02 b 50 -> 70 %, 555 crs01 a 31 -> 46 %), no cell
- * lost any; id switches and tracks holding two as before.
+ * prediction within 2 deg (motion matrix draw 22, crs04: b 60 -> 65 %; draw 1001, crs02: b 50 ->
+ * 70 %). 3, 4 and 6 s alike on those cells. Crossing and chorus cells of 23 draws at 48 kHz, 4 s
+ * against 2: three crossing cells gained calls, none lost any; id switches and tracks holding
+ * two as before (measured beside a rule since withdrawn; the final code's figures are in the
+ * README).
  */
 const WATCH_WITHIN_S = 4;
 /**
@@ -111,15 +112,6 @@ const WATCH_WITHIN_S = 4;
  * high sweep of draw 555); ten further draws and the accuracy matrix unchanged.
  */
 const WATCH_CLEAR_DEG = 10;
-/**
- * ... counting only a track supported within this many seconds (sounding now): one coasting there
- * takes nothing from the watched track's caller. A ghost track born of two callers' blended
- * readings coasted onto a crossing caller's track and kept it from being watched while the other
- * caller called over it (motion matrix draw 22, crs04: b 60 -> 70 % of its calls on its track).
- * Motion matrix, 23 draws (crossing, chorus and pass cells): 7 cells gained calls (completeness
- * summed +0.5 of a caller), 2 lost (-0.18), none moved over or under a target; id switches 54 -> 52.
- */
-const WATCH_SOUNDING_S = 0.03;
 /**
  * Two callers heard in one hop within this many degrees of each other each read drawn towards
  * the other: the louder or broader one wins the bands they share, and the bins of two low calls
@@ -755,10 +747,10 @@ export class Tracker {
    * Where the analysis should look for callers it may not hear by itself in the next hop
    * (src/analysis/watched-directions.ts): the predictions (azimuth, elevation or NaN) of the
    * confirmed tracks, not dormant, supported within WATCH_WITHIN_S and WATCH_CLEAR_DEG from
-   * every other sounding one (WATCH_SOUNDING_S), that no firm candidate supported this hop (an
-   * alias does not count: a caller read at a lobe is looked for again on the next hop); with the
-   * half-width of each one's gate (degrees). Written to az / el / half (at most their length);
-   * returns the count. Arrays whose mirror folds azimuth give none.
+   * every other, that no firm candidate supported this hop (an alias does not count: a caller
+   * read at a lobe is looked for again on the next hop); with the half-width of each one's gate
+   * (degrees). Written to az / el / half (at most their length); returns the count. Arrays
+   * whose mirror folds azimuth give none.
    */
   watchList(az: Float64Array, el: Float64Array, half: Float64Array): number {
     if (this.sideDeg !== null || this.ended) return 0;
@@ -768,7 +760,7 @@ export class Tracker {
     for (let s = 0; s < this.size && n < az.length; s++) {
       if (this.state[s] !== CONFIRMED || this.dormant[s] === 1 || !(t - this.lastSupportT[s]! <= WATCH_WITHIN_S)) continue;
       const j = this.chosen[s]!;
-      if ((j >= 0 && this.candFirm[j] === 1 && this.candAlias[j]! < 0) || this.nearSounding(s, WATCH_CLEAR_DEG, t)) continue;
+      if ((j >= 0 && this.candFirm[j] === 1 && this.candAlias[j]! < 0) || this.nearOther(s, WATCH_CLEAR_DEG)) continue;
       az[n] = wrapDeg(this.az.angle[s]! + this.az.rate[s]! * ahead);
       el[n] = this.hasEl[s] === 1 ? this.el.angle[s]! : NaN;
       half[n] = Math.sqrt(this.gate2 * (this.az.variance(s) + this.options.bearingNoiseDeg * this.options.bearingNoiseDeg));
@@ -867,11 +859,10 @@ export class Tracker {
     return winnerSlot >= 0 && winnerSlot !== s && j >= 0 && this.candFirm[j] === 0;
   }
 
-  /** Another confirmed track, supported this hop or within WATCH_SOUNDING_S before time t, lies within deg of slot s's azimuth. */
-  private nearSounding(s: number, deg: number, t: number): boolean {
+  /** Another confirmed track lies within deg of slot s's azimuth. */
+  private nearOther(s: number, deg: number): boolean {
     for (let o = 0; o < this.size; o++) {
       if (o === s || this.state[o] !== CONFIRMED) continue;
-      if (this.chosen[o]! < 0 && !(t - this.lastSupportT[o]! <= WATCH_SOUNDING_S)) continue;
       if (Math.abs(wrapDeg(this.az.angle[o]! - this.az.angle[s]!)) <= deg) return true;
     }
     return false;

@@ -1320,18 +1320,6 @@ describe('watch list (where the analysis should look for a followed caller: src/
     expect(list(tracker)).toHaveLength(0);
   });
 
-  it('a track coasting within 10 deg (not sounding) does not keep one from being watched', () => {
-    // The other caller walks from 30 to -32 deg (8 deg from the first), calling throughout, then stops.
-    const near = new Tracker({});
-    feed(near, 0, 3, (t) => [...call(-40)(t), ...call(30)(t + 0.3)]);
-    feed(near, 3, 2, (t) => [...call(-40)(t), { azimuthDeg: 30 - 31 * (t - 3), elevationDeg: null, score: 1 }]);
-    expect(near.summary()).toHaveLength(2);
-    expect(list(near)).toHaveLength(0);
-    // 50 ms after its last reading it coasts: the first caller's track is watched again (and so is its own).
-    feed(near, 5, 0.05, () => []);
-    expect(list(near).map((w) => Math.round(w.az))).toContain(-40);
-  });
-
   it('gives none on an array whose mirror folds azimuth (a pair)', () => {
     const tracker = new Tracker({ mirror: PAIR_X_MIRROR });
     feed(tracker, 0, 3.3, call(-40));
