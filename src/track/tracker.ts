@@ -1245,8 +1245,8 @@ export class Tracker {
     }
     // Becoming settled needs a still rate and drift; once settled, a passer's call taken near the
     // home (which gives the filter a rate) does not unsettle it: only a spread beyond the noise does.
-    const still = Math.abs(this.az.rate[s]!) <= SETTLED_MAX_RATE_DEG_S && Math.abs(this.lifetime.driftDegS(s)) <= SETTLED_MAX_RATE_DEG_S;
-    if (this.still[s] === 0 && !still) return;
+    const steady = Math.abs(this.az.rate[s]!) <= SETTLED_MAX_RATE_DEG_S && Math.abs(this.lifetime.driftDegS(s)) <= SETTLED_MAX_RATE_DEG_S;
+    if (this.still[s] === 0 && !steady) return;
     this.still[s] = 1;
     this.settled[s] = 1;
     this.homeAz[s] = this.lifetime.meanWorkingDeg(s);
